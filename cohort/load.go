@@ -1,0 +1,322 @@
+package cohort
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"sort"
+	"strings"
+)
+
+// Kind says how a column's values are read.
+type Kind int
+
+const (
+	// Numeric columns hold decimal numbers; a missing value is NaN.
+	Numeric Kind = iota
+	// Categorical columns hold strings, stored as codes into Levels; a
+	// missing value has code -1.
+	Categorical
+)
+
+// Request names a column to read and how to read it.
+type Request struct {
+	Name string
+	Kind Kind
+}
+
+// DefaultMissing are the field values read as missing when
+// Options.Missing is nil: the empty field, NA, a lone dot and NaN.
+var DefaultMissing = []string{"", "NA", ".", "NaN"}
+
+// Options control how a file is read. The zero value detects the
+// delimiter, reads '.' as the decimal mark and uses DefaultMissing.
+type Options struct {
+	// Delimiter separates fields. Zero detects it from the header line:
+	// whichever of tab, semicolon and comma occurs most often outside
+	// quotes (a header with none of them is one column).
+	Delimiter byte
+	// DecimalComma reads "27,5" as 27.5 in numeric columns.
+	DecimalComma bool
+	// Missing lists the field values that mean a missing value; nil means
+	// DefaultMissing. Fields are compared after surrounding spaces are
+	// trimmed.
+	Missing []string
+	// KeepRecords keeps the raw text of every data row (see Frame.Record).
+	KeepRecords bool
+	// Workers bounds the goroutines used to parse; zero means GOMAXPROCS.
+	Workers int
+}
+
+// Column is one column read from a file.
+type Column struct {
+	Name string
+	Kind Kind
+	// Index is the column's 0-based position in the header.
+	Index int
+	// Num holds the values of a Numeric column, NaN where missing.
+	Num []float64
+	// Codes index Levels for a Categorical column, -1 where missing.
+	Codes []int32
+	// Levels are the distinct values of a Categorical column in order of
+	// first appearance.
+	Levels []string
+	// LevelLine is the file line on which each level first appears.
+	LevelLine []int
+	// Missing counts the missing values.
+	Missing int
+}
+
+// IsMissing reports whether row i of the column is missing.
+func (c *Column) IsMissing(i int) bool {
+	if c.Kind == Numeric {
+		return math.IsNaN(c.Num[i])
+	}
+	return c.Codes[i] < 0
+}
+
+// Frame is the requested columns of one file.
+type Frame struct {
+	// File is the name used in error messages.
+	File string
+	// Header holds every column name of the file, in order.
+	Header []string
+	// Delimiter is the field separator used.
+	Delimiter byte
+	// Rows counts the data rows.
+	Rows int
+	// Columns are the requested columns, in request order.
+	Columns []*Column
+
+	lines   []int32
+	data    []byte
+	records []int64
+}
+
+// Column returns the column named name, or nil.
+func (f *Frame) Column(name string) *Column {
+	for _, c := range f.Columns {
+		if c.Name == name {
+			return c
+		}
+	}
+	return nil
+}
+
+// Line returns the file line on which data row i starts.
+func (f *Frame) Line(i int) int { return int(f.lines[i]) }
+
+// Record returns the raw text of data row i, without its line end, when
+// the frame was read with Options.KeepRecords; otherwise nil.
+func (f *Frame) Record(i int) []byte {
+	if f.records == nil {
+		return nil
+	}
+	return f.data[f.records[2*i]:f.records[2*i+1]]
+}
+
+// HeaderRecord returns the raw text of the header line when the frame was
+// read with Options.KeepRecords.
+func (f *Frame) HeaderRecord() []byte {
+	if f.records == nil {
+		return nil
+	}
+	return f.data[f.records[len(f.records)-2]:f.records[len(f.records)-1]]
+}
+
+// Load reads the requested columns of the file at path. The file is read,
+// never written.
+func Load(path string, reqs []Request, opt Options) (*Frame, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		var pe *os.PathError
+		msg := err.Error()
+		if errors.As(err, &pe) {
+			msg = pe.Err.Error()
+		}
+		return nil, &Error{File: path, Msg: "cannot read file: " + msg}
+	}
+	return Parse(path, data, reqs, opt)
+}
+
+// Parse reads the requested columns from data, the contents of a file
+// named name. The frame may refer to data, which must not be changed.
+func Parse(name string, data []byte, reqs []Request, opt Options) (*Frame, error) {
+	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
+	if len(bytes.TrimSpace(data)) == 0 {
+		return nil, &Error{File: name, Msg: "file is empty"}
+	}
+	delim := opt.Delimiter
+	if delim == 0 {
+		delim = detectDelimiter(data)
+	}
+	sc := &scanner{data: data, line: 1, delim: delim}
+	hline, hfrom, hto, _, err := sc.next()
+	if err != nil {
+		return nil, syntaxError(name, err)
+	}
+	header := make([]string, len(sc.fields))
+	for i, f := range sc.fields {
+		header[i] = strings.TrimSpace(string(f))
+	}
+	if err := checkHeader(name, hline, header); err != nil {
+		return nil, err
+	}
+	fr := &Frame{File: name, Header: header, Delimiter: delim}
+	plan, err := planColumns(name, header, reqs)
+	if err != nil {
+		return nil, err
+	}
+	p := parser{
+		name: name, ncol: len(header), plan: plan, nreq: len(reqs), delim: delim,
+		missing: opt.Missing, dec: '.', keep: opt.KeepRecords,
+		header: header, kinds: make([]Kind, len(header)),
+	}
+	for i, k := range plan {
+		if k >= 0 {
+			p.kinds[i] = reqs[k].Kind
+		}
+	}
+	if p.missing == nil {
+		p.missing = DefaultMissing
+	}
+	if opt.DecimalComma {
+		p.dec = ','
+	}
+	if err := p.run(fr, reqs, data, sc.pos, sc.line, opt.Workers); err != nil {
+		return nil, err
+	}
+	if fr.Rows == 0 {
+		return nil, &Error{File: name, Msg: "the file has a header but no data rows"}
+	}
+	if opt.KeepRecords {
+		fr.data = data
+		fr.records = append(fr.records, int64(hfrom), int64(hto))
+	}
+	return fr, nil
+}
+
+// detectDelimiter counts tabs, semicolons and commas outside quotes on the
+// first line and returns the most frequent (ties prefer tab, then
+// semicolon); a line with none of them gives a comma.
+func detectDelimiter(data []byte) byte {
+	counts := map[byte]int{}
+	inQuote := false
+	for _, c := range data {
+		if c == '"' {
+			inQuote = !inQuote
+			continue
+		}
+		if !inQuote && c == '\n' {
+			break
+		}
+		if !inQuote && (c == '\t' || c == ';' || c == ',') {
+			counts[c]++
+		}
+	}
+	best, n := byte(','), 0
+	for _, c := range []byte{'\t', ';', ','} {
+		if counts[c] > n {
+			best, n = c, counts[c]
+		}
+	}
+	return best
+}
+
+func checkHeader(name string, line int, header []string) error {
+	seen := make(map[string]int, len(header))
+	for i, h := range header {
+		if j, ok := seen[h]; ok {
+			return &Error{File: name, Line: line, Column: h,
+				Msg: fmt.Sprintf("duplicate column name (fields %d and %d of the header)", j+1, i+1)}
+		}
+		seen[h] = i
+	}
+	return nil
+}
+
+// planColumns maps every header position to the index of the request that
+// reads it, or -1.
+func planColumns(name string, header []string, reqs []Request) ([]int, error) {
+	plan := make([]int, len(header))
+	for i := range plan {
+		plan[i] = -1
+	}
+	for k, r := range reqs {
+		found := false
+		for i, h := range header {
+			if h == r.Name {
+				if plan[i] >= 0 && reqs[plan[i]].Kind != r.Kind {
+					return nil, fmt.Errorf("cohort: column %q requested as two kinds", r.Name)
+				}
+				if plan[i] < 0 {
+					plan[i] = k
+				}
+				found = true
+			}
+		}
+		if !found {
+			return nil, &Error{File: name, Column: r.Name, Msg: missingColumnMsg(r.Name, header)}
+		}
+	}
+	return plan, nil
+}
+
+func missingColumnMsg(want string, header []string) string {
+	msg := "no such column"
+	if s := Closest(want, header); s != "" {
+		msg += fmt.Sprintf(" (did you mean %q?)", s)
+	}
+	quoted := make([]string, len(header))
+	for i, h := range header {
+		quoted[i] = fmt.Sprintf("%q", h)
+	}
+	return msg + "; columns present: " + strings.Join(quoted, ", ")
+}
+
+func syntaxError(name string, err error) error {
+	var se *errSyntax
+	if errors.As(err, &se) {
+		return &Error{File: name, Line: se.line, Msg: se.msg}
+	}
+	return err
+}
+
+// SortedLevels returns the column's levels in sorted order: numerically
+// when every level is a number, otherwise as strings.
+func (c *Column) SortedLevels() []string {
+	out := append([]string(nil), c.Levels...)
+	SortLevels(out)
+	return out
+}
+
+// SortLevels sorts level names numerically when every one is a number,
+// otherwise as strings.
+func SortLevels(levels []string) {
+	nums := make([]float64, len(levels))
+	numeric := true
+	for i, s := range levels {
+		v, ok := parseFloat([]byte(s), '.')
+		if !ok {
+			numeric = false
+			break
+		}
+		nums[i] = v
+	}
+	if numeric {
+		idx := make([]int, len(levels))
+		for i := range idx {
+			idx[i] = i
+		}
+		sort.SliceStable(idx, func(a, b int) bool { return nums[idx[a]] < nums[idx[b]] })
+		out := make([]string, len(levels))
+		for i, j := range idx {
+			out[i] = levels[j]
+		}
+		copy(levels, out)
+		return
+	}
+	sort.Strings(levels)
+}

@@ -1,0 +1,305 @@
+package cohort
+
+import (
+	"bytes"
+	"math"
+	"runtime"
+	"strconv"
+	"sync"
+)
+
+type parser struct {
+	name    string
+	ncol    int
+	plan    []int // request index by header position, -1 for none
+	nreq    int
+	delim   byte
+	missing []string
+	maxMiss int
+	dec     byte
+	keep    bool
+	header  []string
+	kinds   []Kind // by header position
+}
+
+// part is what one worker parsed from one stretch of the file. Its slices
+// are windows on the frame's final columns, so nothing is copied when
+// the parts are joined unless empty lines left a gap.
+type part struct {
+	num     [][]float64
+	codes   [][]int32
+	levels  []map[string]int32
+	names   [][]string
+	first   [][]int
+	missing []int
+	lines   []int32
+	records []int64
+	off     int // first row slot of the part in the frame
+	err     error
+}
+
+// run parses the data rows from byte offset pos (on file line line) into
+// fr. A file without quote characters after the header is cut at line
+// ends into one stretch per worker; a file with quotes is read by one
+// worker, since a quoted field may hold a line end.
+func (p *parser) run(fr *Frame, reqs []Request, data []byte, pos, line, workers int) error {
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	for _, m := range p.missing {
+		p.maxMiss = max(p.maxMiss, len(m))
+	}
+	body := data[pos:]
+	if len(body) < 1<<20 || bytes.IndexByte(body, '"') >= 0 {
+		workers = 1
+	}
+	cuts := []int{pos}
+	for w := 1; w < workers; w++ {
+		c := pos + len(body)*w/workers
+		if c < cuts[len(cuts)-1] {
+			continue
+		}
+		nl := bytes.IndexByte(data[c:], '\n')
+		if nl < 0 {
+			break
+		}
+		cuts = append(cuts, c+nl+1)
+	}
+	cuts = append(cuts, len(data))
+	nparts := len(cuts) - 1
+	// A stretch holds at most as many rows as it has line ends, plus one
+	// for a last line without a line end.
+	bounds := make([]int, nparts)
+	starts := make([]int, nparts)
+	total := 0
+	for k := range bounds {
+		chunk := data[cuts[k]:cuts[k+1]]
+		nl := bytes.Count(chunk, []byte{'\n'})
+		bounds[k] = nl
+		if len(chunk) > 0 && chunk[len(chunk)-1] != '\n' {
+			bounds[k]++
+		}
+		starts[k] = line
+		line += nl
+		total += bounds[k]
+	}
+	fr.Columns = make([]*Column, len(reqs))
+	for k, r := range reqs {
+		c := &Column{Name: r.Name, Kind: r.Kind, Index: -1}
+		for i, h := range p.header {
+			if h == r.Name && c.Index < 0 {
+				c.Index = i
+			}
+		}
+		if r.Kind == Numeric {
+			c.Num = make([]float64, total)
+		} else {
+			c.Codes = make([]int32, total)
+		}
+		fr.Columns[k] = c
+	}
+	lines := make([]int32, total)
+	parts := make([]*part, nparts)
+	var wg sync.WaitGroup
+	off := 0
+	for k := range parts {
+		pt := p.newPart(fr, lines, off, bounds[k])
+		parts[k] = pt
+		off += bounds[k]
+		wg.Add(1)
+		go func(k int) {
+			defer wg.Done()
+			sc := &scanner{data: data[:cuts[k+1]], pos: cuts[k], line: starts[k], delim: p.delim}
+			p.parse(sc, pt)
+		}(k)
+	}
+	wg.Wait()
+	for _, pt := range parts {
+		if pt.err != nil {
+			return pt.err
+		}
+	}
+	p.join(fr, reqs, lines, parts)
+	return nil
+}
+
+// newPart makes a part whose column windows start at row slot off and
+// hold up to n rows.
+func (p *parser) newPart(fr *Frame, lines []int32, off, n int) *part {
+	pt := &part{
+		num:     make([][]float64, p.nreq),
+		codes:   make([][]int32, p.nreq),
+		levels:  make([]map[string]int32, p.nreq),
+		names:   make([][]string, p.nreq),
+		first:   make([][]int, p.nreq),
+		missing: make([]int, p.nreq),
+		lines:   lines[off : off : off+n],
+		off:     off,
+	}
+	for k, c := range fr.Columns {
+		if p.plan[c.Index] != k {
+			continue // the same column requested twice is read once
+		}
+		if c.Kind == Numeric {
+			pt.num[k] = c.Num[off : off : off+n]
+		} else {
+			pt.codes[k] = c.Codes[off : off : off+n]
+			pt.levels[k] = map[string]int32{}
+		}
+	}
+	return pt
+}
+
+// parse reads records until the scanner's data ends.
+func (p *parser) parse(sc *scanner, pt *part) {
+	for {
+		line, from, to, ok, err := sc.next()
+		if err != nil {
+			pt.err = syntaxError(p.name, err)
+			return
+		}
+		if !ok {
+			return
+		}
+		if len(sc.fields) != p.ncol {
+			pt.err = &Error{File: p.name, Line: line,
+				Msg: strconv.Itoa(len(sc.fields)) + " fields, but the header has " + strconv.Itoa(p.ncol)}
+			return
+		}
+		pt.lines = append(pt.lines, int32(line))
+		if p.keep {
+			pt.records = append(pt.records, int64(from), int64(to))
+		}
+		for i, k := range p.plan {
+			if k < 0 || (pt.num[k] == nil && pt.codes[k] == nil) {
+				continue
+			}
+			if err := p.field(pt, k, p.kinds[i], i, line, sc.fields[i]); err != nil {
+				pt.err = err
+				return
+			}
+		}
+	}
+}
+
+func (p *parser) field(pt *part, k int, kind Kind, col, line int, f []byte) error {
+	f = trimSpace(f)
+	if len(f) <= p.maxMiss && p.isMissing(f) {
+		pt.missing[k]++
+		if kind == Numeric {
+			pt.num[k] = append(pt.num[k], math.NaN())
+		} else {
+			pt.codes[k] = append(pt.codes[k], -1)
+		}
+		return nil
+	}
+	if kind == Numeric {
+		v, ok := parseFloat(f, p.dec)
+		if !ok {
+			msg := "not a number"
+			if p.dec == '.' && bytes.IndexByte(f, ',') >= 0 {
+				if _, ok := parseFloat(f, ','); ok {
+					msg += " (written with a decimal comma? see --decimal-comma)"
+				}
+			}
+			return &Error{File: p.name, Line: line, Column: p.header[col], Value: string(f), HasValue: true, Msg: msg}
+		}
+		pt.num[k] = append(pt.num[k], v)
+		return nil
+	}
+	code, ok := pt.levels[k][string(f)]
+	if !ok {
+		code = int32(len(pt.names[k]))
+		s := string(f)
+		pt.levels[k][s] = code
+		pt.names[k] = append(pt.names[k], s)
+		pt.first[k] = append(pt.first[k], line)
+	}
+	pt.codes[k] = append(pt.codes[k], code)
+	return nil
+}
+
+func (p *parser) isMissing(f []byte) bool {
+	for _, m := range p.missing {
+		if len(m) == len(f) && string(f) == m {
+			return true
+		}
+	}
+	return false
+}
+
+func trimSpace(f []byte) []byte {
+	for len(f) > 0 && (f[0] == ' ' || f[0] == '\t') {
+		f = f[1:]
+	}
+	for len(f) > 0 && (f[len(f)-1] == ' ' || f[len(f)-1] == '\t') {
+		f = f[:len(f)-1]
+	}
+	return f
+}
+
+// join closes the gaps that empty lines left between the parts, merges the
+// parts' level tables in file order and fills in the frame's columns.
+func (p *parser) join(fr *Frame, reqs []Request, lines []int32, parts []*part) {
+	rows := 0
+	for _, pt := range parts {
+		n := len(pt.lines)
+		if pt.off != rows {
+			copy(lines[rows:], pt.lines)
+			for k, c := range fr.Columns {
+				if c.Kind == Numeric && pt.num[k] != nil {
+					copy(c.Num[rows:], pt.num[k])
+				} else if pt.codes[k] != nil {
+					copy(c.Codes[rows:], pt.codes[k])
+				}
+			}
+		}
+		pt.off = rows
+		rows += n
+		fr.records = append(fr.records, pt.records...)
+	}
+	fr.Rows = rows
+	fr.lines = lines[:rows]
+	for k, c := range fr.Columns {
+		k0 := p.plan[c.Index]
+		if k0 != k {
+			src := fr.Columns[k0]
+			*c = *src
+			c.Name = reqs[k].Name
+			continue
+		}
+		if c.Kind == Numeric {
+			c.Num = c.Num[:rows]
+			for _, pt := range parts {
+				c.Missing += pt.missing[k]
+			}
+			continue
+		}
+		c.Codes = c.Codes[:rows]
+		index := map[string]int32{}
+		for _, pt := range parts {
+			remap := make([]int32, len(pt.names[k]))
+			same := true
+			for j, s := range pt.names[k] {
+				code, ok := index[s]
+				if !ok {
+					code = int32(len(c.Levels))
+					index[s] = code
+					c.Levels = append(c.Levels, s)
+					c.LevelLine = append(c.LevelLine, pt.first[k][j])
+				}
+				remap[j] = code
+				same = same && code == int32(j)
+			}
+			if !same {
+				w := c.Codes[pt.off : pt.off+len(pt.lines)]
+				for i, v := range w {
+					if v >= 0 {
+						w[i] = remap[v]
+					}
+				}
+			}
+			c.Missing += pt.missing[k]
+		}
+	}
+}
