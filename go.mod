@@ -2,11 +2,4 @@ module github.com/riskaudit/riskaudit
 
 go 1.26.8
 
-require (
-	github.com/inconshreveable/mousetrap v1.1.0 // indirect
-	github.com/rogpeppe/go-internal v1.16.0 // indirect
-	github.com/spf13/cobra v1.10.2 // indirect
-	github.com/spf13/pflag v1.0.9 // indirect
-	go.yaml.in/yaml/v3 v3.0.6 // indirect
-	gonum.org/v1/gonum v0.17.0 // indirect
-)
+require gonum.org/v1/gonum v0.17.0
