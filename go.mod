@@ -3,3 +3,5 @@ module github.com/riskaudit/riskaudit
 go 1.26.8
 
 require gonum.org/v1/gonum v0.17.0
+
+require go.yaml.in/yaml/v3 v3.0.6 // indirect

@@ -1,0 +1,223 @@
+package model
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"strings"
+
+	"gonum.org/v1/gonum/stat/distuv"
+
+	"github.com/riskaudit/riskaudit/logistic"
+	"github.com/riskaudit/riskaudit/metrics"
+)
+
+// Z975 is the 0.975 quantile of the standard normal distribution, the
+// multiplier of 95% Wald intervals.
+var Z975 = distuv.UnitNormal.Quantile(0.975)
+
+// TermStat is the fitted coefficient of one term with its Wald statistics.
+type TermStat struct {
+	Term      string     `json:"term"`
+	Coef      float64    `json:"coef"`
+	SE        float64    `json:"se"`
+	Z         float64    `json:"z"`
+	P         float64    `json:"p"`
+	OddsRatio float64    `json:"odds_ratio"`
+	ORCI      [2]float64 `json:"or_ci"`
+}
+
+// FitStats are the statistics of a fitted model. The JSON keys are a
+// stable interface.
+type FitStats struct {
+	Method       string                     `json:"method"`
+	N            int                        `json:"n"`
+	Events       int                        `json:"events"`
+	Terms        []TermStat                 `json:"terms"`
+	Neg2LL       float64                    `json:"neg2ll"`
+	NullNeg2LL   float64                    `json:"null_neg2ll"`
+	LRChi2       float64                    `json:"lr_chi2"`
+	LRDF         int                        `json:"lr_df"`
+	LRP          float64                    `json:"lr_p"`
+	AIC          float64                    `json:"aic"`
+	BIC          float64                    `json:"bic"`
+	NagelkerkeR2 float64                    `json:"nagelkerke_r2"`
+	HL           metrics.HosmerLemeshowTest `json:"hosmer_lemeshow"`
+	Iterations   int                        `json:"iterations"`
+	RowsRead     int                        `json:"rows_read"`
+	Excluded     int                        `json:"rows_excluded"`
+	ByColumn     []Exclusion                `json:"excluded_by_column"`
+	Solver       string                     `json:"solver"`
+}
+
+// FitOptions control a fit.
+type FitOptions struct {
+	// Firth uses Firth's penalised likelihood instead of maximum
+	// likelihood.
+	Firth bool
+	// HLGroups is the number of Hosmer–Lemeshow groups (default 10).
+	HLGroups int
+	// Workers bounds the goroutines (default GOMAXPROCS).
+	Workers int
+}
+
+// Fitted is a recipe fitted to a matrix.
+type Fitted struct {
+	Design *Design
+	Matrix *Matrix
+	Result *logistic.Result
+	Stats  FitStats
+}
+
+// SeparationError says that the outcome is separated by the named terms,
+// so that maximum-likelihood estimates do not exist.
+type SeparationError struct {
+	Complete bool
+	Terms    []string
+}
+
+func (e *SeparationError) Error() string {
+	kind := "quasi-complete"
+	if e.Complete {
+		kind = "complete"
+	}
+	return fmt.Sprintf("%s separation: the outcome is predicted perfectly by %s, so maximum-likelihood estimates do not exist; no model was written (Firth's penalised likelihood, --firth, gives finite estimates)",
+		kind, strings.Join(e.Terms, ", "))
+}
+
+// Fit fits the design matrix m of design d.
+func Fit(d *Design, m *Matrix, opt FitOptions) (*Fitted, error) {
+	if m.Y == nil {
+		return nil, errors.New("model: the matrix has no outcome")
+	}
+	res, err := logistic.Fit(logistic.Data{X: m.X, N: m.N, P: m.P, Y: m.Y},
+		logistic.Options{Firth: opt.Firth, Workers: opt.Workers})
+	if err != nil {
+		return nil, explainFitError(err, m.Terms)
+	}
+	f := &Fitted{Design: d, Matrix: m, Result: res}
+	f.Stats = stats(m, res, opt)
+	return f, nil
+}
+
+func explainFitError(err error, terms []string) error {
+	var se *logistic.SeparationError
+	if errors.As(err, &se) {
+		var names []string
+		for _, c := range se.Columns {
+			if c > 0 || len(se.Columns) == 1 {
+				names = append(names, terms[c])
+			}
+		}
+		return &SeparationError{Complete: se.Complete, Terms: names}
+	}
+	var ce *logistic.CollinearError
+	if errors.As(err, &ce) {
+		var names []string
+		for _, c := range ce.Columns {
+			names = append(names, terms[c])
+		}
+		return fmt.Errorf("the terms %s are linearly dependent (one is a combination of the others); drop one", strings.Join(names, ", "))
+	}
+	if errors.Is(err, logistic.ErrNotConverged) {
+		return fmt.Errorf("the fit did not converge: %w; no model was written", err)
+	}
+	return err
+}
+
+func stats(m *Matrix, res *logistic.Result, opt FitOptions) FitStats {
+	method := "maximum likelihood"
+	if opt.Firth {
+		method = "Firth penalised likelihood"
+	}
+	st := FitStats{Method: method, N: m.N, Events: m.Events(), Neg2LL: res.Deviance,
+		Iterations: res.Iterations, RowsRead: m.Total, Excluded: m.Excluded, ByColumn: m.ByColumn, Solver: res.Solver}
+	for j, t := range m.Terms {
+		b, se := res.Coef[j], res.SE[j]
+		z := b / se
+		st.Terms = append(st.Terms, TermStat{
+			Term: t, Coef: b, SE: se, Z: z, P: TwoSidedP(z),
+			OddsRatio: math.Exp(b), ORCI: [2]float64{math.Exp(b - Z975*se), math.Exp(b + Z975*se)},
+		})
+	}
+	st.NullNeg2LL = NullDeviance(m.Y, nil)
+	st.LRChi2 = st.NullNeg2LL - st.Neg2LL
+	st.LRDF = m.P - 1
+	st.LRP = ChiSquareP(st.LRChi2, st.LRDF)
+	k := float64(m.P)
+	st.AIC = st.Neg2LL + 2*k
+	st.BIC = st.Neg2LL + k*math.Log(float64(m.N))
+	st.NagelkerkeR2 = Nagelkerke(st.Neg2LL, st.NullNeg2LL, m.N)
+	groups := opt.HLGroups
+	if groups <= 0 {
+		groups = 10
+	}
+	p := Predict(m, res.Coef, nil)
+	st.HL = metrics.HosmerLemeshow(m.Y, p, groups, true)
+	return st
+}
+
+// Predict returns the predicted risks expit(Xβ) of the matrix rows, into
+// out when it has room.
+func Predict(m *Matrix, beta []float64, out []float64) []float64 {
+	if cap(out) < m.N {
+		out = make([]float64, m.N)
+	}
+	out = out[:m.N]
+	for i := range out {
+		x := m.X[i*m.P : (i+1)*m.P]
+		eta := 0.0
+		for j, b := range beta {
+			eta += x[j] * b
+		}
+		out[i] = logistic.Expit(eta)
+	}
+	return out
+}
+
+// TwoSidedP is the two-sided normal tail probability of z, 2Φ(−|z|),
+// computed as erfc(|z|/√2) so that small values keep their precision.
+func TwoSidedP(z float64) float64 { return math.Erfc(math.Abs(z) / math.Sqrt2) }
+
+// ChiSquareP is the upper tail probability of x under a chi-square
+// distribution with df degrees of freedom (NaN for df < 1).
+func ChiSquareP(x float64, df int) float64 {
+	if df < 1 {
+		return math.NaN()
+	}
+	if x <= 0 {
+		return 1
+	}
+	return distuv.ChiSquared{K: float64(df)}.Survival(x)
+}
+
+// NullDeviance is −2 log-likelihood of the intercept-only model,
+// −2[E log ȳ + (n − E) log(1 − ȳ)] with E events among n rows (weighted
+// by w when w is not nil).
+func NullDeviance(y, w []float64) float64 {
+	n, e := 0.0, 0.0
+	for i, v := range y {
+		wi := 1.0
+		if w != nil {
+			wi = w[i]
+		}
+		n += wi
+		e += wi * v
+	}
+	if e == 0 || e == n {
+		return 0
+	}
+	m := e / n
+	return -2 * (e*math.Log(m) + (n-e)*math.Log1p(-m))
+}
+
+// Nagelkerke is Nagelkerke's R² (Nagelkerke 1991, Biometrika 78:691–692):
+// the Cox–Snell R² = 1 − exp((D − D₀)/n) divided by its maximum
+// 1 − exp(−D₀/n), where D and D₀ are −2 log-likelihood of the model and of
+// the intercept-only model.
+func Nagelkerke(dev, nullDev float64, n int) float64 {
+	fn := float64(n)
+	cs := -math.Expm1((dev - nullDev) / fn)
+	max := -math.Expm1(-nullDev / fn)
+	return cs / max
+}

@@ -1,0 +1,263 @@
+package model
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+
+	"go.yaml.in/yaml/v3"
+
+	"github.com/riskaudit/riskaudit/logistic"
+)
+
+// Coefficients returns the frozen spec's coefficients in the design's term
+// order, checking that the spec gives one for every term and none for a
+// term the model lacks.
+func (d *Design) Coefficients() ([]float64, error) {
+	s := d.Spec
+	if !s.Frozen() {
+		return nil, &SpecError{File: s.File, Msg: "the spec is a recipe (it has no intercept); fit it first"}
+	}
+	beta := make([]float64, len(d.Terms))
+	beta[0] = s.Intercept
+	for k := range d.entries {
+		e := &d.entries[k]
+		pr := e.pred
+		t := beta[e.offset : e.offset+len(e.labels)]
+		switch {
+		case e.kind == categorical:
+			for j, l := range pr.Levels {
+				t[j] = l.Value
+			}
+		case pr.HasCoef && len(e.labels) == 1 && pr.Coefs == nil:
+			t[0] = pr.Coef
+		case pr.Coefs != nil && !pr.HasCoef:
+			byTerm := map[string]Coef{}
+			for _, c := range pr.Coefs {
+				byTerm[c.Term] = c
+			}
+			for j, l := range e.labels {
+				c, ok := byTerm[l]
+				if !ok {
+					return nil, &SpecError{File: s.File, Line: pr.Line, Msg: fmt.Sprintf("coefs has no coefficient for term %q (terms: %v)", l, e.labels)}
+				}
+				t[j] = c.Value
+				delete(byTerm, l)
+			}
+			for _, c := range pr.Coefs {
+				if _, extra := byTerm[c.Term]; extra {
+					return nil, &SpecError{File: s.File, Line: c.Line, Msg: fmt.Sprintf("coefs names %q, which is not a term of this predictor (terms: %v)", c.Term, e.labels)}
+				}
+			}
+		case len(e.labels) == 1:
+			return nil, &SpecError{File: s.File, Line: pr.Line, Msg: fmt.Sprintf("frozen predictor %s needs coef (or coefs with its one term)", describe(pr))}
+		default:
+			return nil, &SpecError{File: s.File, Line: pr.Line, Msg: fmt.Sprintf("frozen predictor %s has %d terms and needs coefs with a coefficient for each of %v", describe(pr), len(e.labels), e.labels)}
+		}
+	}
+	return beta, nil
+}
+
+func describe(pr *Predictor) string {
+	if pr.Product != nil {
+		return fmt.Sprintf("product %v", pr.Product)
+	}
+	return strconv.Quote(pr.Column)
+}
+
+// Freeze returns the fitted model as a frozen spec: the recipe with its
+// coefficients, reference levels and knot positions filled in, and the
+// given provenance.
+func (f *Fitted) Freeze(prov Provenance) *Spec {
+	return freeze(f.Design, f.Result.Coef, prov)
+}
+
+// FreezeWith returns a frozen spec with the design's terms and the given
+// coefficients (in term order).
+func FreezeWith(d *Design, beta []float64, prov Provenance) *Spec {
+	return freeze(d, beta, prov)
+}
+
+func freeze(d *Design, beta []float64, prov Provenance) *Spec {
+	s := *d.Spec
+	s.Intercept, s.HasIntercept = beta[0], true
+	s.Predictors = make([]Predictor, len(d.Spec.Predictors))
+	for k := range d.entries {
+		e := &d.entries[k]
+		pr := *e.pred
+		t := beta[e.offset : e.offset+len(e.labels)]
+		pr.HasCoef, pr.Coefs, pr.Levels = false, nil, nil
+		switch {
+		case e.kind == categorical:
+			pr.Reference, pr.HasReference = e.reference, true
+			for j, l := range e.levels {
+				pr.Levels = append(pr.Levels, Coef{Term: l, Value: t[j]})
+			}
+		case len(e.labels) == 1:
+			pr.Coef, pr.HasCoef = t[0], true
+		default:
+			for j, l := range e.labels {
+				pr.Coefs = append(pr.Coefs, Coef{Term: l, Value: t[j]})
+			}
+		}
+		if pr.Spline != nil {
+			sp := *pr.Spline
+			sp.Knots, sp.Count = e.knots, 0
+			pr.Spline = &sp
+		}
+		s.Predictors[k] = pr
+	}
+	s.Provenance = &prov
+	return &s
+}
+
+// LinearPredictors returns the linear predictor of every matrix row for
+// coefficients beta.
+func LinearPredictors(m *Matrix, beta []float64) []float64 {
+	out := make([]float64, m.N)
+	for i := range out {
+		x := m.X[i*m.P : (i+1)*m.P]
+		eta := 0.0
+		for j, b := range beta {
+			eta += x[j] * b
+		}
+		out[i] = eta
+	}
+	return out
+}
+
+// Risk is the predicted risk of a linear predictor.
+func Risk(lp float64) float64 { return logistic.Expit(lp) }
+
+// MarshalYAML writes the spec in the fixed schema, keys in a stable order.
+func (s *Spec) MarshalYAML() ([]byte, error) {
+	root := mapping()
+	if s.Name != "" {
+		add(root, "name", str(s.Name))
+	}
+	o := mapping()
+	add(o, "column", str(s.Outcome.Column))
+	add(o, "event", val(s.Outcome.Event))
+	if s.Outcome.NonEvent != nil {
+		add(o, "non_event", val(*s.Outcome.NonEvent))
+	}
+	add(root, "outcome", o)
+	if s.HasIntercept {
+		add(root, "intercept", num(s.Intercept))
+	}
+	preds := &yaml.Node{Kind: yaml.SequenceNode}
+	for _, pr := range s.Predictors {
+		preds.Content = append(preds.Content, predictorNode(&pr))
+	}
+	add(root, "predictors", preds)
+	if pv := s.Provenance; pv != nil {
+		p := mapping()
+		add(p, "method", str(pv.Method))
+		add(p, "data_file", str(pv.DataFile))
+		add(p, "data_sha256", str(pv.DataSHA256))
+		add(p, "rows_used", num(float64(pv.RowsUsed)))
+		add(p, "events", num(float64(pv.Events)))
+		add(p, "fitted_at", str(pv.FittedAt))
+		add(p, "tool_version", str(pv.ToolVersion))
+		if pv.RecipeFile != "" {
+			add(p, "recipe_file", str(pv.RecipeFile))
+		}
+		add(root, "provenance", p)
+	}
+	doc := &yaml.Node{Kind: yaml.DocumentNode, Content: []*yaml.Node{root}}
+	return yaml.Marshal(doc)
+}
+
+func predictorNode(pr *Predictor) *yaml.Node {
+	n := mapping()
+	if pr.Product != nil {
+		seq := &yaml.Node{Kind: yaml.SequenceNode, Style: yaml.FlowStyle}
+		for _, c := range pr.Product {
+			seq.Content = append(seq.Content, str(c))
+		}
+		add(n, "product", seq)
+	} else {
+		add(n, "column", str(pr.Column))
+	}
+	if pr.Categorical {
+		add(n, "categorical", &yaml.Node{Kind: yaml.ScalarNode, Tag: "!!bool", Value: "true"})
+		if pr.HasReference {
+			add(n, "reference", str(pr.Reference))
+		}
+	}
+	if pr.Center != 0 {
+		add(n, "center", num(pr.Center))
+	}
+	if pr.Scale != 1 {
+		add(n, "scale", num(pr.Scale))
+	}
+	if pr.Log {
+		add(n, "log", &yaml.Node{Kind: yaml.ScalarNode, Tag: "!!bool", Value: "true"})
+	}
+	if pr.Powers != nil {
+		add(n, "powers", nums(pr.Powers))
+	}
+	if sp := pr.Spline; sp != nil {
+		m := mapping()
+		if sp.Knots != nil {
+			add(m, "knots", nums(sp.Knots))
+		} else {
+			add(m, "knots", num(float64(sp.Count)))
+		}
+		add(m, "normalise", str(sp.Normalise))
+		add(n, "spline", m)
+	}
+	if pr.HasCoef {
+		add(n, "coef", num(pr.Coef))
+	}
+	if pr.Levels != nil {
+		add(n, "levels", coefMapNode(pr.Levels))
+	}
+	if pr.Coefs != nil {
+		add(n, "coefs", coefMapNode(pr.Coefs))
+	}
+	return n
+}
+
+func coefMapNode(cs []Coef) *yaml.Node {
+	m := mapping()
+	for _, c := range cs {
+		add(m, c.Term, num(c.Value))
+	}
+	return m
+}
+
+func mapping() *yaml.Node { return &yaml.Node{Kind: yaml.MappingNode} }
+
+func add(m *yaml.Node, key string, v *yaml.Node) {
+	m.Content = append(m.Content, str(key), v)
+}
+
+// str is a string scalar, quoted when YAML would read it as another type.
+func str(s string) *yaml.Node {
+	return &yaml.Node{Kind: yaml.ScalarNode, Tag: "!!str", Value: s}
+}
+
+func val(v Value) *yaml.Node {
+	if v.IsNum {
+		return &yaml.Node{Kind: yaml.ScalarNode, Value: v.Text}
+	}
+	return str(v.Text)
+}
+
+// num writes a float in its shortest form that reads back exactly.
+func num(v float64) *yaml.Node {
+	s := strconv.FormatFloat(v, 'g', -1, 64)
+	if math.Trunc(v) == v && math.Abs(v) < 1e15 {
+		s = strconv.FormatFloat(v, 'f', -1, 64)
+	}
+	return &yaml.Node{Kind: yaml.ScalarNode, Value: s}
+}
+
+func nums(vs []float64) *yaml.Node {
+	seq := &yaml.Node{Kind: yaml.SequenceNode, Style: yaml.FlowStyle}
+	for _, v := range vs {
+		seq.Content = append(seq.Content, num(v))
+	}
+	return seq
+}

@@ -1,0 +1,635 @@
+// Package model reads model specs (YAML), builds design matrices from
+// cohort columns, fits recipes into frozen models and scores cohorts.
+//
+// One schema serves two purposes. A recipe names the outcome and the
+// predictors; a frozen model adds the intercept and every coefficient.
+// A spec is frozen exactly when it has an intercept.
+package model
+
+import (
+	"bytes"
+	"fmt"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+
+	"go.yaml.in/yaml/v3"
+
+	"github.com/riskaudit/riskaudit/cohort"
+)
+
+// SpecError is a problem in a spec file, with the line it is on (0 when
+// not tied to a line).
+type SpecError struct {
+	File string
+	Line int
+	Msg  string
+}
+
+func (e *SpecError) Error() string {
+	if e.Line > 0 {
+		return fmt.Sprintf("%s: line %d: %s", e.File, e.Line, e.Msg)
+	}
+	return fmt.Sprintf("%s: %s", e.File, e.Msg)
+}
+
+// Value is a YAML scalar that may be read as text or as a number.
+type Value struct {
+	Text  string
+	Num   float64
+	IsNum bool
+}
+
+// Matches reports whether a field of the outcome column equals v: as text,
+// or as numbers when both are numbers (so event 1 matches "1.0").
+func (v Value) Matches(field string) bool {
+	if field == v.Text {
+		return true
+	}
+	if !v.IsNum {
+		return false
+	}
+	f, err := strconv.ParseFloat(strings.TrimSpace(field), 64)
+	return err == nil && f == v.Num
+}
+
+// Outcome says which column holds the outcome and which value is an event.
+type Outcome struct {
+	Column   string
+	Event    Value
+	NonEvent *Value
+}
+
+// Coef is a coefficient of one named term.
+type Coef struct {
+	Term  string
+	Value float64
+	Line  int
+}
+
+// Spline is a restricted cubic spline: cubic between the knots, linear
+// beyond the outer knots (Stone & Koo 1985; the truncated-power basis of
+// Durrleman & Simon 1989, Statistics in Medicine 8:551–561).
+type Spline struct {
+	// Knots are the knot positions, on the scale of (x − center)/scale.
+	Knots []float64
+	// Count asks a recipe for this many knots at the default quantiles
+	// of the development data; the frozen model states the positions.
+	Count int
+	// Normalise is "outer-range" (divide the nonlinear basis terms by
+	// (t_k − t_1)², the default) or "none".
+	Normalise string
+}
+
+// Predictor is one entry of a spec's predictor list.
+type Predictor struct {
+	// Column names the cohort column (empty for a product).
+	Column string
+	// Categorical marks a column read as strings, coded by indicator
+	// terms for every level but the reference.
+	Categorical bool
+	// Reference is the reference level ("" with HasReference false for
+	// the default: the first level in sorted order).
+	Reference    string
+	HasReference bool
+	// Levels are the coefficients of a frozen categorical predictor.
+	Levels []Coef
+	// Center and Scale transform x into z = (x − Center) / Scale before
+	// any other transform. Scale is 1 when not given.
+	Center, Scale float64
+	// Log replaces z by ln z.
+	Log bool
+	// Powers are fractional-polynomial powers of z (Royston & Altman
+	// 1994, Applied Statistics 43:429–467): power 0 means ln z, and a
+	// repeated power p gives z^p · ln z for its second term.
+	Powers []float64
+	// Spline expands z into a restricted cubic spline basis.
+	Spline *Spline
+	// Product names two other predictor entries (by column) whose terms
+	// are multiplied pairwise.
+	Product []string
+	// Coef is the coefficient of a single-term predictor (frozen only).
+	Coef    float64
+	HasCoef bool
+	// Coefs are the coefficients of a multi-term predictor, by term label
+	// (frozen only).
+	Coefs []Coef
+	// Line is the spec line the entry starts on.
+	Line int
+}
+
+// Provenance records where a frozen model came from.
+type Provenance struct {
+	DataFile    string `yaml:"data_file"`
+	DataSHA256  string `yaml:"data_sha256"`
+	RowsUsed    int    `yaml:"rows_used"`
+	Events      int    `yaml:"events"`
+	FittedAt    string `yaml:"fitted_at"`
+	ToolVersion string `yaml:"tool_version"`
+	Method      string `yaml:"method"`
+	RecipeFile  string `yaml:"recipe_file,omitempty"`
+}
+
+// Spec is a recipe or a frozen model.
+type Spec struct {
+	File         string
+	Name         string
+	Outcome      Outcome
+	Intercept    float64
+	HasIntercept bool
+	Predictors   []Predictor
+	Provenance   *Provenance
+}
+
+// Frozen reports whether the spec carries coefficients.
+func (s *Spec) Frozen() bool { return s.HasIntercept }
+
+// LoadSpec reads and checks the spec file at path.
+func LoadSpec(path string) (*Spec, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, &SpecError{File: path, Msg: "cannot read file: " + unwrapPath(err)}
+	}
+	return ParseSpec(path, data)
+}
+
+func unwrapPath(err error) string {
+	if pe, ok := err.(*os.PathError); ok {
+		return pe.Err.Error()
+	}
+	return err.Error()
+}
+
+// ParseSpec reads a spec from data, the contents of the file named name.
+// Unknown keys, misplaced keys and values of the wrong type are errors
+// with the line they are on: a typo must never change a model silently.
+func ParseSpec(name string, data []byte) (*Spec, error) {
+	if len(bytes.TrimSpace(data)) == 0 {
+		return nil, &SpecError{File: name, Msg: "file is empty"}
+	}
+	var doc yaml.Node
+	if err := yaml.Unmarshal(data, &doc); err != nil {
+		return nil, &SpecError{File: name, Msg: "not valid YAML: " + strings.TrimPrefix(err.Error(), "yaml: ")}
+	}
+	p := &specParser{file: name}
+	if len(doc.Content) != 1 || doc.Content[0].Kind != yaml.MappingNode {
+		return nil, p.errf(&doc, "the spec must be a mapping of keys such as name, outcome and predictors")
+	}
+	s, err := p.spec(doc.Content[0])
+	if err != nil {
+		return nil, err
+	}
+	s.File = name
+	if err := s.check(p); err != nil {
+		return nil, err
+	}
+	return s, nil
+}
+
+type specParser struct{ file string }
+
+func (p *specParser) errf(n *yaml.Node, format string, args ...any) error {
+	line := 0
+	if n != nil {
+		line = n.Line
+	}
+	return &SpecError{File: p.file, Line: line, Msg: fmt.Sprintf(format, args...)}
+}
+
+// fields walks a mapping node, checking every key against allowed.
+func (p *specParser) fields(n *yaml.Node, what string, allowed []string, f func(key string, k, v *yaml.Node) error) error {
+	if n.Kind != yaml.MappingNode {
+		return p.errf(n, "%s must be a mapping", what)
+	}
+	seen := map[string]bool{}
+	for i := 0; i+1 < len(n.Content); i += 2 {
+		k, v := n.Content[i], n.Content[i+1]
+		key := k.Value
+		if seen[key] {
+			return p.errf(k, "key %q appears twice in %s", key, what)
+		}
+		seen[key] = true
+		ok := false
+		for _, a := range allowed {
+			ok = ok || a == key
+		}
+		if !ok {
+			msg := fmt.Sprintf("unknown key %q in %s", key, what)
+			if c := cohort.Closest(key, allowed); c != "" {
+				msg += fmt.Sprintf(" (did you mean %q?)", c)
+			}
+			return p.errf(k, "%s; allowed keys: %s", msg, strings.Join(allowed, ", "))
+		}
+		if err := f(key, k, v); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+func (p *specParser) scalar(v *yaml.Node, key string) (string, error) {
+	if v.Kind != yaml.ScalarNode {
+		return "", p.errf(v, "%s must be a single value", key)
+	}
+	return v.Value, nil
+}
+
+func (p *specParser) number(v *yaml.Node, key string) (float64, error) {
+	s, err := p.scalar(v, key)
+	if err != nil {
+		return 0, err
+	}
+	f, perr := strconv.ParseFloat(s, 64)
+	if perr != nil || math.IsInf(f, 0) || math.IsNaN(f) {
+		return 0, p.errf(v, "%s must be a finite number, not %q", key, s)
+	}
+	return f, nil
+}
+
+func (p *specParser) boolean(v *yaml.Node, key string) (bool, error) {
+	s, err := p.scalar(v, key)
+	if err != nil {
+		return false, err
+	}
+	switch s {
+	case "true":
+		return true, nil
+	case "false":
+		return false, nil
+	}
+	return false, p.errf(v, "%s must be true or false, not %q", key, s)
+}
+
+func (p *specParser) value(v *yaml.Node, key string) (Value, error) {
+	s, err := p.scalar(v, key)
+	if err != nil {
+		return Value{}, err
+	}
+	out := Value{Text: s}
+	if v.Style == 0 {
+		if f, err := strconv.ParseFloat(s, 64); err == nil {
+			out.Num, out.IsNum = f, true
+		}
+	}
+	return out, nil
+}
+
+func (p *specParser) spec(n *yaml.Node) (*Spec, error) {
+	s := &Spec{}
+	sawOutcome, sawPreds := false, false
+	err := p.fields(n, "the spec", []string{"name", "outcome", "intercept", "predictors", "provenance"}, func(key string, k, v *yaml.Node) error {
+		var err error
+		switch key {
+		case "name":
+			s.Name, err = p.scalar(v, "name")
+		case "outcome":
+			sawOutcome = true
+			err = p.outcome(v, &s.Outcome)
+		case "intercept":
+			s.Intercept, err = p.number(v, "intercept")
+			s.HasIntercept = true
+		case "predictors":
+			sawPreds = true
+			if v.Kind != yaml.SequenceNode {
+				return p.errf(v, "predictors must be a list")
+			}
+			for _, item := range v.Content {
+				pr, err := p.predictor(item)
+				if err != nil {
+					return err
+				}
+				s.Predictors = append(s.Predictors, pr)
+			}
+		case "provenance":
+			s.Provenance = &Provenance{}
+			err = p.provenance(v, s.Provenance)
+		}
+		return err
+	})
+	if err != nil {
+		return nil, err
+	}
+	if !sawOutcome {
+		return nil, p.errf(n, "the spec has no outcome")
+	}
+	if !sawPreds {
+		return nil, p.errf(n, "the spec has no predictors (write predictors: [] for an intercept-only model)")
+	}
+	return s, nil
+}
+
+func (p *specParser) outcome(n *yaml.Node, o *Outcome) error {
+	sawEvent := false
+	err := p.fields(n, "outcome", []string{"column", "event", "non_event"}, func(key string, k, v *yaml.Node) error {
+		var err error
+		switch key {
+		case "column":
+			o.Column, err = p.scalar(v, "column")
+		case "event":
+			sawEvent = true
+			o.Event, err = p.value(v, "event")
+		case "non_event":
+			var ne Value
+			ne, err = p.value(v, "non_event")
+			o.NonEvent = &ne
+		}
+		return err
+	})
+	if err != nil {
+		return err
+	}
+	if o.Column == "" {
+		return p.errf(n, "outcome needs a column")
+	}
+	if !sawEvent {
+		return p.errf(n, "outcome needs an event value")
+	}
+	if o.NonEvent != nil && o.NonEvent.Text == o.Event.Text {
+		return p.errf(n, "outcome event and non_event are the same value %q", o.Event.Text)
+	}
+	return nil
+}
+
+var predictorKeys = []string{"column", "categorical", "reference", "levels", "coef", "coefs",
+	"center", "scale", "log", "powers", "spline", "product"}
+
+func (p *specParser) predictor(n *yaml.Node) (Predictor, error) {
+	pr := Predictor{Scale: 1, Line: n.Line}
+	err := p.fields(n, "a predictor", predictorKeys, func(key string, k, v *yaml.Node) error {
+		var err error
+		switch key {
+		case "column":
+			pr.Column, err = p.scalar(v, "column")
+		case "categorical":
+			pr.Categorical, err = p.boolean(v, "categorical")
+		case "reference":
+			pr.Reference, err = p.scalar(v, "reference")
+			pr.HasReference = true
+		case "levels":
+			pr.Levels, err = p.coefMap(v, "levels")
+		case "coef":
+			pr.Coef, err = p.number(v, "coef")
+			pr.HasCoef = true
+		case "coefs":
+			pr.Coefs, err = p.coefMap(v, "coefs")
+		case "center":
+			pr.Center, err = p.number(v, "center")
+		case "scale":
+			pr.Scale, err = p.number(v, "scale")
+			if err == nil && pr.Scale <= 0 {
+				err = p.errf(v, "scale must be positive")
+			}
+		case "log":
+			pr.Log, err = p.boolean(v, "log")
+		case "powers":
+			pr.Powers, err = p.numbers(v, "powers")
+			if err == nil && (len(pr.Powers) < 1 || len(pr.Powers) > 2) {
+				err = p.errf(v, "powers takes one or two fractional-polynomial powers")
+			}
+		case "spline":
+			pr.Spline, err = p.spline(v)
+		case "product":
+			if v.Kind != yaml.SequenceNode || len(v.Content) != 2 {
+				return p.errf(v, "product takes a list of two predictor columns")
+			}
+			for _, c := range v.Content {
+				s, err := p.scalar(c, "product")
+				if err != nil {
+					return err
+				}
+				pr.Product = append(pr.Product, s)
+			}
+		}
+		return err
+	})
+	if err != nil {
+		return pr, err
+	}
+	return pr, p.checkPredictor(n, &pr)
+}
+
+func (p *specParser) checkPredictor(n *yaml.Node, pr *Predictor) error {
+	if pr.Product != nil {
+		if pr.Column != "" || pr.Categorical || pr.Log || pr.Powers != nil || pr.Spline != nil || pr.Center != 0 || pr.Scale != 1 || pr.Levels != nil || pr.HasReference {
+			return p.errf(n, "a product entry takes only product and its coefficients (coef or coefs)")
+		}
+		return nil
+	}
+	if pr.Column == "" {
+		return p.errf(n, "a predictor needs a column (or a product)")
+	}
+	if pr.Categorical {
+		if pr.Log || pr.Powers != nil || pr.Spline != nil || pr.Center != 0 || pr.Scale != 1 || pr.HasCoef || pr.Coefs != nil {
+			return p.errf(n, "categorical predictor %q takes only reference and levels", pr.Column)
+		}
+		return nil
+	}
+	if pr.HasReference || pr.Levels != nil {
+		return p.errf(n, "predictor %q has reference or levels but is not categorical (add categorical: true)", pr.Column)
+	}
+	ways := 0
+	for _, b := range []bool{pr.Log, pr.Powers != nil, pr.Spline != nil} {
+		if b {
+			ways++
+		}
+	}
+	if ways > 1 {
+		return p.errf(n, "predictor %q: choose one of log, powers and spline", pr.Column)
+	}
+	return nil
+}
+
+func (p *specParser) numbers(v *yaml.Node, key string) ([]float64, error) {
+	if v.Kind != yaml.SequenceNode {
+		return nil, p.errf(v, "%s must be a list of numbers", key)
+	}
+	out := make([]float64, 0, len(v.Content))
+	for _, c := range v.Content {
+		f, err := p.number(c, key)
+		if err != nil {
+			return nil, err
+		}
+		out = append(out, f)
+	}
+	return out, nil
+}
+
+func (p *specParser) coefMap(v *yaml.Node, key string) ([]Coef, error) {
+	if v.Kind != yaml.MappingNode {
+		return nil, p.errf(v, "%s must map each term to its coefficient", key)
+	}
+	var out []Coef
+	seen := map[string]bool{}
+	for i := 0; i+1 < len(v.Content); i += 2 {
+		k, val := v.Content[i], v.Content[i+1]
+		if seen[k.Value] {
+			return nil, p.errf(k, "%q appears twice in %s", k.Value, key)
+		}
+		seen[k.Value] = true
+		f, err := p.number(val, fmt.Sprintf("%s of %q", key, k.Value))
+		if err != nil {
+			return nil, err
+		}
+		out = append(out, Coef{Term: k.Value, Value: f, Line: k.Line})
+	}
+	return out, nil
+}
+
+func (p *specParser) spline(n *yaml.Node) (*Spline, error) {
+	sp := &Spline{Normalise: "outer-range"}
+	err := p.fields(n, "spline", []string{"knots", "normalise"}, func(key string, k, v *yaml.Node) error {
+		switch key {
+		case "knots":
+			if v.Kind == yaml.ScalarNode {
+				c, err := strconv.Atoi(v.Value)
+				if err != nil || c < 3 || c > 7 {
+					return p.errf(v, "knots must be a list of positions or a count from 3 to 7, not %q", v.Value)
+				}
+				sp.Count = c
+				return nil
+			}
+			ks, err := p.numbers(v, "knots")
+			if err != nil {
+				return err
+			}
+			if len(ks) < 3 {
+				return p.errf(v, "a restricted cubic spline needs at least 3 knots")
+			}
+			for i := 1; i < len(ks); i++ {
+				if ks[i] <= ks[i-1] {
+					return p.errf(v, "knots must increase strictly")
+				}
+			}
+			sp.Knots = ks
+		case "normalise":
+			s, err := p.scalar(v, "normalise")
+			if err != nil {
+				return err
+			}
+			if s != "outer-range" && s != "none" {
+				return p.errf(v, "normalise must be outer-range or none, not %q", s)
+			}
+			sp.Normalise = s
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	if sp.Knots == nil && sp.Count == 0 {
+		return nil, p.errf(n, "spline needs knots")
+	}
+	return sp, nil
+}
+
+func (p *specParser) provenance(n *yaml.Node, pv *Provenance) error {
+	keys := []string{"data_file", "data_sha256", "rows_used", "events", "fitted_at", "tool_version", "method", "recipe_file"}
+	return p.fields(n, "provenance", keys, func(key string, k, v *yaml.Node) error {
+		s, err := p.scalar(v, key)
+		if err != nil {
+			return err
+		}
+		switch key {
+		case "rows_used", "events":
+			n, err := strconv.Atoi(s)
+			if err != nil {
+				return p.errf(v, "%s must be a whole number", key)
+			}
+			if key == "rows_used" {
+				pv.RowsUsed = n
+			} else {
+				pv.Events = n
+			}
+		case "data_file":
+			pv.DataFile = s
+		case "data_sha256":
+			pv.DataSHA256 = s
+		case "fitted_at":
+			pv.FittedAt = s
+		case "tool_version":
+			pv.ToolVersion = s
+		case "method":
+			pv.Method = s
+		case "recipe_file":
+			pv.RecipeFile = s
+		}
+		return nil
+	})
+}
+
+// check applies the rules that involve more than one key.
+func (s *Spec) check(p *specParser) error {
+	seen := map[string]int{}
+	kinds := map[string]bool{}
+	for i := range s.Predictors {
+		pr := &s.Predictors[i]
+		if pr.Column == s.Outcome.Column && pr.Column != "" {
+			return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("the outcome column %q cannot be a predictor", pr.Column)}
+		}
+		if pr.Column != "" {
+			if cat, ok := kinds[pr.Column]; ok && cat != pr.Categorical {
+				return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("column %q is both categorical and numeric", pr.Column)}
+			}
+			kinds[pr.Column] = pr.Categorical
+			if _, ok := seen[pr.Column]; !ok {
+				seen[pr.Column] = i
+			}
+		}
+	}
+	for i := range s.Predictors {
+		pr := &s.Predictors[i]
+		for _, c := range pr.Product {
+			j, ok := seen[c]
+			if !ok {
+				return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("product names %q, which is not a predictor of the spec", c)}
+			}
+			if s.Predictors[j].Product != nil {
+				return &SpecError{File: p.file, Line: pr.Line, Msg: "a product cannot contain a product"}
+			}
+		}
+		if pr.Product != nil && pr.Product[0] == pr.Product[1] && s.Predictors[seen[pr.Product[0]]].Categorical {
+			return &SpecError{File: p.file, Line: pr.Line, Msg: "the product of a categorical predictor with itself is not defined"}
+		}
+	}
+	if !s.Frozen() {
+		for _, pr := range s.Predictors {
+			if pr.HasCoef || pr.Levels != nil || pr.Coefs != nil {
+				return &SpecError{File: p.file, Line: pr.Line, Msg: "coefficients are given but the spec has no intercept: a frozen model needs an intercept and every coefficient"}
+			}
+		}
+		return nil
+	}
+	for _, pr := range s.Predictors {
+		if pr.Spline != nil && pr.Spline.Knots == nil {
+			return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("frozen predictor %q needs its spline knot positions", pr.Column)}
+		}
+		if pr.Categorical && !pr.HasReference {
+			return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("frozen categorical predictor %q needs its reference level", pr.Column)}
+		}
+	}
+	return nil
+}
+
+// Columns returns the cohort columns the spec reads: the outcome (as
+// categorical text) when withOutcome, then each predictor column once.
+func (s *Spec) Columns(withOutcome bool) []cohort.Request {
+	var reqs []cohort.Request
+	seen := map[string]bool{}
+	if withOutcome {
+		reqs = append(reqs, cohort.Request{Name: s.Outcome.Column, Kind: cohort.Categorical})
+		seen[s.Outcome.Column] = true
+	}
+	for _, pr := range s.Predictors {
+		if pr.Column == "" || seen[pr.Column] {
+			continue
+		}
+		seen[pr.Column] = true
+		k := cohort.Numeric
+		if pr.Categorical {
+			k = cohort.Categorical
+		}
+		reqs = append(reqs, cohort.Request{Name: pr.Column, Kind: k})
+	}
+	return reqs
+}

@@ -1,0 +1,184 @@
+#!/usr/bin/python3
+"""Writes the open datasets under testdata/open and the reference values in
+testdata/reference/fits.json, from general-purpose libraries:
+
+  statsmodels (Logit)     coefficients, standard errors, z, p, confidence
+                          intervals, log-likelihoods, AIC, BIC
+  scipy (stats.chi2)      chi-square tails of the likelihood-ratio and
+                          Hosmer-Lemeshow tests
+  numpy                   the design matrices, built here independently of
+                          riskaudit from the formulas of the cited papers
+
+Run it with Debian's python3 (python3-statsmodels, python3-sklearn); .ci/run
+regenerates every file and fails on any difference from the committed copy.
+Numbers are rounded to 12 significant digits so that the last bits of a
+BLAS build cannot make the files differ.
+"""
+import json
+import os
+import sys
+
+import numpy as np
+import scipy.stats
+import statsmodels.api as sm
+from sklearn.datasets import load_breast_cancer
+from statsmodels.datasets import spector
+
+HERE = os.path.dirname(os.path.abspath(__file__))
+OPEN = os.path.join(HERE, "..", "open")
+
+
+def r12(x):
+    """Round to 12 significant digits (plain floats for JSON)."""
+    if isinstance(x, (list, tuple, np.ndarray)):
+        return [r12(v) for v in x]
+    x = float(x)
+    if x == 0 or not np.isfinite(x):
+        return x
+    return float(f"{x:.12g}")
+
+
+def write_open_data():
+    """Copies the datasets that Debian's packages carry into CSV files."""
+    d = spector.load_pandas().data
+    with open(os.path.join(OPEN, "spector.csv"), "w") as f:
+        f.write("gpa,tuce,psi,grade\n")
+        for _, r in d.iterrows():
+            f.write(f"{r.GPA:g},{int(r.TUCE)},{int(r.PSI)},{int(r.GRADE)}\n")
+    bc = load_breast_cancer()
+    cols = ["mean radius", "mean texture", "mean smoothness", "mean concave points", "mean area"]
+    idx = [list(bc.feature_names).index(c) for c in cols]
+    with open(os.path.join(OPEN, "wdbc.csv"), "w") as f:
+        f.write(",".join(c.replace(" ", "_") for c in cols) + ",diagnosis\n")
+        for row, t in zip(bc.data, bc.target):
+            vals = ",".join(repr(float(row[i])) for i in idx)
+            f.write(f"{vals},{'M' if t == 0 else 'B'}\n")
+
+
+def load_csv(name):
+    import csv
+    with open(os.path.join(OPEN, name)) as f:
+        rows = list(csv.DictReader(f))
+    return rows
+
+
+def rcs(x, knots, norm=True):
+    """Restricted cubic spline basis (Durrleman & Simon 1989), written out
+    from the paper's truncated-power formula; columns x, x', x'', ..."""
+    t = np.asarray(knots, float)
+    k = len(t)
+    pos3 = lambda u: np.where(u > 0, u, 0.0) ** 3
+    cols = [x]
+    div = (t[-1] - t[0]) ** 2 if norm else 1.0
+    for j in range(k - 2):
+        v = (pos3(x - t[j])
+             - pos3(x - t[k - 2]) * (t[k - 1] - t[j]) / (t[k - 1] - t[k - 2])
+             + pos3(x - t[k - 1]) * (t[k - 2] - t[j]) / (t[k - 1] - t[k - 2]))
+        cols.append(v / div)
+    return cols
+
+
+def hosmer_lemeshow(y, p, g, development):
+    """The grouping rule of riskaudit's issue 2, transcribed directly: sort
+    stably by risk, group k starts at floor(k*n/g), a start inside a run of
+    ties moves forward past it, empty groups are dropped."""
+    n = len(p)
+    order = np.argsort(p, kind="stable")
+    ps = p[order]
+    starts = []
+    for k in range(g):
+        s = k * n // g
+        while 0 < s < n and ps[s] == ps[s - 1]:
+            s += 1
+        if starts and s <= starts[-1]:
+            continue
+        starts.append(s)
+    starts.append(n)
+    stat, groups = 0.0, 0
+    for a, b in zip(starts[:-1], starts[1:]):
+        if a >= b:
+            continue
+        rows = order[a:b]
+        o, e, m = y[rows].sum(), p[rows].sum(), b - a
+        stat += (o - e) ** 2 / (e * (1 - e / m))
+        groups += 1
+    df = groups - 2 if development else groups
+    return {"statistic": r12(stat), "df": df, "groups": groups,
+            "p": r12(scipy.stats.chi2.sf(stat, df))}
+
+
+def fit(name, X, y, terms):
+    res = sm.Logit(y, X).fit(method="newton", tol=1e-12, maxiter=100, disp=False)
+    ci = np.asarray(res.conf_int(alpha=0.05))
+    n, k = X.shape
+    llf, llnull = res.llf, res.llnull
+    cs = 1 - np.exp(2 * (llnull - llf) / n)
+    nagelkerke = cs / (1 - np.exp(2 * llnull / n))
+    p = res.predict(X)
+    out = {
+        "n": int(n), "events": int(y.sum()),
+        "terms": [{"term": t, "coef": r12(b), "se": r12(s), "z": r12(z), "p": r12(pv),
+                   "odds_ratio": r12(np.exp(b)), "or_ci": r12(np.exp(c))}
+                  for t, b, s, z, pv, c in zip(terms, res.params, res.bse, res.tvalues, res.pvalues, ci)],
+        "neg2ll": r12(-2 * llf), "null_neg2ll": r12(-2 * llnull),
+        "lr_chi2": r12(res.llr), "lr_df": int(res.df_model), "lr_p": r12(res.llr_pvalue),
+        "aic": r12(res.aic), "bic": r12(-2 * llf + np.log(n) * k),
+        "nagelkerke_r2": r12(nagelkerke),
+        "hosmer_lemeshow": hosmer_lemeshow(y, p, 10, True),
+        "hosmer_lemeshow_external": hosmer_lemeshow(y, p, 10, False),
+    }
+    return out, res
+
+
+def main():
+    write_open_data()
+    ref = {"_source": "testdata/reference/make_reference.py (statsmodels Logit, scipy.stats)", "fits": {}}
+
+    sp = load_csv("spector.csv")
+    gpa = np.array([float(r["gpa"]) for r in sp])
+    tuce = np.array([float(r["tuce"]) for r in sp])
+    psi = np.array([float(r["psi"]) for r in sp])
+    grade = np.array([float(r["grade"]) for r in sp])
+    one = np.ones_like(gpa)
+
+    X = np.column_stack([one, gpa, tuce, psi])
+    ref["fits"]["spector"], full = fit("spector", X, grade, ["intercept", "gpa", "tuce", "psi"])
+    ref["fits"]["spector_psi_categorical"], _ = fit("spector_psi_categorical", X, grade, ["intercept", "gpa", "tuce", "psi=1"])
+    Xr = np.column_stack([one, gpa])
+    ref["fits"]["spector_gpa"], red = fit("spector_gpa", Xr, grade, ["intercept", "gpa"])
+    lr = 2 * (full.llf - red.llf)
+    ref["nested_spector"] = {"lr_chi2": r12(lr), "df": 2, "p": r12(scipy.stats.chi2.sf(lr, 2)),
+                             "aic_difference": r12(full.aic - red.aic)}
+
+    bc = load_csv("wdbc.csv")
+    col = lambda c: np.array([float(r[c]) for r in bc])
+    radius, texture, smooth, concave, area = (col(c) for c in
+        ["mean_radius", "mean_texture", "mean_smoothness", "mean_concave_points", "mean_area"])
+    y = np.array([1.0 if r["diagnosis"] == "M" else 0.0 for r in bc])
+    one = np.ones_like(y)
+    X = np.column_stack([one, radius, texture, smooth, concave])
+    ref["fits"]["wdbc_linear"], _ = fit("wdbc_linear", X, y,
+        ["intercept", "mean_radius", "mean_texture", "mean_smoothness", "mean_concave_points"])
+
+    # Transforms: radius centred and scaled, a 4-knot spline of texture, a
+    # fractional polynomial of smoothness with a repeated power, log area,
+    # and the product of scaled radius with the texture spline.
+    zr = (radius - 14.0) / 3.5
+    sp_cols = rcs(texture, [15.0, 18.5, 22.0, 27.0])
+    zs = smooth / 0.1
+    fp = [zs ** -1.0, zs ** -1.0 * np.log(zs)]
+    la = np.log(area / 500.0)
+    prod = [zr * c for c in sp_cols]
+    X = np.column_stack([one, zr] + sp_cols + fp + [la] + prod)
+    terms = (["intercept", "mean_radius", "mean_texture", "mean_texture'", "mean_texture''",
+              "mean_smoothness^-1", "mean_smoothness^-1*log(mean_smoothness)", "log(mean_area)"]
+             + ["mean_radius*" + t for t in ["mean_texture", "mean_texture'", "mean_texture''"]])
+    ref["fits"]["wdbc_transforms"], _ = fit("wdbc_transforms", X, y, terms)
+
+    with open(os.path.join(HERE, "fits.json"), "w") as f:
+        json.dump(ref, f, indent=1, sort_keys=True)
+        f.write("\n")
+
+
+if __name__ == "__main__":
+    sys.exit(main())
