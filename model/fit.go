@@ -100,6 +100,18 @@ func Fit(d *Design, m *Matrix, opt FitOptions) (*Fitted, error) {
 	return f, nil
 }
 
+// FitError says that the model could not be fitted (collinear terms, no
+// convergence); separation has its own SeparationError.
+type FitError struct {
+	Msg string
+	Err error
+}
+
+func (e *FitError) Error() string { return e.Msg }
+
+// Unwrap returns the underlying error.
+func (e *FitError) Unwrap() error { return e.Err }
+
 func explainFitError(err error, terms []string) error {
 	var se *logistic.SeparationError
 	if errors.As(err, &se) {
@@ -117,10 +129,10 @@ func explainFitError(err error, terms []string) error {
 		for _, c := range ce.Columns {
 			names = append(names, terms[c])
 		}
-		return fmt.Errorf("the terms %s are linearly dependent (one is a combination of the others); drop one", strings.Join(names, ", "))
+		return &FitError{Msg: fmt.Sprintf("the terms %s are linearly dependent (one is a combination of the others); drop one; no model was written", strings.Join(names, ", ")), Err: err}
 	}
 	if errors.Is(err, logistic.ErrNotConverged) {
-		return fmt.Errorf("the fit did not converge: %w; no model was written", err)
+		return &FitError{Msg: fmt.Sprintf("the fit did not converge (%v); no model was written", err), Err: err}
 	}
 	return err
 }

@@ -1,9 +1,11 @@
 package model
 
 import (
+	"bytes"
 	"fmt"
 	"math"
 	"strconv"
+	"strings"
 
 	"go.yaml.in/yaml/v3"
 
@@ -165,7 +167,16 @@ func (s *Spec) MarshalYAML() ([]byte, error) {
 		add(root, "provenance", p)
 	}
 	doc := &yaml.Node{Kind: yaml.DocumentNode, Content: []*yaml.Node{root}}
-	return yaml.Marshal(doc)
+	var b bytes.Buffer
+	enc := yaml.NewEncoder(&b)
+	enc.SetIndent(2)
+	if err := enc.Encode(doc); err != nil {
+		return nil, err
+	}
+	if err := enc.Close(); err != nil {
+		return nil, err
+	}
+	return b.Bytes(), nil
 }
 
 func predictorNode(pr *Predictor) *yaml.Node {
@@ -233,9 +244,19 @@ func add(m *yaml.Node, key string, v *yaml.Node) {
 	m.Content = append(m.Content, str(key), v)
 }
 
-// str is a string scalar, quoted when YAML would read it as another type.
+// str is a string scalar, quoted when a YAML 1.2 or 1.1 reader would
+// take it for another type (1.1 readers take yes, no, on and off for
+// booleans).
 func str(s string) *yaml.Node {
-	return &yaml.Node{Kind: yaml.ScalarNode, Tag: "!!str", Value: s}
+	n := &yaml.Node{Kind: yaml.ScalarNode, Tag: "!!str", Value: s}
+	switch strings.ToLower(s) {
+	case "y", "n", "yes", "no", "on", "off", "true", "false", "null", "~", "":
+		n.Style = yaml.DoubleQuotedStyle
+	}
+	if _, err := strconv.ParseFloat(s, 64); err == nil {
+		n.Style = yaml.DoubleQuotedStyle
+	}
+	return n
 }
 
 func val(v Value) *yaml.Node {

@@ -633,3 +633,18 @@ func (s *Spec) Columns(withOutcome bool) []cohort.Request {
 	}
 	return reqs
 }
+
+// AsRecipe returns the spec without its coefficients: the terms of a
+// frozen model, to be fitted again. Reference levels and knot positions
+// are kept.
+func (s *Spec) AsRecipe() *Spec {
+	r := *s
+	r.Intercept, r.HasIntercept = 0, false
+	r.Provenance = nil
+	r.Predictors = make([]Predictor, len(s.Predictors))
+	for i, pr := range s.Predictors {
+		pr.Coef, pr.HasCoef, pr.Coefs, pr.Levels = 0, false, nil, nil
+		r.Predictors[i] = pr
+	}
+	return &r
+}

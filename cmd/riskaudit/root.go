@@ -1,0 +1,134 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"runtime/debug"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/model"
+)
+
+// version is set at build time with -ldflags "-X main.version=…"; a
+// build from a module version reports that version.
+var version = "0.1.0-dev"
+
+func toolVersion() string {
+	if version != "0.1.0-dev" {
+		return version
+	}
+	if bi, ok := debug.ReadBuildInfo(); ok && bi.Main.Version != "" && bi.Main.Version != "(devel)" {
+		return bi.Main.Version
+	}
+	return version
+}
+
+// Exit statuses, documented in the root command's help and the README.
+const (
+	exitOK          = 0
+	exitCriterion   = 1 // reserved: an audit ran and a criterion failed
+	exitUsage       = 2
+	exitBadInput    = 3
+	exitCannotFit   = 4
+	exitOtherFailed = 5
+)
+
+// streams are the command's output streams, with whether each is a
+// terminal: progress and decoration only go to a terminal.
+type streams struct {
+	out, err       io.Writer
+	outTTY, errTTY bool
+}
+
+func newStreams(out, err *os.File) *streams {
+	return &streams{out: out, err: err, outTTY: isTerminal(out), errTTY: isTerminal(err)}
+}
+
+func isTerminal(f *os.File) bool {
+	st, err := f.Stat()
+	return err == nil && st.Mode()&os.ModeCharDevice != 0
+}
+
+// usageError marks a mistake in the command line.
+type usageError struct{ msg string }
+
+func (e *usageError) Error() string { return e.msg }
+
+func usagef(format string, args ...any) error { return &usageError{fmt.Sprintf(format, args...)} }
+
+const rootLong = `riskaudit audits logistic-regression risk models for a yes/no clinical
+outcome: it fits a model recipe on a development extract into a frozen
+model with published coefficients, scores new cohorts with a frozen model,
+and (in later releases) measures discrimination, calibration, accuracy and
+net benefit on a new cohort.
+
+Start with 'riskaudit demo --out demo' to see every step on invented data.
+
+Exit status:
+  0  success
+  1  an audit ran and a criterion failed (reserved for audits)
+  2  wrong usage: an unknown flag, a missing argument
+  3  bad input: a data file or model spec that cannot be used as it is
+  4  the model cannot be fitted: separation, collinear terms, no convergence
+  5  any other failure, such as an output file that cannot be written`
+
+func newRootCmd(s *streams) *cobra.Command {
+	root := &cobra.Command{
+		Use:           "riskaudit",
+		Short:         "Audit clinical risk models on development data and new cohorts",
+		Long:          rootLong,
+		Version:       toolVersion(),
+		SilenceErrors: true,
+		SilenceUsage:  true,
+	}
+	root.SetOut(s.out)
+	root.SetErr(s.err)
+	root.SetVersionTemplate("riskaudit {{.Version}}\n")
+	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
+		return &usageError{err.Error() + " (see '" + c.CommandPath() + " --help')"}
+	})
+	root.AddCommand(newFitCmd(s), newScoreCmd(s), newDemoCmd(s))
+	return root
+}
+
+// run executes the command line and returns the exit status.
+func run(args []string, s *streams) int {
+	root := newRootCmd(s)
+	root.SetArgs(args)
+	err := root.Execute()
+	if err == nil {
+		return exitOK
+	}
+	code := exitCode(err)
+	msg := err.Error()
+	if code == exitUsage && !strings.Contains(msg, "--help") {
+		msg += " (see 'riskaudit --help')"
+	}
+	fmt.Fprintf(s.err, "riskaudit: %s\n", msg)
+	return code
+}
+
+func exitCode(err error) int {
+	var ue *usageError
+	var ce *cohort.Error
+	var se *model.SpecError
+	var sep *model.SeparationError
+	var fe *model.FitError
+	switch {
+	case errors.As(err, &ue):
+		return exitUsage
+	case errors.As(err, &sep), errors.As(err, &fe):
+		return exitCannotFit
+	case errors.As(err, &ce), errors.As(err, &se):
+		return exitBadInput
+	case strings.HasPrefix(err.Error(), "unknown command"), strings.HasPrefix(err.Error(), "unknown flag"),
+		strings.Contains(err.Error(), "required flag"), strings.HasPrefix(err.Error(), "accepts "):
+		return exitUsage
+	}
+	return exitOtherFailed
+}

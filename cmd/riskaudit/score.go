@@ -1,0 +1,162 @@
+package main
+
+import (
+	"bytes"
+	"fmt"
+	"math"
+	"slices"
+	"strconv"
+
+	"github.com/spf13/cobra"
+
+	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/atomicfile"
+	"github.com/riskaudit/riskaudit/model"
+)
+
+// The columns score appends.
+const (
+	lpColumn   = "ra_linear_predictor"
+	riskColumn = "ra_predicted_risk"
+)
+
+type scoreOptions struct {
+	data     dataFlags
+	model    string
+	dataFile string
+	out      string
+	quiet    bool
+}
+
+func newScoreCmd(s *streams) *cobra.Command {
+	o := &scoreOptions{}
+	c := &cobra.Command{
+		Use:   "score --model FROZEN --data FILE --out FILE",
+		Short: "Append a frozen model's linear predictor and predicted risk to every row",
+		Long: `Score a cohort with a frozen model. The output has every input row exactly
+as it was, in the same order and with the same delimiter, followed by two
+columns: ` + lpColumn + ` (intercept + Σ coefficient × term) and
+` + riskColumn + ` (1 / (1 + exp(−linear predictor))). A row missing a
+value the model needs gets two empty fields (or, with --missing fail,
+stops the run). The outcome column is not needed.`,
+		Example: `  # Score a new extract with the frozen model
+  riskaudit score --model frozen.yaml --data new.csv --out scored.csv
+
+  # A tab-separated extract in which -99 means missing
+  riskaudit score --model frozen.yaml --data new.tsv --na-values=-99 --out scored.tsv`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error { return runScore(o, s) },
+	}
+	f := c.Flags()
+	f.StringVar(&o.model, "model", "", "frozen model (YAML with an intercept and every coefficient)")
+	f.StringVar(&o.dataFile, "data", "", "cohort to score (CSV or TSV with a header row)")
+	f.StringVar(&o.out, "out", "", "where to write the scored rows")
+	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
+	o.data.register(f)
+	for _, name := range []string{"model", "data", "out"} {
+		_ = c.MarkFlagRequired(name)
+	}
+	_ = c.MarkFlagFilename("model", "yaml", "yml")
+	_ = c.MarkFlagFilename("data", "csv", "tsv", "txt")
+	return c
+}
+
+func runScore(o *scoreOptions, s *streams) error {
+	if err := checkNotInput(o.out, o.dataFile, o.model); err != nil {
+		return err
+	}
+	copt, err := o.data.cohortOptions()
+	if err != nil {
+		return err
+	}
+	fail, err := o.data.failOnMissing()
+	if err != nil {
+		return err
+	}
+	spec, err := model.LoadSpec(o.model)
+	if err != nil {
+		return err
+	}
+	if !spec.Frozen() {
+		return &model.SpecError{File: o.model, Msg: "this is a recipe (it has no intercept): fit it first with 'riskaudit fit'"}
+	}
+	copt.KeepRecords = true
+	fr, err := cohort.Load(o.dataFile, spec.Columns(false), copt)
+	if err != nil {
+		return err
+	}
+	for _, name := range []string{lpColumn, riskColumn} {
+		if slices.Contains(fr.Header, name) {
+			return &cohort.Error{File: o.dataFile, Line: 1, Column: name, Msg: "the file already has this column, which score would append; rename it or score the original extract"}
+		}
+	}
+	d, m, err := model.Build(spec, fr, model.Options{FailOnMissing: fail})
+	if err != nil {
+		return err
+	}
+	beta, err := d.Coefficients()
+	if err != nil {
+		return err
+	}
+	lp := make([]float64, fr.Rows)
+	for i := range lp {
+		lp[i] = math.NaN()
+	}
+	for r, v := range model.LinearPredictors(m, beta) {
+		lp[m.Rows[r]] = v
+	}
+	out := scoredCSV(fr, lp, copt.DecimalComma)
+	if err := atomicfile.WriteFile(o.out, out); err != nil {
+		return err
+	}
+	if !o.quiet {
+		fmt.Fprintf(s.out, "Scored %d of %d rows of %s with %s", m.N, fr.Rows, o.dataFile, o.model)
+		if m.Excluded > 0 {
+			fmt.Fprintf(s.out, "; %d rows left unscored for missing values (%s)", m.Excluded, describeExclusions(m.ByColumn))
+		}
+		fmt.Fprintf(s.out, "\nWrote %s\n", o.out)
+	}
+	return nil
+}
+
+// scoredCSV writes every record as read, followed by the linear predictor
+// and the risk (empty where the row was not scored).
+func scoredCSV(fr *cohort.Frame, lp []float64, decimalComma bool) []byte {
+	var b bytes.Buffer
+	b.Grow(len(fr.HeaderRecord()) * (fr.Rows + 1) * 2)
+	d := fr.Delimiter
+	b.Write(fr.HeaderRecord())
+	b.WriteByte(d)
+	b.WriteString(lpColumn)
+	b.WriteByte(d)
+	b.WriteString(riskColumn)
+	b.WriteByte('\n')
+	buf := make([]byte, 0, 64)
+	for i := 0; i < fr.Rows; i++ {
+		b.Write(fr.Record(i))
+		b.WriteByte(d)
+		if !math.IsNaN(lp[i]) {
+			b.Write(number(buf[:0], lp[i], decimalComma))
+			b.WriteByte(d)
+			b.Write(number(buf[:0], model.Risk(lp[i]), decimalComma))
+		} else {
+			b.WriteByte(d)
+		}
+		b.WriteByte('\n')
+	}
+	return b.Bytes()
+}
+
+// number formats v in the shortest form that reads back exactly, with a
+// decimal comma when asked.
+func number(buf []byte, v float64, decimalComma bool) []byte {
+	buf = strconv.AppendFloat(buf, v, 'g', -1, 64)
+	if decimalComma {
+		for i, c := range buf {
+			if c == '.' {
+				buf[i] = ','
+			}
+		}
+	}
+	return buf
+}

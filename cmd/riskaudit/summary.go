@@ -1,0 +1,95 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"strings"
+
+	"github.com/riskaudit/riskaudit/model"
+)
+
+// fmtP writes a p-value with four decimals, or as "<0.0001".
+func fmtP(p float64) string {
+	switch {
+	case math.IsNaN(p):
+		return "n/a"
+	case p < 0.0001:
+		return "<0.0001"
+	}
+	return fmt.Sprintf("%.4f", p)
+}
+
+// fmtG writes a number with about four significant digits.
+func fmtG(v float64) string {
+	a := math.Abs(v)
+	switch {
+	case a != 0 && (a < 0.001 || a >= 1e6):
+		return fmt.Sprintf("%.3e", v)
+	case a >= 1000:
+		return fmt.Sprintf("%.1f", v)
+	}
+	return fmt.Sprintf("%.4f", v)
+}
+
+func writeFitSummary(w io.Writer, r *fitRun, o *fitOptions) {
+	st := r.fitted.Stats
+	spec := r.fitted.Design.Spec
+	name := spec.Name
+	if name == "" {
+		name = o.model
+	}
+	fmt.Fprintf(w, "Fitted: %s\n", name)
+	if r.refit {
+		fmt.Fprintf(w, "  (%s is a frozen model: its terms were refitted as a recipe)\n", o.model)
+	}
+	fmt.Fprintf(w, "  data        %s (SHA-256 %s…)\n", o.dataFile, r.hash[:16])
+	fmt.Fprintf(w, "  rows        %d read, %d used, %d left out for missing values", st.RowsRead, st.N, st.Excluded)
+	if len(st.ByColumn) > 0 {
+		var parts []string
+		for _, e := range st.ByColumn {
+			parts = append(parts, fmt.Sprintf("%s %d", e.Column, e.Rows))
+		}
+		fmt.Fprintf(w, " (%s)", strings.Join(parts, ", "))
+	}
+	fmt.Fprintln(w)
+	fmt.Fprintf(w, "  events      %d of %d (%.1f%%), outcome %s = %s\n", st.Events, st.N,
+		100*float64(st.Events)/float64(st.N), spec.Outcome.Column, spec.Outcome.Event.Text)
+	fmt.Fprintf(w, "  method      %s, %d Newton steps\n\n", st.Method, st.Iterations)
+
+	width := len("term")
+	for _, t := range st.Terms {
+		width = max(width, len([]rune(t.Term)))
+	}
+	fmt.Fprintf(w, "  %-*s  %10s  %9s  %7s  %8s  %10s  %s\n", width, "term", "coef", "SE", "z", "p", "odds ratio", "95% CI")
+	for _, t := range st.Terms {
+		pad := width - len([]rune(t.Term)) + len(t.Term)
+		fmt.Fprintf(w, "  %-*s  %10s  %9s  %7.2f  %8s  %10s  %s – %s\n", pad, t.Term, fmtG(t.Coef), fmtG(t.SE), t.Z, fmtP(t.P),
+			fmtG(t.OddsRatio), fmtG(t.ORCI[0]), fmtG(t.ORCI[1]))
+	}
+	fmt.Fprintln(w)
+	fmt.Fprintf(w, "  −2 log-likelihood   %.3f (intercept only %.3f)\n", st.Neg2LL, st.NullNeg2LL)
+	fmt.Fprintf(w, "  likelihood ratio    χ² %.3f on %d df, p %s\n", st.LRChi2, st.LRDF, fmtP(st.LRP))
+	fmt.Fprintf(w, "  AIC %.3f   BIC %.3f   Nagelkerke R² %.4f\n", st.AIC, st.BIC, st.NagelkerkeR2)
+	fmt.Fprintf(w, "  Hosmer–Lemeshow     %.3f on %d df, p %s (%d risk groups)\n", st.HL.Statistic, st.HL.DF, fmtP(st.HL.P), st.HL.Groups)
+	if n := r.nested; n != nil {
+		fmt.Fprintf(w, "\n  Nested comparison with %s, on the same %d rows\n", o.reduced, n.Rows)
+		fmt.Fprintf(w, "    added terms        %s\n", strings.Join(n.Added, ", "))
+		fmt.Fprintf(w, "    likelihood ratio   χ² %.3f on %d df, p %s\n", n.LRChi2, n.DF, fmtP(n.P))
+		fmt.Fprintf(w, "    AIC difference     %.3f (full − reduced; negative favours the full model)\n", n.AICDifference)
+	}
+	fmt.Fprintf(w, "\nWrote %s", o.out)
+	if o.jsonOut != "" {
+		fmt.Fprintf(w, " and %s", o.jsonOut)
+	}
+	fmt.Fprintln(w)
+}
+
+// describeExclusions lists the columns behind left-out rows.
+func describeExclusions(ex []model.Exclusion) string {
+	var parts []string
+	for _, e := range ex {
+		parts = append(parts, fmt.Sprintf("%s %d", e.Column, e.Rows))
+	}
+	return strings.Join(parts, ", ")
+}
