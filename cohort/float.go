@@ -29,30 +29,31 @@ func parseFloat(s []byte, dec byte) (float64, bool) {
 		i++
 	}
 	var mant uint64
-	start := i
-	for i < n {
-		c := s[i] - '0'
+	digits := 0
+	for _, ch := range s[i:] {
+		c := ch - '0'
 		if c > 9 {
 			break
 		}
 		mant = mant*10 + uint64(c)
-		i++
+		digits++
 	}
-	digits := i - start
+	i += digits
 	exp := 0
 	if i < n && s[i] == dec {
 		i++
-		fs := i
-		for i < n {
-			c := s[i] - '0'
+		frac := 0
+		for _, ch := range s[i:] {
+			c := ch - '0'
 			if c > 9 {
 				break
 			}
 			mant = mant*10 + uint64(c)
-			i++
+			frac++
 		}
-		exp = fs - i
-		digits += i - fs
+		i += frac
+		exp = -frac
+		digits += frac
 	}
 	if digits == 0 {
 		return 0, false

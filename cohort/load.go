@@ -127,9 +127,17 @@ func (f *Frame) HeaderRecord() []byte {
 }
 
 // Load reads the requested columns of the file at path. The file is read,
-// never written.
+// never written. Large files are memory-mapped while they are parsed
+// (unless Options.KeepRecords asks for the raw text to be kept).
 func Load(path string, reqs []Request, opt Options) (*Frame, error) {
-	data, err := os.ReadFile(path)
+	var data []byte
+	var err error
+	release := func() {}
+	if opt.KeepRecords {
+		data, err = os.ReadFile(path)
+	} else {
+		data, release, err = mapFile(path)
+	}
 	if err != nil {
 		var pe *os.PathError
 		msg := err.Error()
@@ -138,6 +146,7 @@ func Load(path string, reqs []Request, opt Options) (*Frame, error) {
 		}
 		return nil, &Error{File: path, Msg: "cannot read file: " + msg}
 	}
+	defer release()
 	return Parse(path, data, reqs, opt)
 }
 

@@ -150,8 +150,50 @@ func (p *parser) newPart(fr *Frame, lines []int32, off, n int) *part {
 	return pt
 }
 
-// parse reads records until the scanner's data ends.
+// op is the work for one requested column of every record.
+type op struct {
+	col  int // header position
+	k    int // request index
+	kind Kind
+}
+
+// parse reads records until the scanner's data ends, writing each value
+// straight into the part's column windows.
 func (p *parser) parse(sc *scanner, pt *part) {
+	var ops []op
+	for i, k := range p.plan {
+		if k >= 0 && (pt.num[k] != nil || pt.codes[k] != nil) {
+			ops = append(ops, op{col: i, k: k, kind: p.kinds[i]})
+		}
+	}
+	nums := make([][]float64, p.nreq)
+	codes := make([][]int32, p.nreq)
+	for k := range nums {
+		nums[k] = pt.num[k][:cap(pt.num[k])]
+		codes[k] = pt.codes[k][:cap(pt.codes[k])]
+	}
+	lines := pt.lines[:cap(pt.lines)]
+	// Missing markers are checked before parsing only when one of them
+	// reads as a number (such as -99); otherwise only a field that is
+	// not a number can be a missing marker.
+	missingFirst := false
+	for _, m := range p.missing {
+		if _, ok := parseFloat([]byte(m), p.dec); ok {
+			missingFirst = true
+		}
+	}
+	row := 0
+	defer func() {
+		pt.lines = lines[:row]
+		for k := range nums {
+			if pt.num[k] != nil {
+				pt.num[k] = nums[k][:row]
+			}
+			if pt.codes[k] != nil {
+				pt.codes[k] = codes[k][:row]
+			}
+		}
+	}()
 	for {
 		line, from, to, ok, err := sc.next()
 		if err != nil {
@@ -166,46 +208,50 @@ func (p *parser) parse(sc *scanner, pt *part) {
 				Msg: strconv.Itoa(len(sc.fields)) + " fields, but the header has " + strconv.Itoa(p.ncol)}
 			return
 		}
-		pt.lines = append(pt.lines, int32(line))
+		lines[row] = int32(line)
 		if p.keep {
 			pt.records = append(pt.records, int64(from), int64(to))
 		}
-		for i, k := range p.plan {
-			if k < 0 || (pt.num[k] == nil && pt.codes[k] == nil) {
+		for _, o := range ops {
+			f := trimSpace(sc.fields[o.col])
+			if o.kind == Numeric {
+				v, ok := 0.0, false
+				if !missingFirst || !p.isMissing(f) {
+					v, ok = parseFloat(f, p.dec)
+				}
+				if !ok {
+					if !p.isMissing(f) {
+						pt.err = p.numberError(f, o.col, line)
+						return
+					}
+					v = math.NaN()
+					pt.missing[o.k]++
+				}
+				nums[o.k][row] = v
 				continue
 			}
-			if err := p.field(pt, k, p.kinds[i], i, line, sc.fields[i]); err != nil {
-				pt.err = err
-				return
-			}
+			codes[o.k][row] = p.level(pt, o.k, f, line)
 		}
+		row++
 	}
 }
 
-func (p *parser) field(pt *part, k int, kind Kind, col, line int, f []byte) error {
-	f = trimSpace(f)
+func (p *parser) numberError(f []byte, col, line int) error {
+	msg := "not a number"
+	if p.dec == '.' && bytes.IndexByte(f, ',') >= 0 {
+		if _, ok := parseFloat(f, ','); ok {
+			msg += " (written with a decimal comma? see --decimal-comma)"
+		}
+	}
+	return &Error{File: p.name, Line: line, Column: p.header[col], Value: string(f), HasValue: true, Msg: msg}
+}
+
+// level returns the part-local code of a categorical field, -1 when it
+// is a missing marker.
+func (p *parser) level(pt *part, k int, f []byte, line int) int32 {
 	if len(f) <= p.maxMiss && p.isMissing(f) {
 		pt.missing[k]++
-		if kind == Numeric {
-			pt.num[k] = append(pt.num[k], math.NaN())
-		} else {
-			pt.codes[k] = append(pt.codes[k], -1)
-		}
-		return nil
-	}
-	if kind == Numeric {
-		v, ok := parseFloat(f, p.dec)
-		if !ok {
-			msg := "not a number"
-			if p.dec == '.' && bytes.IndexByte(f, ',') >= 0 {
-				if _, ok := parseFloat(f, ','); ok {
-					msg += " (written with a decimal comma? see --decimal-comma)"
-				}
-			}
-			return &Error{File: p.name, Line: line, Column: p.header[col], Value: string(f), HasValue: true, Msg: msg}
-		}
-		pt.num[k] = append(pt.num[k], v)
-		return nil
+		return -1
 	}
 	code, ok := pt.levels[k][string(f)]
 	if !ok {
@@ -215,11 +261,13 @@ func (p *parser) field(pt *part, k int, kind Kind, col, line int, f []byte) erro
 		pt.names[k] = append(pt.names[k], s)
 		pt.first[k] = append(pt.first[k], line)
 	}
-	pt.codes[k] = append(pt.codes[k], code)
-	return nil
+	return code
 }
 
 func (p *parser) isMissing(f []byte) bool {
+	if len(f) > p.maxMiss {
+		return false
+	}
 	for _, m := range p.missing {
 		if len(m) == len(f) && string(f) == m {
 			return true

@@ -22,6 +22,16 @@ type reference struct {
 		P       float64 `json:"p"`
 		AICDiff float64 `json:"aic_difference"`
 	} `json:"nested_spector"`
+	Firth refFirth `json:"firth_separated"`
+}
+
+type refFirth struct {
+	Terms []struct {
+		Term string  `json:"term"`
+		Coef float64 `json:"coef"`
+		SE   float64 `json:"se"`
+	} `json:"terms"`
+	PenalizedLogLik float64 `json:"penalized_loglik"`
 }
 
 type refFit struct {
@@ -156,4 +166,36 @@ func TestNestedMatchesStatsmodels(t *testing.T) {
 	if _, err := CompareNested(red, full); err == nil {
 		t.Error("a larger model cannot be nested in a smaller one")
 	}
+}
+
+// TestFirthMatchesDirectMaximisation compares the Firth fit with a direct
+// maximisation of the penalised log-likelihood by scipy.optimize (BFGS) in
+// the reference script, on invented data with quasi-complete separation.
+// BFGS stops near, not at, the optimum, so the tolerance is 1e-6 absolute.
+func TestFirthMatchesDirectMaximisation(t *testing.T) {
+	ref := loadReference(t).Firth
+	spec, err := LoadSpec("../testdata/reference/recipes/separated_firth.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, d, m, err := Load(spec, "../testdata/reference/separated.csv", cohort.Options{}, Options{Outcome: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := Fit(d, m, FitOptions{}); err == nil {
+		t.Fatal("maximum likelihood should report separation")
+	}
+	f, err := Fit(d, m, FitOptions{Firth: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for j, w := range ref.Terms {
+		if f.Matrix.Terms[j] != w.Term {
+			t.Fatalf("term %d is %q, reference %q", j, f.Matrix.Terms[j], w.Term)
+		}
+		if math.Abs(f.Result.Coef[j]-w.Coef) > 1e-6 || math.Abs(f.Result.SE[j]-w.SE) > 1e-6 {
+			t.Errorf("%s: %.9f ± %.9f, reference %.9f ± %.9f", w.Term, f.Result.Coef[j], f.Result.SE[j], w.Coef, w.SE)
+		}
+	}
+	near(t, "penalised log-likelihood", f.Result.PenalizedLogLik, ref.PenalizedLogLik)
 }

@@ -130,6 +130,27 @@ def fit(name, X, y, terms):
     return out, res
 
 
+def firth(X, y, terms):
+    import scipy.optimize
+
+    def negpen(b):
+        eta = X @ b
+        ll = np.sum(y * eta - np.logaddexp(0, eta))
+        mu = 1 / (1 + np.exp(-eta))
+        info = X.T @ (X * (mu * (1 - mu))[:, None])
+        return -(ll + 0.5 * np.linalg.slogdet(info)[1])
+
+    b = np.zeros(X.shape[1])
+    for _ in range(3):  # restart from the optimum to polish it
+        b = scipy.optimize.minimize(negpen, b, method="BFGS", options={"gtol": 1e-11, "maxiter": 10000}).x
+    eta = X @ b
+    mu = 1 / (1 + np.exp(-eta))
+    info = X.T @ (X * (mu * (1 - mu))[:, None])
+    se = np.sqrt(np.diag(np.linalg.inv(info)))
+    return {"terms": [{"term": t, "coef": r12(c), "se": r12(s)} for t, c, s in zip(terms, b, se)],
+            "penalized_loglik": r12(-negpen(b))}
+
+
 def main():
     write_open_data()
     ref = {"_source": "testdata/reference/make_reference.py (statsmodels Logit, scipy.stats)", "fits": {}}
@@ -174,6 +195,20 @@ def main():
               "mean_smoothness^-1", "mean_smoothness^-1*log(mean_smoothness)", "log(mean_area)"]
              + ["mean_radius*" + t for t in ["mean_texture", "mean_texture'", "mean_texture''"]])
     ref["fits"]["wdbc_transforms"], _ = fit("wdbc_transforms", X, y, terms)
+
+    # Firth's penalised likelihood on invented data with quasi-complete
+    # separation: maximise l(b) + 0.5 log det X'W(b)X directly with scipy's
+    # BFGS, a different algorithm from riskaudit's modified-score Newton
+    # iterations (Firth 1993).
+    sep = []
+    with open(os.path.join(HERE, "separated.csv")) as f:
+        next(f)
+        for line in f:
+            score, _, ward, ev = line.strip().split(",")
+            sep.append((float(score), ward, float(ev)))
+    X = np.array([[1.0, s, 1.0 if w == "B" else 0.0, 1.0 if w == "C" else 0.0] for s, w, _ in sep])
+    y = np.array([e for _, _, e in sep])
+    ref["firth_separated"] = firth(X, y, ["intercept", "score", "ward=B", "ward=C"])
 
     with open(os.path.join(HERE, "fits.json"), "w") as f:
         json.dump(ref, f, indent=1, sort_keys=True)

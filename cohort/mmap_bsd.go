@@ -1,0 +1,5 @@
+//go:build darwin || freebsd || netbsd || openbsd
+
+package cohort
+
+const mapPopulate = 0
