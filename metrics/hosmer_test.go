@@ -1,0 +1,41 @@
+package metrics
+
+import (
+	"math"
+	"testing"
+)
+
+func TestHosmerLemeshowTiesStayTogether(t *testing.T) {
+	p := []float64{0.1, 0.1, 0.1, 0.1, 0.1, 0.2, 0.2, 0.2, 0.2, 0.2}
+	y := []float64{0, 0, 1, 0, 0, 1, 0, 0, 1, 0}
+	// With 4 groups the starts 0, 2, 5, 7 move to 0, 5, 5, 10: the runs of
+	// ties become the two groups, and the empty ones are dropped.
+	got := HosmerLemeshow(y, p, 4, false)
+	if got.Groups != 2 || got.Table[0].N != 5 || got.Table[1].N != 5 {
+		t.Fatalf("groups %+v", got.Table)
+	}
+	// Σ (O − E)² / (E (1 − E/n)): group 1 has O=1, E=0.5; group 2 O=2, E=1.
+	want := 0.25/(0.5*0.9) + 1/(1*0.8)
+	if math.Abs(got.Statistic-want) > 1e-12 || got.DF != 2 {
+		t.Errorf("statistic %v df %d, want %v and 2", got.Statistic, got.DF, want)
+	}
+	if dev := HosmerLemeshow(y, p, 4, true); !math.IsNaN(dev.P) || dev.DF != 0 {
+		t.Errorf("with 2 groups on development data df is 0 and p undefined: %+v", dev)
+	}
+}
+
+func TestHosmerLemeshowStableOrder(t *testing.T) {
+	// Row order decides nothing but the order within a tie, so shuffling
+	// rows with distinct risks leaves the result unchanged.
+	p := []float64{0.3, 0.05, 0.6, 0.2, 0.9, 0.4, 0.15, 0.7, 0.5, 0.8, 0.25, 0.35}
+	y := []float64{0, 0, 1, 0, 1, 1, 0, 1, 0, 1, 0, 0}
+	a := HosmerLemeshow(y, p, 3, false)
+	rp, ry := make([]float64, len(p)), make([]float64, len(p))
+	for i := range p {
+		rp[len(p)-1-i], ry[len(p)-1-i] = p[i], y[i]
+	}
+	b := HosmerLemeshow(ry, rp, 3, false)
+	if math.Abs(a.Statistic-b.Statistic) > 1e-12 || a.Groups != b.Groups {
+		t.Errorf("%v vs %v", a, b)
+	}
+}
