@@ -246,6 +246,16 @@ func (p *parser) numberError(f []byte, col, line int) error {
 	return &Error{File: p.name, Line: line, Column: p.header[col], Value: string(f), HasValue: true, Msg: msg}
 }
 
+// newLevel records a level not seen before in this part.
+func (p *parser) newLevel(pt *part, k int, f []byte, line int) int32 {
+	code := int32(len(pt.names[k]))
+	s := string(f)
+	pt.levels[k][s] = code
+	pt.names[k] = append(pt.names[k], s)
+	pt.first[k] = append(pt.first[k], line)
+	return code
+}
+
 // level returns the part-local code of a categorical field, -1 when it
 // is a missing marker.
 func (p *parser) level(pt *part, k int, f []byte, line int) int32 {
@@ -253,15 +263,23 @@ func (p *parser) level(pt *part, k int, f []byte, line int) int32 {
 		pt.missing[k]++
 		return -1
 	}
-	code, ok := pt.levels[k][string(f)]
-	if !ok {
-		code = int32(len(pt.names[k]))
-		s := string(f)
-		pt.levels[k][s] = code
-		pt.names[k] = append(pt.names[k], s)
-		pt.first[k] = append(pt.first[k], line)
+	// Few levels are found faster by comparing them in turn than by
+	// hashing.
+	names := pt.names[k]
+	if len(names) <= 16 {
+		for j, nm := range names {
+			if nm == string(f) {
+				return int32(j)
+			}
+		}
+		if len(names) < 16 {
+			return p.newLevel(pt, k, f, line)
+		}
 	}
-	return code
+	if code, ok := pt.levels[k][string(f)]; ok {
+		return code
+	}
+	return p.newLevel(pt, k, f, line)
 }
 
 func (p *parser) isMissing(f []byte) bool {

@@ -1,8 +1,9 @@
 package metrics
 
 import (
+	"cmp"
 	"math"
-	"sort"
+	"slices"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -47,11 +48,7 @@ func HosmerLemeshow(y, p []float64, g int, development bool) HosmerLemeshowTest 
 		panic("metrics: HosmerLemeshow: fewer than one group")
 	}
 	n := len(p)
-	idx := make([]int, n)
-	for i := range idx {
-		idx[i] = i
-	}
-	sort.SliceStable(idx, func(a, b int) bool { return p[idx[a]] < p[idx[b]] })
+	idx := SortedOrder(p)
 	starts := make([]int, 0, g+1)
 	for k := 0; k < g; k++ {
 		s := k * n / g
@@ -89,4 +86,67 @@ func HosmerLemeshow(y, p []float64, g int, development bool) HosmerLemeshowTest 
 		t.P = distuv.ChiSquared{K: float64(t.DF)}.Survival(t.Statistic)
 	}
 	return t
+}
+
+// SortedOrder returns the row indices ordered by p, ties kept in row
+// order (a stable sort). p must hold no NaN; −0 sorts before +0.
+//
+// Large inputs are sorted by a least-significant-digit radix sort on the
+// IEEE-754 bit patterns (mapped so that unsigned order is numeric order),
+// 11 bits per pass, skipping passes in which every key has the same
+// digit; radix sorting is stable, so ties keep their row order.
+func SortedOrder(p []float64) []int {
+	n := len(p)
+	idx := make([]int, n)
+	if n < 4096 {
+		for i := range idx {
+			idx[i] = i
+		}
+		slices.SortStableFunc(idx, func(a, b int) int { return cmp.Compare(p[a], p[b]) })
+		return idx
+	}
+	const bits, buckets, passes = 11, 1 << 11, 6
+	keys := make([]uint64, n)
+	var hist [passes][buckets]int
+	for i, v := range p {
+		k := math.Float64bits(v)
+		if k>>63 == 1 {
+			k = ^k
+		} else {
+			k |= 1 << 63
+		}
+		keys[i] = k
+		idx[i] = i
+		for d := 0; d < passes; d++ {
+			hist[d][(k>>(d*bits))&(buckets-1)]++
+		}
+	}
+	tk, ti := make([]uint64, n), make([]int, n)
+	for d := 0; d < passes; d++ {
+		h := &hist[d]
+		skip := false
+		sum := 0
+		for b := range h {
+			if h[b] == n {
+				skip = true
+				break
+			}
+			c := h[b]
+			h[b] = sum
+			sum += c
+		}
+		if skip {
+			continue
+		}
+		shift := d * bits
+		for j, k := range keys {
+			b := (k >> shift) & (buckets - 1)
+			pos := h[b]
+			h[b]++
+			tk[pos], ti[pos] = k, idx[j]
+		}
+		keys, tk = tk, keys
+		idx, ti = ti, idx
+	}
+	return idx
 }

@@ -2,8 +2,46 @@ package metrics
 
 import (
 	"math"
+	"math/rand/v2"
+	"slices"
 	"testing"
 )
+
+// TestSortedOrderIsStable compares the radix sort with the standard
+// library's stable sort on data with many ties and both signs.
+func TestSortedOrderIsStable(t *testing.T) {
+	r := rand.New(rand.NewPCG(1, 2))
+	for _, n := range []int{10, 5000, 100000} {
+		p := make([]float64, n)
+		for i := range p {
+			switch r.IntN(3) {
+			case 0:
+				p[i] = float64(r.IntN(20)) / 20
+			case 1:
+				p[i] = r.Float64()
+			default:
+				p[i] = -r.ExpFloat64()
+			}
+		}
+		got := SortedOrder(p)
+		want := make([]int, n)
+		for i := range want {
+			want[i] = i
+		}
+		slices.SortStableFunc(want, func(a, b int) int {
+			switch {
+			case p[a] < p[b]:
+				return -1
+			case p[a] > p[b]:
+				return 1
+			}
+			return 0
+		})
+		if !slices.Equal(got, want) {
+			t.Fatalf("n=%d: radix order differs from the stable sort", n)
+		}
+	}
+}
 
 func TestHosmerLemeshowTiesStayTogether(t *testing.T) {
 	p := []float64{0.1, 0.1, 0.1, 0.1, 0.1, 0.2, 0.2, 0.2, 0.2, 0.2}

@@ -3,10 +3,12 @@ package model
 import (
 	"fmt"
 	"math"
+	"runtime"
 	"slices"
 	"sort"
 	"strconv"
 	"strings"
+	"sync"
 
 	"github.com/riskaudit/riskaudit/cohort"
 )
@@ -132,15 +134,44 @@ func Build(spec *Spec, fr *cohort.Frame, opt Options) (*Design, *Matrix, error) 
 	if opt.Outcome {
 		m.Y = make([]float64, m.N)
 	}
-	for r, i := range m.Rows {
-		if err := d.row(i, m.X[r*m.P:(r+1)*m.P]); err != nil {
-			return nil, nil, err
-		}
-		if opt.Outcome {
-			m.Y[r] = float64(d.outcome[d.ocol.Codes[i]])
-		}
+	if err := d.fill(m, opt.Outcome); err != nil {
+		return nil, nil, err
 	}
 	return d, m, nil
+}
+
+// fill writes the matrix rows, splitting them between two goroutines
+// when there are many; the first error in row order is returned.
+func (d *Design) fill(m *Matrix, outcome bool) error {
+	work := func(lo, hi int) error {
+		for r := lo; r < hi; r++ {
+			i := m.Rows[r]
+			if err := d.row(i, m.X[r*m.P:(r+1)*m.P]); err != nil {
+				return err
+			}
+			if outcome {
+				m.Y[r] = float64(d.outcome[d.ocol.Codes[i]])
+			}
+		}
+		return nil
+	}
+	if m.N < 50000 || runtime.GOMAXPROCS(0) < 2 {
+		return work(0, m.N)
+	}
+	mid := m.N / 2
+	var errHi error
+	var wg sync.WaitGroup
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		errHi = work(mid, m.N)
+	}()
+	errLo := work(0, mid)
+	wg.Wait()
+	if errLo != nil {
+		return errLo
+	}
+	return errHi
 }
 
 func (d *Design) completeCases(opt Options) ([]bool, *Matrix, error) {
@@ -165,7 +196,7 @@ func (d *Design) completeCases(opt Options) ([]bool, *Matrix, error) {
 		}
 		cols = append(cols, c)
 	}
-	m := &Matrix{Total: fr.Rows}
+	m := &Matrix{Total: fr.Rows, Rows: make([]int, 0, fr.Rows)}
 	used := make([]bool, fr.Rows)
 	counts := make([]int, len(cols))
 	for i := 0; i < fr.Rows; i++ {
