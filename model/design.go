@@ -11,6 +11,7 @@ import (
 	"sync"
 
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/metrics"
 )
 
 // InterceptTerm is the label of the intercept in term lists.
@@ -615,7 +616,7 @@ func DefaultKnots(z []float64, k int) ([]float64, error) {
 	sort.Float64s(s)
 	out := make([]float64, k)
 	for i, q := range qs {
-		out[i] = Quantile7(s, q)
+		out[i] = metrics.Quantile7(s, q)
 	}
 	for i := 1; i < k; i++ {
 		if out[i] <= out[i-1] {
@@ -623,18 +624,6 @@ func DefaultKnots(z []float64, k int) ([]float64, error) {
 		}
 	}
 	return out, nil
-}
-
-// Quantile7 is the q-quantile of sorted by definition 7 of Hyndman & Fan
-// (1996): with h = (n − 1)q, s[⌊h⌋] + (h − ⌊h⌋)(s[⌊h⌋+1] − s[⌊h⌋]).
-func Quantile7(sorted []float64, q float64) float64 {
-	n := len(sorted)
-	h := float64(n-1) * q
-	lo := int(math.Floor(h))
-	if lo >= n-1 {
-		return sorted[n-1]
-	}
-	return sorted[lo] + (h-float64(lo))*(sorted[lo+1]-sorted[lo])
 }
 
 func fmtNum(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }

@@ -214,6 +214,110 @@ def main():
         json.dump(ref, f, indent=1, sort_keys=True)
         f.write("\n")
 
+    write_audit_reference(bc)
+
+
+def delong_quadratic(y, p):
+    """DeLong, DeLong & Clarke-Pearson (1988): the structural components
+    V10 and V01 by the direct double sum over all event/non-event pairs,
+    psi = 1 if X > Y, 1/2 if X = Y, 0 otherwise."""
+    x = p[y == 1]
+    z = p[y == 0]
+    psi = (x[:, None] > z[None, :]).astype(float) + 0.5 * (x[:, None] == z[None, :])
+    v10 = psi.mean(axis=1)
+    v01 = psi.mean(axis=0)
+    auc = psi.mean()
+    var = v10.var(ddof=1) / len(x) + v01.var(ddof=1) / len(z)
+    return auc, np.sqrt(var)
+
+
+def net_benefit(y, p, t):
+    """Vickers & Elkin (2006), transcribed: treat when p >= t."""
+    n = len(y)
+    tp = np.sum((p >= t) & (y == 1))
+    fp = np.sum((p >= t) & (y == 0))
+    prev = y.mean()
+    return tp / n - fp / n * t / (1 - t), prev - (1 - prev) * t / (1 - t)
+
+
+def audit_measures(y, p, lowess_delta):
+    from sklearn.metrics import brier_score_loss, roc_auc_score
+    from statsmodels.nonparametric.smoothers_lowess import lowess
+    from statsmodels.stats.proportion import proportion_confint
+
+    lp = np.log(p) - np.log1p(-p)
+    out = {}
+    out["auc_sklearn"] = r12(roc_auc_score(y, p))
+    auc, se = delong_quadratic(y, p)
+    out["auc_delong_quadratic"] = r12(auc)
+    out["auc_se_delong_quadratic"] = r12(se)
+    fam = sm.families.Binomial()
+    citl = sm.GLM(y, np.ones((len(y), 1)), family=fam, offset=lp).fit(tol=1e-12, maxiter=100)
+    out["citl"] = r12(citl.params[0])
+    out["citl_se"] = r12(citl.bse[0])
+    slope = sm.GLM(y, sm.add_constant(lp), family=fam).fit(tol=1e-12, maxiter=100)
+    out["slope"] = r12(slope.params[1])
+    out["slope_se"] = r12(slope.bse[1])
+    out["slope_intercept"] = r12(slope.params[0])
+    out["brier_sklearn"] = r12(brier_score_loss(y, p))
+    order = np.argsort(p, kind="stable")
+    assert len(np.unique(p)) == len(p), "lowess reference needs untied risks"
+    for name, delta in [("lowess_exact", 0.0), ("lowess_delta", lowess_delta)]:
+        fit = lowess(y, p, frac=0.75, it=0, delta=delta, return_sorted=True)
+        out[name] = {"delta": r12(delta), "x": r12(fit[:, 0]), "fit": r12(fit[:, 1])}
+        diff = np.abs(fit[:, 0] - fit[:, 1])
+        out[name]["ici"] = r12(diff.mean())
+        out[name]["e50"] = r12(np.quantile(diff, 0.5))
+        out[name]["e90"] = r12(np.quantile(diff, 0.9))
+        out[name]["emax"] = r12(diff.max())
+    out["net_benefit"] = []
+    for t in [0.05, 0.1, 0.2, 0.3, 0.5]:
+        nb, ta = net_benefit(y, p, t)
+        out["net_benefit"].append({"threshold": t, "model": r12(nb), "treat_all": r12(ta)})
+    cls = []
+    for t in [0.1, 0.5]:
+        tp = int(np.sum((p >= t) & (y == 1))); fn = int(np.sum((p < t) & (y == 1)))
+        fp = int(np.sum((p >= t) & (y == 0))); tn = int(np.sum((p < t) & (y == 0)))
+        row = {"threshold": t}
+        for key, k, m in [("sensitivity", tp, tp + fn), ("specificity", tn, tn + fp),
+                          ("ppv", tp, tp + fp), ("npv", tn, tn + fn)]:
+            lo, hi = proportion_confint(k, m, alpha=0.05, method="beta")
+            row[key] = {"value": r12(k / m), "ci": r12([lo, hi])}
+        cls.append(row)
+    out["classification"] = cls
+    return out
+
+
+def write_audit_reference(bc):
+    """Risks from an invented frozen model applied to the Wisconsin data,
+    written to audit_predictions.csv with the reference measures, so the Go
+    tests audit exactly these numbers."""
+    radius = np.array([float(r["mean_radius"]) for r in bc])
+    texture = np.array([float(r["mean_texture"]) for r in bc])
+    concave = np.array([float(r["mean_concave_points"]) for r in bc])
+    y = np.array([1.0 if r["diagnosis"] == "M" else 0.0 for r in bc])
+    eta = -9.0 + 0.35 * radius + 0.12 * texture + 30.0 * concave
+    p = 1 / (1 + np.exp(-eta))
+    with open(os.path.join(HERE, "audit_predictions.csv"), "w") as f:
+        f.write("diagnosis,risk\n")
+        for yi, pi in zip(y, p):
+            f.write(f"{'M' if yi else 'B'},{pi!r}\n")
+    ref = {"_source": "testdata/reference/make_reference.py (scikit-learn, statsmodels, scipy)",
+           "wdbc": audit_measures(y, p, 0.02)}
+    # Ties: risks rounded to one decimal, for the DeLong components.
+    pr = np.round(p, 1)
+    auc, se = delong_quadratic(y, pr)
+    ref["wdbc_rounded"] = {"auc_sklearn": r12(roc_auc_score_(y, pr)), "auc_delong_quadratic": r12(auc),
+                           "auc_se_delong_quadratic": r12(se)}
+    with open(os.path.join(HERE, "audit.json"), "w") as f:
+        json.dump(ref, f, indent=1, sort_keys=True)
+        f.write("\n")
+
+
+def roc_auc_score_(y, p):
+    from sklearn.metrics import roc_auc_score
+    return roc_auc_score(y, p)
+
 
 if __name__ == "__main__":
     sys.exit(main())

@@ -1,0 +1,110 @@
+package metrics
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/riskaudit/riskaudit/logistic"
+)
+
+// Estimate is a coefficient with its standard error and 95% Wald
+// interval.
+type Estimate struct {
+	Value float64
+	SE    float64
+	CI    [2]float64
+}
+
+func wald(v, se float64) Estimate {
+	return Estimate{Value: v, SE: se, CI: [2]float64{v - z975*se, v + z975*se}}
+}
+
+// ClampedLogits returns logit(p) for every risk, with risks of exactly 0
+// or 1 first clamped to [eps, 1 − eps], and the number clamped. It
+// panics on a risk outside [0, 1] or NaN: callers check their input and
+// report the offending line.
+func ClampedLogits(p []float64, eps float64) ([]float64, int) {
+	out := make([]float64, len(p))
+	clamped := 0
+	for i, v := range p {
+		if !(v >= 0 && v <= 1) {
+			panic(fmt.Sprintf("metrics: ClampedLogits: risk %v outside [0, 1]", v))
+		}
+		if v < eps {
+			v, clamped = eps, clamped+1
+		} else if v > 1-eps {
+			v, clamped = 1-eps, clamped+1
+		}
+		out[i] = math.Log(v) - math.Log1p(-v)
+	}
+	return out, clamped
+}
+
+// CalibrationInTheLarge is the intercept a of the logistic model
+// logit P(y = 1) = a + logit(p), with logit(p) as an offset (slope fixed
+// at 1); a = 0 when risks are right on average, a > 0 when they are too
+// low (Cox 1958, Biometrika 45:562–565; Van Calster et al. 2016, Journal
+// of Clinical Epidemiology 74:167–176). lp holds logit(p).
+func CalibrationInTheLarge(y, lp []float64) (Estimate, error) {
+	n := len(y)
+	x := make([]float64, n)
+	for i := range x {
+		x[i] = 1
+	}
+	res, err := logistic.Fit(logistic.Data{X: x, N: n, P: 1, Y: y, Offset: lp}, logistic.Options{})
+	if err != nil {
+		return Estimate{}, fmt.Errorf("calibration-in-the-large: %w", err)
+	}
+	return wald(res.Coef[0], res.SE[0]), nil
+}
+
+// CalibrationSlope is the coefficient b of the logistic model
+// logit P(y = 1) = a + b·logit(p), with a free intercept; b = 1 for
+// ideal spread, b < 1 when risks are too extreme (overfitting), b > 1
+// when too moderate (Cox 1958; Van Calster et al. 2016). It returns the
+// slope and the intercept of that model. lp holds logit(p).
+func CalibrationSlope(y, lp []float64) (slope, intercept Estimate, err error) {
+	n := len(y)
+	x := make([]float64, 2*n)
+	for i, v := range lp {
+		x[2*i], x[2*i+1] = 1, v
+	}
+	res, err := logistic.Fit(logistic.Data{X: x, N: n, P: 2, Y: y}, logistic.Options{})
+	if err != nil {
+		return Estimate{}, Estimate{}, fmt.Errorf("calibration slope: %w", err)
+	}
+	return wald(res.Coef[1], res.SE[1]), wald(res.Coef[0], res.SE[0]), nil
+}
+
+// OE is the ratio of observed to expected events, O/E = Σy / Σp, with the
+// 95% interval exp(ln(O/E) ± 1.96·√((1 − O/n)/O)): the delta-method
+// standard error of ln O for a binomial count, with E treated as fixed
+// (as in Debray et al. 2017, BMJ 356:i6460). The interval is NaN when
+// there are no events.
+func OE(y, p []float64) (oe float64, ci [2]float64, observed, expected float64) {
+	observed, expected = sum(y), sum(p)
+	oe = observed / expected
+	n := float64(len(y))
+	if observed == 0 {
+		return oe, [2]float64{math.NaN(), math.NaN()}, observed, expected
+	}
+	h := z975 * math.Sqrt((1-observed/n)/observed)
+	return oe, [2]float64{oe * math.Exp(-h), oe * math.Exp(h)}, observed, expected
+}
+
+// Brier is the Brier score, the mean of (p − y)² (Brier 1950, Monthly
+// Weather Review 78:1–3), and the scaled Brier score
+// 1 − Brier / (ȳ(1 − ȳ)), which compares it with a model that gives every
+// row the observed event rate ȳ (Steyerberg et al. 2010, Epidemiology
+// 21:128–138).
+func Brier(y, p []float64) (brier, scaled float64) {
+	s, c := 0.0, 0.0
+	for i, v := range p {
+		d := v - y[i]
+		s, c = neumaier(s, c, d*d)
+	}
+	n := float64(len(y))
+	brier = (s + c) / n
+	ybar := sum(y) / n
+	return brier, 1 - brier/(ybar*(1-ybar))
+}

@@ -1,0 +1,232 @@
+package metrics
+
+import (
+	"math"
+)
+
+// z975 is the 0.975 quantile of the standard normal distribution.
+const z975 = 1.959963984540054
+
+// Z975 is the multiplier of two-sided 95% Wald intervals.
+const Z975 = z975
+
+// AUCResult is the area under the ROC curve with its DeLong standard
+// error and 95% confidence intervals.
+type AUCResult struct {
+	AUC float64 `json:"auc"`
+	SE  float64 `json:"auc_se"`
+	// CI is AUC ± 1.96·SE, clipped to [0, 1].
+	CI [2]float64 `json:"auc_ci"`
+	// LogitCI is the interval made on the logit scale,
+	// expit(logit(AUC) ± 1.96·SE / (AUC(1 − AUC))), which stays inside
+	// (0, 1) without clipping.
+	LogitCI [2]float64 `json:"auc_logit_ci"`
+	// Events and NonEvents count the rows of each outcome.
+	Events    int `json:"events"`
+	NonEvents int `json:"non_events"`
+}
+
+// DeLongComponents are the structural components of DeLong, DeLong &
+// Clarke-Pearson (1988): V10[i] is the share of non-events ranked below
+// event i (ties ½), V01[j] the share of events ranked above non-event j.
+// Paired tests of two AUCs on one cohort use their covariances.
+type DeLongComponents struct {
+	V10, V01 []float64
+}
+
+// AUC returns the area under the ROC curve of risks p for outcomes y (1
+// event, 0 non-event): the Mann–Whitney probability that a random event
+// has a higher risk than a random non-event, ties counted ½ (Hanley &
+// McNeil 1982, Radiology 143:29–36). Its standard error is DeLong's
+// (DeLong, DeLong & Clarke-Pearson 1988, Biometrics 44:837–845),
+//
+//	Var = S10/m + S01/n,
+//
+// with S10 and S01 the sample variances (divisor m − 1 and n − 1) of the
+// components over the m events and n non-events. The components come
+// from mid-ranks in O(N log N) (Sun & Xu 2014, IEEE Signal Processing
+// Letters 21:1389–1393): V10[i] = (R(X_i) − R_X(X_i))/n and
+// V01[j] = 1 − (R(Y_j) − R_Y(Y_j))/m, where R is the mid-rank among all
+// rows and R_X, R_Y the mid-ranks among events and among non-events.
+//
+// order must be the rows sorted by p (as from SortedOrder), or nil to
+// sort here. AUC panics if the lengths differ, and returns NaN values
+// when there are no events or no non-events.
+func AUC(y, p []float64, order []int) (AUCResult, DeLongComponents) {
+	if len(y) != len(p) {
+		panic("metrics: AUC: y and p differ in length")
+	}
+	if order == nil {
+		order = SortedOrder(p)
+	}
+	var r AUCResult
+	for _, v := range y {
+		if v == 1 {
+			r.Events++
+		}
+	}
+	r.NonEvents = len(y) - r.Events
+	m, n := r.Events, r.NonEvents
+	if m == 0 || n == 0 {
+		nan := math.NaN()
+		return AUCResult{AUC: nan, SE: nan, CI: [2]float64{nan, nan}, LogitCI: [2]float64{nan, nan}, Events: m, NonEvents: n}, DeLongComponents{}
+	}
+	v10 := make([]float64, 0, m)
+	v01 := make([]float64, 0, n)
+	// Walk the sorted rows in runs of tied risks. Before a run, below
+	// counts the rows, belowX the events and belowY the non-events ranked
+	// lower; within a run the mid-rank is below + (run + 1)/2, and
+	// likewise among events and among non-events.
+	below, belowX, belowY := 0, 0, 0
+	for s := 0; s < len(order); {
+		e := s
+		x := 0
+		for e < len(order) && p[order[e]] == p[order[s]] {
+			if y[order[e]] == 1 {
+				x++
+			}
+			e++
+		}
+		run := e - s
+		yy := run - x
+		// Mid-rank among all: below + (run+1)/2. Among events:
+		// belowX + (x+1)/2. Their difference counts the non-events below
+		// plus half the tied non-events.
+		if x > 0 {
+			v := (float64(belowY) + float64(yy)/2) / float64(n)
+			for k := 0; k < x; k++ {
+				v10 = append(v10, v)
+			}
+		}
+		if yy > 0 {
+			v := 1 - (float64(belowX)+float64(x)/2)/float64(m)
+			for k := 0; k < yy; k++ {
+				v01 = append(v01, v)
+			}
+		}
+		below += run
+		belowX += x
+		belowY += yy
+		s = e
+	}
+	r.AUC = mean(v10)
+	var se float64
+	if m > 1 && n > 1 {
+		se = math.Sqrt(variance(v10)/float64(m) + variance(v01)/float64(n))
+	} else {
+		se = math.NaN()
+	}
+	r.SE = se
+	r.CI = [2]float64{math.Max(0, r.AUC-z975*se), math.Min(1, r.AUC+z975*se)}
+	r.LogitCI = logitCI(r.AUC, se)
+	return r, DeLongComponents{V10: v10, V01: v01}
+}
+
+// logitCI is expit(logit(a) ± 1.96·se/(a(1 − a))), the delta-method
+// interval on the logit scale; at a = 0 or 1 it degenerates to [a, a].
+func logitCI(a, se float64) [2]float64 {
+	if a <= 0 || a >= 1 || math.IsNaN(se) {
+		return [2]float64{a, a}
+	}
+	l := math.Log(a) - math.Log1p(-a)
+	h := z975 * se / (a * (1 - a))
+	return [2]float64{expit(l - h), expit(l + h)}
+}
+
+func expit(x float64) float64 {
+	if x >= 0 {
+		return 1 / (1 + math.Exp(-x))
+	}
+	z := math.Exp(x)
+	return z / (1 + z)
+}
+
+// mean is the arithmetic mean, with a compensated sum.
+func mean(x []float64) float64 { return sum(x) / float64(len(x)) }
+
+// variance is the sample variance with divisor len(x) − 1, by two passes.
+func variance(x []float64) float64 {
+	m := mean(x)
+	s, c := 0.0, 0.0
+	for _, v := range x {
+		d := v - m
+		s, c = neumaier(s, c, d*d)
+	}
+	return (s + c) / float64(len(x)-1)
+}
+
+func sum(x []float64) float64 {
+	s, c := 0.0, 0.0
+	for _, v := range x {
+		s, c = neumaier(s, c, v)
+	}
+	return s + c
+}
+
+// neumaier adds v to the running sum s with compensation c (Neumaier
+// 1974, ZAMM 54:39–51).
+func neumaier(s, c, v float64) (float64, float64) {
+	t := s + v
+	if math.Abs(s) >= math.Abs(v) {
+		c += (s - t) + v
+	} else {
+		c += (v - t) + s
+	}
+	return t, c
+}
+
+// ROCPoint is one point of an ROC curve: classifying risks ≥ Threshold as
+// events gives the true-positive rate TPR and false-positive rate FPR.
+type ROCPoint struct {
+	Threshold float64 `json:"threshold"`
+	FPR       float64 `json:"fpr"`
+	TPR       float64 `json:"tpr"`
+}
+
+// ROC returns the empirical ROC curve: one point per distinct risk, from
+// the highest threshold down, starting at (0, 0) (threshold +Inf) and
+// ending at (1, 1). When maxPoints > 0 and the curve has more points,
+// interior points are thinned: a point is kept when it differs from the
+// last kept one by at least 1/maxPoints in FPR or TPR, so every kept
+// point is a true point of the curve and the last one is (1, 1). order is
+// the rows sorted by p, or nil.
+func ROC(y, p []float64, order []int, maxPoints int) []ROCPoint {
+	if order == nil {
+		order = SortedOrder(p)
+	}
+	m, n := 0, 0
+	for _, v := range y {
+		if v == 1 {
+			m++
+		} else {
+			n++
+		}
+	}
+	out := []ROCPoint{{Threshold: math.Inf(1)}}
+	if m == 0 || n == 0 {
+		return out
+	}
+	step := 0.0
+	if maxPoints > 0 {
+		step = 1 / float64(maxPoints)
+	}
+	tp, fp := 0, 0
+	for e := len(order) - 1; e >= 0; {
+		s := e
+		for s >= 0 && p[order[s]] == p[order[e]] {
+			if y[order[s]] == 1 {
+				tp++
+			} else {
+				fp++
+			}
+			s--
+		}
+		pt := ROCPoint{Threshold: p[order[e]], FPR: float64(fp) / float64(n), TPR: float64(tp) / float64(m)}
+		last := out[len(out)-1]
+		if s < 0 || pt.FPR-last.FPR >= step || pt.TPR-last.TPR >= step {
+			out = append(out, pt)
+		}
+		e = s
+	}
+	return out
+}

@@ -1,0 +1,293 @@
+package metrics
+
+import (
+	"math"
+	"runtime"
+	"sort"
+	"sync"
+)
+
+// LowessOptions control Lowess. The zero value means span 0.75, a fit at
+// every point (δ = 0) and all cores.
+type LowessOptions struct {
+	// Span is the fraction of the rows in each local regression
+	// (default 0.75).
+	Span float64
+	// Delta is Cleveland's shortcut: after a local regression at x, the
+	// points within Delta of x are not fitted but interpolated linearly
+	// between the fitted points on either side. Zero fits every point.
+	Delta float64
+	// Workers bounds the goroutines (default GOMAXPROCS).
+	Workers int
+}
+
+// LowessCurve is a LOWESS smooth evaluated at every input point.
+type LowessCurve struct {
+	// X holds the sorted inputs, Fit the smoothed values and SE their
+	// pointwise standard errors (see Lowess).
+	X, Fit, SE []float64
+	// Span and Delta are the settings used; FitPoints counts the local
+	// regressions run (the rest were interpolated or tied).
+	Span, Delta float64
+	FitPoints   int
+}
+
+// Lowess smooths y against x by LOWESS (Cleveland 1979, Journal of the
+// American Statistical Association 74:829–836) without robustness
+// iterations: at each point x₀ a straight line is fitted by weighted
+// least squares to the k = ⌊span·n⌋ nearest points (at least 2), with
+// tricube weights (1 − (|x − x₀|/h)³)³, h the distance from x₀ to the
+// farthest of them. x must be sorted ascending; the neighbourhood is the
+// window of k consecutive points that contains x₀ and is as centred as
+// the data allow. A point whose window has fewer than two weights above
+// 1e-12 keeps its own y.
+//
+// With Delta > 0, points are skipped as in Cleveland's algorithm: after a
+// fit at x_i, the next fit is at the last point within Delta of x_i (at
+// least the next point), points tied with a fitted x take its value, and
+// the skipped points are interpolated linearly.
+//
+// SE is the pointwise standard error of the local linear estimate,
+// √(ŝ(1 − ŝ) Σ_j l_j²), where l_j are the weights of the linear smoother
+// at x₀ (ŝ = Σ l_j y_j) and ŝ(1 − ŝ), clipped to [0, ¼], is the binomial
+// variance at the fitted value, taken as constant over the window
+// (Cleveland & Devlin 1988, Journal of the American Statistical
+// Association 83:596–610, §3). It is interpolated like the fit.
+func Lowess(x, y []float64, opt LowessOptions) LowessCurve {
+	if len(x) != len(y) {
+		panic("metrics: Lowess: x and y differ in length")
+	}
+	if !sort.Float64sAreSorted(x) {
+		panic("metrics: Lowess: x is not sorted")
+	}
+	n := len(x)
+	if opt.Span <= 0 {
+		opt.Span = 0.75
+	}
+	if opt.Workers <= 0 {
+		opt.Workers = runtime.GOMAXPROCS(0)
+	}
+	c := LowessCurve{X: x, Fit: make([]float64, n), SE: make([]float64, n), Span: opt.Span, Delta: opt.Delta}
+	if n == 0 {
+		return c
+	}
+	k := int(opt.Span*float64(n) + 1e-10)
+	k = max(2, min(k, n))
+	if n == 1 {
+		c.Fit[0] = y[0]
+		return c
+	}
+	plan := planFits(x, k, opt.Delta)
+	c.FitPoints = len(plan.fits)
+	// The local regressions are independent: run them on all cores.
+	var wg sync.WaitGroup
+	w := min(opt.Workers, len(plan.fits))
+	for g := 0; g < w; g++ {
+		wg.Add(1)
+		go func(g int) {
+			defer wg.Done()
+			for f := g; f < len(plan.fits); f += w {
+				fp := plan.fits[f]
+				c.Fit[fp.i], c.SE[fp.i] = localLinear(x, y, fp)
+			}
+		}(g)
+	}
+	wg.Wait()
+	plan.fill(x, c.Fit, c.SE)
+	return c
+}
+
+// fitPoint is one local regression: at x[i], over the window [l, r) of
+// radius h.
+type fitPoint struct {
+	i, l, r int
+	h       float64
+}
+
+// fitPlan lists the local regressions and how every other point gets its
+// value: ties copy a fitted point, the rest are interpolated.
+type fitPlan struct {
+	fits []fitPoint
+	// from[j] is the index whose value a tied point j copies, or −1.
+	from []int
+}
+
+// planFits walks the sorted x as Cleveland's algorithm does, choosing
+// where to fit and each fit's neighbourhood.
+func planFits(x []float64, k int, delta float64) fitPlan {
+	n := len(x)
+	p := fitPlan{from: make([]int, n)}
+	for j := range p.from {
+		p.from[j] = -1
+	}
+	l, r := 0, k
+	i := 0
+	for {
+		x0 := x[i]
+		for r < n && x0 > (x[l]+x[r])/2 {
+			l++
+			r++
+		}
+		h := math.Max(x0-x[l], x[r-1]-x0)
+		p.fits = append(p.fits, fitPoint{i: i, l: l, r: r, h: h})
+		// The next fit is at the last point within delta (at least one
+		// step on); points tied with the last fitted x copy its value.
+		last := i
+		cut := x[i] + delta
+		next := i
+		for j := i + 1; j < n; j++ {
+			next = j
+			if x[j] > cut {
+				break
+			}
+			if x[j] == x[last] {
+				p.from[j] = i
+				last = j
+			}
+		}
+		if last >= n-1 {
+			return p
+		}
+		i = max(next-1, last+1)
+	}
+}
+
+// fill completes the curve: ties copy, skipped points are interpolated
+// between the fitted (or copied) points on either side.
+func (p fitPlan) fill(x, fit, se []float64) {
+	for j, f := range p.from {
+		if f >= 0 {
+			fit[j], se[j] = fit[f], se[f]
+		}
+	}
+	known := make([]bool, len(x))
+	for _, f := range p.fits {
+		known[f.i] = true
+	}
+	for j, f := range p.from {
+		if f >= 0 {
+			known[j] = true
+		}
+	}
+	last := 0
+	for j := 1; j < len(x); j++ {
+		if !known[j] {
+			continue
+		}
+		if j > last+1 {
+			d := x[j] - x[last]
+			for m := last + 1; m < j; m++ {
+				a := (x[m] - x[last]) / d
+				fit[m] = a*fit[j] + (1-a)*fit[last]
+				se[m] = a*se[j] + (1-a)*se[last]
+			}
+		}
+		last = j
+	}
+}
+
+// localLinear is the weighted straight-line fit at x[fp.i] and its
+// standard error.
+func localLinear(x, y []float64, fp fitPoint) (float64, float64) {
+	x0 := x[fp.i]
+	var sw, swu, swu2, swy, swuy, sw2, sw2u, sw2u2 float64
+	nonzero := 0
+	inv := 1 / fp.h
+	xs, ys := x[fp.l:fp.r], y[fp.l:fp.r]
+	for j, xj := range xs {
+		u := xj - x0
+		d := math.Abs(u) * inv
+		t := 1 - d*d*d
+		w := t * t * t
+		if w > 1e-12 {
+			nonzero++
+		}
+		wu := w * u
+		yj := ys[j]
+		sw += w
+		swu += wu
+		swu2 += wu * u
+		swy += w * yj
+		swuy += wu * yj
+		w2 := w * w
+		sw2 += w2
+		sw2u += w2 * u
+		sw2u2 += w2 * u * u
+	}
+	if nonzero < 2 || fp.h == 0 {
+		return y[fp.i], 0
+	}
+	ub := swu / sw
+	ybar := swy / sw
+	s := math.Max(swu2/sw-ub*ub, 1e-12)
+	cxy := swuy/sw - ub*ybar
+	fit := ybar - ub*cxy/s
+	// Σ l² with l_j = W_j (a − b u_j), a = 1 + ū²/S, b = ū/S, W = w/Σw.
+	a, b := 1+ub*ub/s, ub/s
+	sl2 := (a*a*sw2 - 2*a*b*sw2u + b*b*sw2u2) / (sw * sw)
+	v := math.Min(math.Max(fit*(1-fit), 0), 0.25)
+	return fit, math.Sqrt(v * math.Max(sl2, 0))
+}
+
+// CalibrationCurve is the flexible calibration curve of risks p against
+// outcomes y, and the measures of Austin & Steyerberg (2019, Statistics in
+// Medicine 38:4051–4065) derived from it.
+type CalibrationCurve struct {
+	// Curve is the LOWESS smooth of y on p, at every row sorted by p.
+	Curve LowessCurve
+	// ICI is the mean of |p − ŝ(p)| over the rows; E50, E90 and Emax are
+	// its median, 90th percentile (Hyndman & Fan definition 7) and
+	// maximum.
+	ICI, E50, E90, Emax float64
+}
+
+// FlexibleCalibration smooths y on p by Lowess and summarises the
+// distance from the line of ideal calibration. order is the rows sorted by
+// p (or nil).
+func FlexibleCalibration(y, p []float64, order []int, opt LowessOptions) CalibrationCurve {
+	if order == nil {
+		order = SortedOrder(p)
+	}
+	xs := make([]float64, len(p))
+	ys := make([]float64, len(p))
+	for r, i := range order {
+		xs[r], ys[r] = p[i], y[i]
+	}
+	cc := CalibrationCurve{Curve: Lowess(xs, ys, opt)}
+	diff := make([]float64, len(xs))
+	for i, v := range xs {
+		diff[i] = math.Abs(v - cc.Curve.Fit[i])
+	}
+	cc.ICI = mean(diff)
+	sort.Float64s(diff)
+	cc.E50 = Quantile7(diff, 0.5)
+	cc.E90 = Quantile7(diff, 0.9)
+	cc.Emax = diff[len(diff)-1]
+	return cc
+}
+
+// DefaultDelta is the δ used when none is given: 0 (a fit at every
+// point) up to 10,000 rows, and 1% of the range of x beyond, the choice
+// suggested with Cleveland's algorithm for large data.
+func DefaultDelta(xmin, xmax float64, n int) float64 {
+	if n <= 10000 {
+		return 0
+	}
+	return 0.01 * (xmax - xmin)
+}
+
+// Quantile7 is the q-quantile of sorted by definition 7 of Hyndman & Fan
+// (1996, The American Statistician 50:361–365): with h = (n − 1)q,
+// s[⌊h⌋] + (h − ⌊h⌋)(s[⌊h⌋+1] − s[⌊h⌋]).
+func Quantile7(sorted []float64, q float64) float64 {
+	n := len(sorted)
+	if n == 0 {
+		return math.NaN()
+	}
+	h := float64(n-1) * q
+	lo := int(math.Floor(h))
+	if lo >= n-1 {
+		return sorted[n-1]
+	}
+	return sorted[lo] + (h-float64(lo))*(sorted[lo+1]-sorted[lo])
+}

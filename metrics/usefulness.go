@@ -1,0 +1,199 @@
+package metrics
+
+import (
+	"math"
+	"sort"
+
+	"gonum.org/v1/gonum/stat/distuv"
+)
+
+// Counts is the 2×2 table of a risk threshold t: rows with p ≥ t are
+// classified as events ("treat").
+type Counts struct {
+	Threshold      float64
+	TP, FP, FN, TN int
+}
+
+// ThresholdCounts returns the 2×2 table at every threshold in ts, in one
+// pass over the rows (each row is placed by binary search among the
+// sorted thresholds).
+func ThresholdCounts(y, p []float64, ts []float64) []Counts {
+	sorted := append([]float64(nil), ts...)
+	sort.Float64s(sorted)
+	// posAt[k] counts rows whose risk reaches sorted[k-1] but not
+	// sorted[k]: a row with p ≥ sorted[j] for j < k.
+	ev := make([]int, len(sorted)+1)
+	ne := make([]int, len(sorted)+1)
+	for i, v := range p {
+		k := sort.Search(len(sorted), func(j int) bool { return sorted[j] > v })
+		if y[i] == 1 {
+			ev[k]++
+		} else {
+			ne[k]++
+		}
+	}
+	// Rows in bucket k are treated at thresholds sorted[0..k-1].
+	totalE, totalN := 0, 0
+	for k := range ev {
+		totalE += ev[k]
+		totalN += ne[k]
+	}
+	bySorted := make([]Counts, len(sorted))
+	tp, fp := totalE, totalN
+	for j := range sorted {
+		// Rows with p < sorted[j] are in buckets 0..j.
+		tp -= ev[j]
+		fp -= ne[j]
+		bySorted[j] = Counts{Threshold: sorted[j], TP: tp, FP: fp, FN: totalE - tp, TN: totalN - fp}
+	}
+	out := make([]Counts, len(ts))
+	for i, t := range ts {
+		j := sort.SearchFloat64s(sorted, t)
+		out[i] = bySorted[j]
+	}
+	return out
+}
+
+// NetBenefit is the decision-curve value of treating when p ≥ Threshold
+// (Vickers & Elkin 2006, Medical Decision Making 26:565–574):
+// NB = TP/n − FP/n · t/(1 − t). TreatAll is the same for treating
+// everyone, prevalence − (1 − prevalence)·t/(1 − t); treating no one has
+// net benefit 0.
+type NetBenefit struct {
+	Threshold float64 `json:"threshold"`
+	Model     float64 `json:"model"`
+	TreatAll  float64 `json:"treat_all"`
+	TreatNone float64 `json:"treat_none"`
+}
+
+// NetBenefits returns the net benefit at every threshold (each in (0, 1)).
+func NetBenefits(y, p []float64, ts []float64) []NetBenefit {
+	n := float64(len(y))
+	prev := sum(y) / n
+	out := make([]NetBenefit, len(ts))
+	for i, c := range ThresholdCounts(y, p, ts) {
+		odds := c.Threshold / (1 - c.Threshold)
+		out[i] = NetBenefit{
+			Threshold: c.Threshold,
+			Model:     float64(c.TP)/n - float64(c.FP)/n*odds,
+			TreatAll:  prev - (1-prev)*odds,
+		}
+	}
+	return out
+}
+
+// Proportion is a share k/n with its exact 95% Clopper–Pearson interval
+// (Clopper & Pearson 1934, Biometrika 26:404–413): the α/2 quantile of
+// Beta(k, n − k + 1) and the 1 − α/2 quantile of Beta(k + 1, n − k), with
+// the ends 0 and 1 when k = 0 or k = n.
+type Proportion struct {
+	Value float64    `json:"value"`
+	CI    [2]float64 `json:"ci"`
+	K     int        `json:"k"`
+	N     int        `json:"n"`
+}
+
+// ClopperPearson returns k/n with its exact 95% interval; NaN when n = 0.
+func ClopperPearson(k, n int) Proportion {
+	if n == 0 {
+		nan := math.NaN()
+		return Proportion{Value: nan, CI: [2]float64{nan, nan}}
+	}
+	pr := Proportion{Value: float64(k) / float64(n), K: k, N: n}
+	lo, hi := 0.0, 1.0
+	if k > 0 {
+		lo = distuv.Beta{Alpha: float64(k), Beta: float64(n - k + 1)}.Quantile(0.025)
+	}
+	if k < n {
+		hi = distuv.Beta{Alpha: float64(k + 1), Beta: float64(n - k)}.Quantile(0.975)
+	}
+	pr.CI = [2]float64{lo, hi}
+	return pr
+}
+
+// Classification is the accuracy of the rule "p ≥ Threshold means
+// event".
+type Classification struct {
+	Threshold   float64    `json:"threshold"`
+	Sensitivity Proportion `json:"sensitivity"`
+	Specificity Proportion `json:"specificity"`
+	PPV         Proportion `json:"ppv"`
+	NPV         Proportion `json:"npv"`
+	// Flagged is the share of rows at or above the threshold.
+	Flagged float64 `json:"flagged"`
+}
+
+// Classify returns sensitivity TP/(TP+FN), specificity TN/(TN+FP),
+// positive predictive value TP/(TP+FP) and negative predictive value
+// TN/(TN+FN) at every threshold, each with its Clopper–Pearson interval.
+func Classify(y, p []float64, ts []float64) []Classification {
+	out := make([]Classification, len(ts))
+	n := float64(len(y))
+	for i, c := range ThresholdCounts(y, p, ts) {
+		out[i] = Classification{
+			Threshold:   c.Threshold,
+			Sensitivity: ClopperPearson(c.TP, c.TP+c.FN),
+			Specificity: ClopperPearson(c.TN, c.TN+c.FP),
+			PPV:         ClopperPearson(c.TP, c.TP+c.FP),
+			NPV:         ClopperPearson(c.TN, c.TN+c.FN),
+			Flagged:     float64(c.TP+c.FP) / n,
+		}
+	}
+	return out
+}
+
+// RiskGroup is one group of the grouped calibration plot.
+type RiskGroup struct {
+	N int `json:"n"`
+	// MeanRisk is the mean predicted risk; Observed the share of events
+	// with its Clopper–Pearson interval.
+	MeanRisk float64    `json:"mean_risk"`
+	Observed Proportion `json:"observed"`
+	MinRisk  float64    `json:"min_risk"`
+	MaxRisk  float64    `json:"max_risk"`
+}
+
+// RiskGroups cuts the rows into g groups of (nearly) equal size by
+// predicted risk, with the grouping rule of HosmerLemeshow (ties kept
+// together, empty groups dropped), and returns the observed share of
+// events beside the mean risk in each.
+func RiskGroups(y, p []float64, g int) []RiskGroup {
+	hl := HosmerLemeshow(y, p, g, false)
+	out := make([]RiskGroup, len(hl.Table))
+	for i, t := range hl.Table {
+		out[i] = RiskGroup{N: t.N, MeanRisk: t.Expected / float64(t.N),
+			Observed: ClopperPearson(int(math.Round(t.Observed)), t.N), MinRisk: t.MinRisk, MaxRisk: t.MaxRisk}
+	}
+	return out
+}
+
+// Histogram counts the risks of events and of non-events in bins of
+// equal width on [0, max], where max is the largest risk rounded up to
+// a tenth (at least 0.1).
+type Histogram struct {
+	Edges     []float64 `json:"edges"`
+	Events    []int     `json:"events"`
+	NonEvents []int     `json:"non_events"`
+}
+
+// RiskHistogram returns the histogram of risks by outcome in bins bins.
+func RiskHistogram(y, p []float64, bins int) Histogram {
+	top := 0.0
+	for _, v := range p {
+		top = math.Max(top, v)
+	}
+	top = math.Max(0.1, math.Ceil(top*10-1e-9)/10)
+	h := Histogram{Edges: make([]float64, bins+1), Events: make([]int, bins), NonEvents: make([]int, bins)}
+	for i := range h.Edges {
+		h.Edges[i] = top * float64(i) / float64(bins)
+	}
+	for i, v := range p {
+		b := min(int(v/top*float64(bins)), bins-1)
+		if y[i] == 1 {
+			h.Events[b]++
+		} else {
+			h.NonEvents[b]++
+		}
+	}
+	return h
+}
