@@ -62,6 +62,12 @@ type Extract struct {
 // Development is the extract the demo model is fitted to.
 var Development = Extract{Rows: 4000, Seed: 20240101, MissingRate: 0.02}
 
+// Later is an extract two years on, in which the patients are older and
+// complications more common at every level of risk (say a change in how
+// complications are recorded): the model should still rank patients well
+// but under-predict their risk.
+var Later = Extract{Rows: 3000, Seed: 20260101, AgeShift: 5, EventShift: 0.35, MissingRate: 0.03}
+
 // CSV returns the extract as CSV text with a header row.
 func (e Extract) CSV() []byte {
 	r := rand.New(rand.NewPCG(e.Seed, 0x0b57b00c))

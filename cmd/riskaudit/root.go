@@ -43,6 +43,8 @@ const (
 type streams struct {
 	out, err       io.Writer
 	outTTY, errTTY bool
+	// args are the command-line arguments, for provenance.
+	args []string
 }
 
 func newStreams(out, err *os.File) *streams {
@@ -62,10 +64,11 @@ func (e *usageError) Error() string { return e.msg }
 func usagef(format string, args ...any) error { return &usageError{fmt.Sprintf(format, args...)} }
 
 const rootLong = `riskaudit audits logistic-regression risk models for a yes/no clinical
-outcome: it fits a model recipe on a development extract into a frozen
-model with published coefficients, scores new cohorts with a frozen model,
-and (in later releases) measures discrimination, calibration, accuracy and
-net benefit on a new cohort.
+outcome. 'audit' measures discrimination, calibration, accuracy and net
+benefit of a frozen model (or of any column of predicted risks) on a new
+cohort and writes a Markdown report with SVG figures and JSON; 'fit' fits a
+model recipe on a development extract into a frozen model; 'score' appends
+a frozen model's predicted risks to a cohort.
 
 Start with 'riskaudit demo --out demo' to see every step on invented data.
 
@@ -92,12 +95,13 @@ func newRootCmd(s *streams) *cobra.Command {
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		return &usageError{err.Error() + " (see '" + c.CommandPath() + " --help')"}
 	})
-	root.AddCommand(newFitCmd(s), newScoreCmd(s), newDemoCmd(s))
+	root.AddCommand(newAuditCmd(s), newFitCmd(s), newScoreCmd(s), newDemoCmd(s))
 	return root
 }
 
 // run executes the command line and returns the exit status.
 func run(args []string, s *streams) int {
+	s.args = args
 	root := newRootCmd(s)
 	root.SetArgs(args)
 	err := root.Execute()

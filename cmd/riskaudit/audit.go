@@ -1,0 +1,428 @@
+package main
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/atomicfile"
+	"github.com/riskaudit/riskaudit/internal/jsonout"
+	"github.com/riskaudit/riskaudit/model"
+	"github.com/riskaudit/riskaudit/plots"
+	"github.com/riskaudit/riskaudit/report"
+	"github.com/riskaudit/riskaudit/validate"
+)
+
+type auditOptions struct {
+	data       dataFlags
+	model      string
+	predicted  string
+	outcome    string
+	event      string
+	nonEvent   string
+	cohortFile string
+	devFile    string
+	out        string
+	thresholds string
+	classifyAt []float64
+	groups     int
+	hlGroups   int
+	span       float64
+	delta      float64
+	epsilon    float64
+	quiet      bool
+}
+
+const auditLong = `Measure how a model performs on a cohort with observed outcomes and write
+an audit report: DIR/report.md, DIR/audit.json and four SVG figures
+(calibration, ROC curve, decision curve, predicted risk by outcome).
+
+The risks come either from a frozen model (--model), which scores every
+complete row of the cohort, or from a column of risks predicted by any
+model (--predicted, with --outcome and --event). With --dev, the same
+measures on the development data stand beside the new cohort's, so drift
+is visible.
+
+Measures: AUC with DeLong's standard error; calibration-in-the-large and
+calibration slope with Wald intervals; O/E; Hosmer–Lemeshow (df = groups,
+or groups − 2 on the data a frozen model was fitted to, recognised by its
+SHA-256); a LOWESS calibration curve with ICI, E50, E90 and Emax; Brier and
+scaled Brier scores; net benefit at risk thresholds; sensitivity,
+specificity, PPV and NPV with exact intervals.
+
+Outputs are written to temporary files and renamed into place only when
+everything has succeeded.`
+
+const auditExample = `  # Audit a frozen model on a fresh extract
+  riskaudit audit --model frozen.yaml --cohort new.csv --out audit-2026-11
+
+  # The same, beside its development data
+  riskaudit audit --model frozen.yaml --cohort new.csv --dev dev.csv --out audit-2026-11
+
+  # Audit the risks a vendor's system wrote into a column
+  riskaudit audit --predicted vendor_risk --outcome died_30d --event yes --cohort new.csv --out audit
+
+  # Decision-curve thresholds from 2% to 30% by 2%, classification at 10% and 25%
+  riskaudit audit --model frozen.yaml --cohort new.csv --thresholds 0.02:0.30:0.02 --classify-at 0.1,0.25 --out audit`
+
+func newAuditCmd(s *streams) *cobra.Command {
+	o := &auditOptions{}
+	c := &cobra.Command{
+		Use:     "audit (--model FROZEN | --predicted COLUMN --outcome COLUMN --event VALUE) --cohort FILE --out DIR",
+		Short:   "Audit a model's predicted risks on a cohort and write the report",
+		Long:    auditLong,
+		Example: auditExample,
+		Args:    cobra.NoArgs,
+		RunE:    func(cmd *cobra.Command, _ []string) error { return runAudit(o, s) },
+	}
+	f := c.Flags()
+	f.StringVar(&o.model, "model", "", "frozen model (YAML) that scores the cohort")
+	f.StringVar(&o.predicted, "predicted", "", "column of predicted risks (0 to 1) to audit instead of a model")
+	f.StringVar(&o.outcome, "outcome", "", "with --predicted: the outcome column")
+	f.StringVar(&o.event, "event", "", "with --predicted: the outcome value that is an event")
+	f.StringVar(&o.nonEvent, "non-event", "", "with --predicted: the value that is a non-event (then any other value is an error)")
+	f.StringVar(&o.cohortFile, "cohort", "", "the cohort to audit (CSV or TSV with a header row)")
+	f.StringVar(&o.devFile, "dev", "", "the development data, measured the same way for comparison")
+	f.StringVar(&o.out, "out", "", "folder for the report, audit.json and figures (created if absent)")
+	f.StringVar(&o.thresholds, "thresholds", "0.05:0.50:0.05", "decision-curve risk thresholds: FROM:TO:STEP or a comma-separated list")
+	f.Float64SliceVar(&o.classifyAt, "classify-at", []float64{0.10, 0.20}, "risk thresholds for sensitivity, specificity, PPV and NPV")
+	f.IntVar(&o.groups, "groups", 10, "risk groups of the calibration plot (10: deciles)")
+	f.IntVar(&o.hlGroups, "hl-groups", 10, "Hosmer–Lemeshow groups")
+	f.Float64Var(&o.span, "lowess-span", 0.75, "span of the LOWESS calibration curve")
+	f.Float64Var(&o.delta, "lowess-delta", -1, "LOWESS δ; negative chooses 0 up to 10,000 rows and 1% of the risk range beyond")
+	f.Float64Var(&o.epsilon, "clamp", validate.DefaultEpsilon, "risks of exactly 0 or 1 are clamped to [clamp, 1 − clamp] for the logit")
+	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
+	o.data.register(f)
+	_ = c.MarkFlagRequired("cohort")
+	_ = c.MarkFlagRequired("out")
+	_ = c.MarkFlagFilename("model", "yaml", "yml")
+	_ = c.MarkFlagFilename("cohort", "csv", "tsv", "txt")
+	_ = c.MarkFlagFilename("dev", "csv", "tsv", "txt")
+	_ = c.MarkFlagDirname("out")
+	return c
+}
+
+// parseThresholds reads FROM:TO:STEP or a comma-separated list; every
+// threshold must lie strictly between 0 and 1.
+func parseThresholds(s string) ([]float64, error) {
+	var out []float64
+	if strings.Contains(s, ":") {
+		parts := strings.Split(s, ":")
+		if len(parts) != 3 {
+			return nil, usagef("--thresholds %q: give FROM:TO:STEP, such as 0.05:0.50:0.05", s)
+		}
+		var v [3]float64
+		for i, p := range parts {
+			f, err := strconv.ParseFloat(strings.TrimSpace(p), 64)
+			if err != nil {
+				return nil, usagef("--thresholds %q: %q is not a number", s, p)
+			}
+			v[i] = f
+		}
+		if v[2] <= 0 || v[1] < v[0] {
+			return nil, usagef("--thresholds %q: the step must be positive and TO at least FROM", s)
+		}
+		for k := 0; ; k++ {
+			t := v[0] + float64(k)*v[2]
+			if t > v[1]+1e-9 {
+				break
+			}
+			out = append(out, math.Round(t*1e9)/1e9)
+		}
+	} else {
+		for _, p := range strings.Split(s, ",") {
+			f, err := strconv.ParseFloat(strings.TrimSpace(p), 64)
+			if err != nil {
+				return nil, usagef("--thresholds %q: %q is not a number", s, p)
+			}
+			out = append(out, f)
+		}
+	}
+	for _, t := range out {
+		if !(t > 0 && t < 1) {
+			return nil, usagef("--thresholds: %g is not strictly between 0 and 1", t)
+		}
+	}
+	return out, nil
+}
+
+// scored is a cohort's outcomes and predicted risks.
+type scored struct {
+	y, p     []float64
+	summary  validate.CohortSummary
+	file     string
+	hash     string
+	spec     *model.Spec
+	terms    []string
+	isDevFit bool // the frozen model was fitted to this file
+}
+
+func runAudit(o *auditOptions, s *streams) error {
+	if (o.model == "") == (o.predicted == "") {
+		return usagef("give either --model (a frozen model) or --predicted (a column of risks)")
+	}
+	if o.predicted != "" && (o.outcome == "" || o.event == "") {
+		return usagef("--predicted needs --outcome and --event")
+	}
+	if o.model != "" && (o.outcome != "" || o.event != "" || o.nonEvent != "") {
+		return usagef("--outcome, --event and --non-event go with --predicted; a model names its own outcome")
+	}
+	ts, err := parseThresholds(o.thresholds)
+	if err != nil {
+		return err
+	}
+	for _, t := range o.classifyAt {
+		if !(t > 0 && t < 1) {
+			return usagef("--classify-at: %g is not strictly between 0 and 1", t)
+		}
+	}
+	if o.groups < 2 || o.hlGroups < 3 {
+		return usagef("--groups needs at least 2 and --hl-groups at least 3")
+	}
+	if o.span <= 0 || o.span > 1 {
+		return usagef("--lowess-span %g: give a value in (0, 1]", o.span)
+	}
+	if !(o.epsilon > 0 && o.epsilon < 0.01) {
+		return usagef("--clamp %g: give a small positive value below 0.01", o.epsilon)
+	}
+	if st, err := os.Stat(o.out); err == nil && !st.IsDir() {
+		return usagef("--out %s is a file, not a folder", o.out)
+	}
+	prog := newProgress(s, o.quiet)
+	started := now()
+	var spec *model.Spec
+	if o.model != "" {
+		if spec, err = model.LoadSpec(o.model); err != nil {
+			return err
+		}
+		if !spec.Frozen() {
+			return &model.SpecError{File: o.model, Msg: "this is a recipe (it has no intercept): fit it first with 'riskaudit fit'"}
+		}
+	} else {
+		spec = predictedSpec(o)
+	}
+	prog.step("reading and scoring " + o.cohortFile)
+	cur, err := score(spec, o, o.cohortFile)
+	if err != nil {
+		return err
+	}
+	vopt := validate.Options{Thresholds: ts, ClassifyAt: o.classifyAt, Groups: o.groups, HLGroups: o.hlGroups,
+		Span: o.span, Delta: o.delta, Epsilon: o.epsilon, Development: cur.isDevFit}
+	prog.step("measuring")
+	perf, err := assess(cur, vopt)
+	if err != nil {
+		return err
+	}
+	var devPerf *validate.Performance
+	var dev *scored
+	if o.devFile != "" {
+		prog.step("reading and measuring the development data " + o.devFile)
+		if dev, err = score(spec, o, o.devFile); err != nil {
+			return err
+		}
+		dopt := vopt
+		dopt.Development = dev.isDevFit
+		if devPerf, err = assess(dev, dopt); err != nil {
+			return err
+		}
+	}
+	a := validate.NewAudit(modelInfo(o, spec, cur), provenance(o, s, started, cur, dev), perf, devPerf, o.devFile)
+	label := a.Model.Name
+	prog.step("drawing figures")
+	figs, err := plots.All(perf, label)
+	if err != nil {
+		return err
+	}
+	prog.step("writing " + o.out)
+	if err := writeAudit(o.out, a, figs); err != nil {
+		return err
+	}
+	prog.done()
+	if !o.quiet {
+		writeAuditSummary(s, a, o.out, len(figs))
+	}
+	return nil
+}
+
+// predictedSpec is the spec behind --predicted: the outcome mapping and
+// no predictors.
+func predictedSpec(o *auditOptions) *model.Spec {
+	v := func(s string) model.Value {
+		f, err := strconv.ParseFloat(s, 64)
+		return model.Value{Text: s, Num: f, IsNum: err == nil}
+	}
+	spec := &model.Spec{Name: "predicted risks in column " + o.predicted, Outcome: model.Outcome{Column: o.outcome, Event: v(o.event)}, File: "--predicted"}
+	if o.nonEvent != "" {
+		ne := v(o.nonEvent)
+		spec.Outcome.NonEvent = &ne
+	}
+	return spec
+}
+
+// score reads one cohort file and returns its outcomes and predicted
+// risks over the complete cases.
+func score(spec *model.Spec, o *auditOptions, path string) (*scored, error) {
+	copt, err := o.data.cohortOptions()
+	if err != nil {
+		return nil, err
+	}
+	fail, err := o.data.failOnMissing()
+	if err != nil {
+		return nil, err
+	}
+	reqs := spec.Columns(true)
+	var also []string
+	if o.predicted != "" {
+		if o.predicted == o.outcome {
+			return nil, usagef("--predicted and --outcome name the same column")
+		}
+		reqs = append(reqs, cohort.Request{Name: o.predicted, Kind: cohort.Numeric})
+		also = []string{o.predicted}
+	}
+	fr, err := cohort.Load(path, reqs, copt)
+	if err != nil {
+		return nil, err
+	}
+	d, m, err := model.Build(spec, fr, model.Options{Outcome: true, FailOnMissing: fail, Also: also})
+	if err != nil {
+		return nil, err
+	}
+	sc := &scored{y: m.Y, file: path, spec: spec, terms: m.Terms}
+	if o.predicted != "" {
+		col := fr.Column(o.predicted)
+		sc.p = make([]float64, m.N)
+		for r, i := range m.Rows {
+			v := col.Num[i]
+			if !(v >= 0 && v <= 1) {
+				return nil, &cohort.Error{File: path, Line: fr.Line(i), Column: o.predicted, Value: strconv.FormatFloat(v, 'g', -1, 64), HasValue: true,
+					Msg: "a predicted risk must lie between 0 and 1"}
+			}
+			sc.p[r] = v
+		}
+	} else {
+		beta, err := d.Coefficients()
+		if err != nil {
+			return nil, err
+		}
+		sc.p = model.LinearPredictors(m, beta)
+		for i, lp := range sc.p {
+			sc.p[i] = model.Risk(lp)
+		}
+	}
+	if sc.hash, err = fileSHA256(path); err != nil {
+		return nil, err
+	}
+	if pv := spec.Provenance; pv != nil && pv.DataSHA256 == sc.hash {
+		sc.isDevFit = true
+	}
+	sc.summary = validate.CohortSummary{Rows: m.Total, Excluded: m.Excluded}
+	for _, e := range m.ByColumn {
+		sc.summary.ExcludedByColumn = append(sc.summary.ExcludedByColumn, validate.ColumnCount{Column: e.Column, Rows: e.Rows})
+	}
+	return sc, nil
+}
+
+func assess(sc *scored, opt validate.Options) (*validate.Performance, error) {
+	perf, err := validate.Assess(sc.y, sc.p, opt)
+	if err != nil {
+		var re *validate.RiskError
+		if errors.As(err, &re) {
+			return nil, &cohort.Error{File: sc.file, Msg: err.Error()}
+		}
+		return nil, &cohort.Error{File: sc.file, Msg: strings.TrimPrefix(err.Error(), "validate: ")}
+	}
+	c := &perf.Cohort
+	c.Rows, c.Excluded, c.ExcludedByColumn = sc.summary.Rows, sc.summary.Excluded, sc.summary.ExcludedByColumn
+	return perf, nil
+}
+
+func modelInfo(o *auditOptions, spec *model.Spec, sc *scored) validate.ModelInfo {
+	m := validate.ModelInfo{Name: spec.Name, Outcome: spec.Outcome.Column, Event: spec.Outcome.Event.Text}
+	if o.predicted != "" {
+		m.Source, m.Column = "predicted risks", o.predicted
+		return m
+	}
+	m.Source, m.Spec, m.Terms = "frozen model", o.model, sc.terms
+	if m.Name == "" {
+		m.Name = filepath.Base(o.model)
+	}
+	return m
+}
+
+func provenance(o *auditOptions, s *streams, started interface{ Format(string) string }, cur, dev *scored) validate.Provenance {
+	pv := validate.Provenance{Tool: "riskaudit " + toolVersion(), CommandLine: s.commandLine(), StartedAt: started.Format("2006-01-02T15:04:05Z")}
+	if o.model != "" {
+		h, err := fileSHA256(o.model)
+		if err == nil {
+			pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "model", Path: o.model, SHA256: h})
+		}
+	}
+	pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "cohort", Path: cur.file, SHA256: cur.hash})
+	if dev != nil {
+		pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "development", Path: dev.file, SHA256: dev.hash})
+	}
+	return pv
+}
+
+// writeAudit writes the report, the JSON and the figures into dir, all
+// or nothing.
+func writeAudit(dir string, a *validate.Audit, figs []plots.Figure) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return fmt.Errorf("cannot create %s: %w", dir, err)
+	}
+	js, err := jsonout.Marshal(a)
+	if err != nil {
+		return fmt.Errorf("writing audit.json: %w", err)
+	}
+	var md bytes.Buffer
+	if err := report.Write(&md, a, figs); err != nil {
+		return err
+	}
+	var set atomicfile.Set
+	defer set.Abort()
+	for _, f := range figs {
+		if err := set.Add(filepath.Join(dir, f.Name), f.SVG); err != nil {
+			return err
+		}
+	}
+	if err := set.Add(filepath.Join(dir, "audit.json"), js); err != nil {
+		return err
+	}
+	if err := set.Add(filepath.Join(dir, "report.md"), md.Bytes()); err != nil {
+		return err
+	}
+	return set.Commit()
+}
+
+func writeAuditSummary(s *streams, a *validate.Audit, dir string, nfig int) {
+	w := s.out
+	d, c, ov := a.Discrimination, a.Calibration, a.Overall
+	fmt.Fprintf(w, "Audit of %s on %s\n", a.Model.Name, a.Provenance.Inputs[len(a.Provenance.Inputs)-1-devOffset(a)].Path)
+	fmt.Fprintf(w, "  patients    %d used of %d, %d events (%.1f%%)\n", a.Cohort.Used, a.Cohort.Rows, a.Cohort.Events, 100*a.Cohort.EventRate)
+	fmt.Fprintf(w, "  AUC         %.3f (95%% CI %.3f to %.3f)\n", d.AUC, d.CI[0], d.CI[1])
+	fmt.Fprintf(w, "  O/E         %.3f (95%% CI %.3f to %.3f)\n", c.OE, c.OECI[0], c.OECI[1])
+	fmt.Fprintf(w, "  CITL        %.3f (95%% CI %.3f to %.3f)\n", c.CITL, c.CITLCI[0], c.CITLCI[1])
+	fmt.Fprintf(w, "  slope       %.3f (95%% CI %.3f to %.3f)\n", c.Slope, c.SlopeCI[0], c.SlopeCI[1])
+	fmt.Fprintf(w, "  ICI         %.4f   E90 %.4f\n", c.ICI, c.E90)
+	fmt.Fprintf(w, "  Brier       %.4f   scaled %.3f\n", ov.Brier, ov.ScaledBrier)
+	if a.Development != nil {
+		ap := a.Development.Apparent
+		fmt.Fprintf(w, "  development AUC %.3f, O/E %.3f, slope %.3f\n", ap.AUC, ap.OE, ap.Slope)
+	}
+	fmt.Fprintf(w, "Wrote %s, %s and %d figures\n", filepath.Join(dir, "report.md"), filepath.Join(dir, "audit.json"), nfig)
+}
+
+func devOffset(a *validate.Audit) int {
+	if a.Development != nil {
+		return 1
+	}
+	return 0
+}

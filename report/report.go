@@ -1,0 +1,376 @@
+// Package report writes an audit as Markdown that reads well both as
+// plain text and rendered: the summary first, then one section per area,
+// each figure with its interval and a plain sentence of what it means,
+// then the methods, the provenance and the caution.
+package report
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"strings"
+
+	"github.com/riskaudit/riskaudit/metrics"
+	"github.com/riskaudit/riskaudit/plots"
+	"github.com/riskaudit/riskaudit/validate"
+)
+
+// Escape makes user text (names, paths, values) literal in Markdown: the
+// characters that start emphasis, links, code, headings, tables or HTML
+// are preceded by a backslash, and line ends become spaces.
+func Escape(s string) string {
+	var b strings.Builder
+	for _, r := range s {
+		switch r {
+		case '\\', '`', '*', '_', '{', '}', '[', ']', '<', '>', '#', '|', '~', '!', '$', '&':
+			b.WriteByte('\\')
+			b.WriteRune(r)
+		case '\n', '\r':
+			b.WriteByte(' ')
+		default:
+			b.WriteRune(r)
+		}
+	}
+	return b.String()
+}
+
+// Write renders the audit. figures are the SVG files beside the report.
+func Write(w io.Writer, a *validate.Audit, figures []plots.Figure) error {
+	ew := &errWriter{w: w}
+	r := &renderer{w: ew, a: a, figs: map[string]plots.Figure{}}
+	for _, f := range figures {
+		r.figs[f.Name] = f
+	}
+	r.header()
+	r.summary()
+	r.cohort()
+	r.discrimination()
+	r.calibration()
+	r.overall()
+	r.usefulness()
+	r.development()
+	r.methods()
+	r.provenance()
+	r.caution()
+	return ew.err
+}
+
+type errWriter struct {
+	w   io.Writer
+	err error
+}
+
+func (e *errWriter) Write(p []byte) (int, error) {
+	if e.err != nil {
+		return 0, e.err
+	}
+	n, err := e.w.Write(p)
+	e.err = err
+	return n, err
+}
+
+type renderer struct {
+	w    io.Writer
+	a    *validate.Audit
+	figs map[string]plots.Figure
+}
+
+func (r *renderer) p(format string, args ...any) { fmt.Fprintf(r.w, format, args...) }
+
+func (r *renderer) figure(name string) {
+	if f, ok := r.figs[name]; ok {
+		r.p("![%s](%s)\n\n", f.Title, f.Name)
+	}
+}
+
+func (r *renderer) header() {
+	a := r.a
+	r.p("# Model audit: %s\n\n", Escape(a.Model.Name))
+	what := "the frozen model " + code(a.Model.Spec)
+	if a.Model.Source == "predicted risks" {
+		what = "the predicted risks in column " + code(a.Model.Column)
+	}
+	cohortFile := ""
+	for _, in := range a.Provenance.Inputs {
+		if in.Role == "cohort" {
+			cohortFile = in.Path
+		}
+	}
+	r.p("Audit of %s on the cohort %s, outcome %s = %s. Made %s by %s.\n\n",
+		what, code(cohortFile), code(a.Model.Outcome), code(a.Model.Event), a.Provenance.StartedAt, Escape(a.Provenance.Tool))
+}
+
+// code quotes user text as inline code, choosing a fence longer than any
+// run of backticks inside it.
+func code(s string) string {
+	fence := "`"
+	for strings.Contains(s, fence) {
+		fence += "`"
+	}
+	pad := ""
+	if strings.HasPrefix(s, "`") || strings.HasSuffix(s, "`") {
+		pad = " "
+	}
+	s = strings.NewReplacer("\n", " ", "\r", " ").Replace(s)
+	return fence + pad + s + pad + fence
+}
+
+func (r *renderer) summary() {
+	r.p("## Summary\n\n")
+	for _, f := range r.a.Summary {
+		r.p("- **%s.** %s\n", capitalise(f.Area), f.Text)
+	}
+	r.p("\n> %s\n\n", validate.Caution)
+}
+
+func capitalise(s string) string {
+	if s == "" {
+		return s
+	}
+	return strings.ToUpper(s[:1]) + s[1:]
+}
+
+func (r *renderer) cohort() {
+	c := r.a.Cohort
+	r.p("## Cohort\n\n")
+	t := table{head: []string{"", "count"}}
+	t.add("rows read", fmt.Sprint(c.Rows))
+	t.add("rows used (complete cases)", fmt.Sprint(c.Used))
+	t.add("rows left out for missing values", fmt.Sprint(c.Excluded))
+	for _, e := range c.ExcludedByColumn {
+		t.add("  missing "+code(e.Column), fmt.Sprint(e.Rows))
+	}
+	t.add("events", fmt.Sprintf("%d (%.1f%%)", c.Events, 100*c.EventRate))
+	t.add("mean predicted risk", fmt.Sprintf("%.1f%%", 100*c.MeanRisk))
+	t.write(r.w)
+	if c.Clamped > 0 {
+		r.p("%d predicted risks of exactly 0 or 1 were clamped to [%g, 1 − %g] before taking their logit.\n\n", c.Clamped, c.Epsilon, c.Epsilon)
+	}
+}
+
+func (r *renderer) discrimination() {
+	d := r.a.Discrimination
+	r.p("## Discrimination\n\n")
+	t := table{head: []string{"measure", "value", "95% CI", "what it means"}}
+	t.add("AUC (c-statistic)", f3(d.AUC), ci3(d.CI), fmt.Sprintf("the chance that a patient with the event has a higher predicted risk than one without (%d events, %d non-events)", d.Events, d.NonEvents))
+	t.add("AUC, logit-scale interval", f3(d.AUC), ci3(d.LogitCI), "the same interval made on the logit scale, which cannot leave (0, 1)")
+	t.add("DeLong standard error", f4(d.SE), "", "")
+	t.write(r.w)
+	r.figure("roc.svg")
+}
+
+func (r *renderer) calibration() {
+	c := r.a.Calibration
+	r.p("## Calibration\n\n")
+	t := table{head: []string{"measure", "value", "95% CI", "ideal", "what it means"}}
+	t.add("calibration-in-the-large", f3(c.CITL), ci3(c.CITLCI), "0", citlMeaning(c))
+	t.add("calibration slope", f3(c.Slope), ci3(c.SlopeCI), "1", slopeMeaning(c))
+	t.add("observed / expected (O/E)", f3(c.OE), ci3(c.OECI), "1", fmt.Sprintf("%.0f events observed, %.1f expected", c.Observed, c.Expected))
+	t.add("Hosmer–Lemeshow χ²", fmt.Sprintf("%.2f", c.HL.Statistic), "", "", fmt.Sprintf("%d groups, %d df, p %s", c.HL.Groups, c.HL.DF, fmtP(c.HL.P)))
+	t.add("ICI", pct(c.ICI), "", "0", "mean distance between predicted and smoothed observed risk")
+	t.add("E50", pct(c.E50), "", "0", "median of that distance")
+	t.add("E90", pct(c.E90), "", "0", "90th percentile of that distance")
+	t.add("Emax", pct(c.Emax), "", "0", "largest distance")
+	t.write(r.w)
+	delta := "δ = 0: a local fit at every patient"
+	if c.Delta > 0 {
+		delta = fmt.Sprintf("δ = %.4g (local fits %d, the rest interpolated)", c.Delta, c.FitPoints)
+	}
+	r.p("The flexible calibration curve is a LOWESS smooth of the outcome on the predicted risk (span %.2f, local linear, tricube weights, no robustness iterations, %s). Its band is %s.\n\n", c.Span, delta, c.Band)
+	r.figure("calibration.svg")
+	g := r.a.Curves.Groups
+	if len(g) > 0 {
+		t := table{head: []string{"risk group", "patients", "predicted risk", "mean predicted", "observed", "95% CI"}}
+		for i, grp := range g {
+			t.add(fmt.Sprint(i+1), fmt.Sprint(grp.N), fmt.Sprintf("%.1f–%.1f%%", 100*grp.MinRisk, 100*grp.MaxRisk),
+				pct(grp.MeanRisk), pct(grp.Observed.Value), fmt.Sprintf("%.1f–%.1f%%", 100*grp.Observed.CI[0], 100*grp.Observed.CI[1]))
+		}
+		r.p("Observed events by group of predicted risk (exact Clopper–Pearson intervals):\n\n")
+		t.write(r.w)
+	}
+}
+
+func citlMeaning(c validate.Calibration) string {
+	switch {
+	case c.CITLCI[0] > 0:
+		return "predicted risks are too low on average"
+	case c.CITLCI[1] < 0:
+		return "predicted risks are too high on average"
+	}
+	return "no evidence that risks are too high or too low on average"
+}
+
+func slopeMeaning(c validate.Calibration) string {
+	switch {
+	case c.SlopeCI[1] < 1:
+		return "risks too extreme (high too high, low too low)"
+	case c.SlopeCI[0] > 1:
+		return "risks too moderate"
+	}
+	return "no evidence against a slope of 1"
+}
+
+func (r *renderer) overall() {
+	o := r.a.Overall
+	r.p("## Overall accuracy\n\n")
+	t := table{head: []string{"measure", "value", "what it means"}}
+	t.add("Brier score", f4(o.Brier), "mean squared difference between predicted risk and outcome (0 is perfect)")
+	t.add("scaled Brier score", f3(o.ScaledBrier), "share of the error of predicting the event rate for everyone that the model removes (1 is perfect, 0 no better)")
+	t.write(r.w)
+}
+
+func (r *renderer) usefulness() {
+	r.p("## Clinical usefulness\n\n")
+	r.p("Net benefit counts the true positives per patient, less the false positives weighted by the odds of the threshold: the exchange rate a clinician accepts by choosing that threshold (Vickers & Elkin 2006).\n\n")
+	t := table{head: []string{"risk threshold", "model", "treat everyone", "treat no one", "model gains over the better default"}}
+	for _, nb := range r.a.NetBenefit {
+		gain := nb.Model - math.Max(nb.TreatAll, 0)
+		t.add(pct(nb.Threshold), f4(nb.Model), f4(nb.TreatAll), "0", fmt.Sprintf("%+.4f (%+.1f true positives per 1000 patients)", gain, 1000*gain))
+	}
+	t.write(r.w)
+	r.figure("decision_curve.svg")
+	if len(r.a.Classification) > 0 {
+		r.p("Classifying patients at or above a risk threshold as high risk (exact Clopper–Pearson intervals):\n\n")
+		t := table{head: []string{"threshold", "flagged", "sensitivity", "specificity", "PPV", "NPV"}}
+		for _, c := range r.a.Classification {
+			t.add(pct(c.Threshold), pct(c.Flagged), prop(c.Sensitivity), prop(c.Specificity), prop(c.PPV), prop(c.NPV))
+		}
+		t.write(r.w)
+	}
+	r.figure("risk_histogram.svg")
+}
+
+func (r *renderer) development() {
+	d := r.a.Development
+	if d == nil {
+		return
+	}
+	dm := d.Measures
+	r.p("## Development data compared\n\n")
+	r.p("The same measures on the development data %s (%d patients, %d events), beside this cohort. The development figures are apparent performance: measured on the rows the model was fitted to, they are optimistic.\n\n", code(d.File), dm.Cohort.Used, dm.Cohort.Events)
+	t := table{head: []string{"measure", "development", "this cohort", "change"}}
+	row := func(name string, dev, now float64, digits int) {
+		f := fmt.Sprintf("%%.%df", digits)
+		t.add(name, fmt.Sprintf(f, dev), fmt.Sprintf(f, now), fmt.Sprintf("%+."+fmt.Sprint(digits)+"f", now-dev))
+	}
+	row("AUC", dm.Discrimination.AUC, r.a.Discrimination.AUC, 3)
+	row("calibration-in-the-large", dm.Calibration.CITL, r.a.Calibration.CITL, 3)
+	row("calibration slope", dm.Calibration.Slope, r.a.Calibration.Slope, 3)
+	row("O/E", dm.Calibration.OE, r.a.Calibration.OE, 3)
+	row("ICI", dm.Calibration.ICI, r.a.Calibration.ICI, 4)
+	row("Brier score", dm.Overall.Brier, r.a.Overall.Brier, 4)
+	row("scaled Brier score", dm.Overall.ScaledBrier, r.a.Overall.ScaledBrier, 3)
+	row("event rate", dm.Cohort.EventRate, r.a.Cohort.EventRate, 3)
+	row("mean predicted risk", dm.Cohort.MeanRisk, r.a.Cohort.MeanRisk, 3)
+	t.write(r.w)
+}
+
+func (r *renderer) methods() {
+	c := r.a.Calibration
+	r.p("## Methods\n\n")
+	items := []string{
+		"AUC: the Mann–Whitney probability, ties counted ½ (Hanley & McNeil 1982); standard error by DeLong, DeLong & Clarke-Pearson (1988), computed from mid-ranks (Sun & Xu 2014); 95% CI AUC ± 1.96·SE clipped to [0, 1], and a logit-scale interval.",
+		"Calibration-in-the-large: the intercept of a logistic regression of the outcome with logit(risk) as offset; calibration slope: the coefficient of logit(risk) with a free intercept (Cox 1958; Van Calster et al. 2016). Wald intervals.",
+		"O/E: observed over expected events, 95% CI exp(ln(O/E) ± 1.96·√((1 − O/n)/O)).",
+		fmt.Sprintf("Hosmer–Lemeshow test (Hosmer & Lemeshow 1980): %d groups of predicted risk, ties kept together, df = %d.", c.HL.Groups, c.HL.DF),
+		fmt.Sprintf("Flexible calibration curve: LOWESS (Cleveland 1979), span %.2f, local linear, tricube weights, no robustness iterations; ICI, E50, E90 and Emax from it (Austin & Steyerberg 2019).", c.Span),
+		"Brier score (Brier 1950) and scaled Brier score (Steyerberg et al. 2010).",
+		"Net benefit (Vickers & Elkin 2006), treating when the predicted risk is at or above the threshold.",
+		"Proportions with exact Clopper–Pearson intervals (Clopper & Pearson 1934).",
+	}
+	for _, it := range items {
+		r.p("- %s\n", it)
+	}
+	r.p("\n")
+}
+
+func (r *renderer) provenance() {
+	pv := r.a.Provenance
+	r.p("## Provenance\n\n")
+	t := table{head: []string{"input", "file", "SHA-256"}}
+	for _, in := range pv.Inputs {
+		t.add(in.Role, code(in.Path), code(in.SHA256))
+	}
+	t.write(r.w)
+	r.p("Tool: %s. Started: %s. Command line:\n\n", Escape(pv.Tool), pv.StartedAt)
+	fence := "```"
+	for strings.Contains(pv.CommandLine, fence) {
+		fence += "`"
+	}
+	r.p("%s\n%s\n%s\n\n", fence, pv.CommandLine, fence)
+}
+
+func (r *renderer) caution() {
+	r.p("## Caution\n\n%s\n", validate.Caution)
+}
+
+// table is a Markdown pipe table whose columns are padded so that it
+// also lines up as plain text.
+type table struct {
+	head []string
+	rows [][]string
+}
+
+func (t *table) add(cells ...string) { t.rows = append(t.rows, cells) }
+
+func (t *table) write(w io.Writer) {
+	width := make([]int, len(t.head))
+	for i, h := range t.head {
+		width[i] = max(3, len([]rune(h)))
+	}
+	for _, r := range t.rows {
+		for i, c := range r {
+			width[i] = max(width[i], len([]rune(c)))
+		}
+	}
+	line := func(cells []string) {
+		var b strings.Builder
+		b.WriteString("|")
+		for i := range t.head {
+			c := ""
+			if i < len(cells) {
+				c = cells[i]
+			}
+			b.WriteString(" " + c + strings.Repeat(" ", width[i]-len([]rune(c))) + " |")
+		}
+		fmt.Fprintln(w, b.String())
+	}
+	line(t.head)
+	var b strings.Builder
+	b.WriteString("|")
+	for i := range t.head {
+		b.WriteString(strings.Repeat("-", width[i]+2) + "|")
+	}
+	fmt.Fprintln(w, b.String())
+	for _, r := range t.rows {
+		line(r)
+	}
+	fmt.Fprintln(w)
+}
+
+func f3(v float64) string { return fmt.Sprintf("%.3f", v) }
+func f4(v float64) string { return fmt.Sprintf("%.4f", v) }
+func pct(v float64) string {
+	if math.IsNaN(v) {
+		return "n/a"
+	}
+	return fmt.Sprintf("%.1f%%", 100*v)
+}
+func ci3(ci [2]float64) string { return fmt.Sprintf("%.3f to %.3f", ci[0], ci[1]) }
+
+func prop(p metrics.Proportion) string {
+	if math.IsNaN(p.Value) {
+		return "n/a"
+	}
+	return fmt.Sprintf("%.1f%% (%.1f–%.1f)", 100*p.Value, 100*p.CI[0], 100*p.CI[1])
+}
+
+func fmtP(p float64) string {
+	switch {
+	case math.IsNaN(p):
+		return "n/a"
+	case p < 0.0001:
+		return "< 0.0001"
+	}
+	return fmt.Sprintf("%.4f", p)
+}

@@ -1,0 +1,199 @@
+package validate
+
+import (
+	"fmt"
+	"math"
+	"strings"
+)
+
+// Schema names the layout of audit.json.
+const Schema = "riskaudit.audit/1"
+
+// Caution is the statement every audit carries.
+const Caution = "This audit is statistical evidence about the model's performance on the cohorts named here. " +
+	"It is not a clinical decision: whether to keep, recalibrate, update or withdraw the model belongs to the " +
+	"organisation's clinical governance, under the local regulation that applies to clinical software."
+
+// InputFile is one input of the audit with its SHA-256.
+type InputFile struct {
+	Role   string `json:"role"`
+	Path   string `json:"path"`
+	SHA256 string `json:"sha256"`
+}
+
+// Provenance records how the audit was made.
+type Provenance struct {
+	Tool        string      `json:"tool"`
+	CommandLine string      `json:"command_line"`
+	StartedAt   string      `json:"started_at"`
+	Inputs      []InputFile `json:"inputs"`
+}
+
+// ModelInfo describes what was audited.
+type ModelInfo struct {
+	Name string `json:"name"`
+	// Source is "frozen model" or "predicted risks".
+	Source string `json:"source"`
+	// Spec is the frozen model's file; Column the column of predicted
+	// risks.
+	Spec    string   `json:"spec,omitempty"`
+	Column  string   `json:"predicted_column,omitempty"`
+	Terms   []string `json:"terms,omitempty"`
+	Outcome string   `json:"outcome"`
+	Event   string   `json:"event"`
+}
+
+// Apparent is the model's performance on its development data, in the
+// keys the internal-validation report also uses.
+type Apparent struct {
+	AUC         float64 `json:"auc"`
+	Slope       float64 `json:"slope"`
+	CITL        float64 `json:"citl"`
+	Brier       float64 `json:"brier"`
+	ScaledBrier float64 `json:"scaled_brier"`
+	OE          float64 `json:"oe"`
+	ICI         float64 `json:"ici"`
+}
+
+// Development is the model's performance on the development data.
+type Development struct {
+	File     string       `json:"file"`
+	Apparent Apparent     `json:"apparent"`
+	Measures *Performance `json:"measures"`
+}
+
+// Finding is one plain-language statement of the summary.
+type Finding struct {
+	Area string `json:"area"`
+	Text string `json:"text"`
+}
+
+// Audit is the whole result, written as audit.json and rendered as the
+// report. The keys of Performance appear at the top level.
+type Audit struct {
+	Schema     string     `json:"schema"`
+	Model      ModelInfo  `json:"model"`
+	Provenance Provenance `json:"provenance"`
+	Performance
+	Development *Development `json:"development,omitempty"`
+	Summary     []Finding    `json:"summary"`
+	Caution     string       `json:"caution"`
+}
+
+// NewAudit assembles an audit from the new cohort's performance and,
+// when dev is not nil, the development data's.
+func NewAudit(m ModelInfo, prov Provenance, perf *Performance, dev *Performance, devFile string) *Audit {
+	a := &Audit{Schema: Schema, Model: m, Provenance: prov, Performance: *perf, Caution: Caution}
+	if dev != nil {
+		a.Development = &Development{File: devFile, Measures: dev, Apparent: apparent(dev)}
+	}
+	a.Summary = Findings(perf, dev)
+	return a
+}
+
+func apparent(p *Performance) Apparent {
+	return Apparent{AUC: p.Discrimination.AUC, Slope: p.Calibration.Slope, CITL: p.Calibration.CITL,
+		Brier: p.Overall.Brier, ScaledBrier: p.Overall.ScaledBrier, OE: p.Calibration.OE, ICI: p.Calibration.ICI}
+}
+
+// Findings states what the measures mean, one plain sentence per area.
+// The wording for the AUC follows the common rule of thumb of Hosmer,
+// Lemeshow & Sturdivant (Applied Logistic Regression, 3rd ed., 2013,
+// §5.2.4; recalled from memory): below 0.7 poor, 0.7–0.8 acceptable,
+// 0.8–0.9 excellent, 0.9 and above outstanding.
+func Findings(p *Performance, dev *Performance) []Finding {
+	var out []Finding
+	d := p.Discrimination
+	text := fmt.Sprintf("AUC %.3f (95%% CI %.3f to %.3f), %s discrimination: in about %d of 100 pairs of one patient with the event and one without, the patient with the event was given the higher risk.",
+		d.AUC, d.CI[0], d.CI[1], aucWord(d.AUC), int(math.Round(100*d.AUC)))
+	if dev != nil {
+		text += fmt.Sprintf(" In the development data it was %.3f.", dev.Discrimination.AUC)
+	}
+	out = append(out, Finding{"discrimination", text})
+	c := p.Calibration
+	out = append(out, Finding{"calibration in the large", oeSentence(c)})
+	out = append(out, Finding{"calibration slope", slopeSentence(c)})
+	out = append(out, Finding{"flexible calibration", fmt.Sprintf(
+		"Across patients the predicted risk differs from the smoothed observed risk by %.1f percentage points on average (ICI), by at most %.1f for half of them (E50) and %.1f for nine in ten (E90).",
+		100*c.ICI, 100*c.E50, 100*c.E90)})
+	o := p.Overall
+	out = append(out, Finding{"overall accuracy", fmt.Sprintf(
+		"Brier score %.4f; scaled Brier %.3f: the model removes %s of the squared error of giving every patient the observed event rate.",
+		o.Brier, o.ScaledBrier, percentWord(o.ScaledBrier))})
+	out = append(out, Finding{"clinical usefulness", netBenefitSentence(p)})
+	return out
+}
+
+func aucWord(a float64) string {
+	switch {
+	case a >= 0.9:
+		return "outstanding"
+	case a >= 0.8:
+		return "excellent"
+	case a >= 0.7:
+		return "acceptable"
+	}
+	return "poor"
+}
+
+func oeSentence(c Calibration) string {
+	s := fmt.Sprintf("Observed events were %.0f against %.1f predicted (O/E %.2f, 95%% CI %.2f to %.2f; calibration-in-the-large %.3f, CI %.3f to %.3f)",
+		c.Observed, c.Expected, c.OE, c.OECI[0], c.OECI[1], c.CITL, c.CITLCI[0], c.CITLCI[1])
+	switch {
+	case c.OECI[0] > 1:
+		return s + fmt.Sprintf(": the model under-predicts risk; events happened %s more often than it predicted.", fractionWord(c.OE-1))
+	case c.OECI[1] < 1:
+		return s + fmt.Sprintf(": the model over-predicts risk; events happened %s less often than it predicted.", fractionWord(1-c.OE))
+	}
+	return s + ": consistent with the model predicting the right number of events overall."
+}
+
+func slopeSentence(c Calibration) string {
+	s := fmt.Sprintf("Calibration slope %.2f (95%% CI %.2f to %.2f)", c.Slope, c.SlopeCI[0], c.SlopeCI[1])
+	switch {
+	case c.SlopeCI[1] < 1:
+		return s + ": the predicted risks are too extreme — high risks too high and low risks too low — as when a model is overfitted or its predictors matter less in this cohort."
+	case c.SlopeCI[0] > 1:
+		return s + ": the predicted risks are too moderate — they spread less than the observed risks — as when predictors matter more in this cohort."
+	}
+	return s + ": consistent with the ideal slope of 1, so the spread of the predicted risks fits the cohort."
+}
+
+func netBenefitSentence(p *Performance) string {
+	var better []string
+	for _, nb := range p.NetBenefit {
+		if nb.Model > nb.TreatAll && nb.Model > 0 {
+			better = append(better, fmt.Sprintf("%g%%", math.Round(nb.Threshold*1000)/10))
+		}
+	}
+	if len(better) == 0 {
+		return "At none of the risk thresholds examined does acting on the model do more good than treating everyone or no one (net benefit, Vickers & Elkin 2006)."
+	}
+	if len(better) == len(p.NetBenefit) {
+		return fmt.Sprintf("At every risk threshold examined (%s to %s) acting on the model gives a higher net benefit than treating everyone or no one (Vickers & Elkin 2006).", better[0], better[len(better)-1])
+	}
+	return fmt.Sprintf("Acting on the model gives a higher net benefit than treating everyone or no one at the thresholds %s (Vickers & Elkin 2006); at the others it does not.", strings.Join(better, ", "))
+}
+
+// fractionWord says a positive share in words: "about a fifth" for 0.2,
+// otherwise a rounded percentage.
+func fractionWord(f float64) string {
+	names := []struct {
+		v    float64
+		name string
+	}{{0.1, "a tenth"}, {1.0 / 8, "an eighth"}, {1.0 / 6, "a sixth"}, {0.2, "a fifth"}, {0.25, "a quarter"},
+		{1.0 / 3, "a third"}, {0.5, "a half"}}
+	for _, n := range names {
+		if math.Abs(f-n.v) <= 0.015 {
+			return "about " + n.name
+		}
+	}
+	return fmt.Sprintf("about %.0f%%", 100*f)
+}
+
+func percentWord(f float64) string {
+	if f < 0 {
+		return "none (it does worse than that)"
+	}
+	return fmt.Sprintf("%.0f%%", 100*f)
+}

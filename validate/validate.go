@@ -1,0 +1,284 @@
+// Package validate measures how a model's predicted risks perform on a
+// cohort with observed outcomes: discrimination, calibration, overall
+// accuracy and clinical usefulness, gathered into one result that the
+// report, the figures and the JSON are written from.
+package validate
+
+import (
+	"fmt"
+	"math"
+	"sync"
+
+	"github.com/riskaudit/riskaudit/metrics"
+)
+
+// DefaultEpsilon clamps predicted risks of exactly 0 or 1 to
+// [ε, 1 − ε] before taking their logit (our choice: small enough to leave
+// every risk a model could usefully report unchanged, large enough that
+// logit(ε) ≈ −20.7 stays well inside the range where the calibration
+// fits behave).
+const DefaultEpsilon = 1e-9
+
+// Options control an assessment. The zero value gives the defaults.
+type Options struct {
+	// Thresholds are the risk thresholds of the decision curve (default
+	// 0.05 to 0.50 by 0.05).
+	Thresholds []float64
+	// ClassifyAt are the thresholds at which sensitivity, specificity,
+	// PPV and NPV are given (default 0.10 and 0.20).
+	ClassifyAt []float64
+	// Groups is the number of risk groups of the grouped calibration plot
+	// (default 10: deciles of predicted risk).
+	Groups int
+	// HLGroups is the number of Hosmer–Lemeshow groups (default 10).
+	HLGroups int
+	// Span is the LOWESS span (default 0.75).
+	Span float64
+	// Delta is the LOWESS δ; a negative value (the default, via
+	// AutoDelta) chooses metrics.DefaultDelta.
+	Delta float64
+	// Epsilon clamps risks of 0 or 1 for the logit (default
+	// DefaultEpsilon).
+	Epsilon float64
+	// Development marks the rows the model was fitted to: the
+	// Hosmer–Lemeshow df is then groups − 2.
+	Development bool
+	// Workers bounds the goroutines (default GOMAXPROCS).
+	Workers int
+}
+
+// AutoDelta asks for the default LOWESS δ.
+const AutoDelta = -1
+
+// DefaultThresholds returns 0.05, 0.10, …, 0.50.
+func DefaultThresholds() []float64 {
+	out := make([]float64, 10)
+	for i := range out {
+		out[i] = float64(i+1) * 0.05
+	}
+	return out
+}
+
+func (o *Options) defaults() {
+	if o.Thresholds == nil {
+		o.Thresholds = DefaultThresholds()
+	}
+	if o.ClassifyAt == nil {
+		o.ClassifyAt = []float64{0.10, 0.20}
+	}
+	if o.Groups <= 0 {
+		o.Groups = 10
+	}
+	if o.HLGroups <= 0 {
+		o.HLGroups = 10
+	}
+	if o.Span <= 0 {
+		o.Span = 0.75
+	}
+	if o.Epsilon <= 0 {
+		o.Epsilon = DefaultEpsilon
+	}
+}
+
+// Discrimination is the AUC with its DeLong SE and intervals.
+type Discrimination struct {
+	metrics.AUCResult
+}
+
+// Calibration holds every calibration measure. The JSON keys are a
+// stable interface.
+type Calibration struct {
+	CITL      float64                    `json:"citl"`
+	CITLSE    float64                    `json:"citl_se"`
+	CITLCI    [2]float64                 `json:"citl_ci"`
+	Slope     float64                    `json:"slope"`
+	SlopeSE   float64                    `json:"slope_se"`
+	SlopeCI   [2]float64                 `json:"slope_ci"`
+	OE        float64                    `json:"oe"`
+	OECI      [2]float64                 `json:"oe_ci"`
+	Observed  float64                    `json:"observed_events"`
+	Expected  float64                    `json:"expected_events"`
+	HL        metrics.HosmerLemeshowTest `json:"hosmer_lemeshow"`
+	ICI       float64                    `json:"ici"`
+	E50       float64                    `json:"e50"`
+	E90       float64                    `json:"e90"`
+	Emax      float64                    `json:"emax"`
+	Span      float64                    `json:"lowess_span"`
+	Delta     float64                    `json:"lowess_delta"`
+	FitPoints int                        `json:"lowess_fit_points"`
+	Band      string                     `json:"band_method"`
+}
+
+// Overall is the overall accuracy.
+type Overall struct {
+	Brier       float64 `json:"brier"`
+	ScaledBrier float64 `json:"scaled_brier"`
+}
+
+// CohortSummary describes the rows assessed.
+type CohortSummary struct {
+	Rows      int     `json:"rows"`
+	Used      int     `json:"used"`
+	Excluded  int     `json:"excluded"`
+	Events    int     `json:"events"`
+	EventRate float64 `json:"event_rate"`
+	MeanRisk  float64 `json:"mean_risk"`
+	// Clamped counts risks of exactly 0 or 1 clamped to [Epsilon,
+	// 1 − Epsilon] for the logit.
+	Clamped int     `json:"clamped"`
+	Epsilon float64 `json:"epsilon"`
+	// ExcludedByColumn counts the missing values behind the exclusions.
+	ExcludedByColumn []ColumnCount `json:"excluded_by_column"`
+}
+
+// ColumnCount is a count of rows for one column.
+type ColumnCount struct {
+	Column string `json:"column"`
+	Rows   int    `json:"rows"`
+}
+
+// CurvePoint is one point of the flexible calibration curve: the smoothed
+// observed risk at a predicted risk, with its pointwise 95% band.
+type CurvePoint struct {
+	Predicted float64 `json:"predicted"`
+	Observed  float64 `json:"observed"`
+	Lower     float64 `json:"lower"`
+	Upper     float64 `json:"upper"`
+}
+
+// Curves are the data behind the figures.
+type Curves struct {
+	ROC       []metrics.ROCPoint  `json:"roc"`
+	Flexible  []CurvePoint        `json:"calibration_curve"`
+	Groups    []metrics.RiskGroup `json:"risk_groups"`
+	Histogram metrics.Histogram   `json:"risk_histogram"`
+}
+
+// Performance is everything measured on one cohort.
+type Performance struct {
+	Cohort         CohortSummary            `json:"cohort"`
+	Discrimination Discrimination           `json:"discrimination"`
+	Calibration    Calibration              `json:"calibration"`
+	Overall        Overall                  `json:"overall"`
+	NetBenefit     []metrics.NetBenefit     `json:"net_benefit"`
+	Classification []metrics.Classification `json:"classification"`
+	Curves         Curves                   `json:"curves"`
+}
+
+// RiskError reports a predicted risk that is not a probability.
+type RiskError struct {
+	Row   int
+	Value float64
+}
+
+func (e *RiskError) Error() string {
+	return fmt.Sprintf("predicted risk %v of row %d is not in [0, 1]", e.Value, e.Row)
+}
+
+// BandMethod says how the calibration curve's band is made.
+const BandMethod = "pointwise 95%: smoothed ± 1.96·√(ŝ(1 − ŝ)·Σl²), the variance of the local linear smoother with the binomial variance at the smoothed value (Cleveland & Devlin 1988)"
+
+// Assess measures risks p against outcomes y (1 event, 0 non-event).
+// A risk outside [0, 1] or NaN is a *RiskError naming its row.
+func Assess(y, p []float64, opt Options) (*Performance, error) {
+	opt.defaults()
+	if len(y) != len(p) {
+		return nil, fmt.Errorf("validate: %d outcomes but %d risks", len(y), len(p))
+	}
+	for i, v := range p {
+		if !(v >= 0 && v <= 1) {
+			return nil, &RiskError{Row: i, Value: v}
+		}
+	}
+	perf := &Performance{}
+	c := &perf.Cohort
+	c.Used = len(y)
+	for _, v := range y {
+		if v == 1 {
+			c.Events++
+		}
+	}
+	if c.Events == 0 || c.Events == c.Used {
+		return nil, fmt.Errorf("validate: the cohort has %d events among %d rows: both outcomes are needed", c.Events, c.Used)
+	}
+	c.EventRate = float64(c.Events) / float64(c.Used)
+	c.Epsilon = opt.Epsilon
+	lp, clamped := metrics.ClampedLogits(p, opt.Epsilon)
+	c.Clamped = clamped
+	order := metrics.SortedOrder(p)
+	lo, hi := p[order[0]], p[order[len(order)-1]]
+	delta := opt.Delta
+	if delta < 0 {
+		delta = metrics.DefaultDelta(lo, hi, len(p))
+	}
+
+	// The calibration fits and the smooth are the slow parts: run them
+	// beside each other.
+	var wg sync.WaitGroup
+	var citl, slope metrics.Estimate
+	var errCITL, errSlope error
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		citl, errCITL = metrics.CalibrationInTheLarge(y, lp)
+		slope, _, errSlope = metrics.CalibrationSlope(y, lp)
+	}()
+	flex := metrics.FlexibleCalibration(y, p, order, metrics.LowessOptions{Span: opt.Span, Delta: delta, Workers: opt.Workers})
+	auc, _ := metrics.AUC(y, p, order)
+	perf.Discrimination = Discrimination{auc}
+	wg.Wait()
+	if errCITL != nil {
+		return nil, errCITL
+	}
+	if errSlope != nil {
+		return nil, errSlope
+	}
+	oe, oeci, obs, exp := metrics.OE(y, p)
+	c.MeanRisk = exp / float64(len(p))
+	cal := &perf.Calibration
+	*cal = Calibration{
+		CITL: citl.Value, CITLSE: citl.SE, CITLCI: citl.CI,
+		Slope: slope.Value, SlopeSE: slope.SE, SlopeCI: slope.CI,
+		OE: oe, OECI: oeci, Observed: obs, Expected: exp,
+		HL:  metrics.HosmerLemeshow(y, p, opt.HLGroups, opt.Development),
+		ICI: flex.ICI, E50: flex.E50, E90: flex.E90, Emax: flex.Emax,
+		Span: opt.Span, Delta: delta, FitPoints: flex.Curve.FitPoints, Band: BandMethod,
+	}
+	cal.HL.Table = nil
+	perf.Overall.Brier, perf.Overall.ScaledBrier = metrics.Brier(y, p)
+	perf.NetBenefit = metrics.NetBenefits(y, p, opt.Thresholds)
+	perf.Classification = metrics.Classify(y, p, opt.ClassifyAt)
+	perf.Curves = Curves{
+		ROC:       metrics.ROC(y, p, order, 500),
+		Flexible:  thinCurve(flex.Curve, 200),
+		Groups:    metrics.RiskGroups(y, p, opt.Groups),
+		Histogram: metrics.RiskHistogram(y, p, 40),
+	}
+	return perf, nil
+}
+
+// thinCurve keeps about n points of the smooth, evenly spaced in rank,
+// always the first and the last, with the band clipped to [0, 1].
+func thinCurve(c metrics.LowessCurve, n int) []CurvePoint {
+	m := len(c.X)
+	if m == 0 {
+		return nil
+	}
+	step := max(1, m/n)
+	var out []CurvePoint
+	for i := 0; i < m; i += step {
+		out = append(out, curvePoint(c, i))
+	}
+	if (m-1)%step != 0 {
+		out = append(out, curvePoint(c, m-1))
+	}
+	return out
+}
+
+func curvePoint(c metrics.LowessCurve, i int) CurvePoint {
+	h := metrics.Z975 * c.SE[i]
+	return CurvePoint{
+		Predicted: c.X[i], Observed: c.Fit[i],
+		Lower: math.Max(0, c.Fit[i]-h), Upper: math.Min(1, c.Fit[i]+h),
+	}
+}
