@@ -247,7 +247,11 @@ func (r *renderer) development() {
 	}
 	dm := d.Measures
 	r.p("## Development data compared\n\n")
-	r.p("The same measures on the development data %s (%d patients, %d events), beside this cohort. The development figures are apparent performance: measured on the rows the model was fitted to, they are optimistic.\n\n", code(d.File), dm.Cohort.Used, dm.Cohort.Events)
+	r.p("The same measures on the development data %s (%d patients, %d events), beside this cohort.", code(d.File), dm.Cohort.Used, dm.Cohort.Events)
+	if d.Fitted {
+		r.p(" The model was fitted to these data, so their figures are apparent performance: measured on the rows the model learnt from, they are optimistic.")
+	}
+	r.p("\n\n")
 	t := table{head: []string{"measure", "development", "this cohort", "change"}}
 	row := func(name string, dev, now float64, digits int) {
 		f := fmt.Sprintf("%%.%df", digits)

@@ -57,7 +57,11 @@ type Apparent struct {
 
 // Development is the model's performance on the development data.
 type Development struct {
-	File     string       `json:"file"`
+	File string `json:"file"`
+	// Fitted reports that the frozen model was fitted to this file (its
+	// provenance names the file's SHA-256), so the measures are apparent
+	// performance.
+	Fitted   bool         `json:"model_fitted_to_this_data"`
 	Apparent Apparent     `json:"apparent"`
 	Measures *Performance `json:"measures"`
 }

@@ -235,6 +235,9 @@ func runAudit(o *auditOptions, s *streams) error {
 		}
 	}
 	a := validate.NewAudit(modelInfo(o, spec, cur), provenance(o, s, started, cur, dev), perf, devPerf, o.devFile)
+	if a.Development != nil {
+		a.Development.Fitted = dev.isDevFit
+	}
 	label := a.Model.Name
 	prog.step("drawing figures")
 	figs, err := plots.All(perf, label)
