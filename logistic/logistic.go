@@ -482,6 +482,10 @@ const block = 256
 func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool) {
 	d := e.d
 	p := d.P
+	if derivs && p <= 3 {
+		e.passSmall(beta, lo, hi, c)
+		return
+	}
 	var xc, wx, rv []float64
 	if derivs {
 		xc = make([]float64, p*block) // the block's X, column after column
@@ -554,6 +558,65 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool) {
 	}
 	if derivs && nb > 0 {
 		flush()
+	}
+	c.dev = 2 * (dev + math.Log(prod))
+}
+
+// passSmall is pass with derivatives for at most three columns, where
+// adding each row's products directly beats gathering blocks.
+func (e *evaluator) passSmall(beta []float64, lo, hi int, c *chunk) {
+	d := e.d
+	p := d.P
+	var info [9]float64
+	var score [3]float64
+	dev, prod, np := 0.0, 1.0, 0
+	for i := lo; i < hi; i++ {
+		wt := 1.0
+		if d.Weights != nil {
+			wt = d.Weights[i]
+			if wt == 0 {
+				continue
+			}
+		}
+		x := d.X[i*p : i*p+p]
+		eta := 0.0
+		if d.Offset != nil {
+			eta = d.Offset[i]
+		}
+		for j, b := range beta {
+			eta += x[j] * b
+		}
+		y := d.Y[i]
+		z := math.Exp(-math.Abs(eta))
+		dev += wt * (math.Max(eta, 0) - y*eta)
+		if wt == 1 {
+			prod *= 1 + z
+			if np++; np == 256 {
+				dev += math.Log(prod)
+				prod, np = 1, 0
+			}
+		} else {
+			dev += wt * log1pUnit(z)
+		}
+		mu := 1 / (1 + z)
+		if eta < 0 {
+			mu = z / (1 + z)
+		}
+		v := wt * mu * (1 - mu)
+		r := wt * (y - mu)
+		for j, xj := range x {
+			score[j] += r * xj
+			vx := v * xj
+			for k := j; k < p; k++ {
+				info[j*3+k] += vx * x[k]
+			}
+		}
+	}
+	for j := 0; j < p; j++ {
+		c.score[j] += score[j]
+		for k := j; k < p; k++ {
+			c.info[j*p+k] += info[j*3+k]
+		}
 	}
 	c.dev = 2 * (dev + math.Log(prod))
 }

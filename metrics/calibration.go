@@ -51,7 +51,18 @@ func CalibrationInTheLarge(y, lp []float64) (Estimate, error) {
 	for i := range x {
 		x[i] = 1
 	}
-	res, err := logistic.Fit(logistic.Data{X: x, N: n, P: 1, Y: y, Offset: lp}, logistic.Options{})
+	// Start from the difference of the mean outcome and the mean risk on
+	// the logit scale, close to the estimate when risks are not extreme.
+	ybar, pbar := sum(y)/float64(n), 0.0
+	for _, v := range lp {
+		pbar += expit(v)
+	}
+	pbar /= float64(n)
+	start := []float64{0}
+	if ybar > 0 && ybar < 1 {
+		start[0] = math.Log(ybar/(1-ybar)) - math.Log(pbar/(1-pbar))
+	}
+	res, err := logistic.Fit(logistic.Data{X: x, N: n, P: 1, Y: y, Offset: lp}, logistic.Options{Start: start})
 	if err != nil {
 		return Estimate{}, fmt.Errorf("calibration-in-the-large: %w", err)
 	}
@@ -69,7 +80,8 @@ func CalibrationSlope(y, lp []float64) (slope, intercept Estimate, err error) {
 	for i, v := range lp {
 		x[2*i], x[2*i+1] = 1, v
 	}
-	res, err := logistic.Fit(logistic.Data{X: x, N: n, P: 2, Y: y}, logistic.Options{})
+	// Start from perfect calibration, intercept 0 and slope 1.
+	res, err := logistic.Fit(logistic.Data{X: x, N: n, P: 2, Y: y}, logistic.Options{Start: []float64{0, 1}})
 	if err != nil {
 		return Estimate{}, Estimate{}, fmt.Errorf("calibration slope: %w", err)
 	}

@@ -4,6 +4,7 @@ import (
 	"cmp"
 	"math"
 	"slices"
+	"sync"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -41,6 +42,12 @@ type HosmerLemeshowTest struct {
 //
 // HosmerLemeshow panics if y and p differ in length or g < 1.
 func HosmerLemeshow(y, p []float64, g int, development bool) HosmerLemeshowTest {
+	return HosmerLemeshowSorted(y, p, nil, g, development)
+}
+
+// HosmerLemeshowSorted is HosmerLemeshow with the rows already sorted by
+// p (order as from SortedOrder; nil sorts here).
+func HosmerLemeshowSorted(y, p []float64, order []int, g int, development bool) HosmerLemeshowTest {
 	if len(y) != len(p) {
 		panic("metrics: HosmerLemeshow: y and p differ in length")
 	}
@@ -48,7 +55,10 @@ func HosmerLemeshow(y, p []float64, g int, development bool) HosmerLemeshowTest 
 		panic("metrics: HosmerLemeshow: fewer than one group")
 	}
 	n := len(p)
-	idx := SortedOrder(p)
+	idx := order
+	if idx == nil {
+		idx = SortedOrder(p)
+	}
 	starts := make([]int, 0, g+1)
 	for k := 0; k < g; k++ {
 		s := k * n / g
@@ -94,11 +104,13 @@ func HosmerLemeshow(y, p []float64, g int, development bool) HosmerLemeshowTest 
 // Large inputs are sorted by a least-significant-digit radix sort on the
 // IEEE-754 bit patterns (mapped so that unsigned order is numeric order),
 // 11 bits per pass, skipping passes in which every key has the same
-// digit; radix sorting is stable, so ties keep their row order.
+// digit. Each pass is split between two goroutines, the first half's rows
+// placed before the second's within every bucket, so the sort stays
+// stable.
 func SortedOrder(p []float64) []int {
 	n := len(p)
-	idx := make([]int, n)
 	if n < 4096 {
+		idx := make([]int, n)
 		for i := range idx {
 			idx[i] = i
 		}
@@ -107,46 +119,103 @@ func SortedOrder(p []float64) []int {
 	}
 	const bits, buckets, passes = 11, 1 << 11, 6
 	keys := make([]uint64, n)
-	var hist [passes][buckets]int
-	for i, v := range p {
-		k := math.Float64bits(v)
-		if k>>63 == 1 {
-			k = ^k
-		} else {
-			k |= 1 << 63
-		}
-		keys[i] = k
-		idx[i] = i
-		for d := 0; d < passes; d++ {
-			hist[d][(k>>(d*bits))&(buckets-1)]++
-		}
+	idx := make([]int32, n)
+	half := n / 2
+	var hist [2][passes][buckets]int
+	var wg sync.WaitGroup
+	for h := 0; h < 2; h++ {
+		wg.Add(1)
+		go func(h int) {
+			defer wg.Done()
+			lo, hi := h*half, n
+			if h == 0 {
+				hi = half
+			}
+			hh := &hist[h]
+			for i := lo; i < hi; i++ {
+				k := math.Float64bits(p[i])
+				if k>>63 == 1 {
+					k = ^k
+				} else {
+					k |= 1 << 63
+				}
+				keys[i] = k
+				idx[i] = int32(i)
+				for d := 0; d < passes; d++ {
+					hh[d][(k>>(d*bits))&(buckets-1)]++
+				}
+			}
+		}(h)
 	}
-	tk, ti := make([]uint64, n), make([]int, n)
+	wg.Wait()
+	tk, ti := make([]uint64, n), make([]int32, n)
 	for d := 0; d < passes; d++ {
-		h := &hist[d]
+		h0, h1 := &hist[0][d], &hist[1][d]
 		skip := false
 		sum := 0
-		for b := range h {
-			if h[b] == n {
+		for b := 0; b < buckets; b++ {
+			c0, c1 := h0[b], h1[b]
+			if c0+c1 == n {
 				skip = true
 				break
 			}
-			c := h[b]
-			h[b] = sum
-			sum += c
+			h0[b], h1[b] = sum, sum+c0
+			sum += c0 + c1
 		}
 		if skip {
 			continue
 		}
-		shift := d * bits
-		for j, k := range keys {
-			b := (k >> shift) & (buckets - 1)
-			pos := h[b]
-			h[b]++
-			tk[pos], ti[pos] = k, idx[j]
+		// The histograms were counted on the original halves; a pass
+		// scatters the current order, whose halves hold other rows, so
+		// recount the second half's digits for this pass.
+		if d > 0 {
+			recount(keys, half, d*bits, h0, h1)
 		}
+		shift := d * bits
+		for h := 0; h < 2; h++ {
+			wg.Add(1)
+			go func(h int) {
+				defer wg.Done()
+				off := h0
+				lo, hi := 0, half
+				if h == 1 {
+					off, lo, hi = h1, half, n
+				}
+				for j := lo; j < hi; j++ {
+					k := keys[j]
+					b := (k >> shift) & (buckets - 1)
+					pos := off[b]
+					off[b]++
+					tk[pos], ti[pos] = k, idx[j]
+				}
+			}(h)
+		}
+		wg.Wait()
 		keys, tk = tk, keys
 		idx, ti = ti, idx
 	}
-	return idx
+	out := make([]int, n)
+	for i, v := range idx {
+		out[i] = int(v)
+	}
+	return out
+}
+
+// recount sets the bucket offsets of both halves for the digit at shift
+// from the keys in their current order: h0 for keys[:half], h1 for the
+// rest.
+func recount(keys []uint64, half int, shift int, h0, h1 *[1 << 11]int) {
+	const buckets = 1 << 11
+	var c0, c1 [buckets]int
+	for _, k := range keys[:half] {
+		c0[(k>>shift)&(buckets-1)]++
+	}
+	for _, k := range keys[half:] {
+		c1[(k>>shift)&(buckets-1)]++
+	}
+	sum := 0
+	for b := 0; b < buckets; b++ {
+		h0[b], h1[b] = sum, sum+c0[b]
+		sum += c0[b] + c1[b]
+	}
 }

@@ -77,3 +77,43 @@ func TestHosmerLemeshowStableOrder(t *testing.T) {
 		t.Errorf("%v vs %v", a, b)
 	}
 }
+
+func TestQuantileSelectMatchesSort(t *testing.T) {
+	r := rand.New(rand.NewPCG(21, 22))
+	for _, n := range []int{1, 2, 3, 10, 101, 5000} {
+		a := make([]float64, n)
+		for i := range a {
+			a[i] = float64(r.IntN(50)) // ties
+		}
+		s := slices.Clone(a)
+		slices.Sort(s)
+		for _, q := range []float64{0, 0.1, 0.5, 0.9, 1} {
+			if got, want := quantileSelect(slices.Clone(a), q), Quantile7(s, q); got != want {
+				t.Fatalf("n=%d q=%v: %v, want %v", n, q, got, want)
+			}
+		}
+	}
+}
+
+func TestThresholdCountsSortedPath(t *testing.T) {
+	r := rand.New(rand.NewPCG(31, 32))
+	n := 3000
+	y, p := make([]float64, n), make([]float64, n)
+	for i := range p {
+		p[i] = float64(r.IntN(40)) / 40
+		if r.Float64() < p[i] {
+			y[i] = 1
+		}
+	}
+	ts := []float64{0.3, 0.05, 0.5, 0.5, 0.975}
+	unsorted := ThresholdCounts(y, p, ts)
+	order := SortedOrder(p)
+	ps, ys := make([]float64, n), make([]float64, n)
+	for k, i := range order {
+		ps[k], ys[k] = p[i], y[i]
+	}
+	sorted := ThresholdCounts(ys, ps, ts)
+	if !slices.Equal(unsorted, sorted) {
+		t.Errorf("sorted path %v, unsorted %v", sorted, unsorted)
+	}
+}

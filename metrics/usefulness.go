@@ -18,6 +18,9 @@ type Counts struct {
 // pass over the rows (each row is placed by binary search among the
 // sorted thresholds).
 func ThresholdCounts(y, p []float64, ts []float64) []Counts {
+	if sort.Float64sAreSorted(p) {
+		return sortedThresholdCounts(y, p, ts)
+	}
 	sorted := append([]float64(nil), ts...)
 	sort.Float64s(sorted)
 	// posAt[k] counts rows whose risk reaches sorted[k-1] but not
@@ -50,6 +53,33 @@ func ThresholdCounts(y, p []float64, ts []float64) []Counts {
 	for i, t := range ts {
 		j := sort.SearchFloat64s(sorted, t)
 		out[i] = bySorted[j]
+	}
+	return out
+}
+
+// sortedThresholdCounts is ThresholdCounts for risks sorted ascending:
+// one pass counts the events below each row, and each threshold is then
+// found by binary search.
+func sortedThresholdCounts(y, p []float64, ts []float64) []Counts {
+	n := len(p)
+	totalE := 0
+	for _, v := range y {
+		if v == 1 {
+			totalE++
+		}
+	}
+	out := make([]Counts, len(ts))
+	for i, t := range ts {
+		k := sort.SearchFloat64s(p, t) // rows [k, n) have p ≥ t
+		below := 0
+		for _, v := range y[:k] {
+			if v == 1 {
+				below++
+			}
+		}
+		tp := totalE - below
+		fp := (n - k) - tp
+		out[i] = Counts{Threshold: t, TP: tp, FP: fp, FN: below, TN: k - below}
 	}
 	return out
 }
@@ -156,9 +186,10 @@ type RiskGroup struct {
 // RiskGroups cuts the rows into g groups of (nearly) equal size by
 // predicted risk, with the grouping rule of HosmerLemeshow (ties kept
 // together, empty groups dropped), and returns the observed share of
-// events beside the mean risk in each.
-func RiskGroups(y, p []float64, g int) []RiskGroup {
-	hl := HosmerLemeshow(y, p, g, false)
+// events beside the mean risk in each. order is the rows sorted by p, or
+// nil.
+func RiskGroups(y, p []float64, order []int, g int) []RiskGroup {
+	hl := HosmerLemeshowSorted(y, p, order, g, false)
 	out := make([]RiskGroup, len(hl.Table))
 	for i, t := range hl.Table {
 		out[i] = RiskGroup{N: t.N, MeanRisk: t.Expected / float64(t.N),

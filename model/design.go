@@ -68,6 +68,10 @@ type Options struct {
 	// Also names further columns whose missing values leave a row out, so
 	// that two models can be fitted to the same rows.
 	Also []string
+	// NoMatrix leaves Matrix.X empty: a frozen model that only scores
+	// needs no design matrix. The terms are then evaluated, and their
+	// values checked, by Design.LinearPredictors.
+	NoMatrix bool
 }
 
 // Exclusion counts the rows left out for missing values in one column.
@@ -131,9 +135,19 @@ func Build(spec *Spec, fr *cohort.Frame, opt Options) (*Design, *Matrix, error) 
 	}
 	m.P = len(d.Terms)
 	m.Terms = d.Terms
-	m.X = make([]float64, m.N*m.P)
+	if !opt.NoMatrix {
+		m.X = make([]float64, m.N*m.P)
+	}
 	if opt.Outcome {
 		m.Y = make([]float64, m.N)
+	}
+	if opt.NoMatrix {
+		if opt.Outcome {
+			for r, i := range m.Rows {
+				m.Y[r] = float64(d.outcome[d.ocol.Codes[i]])
+			}
+		}
+		return d, m, nil
 	}
 	if err := d.fill(m, opt.Outcome); err != nil {
 		return nil, nil, err
@@ -144,14 +158,47 @@ func Build(spec *Spec, fr *cohort.Frame, opt Options) (*Design, *Matrix, error) 
 // fill writes the matrix rows, splitting them between two goroutines
 // when there are many; the first error in row order is returned.
 func (d *Design) fill(m *Matrix, outcome bool) error {
+	return d.eachRow(m, outcome, nil)
+}
+
+// LinearPredictors returns the linear predictor Xβ of every matrix row,
+// from the matrix when it was built, otherwise term by term from the
+// frame, on two goroutines for large cohorts.
+func (d *Design) LinearPredictors(m *Matrix, beta []float64) ([]float64, error) {
+	if m.X != nil {
+		return LinearPredictors(m, beta), nil
+	}
+	lp := make([]float64, m.N)
+	err := d.eachRow(m, false, func(r int, x []float64) {
+		eta := 0.0
+		for j, b := range beta {
+			eta += x[j] * b
+		}
+		lp[r] = eta
+	})
+	return lp, err
+}
+
+// eachRow evaluates the terms of every matrix row into X (or a scratch
+// row) and the outcome into Y, and hands each row to visit when it is not
+// nil.
+func (d *Design) eachRow(m *Matrix, outcome bool, visit func(r int, x []float64)) error {
 	work := func(lo, hi int) error {
+		buf := make([]float64, m.P)
 		for r := lo; r < hi; r++ {
 			i := m.Rows[r]
-			if err := d.row(i, m.X[r*m.P:(r+1)*m.P]); err != nil {
+			out := buf
+			if m.X != nil {
+				out = m.X[r*m.P : (r+1)*m.P]
+			}
+			if err := d.row(i, out); err != nil {
 				return err
 			}
 			if outcome {
 				m.Y[r] = float64(d.outcome[d.ocol.Codes[i]])
+			}
+			if visit != nil {
+				visit(r, out)
 			}
 		}
 		return nil
@@ -199,20 +246,48 @@ func (d *Design) completeCases(opt Options) ([]bool, *Matrix, error) {
 	}
 	m := &Matrix{Total: fr.Rows, Rows: make([]int, 0, fr.Rows)}
 	used := make([]bool, fr.Rows)
+	for i := range used {
+		used[i] = true
+	}
 	counts := make([]int, len(cols))
-	for i := 0; i < fr.Rows; i++ {
-		ok := true
-		for k, c := range cols {
-			if c.IsMissing(i) {
-				if opt.FailOnMissing {
-					return nil, nil, &cohort.Error{File: fr.File, Line: fr.Line(i), Column: c.Name,
-						Msg: "missing value (the missing-value policy is fail)"}
+	if opt.FailOnMissing {
+		// The first missing value in file order (then column order).
+		row, col := fr.Rows, (*cohort.Column)(nil)
+		for _, c := range cols {
+			for i := 0; i < row && c.Missing > 0; i++ {
+				if c.IsMissing(i) {
+					row, col = i, c
+					break
 				}
-				counts[k]++
-				ok = false
 			}
 		}
-		used[i] = ok
+		if col != nil {
+			return nil, nil, &cohort.Error{File: fr.File, Line: fr.Line(row), Column: col.Name,
+				Msg: "missing value (the missing-value policy is fail)"}
+		}
+	}
+	// Column by column: tight loops over contiguous values.
+	for k, c := range cols {
+		if c.Missing == 0 {
+			continue
+		}
+		if c.Kind == cohort.Numeric {
+			for i, v := range c.Num {
+				if v != v {
+					used[i] = false
+					counts[k]++
+				}
+			}
+		} else {
+			for i, v := range c.Codes {
+				if v < 0 {
+					used[i] = false
+					counts[k]++
+				}
+			}
+		}
+	}
+	for i, ok := range used {
 		if ok {
 			m.Rows = append(m.Rows, i)
 		}

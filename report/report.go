@@ -144,7 +144,7 @@ func (r *renderer) cohort() {
 	t.add("mean predicted risk", fmt.Sprintf("%.1f%%", 100*c.MeanRisk))
 	t.write(r.w)
 	if c.Clamped > 0 {
-		r.p("%d predicted risks of exactly 0 or 1 were clamped to [%g, 1 − %g] before taking their logit.\n\n", c.Clamped, c.Epsilon, c.Epsilon)
+		r.p("%d predicted risks below %g or above 1 − %g (such as risks of exactly 0 or 1) were clamped to that range before taking their logit for the calibration fits.\n\n", c.Clamped, c.Epsilon, c.Epsilon)
 	}
 }
 

@@ -123,8 +123,8 @@ type CohortSummary struct {
 	Events    int     `json:"events"`
 	EventRate float64 `json:"event_rate"`
 	MeanRisk  float64 `json:"mean_risk"`
-	// Clamped counts risks of exactly 0 or 1 clamped to [Epsilon,
-	// 1 − Epsilon] for the logit.
+	// Clamped counts the risks outside [Epsilon, 1 − Epsilon] (such as
+	// risks of exactly 0 or 1) clamped to that range for the logit.
 	Clamped int     `json:"clamped"`
 	Epsilon float64 `json:"epsilon"`
 	// ExcludedByColumn counts the missing values behind the exclusions.
@@ -181,6 +181,14 @@ const BandMethod = "pointwise 95%: smoothed ± 1.96·√(ŝ(1 − ŝ)·Σl²), t
 // Assess measures risks p against outcomes y (1 event, 0 non-event).
 // A risk outside [0, 1] or NaN is a *RiskError naming its row.
 func Assess(y, p []float64, opt Options) (*Performance, error) {
+	return AssessLogits(y, p, nil, opt)
+}
+
+// AssessLogits is Assess for risks that come with their linear
+// predictors lp = logit(p) (as from a frozen model), which the
+// calibration fits then use directly; risks of 0 or 1 are still clamped.
+// lp may be nil.
+func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	opt.defaults()
 	if len(y) != len(p) {
 		return nil, fmt.Errorf("validate: %d outcomes but %d risks", len(y), len(p))
@@ -203,10 +211,23 @@ func Assess(y, p []float64, opt Options) (*Performance, error) {
 	}
 	c.EventRate = float64(c.Events) / float64(c.Used)
 	c.Epsilon = opt.Epsilon
-	lp, clamped := metrics.ClampedLogits(p, opt.Epsilon)
-	c.Clamped = clamped
+	if lp == nil {
+		lp, c.Clamped = metrics.ClampedLogits(p, opt.Epsilon)
+	} else {
+		lp, c.Clamped = clampLogits(lp, opt.Epsilon)
+	}
+	// Sort once: the measures that walk the rows in risk order read
+	// these contiguous sorted copies.
 	order := metrics.SortedOrder(p)
-	lo, hi := p[order[0]], p[order[len(order)-1]]
+	ps, ys := make([]float64, len(p)), make([]float64, len(p))
+	for r, i := range order {
+		ps[r], ys[r] = p[i], y[i]
+	}
+	ident := make([]int, len(p))
+	for i := range ident {
+		ident[i] = i
+	}
+	lo, hi := ps[0], ps[len(ps)-1]
 	delta := opt.Delta
 	if delta < 0 {
 		delta = metrics.DefaultDelta(lo, hi, len(p))
@@ -223,8 +244,8 @@ func Assess(y, p []float64, opt Options) (*Performance, error) {
 		citl, errCITL = metrics.CalibrationInTheLarge(y, lp)
 		slope, _, errSlope = metrics.CalibrationSlope(y, lp)
 	}()
-	flex := metrics.FlexibleCalibration(y, p, order, metrics.LowessOptions{Span: opt.Span, Delta: delta, Workers: opt.Workers})
-	auc, _ := metrics.AUC(y, p, order)
+	flex := metrics.FlexibleCalibration(ys, ps, ident, metrics.LowessOptions{Span: opt.Span, Delta: delta, Workers: opt.Workers})
+	auc, _ := metrics.AUC(ys, ps, ident)
 	perf.Discrimination = Discrimination{auc}
 	wg.Wait()
 	if errCITL != nil {
@@ -240,21 +261,42 @@ func Assess(y, p []float64, opt Options) (*Performance, error) {
 		CITL: citl.Value, CITLSE: citl.SE, CITLCI: citl.CI,
 		Slope: slope.Value, SlopeSE: slope.SE, SlopeCI: slope.CI,
 		OE: oe, OECI: oeci, Observed: obs, Expected: exp,
-		HL:  metrics.HosmerLemeshow(y, p, opt.HLGroups, opt.Development),
+		HL:  metrics.HosmerLemeshowSorted(ys, ps, ident, opt.HLGroups, opt.Development),
 		ICI: flex.ICI, E50: flex.E50, E90: flex.E90, Emax: flex.Emax,
 		Span: opt.Span, Delta: delta, FitPoints: flex.Curve.FitPoints, Band: BandMethod,
 	}
 	cal.HL.Table = nil
 	perf.Overall.Brier, perf.Overall.ScaledBrier = metrics.Brier(y, p)
-	perf.NetBenefit = metrics.NetBenefits(y, p, opt.Thresholds)
-	perf.Classification = metrics.Classify(y, p, opt.ClassifyAt)
+	perf.NetBenefit = metrics.NetBenefits(ys, ps, opt.Thresholds)
+	perf.Classification = metrics.Classify(ys, ps, opt.ClassifyAt)
 	perf.Curves = Curves{
-		ROC:       metrics.ROC(y, p, order, 500),
+		ROC:       metrics.ROC(ys, ps, ident, 500),
 		Flexible:  thinCurve(flex.Curve, 200),
-		Groups:    metrics.RiskGroups(y, p, opt.Groups),
-		Histogram: metrics.RiskHistogram(y, p, 40),
+		Groups:    metrics.RiskGroups(ys, ps, ident, opt.Groups),
+		Histogram: metrics.RiskHistogram(ys, ps, 40),
 	}
 	return perf, nil
+}
+
+// clampLogits bounds linear predictors to ±logit(1 − eps), the logits of
+// the clamped risks, copying only when a value must change.
+func clampLogits(lp []float64, eps float64) ([]float64, int) {
+	bound := math.Log1p(-eps) - math.Log(eps)
+	n := 0
+	var out []float64
+	for i, v := range lp {
+		if v > bound || v < -bound {
+			if out == nil {
+				out = append([]float64(nil), lp...)
+			}
+			out[i] = math.Max(-bound, math.Min(bound, v))
+			n++
+		}
+	}
+	if out == nil {
+		return lp, 0
+	}
+	return out, n
 }
 
 // thinCurve keeps about n points of the smooth, evenly spaced in rank,

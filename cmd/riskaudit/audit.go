@@ -156,7 +156,7 @@ func parseThresholds(s string) ([]float64, error) {
 
 // scored is a cohort's outcomes and predicted risks.
 type scored struct {
-	y, p     []float64
+	y, p, lp []float64
 	summary  validate.CohortSummary
 	file     string
 	hash     string
@@ -294,7 +294,7 @@ func score(spec *model.Spec, o *auditOptions, path string) (*scored, error) {
 	if err != nil {
 		return nil, err
 	}
-	d, m, err := model.Build(spec, fr, model.Options{Outcome: true, FailOnMissing: fail, Also: also})
+	d, m, err := model.Build(spec, fr, model.Options{Outcome: true, FailOnMissing: fail, Also: also, NoMatrix: true})
 	if err != nil {
 		return nil, err
 	}
@@ -315,8 +315,11 @@ func score(spec *model.Spec, o *auditOptions, path string) (*scored, error) {
 		if err != nil {
 			return nil, err
 		}
-		sc.p = model.LinearPredictors(m, beta)
-		for i, lp := range sc.p {
+		if sc.lp, err = d.LinearPredictors(m, beta); err != nil {
+			return nil, err
+		}
+		sc.p = make([]float64, m.N)
+		for i, lp := range sc.lp {
 			sc.p[i] = model.Risk(lp)
 		}
 	}
@@ -334,7 +337,7 @@ func score(spec *model.Spec, o *auditOptions, path string) (*scored, error) {
 }
 
 func assess(sc *scored, opt validate.Options) (*validate.Performance, error) {
-	perf, err := validate.Assess(sc.y, sc.p, opt)
+	perf, err := validate.AssessLogits(sc.y, sc.p, sc.lp, opt)
 	if err != nil {
 		var re *validate.RiskError
 		if errors.As(err, &re) {
