@@ -25,6 +25,11 @@ const (
 type Request struct {
 	Name string
 	Kind Kind
+	// NaNIsError makes the field NaN (in any letter case) bad input in
+	// this numeric column even when NaN is a missing-value marker: a
+	// column of computed values, such as predicted risks, that holds NaN
+	// reports a failed computation, not a value nobody recorded.
+	NaNIsError bool
 }
 
 // DefaultMissing are the field values read as missing when
@@ -181,11 +186,18 @@ func Parse(name string, data []byte, reqs []Request, opt Options) (*Frame, error
 	p := parser{
 		name: name, ncol: len(header), plan: plan, nreq: len(reqs), delim: delim,
 		missing: opt.Missing, dec: '.', keep: opt.KeepRecords,
-		header: header, kinds: make([]Kind, len(header)),
+		header: header, kinds: make([]Kind, len(header)), nanErr: make([]bool, len(header)),
 	}
 	for i, k := range plan {
 		if k >= 0 {
 			p.kinds[i] = reqs[k].Kind
+		}
+	}
+	for _, r := range reqs {
+		for i, h := range header {
+			if h == r.Name && r.NaNIsError {
+				p.nanErr[i] = true
+			}
 		}
 	}
 	if p.missing == nil {

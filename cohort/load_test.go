@@ -45,12 +45,12 @@ func TestParseDialects(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			reqs := []Request{{"x", Numeric}}
+			reqs := []Request{{Name: "x", Kind: Numeric}}
 			if tt.cat != nil {
-				reqs = append(reqs, Request{"g", Categorical})
+				reqs = append(reqs, Request{Name: "g", Kind: Categorical})
 			}
 			if tt.name == "custom missing" {
-				reqs = []Request{{"x", Numeric}, {"g", Categorical}}
+				reqs = []Request{{Name: "x", Kind: Numeric}, {Name: "g", Kind: Categorical}}
 			}
 			fr, err := Parse("t.csv", []byte(tt.data), reqs, tt.opt)
 			if tt.name == "custom missing" {
@@ -159,7 +159,7 @@ func TestLoadMissingFile(t *testing.T) {
 // workers changes nothing, including line numbers and level order.
 func TestParallelMatchesSerial(t *testing.T) {
 	data := synthCSV(50000, 3)
-	reqs := []Request{{"c0", Numeric}, {"c2", Numeric}, {"g", Categorical}}
+	reqs := []Request{{Name: "c0", Kind: Numeric}, {Name: "c2", Kind: Numeric}, {Name: "g", Kind: Categorical}}
 	a, err := Parse("a", data, reqs, Options{Workers: 1})
 	if err != nil {
 		t.Fatal(err)
@@ -263,9 +263,9 @@ func BenchmarkLoad1M(b *testing.B) {
 	if err := os.WriteFile(path, data, 0o600); err != nil {
 		b.Fatal(err)
 	}
-	reqs := []Request{{"g", Categorical}}
+	reqs := []Request{{Name: "g", Kind: Categorical}}
 	for j := 0; j < 8; j++ {
-		reqs = append(reqs, Request{fmt.Sprintf("c%d", j), Numeric})
+		reqs = append(reqs, Request{Name: fmt.Sprintf("c%d", j), Kind: Numeric})
 	}
 	b.SetBytes(int64(len(data)))
 	b.ResetTimer()

@@ -5,6 +5,7 @@ import (
 	"math"
 	"runtime"
 	"strconv"
+	"strings"
 	"sync"
 )
 
@@ -20,6 +21,7 @@ type parser struct {
 	keep    bool
 	header  []string
 	kinds   []Kind // by header position
+	nanErr  []bool // by header position
 }
 
 // part is what one worker parsed from one stretch of the file. Its slices
@@ -152,9 +154,10 @@ func (p *parser) newPart(fr *Frame, lines []int32, off, n int) *part {
 
 // op is the work for one requested column of every record.
 type op struct {
-	col  int // header position
-	k    int // request index
-	kind Kind
+	col    int // header position
+	k      int // request index
+	kind   Kind
+	nanErr bool
 }
 
 // parse reads records until the scanner's data ends, writing each value
@@ -163,7 +166,7 @@ func (p *parser) parse(sc *scanner, pt *part) {
 	var ops []op
 	for i, k := range p.plan {
 		if k >= 0 && (pt.num[k] != nil || pt.codes[k] != nil) {
-			ops = append(ops, op{col: i, k: k, kind: p.kinds[i]})
+			ops = append(ops, op{col: i, k: k, kind: p.kinds[i], nanErr: p.nanErr[i]})
 		}
 	}
 	nums := make([][]float64, p.nreq)
@@ -220,6 +223,11 @@ func (p *parser) parse(sc *scanner, pt *part) {
 					v, ok = parseFloat(f, p.dec)
 				}
 				if !ok {
+					if o.nanErr && len(f) == 3 && strings.EqualFold(string(f), "nan") {
+						pt.err = &Error{File: p.name, Line: line, Column: p.header[o.col], Value: string(f), HasValue: true,
+							Msg: "not a number (a computed value of NaN is an error here, not a missing value)"}
+						return
+					}
 					if !p.isMissing(f) {
 						pt.err = p.numberError(f, o.col, line)
 						return

@@ -287,7 +287,7 @@ func score(spec *model.Spec, o *auditOptions, path string) (*scored, error) {
 		if o.predicted == o.outcome {
 			return nil, usagef("--predicted and --outcome name the same column")
 		}
-		reqs = append(reqs, cohort.Request{Name: o.predicted, Kind: cohort.Numeric})
+		reqs = append(reqs, cohort.Request{Name: o.predicted, Kind: cohort.Numeric, NaNIsError: true})
 		also = []string{o.predicted}
 	}
 	fr, err := cohort.Load(path, reqs, copt)
