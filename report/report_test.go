@@ -1,0 +1,76 @@
+package report
+
+import (
+	"bytes"
+	"math/rand/v2"
+	"strings"
+	"testing"
+
+	"github.com/riskaudit/riskaudit/validate"
+)
+
+func TestEscape(t *testing.T) {
+	for in, want := range map[string]string{
+		"plain name":      "plain name",
+		"*bold* _it_":     `\*bold\* \_it\_`,
+		"<b>&[x](y)|z`":   `\<b\>\&\[x\](y)\|z` + "\\`",
+		"two\nlines":      "two lines",
+		`back\slash #tag`: `back\\slash \#tag`,
+	} {
+		if got := Escape(in); got != want {
+			t.Errorf("Escape(%q) = %q, want %q", in, got, want)
+		}
+	}
+	if got := code("a`b"); got != "``a`b``" {
+		t.Errorf("code = %q", got)
+	}
+}
+
+func TestTableLinesUpAsText(t *testing.T) {
+	var b bytes.Buffer
+	tb := table{head: []string{"a", "longer head"}}
+	tb.add("x", "1")
+	tb.add("wide cell", "χ² 2")
+	tb.write(&b)
+	lines := strings.Split(strings.TrimSpace(b.String()), "\n")
+	width := len([]rune(lines[0]))
+	for _, l := range lines {
+		if len([]rune(l)) != width {
+			t.Errorf("ragged table:\n%s", b.String())
+		}
+	}
+}
+
+func TestReportSectionsAndCaution(t *testing.T) {
+	r := rand.New(rand.NewPCG(1, 2))
+	n := 2000
+	y, p := make([]float64, n), make([]float64, n)
+	for i := range p {
+		p[i] = 0.05 + 0.4*r.Float64()
+		if r.Float64() < p[i] {
+			y[i] = 1
+		}
+	}
+	perf, err := validate.Assess(y, p, validate.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	a := validate.NewAudit(validate.ModelInfo{Name: "Test *model*", Source: "frozen model", Spec: "m.yaml", Outcome: "died", Event: "1"},
+		validate.Provenance{Tool: "riskaudit test", CommandLine: "riskaudit audit ```x```", StartedAt: "2026-01-01T00:00:00Z",
+			Inputs: []validate.InputFile{{Role: "cohort", Path: "c.csv", SHA256: "ab"}}}, perf, perf, "dev.csv")
+	var b bytes.Buffer
+	if err := Write(&b, a, nil); err != nil {
+		t.Fatal(err)
+	}
+	md := b.String()
+	for _, want := range []string{"# Model audit: Test \\*model\\*", "## Summary", "## Discrimination", "## Calibration",
+		"## Overall accuracy", "## Clinical usefulness", "## Development data compared", "## Methods", "## Provenance",
+		"## Caution", "clinical governance", "````\nriskaudit audit ```x```\n````"} {
+		if !strings.Contains(md, want) {
+			t.Errorf("report lacks %q", want)
+		}
+	}
+	if strings.Index(md, "## Summary") > strings.Index(md, "## Discrimination") {
+		t.Error("the summary must come first")
+	}
+}
