@@ -120,3 +120,27 @@ func Brier(y, p []float64) (brier, scaled float64) {
 	ybar := sum(y) / n
 	return brier, 1 - brier/(ybar*(1-ybar))
 }
+
+// CalibrationWeighted returns calibration-in-the-large and the
+// calibration slope (coefficients only) with every row counted w times
+// (w nil counts each once), as for a bootstrap sample given by counts.
+func CalibrationWeighted(y, lp, w []float64) (citl, slope float64, err error) {
+	n := len(y)
+	ones := make([]float64, n)
+	x := make([]float64, 2*n)
+	for i, v := range lp {
+		ones[i] = 1
+		x[2*i], x[2*i+1] = 1, v
+	}
+	opt := logistic.Options{Workers: 1, Start: []float64{0}}
+	r1, err := logistic.Fit(logistic.Data{X: ones, N: n, P: 1, Y: y, Weights: w, Offset: lp}, opt)
+	if err != nil {
+		return 0, 0, fmt.Errorf("calibration-in-the-large: %w", err)
+	}
+	opt.Start = []float64{0, 1}
+	r2, err := logistic.Fit(logistic.Data{X: x, N: n, P: 2, Y: y, Weights: w}, opt)
+	if err != nil {
+		return 0, 0, fmt.Errorf("calibration slope: %w", err)
+	}
+	return r1.Coef[0], r2.Coef[1], nil
+}

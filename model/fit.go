@@ -203,33 +203,8 @@ func ChiSquareP(x float64, df int) float64 {
 	return distuv.ChiSquared{K: float64(df)}.Survival(x)
 }
 
-// NullDeviance is −2 log-likelihood of the intercept-only model,
-// −2[E log ȳ + (n − E) log(1 − ȳ)] with E events among n rows (weighted
-// by w when w is not nil).
-func NullDeviance(y, w []float64) float64 {
-	n, e := 0.0, 0.0
-	for i, v := range y {
-		wi := 1.0
-		if w != nil {
-			wi = w[i]
-		}
-		n += wi
-		e += wi * v
-	}
-	if e == 0 || e == n {
-		return 0
-	}
-	m := e / n
-	return -2 * (e*math.Log(m) + (n-e)*math.Log1p(-m))
-}
+// NullDeviance is metrics.NullDeviance.
+func NullDeviance(y, w []float64) float64 { return metrics.NullDeviance(y, w) }
 
-// Nagelkerke is Nagelkerke's R² (Nagelkerke 1991, Biometrika 78:691–692):
-// the Cox–Snell R² = 1 − exp((D − D₀)/n) divided by its maximum
-// 1 − exp(−D₀/n), where D and D₀ are −2 log-likelihood of the model and of
-// the intercept-only model.
-func Nagelkerke(dev, nullDev float64, n int) float64 {
-	fn := float64(n)
-	cs := -math.Expm1((dev - nullDev) / fn)
-	max := -math.Expm1(-nullDev / fn)
-	return cs / max
-}
+// Nagelkerke is metrics.Nagelkerke.
+func Nagelkerke(dev, nullDev float64, n int) float64 { return metrics.Nagelkerke(dev, nullDev, n) }

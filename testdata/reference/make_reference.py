@@ -29,11 +29,14 @@ OPEN = os.path.join(HERE, "..", "open")
 
 
 def r12(x):
-    """Round to 12 significant digits (plain floats for JSON)."""
+    """Round to 12 significant digits (plain floats for JSON); values below
+    1e-12 in magnitude, which are rounding noise here, become 0."""
     if isinstance(x, (list, tuple, np.ndarray)):
         return [r12(v) for v in x]
     x = float(x)
-    if x == 0 or not np.isfinite(x):
+    if abs(x) < 1e-12:  # rounding noise around zero
+        return 0.0
+    if not np.isfinite(x):
         return x
     return float(f"{x:.12g}")
 
@@ -215,6 +218,7 @@ def main():
         f.write("\n")
 
     write_audit_reference(bc)
+    write_bootstrap_reference(bc)
 
 
 def delong_quadratic(y, p):
@@ -310,6 +314,69 @@ def write_audit_reference(bc):
     ref["wdbc_rounded"] = {"auc_sklearn": r12(roc_auc_score_(y, pr)), "auc_delong_quadratic": r12(auc),
                            "auc_se_delong_quadratic": r12(se)}
     with open(os.path.join(HERE, "audit.json"), "w") as f:
+        json.dump(ref, f, indent=1, sort_keys=True)
+        f.write("\n")
+
+
+def boot_measures(X, y, beta, llf, delta_share):
+    """The optimism measures of coefficients beta on rows (X, y); llf is
+    the model's log-likelihood on those rows."""
+    from sklearn.metrics import brier_score_loss, roc_auc_score
+    from statsmodels.nonparametric.smoothers_lowess import lowess
+
+    lp = X @ beta
+    p = 1 / (1 + np.exp(-lp))
+    fam = sm.families.Binomial()
+    citl = sm.GLM(y, np.ones((len(y), 1)), family=fam, offset=lp).fit(tol=1e-13, maxiter=200).params[0]
+    slope = sm.GLM(y, sm.add_constant(lp), family=fam).fit(tol=1e-13, maxiter=200).params[1]
+    brier = brier_score_loss(y, p)
+    ybar = y.mean()
+    n = len(y)
+    llnull = n * (ybar * np.log(ybar) + (1 - ybar) * np.log(1 - ybar))
+    cs = 1 - np.exp(2 * (llnull - llf) / n)
+    r2 = cs / (1 - np.exp(2 * llnull / n))
+    fit = lowess(y, p, frac=0.75, it=0, delta=delta_share * (p.max() - p.min()), return_sorted=True)
+    ici = np.mean(np.abs(fit[:, 0] - fit[:, 1]))
+    return {"auc": roc_auc_score(y, p), "slope": slope, "citl": citl, "brier": brier,
+            "scaled_brier": 1 - brier / (ybar * (1 - ybar)), "nagelkerke_r2": r2, "ici": ici}
+
+
+def loglik(X, y, beta):
+    lp = X @ beta
+    return float(np.sum(y * lp - np.logaddexp(0, lp)))
+
+
+def write_bootstrap_reference(bc):
+    """Reads the resample log of riskaudit's bootstrap test (Wisconsin data,
+    four linear predictors, 20 replicates, seed 1), refits every replicate
+    on the rows it drew with statsmodels' Logit, and measures each refit on
+    its sample (apparent) and on the original rows (test), so that
+    optimism = mean(apparent - test) can be compared with riskaudit's."""
+    cols = ["mean_radius", "mean_texture", "mean_smoothness", "mean_concave_points"]
+    X = np.column_stack([np.ones(len(bc))] + [np.array([float(r[c]) for r in bc]) for c in cols])
+    y = np.array([1.0 if r["diagnosis"] == "M" else 0.0 for r in bc])
+    full = sm.Logit(y, X).fit(method="newton", tol=1e-12, maxiter=100, disp=False)
+    delta = 0.05
+    apparent = boot_measures(X, y, full.params, full.llf, delta)
+    diffs, failed = [], 0
+    with open(os.path.join(HERE, "bootstrap_wdbc.log")) as f:
+        for line in f:
+            idx = np.array([int(v) for v in line.strip().split(",")])
+            Xs, ys = X[idx], y[idx]
+            try:
+                fit = sm.Logit(ys, Xs).fit(method="newton", tol=1e-12, maxiter=100, disp=False)
+            except Exception:
+                failed += 1
+                continue
+            app = boot_measures(Xs, ys, fit.params, fit.llf, delta)
+            test = boot_measures(X, y, fit.params, loglik(X, y, fit.params), delta)
+            diffs.append({k: app[k] - test[k] for k in app})
+    optimism = {k: float(np.mean([d[k] for d in diffs])) for k in apparent}
+    ref = {"_source": "testdata/reference/make_reference.py from bootstrap_wdbc.log (statsmodels Logit, GLM, lowess; scikit-learn)",
+           "apparent": {k: r12(v) for k, v in apparent.items()},
+           "optimism": {k: r12(v) for k, v in optimism.items()},
+           "failed": failed, "replicates": len(diffs) + failed, "ici_delta_share": delta}
+    with open(os.path.join(HERE, "bootstrap.json"), "w") as f:
         json.dump(ref, f, indent=1, sort_keys=True)
         f.write("\n")
 

@@ -1,0 +1,358 @@
+// Package resample estimates how optimistic a model's apparent
+// performance is, by the optimism-corrected bootstrap (Efron 1983,
+// Journal of the American Statistical Association 78:316–331; Harrell,
+// Lee & Mark 1996, Statistics in Medicine 15:361–387), and gives
+// percentile intervals for measures without an analytic one.
+//
+// Bootstrap samples are frequency weights over the original rows (how
+// often each row was drawn), so no replicate copies the design matrix.
+// Every replicate draws from its own random stream, made from the seed
+// and the replicate's number, so the results are the same whatever the
+// number of workers.
+package resample
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"strconv"
+	"sync"
+
+	"github.com/riskaudit/riskaudit/logistic"
+	"github.com/riskaudit/riskaudit/metrics"
+)
+
+// Problem is a recipe's fit to the development rows: the design matrix
+// (categorical levels and spline knots fixed from all rows), the outcomes
+// and the coefficients fitted to all rows.
+type Problem struct {
+	X    []float64
+	N, P int
+	Y    []float64
+	// Coef are the coefficients fitted to every row; each refit starts
+	// from them.
+	Coef  []float64
+	Firth bool
+}
+
+// Options control the bootstrap.
+type Options struct {
+	// B is the number of replicates.
+	B int
+	// Seed makes the draws reproducible.
+	Seed uint64
+	// Workers bounds the goroutines (default GOMAXPROCS).
+	Workers int
+	// ICIDelta is the LOWESS δ of the ICI inside the bootstrap, as a
+	// share of the range of the risks smoothed (default 0.05: about 20
+	// local fits per curve).
+	ICIDelta float64
+	// Log, when not nil, receives one line per replicate: the 0-based
+	// indices of the rows drawn, in the order drawn, comma-separated.
+	Log io.Writer
+	// Progress, when not nil, is called with the replicates done so far.
+	Progress func(done int)
+}
+
+// Measures are the measures corrected for optimism.
+type Measures struct {
+	AUC         float64
+	Slope       float64
+	CITL        float64
+	Brier       float64
+	ScaledBrier float64
+	R2          float64
+	ICI         float64
+}
+
+func (m Measures) sub(o Measures) Measures {
+	return Measures{m.AUC - o.AUC, m.Slope - o.Slope, m.CITL - o.CITL, m.Brier - o.Brier,
+		m.ScaledBrier - o.ScaledBrier, m.R2 - o.R2, m.ICI - o.ICI}
+}
+
+// Result is the outcome of the optimism bootstrap.
+type Result struct {
+	B    int
+	Seed uint64
+	// Failed counts the replicates whose refit failed (separation, no
+	// convergence, a level absent from the sample); they are left out.
+	Failed int
+	// Reasons counts the failures by kind.
+	Reasons map[string]int
+	// Apparent is the performance of the full fit on its own rows,
+	// Optimism the mean over the replicates of (performance on the
+	// bootstrap sample − performance on the original rows), and Corrected
+	// Apparent − Optimism.
+	Apparent, Optimism, Corrected Measures
+	// ICIDelta is the δ share used for every ICI here.
+	ICIDelta float64
+}
+
+// FailedShare is the share of replicates that failed.
+func (r *Result) FailedShare() float64 { return float64(r.Failed) / float64(r.B) }
+
+// Optimism runs the optimism-corrected bootstrap of pr.
+//
+// For b = 1 … B: draw N rows with replacement; refit the recipe on them
+// (as frequency weights); measure the refitted model on the bootstrap
+// sample (apparent_b) and on the original rows (test_b). The optimism is
+// the mean of apparent_b − test_b over the replicates that succeeded; the
+// corrected measure is the apparent one less the optimism. The measures
+// are the AUC, calibration slope, calibration-in-the-large, Brier and
+// scaled Brier scores, Nagelkerke's R² and the ICI.
+func Optimism(pr Problem, opt Options) (*Result, error) {
+	if pr.N <= 0 || len(pr.X) != pr.N*pr.P || len(pr.Y) != pr.N || len(pr.Coef) != pr.P {
+		return nil, errors.New("resample: inconsistent problem")
+	}
+	if opt.B < 1 {
+		return nil, errors.New("resample: B must be at least 1")
+	}
+	if opt.Workers <= 0 {
+		opt.Workers = runtime.GOMAXPROCS(0)
+	}
+	if opt.ICIDelta <= 0 {
+		opt.ICIDelta = 0.05
+	}
+	res := &Result{B: opt.B, Seed: opt.Seed, Reasons: map[string]int{}, ICIDelta: opt.ICIDelta}
+	ws := newWorkspace(pr)
+	lp := linearPredictor(pr, pr.Coef, ws.lp)
+	app, err := ws.measures(pr, lp, nil, logistic.Deviance(data(pr, nil), pr.Coef), opt.ICIDelta)
+	if err != nil {
+		return nil, fmt.Errorf("resample: measuring the full fit: %w", err)
+	}
+	res.Apparent = app
+
+	type outcome struct {
+		diff   Measures
+		reason string
+		drawn  []int32
+	}
+	outs := make([]outcome, opt.B)
+	next := make(chan int)
+	var wg sync.WaitGroup
+	var mu sync.Mutex
+	done := 0
+	logged := 0
+	var logErr error
+	flushLog := func() {
+		// Lines are written in replicate order as soon as they are ready.
+		for logged < opt.B && outs[logged].drawn != nil {
+			if logErr == nil {
+				logErr = writeLogLine(opt.Log, outs[logged].drawn)
+			}
+			outs[logged].drawn = nil
+			logged++
+		}
+	}
+	for w := 0; w < opt.Workers; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			ws := newWorkspace(pr)
+			for b := range next {
+				drawn := ws.draw(opt.Seed, b, opt.Log != nil)
+				d, err := ws.replicate(pr, opt.ICIDelta)
+				mu.Lock()
+				if err != nil {
+					outs[b].reason = reason(err)
+				} else {
+					outs[b].diff = d
+				}
+				if opt.Log != nil {
+					outs[b].drawn = drawn
+					flushLog()
+				}
+				done++
+				if opt.Progress != nil {
+					opt.Progress(done)
+				}
+				mu.Unlock()
+			}
+		}()
+	}
+	for b := 0; b < opt.B; b++ {
+		next <- b
+	}
+	close(next)
+	wg.Wait()
+	if logErr != nil {
+		return nil, fmt.Errorf("resample: writing the resample log: %w", logErr)
+	}
+	var sum Measures
+	ok := 0
+	for _, o := range outs {
+		if o.reason != "" {
+			res.Failed++
+			res.Reasons[o.reason]++
+			continue
+		}
+		ok++
+		d := o.diff
+		sum = Measures{sum.AUC + d.AUC, sum.Slope + d.Slope, sum.CITL + d.CITL, sum.Brier + d.Brier,
+			sum.ScaledBrier + d.ScaledBrier, sum.R2 + d.R2, sum.ICI + d.ICI}
+	}
+	if ok == 0 {
+		return nil, fmt.Errorf("resample: all %d replicates failed (%v)", opt.B, res.Reasons)
+	}
+	k := float64(ok)
+	res.Optimism = Measures{sum.AUC / k, sum.Slope / k, sum.CITL / k, sum.Brier / k, sum.ScaledBrier / k, sum.R2 / k, sum.ICI / k}
+	res.Corrected = res.Apparent.sub(res.Optimism)
+	return res, nil
+}
+
+func reason(err error) string {
+	var se *logistic.SeparationError
+	var ce *logistic.CollinearError
+	switch {
+	case errors.As(err, &se):
+		return "separation"
+	case errors.As(err, &ce):
+		return "a term without variation in the sample"
+	case errors.Is(err, logistic.ErrNotConverged):
+		return "no convergence"
+	}
+	return "other: " + err.Error()
+}
+
+func writeLogLine(w io.Writer, drawn []int32) error {
+	buf := make([]byte, 0, 8*len(drawn))
+	for i, v := range drawn {
+		if i > 0 {
+			buf = append(buf, ',')
+		}
+		buf = strconv.AppendInt(buf, int64(v), 10)
+	}
+	buf = append(buf, '\n')
+	_, err := w.Write(buf)
+	return err
+}
+
+// Stream returns the random stream of replicate b: a PCG generator whose
+// two words are the seed and the replicate number, so that a replicate's
+// draws depend on nothing else.
+func Stream(seed uint64, b int) *rand.Rand {
+	return rand.New(rand.NewPCG(seed, uint64(b)*0x9E3779B97F4A7C15+1))
+}
+
+// workspace holds one worker's buffers, reused across replicates.
+type workspace struct {
+	counts []float64
+	drawn  []int32
+	lp     []float64
+	p      []float64
+	ps, ys []float64 // sorted by risk (original rows, or the sample expanded)
+	x      []float64 // scratch for the calibration fits
+}
+
+func newWorkspace(pr Problem) *workspace {
+	n := pr.N
+	return &workspace{counts: make([]float64, n), drawn: make([]int32, n), lp: make([]float64, n),
+		p: make([]float64, n), ps: make([]float64, n), ys: make([]float64, n)}
+}
+
+// draw fills the counts of replicate b and returns the indices drawn
+// (a fresh slice when keep is set).
+func (ws *workspace) draw(seed uint64, b int, keep bool) []int32 {
+	r := Stream(seed, b)
+	n := len(ws.counts)
+	for i := range ws.counts {
+		ws.counts[i] = 0
+	}
+	for k := 0; k < n; k++ {
+		i := r.IntN(n)
+		ws.counts[i]++
+		ws.drawn[k] = int32(i)
+	}
+	if !keep {
+		return nil
+	}
+	return append([]int32(nil), ws.drawn...)
+}
+
+func data(pr Problem, w []float64) logistic.Data {
+	return logistic.Data{X: pr.X, N: pr.N, P: pr.P, Y: pr.Y, Weights: w}
+}
+
+func linearPredictor(pr Problem, beta, out []float64) []float64 {
+	for i := range out {
+		x := pr.X[i*pr.P : (i+1)*pr.P]
+		eta := 0.0
+		for j, b := range beta {
+			eta += x[j] * b
+		}
+		out[i] = eta
+	}
+	return out
+}
+
+// replicate refits on the current counts and returns apparent − test.
+func (ws *workspace) replicate(pr Problem, delta float64) (Measures, error) {
+	fit, err := logistic.Fit(data(pr, ws.counts), logistic.Options{Start: pr.Coef, Firth: pr.Firth, Workers: 1})
+	if err != nil {
+		return Measures{}, err
+	}
+	lp := linearPredictor(pr, fit.Coef, ws.lp)
+	app, err := ws.measures(pr, lp, ws.counts, fit.Deviance, delta)
+	if err != nil {
+		return Measures{}, err
+	}
+	test, err := ws.measures(pr, lp, nil, logistic.Deviance(data(pr, nil), fit.Coef), delta)
+	if err != nil {
+		return Measures{}, err
+	}
+	return app.sub(test), nil
+}
+
+// measures measures linear predictor lp on the rows counted w times (nil:
+// once each); dev is −2 log-likelihood of the model on those rows.
+func (ws *workspace) measures(pr Problem, lp, w []float64, dev, delta float64) (Measures, error) {
+	for i, v := range lp {
+		ws.p[i] = expit(v)
+	}
+	order := metrics.SortedOrder(ws.p)
+	// The rows in risk order, each repeated as often as it was drawn.
+	k := 0
+	for _, i := range order {
+		c := 1
+		if w != nil {
+			c = int(w[i])
+		}
+		for j := 0; j < c; j++ {
+			ws.ps[k], ws.ys[k] = ws.p[i], pr.Y[i]
+			k++
+		}
+	}
+	ps, ys := ws.ps[:k], ws.ys[:k]
+	var m Measures
+	m.AUC = metrics.AUCSorted(ys, ps)
+	var err error
+	m.CITL, m.Slope, err = metrics.CalibrationWeighted(pr.Y, lp, w)
+	if err != nil {
+		return m, err
+	}
+	if w != nil {
+		m.Brier, m.ScaledBrier = metrics.BrierWeighted(pr.Y, ws.p, w)
+	} else {
+		m.Brier, m.ScaledBrier = metrics.Brier(pr.Y, ws.p)
+	}
+	m.R2 = metrics.Nagelkerke(dev, metrics.NullDeviance(pr.Y, w), k)
+	m.ICI = ici(ys, ps, delta)
+	return m, nil
+}
+
+// ici is the ICI of risks ps (sorted) against outcomes ys, with LOWESS at
+// span 0.75 and δ = delta × the range of ps, on one goroutine.
+func ici(ys, ps []float64, delta float64) float64 {
+	d := delta * (ps[len(ps)-1] - ps[0])
+	c := metrics.Lowess(ps, ys, metrics.LowessOptions{Span: 0.75, Delta: d, Workers: 1})
+	s := 0.0
+	for i, v := range ps {
+		s += math.Abs(v - c.Fit[i])
+	}
+	return s / float64(len(ps))
+}
+
+func expit(x float64) float64 { return logistic.Expit(x) }
