@@ -505,8 +505,9 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool) {
 		nb = 0
 	}
 	// Σ log(1 + z) is taken as the log of a running product, one
-	// logarithm per 256 rows: each factor lies in (1, 2], so the product
-	// stays finite, and the absolute error per row stays near 1e-16.
+	// logarithm per 256 factors: each factor lies in (1, 2], so the
+	// product stays finite, and the absolute error per row stays near
+	// 1e-16. A row with a small whole weight k contributes k factors.
 	dev, prod, np := 0.0, 1.0, 0
 	for i := lo; i < hi; i++ {
 		wt := 1.0
@@ -529,11 +530,14 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool) {
 		// shared with μ.
 		z := math.Exp(-math.Abs(eta))
 		dev += wt * (math.Max(eta, 0) - y*eta)
-		if wt == 1 {
-			prod *= 1 + z
-			if np++; np == 256 {
-				dev += math.Log(prod)
-				prod, np = 1, 0
+		if k := int(wt); float64(k) == wt && k <= 8 {
+			// Small whole weights (bootstrap counts) multiply in k times.
+			for ; k > 0; k-- {
+				prod *= 1 + z
+				if np++; np >= 256 {
+					dev += math.Log(prod)
+					prod, np = 1, 0
+				}
 			}
 		} else {
 			dev += wt * log1pUnit(z)
@@ -589,11 +593,14 @@ func (e *evaluator) passSmall(beta []float64, lo, hi int, c *chunk) {
 		y := d.Y[i]
 		z := math.Exp(-math.Abs(eta))
 		dev += wt * (math.Max(eta, 0) - y*eta)
-		if wt == 1 {
-			prod *= 1 + z
-			if np++; np == 256 {
-				dev += math.Log(prod)
-				prod, np = 1, 0
+		if k := int(wt); float64(k) == wt && k <= 8 {
+			// Small whole weights (bootstrap counts) multiply in k times.
+			for ; k > 0; k-- {
+				prod *= 1 + z
+				if np++; np >= 256 {
+					dev += math.Log(prod)
+					prod, np = 1, 0
+				}
 			}
 		} else {
 			dev += wt * log1pUnit(z)

@@ -1,6 +1,7 @@
 package metrics
 
 import (
+	"errors"
 	"fmt"
 	"math"
 
@@ -124,23 +125,124 @@ func Brier(y, p []float64) (brier, scaled float64) {
 // CalibrationWeighted returns calibration-in-the-large and the
 // calibration slope (coefficients only) with every row counted w times
 // (w nil counts each once), as for a bootstrap sample given by counts.
+// It runs on the calling goroutine.
 func CalibrationWeighted(y, lp, w []float64) (citl, slope float64, err error) {
 	n := len(y)
-	ones := make([]float64, n)
-	x := make([]float64, 2*n)
+	sw, sy, sp := 0.0, 0.0, 0.0
 	for i, v := range lp {
-		ones[i] = 1
-		x[2*i], x[2*i+1] = 1, v
+		wi := 1.0
+		if w != nil {
+			wi = w[i]
+		}
+		sw += wi
+		sy += wi * y[i]
+		sp += wi * expit(v)
 	}
-	opt := logistic.Options{Workers: 1, Start: []float64{0}}
-	r1, err := logistic.Fit(logistic.Data{X: ones, N: n, P: 1, Y: y, Weights: w, Offset: lp}, opt)
+	start := 0.0
+	if ybar, pbar := sy/sw, sp/sw; ybar > 0 && ybar < 1 && pbar > 0 && pbar < 1 {
+		start = math.Log(ybar/(1-ybar)) - math.Log(pbar/(1-pbar))
+	}
+	citl, err = interceptWithOffset(y, lp, w, start)
 	if err != nil {
 		return 0, 0, fmt.Errorf("calibration-in-the-large: %w", err)
 	}
-	opt.Start = []float64{0, 1}
+	if b, ok := slopeNewton(y, lp, w); ok {
+		return citl, b, nil
+	}
+	// Newton's method without step halving did not settle: take the
+	// safeguarded fit.
+	x := make([]float64, 2*n)
+	for i, v := range lp {
+		x[2*i], x[2*i+1] = 1, v
+	}
+	opt := logistic.Options{Workers: 1, Start: []float64{0, 1}}
 	r2, err := logistic.Fit(logistic.Data{X: x, N: n, P: 2, Y: y, Weights: w}, opt)
 	if err != nil {
 		return 0, 0, fmt.Errorf("calibration slope: %w", err)
 	}
-	return r1.Coef[0], r2.Coef[1], nil
+	return citl, r2.Coef[1], nil
+}
+
+// slopeNewton fits logit P(y) = a + b·lp by plain Newton steps from
+// (0, 1), with no log-likelihood evaluations: one exponential per row per
+// step. It reports false when the steps do not settle within 50
+// iterations or the information matrix degenerates.
+func slopeNewton(y, lp, w []float64) (float64, bool) {
+	a, b := 0.0, 1.0
+	for it := 0; it < 50; it++ {
+		var s0, s1, i00, i01, i11 float64
+		for i, v := range lp {
+			wi := 1.0
+			if w != nil {
+				wi = w[i]
+				if wi == 0 {
+					continue
+				}
+			}
+			mu := expit(a + b*v)
+			r := wi * (y[i] - mu)
+			q := wi * mu * (1 - mu)
+			s0 += r
+			s1 += r * v
+			i00 += q
+			i01 += q * v
+			i11 += q * v * v
+		}
+		det := i00*i11 - i01*i01
+		if !(det > 1e-300) {
+			return 0, false
+		}
+		da := (i11*s0 - i01*s1) / det
+		db := (i00*s1 - i01*s0) / det
+		if m := math.Max(math.Abs(da), math.Abs(db)); m > 5 {
+			da, db = da*5/m, db*5/m
+		}
+		a, b = a+da, b+db
+		if math.Abs(da) < 1e-10 && math.Abs(db) < 1e-10 {
+			return b, true
+		}
+	}
+	return 0, false
+}
+
+// interceptWithOffset solves the one score equation Σ w(y − expit(a + lp))
+// = 0 of the intercept-only model with offset lp by Newton's method. With
+// E = exp(lp) computed once, each step needs no exponential per row:
+// expit(a + lp) = E·eᵃ/(1 + E·eᵃ). The log-likelihood is strictly concave
+// in a, so the steps are only bounded (to ±5 on the logit scale), not
+// halved.
+func interceptWithOffset(y, lp, w []float64, a float64) (float64, error) {
+	e := make([]float64, len(lp))
+	for i, v := range lp {
+		e[i] = math.Exp(math.Max(-700, math.Min(700, v)))
+	}
+	for it := 0; it < 100; it++ {
+		ea := math.Exp(a)
+		score, info := 0.0, 0.0
+		for i, ei := range e {
+			wi := 1.0
+			if w != nil {
+				wi = w[i]
+				if wi == 0 {
+					continue
+				}
+			}
+			t := ei * ea
+			mu := t / (1 + t)
+			if math.IsInf(t, 1) {
+				mu = 1
+			}
+			score += wi * (y[i] - mu)
+			info += wi * mu * (1 - mu)
+		}
+		if info <= 0 {
+			return 0, errors.New("no information about the intercept")
+		}
+		step := math.Max(-5, math.Min(5, score/info))
+		a += step
+		if math.Abs(step) < 1e-10 {
+			return a, nil
+		}
+	}
+	return 0, logistic.ErrNotConverged
 }

@@ -108,7 +108,20 @@ func HosmerLemeshowSorted(y, p []float64, order []int, g int, development bool) 
 // placed before the second's within every bucket, so the sort stays
 // stable.
 func SortedOrder(p []float64) []int {
+	return sortedOrder(p, true)
+}
+
+// SortedOrderSerial is SortedOrder on the calling goroutine alone, for
+// callers that already run one sort per core.
+func SortedOrderSerial(p []float64) []int {
+	return sortedOrder(p, false)
+}
+
+func sortedOrder(p []float64, parallel bool) []int {
 	n := len(p)
+	if n >= 4096 && !parallel {
+		return radixSerial(p)
+	}
 	if n < 4096 {
 		idx := make([]int, n)
 		for i := range idx {
@@ -218,4 +231,56 @@ func recount(keys []uint64, half int, shift int, h0, h1 *[1 << 11]int) {
 		h0[b], h1[b] = sum, sum+c0[b]
 		sum += c0[b] + c1[b]
 	}
+}
+
+// radixSerial is the radix sort of SortedOrder on one goroutine.
+func radixSerial(p []float64) []int {
+	const bits, buckets, passes = 11, 1 << 11, 6
+	n := len(p)
+	keys := make([]uint64, n)
+	idx := make([]int32, n)
+	var hist [passes][buckets]int
+	for i, v := range p {
+		k := math.Float64bits(v)
+		if k>>63 == 1 {
+			k = ^k
+		} else {
+			k |= 1 << 63
+		}
+		keys[i], idx[i] = k, int32(i)
+		for d := 0; d < passes; d++ {
+			hist[d][(k>>(d*bits))&(buckets-1)]++
+		}
+	}
+	tk, ti := make([]uint64, n), make([]int32, n)
+	for d := 0; d < passes; d++ {
+		h := &hist[d]
+		skip := false
+		sum := 0
+		for b := range h {
+			if h[b] == n {
+				skip = true
+				break
+			}
+			c := h[b]
+			h[b] = sum
+			sum += c
+		}
+		if skip {
+			continue
+		}
+		shift := d * bits
+		for j, k := range keys {
+			b := (k >> shift) & (buckets - 1)
+			tk[h[b]], ti[h[b]] = k, idx[j]
+			h[b]++
+		}
+		keys, tk = tk, keys
+		idx, ti = ti, idx
+	}
+	out := make([]int, n)
+	for i, v := range idx {
+		out[i] = int(v)
+	}
+	return out
 }

@@ -24,6 +24,9 @@ func TestSortedOrderIsStable(t *testing.T) {
 			}
 		}
 		got := SortedOrder(p)
+		if serial := SortedOrderSerial(p); !slices.Equal(got, serial) {
+			t.Fatalf("n=%d: the serial sort differs from the parallel one", n)
+		}
 		want := make([]int, n)
 		for i := range want {
 			want[i] = i

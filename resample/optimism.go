@@ -47,8 +47,10 @@ type Options struct {
 	// Workers bounds the goroutines (default GOMAXPROCS).
 	Workers int
 	// ICIDelta is the LOWESS δ of the ICI inside the bootstrap, as a
-	// share of the range of the risks smoothed (default 0.05: about 20
-	// local fits per curve).
+	// share of the range of the risks smoothed (default 0.1: about ten
+	// local fits per curve, interpolated between; the curve of span 0.75
+	// bends little over a tenth of its range, and the apparent ICI that
+	// the optimism is taken from is made the same way).
 	ICIDelta float64
 	// Log, when not nil, receives one line per replicate: the 0-based
 	// indices of the rows drawn, in the order drawn, comma-separated.
@@ -114,12 +116,12 @@ func Optimism(pr Problem, opt Options) (*Result, error) {
 		opt.Workers = runtime.GOMAXPROCS(0)
 	}
 	if opt.ICIDelta <= 0 {
-		opt.ICIDelta = 0.05
+		opt.ICIDelta = 0.1
 	}
 	res := &Result{B: opt.B, Seed: opt.Seed, Reasons: map[string]int{}, ICIDelta: opt.ICIDelta}
 	ws := newWorkspace(pr)
 	lp := linearPredictor(pr, pr.Coef, ws.lp)
-	app, err := ws.measures(pr, lp, nil, logistic.Deviance(data(pr, nil), pr.Coef), opt.ICIDelta)
+	app, err := ws.measures(pr, lp, ws.sort(lp), nil, logistic.Deviance(data(pr, nil), pr.Coef), opt.ICIDelta, false)
 	if err != nil {
 		return nil, fmt.Errorf("resample: measuring the full fit: %w", err)
 	}
@@ -295,24 +297,33 @@ func (ws *workspace) replicate(pr Problem, delta float64) (Measures, error) {
 		return Measures{}, err
 	}
 	lp := linearPredictor(pr, fit.Coef, ws.lp)
-	app, err := ws.measures(pr, lp, ws.counts, fit.Deviance, delta)
+	order := ws.sort(lp)
+	app, err := ws.measures(pr, lp, order, ws.counts, fit.Deviance, delta, !pr.Firth)
 	if err != nil {
 		return Measures{}, err
 	}
-	test, err := ws.measures(pr, lp, nil, logistic.Deviance(data(pr, nil), fit.Coef), delta)
+	test, err := ws.measures(pr, lp, order, nil, logistic.Deviance(data(pr, nil), fit.Coef), delta, false)
 	if err != nil {
 		return Measures{}, err
 	}
 	return app.sub(test), nil
 }
 
-// measures measures linear predictor lp on the rows counted w times (nil:
-// once each); dev is −2 log-likelihood of the model on those rows.
-func (ws *workspace) measures(pr Problem, lp, w []float64, dev, delta float64) (Measures, error) {
+// sort sets the risks of lp and returns the rows in risk order.
+func (ws *workspace) sort(lp []float64) []int {
 	for i, v := range lp {
 		ws.p[i] = expit(v)
 	}
-	order := metrics.SortedOrder(ws.p)
+	return metrics.SortedOrderSerial(ws.p)
+}
+
+// measures measures linear predictor lp (with risks ws.p, rows in risk
+// order) on the rows counted w times (nil: once each); dev is −2
+// log-likelihood of the model on those rows. fitted says that the model
+// was fitted to these rows by maximum likelihood with an intercept: its
+// score equations then make calibration-in-the-large exactly 0 and the
+// calibration slope exactly 1, so they are not fitted again.
+func (ws *workspace) measures(pr Problem, lp []float64, order []int, w []float64, dev, delta float64, fitted bool) (Measures, error) {
 	// The rows in risk order, each repeated as often as it was drawn.
 	k := 0
 	for _, i := range order {
@@ -328,10 +339,13 @@ func (ws *workspace) measures(pr Problem, lp, w []float64, dev, delta float64) (
 	ps, ys := ws.ps[:k], ws.ys[:k]
 	var m Measures
 	m.AUC = metrics.AUCSorted(ys, ps)
-	var err error
-	m.CITL, m.Slope, err = metrics.CalibrationWeighted(pr.Y, lp, w)
-	if err != nil {
-		return m, err
+	if fitted {
+		m.CITL, m.Slope = 0, 1
+	} else {
+		var err error
+		if m.CITL, m.Slope, err = metrics.CalibrationWeighted(pr.Y, lp, w); err != nil {
+			return m, err
+		}
 	}
 	if w != nil {
 		m.Brier, m.ScaledBrier = metrics.BrierWeighted(pr.Y, ws.p, w)
