@@ -5,12 +5,14 @@
 package report
 
 import (
+	"encoding/json"
 	"fmt"
 	"io"
 	"math"
 	"strings"
 
 	"github.com/riskaudit/riskaudit/metrics"
+	"github.com/riskaudit/riskaudit/model"
 	"github.com/riskaudit/riskaudit/plots"
 	"github.com/riskaudit/riskaudit/validate"
 )
@@ -49,6 +51,8 @@ func Write(w io.Writer, a *validate.Audit, figures []plots.Figure) error {
 	r.overall()
 	r.usefulness()
 	r.development()
+	r.fit()
+	r.internal()
 	r.methods()
 	r.provenance()
 	r.caution()
@@ -98,6 +102,79 @@ func (r *renderer) header() {
 	}
 	r.p("Audit of %s on the cohort %s, outcome %s = %s. Made %s by %s.\n\n",
 		what, code(cohortFile), code(a.Model.Outcome), code(a.Model.Event), a.Provenance.StartedAt, Escape(a.Provenance.Tool))
+	if a.CohortIsDevelopment {
+		r.p("No new cohort was given: the measures below are the model's apparent performance on its development data, and the internal validation says how optimistic they are.\n\n")
+	}
+}
+
+func (r *renderer) fit() {
+	d := r.a.Development
+	if d == nil || d.Fit == nil {
+		return
+	}
+	st, ok := fitStats(d.Fit)
+	if !ok {
+		return
+	}
+	r.p("## Model fit on the development data\n\n")
+	if r.a.Internal != nil && r.a.Internal.Refitted {
+		r.p("The frozen model's terms were refitted as a recipe on %s, since the bootstrap needs a recipe to refit; the fit and the internal validation below describe that refitted model.\n\n", code(d.File))
+	} else {
+		r.p("The recipe was fitted on %s by %s (%d Newton steps).\n\n", code(d.File), st.Method, st.Iterations)
+	}
+	t := table{head: []string{"term", "coefficient", "SE", "z", "p", "odds ratio", "95% CI"}}
+	for _, term := range st.Terms {
+		t.add(code(term.Term), fmt.Sprintf("%.4f", term.Coef), fmt.Sprintf("%.4f", term.SE), fmt.Sprintf("%.2f", term.Z), fmtP(term.P),
+			fmt.Sprintf("%.3f", term.OddsRatio), fmt.Sprintf("%.3f to %.3f", term.ORCI[0], term.ORCI[1]))
+	}
+	t.write(r.w)
+	t = table{head: []string{"statistic", "value"}}
+	t.add("rows used (events)", fmt.Sprintf("%d (%d)", st.N, st.Events))
+	t.add("−2 log-likelihood", fmt.Sprintf("%.3f (intercept only %.3f)", st.Neg2LL, st.NullNeg2LL))
+	t.add("likelihood-ratio χ²", fmt.Sprintf("%.3f on %d df, p %s", st.LRChi2, st.LRDF, fmtP(st.LRP)))
+	t.add("AIC / BIC", fmt.Sprintf("%.3f / %.3f", st.AIC, st.BIC))
+	t.add("Nagelkerke R²", fmt.Sprintf("%.4f", st.NagelkerkeR2))
+	t.add("Hosmer–Lemeshow", fmt.Sprintf("%.3f on %d df, p %s (%d groups)", st.HL.Statistic, st.HL.DF, fmtP(st.HL.P), st.HL.Groups))
+	t.write(r.w)
+}
+
+func (r *renderer) internal() {
+	in := r.a.Internal
+	if in == nil {
+		return
+	}
+	r.p("## Internal validation\n\n")
+	r.p("Optimism-corrected bootstrap (Efron 1983; Harrell, Lee & Mark 1996): %d samples of the development rows drawn with replacement (seed %d), the recipe refitted on each, and every measure taken on the sample and on the original rows; the optimism is the mean difference, and the corrected figure is the apparent one less the optimism. %d replicates failed to fit and were left out",
+		in.Bootstrap, in.Seed, in.Failed)
+	if len(in.Reasons) > 0 {
+		var parts []string
+		for k, v := range in.Reasons {
+			parts = append(parts, fmt.Sprintf("%s: %d", k, v))
+		}
+		r.p(" (%s)", strings.Join(parts, "; "))
+	}
+	r.p(".\n\n")
+	if in.Warning != "" {
+		r.p("**%s**\n\n", in.Warning)
+	}
+	m := in.Metrics
+	t := table{head: []string{"measure", "apparent", "optimism", "corrected", "what the corrected figure means"}}
+	add := func(name string, c validate.Corrected, meaning string) {
+		t.add(name, fmt.Sprintf("%.4f", c.Apparent), fmt.Sprintf("%+.4f", c.Optimism), fmt.Sprintf("%.4f", c.Corrected), meaning)
+	}
+	add("AUC", m.AUC, "discrimination to expect in new patients from the same population")
+	add("calibration slope", m.Slope, "the uniform shrinkage factor")
+	add("calibration-in-the-large", m.CITL, "average miscalibration to expect")
+	add("Brier score", m.Brier, "")
+	add("scaled Brier score", m.ScaledBrier, "")
+	add("Nagelkerke R²", m.R2, "")
+	add("ICI", m.ICI, fmt.Sprintf("LOWESS with δ = %g of the risk range, here and in every replicate", in.ICIDelta))
+	t.write(r.w)
+	r.p("The shrinkage factor %.3f multiplies every coefficient of a shrunken model, whose intercept is then re-estimated (Van Houwelingen & le Cessie 1990)", in.Shrinkage)
+	if in.ShrunkenModel != "" {
+		r.p("; it was written to %s", code(in.ShrunkenModel))
+	}
+	r.p(".\n\n")
 }
 
 // code quotes user text as inline code, choosing a fence longer than any
@@ -167,11 +244,22 @@ func (r *renderer) calibration() {
 	t.add("calibration slope", f3(c.Slope), ci3(c.SlopeCI), "1", slopeMeaning(c))
 	t.add("observed / expected (O/E)", f3(c.OE), ci3(c.OECI), "1", fmt.Sprintf("%.0f events observed, %.1f expected", c.Observed, c.Expected))
 	t.add("Hosmer–Lemeshow χ²", fmt.Sprintf("%.2f", c.HL.Statistic), "", "", fmt.Sprintf("%d groups, %d df, p %s", c.HL.Groups, c.HL.DF, fmtP(c.HL.P)))
-	t.add("ICI", pct(c.ICI), "", "0", "mean distance between predicted and smoothed observed risk")
-	t.add("E50", pct(c.E50), "", "0", "median of that distance")
-	t.add("E90", pct(c.E90), "", "0", "90th percentile of that distance")
+	bci := r.a.BootstrapCI
+	pctCI := func(get func(*validate.PercentileCIs) [2]float64) string {
+		if bci == nil {
+			return ""
+		}
+		ci := get(bci)
+		return fmt.Sprintf("%.1f%% to %.1f%%*", 100*ci[0], 100*ci[1])
+	}
+	t.add("ICI", pct(c.ICI), pctCI(func(b *validate.PercentileCIs) [2]float64 { return b.ICI }), "0", "mean distance between predicted and smoothed observed risk")
+	t.add("E50", pct(c.E50), pctCI(func(b *validate.PercentileCIs) [2]float64 { return b.E50 }), "0", "median of that distance")
+	t.add("E90", pct(c.E90), pctCI(func(b *validate.PercentileCIs) [2]float64 { return b.E90 }), "0", "90th percentile of that distance")
 	t.add("Emax", pct(c.Emax), "", "0", "largest distance")
 	t.write(r.w)
+	if bci != nil {
+		r.p("\\* Bootstrap percentile intervals from %d resamples of the cohort (seed %d; the model fixed; the curve in each resample with δ = %g of the risk range).\n\n", bci.Replicates, bci.Seed, bci.ICIDelta)
+	}
 	delta := "δ = 0: a local fit at every patient"
 	if c.Delta > 0 {
 		delta = fmt.Sprintf("δ = %.4g (local fits %d, the rest interpolated)", c.Delta, c.FitPoints)
@@ -213,19 +301,33 @@ func slopeMeaning(c validate.Calibration) string {
 func (r *renderer) overall() {
 	o := r.a.Overall
 	r.p("## Overall accuracy\n\n")
-	t := table{head: []string{"measure", "value", "what it means"}}
-	t.add("Brier score", f4(o.Brier), "mean squared difference between predicted risk and outcome (0 is perfect)")
-	t.add("scaled Brier score", f3(o.ScaledBrier), "share of the error of predicting the event rate for everyone that the model removes (1 is perfect, 0 no better)")
+	t := table{head: []string{"measure", "value", "95% CI", "what it means"}}
+	t.add("Brier score", f4(o.Brier), "", "mean squared difference between predicted risk and outcome (0 is perfect)")
+	sbCI := ""
+	if b := r.a.BootstrapCI; b != nil {
+		sbCI = fmt.Sprintf("%.3f to %.3f (bootstrap percentile)", b.ScaledBrier[0], b.ScaledBrier[1])
+	}
+	t.add("scaled Brier score", f3(o.ScaledBrier), sbCI, "share of the error of predicting the event rate for everyone that the model removes (1 is perfect, 0 no better)")
 	t.write(r.w)
 }
 
 func (r *renderer) usefulness() {
 	r.p("## Clinical usefulness\n\n")
 	r.p("Net benefit counts the true positives per patient, less the false positives weighted by the odds of the threshold: the exchange rate a clinician accepts by choosing that threshold (Vickers & Elkin 2006).\n\n")
-	t := table{head: []string{"risk threshold", "model", "treat everyone", "treat no one", "model gains over the better default"}}
-	for _, nb := range r.a.NetBenefit {
+	head := []string{"risk threshold", "model", "treat everyone", "treat no one", "model gains over the better default"}
+	b := r.a.BootstrapCI
+	if b != nil {
+		head = append(head[:2], append([]string{"95% CI (bootstrap)"}, head[2:]...)...)
+	}
+	t := table{head: head}
+	for i, nb := range r.a.NetBenefit {
 		gain := nb.Model - math.Max(nb.TreatAll, 0)
-		t.add(pct(nb.Threshold), f4(nb.Model), f4(nb.TreatAll), "0", fmt.Sprintf("%+.4f (%+.1f true positives per 1000 patients)", gain, 1000*gain))
+		cells := []string{pct(nb.Threshold), f4(nb.Model)}
+		if b != nil && i < len(b.NetBenefit) {
+			cells = append(cells, fmt.Sprintf("%.4f to %.4f", b.NetBenefit[i].CI[0], b.NetBenefit[i].CI[1]))
+		}
+		cells = append(cells, f4(nb.TreatAll), "0", fmt.Sprintf("%+.4f (%+.1f true positives per 1000 patients)", gain, 1000*gain))
+		t.add(cells...)
 	}
 	t.write(r.w)
 	r.figure("decision_curve.svg")
@@ -242,7 +344,7 @@ func (r *renderer) usefulness() {
 
 func (r *renderer) development() {
 	d := r.a.Development
-	if d == nil {
+	if d == nil || d.Measures == nil {
 		return
 	}
 	dm := d.Measures
@@ -350,6 +452,20 @@ func (t *table) write(w io.Writer) {
 		line(r)
 	}
 	fmt.Fprintln(w)
+}
+
+// fitStats reads the fit statistics out of the development fit, which
+// the audit keeps as an opaque JSON object.
+func fitStats(v any) (model.FitStats, bool) {
+	b, err := json.Marshal(v)
+	if err != nil {
+		return model.FitStats{}, false
+	}
+	var st model.FitStats
+	if err := json.Unmarshal(b, &st); err != nil {
+		return model.FitStats{}, false
+	}
+	return st, len(st.Terms) > 0
 }
 
 func f3(v float64) string { return fmt.Sprintf("%.3f", v) }

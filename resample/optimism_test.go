@@ -10,6 +10,7 @@ import (
 
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/logistic"
+	"github.com/riskaudit/riskaudit/metrics"
 	"github.com/riskaudit/riskaudit/model"
 )
 
@@ -169,5 +170,42 @@ func BenchmarkOptimism(b *testing.B) {
 				}
 			}
 		})
+	}
+}
+
+func TestPercentileIntervals(t *testing.T) {
+	r := rand.New(rand.NewPCG(2, 3))
+	n := 3000
+	y, p := make([]float64, n), make([]float64, n)
+	for i := range p {
+		p[i] = 0.02 + 0.4*r.Float64()
+		if r.Float64() < 1.2*p[i] {
+			y[i] = 1
+		}
+	}
+	ts := []float64{0.1, 0.2}
+	a, err := PercentileIntervals(y, p, CIOptions{B: 60, Seed: 4, Workers: 1, Thresholds: ts})
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := PercentileIntervals(y, p, CIOptions{B: 60, Seed: 4, Workers: 3, Thresholds: ts})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if a.ICI != b.ICI || a.NetBenefit[1] != b.NetBenefit[1] {
+		t.Errorf("workers changed the intervals: %v vs %v", a, b)
+	}
+	_, sb := metrics.Brier(y, p)
+	if !(a.ScaledBrier[0] < sb && sb < a.ScaledBrier[1]) {
+		t.Errorf("scaled Brier %v outside its interval %v", sb, a.ScaledBrier)
+	}
+	nb := metrics.NetBenefits(y, p, ts)
+	for j := range ts {
+		if !(a.NetBenefit[j][0] < nb[j].Model && nb[j].Model < a.NetBenefit[j][1]) {
+			t.Errorf("net benefit %v outside %v", nb[j].Model, a.NetBenefit[j])
+		}
+	}
+	if !(a.ICI[0] < a.ICI[1] && a.ICI[0] >= 0) {
+		t.Errorf("ICI interval %v", a.ICI)
 	}
 }

@@ -55,7 +55,8 @@ type Apparent struct {
 	ICI         float64 `json:"ici"`
 }
 
-// Development is the model's performance on the development data.
+// Development is the model's performance on the development data, and
+// its fit when the audit fitted it.
 type Development struct {
 	File string `json:"file"`
 	// Fitted reports that the frozen model was fitted to this file (its
@@ -64,6 +65,69 @@ type Development struct {
 	Fitted   bool         `json:"model_fitted_to_this_data"`
 	Apparent Apparent     `json:"apparent"`
 	Measures *Performance `json:"measures"`
+	// Fit is the fit of the recipe on these data (the fit --json object)
+	// when the audit fitted it.
+	Fit any `json:"fit,omitempty"`
+}
+
+// Corrected is one measure's apparent value, its bootstrap optimism and
+// the corrected value apparent − optimism.
+type Corrected struct {
+	Apparent  float64 `json:"apparent"`
+	Optimism  float64 `json:"optimism"`
+	Corrected float64 `json:"corrected"`
+}
+
+// InternalMetrics are the optimism-corrected measures.
+type InternalMetrics struct {
+	AUC         Corrected `json:"auc"`
+	Slope       Corrected `json:"slope"`
+	CITL        Corrected `json:"citl"`
+	Brier       Corrected `json:"brier"`
+	ScaledBrier Corrected `json:"scaled_brier"`
+	R2          Corrected `json:"nagelkerke_r2"`
+	ICI         Corrected `json:"ici"`
+}
+
+// Internal is the internal validation by the optimism-corrected
+// bootstrap.
+type Internal struct {
+	Bootstrap int             `json:"bootstrap"`
+	Seed      uint64          `json:"seed"`
+	Failed    int             `json:"failed"`
+	Reasons   map[string]int  `json:"failed_by_reason,omitempty"`
+	Metrics   InternalMetrics `json:"metrics"`
+	// Shrinkage is the uniform shrinkage factor: the corrected
+	// calibration slope (Van Houwelingen & le Cessie 1990).
+	Shrinkage float64 `json:"shrinkage_factor"`
+	// Refitted says that a frozen model's terms were refitted as a recipe
+	// for the bootstrap.
+	Refitted bool `json:"frozen_terms_refitted"`
+	// ICIDelta is the LOWESS δ share of the ICI inside the bootstrap.
+	ICIDelta float64 `json:"ici_delta_share"`
+	// Warning is set when more than 10% of the replicates failed.
+	Warning string `json:"warning,omitempty"`
+	// ShrunkenModel names the shrunken frozen model written, if any.
+	ShrunkenModel string `json:"shrunken_model,omitempty"`
+}
+
+// PercentileCIs are bootstrap percentile intervals, on the audited
+// cohort, for the measures without an analytic interval.
+type PercentileCIs struct {
+	Replicates  int           `json:"replicates"`
+	Seed        uint64        `json:"seed"`
+	ICIDelta    float64       `json:"ici_delta_share"`
+	ICI         [2]float64    `json:"ici"`
+	E50         [2]float64    `json:"e50"`
+	E90         [2]float64    `json:"e90"`
+	ScaledBrier [2]float64    `json:"scaled_brier"`
+	NetBenefit  []ThresholdCI `json:"net_benefit"`
+}
+
+// ThresholdCI is an interval at one risk threshold.
+type ThresholdCI struct {
+	Threshold float64    `json:"threshold"`
+	CI        [2]float64 `json:"ci"`
 }
 
 // Finding is one plain-language statement of the summary.
@@ -80,8 +144,14 @@ type Audit struct {
 	Provenance Provenance `json:"provenance"`
 	Performance
 	Development *Development `json:"development,omitempty"`
-	Summary     []Finding    `json:"summary"`
-	Caution     string       `json:"caution"`
+	Internal    *Internal    `json:"internal,omitempty"`
+	// BootstrapCI holds percentile intervals on the cohort when asked.
+	BootstrapCI *PercentileCIs `json:"bootstrap_ci,omitempty"`
+	// CohortIsDevelopment says that no new cohort was given, so the
+	// measures at the top level are those of the development data.
+	CohortIsDevelopment bool      `json:"cohort_is_development,omitempty"`
+	Summary             []Finding `json:"summary"`
+	Caution             string    `json:"caution"`
 }
 
 // NewAudit assembles an audit from the new cohort's performance and,
@@ -93,6 +163,21 @@ func NewAudit(m ModelInfo, prov Provenance, perf *Performance, dev *Performance,
 	}
 	a.Summary = Findings(perf, dev)
 	return a
+}
+
+// SetInternal adds the internal validation and its finding.
+func (a *Audit) SetInternal(in *Internal) {
+	a.Internal = in
+	m := in.Metrics
+	text := fmt.Sprintf("By %d bootstrap replicates the apparent AUC %.3f shrinks to %.3f once corrected for optimism; the calibration slope expected in new patients from the same population (the shrinkage factor) is %.3f.",
+		in.Bootstrap-in.Failed, m.AUC.Apparent, m.AUC.Corrected, in.Shrinkage)
+	if in.Shrinkage < 0.9 {
+		text += " A factor below 0.9 means the model is noticeably overfitted: its risks will be too extreme in new patients."
+	}
+	if in.Warning != "" {
+		text += " " + in.Warning
+	}
+	a.Summary = append(a.Summary, Finding{"internal validation", text})
 }
 
 func apparent(p *Performance) Apparent {

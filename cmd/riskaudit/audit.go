@@ -18,27 +18,35 @@ import (
 	"github.com/riskaudit/riskaudit/model"
 	"github.com/riskaudit/riskaudit/plots"
 	"github.com/riskaudit/riskaudit/report"
+	"github.com/riskaudit/riskaudit/resample"
 	"github.com/riskaudit/riskaudit/validate"
 )
 
 type auditOptions struct {
-	data       dataFlags
-	model      string
-	predicted  string
-	outcome    string
-	event      string
-	nonEvent   string
-	cohortFile string
-	devFile    string
-	out        string
-	thresholds string
-	classifyAt []float64
-	groups     int
-	hlGroups   int
-	span       float64
-	delta      float64
-	epsilon    float64
-	quiet      bool
+	data        dataFlags
+	model       string
+	predicted   string
+	outcome     string
+	event       string
+	nonEvent    string
+	cohortFile  string
+	devFile     string
+	out         string
+	thresholds  string
+	classifyAt  []float64
+	groups      int
+	hlGroups    int
+	span        float64
+	delta       float64
+	epsilon     float64
+	quiet       bool
+	bootstrap   int
+	seed        uint64
+	workers     int
+	resampleLog string
+	shrunken    string
+	ciBootstrap int
+	firth       bool
 }
 
 const auditLong = `Measure how a model performs on a cohort with observed outcomes and write
@@ -99,9 +107,15 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.Float64Var(&o.span, "lowess-span", 0.75, "span of the LOWESS calibration curve")
 	f.Float64Var(&o.delta, "lowess-delta", -1, "LOWESS δ; negative chooses 0 up to 10,000 rows and 1% of the risk range beyond")
 	f.Float64Var(&o.epsilon, "clamp", validate.DefaultEpsilon, "risks of exactly 0 or 1 are clamped to [clamp, 1 − clamp] for the logit")
+	f.IntVar(&o.bootstrap, "bootstrap", 0, "internal validation: bootstrap replicates of the development data (refitting the recipe each time)")
+	f.Uint64Var(&o.seed, "seed", 1, "seed of the bootstrap draws (the same seed gives the same numbers whatever --workers)")
+	f.IntVar(&o.workers, "workers", 0, "goroutines for the bootstrap (default: all cores)")
+	f.StringVar(&o.resampleLog, "resample-log", "", "write the rows each bootstrap replicate drew (0-based, after exclusions, in file order), one line per replicate")
+	f.StringVar(&o.shrunken, "shrunken", "", "write a frozen model shrunk by the bootstrap's uniform shrinkage factor")
+	f.IntVar(&o.ciBootstrap, "ci-bootstrap", 0, "percentile intervals for ICI, E50, E90, scaled Brier and net benefit from this many replicates of the cohort")
+	f.BoolVar(&o.firth, "firth", false, "fit the recipe (and every bootstrap refit) by Firth's penalised likelihood")
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
 	o.data.register(f)
-	_ = c.MarkFlagRequired("cohort")
 	_ = c.MarkFlagRequired("out")
 	_ = c.MarkFlagFilename("model", "yaml", "yml")
 	_ = c.MarkFlagFilename("cohort", "csv", "tsv", "txt")
@@ -166,35 +180,9 @@ type scored struct {
 }
 
 func runAudit(o *auditOptions, s *streams) error {
-	if (o.model == "") == (o.predicted == "") {
-		return usagef("give either --model (a frozen model) or --predicted (a column of risks)")
-	}
-	if o.predicted != "" && (o.outcome == "" || o.event == "") {
-		return usagef("--predicted needs --outcome and --event")
-	}
-	if o.model != "" && (o.outcome != "" || o.event != "" || o.nonEvent != "") {
-		return usagef("--outcome, --event and --non-event go with --predicted; a model names its own outcome")
-	}
-	ts, err := parseThresholds(o.thresholds)
+	ts, err := checkAuditFlags(o)
 	if err != nil {
 		return err
-	}
-	for _, t := range o.classifyAt {
-		if !(t > 0 && t < 1) {
-			return usagef("--classify-at: %g is not strictly between 0 and 1", t)
-		}
-	}
-	if o.groups < 2 || o.hlGroups < 3 {
-		return usagef("--groups needs at least 2 and --hl-groups at least 3")
-	}
-	if o.span <= 0 || o.span > 1 {
-		return usagef("--lowess-span %g: give a value in (0, 1]", o.span)
-	}
-	if !(o.epsilon > 0 && o.epsilon < 0.01) {
-		return usagef("--clamp %g: give a small positive value below 0.01", o.epsilon)
-	}
-	if st, err := os.Stat(o.out); err == nil && !st.IsDir() {
-		return usagef("--out %s is a file, not a folder", o.out)
 	}
 	prog := newProgress(s, o.quiet)
 	started := now()
@@ -203,28 +191,34 @@ func runAudit(o *auditOptions, s *streams) error {
 		if spec, err = model.LoadSpec(o.model); err != nil {
 			return err
 		}
-		if !spec.Frozen() {
-			return &model.SpecError{File: o.model, Msg: "this is a recipe (it has no intercept): fit it first with 'riskaudit fit'"}
+		if !spec.Frozen() && o.devFile == "" {
+			return &model.SpecError{File: o.model, Msg: "this is a recipe (it has no intercept): give the development data with --dev to fit it, or fit it first with 'riskaudit fit'"}
 		}
 	} else {
 		spec = predictedSpec(o)
 	}
-	prog.step("reading and scoring " + o.cohortFile)
-	cur, err := score(spec, o, o.cohortFile)
-	if err != nil {
-		return err
+	var extra []outFile
+	var in *inside
+	if o.model != "" && (!spec.Frozen() || o.bootstrap > 0) {
+		prog.step("fitting on the development data " + o.devFile)
+		if in, err = fitInside(o, spec); err != nil {
+			return err
+		}
+		if !spec.Frozen() {
+			spec = in.frozen
+		}
+		if o.bootstrap > 0 {
+			if extra, err = internalValidation(o, s, in, prog); err != nil {
+				return err
+			}
+		}
 	}
 	vopt := validate.Options{Thresholds: ts, ClassifyAt: o.classifyAt, Groups: o.groups, HLGroups: o.hlGroups,
-		Span: o.span, Delta: o.delta, Epsilon: o.epsilon, Development: cur.isDevFit}
-	prog.step("measuring")
-	perf, err := assess(cur, vopt)
-	if err != nil {
-		return err
-	}
-	var devPerf *validate.Performance
+		Span: o.span, Delta: o.delta, Epsilon: o.epsilon}
 	var dev *scored
+	var devPerf *validate.Performance
 	if o.devFile != "" {
-		prog.step("reading and measuring the development data " + o.devFile)
+		prog.step("measuring the development data " + o.devFile)
 		if dev, err = score(spec, o, o.devFile); err != nil {
 			return err
 		}
@@ -234,9 +228,44 @@ func runAudit(o *auditOptions, s *streams) error {
 			return err
 		}
 	}
-	a := validate.NewAudit(modelInfo(o, spec, cur), provenance(o, s, started, cur, dev), perf, devPerf, o.devFile)
+	cur, perf := dev, devPerf
+	if o.cohortFile != "" {
+		prog.step("reading and scoring " + o.cohortFile)
+		if cur, err = score(spec, o, o.cohortFile); err != nil {
+			return err
+		}
+		prog.step("measuring")
+		copt := vopt
+		copt.Development = cur.isDevFit
+		if perf, err = assess(cur, copt); err != nil {
+			return err
+		}
+	}
+	var a *validate.Audit
+	if o.cohortFile != "" {
+		a = validate.NewAudit(modelInfo(o, spec, cur), provenance(o, s, started, cur, dev), perf, devPerf, o.devFile)
+	} else {
+		a = validate.NewAudit(modelInfo(o, spec, cur), provenance(o, s, started, cur, nil), perf, nil, "")
+		a.CohortIsDevelopment = true
+		a.Development = &validate.Development{File: o.devFile}
+	}
 	if a.Development != nil {
 		a.Development.Fitted = dev.isDevFit
+		a.Development.Apparent = apparentOf(devPerf)
+	}
+	if in != nil {
+		a.Development.Fit = in.report
+		if in.internal != nil {
+			a.SetInternal(in.internal)
+		}
+	}
+	if o.ciBootstrap > 0 {
+		prog.step(fmt.Sprintf("bootstrap intervals (%d replicates)", o.ciBootstrap))
+		ci, err := resample.PercentileIntervals(cur.y, cur.p, resample.CIOptions{B: o.ciBootstrap, Seed: o.seed, Workers: o.workers, Thresholds: ts})
+		if err != nil {
+			return err
+		}
+		a.BootstrapCI = percentileCIs(ci, o, ts)
 	}
 	label := a.Model.Name
 	prog.step("drawing figures")
@@ -245,7 +274,7 @@ func runAudit(o *auditOptions, s *streams) error {
 		return err
 	}
 	prog.step("writing " + o.out)
-	if err := writeAudit(o.out, a, figs); err != nil {
+	if err := writeAudit(o.out, a, figs, extra); err != nil {
 		return err
 	}
 	prog.done()
@@ -253,6 +282,76 @@ func runAudit(o *auditOptions, s *streams) error {
 		writeAuditSummary(s, a, o.out, len(figs))
 	}
 	return nil
+}
+
+// checkAuditFlags refuses contradictory or out-of-range flags and returns
+// the decision-curve thresholds.
+func checkAuditFlags(o *auditOptions) ([]float64, error) {
+	switch {
+	case (o.model == "") == (o.predicted == ""):
+		return nil, usagef("give either --model (a frozen model or a recipe) or --predicted (a column of risks)")
+	case o.predicted != "" && (o.outcome == "" || o.event == ""):
+		return nil, usagef("--predicted needs --outcome and --event")
+	case o.model != "" && (o.outcome != "" || o.event != "" || o.nonEvent != ""):
+		return nil, usagef("--outcome, --event and --non-event go with --predicted; a model names its own outcome")
+	case o.cohortFile == "" && o.devFile == "":
+		return nil, usagef("give the cohort to audit with --cohort (or, for a recipe, the development data with --dev)")
+	case o.bootstrap < 0 || o.ciBootstrap < 0:
+		return nil, usagef("--bootstrap and --ci-bootstrap take a number of replicates")
+	case o.bootstrap > 0 && o.devFile == "":
+		return nil, usagef("--bootstrap resamples the development data: give it with --dev")
+	case o.bootstrap > 0 && o.predicted != "":
+		return nil, usagef("--bootstrap refits a model: give --model, not --predicted")
+	case o.bootstrap > 0 && o.bootstrap < 10:
+		return nil, usagef("--bootstrap %d: give at least 10 replicates (200 or more is common practice)", o.bootstrap)
+	case o.ciBootstrap > 0 && o.ciBootstrap < 20:
+		return nil, usagef("--ci-bootstrap %d: give at least 20 replicates", o.ciBootstrap)
+	case (o.shrunken != "" || o.resampleLog != "") && o.bootstrap == 0:
+		return nil, usagef("--shrunken and --resample-log come from the bootstrap: add --bootstrap N")
+	case o.cohortFile == "" && o.predicted != "":
+		return nil, usagef("--predicted needs --cohort")
+	}
+	ts, err := parseThresholds(o.thresholds)
+	if err != nil {
+		return nil, err
+	}
+	for _, t := range o.classifyAt {
+		if !(t > 0 && t < 1) {
+			return nil, usagef("--classify-at: %g is not strictly between 0 and 1", t)
+		}
+	}
+	if o.groups < 2 || o.hlGroups < 3 {
+		return nil, usagef("--groups needs at least 2 and --hl-groups at least 3")
+	}
+	if o.span <= 0 || o.span > 1 {
+		return nil, usagef("--lowess-span %g: give a value in (0, 1]", o.span)
+	}
+	if !(o.epsilon > 0 && o.epsilon < 0.01) {
+		return nil, usagef("--clamp %g: give a small positive value below 0.01", o.epsilon)
+	}
+	if st, err := os.Stat(o.out); err == nil && !st.IsDir() {
+		return nil, usagef("--out %s is a file, not a folder", o.out)
+	}
+	for _, out := range []string{o.shrunken, o.resampleLog} {
+		if err := checkNotInput(out, o.model, o.cohortFile, o.devFile); err != nil {
+			return nil, err
+		}
+	}
+	return ts, nil
+}
+
+func apparentOf(p *validate.Performance) validate.Apparent {
+	return validate.Apparent{AUC: p.Discrimination.AUC, Slope: p.Calibration.Slope, CITL: p.Calibration.CITL,
+		Brier: p.Overall.Brier, ScaledBrier: p.Overall.ScaledBrier, OE: p.Calibration.OE, ICI: p.Calibration.ICI}
+}
+
+func percentileCIs(ci *resample.CIResult, o *auditOptions, ts []float64) *validate.PercentileCIs {
+	out := &validate.PercentileCIs{Replicates: o.ciBootstrap, Seed: o.seed, ICIDelta: 0.1,
+		ICI: ci.ICI, E50: ci.E50, E90: ci.E90, ScaledBrier: ci.ScaledBrier}
+	for j, t := range ts {
+		out.NetBenefit = append(out.NetBenefit, validate.ThresholdCI{Threshold: t, CI: ci.NetBenefit[j]})
+	}
+	return out
 }
 
 // predictedSpec is the spec behind --predicted: the outcome mapping and
@@ -380,7 +479,7 @@ func provenance(o *auditOptions, s *streams, started interface{ Format(string) s
 
 // writeAudit writes the report, the JSON and the figures into dir, all
 // or nothing.
-func writeAudit(dir string, a *validate.Audit, figs []plots.Figure) error {
+func writeAudit(dir string, a *validate.Audit, figs []plots.Figure, extra []outFile) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return fmt.Errorf("cannot create %s: %w", dir, err)
 	}
@@ -404,6 +503,11 @@ func writeAudit(dir string, a *validate.Audit, figs []plots.Figure) error {
 	}
 	if err := set.Add(filepath.Join(dir, "report.md"), md.Bytes()); err != nil {
 		return err
+	}
+	for _, f := range extra {
+		if err := set.Add(f.path, f.data); err != nil {
+			return err
+		}
 	}
 	return set.Commit()
 }

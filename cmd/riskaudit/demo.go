@@ -26,7 +26,8 @@ a seeded random generator (no real patients) and are the same on every
 run. In the later extract the patients are older and complications more
 common, so the audit shows a model that still discriminates but has lost
 calibration. The demo fits the model on the development extract, then
-audits it on the later one beside the development data. It writes:
+audits it on the later one beside the development data, with an internal
+validation by 200 bootstrap replicates (seed 1). It writes:
 
   DIR/development.csv   the development extract (4000 invented patients)
   DIR/later.csv         an extract two years on (3000 invented patients)
@@ -79,5 +80,6 @@ func runDemo(dir string, s *streams) error {
 		model: frozen, cohortFile: later, devFile: dev, out: filepath.Join(dir, "audit"),
 		thresholds: "0.05:0.50:0.05", classifyAt: []float64{0.10, 0.20}, groups: 10, hlGroups: 10,
 		span: 0.75, delta: validate.AutoDelta, epsilon: validate.DefaultEpsilon, data: dataFlags{missing: "complete-case"},
+		bootstrap: 200, seed: 1,
 	}, s)
 }

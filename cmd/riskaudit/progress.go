@@ -55,3 +55,18 @@ func shellQuote(a string) string {
 	}
 	return "'" + strings.ReplaceAll(a, "'", `'\''`) + "'"
 }
+
+// count shows how many of total items are done, the rate and the time
+// left.
+func (p *progress) count(what string, done, total int, start time.Time) {
+	if !p.on {
+		return
+	}
+	el := time.Since(start).Seconds()
+	rate := float64(done) / max(el, 1e-9)
+	left := float64(total-done) / max(rate, 1e-9)
+	line := fmt.Sprintf("riskaudit: %s %d/%d (%.0f/s, %.0fs left)", what, done, total, rate, left)
+	pad := max(0, p.width-len(line))
+	fmt.Fprintf(p.s.err, "\r%s%s", line, strings.Repeat(" ", pad))
+	p.width = len(line)
+}
