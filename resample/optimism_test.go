@@ -209,3 +209,45 @@ func TestPercentileIntervals(t *testing.T) {
 		t.Errorf("ICI interval %v", a.ICI)
 	}
 }
+
+// TestFailedReplicatesAreCounted: a rare level missing from many
+// bootstrap samples makes those refits fail; they are counted by reason
+// and left out, and the rest still give a result.
+func TestFailedReplicatesAreCounted(t *testing.T) {
+	r := rand.New(rand.NewPCG(8, 9))
+	n, p := 150, 3
+	pr := Problem{N: n, P: p, X: make([]float64, n*p), Y: make([]float64, n)}
+	for i := 0; i < n; i++ {
+		x := pr.X[i*p : (i+1)*p]
+		x[0], x[1] = 1, r.NormFloat64()
+		if i < 2 { // a level held by two rows only
+			x[2] = 1
+		}
+		if r.Float64() < logistic.Expit(-0.5+x[1]) {
+			pr.Y[i] = 1
+		}
+	}
+	pr.Y[0], pr.Y[1] = 1, 0
+	fit, err := logistic.Fit(logistic.Data{X: pr.X, N: n, P: p, Y: pr.Y}, logistic.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	pr.Coef = fit.Coef
+	res, err := Optimism(pr, Options{B: 60, Seed: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Failed == 0 || res.Failed == res.B {
+		t.Fatalf("%d of %d failed; expected some", res.Failed, res.B)
+	}
+	total := 0
+	for _, k := range res.Reasons {
+		total += k
+	}
+	if total != res.Failed {
+		t.Errorf("reasons %v do not add up to %d", res.Reasons, res.Failed)
+	}
+	if res.FailedShare() <= 0.10 {
+		t.Logf("failed share %.2f", res.FailedShare())
+	}
+}
