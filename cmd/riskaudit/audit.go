@@ -66,6 +66,15 @@ SHA-256); a LOWESS calibration curve with ICI, E50, E90 and Emax; Brier and
 scaled Brier scores; net benefit at risk thresholds; sensitivity,
 specificity, PPV and NPV with exact intervals.
 
+Internal validation: with --dev and --bootstrap B, the recipe (or a frozen
+model's terms, refitted) is refitted on B bootstrap samples of the
+development rows and the optimism of the AUC, calibration slope and
+intercept, Brier scores, Nagelkerke's R² and ICI is subtracted from their
+apparent values (Efron 1983; Harrell, Lee & Mark 1996). A recipe given as
+--model is fitted on --dev first; without --cohort the report describes the
+development data. The same --seed gives the same numbers whatever
+--workers.
+
 Outputs are written to temporary files and renamed into place only when
 everything has succeeded.`
 
@@ -78,13 +87,21 @@ const auditExample = `  # Audit a frozen model on a fresh extract
   # Audit the risks a vendor's system wrote into a column
   riskaudit audit --predicted vendor_risk --outcome died_30d --event yes --cohort new.csv --out audit
 
+  # Fit a recipe on the development data, validate it by 500 bootstrap
+  # replicates, keep the draws and a shrunken model, and audit a new cohort
+  riskaudit audit --model recipe.yaml --dev dev.csv --bootstrap 500 --seed 1 \
+    --resample-log draws.txt --shrunken shrunk.yaml --cohort new.csv --out audit
+
+  # Percentile intervals for ICI, E50, E90, scaled Brier and net benefit
+  riskaudit audit --model frozen.yaml --cohort new.csv --ci-bootstrap 500 --out audit
+
   # Decision-curve thresholds from 2% to 30% by 2%, classification at 10% and 25%
   riskaudit audit --model frozen.yaml --cohort new.csv --thresholds 0.02:0.30:0.02 --classify-at 0.1,0.25 --out audit`
 
 func newAuditCmd(s *streams) *cobra.Command {
 	o := &auditOptions{}
 	c := &cobra.Command{
-		Use:     "audit (--model FROZEN | --predicted COLUMN --outcome COLUMN --event VALUE) --cohort FILE --out DIR",
+		Use:     "audit (--model SPEC | --predicted COLUMN --outcome COLUMN --event VALUE) (--cohort FILE | --dev FILE) --out DIR",
 		Short:   "Audit a model's predicted risks on a cohort and write the report",
 		Long:    auditLong,
 		Example: auditExample,
@@ -92,7 +109,7 @@ func newAuditCmd(s *streams) *cobra.Command {
 		RunE:    func(cmd *cobra.Command, _ []string) error { return runAudit(o, s) },
 	}
 	f := c.Flags()
-	f.StringVar(&o.model, "model", "", "frozen model (YAML) that scores the cohort")
+	f.StringVar(&o.model, "model", "", "frozen model (YAML) that scores the cohort, or a recipe to fit on --dev")
 	f.StringVar(&o.predicted, "predicted", "", "column of predicted risks (0 to 1) to audit instead of a model")
 	f.StringVar(&o.outcome, "outcome", "", "with --predicted: the outcome column")
 	f.StringVar(&o.event, "event", "", "with --predicted: the outcome value that is an event")
