@@ -254,6 +254,23 @@ func interceptStart(d Data) (float64, bool) {
 	return Logit(sy / sw), true
 }
 
+// LinearPredictor writes Xβ plus the offset of every row into out (which
+// must hold N values) and returns it.
+func (d Data) LinearPredictor(beta, out []float64) []float64 {
+	for i := range out {
+		x := d.X[i*d.P : (i+1)*d.P]
+		eta := 0.0
+		if d.Offset != nil {
+			eta = d.Offset[i]
+		}
+		for j, b := range beta {
+			eta += x[j] * b
+		}
+		out[i] = eta
+	}
+	return out
+}
+
 // Deviance returns −2 log-likelihood of the model with coefficients beta
 // on d, without fitting.
 func Deviance(d Data, beta []float64) float64 {
@@ -504,44 +521,14 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool) {
 		}
 		nb = 0
 	}
-	// Σ log(1 + z) is taken as the log of a running product, one
-	// logarithm per 256 factors: each factor lies in (1, 2], so the
-	// product stays finite, and the absolute error per row stays near
-	// 1e-16. A row with a small whole weight k contributes k factors.
-	dev, prod, np := 0.0, 1.0, 0
+	var acc devSum
 	for i := lo; i < hi; i++ {
-		wt := 1.0
-		if d.Weights != nil {
-			wt = d.Weights[i]
-			if wt == 0 {
-				continue
-			}
-		}
-		x := d.X[i*p : i*p+p]
-		eta := 0.0
-		if d.Offset != nil {
-			eta = d.Offset[i]
-		}
-		for j, b := range beta {
-			eta += x[j] * b
+		wt, x, eta, ok := e.rowAt(i, beta)
+		if !ok {
+			continue
 		}
 		y := d.Y[i]
-		// −log P(y | η), stably: softplus(η) − yη, with one exponential
-		// shared with μ.
-		z := math.Exp(-math.Abs(eta))
-		dev += wt * (math.Max(eta, 0) - y*eta)
-		if k := int(wt); float64(k) == wt && k <= 8 {
-			// Small whole weights (bootstrap counts) multiply in k times.
-			for ; k > 0; k-- {
-				prod *= 1 + z
-				if np++; np >= 256 {
-					dev += math.Log(prod)
-					prod, np = 1, 0
-				}
-			}
-		} else {
-			dev += wt * log1pUnit(z)
-		}
+		z := acc.add(wt, eta, y)
 		if !derivs {
 			continue
 		}
@@ -563,7 +550,7 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool) {
 	if derivs && nb > 0 {
 		flush()
 	}
-	c.dev = 2 * (dev + math.Log(prod))
+	c.dev = acc.total()
 }
 
 // passSmall is pass with derivatives for at most three columns, where
@@ -573,38 +560,14 @@ func (e *evaluator) passSmall(beta []float64, lo, hi int, c *chunk) {
 	p := d.P
 	var info [9]float64
 	var score [3]float64
-	dev, prod, np := 0.0, 1.0, 0
+	var acc devSum
 	for i := lo; i < hi; i++ {
-		wt := 1.0
-		if d.Weights != nil {
-			wt = d.Weights[i]
-			if wt == 0 {
-				continue
-			}
-		}
-		x := d.X[i*p : i*p+p]
-		eta := 0.0
-		if d.Offset != nil {
-			eta = d.Offset[i]
-		}
-		for j, b := range beta {
-			eta += x[j] * b
+		wt, x, eta, ok := e.rowAt(i, beta)
+		if !ok {
+			continue
 		}
 		y := d.Y[i]
-		z := math.Exp(-math.Abs(eta))
-		dev += wt * (math.Max(eta, 0) - y*eta)
-		if k := int(wt); float64(k) == wt && k <= 8 {
-			// Small whole weights (bootstrap counts) multiply in k times.
-			for ; k > 0; k-- {
-				prod *= 1 + z
-				if np++; np >= 256 {
-					dev += math.Log(prod)
-					prod, np = 1, 0
-				}
-			}
-		} else {
-			dev += wt * log1pUnit(z)
-		}
+		z := acc.add(wt, eta, y)
 		mu := 1 / (1 + z)
 		if eta < 0 {
 			mu = z / (1 + z)
@@ -625,7 +588,68 @@ func (e *evaluator) passSmall(beta []float64, lo, hi int, c *chunk) {
 			c.info[j*p+k] += info[j*3+k]
 		}
 	}
-	c.dev = 2 * (dev + math.Log(prod))
+	c.dev = acc.total()
+}
+
+// rowAt returns row i's weight, values and linear predictor at beta, and
+// false for a row of weight zero.
+func (e *evaluator) rowAt(i int, beta []float64) (float64, []float64, float64, bool) {
+	d := e.d
+	wt := 1.0
+	if d.Weights != nil {
+		wt = d.Weights[i]
+		if wt == 0 {
+			return 0, nil, 0, false
+		}
+	}
+	x := d.X[i*d.P : (i+1)*d.P]
+	eta := 0.0
+	if d.Offset != nil {
+		eta = d.Offset[i]
+	}
+	for j, b := range beta {
+		eta += x[j] * b
+	}
+	return wt, x, eta, true
+}
+
+// devSum accumulates −log-likelihood terms softplus(η) − yη. The sum of
+// log(1 + z), z = e^−|η|, is taken as the log of a running product, one
+// logarithm per 256 factors: each factor lies in (1, 2], so the product
+// stays finite, and the absolute error per row stays near 1e-16. A row
+// with a small whole weight k (a bootstrap count) contributes k factors.
+type devSum struct {
+	lin, prod float64
+	n         int
+}
+
+// add adds a row and returns z = e^−|η|, shared with μ.
+func (a *devSum) add(wt, eta, y float64) float64 {
+	if a.prod == 0 {
+		a.prod = 1
+	}
+	z := math.Exp(-math.Abs(eta))
+	a.lin += wt * (math.Max(eta, 0) - y*eta)
+	if k := int(wt); float64(k) == wt && k <= 8 {
+		for ; k > 0; k-- {
+			a.prod *= 1 + z
+			if a.n++; a.n >= 256 {
+				a.lin += math.Log(a.prod)
+				a.prod, a.n = 1, 0
+			}
+		}
+	} else {
+		a.lin += wt * log1pUnit(z)
+	}
+	return z
+}
+
+// total is the deviance, 2 × the accumulated sum.
+func (a *devSum) total() float64 {
+	if a.prod == 0 {
+		return 2 * a.lin
+	}
+	return 2 * (a.lin + math.Log(a.prod))
 }
 
 // firthPass adds Firth's adjustment Σ w·h·(½ − μ)·x to the score, where

@@ -146,12 +146,7 @@ func sortedOrder(p []float64, parallel bool) []int {
 			}
 			hh := &hist[h]
 			for i := lo; i < hi; i++ {
-				k := math.Float64bits(p[i])
-				if k>>63 == 1 {
-					k = ^k
-				} else {
-					k |= 1 << 63
-				}
+				k := radixKey(p[i])
 				keys[i] = k
 				idx[i] = int32(i)
 				for d := 0; d < passes; d++ {
@@ -241,12 +236,7 @@ func radixSerial(p []float64) []int {
 	idx := make([]int32, n)
 	var hist [passes][buckets]int
 	for i, v := range p {
-		k := math.Float64bits(v)
-		if k>>63 == 1 {
-			k = ^k
-		} else {
-			k |= 1 << 63
-		}
+		k := radixKey(v)
 		keys[i], idx[i] = k, int32(i)
 		for d := 0; d < passes; d++ {
 			hist[d][(k>>(d*bits))&(buckets-1)]++
@@ -283,4 +273,15 @@ func radixSerial(p []float64) []int {
 		out[i] = int(v)
 	}
 	return out
+}
+
+// radixKey maps a float64 to a uint64 whose unsigned order is the
+// numeric order: negative values have every bit flipped, others only the
+// sign bit.
+func radixKey(v float64) uint64 {
+	k := math.Float64bits(v)
+	if k>>63 == 1 {
+		return ^k
+	}
+	return k | 1<<63
 }

@@ -116,16 +116,8 @@ func freeze(d *Design, beta []float64, prov Provenance) *Spec {
 // LinearPredictors returns the linear predictor of every matrix row for
 // coefficients beta.
 func LinearPredictors(m *Matrix, beta []float64) []float64 {
-	out := make([]float64, m.N)
-	for i := range out {
-		x := m.X[i*m.P : (i+1)*m.P]
-		eta := 0.0
-		for j, b := range beta {
-			eta += x[j] * b
-		}
-		out[i] = eta
-	}
-	return out
+	d := logistic.Data{X: m.X, N: m.N, P: m.P}
+	return d.LinearPredictor(beta, make([]float64, m.N))
 }
 
 // Risk is the predicted risk of a linear predictor.

@@ -279,15 +279,7 @@ func data(pr Problem, w []float64) logistic.Data {
 }
 
 func linearPredictor(pr Problem, beta, out []float64) []float64 {
-	for i := range out {
-		x := pr.X[i*pr.P : (i+1)*pr.P]
-		eta := 0.0
-		for j, b := range beta {
-			eta += x[j] * b
-		}
-		out[i] = eta
-	}
-	return out
+	return data(pr, nil).LinearPredictor(beta, out)
 }
 
 // replicate refits on the current counts and returns apparent − test.

@@ -389,11 +389,7 @@ func predictedSpec(o *auditOptions) *model.Spec {
 // score reads one cohort file and returns its outcomes and predicted
 // risks over the complete cases.
 func score(spec *model.Spec, o *auditOptions, path string) (*scored, error) {
-	copt, err := o.data.cohortOptions()
-	if err != nil {
-		return nil, err
-	}
-	fail, err := o.data.failOnMissing()
+	copt, fail, err := o.data.options()
 	if err != nil {
 		return nil, err
 	}

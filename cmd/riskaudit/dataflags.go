@@ -55,6 +55,17 @@ func (f *dataFlags) cohortOptions() (cohort.Options, error) {
 	return o, nil
 }
 
+// options returns how to read the files and whether a missing value is
+// an error.
+func (f *dataFlags) options() (cohort.Options, bool, error) {
+	copt, err := f.cohortOptions()
+	if err != nil {
+		return copt, false, err
+	}
+	fail, err := f.failOnMissing()
+	return copt, fail, err
+}
+
 func (f *dataFlags) failOnMissing() (bool, error) {
 	switch f.missing {
 	case "complete-case":

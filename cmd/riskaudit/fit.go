@@ -139,11 +139,7 @@ func runFit(o *fitOptions, s *streams) error {
 }
 
 func doFit(o *fitOptions) (*fitRun, error) {
-	copt, err := o.data.cohortOptions()
-	if err != nil {
-		return nil, err
-	}
-	fail, err := o.data.failOnMissing()
+	copt, fail, err := o.data.options()
 	if err != nil {
 		return nil, err
 	}

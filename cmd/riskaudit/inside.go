@@ -30,11 +30,7 @@ type inside struct {
 // fitInside fits spec (a recipe, or a frozen model's terms) on the
 // development data.
 func fitInside(o *auditOptions, spec *model.Spec) (*inside, error) {
-	copt, err := o.data.cohortOptions()
-	if err != nil {
-		return nil, err
-	}
-	fail, err := o.data.failOnMissing()
+	copt, fail, err := o.data.options()
 	if err != nil {
 		return nil, err
 	}

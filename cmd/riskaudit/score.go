@@ -65,11 +65,7 @@ func runScore(o *scoreOptions, s *streams) error {
 	if err := checkNotInput(o.out, o.dataFile, o.model); err != nil {
 		return err
 	}
-	copt, err := o.data.cohortOptions()
-	if err != nil {
-		return err
-	}
-	fail, err := o.data.failOnMissing()
+	copt, fail, err := o.data.options()
 	if err != nil {
 		return err
 	}
