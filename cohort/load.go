@@ -53,6 +53,10 @@ type Options struct {
 	KeepRecords bool
 	// Workers bounds the goroutines used to parse; zero means GOMAXPROCS.
 	Workers int
+	// Rename maps column names as they appear in the file to the names
+	// asked for (extracts rename columns between releases). A name not in
+	// the file is left alone.
+	Rename map[string]string
 }
 
 // Column is one column read from a file.
@@ -174,6 +178,9 @@ func Parse(name string, data []byte, reqs []Request, opt Options) (*Frame, error
 	header := make([]string, len(sc.fields))
 	for i, f := range sc.fields {
 		header[i] = strings.TrimSpace(string(f))
+		if to, ok := opt.Rename[header[i]]; ok {
+			header[i] = to
+		}
 	}
 	if err := checkHeader(name, hline, header); err != nil {
 		return nil, err

@@ -320,3 +320,19 @@ func TestSplitMatchesNaive(t *testing.T) {
 		}
 	}
 }
+
+func TestRename(t *testing.T) {
+	fr, err := Parse("t.csv", []byte("age_years,sex\n60,F\n"), []Request{{Name: "age", Kind: Numeric}},
+		Options{Rename: map[string]string{"age_years": "age", "absent": "x"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if fr.Column("age").Num[0] != 60 || fr.Header[0] != "age" {
+		t.Errorf("rename not applied: %v", fr.Header)
+	}
+	_, err = Parse("t.csv", []byte("age_years,age\n60,61\n"), []Request{{Name: "age", Kind: Numeric}},
+		Options{Rename: map[string]string{"age_years": "age"}})
+	if err == nil || !strings.Contains(err.Error(), "duplicate column name") {
+		t.Errorf("a rename onto an existing name should be a duplicate: %v", err)
+	}
+}

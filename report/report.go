@@ -44,6 +44,7 @@ func Write(w io.Writer, a *validate.Audit, figures []plots.Figure) error {
 		r.figs[f.Name] = f
 	}
 	r.header()
+	r.verdict()
 	r.summary()
 	r.cohort()
 	r.discrimination()
@@ -190,6 +191,42 @@ func code(s string) string {
 	}
 	s = strings.NewReplacer("\n", " ", "\r", " ").Replace(s)
 	return fence + pad + s + pad + fence
+}
+
+func (r *renderer) verdict() {
+	v := r.a.Verdict
+	if v == nil {
+		return
+	}
+	failed := 0
+	for _, c := range v.Criteria {
+		if !c.Passed {
+			failed++
+		}
+	}
+	word := map[string]string{"pass": "PASS — every criterion is met", "review": "REVIEW — only review criteria are not met",
+		"fail": "FAIL — at least one criterion is not met"}[v.Status]
+	r.p("**Verdict: %s** (%d of %d criteria not met).\n\n", word, failed, len(v.Criteria))
+	t := table{head: []string{"criterion", "bound", "value", "result", "severity"}}
+	for _, c := range v.Criteria {
+		val := fmt.Sprintf("%.4g", c.Value)
+		if c.Interval != nil {
+			val = fmt.Sprintf("%.4g to %.4g", c.Interval[0], c.Interval[1])
+		}
+		res := "met"
+		if !c.Passed {
+			res = "**not met**"
+		}
+		t.add(code(c.Measure), c.Bound, val, res, c.Severity)
+	}
+	t.write(r.w)
+	r.p("Sources of the bounds:\n\n")
+	for _, c := range v.Criteria {
+		if c.Source != "" {
+			r.p("- %s: %s\n", code(c.Measure), Escape(c.Source))
+		}
+	}
+	r.p("\n")
 }
 
 func (r *renderer) summary() {

@@ -139,7 +139,9 @@ type Finding struct {
 // Audit is the whole result, written as audit.json and rendered as the
 // report. The keys of Performance appear at the top level.
 type Audit struct {
-	Schema     string     `json:"schema"`
+	Schema string `json:"schema"`
+	// Verdict is the outcome of the acceptance criteria.
+	Verdict    *Verdict   `json:"verdict,omitempty"`
 	Model      ModelInfo  `json:"model"`
 	Provenance Provenance `json:"provenance"`
 	Performance

@@ -23,30 +23,37 @@ import (
 )
 
 type auditOptions struct {
-	data        dataFlags
-	model       string
-	predicted   string
-	outcome     string
-	event       string
-	nonEvent    string
-	cohortFile  string
-	devFile     string
-	out         string
-	thresholds  string
-	classifyAt  []float64
-	groups      int
-	hlGroups    int
-	span        float64
-	delta       float64
-	epsilon     float64
-	quiet       bool
-	bootstrap   int
-	seed        uint64
-	workers     int
-	resampleLog string
-	shrunken    string
-	ciBootstrap int
-	firth       bool
+	data         dataFlags
+	model        string
+	predicted    string
+	outcome      string
+	event        string
+	nonEvent     string
+	cohortFile   string
+	devFile      string
+	out          string
+	thresholds   string
+	classifyAt   []float64
+	groups       int
+	hlGroups     int
+	span         float64
+	delta        float64
+	epsilon      float64
+	quiet        bool
+	bootstrap    int
+	seed         uint64
+	workers      int
+	resampleLog  string
+	shrunken     string
+	ciBootstrap  int
+	firth        bool
+	planFile     string
+	history      string
+	auditDate    string
+	rename       map[string]string
+	criteria     []validate.Criterion
+	subgroups    []string
+	minSubEvents int
 }
 
 const auditLong = `Measure how a model performs on a cohort with observed outcomes and write
@@ -106,7 +113,14 @@ func newAuditCmd(s *streams) *cobra.Command {
 		Long:    auditLong,
 		Example: auditExample,
 		Args:    cobra.NoArgs,
-		RunE:    func(cmd *cobra.Command, _ []string) error { return runAudit(o, s) },
+		RunE: func(cmd *cobra.Command, _ []string) error {
+			if o.planFile != "" {
+				if err := applyPlan(cmd, o); err != nil {
+					return err
+				}
+			}
+			return runAudit(o, s)
+		},
 	}
 	f := c.Flags()
 	f.StringVar(&o.model, "model", "", "frozen model (YAML) that scores the cohort, or a recipe to fit on --dev")
@@ -131,10 +145,15 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.StringVar(&o.shrunken, "shrunken", "", "write a frozen model shrunk by the bootstrap's uniform shrinkage factor")
 	f.IntVar(&o.ciBootstrap, "ci-bootstrap", 0, "percentile intervals for ICI, E50, E90, scaled Brier and net benefit from this many replicates of the cohort")
 	f.BoolVar(&o.firth, "firth", false, "fit the recipe (and every bootstrap refit) by Firth's penalised likelihood")
+	f.StringVar(&o.planFile, "plan", "", "audit plan (YAML): model, data, renames, subgroups, criteria, outputs; flags override it")
+	f.StringVar(&o.history, "history", "", "append the audit's summary to this history store (SQLite)")
+	f.StringVar(&o.auditDate, "audit-date", "", "the date the cohort describes, YYYY-MM-DD (default: today, UTC)")
+	f.StringSliceVar(&o.subgroups, "subgroups", nil, "categorical columns of the cohort to measure the model in, subgroup by subgroup")
+	f.IntVar(&o.minSubEvents, "min-subgroup-events", 20, "subgroups with fewer events are reported as too small (common practice)")
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
 	o.data.register(f)
-	_ = c.MarkFlagRequired("out")
 	_ = c.MarkFlagFilename("model", "yaml", "yml")
+	_ = c.MarkFlagFilename("plan", "yaml", "yml")
 	_ = c.MarkFlagFilename("cohort", "csv", "tsv", "txt")
 	_ = c.MarkFlagFilename("dev", "csv", "tsv", "txt")
 	_ = c.MarkFlagDirname("out")
@@ -284,6 +303,13 @@ func runAudit(o *auditOptions, s *streams) error {
 		}
 		a.BootstrapCI = percentileCIs(ci, o, ts)
 	}
+	criteria := o.criteria
+	if criteria == nil {
+		criteria = validate.DefaultCriteria()
+	}
+	if a.Verdict, err = validate.Judge(perf, criteria); err != nil {
+		return usagef("%v", err)
+	}
 	label := a.Model.Name
 	prog.step("drawing figures")
 	figs, err := plots.All(perf, label)
@@ -294,17 +320,50 @@ func runAudit(o *auditOptions, s *streams) error {
 	if err := writeAudit(o.out, a, figs, extra); err != nil {
 		return err
 	}
+	if o.history != "" {
+		prog.step("recording in " + o.history)
+		if err := recordHistory(o, a, started); err != nil {
+			return err
+		}
+	}
 	prog.done()
 	if !o.quiet {
 		writeAuditSummary(s, a, o.out, len(figs))
 	}
+	if !a.Verdict.Passed() {
+		return &criterionError{status: a.Verdict.Status, failed: countFailed(a.Verdict), total: len(a.Verdict.Criteria), report: filepath.Join(o.out, "report.md")}
+	}
 	return nil
+}
+
+// criterionError reports an audit that ran but did not meet its
+// criteria: exit status 1.
+type criterionError struct {
+	status        string
+	failed, total int
+	report        string
+}
+
+func (e *criterionError) Error() string {
+	return fmt.Sprintf("verdict %s: %d of %d criteria not met (see %s)", e.status, e.failed, e.total, e.report)
+}
+
+func countFailed(v *validate.Verdict) int {
+	n := 0
+	for _, c := range v.Criteria {
+		if !c.Passed {
+			n++
+		}
+	}
+	return n
 }
 
 // checkAuditFlags refuses contradictory or out-of-range flags and returns
 // the decision-curve thresholds.
 func checkAuditFlags(o *auditOptions) ([]float64, error) {
 	switch {
+	case o.out == "":
+		return nil, usagef("give the output folder with --out (or in the plan)")
 	case (o.model == "") == (o.predicted == ""):
 		return nil, usagef("give either --model (a frozen model or a recipe) or --predicted (a column of risks)")
 	case o.predicted != "" && (o.outcome == "" || o.event == ""):
@@ -393,6 +452,7 @@ func score(spec *model.Spec, o *auditOptions, path string) (*scored, error) {
 	if err != nil {
 		return nil, err
 	}
+	copt.Rename = o.rename
 	reqs := spec.Columns(true)
 	var also []string
 	if o.predicted != "" {
@@ -539,6 +599,9 @@ func writeAuditSummary(s *streams, a *validate.Audit, dir string, nfig int) {
 	if a.Development != nil {
 		ap := a.Development.Apparent
 		fmt.Fprintf(w, "  development AUC %.3f, O/E %.3f, slope %.3f\n", ap.AUC, ap.OE, ap.Slope)
+	}
+	if v := a.Verdict; v != nil {
+		fmt.Fprintf(w, "  verdict     %s (%d of %d criteria not met)\n", v.Status, countFailed(v), len(v.Criteria))
 	}
 	fmt.Fprintf(w, "Wrote %s, %s and %d figures\n", filepath.Join(dir, "report.md"), filepath.Join(dir, "audit.json"), nfig)
 }

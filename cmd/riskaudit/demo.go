@@ -1,6 +1,7 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -76,10 +77,18 @@ func runDemo(dir string, s *streams) error {
 		return err
 	}
 	fmt.Fprintln(s.out)
-	return runAudit(&auditOptions{
+	err = runAudit(&auditOptions{
 		model: frozen, cohortFile: later, devFile: dev, out: filepath.Join(dir, "audit"),
 		thresholds: "0.05:0.50:0.05", classifyAt: []float64{0.10, 0.20}, groups: 10, hlGroups: 10,
 		span: 0.75, delta: validate.AutoDelta, epsilon: validate.DefaultEpsilon, data: dataFlags{missing: "complete-case"},
 		bootstrap: 200, seed: 1,
 	}, s)
+	var ce *criterionError
+	if errors.As(err, &ce) {
+		// The scenario is made to drift: the verdict is the point of the
+		// demo, not a failure of it.
+		fmt.Fprintf(s.out, "\nAs the scenario intends, the drifted extract does not meet the default criteria (verdict %s); read %s.\n", ce.status, ce.report)
+		return nil
+	}
+	return err
 }

@@ -34,6 +34,7 @@ func fitInside(o *auditOptions, spec *model.Spec) (*inside, error) {
 	if err != nil {
 		return nil, err
 	}
+	copt.Rename = o.rename
 	in := &inside{}
 	recipe := spec
 	if spec.Frozen() {

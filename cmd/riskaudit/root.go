@@ -12,6 +12,7 @@ import (
 
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/model"
+	"github.com/riskaudit/riskaudit/plan"
 )
 
 // version is set at build time with -ldflags "-X main.version=…"; a
@@ -31,7 +32,7 @@ func toolVersion() string {
 // Exit statuses, documented in the root command's help and the README.
 const (
 	exitOK          = 0
-	exitCriterion   = 1 // reserved: an audit ran and a criterion failed
+	exitCriterion   = 1 // an audit ran and a criterion was not met
 	exitUsage       = 2
 	exitBadInput    = 3
 	exitCannotFit   = 4
@@ -74,7 +75,7 @@ Start with 'riskaudit demo --out demo' to see every step on invented data.
 
 Exit status:
   0  success
-  1  an audit ran and a criterion failed (reserved for audits)
+  1  an audit ran and a criterion was not met (verdict review or fail)
   2  wrong usage: an unknown flag, a missing argument
   3  bad input: a data file or model spec that cannot be used as it is
   4  the model cannot be fitted: separation, collinear terms, no convergence
@@ -95,7 +96,7 @@ func newRootCmd(s *streams) *cobra.Command {
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		return &usageError{err.Error() + " (see '" + c.CommandPath() + " --help')"}
 	})
-	root.AddCommand(newAuditCmd(s), newFitCmd(s), newScoreCmd(s), newDemoCmd(s))
+	root.AddCommand(newAuditCmd(s), newFitCmd(s), newScoreCmd(s), newDemoCmd(s), newPlanCmd(s))
 	return root
 }
 
@@ -123,9 +124,15 @@ func exitCode(err error) int {
 	var se *model.SpecError
 	var sep *model.SeparationError
 	var fe *model.FitError
+	var cr *criterionError
+	var pe *plan.Error
 	switch {
+	case errors.As(err, &cr):
+		return exitCriterion
 	case errors.As(err, &ue):
 		return exitUsage
+	case errors.As(err, &pe):
+		return exitBadInput
 	case errors.As(err, &sep), errors.As(err, &fe):
 		return exitCannotFit
 	case errors.As(err, &ce), errors.As(err, &se):

@@ -1,0 +1,74 @@
+package main
+
+import (
+	"os"
+
+	"github.com/spf13/cobra"
+
+	"github.com/riskaudit/riskaudit/plan"
+)
+
+func exists(path string) bool {
+	_, err := os.Stat(path)
+	return err == nil
+}
+
+// applyPlan fills every option the command line did not set from the
+// plan.
+func applyPlan(cmd *cobra.Command, o *auditOptions) error {
+	pl, err := plan.Load(o.planFile)
+	if err != nil {
+		return err
+	}
+	fl := cmd.Flags()
+	str := func(flag, key string, dst *string, v string) {
+		if pl.Set[key] && !fl.Changed(flag) {
+			*dst = v
+		}
+	}
+	str("model", "model", &o.model, pl.Model)
+	str("predicted", "predicted", &o.predicted, pl.Predicted)
+	str("outcome", "outcome", &o.outcome, pl.Outcome)
+	str("event", "event", &o.event, pl.Event)
+	str("non-event", "non_event", &o.nonEvent, pl.NonEvent)
+	str("dev", "dev", &o.devFile, pl.Dev)
+	str("cohort", "cohort", &o.cohortFile, pl.Cohort)
+	str("out", "out", &o.out, pl.Out)
+	str("history", "history", &o.history, pl.History)
+	str("audit-date", "audit_date", &o.auditDate, pl.AuditDate)
+	str("thresholds", "thresholds", &o.thresholds, pl.Thresholds)
+	str("delimiter", "data.delimiter", &o.data.delimiter, pl.Data.Delimiter)
+	str("missing", "data.missing", &o.data.missing, pl.Data.Missing)
+	if pl.Set["data.decimal_comma"] && !fl.Changed("decimal-comma") {
+		o.data.decimalComma = pl.Data.DecimalComma
+	}
+	if pl.Set["data.na_values"] && !fl.Changed("na-values") {
+		o.data.naValues = pl.Data.NAValues
+	}
+	if pl.Set["classify_at"] && !fl.Changed("classify-at") {
+		o.classifyAt = pl.ClassifyAt
+	}
+	if pl.Set["subgroups"] && !fl.Changed("subgroups") {
+		o.subgroups = pl.Subgroups
+	}
+	if pl.Set["min_subgroup_events"] && !fl.Changed("min-subgroup-events") {
+		o.minSubEvents = pl.MinSubgroupEvents
+	}
+	if pl.Set["bootstrap.replicates"] && !fl.Changed("bootstrap") {
+		o.bootstrap = pl.Bootstrap
+	}
+	if pl.Set["bootstrap.seed"] && !fl.Changed("seed") {
+		o.seed = pl.Seed
+	}
+	if pl.Set["ci_bootstrap"] && !fl.Changed("ci-bootstrap") {
+		o.ciBootstrap = pl.CIBootstrap
+	}
+	if pl.Set["criteria"] {
+		o.criteria = pl.Criteria
+	}
+	o.rename = pl.Rename
+	if o.out == "" {
+		return usagef("the plan %s names no out folder and --out is not given", o.planFile)
+	}
+	return nil
+}

@@ -1,0 +1,58 @@
+package main
+
+import (
+	"fmt"
+
+	"github.com/spf13/cobra"
+
+	"github.com/riskaudit/riskaudit/internal/atomicfile"
+	"github.com/riskaudit/riskaudit/plan"
+)
+
+func newPlanCmd(s *streams) *cobra.Command {
+	c := &cobra.Command{
+		Use:   "plan",
+		Short: "Write and check audit plans",
+		Long: `An audit plan is a YAML file naming everything a scheduled audit needs:
+the model, the development data and cohort, the outcome mapping, column
+renames, subgroups, acceptance criteria, bootstrap settings, the output
+folder and the history store. 'riskaudit audit --plan FILE' runs it; flags
+on the command line override it.`,
+	}
+	var out string
+	var force bool
+	initCmd := &cobra.Command{
+		Use:   "init --out plan.yaml",
+		Short: "Write a commented starter plan",
+		Example: `  riskaudit plan init --out monthly-audit.yaml
+  riskaudit audit --plan monthly-audit.yaml`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error {
+			if !force && exists(out) {
+				return usagef("%s exists; choose another name or add --force", out)
+			}
+			if err := atomicfile.WriteFile(out, []byte(plan.Starter)); err != nil {
+				return err
+			}
+			fmt.Fprintf(s.out, "Wrote %s: edit the paths and criteria, then run riskaudit audit --plan %s\n", out, out)
+			return nil
+		},
+	}
+	initCmd.Flags().StringVar(&out, "out", "audit-plan.yaml", "where to write the plan")
+	initCmd.Flags().BoolVar(&force, "force", false, "overwrite an existing file")
+	checkCmd := &cobra.Command{
+		Use:     "check PLAN",
+		Short:   "Read a plan and report its first problem, if any",
+		Example: `  riskaudit plan check monthly-audit.yaml`,
+		Args:    cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if _, err := plan.Load(args[0]); err != nil {
+				return err
+			}
+			fmt.Fprintf(s.out, "%s: no problems found\n", args[0])
+			return nil
+		},
+	}
+	c.AddCommand(initCmd, checkCmd)
+	return c
+}

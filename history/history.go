@@ -1,0 +1,186 @@
+// Package history keeps the summaries of successive audits in an SQLite
+// file (through the pure-Go driver modernc.org/sqlite), so that trends
+// and control limits can be drawn across audits.
+//
+// Every append is one transaction taken with an immediate write lock and
+// a busy timeout, in write-ahead-log mode: two audits appending at once
+// wait for each other, and a writer killed mid-append leaves the file as
+// it was before that append.
+package history
+
+import (
+	"database/sql"
+	"errors"
+	"fmt"
+	"math"
+	"net/url"
+	"time"
+
+	_ "modernc.org/sqlite" // registers the "sqlite" driver
+)
+
+// Record is the summary of one audit.
+type Record struct {
+	ID         int64
+	AuditDate  string // the date the cohort describes, YYYY-MM-DD
+	RecordedAt string // when the audit ran, UTC
+	Model      string
+	ModelSHA   string
+	Cohort     string
+	CohortSHA  string
+	Rows       int
+	Used       int
+	Events     int
+	Expected   float64
+	AUC        [3]float64 // value, lower, upper
+	OE         [3]float64
+	Slope      [3]float64
+	CITL       [3]float64
+	ICI        float64
+	Brier      float64
+	Verdict    string
+	// JSON is the whole audit.json.
+	JSON string
+}
+
+const schema = `CREATE TABLE IF NOT EXISTS audits (
+	id INTEGER PRIMARY KEY AUTOINCREMENT,
+	audit_date TEXT NOT NULL,
+	recorded_at TEXT NOT NULL,
+	model TEXT NOT NULL, model_sha256 TEXT NOT NULL,
+	cohort TEXT NOT NULL, cohort_sha256 TEXT NOT NULL,
+	rows_read INTEGER NOT NULL, rows_used INTEGER NOT NULL, events INTEGER NOT NULL, expected REAL NOT NULL,
+	auc REAL, auc_lower REAL, auc_upper REAL,
+	oe REAL, oe_lower REAL, oe_upper REAL,
+	slope REAL, slope_lower REAL, slope_upper REAL,
+	citl REAL, citl_lower REAL, citl_upper REAL,
+	ici REAL, brier REAL,
+	verdict TEXT NOT NULL,
+	audit_json TEXT NOT NULL
+)`
+
+// open opens the store with a busy timeout, write-ahead logging and
+// immediate write transactions.
+func open(path string) (*sql.DB, error) {
+	q := url.Values{}
+	q.Add("_pragma", "busy_timeout(30000)")
+	q.Add("_pragma", "journal_mode(WAL)")
+	q.Add("_pragma", "synchronous(FULL)")
+	q.Add("_txlock", "immediate")
+	db, err := sql.Open("sqlite", "file:"+path+"?"+q.Encode())
+	if err != nil {
+		return nil, fmt.Errorf("history %s: %w", path, err)
+	}
+	db.SetMaxOpenConns(1)
+	return db, nil
+}
+
+// Append adds a record to the store at path, creating it if needed, in
+// one transaction.
+func Append(path string, r Record) error {
+	db, err := open(path)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	return appendTx(db, r, nil)
+}
+
+// appendTx appends in one transaction; beforeCommit (for tests) runs
+// after the insert and before the commit.
+func appendTx(db *sql.DB, r Record, beforeCommit func()) error {
+	tx, err := db.Begin()
+	if err != nil {
+		return fmt.Errorf("history: %w", err)
+	}
+	defer tx.Rollback()
+	if _, err := tx.Exec(schema); err != nil {
+		return fmt.Errorf("history: creating the table: %w", err)
+	}
+	if r.RecordedAt == "" {
+		r.RecordedAt = time.Now().UTC().Format(time.RFC3339)
+	}
+	_, err = tx.Exec(`INSERT INTO audits (audit_date, recorded_at, model, model_sha256, cohort, cohort_sha256,
+		rows_read, rows_used, events, expected, auc, auc_lower, auc_upper, oe, oe_lower, oe_upper,
+		slope, slope_lower, slope_upper, citl, citl_lower, citl_upper, ici, brier, verdict, audit_json)
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		r.AuditDate, r.RecordedAt, r.Model, r.ModelSHA, r.Cohort, r.CohortSHA, r.Rows, r.Used, r.Events, r.Expected,
+		r.AUC[0], r.AUC[1], r.AUC[2], r.OE[0], r.OE[1], r.OE[2], r.Slope[0], r.Slope[1], r.Slope[2],
+		r.CITL[0], r.CITL[1], r.CITL[2], r.ICI, r.Brier, r.Verdict, r.JSON)
+	if err != nil {
+		return fmt.Errorf("history: appending: %w", err)
+	}
+	if beforeCommit != nil {
+		beforeCommit()
+	}
+	if err := tx.Commit(); err != nil {
+		return fmt.Errorf("history: committing: %w", err)
+	}
+	return nil
+}
+
+// Read returns every record of the store at path, by audit date and then
+// by the order they were recorded.
+func Read(path string) ([]Record, error) {
+	db, err := open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer db.Close()
+	rows, err := db.Query(`SELECT id, audit_date, recorded_at, model, model_sha256, cohort, cohort_sha256,
+		rows_read, rows_used, events, expected, auc, auc_lower, auc_upper, oe, oe_lower, oe_upper,
+		slope, slope_lower, slope_upper, citl, citl_lower, citl_upper, ici, brier, verdict
+		FROM audits ORDER BY audit_date, id`)
+	if err != nil {
+		return nil, fmt.Errorf("history %s: %w", path, err)
+	}
+	defer rows.Close()
+	var out []Record
+	for rows.Next() {
+		var r Record
+		var vals [14]sql.NullFloat64
+		if err := rows.Scan(&r.ID, &r.AuditDate, &r.RecordedAt, &r.Model, &r.ModelSHA, &r.Cohort, &r.CohortSHA,
+			&r.Rows, &r.Used, &r.Events, &r.Expected, &vals[0], &vals[1], &vals[2], &vals[3], &vals[4], &vals[5],
+			&vals[6], &vals[7], &vals[8], &vals[9], &vals[10], &vals[11], &vals[12], &vals[13], &r.Verdict); err != nil {
+			return nil, fmt.Errorf("history %s: %w", path, err)
+		}
+		f := func(i int) float64 {
+			if !vals[i].Valid {
+				return nan()
+			}
+			return vals[i].Float64
+		}
+		r.AUC = [3]float64{f(0), f(1), f(2)}
+		r.OE = [3]float64{f(3), f(4), f(5)}
+		r.Slope = [3]float64{f(6), f(7), f(8)}
+		r.CITL = [3]float64{f(9), f(10), f(11)}
+		r.ICI, r.Brier = f(12), f(13)
+		out = append(out, r)
+	}
+	if err := rows.Err(); err != nil {
+		return nil, fmt.Errorf("history %s: %w", path, err)
+	}
+	if len(out) == 0 {
+		return nil, errors.New("history " + path + ": no audits recorded")
+	}
+	return out, nil
+}
+
+// Check runs SQLite's integrity check on the store.
+func Check(path string) error {
+	db, err := open(path)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	var res string
+	if err := db.QueryRow("PRAGMA integrity_check").Scan(&res); err != nil {
+		return fmt.Errorf("history %s: %w", path, err)
+	}
+	if res != "ok" {
+		return fmt.Errorf("history %s: integrity check: %s", path, res)
+	}
+	return nil
+}
+
+func nan() float64 { return math.NaN() }

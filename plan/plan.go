@@ -1,0 +1,399 @@
+// Package plan reads audit plans: YAML files that name everything a
+// scheduled audit needs (model, data, outcome, column renames, subgroups,
+// acceptance criteria, bootstrap settings, outputs), so that the same
+// audit can be re-run on every fresh extract. Unknown keys are errors
+// with their line; relative paths are taken from the plan's folder.
+package plan
+
+import (
+	"bytes"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+
+	"go.yaml.in/yaml/v3"
+
+	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/validate"
+)
+
+// Error is a problem in a plan file.
+type Error struct {
+	File string
+	Line int
+	Msg  string
+}
+
+func (e *Error) Error() string {
+	if e.Line > 0 {
+		return fmt.Sprintf("%s: line %d: %s", e.File, e.Line, e.Msg)
+	}
+	return fmt.Sprintf("%s: %s", e.File, e.Msg)
+}
+
+// Data says how to read the plan's files.
+type Data struct {
+	Delimiter    string
+	DecimalComma bool
+	Missing      string
+	NAValues     []string
+	HasNAValues  bool
+}
+
+// Plan is an audit plan. Paths are absolute or relative to the working
+// folder (resolved from the plan's folder when read). A field is set
+// when Set[key] is true.
+type Plan struct {
+	File string
+
+	Model, Predicted, Outcome, Event, NonEvent string
+	Dev, Cohort, Out, History, AuditDate       string
+	Rename                                     map[string]string
+	Subgroups                                  []string
+	MinSubgroupEvents                          int
+	Criteria                                   []validate.Criterion
+	Bootstrap                                  int
+	Seed                                       uint64
+	CIBootstrap                                int
+	Thresholds                                 string
+	ClassifyAt                                 []float64
+	Data                                       Data
+
+	// Set records the keys the plan gave, by their plan name.
+	Set map[string]bool
+}
+
+var topKeys = []string{"name", "model", "predicted", "outcome", "event", "non_event", "dev", "cohort", "out", "history",
+	"audit_date", "rename", "subgroups", "min_subgroup_events", "criteria", "bootstrap", "ci_bootstrap",
+	"thresholds", "classify_at", "data"}
+
+// Load reads the plan at path.
+func Load(path string) (*Plan, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		msg := err.Error()
+		if pe, ok := err.(*os.PathError); ok {
+			msg = pe.Err.Error()
+		}
+		return nil, &Error{File: path, Msg: "cannot read file: " + msg}
+	}
+	return Parse(path, b)
+}
+
+// Parse reads a plan from data, the contents of the file named name.
+func Parse(name string, data []byte) (*Plan, error) {
+	p := &parser{file: name}
+	if len(bytes.TrimSpace(data)) == 0 {
+		return nil, p.errf(nil, "file is empty")
+	}
+	var doc yaml.Node
+	if err := yaml.Unmarshal(data, &doc); err != nil {
+		return nil, p.errf(nil, "not valid YAML: %s", strings.TrimPrefix(err.Error(), "yaml: "))
+	}
+	if len(doc.Content) != 1 || doc.Content[0].Kind != yaml.MappingNode {
+		return nil, p.errf(&doc, "a plan must be a mapping of keys such as model, cohort and criteria")
+	}
+	pl := &Plan{File: name, Set: map[string]bool{}}
+	root := doc.Content[0]
+	if err := p.fields(root, "the plan", topKeys, func(key string, v *yaml.Node) error {
+		pl.Set[key] = true
+		return p.top(pl, key, v)
+	}); err != nil {
+		return nil, err
+	}
+	dir := filepath.Dir(name)
+	for _, f := range []*string{&pl.Model, &pl.Dev, &pl.Cohort, &pl.Out, &pl.History} {
+		if *f != "" && !filepath.IsAbs(*f) {
+			*f = filepath.Join(dir, *f)
+		}
+	}
+	return pl, nil
+}
+
+type parser struct{ file string }
+
+func (p *parser) errf(n *yaml.Node, format string, args ...any) error {
+	line := 0
+	if n != nil {
+		line = n.Line
+	}
+	return &Error{File: p.file, Line: line, Msg: fmt.Sprintf(format, args...)}
+}
+
+func (p *parser) fields(n *yaml.Node, what string, allowed []string, f func(key string, v *yaml.Node) error) error {
+	if n.Kind != yaml.MappingNode {
+		return p.errf(n, "%s must be a mapping", what)
+	}
+	seen := map[string]bool{}
+	for i := 0; i+1 < len(n.Content); i += 2 {
+		k, v := n.Content[i], n.Content[i+1]
+		if seen[k.Value] {
+			return p.errf(k, "key %q appears twice in %s", k.Value, what)
+		}
+		seen[k.Value] = true
+		ok := false
+		for _, a := range allowed {
+			ok = ok || a == k.Value
+		}
+		if !ok {
+			msg := fmt.Sprintf("unknown key %q in %s", k.Value, what)
+			if c := cohort.Closest(k.Value, allowed); c != "" {
+				msg += fmt.Sprintf(" (did you mean %q?)", c)
+			}
+			return p.errf(k, "%s; allowed keys: %s", msg, strings.Join(allowed, ", "))
+		}
+		if err := f(k.Value, v); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+func (p *parser) str(v *yaml.Node, key string) (string, error) {
+	if v.Kind != yaml.ScalarNode {
+		return "", p.errf(v, "%s must be a single value", key)
+	}
+	return v.Value, nil
+}
+
+func (p *parser) num(v *yaml.Node, key string) (float64, error) {
+	s, err := p.str(v, key)
+	if err != nil {
+		return 0, err
+	}
+	x, err := strconv.ParseFloat(s, 64)
+	if err != nil {
+		return 0, p.errf(v, "%s must be a number, not %q", key, s)
+	}
+	return x, nil
+}
+
+func (p *parser) whole(v *yaml.Node, key string) (int, error) {
+	s, err := p.str(v, key)
+	if err != nil {
+		return 0, err
+	}
+	x, err := strconv.Atoi(s)
+	if err != nil || x < 0 {
+		return 0, p.errf(v, "%s must be a whole number, not %q", key, s)
+	}
+	return x, nil
+}
+
+func (p *parser) strs(v *yaml.Node, key string) ([]string, error) {
+	if v.Kind != yaml.SequenceNode {
+		return nil, p.errf(v, "%s must be a list", key)
+	}
+	var out []string
+	for _, c := range v.Content {
+		s, err := p.str(c, key)
+		if err != nil {
+			return nil, err
+		}
+		out = append(out, s)
+	}
+	return out, nil
+}
+
+func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
+	var err error
+	switch key {
+	case "name":
+		_, err = p.str(v, key)
+	case "model":
+		pl.Model, err = p.str(v, key)
+	case "predicted":
+		pl.Predicted, err = p.str(v, key)
+	case "outcome":
+		pl.Outcome, err = p.str(v, key)
+	case "event":
+		pl.Event, err = p.str(v, key)
+	case "non_event":
+		pl.NonEvent, err = p.str(v, key)
+	case "dev":
+		pl.Dev, err = p.str(v, key)
+	case "cohort":
+		pl.Cohort, err = p.str(v, key)
+	case "out":
+		pl.Out, err = p.str(v, key)
+	case "history":
+		pl.History, err = p.str(v, key)
+	case "audit_date":
+		pl.AuditDate, err = p.str(v, key)
+	case "thresholds":
+		if v.Kind == yaml.SequenceNode {
+			var parts []string
+			if parts, err = p.strs(v, key); err == nil {
+				pl.Thresholds = strings.Join(parts, ",")
+			}
+		} else {
+			pl.Thresholds, err = p.str(v, key)
+		}
+	case "classify_at":
+		var parts []string
+		if parts, err = p.strs(v, key); err == nil {
+			for i, s := range parts {
+				x, perr := strconv.ParseFloat(s, 64)
+				if perr != nil {
+					return p.errf(v.Content[i], "classify_at: %q is not a number", s)
+				}
+				pl.ClassifyAt = append(pl.ClassifyAt, x)
+			}
+		}
+	case "rename":
+		pl.Rename = map[string]string{}
+		if v.Kind != yaml.MappingNode {
+			return p.errf(v, "rename must map each column name in the extract to the name the model uses")
+		}
+		for i := 0; i+1 < len(v.Content); i += 2 {
+			pl.Rename[v.Content[i].Value] = v.Content[i+1].Value
+		}
+	case "subgroups":
+		pl.Subgroups, err = p.strs(v, key)
+	case "min_subgroup_events":
+		pl.MinSubgroupEvents, err = p.whole(v, key)
+	case "ci_bootstrap":
+		pl.CIBootstrap, err = p.whole(v, key)
+	case "bootstrap":
+		err = p.fields(v, "bootstrap", []string{"replicates", "seed"}, func(k string, c *yaml.Node) error {
+			pl.Set["bootstrap."+k] = true
+			n, err := p.whole(c, k)
+			if k == "replicates" {
+				pl.Bootstrap = n
+			} else {
+				pl.Seed = uint64(n)
+			}
+			return err
+		})
+	case "data":
+		err = p.data(&pl.Data, v, pl.Set)
+	case "criteria":
+		if v.Kind != yaml.SequenceNode {
+			return p.errf(v, "criteria must be a list")
+		}
+		for _, c := range v.Content {
+			cr, err := p.criterion(c)
+			if err != nil {
+				return err
+			}
+			pl.Criteria = append(pl.Criteria, cr)
+		}
+	}
+	return err
+}
+
+func (p *parser) data(d *Data, v *yaml.Node, set map[string]bool) error {
+	return p.fields(v, "data", []string{"delimiter", "decimal_comma", "missing", "na_values"}, func(k string, c *yaml.Node) error {
+		set["data."+k] = true
+		var err error
+		switch k {
+		case "delimiter":
+			d.Delimiter, err = p.str(c, k)
+		case "decimal_comma":
+			var s string
+			if s, err = p.str(c, k); err == nil {
+				if s != "true" && s != "false" {
+					return p.errf(c, "decimal_comma must be true or false")
+				}
+				d.DecimalComma = s == "true"
+			}
+		case "missing":
+			d.Missing, err = p.str(c, k)
+		case "na_values":
+			d.NAValues, err = p.strs(c, k)
+			d.HasNAValues = true
+		}
+		return err
+	})
+}
+
+func (p *parser) criterion(n *yaml.Node) (validate.Criterion, error) {
+	var c validate.Criterion
+	err := p.fields(n, "a criterion", []string{"measure", "at_least", "at_most", "between", "contains", "severity", "source"}, func(k string, v *yaml.Node) error {
+		var err error
+		switch k {
+		case "measure":
+			c.Measure, err = p.str(v, k)
+		case "at_least":
+			var x float64
+			x, err = p.num(v, k)
+			c.AtLeast = &x
+		case "at_most":
+			var x float64
+			x, err = p.num(v, k)
+			c.AtMost = &x
+		case "contains":
+			var x float64
+			x, err = p.num(v, k)
+			c.Contains = &x
+		case "between":
+			if v.Kind != yaml.SequenceNode || len(v.Content) != 2 {
+				return p.errf(v, "between takes two numbers: [low, high]")
+			}
+			var b [2]float64
+			for i := range b {
+				if b[i], err = p.num(v.Content[i], k); err != nil {
+					return err
+				}
+			}
+			c.Between = &b
+		case "severity":
+			c.Severity, err = p.str(v, k)
+		case "source":
+			c.Source, err = p.str(v, k)
+		}
+		return err
+	})
+	if err != nil {
+		return c, err
+	}
+	if err := c.Check(); err != nil {
+		return c, p.errf(n, "%v", err)
+	}
+	return c, nil
+}
+
+// Starter is a commented plan to copy and edit.
+const Starter = `# riskaudit audit plan. Paths are relative to this file.
+# Run it with: riskaudit audit --plan this-file.yaml
+# Flags on the command line override what the plan says.
+
+model: frozen.yaml          # a frozen model (or a recipe, fitted on dev)
+dev: development.csv        # development data, measured beside the cohort
+cohort: extracts/2026-11.csv
+out: audits/2026-11         # report.md, audit.json and figures go here
+history: audit-history.sqlite
+audit_date: 2026-11-30      # the date the extract describes (default: today)
+
+# Registry extracts rename columns between releases: map the name in the
+# extract to the name the model uses.
+rename:
+  age_years: age
+
+# Measures by patient subgroup (categorical columns of the cohort).
+subgroups: [sex]
+min_subgroup_events: 20     # fewer events: reported as too small
+
+# Acceptance criteria. Without any, the documented defaults apply.
+criteria:
+  - measure: auc_ci.lower
+    at_least: 0.70
+  - measure: slope
+    between: [0.8, 1.2]
+  - measure: citl
+    between: [-0.2, 0.2]
+  - measure: oe_ci
+    contains: 1
+  - measure: ici
+    at_most: 0.03
+    severity: review        # a miss gives "review", not "fail"
+
+bootstrap:
+  replicates: 0             # internal validation on dev (e.g. 200)
+  seed: 1
+
+data:
+  missing: complete-case    # or fail
+`

@@ -1,0 +1,188 @@
+package validate
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+)
+
+// Criterion is an acceptance criterion on one measure of an audit. Exactly
+// one of AtLeast, AtMost, Between and Contains applies.
+type Criterion struct {
+	// Measure names the value: one of MeasureNames, where a name ending in
+	// .lower or .upper is one end of an interval, and an interval name
+	// (such as oe_ci) goes with Contains.
+	Measure  string
+	AtLeast  *float64
+	AtMost   *float64
+	Between  *[2]float64
+	Contains *float64
+	// Severity is "fail" (the default) or "review": a failed review
+	// criterion makes the verdict review rather than fail.
+	Severity string
+	// Source says where the bound comes from.
+	Source string
+}
+
+// Bound describes the criterion's bound in words, such as "≥ 0.7".
+func (c Criterion) Bound() string {
+	switch {
+	case c.AtLeast != nil:
+		return fmt.Sprintf("≥ %g", *c.AtLeast)
+	case c.AtMost != nil:
+		return fmt.Sprintf("≤ %g", *c.AtMost)
+	case c.Between != nil:
+		return fmt.Sprintf("between %g and %g", c.Between[0], c.Between[1])
+	case c.Contains != nil:
+		return fmt.Sprintf("interval contains %g", *c.Contains)
+	}
+	return "?"
+}
+
+// CriterionResult is one criterion applied to an audit.
+type CriterionResult struct {
+	Measure  string      `json:"measure"`
+	Bound    string      `json:"bound"`
+	Value    float64     `json:"value"`
+	Interval *[2]float64 `json:"interval,omitempty"`
+	Passed   bool        `json:"passed"`
+	Severity string      `json:"severity"`
+	Source   string      `json:"source,omitempty"`
+}
+
+// Verdict is the outcome of the criteria: pass when every criterion
+// passes, review when only review criteria fail, fail otherwise.
+type Verdict struct {
+	Status   string            `json:"status"`
+	Criteria []CriterionResult `json:"criteria"`
+}
+
+// Passed reports whether every criterion passed.
+func (v *Verdict) Passed() bool { return v.Status == "pass" }
+
+func f(v float64) *float64 { return &v }
+
+// DefaultCriteria are applied when no plan gives criteria. Each says
+// where its bound comes from.
+func DefaultCriteria() []Criterion {
+	return []Criterion{
+		{Measure: "auc_ci.lower", AtLeast: f(0.70), Severity: "fail",
+			Source: "AUC of 0.7 or more is 'acceptable' discrimination (Hosmer, Lemeshow & Sturdivant 2013, §5.2.4; recalled from memory); requiring it of the lower 95% limit is our choice"},
+		{Measure: "oe_ci", Contains: f(1), Severity: "fail",
+			Source: "mean calibration, the first level of the calibration hierarchy (Van Calster et al. 2016, Journal of Clinical Epidemiology 74:167–176): no evidence that O/E differs from 1"},
+		{Measure: "citl", Between: &[2]float64{-0.2, 0.2}, Severity: "fail",
+			Source: "calibration-in-the-large near 0 (Van Calster et al. 2016); the ±0.2 band on the log-odds scale is common practice"},
+		{Measure: "slope", Between: &[2]float64{0.8, 1.2}, Severity: "fail",
+			Source: "weak calibration, slope near 1 (Van Calster et al. 2016); the 0.8–1.2 band is common practice"},
+		{Measure: "ici", AtMost: f(0.03), Severity: "review",
+			Source: "ICI (Austin & Steyerberg 2019) of at most 3 percentage points: common practice, no published threshold; a review rather than a failure"},
+	}
+}
+
+// measureValue returns the named value of a performance and, for
+// interval names, the interval.
+func measureValue(p *Performance, name string) (float64, *[2]float64, error) {
+	d, c, o := p.Discrimination, p.Calibration, p.Overall
+	scalars := map[string]float64{
+		"auc": d.AUC, "auc_se": d.SE, "citl": c.CITL, "citl_se": c.CITLSE, "slope": c.Slope, "slope_se": c.SlopeSE,
+		"oe": c.OE, "ici": c.ICI, "e50": c.E50, "e90": c.E90, "emax": c.Emax,
+		"brier": o.Brier, "scaled_brier": o.ScaledBrier, "hosmer_lemeshow.p": c.HL.P, "hosmer_lemeshow.statistic": c.HL.Statistic,
+		"event_rate": p.Cohort.EventRate,
+	}
+	intervals := map[string][2]float64{
+		"auc_ci": d.CI, "auc_logit_ci": d.LogitCI, "citl_ci": c.CITLCI, "slope_ci": c.SlopeCI, "oe_ci": c.OECI,
+	}
+	if v, ok := scalars[name]; ok {
+		return v, nil, nil
+	}
+	if iv, ok := intervals[name]; ok {
+		return math.NaN(), &iv, nil
+	}
+	base, end, ok := strings.Cut(name, ".")
+	if iv, found := intervals[base]; ok && found {
+		switch end {
+		case "lower":
+			return iv[0], nil, nil
+		case "upper":
+			return iv[1], nil, nil
+		}
+	}
+	return 0, nil, fmt.Errorf("unknown measure %q (measures: %s)", name, strings.Join(MeasureNames(), ", "))
+}
+
+// MeasureNames lists the measures a criterion can name.
+func MeasureNames() []string {
+	names := []string{"auc", "auc_se", "citl", "citl_se", "slope", "slope_se", "oe", "ici", "e50", "e90", "emax",
+		"brier", "scaled_brier", "hosmer_lemeshow.p", "hosmer_lemeshow.statistic", "event_rate"}
+	for _, iv := range []string{"auc_ci", "auc_logit_ci", "citl_ci", "slope_ci", "oe_ci"} {
+		names = append(names, iv, iv+".lower", iv+".upper")
+	}
+	sort.Strings(names)
+	return names
+}
+
+// Check validates a criterion's form: a known measure and exactly one
+// kind of bound that fits it.
+func (c Criterion) Check() error {
+	n := 0
+	for _, set := range []bool{c.AtLeast != nil, c.AtMost != nil, c.Between != nil, c.Contains != nil} {
+		if set {
+			n++
+		}
+	}
+	if n != 1 {
+		return fmt.Errorf("criterion on %q needs exactly one of at_least, at_most, between and contains", c.Measure)
+	}
+	if c.Severity != "" && c.Severity != "fail" && c.Severity != "review" {
+		return fmt.Errorf("criterion on %q: severity must be fail or review, not %q", c.Measure, c.Severity)
+	}
+	if c.Between != nil && c.Between[0] > c.Between[1] {
+		return fmt.Errorf("criterion on %q: between needs the lower bound first", c.Measure)
+	}
+	_, iv, err := measureValue(&Performance{}, c.Measure)
+	if err != nil {
+		return err
+	}
+	if (iv != nil) != (c.Contains != nil) {
+		if iv != nil {
+			return fmt.Errorf("criterion on %q: an interval goes with contains (or name one end: %s.lower)", c.Measure, c.Measure)
+		}
+		return fmt.Errorf("criterion on %q: contains needs an interval, such as %s_ci", c.Measure, c.Measure)
+	}
+	return nil
+}
+
+// Judge applies the criteria to a performance.
+func Judge(p *Performance, criteria []Criterion) (*Verdict, error) {
+	v := &Verdict{Status: "pass"}
+	for _, c := range criteria {
+		if err := c.Check(); err != nil {
+			return nil, err
+		}
+		val, iv, _ := measureValue(p, c.Measure)
+		r := CriterionResult{Measure: c.Measure, Bound: c.Bound(), Value: val, Interval: iv, Severity: c.Severity, Source: c.Source}
+		if r.Severity == "" {
+			r.Severity = "fail"
+		}
+		switch {
+		case c.AtLeast != nil:
+			r.Passed = val >= *c.AtLeast
+		case c.AtMost != nil:
+			r.Passed = val <= *c.AtMost
+		case c.Between != nil:
+			r.Passed = val >= c.Between[0] && val <= c.Between[1]
+		case c.Contains != nil:
+			r.Passed = iv[0] <= *c.Contains && *c.Contains <= iv[1]
+		}
+		if !r.Passed {
+			if r.Severity == "fail" {
+				v.Status = "fail"
+			} else if v.Status == "pass" {
+				v.Status = "review"
+			}
+		}
+		v.Criteria = append(v.Criteria, r)
+	}
+	return v, nil
+}
