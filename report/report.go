@@ -444,8 +444,10 @@ func (r *renderer) provenance() {
 }
 
 func (r *renderer) caution() {
-	r.p("## Caution\n\n%s\n", validate.Caution)
+	r.p("## Caution\n\n%s\n", cautionText)
 }
+
+var cautionText = validate.Caution
 
 // table is a Markdown pipe table whose columns are padded so that it
 // also lines up as plain text.

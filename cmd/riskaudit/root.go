@@ -96,7 +96,7 @@ func newRootCmd(s *streams) *cobra.Command {
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		return &usageError{err.Error() + " (see '" + c.CommandPath() + " --help')"}
 	})
-	root.AddCommand(newAuditCmd(s), newFitCmd(s), newScoreCmd(s), newDemoCmd(s), newPlanCmd(s))
+	root.AddCommand(newAuditCmd(s), newFitCmd(s), newScoreCmd(s), newDemoCmd(s), newPlanCmd(s), newTrendCmd(s))
 	return root
 }
 
@@ -132,6 +132,8 @@ func exitCode(err error) int {
 	case errors.As(err, &ue):
 		return exitUsage
 	case errors.As(err, &pe):
+		return exitBadInput
+	case errors.As(err, new(*historyError)):
 		return exitBadInput
 	case errors.As(err, &sep), errors.As(err, &fe):
 		return exitCannotFit

@@ -1,0 +1,82 @@
+package main
+
+import (
+	"bytes"
+	"fmt"
+	"os"
+	"path/filepath"
+
+	"github.com/spf13/cobra"
+
+	"github.com/riskaudit/riskaudit/history"
+	"github.com/riskaudit/riskaudit/internal/atomicfile"
+	"github.com/riskaudit/riskaudit/plots"
+	"github.com/riskaudit/riskaudit/report"
+	"github.com/riskaudit/riskaudit/trend"
+)
+
+func newTrendCmd(s *streams) *cobra.Command {
+	var hist, out string
+	c := &cobra.Command{
+		Use:   "trend --history FILE --out DIR",
+		Short: "Chart the audits in a history store, with control limits for O/E",
+		Long: `Read every audit recorded in a history store (audit --history) and write
+DIR/trend.md with SVG charts of AUC, O/E, calibration slope and
+calibration-in-the-large over the audit dates, each with its 95% interval.
+O/E is drawn with funnel-type control limits that account for each audit's
+expected events; the first audit outside its 99.8% limits is flagged.`,
+		Example: `  riskaudit audit --plan monthly.yaml --history audits.sqlite --audit-date 2026-11-30
+  riskaudit trend --history audits.sqlite --out trend`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error {
+			if _, err := os.Stat(hist); err != nil {
+				return &historyError{fmt.Sprintf("%s: no such history store", hist)}
+			}
+			recs, err := history.Read(hist)
+			if err != nil {
+				return &historyError{err.Error()}
+			}
+			tr := trend.Build(recs)
+			figs, err := plots.Trend(tr)
+			if err != nil {
+				return err
+			}
+			var md bytes.Buffer
+			if err := report.WriteTrend(&md, tr, hist, figs); err != nil {
+				return err
+			}
+			if err := os.MkdirAll(out, 0o755); err != nil {
+				return fmt.Errorf("cannot create %s: %w", out, err)
+			}
+			var set atomicfile.Set
+			defer set.Abort()
+			for _, f := range figs {
+				if err := set.Add(filepath.Join(out, f.Name), f.SVG); err != nil {
+					return err
+				}
+			}
+			if err := set.Add(filepath.Join(out, "trend.md"), md.Bytes()); err != nil {
+				return err
+			}
+			if err := set.Commit(); err != nil {
+				return err
+			}
+			fmt.Fprintf(s.out, "%d audits from %s to %s\n", len(recs), recs[0].AuditDate, recs[len(recs)-1].AuditDate)
+			if tr.FirstOutside >= 0 {
+				fmt.Fprintf(s.out, "first audit outside the O/E control limits: %s\n", tr.Points[tr.FirstOutside].Date)
+			}
+			fmt.Fprintf(s.out, "Wrote %s and %d charts\n", filepath.Join(out, "trend.md"), len(figs))
+			return nil
+		},
+	}
+	c.Flags().StringVar(&hist, "history", "", "the history store (SQLite) that audits append to")
+	c.Flags().StringVar(&out, "out", "", "folder for trend.md and the charts")
+	_ = c.MarkFlagRequired("history")
+	_ = c.MarkFlagRequired("out")
+	return c
+}
+
+// historyError is a history store that cannot be read: bad input.
+type historyError struct{ msg string }
+
+func (e *historyError) Error() string { return e.msg }
