@@ -74,11 +74,15 @@ func caption(title, label string) string {
 	if label == "" {
 		return title
 	}
-	room := 50 - len([]rune(title))
-	if r := []rune(label); len(r) > room {
-		label = string(r[:room-1]) + "…"
+	return title + " — " + shorten(label, 50-len([]rune(title)))
+}
+
+// shorten cuts s to at most n characters, ending in an ellipsis when cut.
+func shorten(s string, n int) string {
+	if r := []rune(s); len(r) > n && n > 1 {
+		return string(r[:n-1]) + "…"
 	}
-	return title + " — " + label
+	return s
 }
 
 func newPlot(title, x, y string) *plot.Plot {

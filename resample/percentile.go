@@ -126,3 +126,27 @@ func PercentileIntervals(y, p []float64, opt CIOptions) (*CIResult, error) {
 	}
 	return res, nil
 }
+
+// BrierDifferenceCI is the 95% bootstrap percentile interval of
+// Brier(pa) − Brier(pb) on the same rows: each replicate draws the rows
+// with replacement (one stream per replicate, as in Optimism) and takes
+// the difference of the two weighted Brier scores.
+func BrierDifferenceCI(y, pa, pb []float64, b int, seed uint64) [2]float64 {
+	n := len(y)
+	d := make([]float64, b)
+	w := make([]float64, n)
+	for k := 0; k < b; k++ {
+		r := Stream(seed, k)
+		for i := range w {
+			w[i] = 0
+		}
+		for j := 0; j < n; j++ {
+			w[r.IntN(n)]++
+		}
+		ba, _ := metrics.BrierWeighted(y, pa, w)
+		bb, _ := metrics.BrierWeighted(y, pb, w)
+		d[k] = ba - bb
+	}
+	sort.Float64s(d)
+	return [2]float64{metrics.Quantile7(d, 0.025), metrics.Quantile7(d, 0.975)}
+}

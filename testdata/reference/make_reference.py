@@ -235,6 +235,27 @@ def delong_quadratic(y, p):
     return auc, np.sqrt(var)
 
 
+def paired_delong_quadratic(y, pa, pb):
+    """The paired test of DeLong, DeLong & Clarke-Pearson (1988) from its
+    covariance formulas, with the components by the direct double sum."""
+    def comps(p):
+        x, z = p[y == 1], p[y == 0]
+        psi = (x[:, None] > z[None, :]).astype(float) + 0.5 * (x[:, None] == z[None, :])
+        return psi.mean(axis=1), psi.mean(axis=0)
+    v10a, v01a = comps(pa)
+    v10b, v01b = comps(pb)
+    m, n = len(v10a), len(v01a)
+    s10 = np.cov(np.vstack([v10a, v10b]), ddof=1)
+    s01 = np.cov(np.vstack([v01a, v01b]), ddof=1)
+    var = (s10[0, 0] + s10[1, 1] - 2 * s10[0, 1]) / m + (s01[0, 0] + s01[1, 1] - 2 * s01[0, 1]) / n
+    d = v10a.mean() - v10b.mean()
+    se = np.sqrt(var)
+    z = d / se
+    return {"auc_a": r12(v10a.mean()), "auc_b": r12(v10b.mean()), "difference": r12(d), "difference_se": r12(se),
+            "difference_ci": r12([d - 1.959963984540054 * se, d + 1.959963984540054 * se]), "z": r12(z),
+            "p": r12(2 * scipy.stats.norm.sf(abs(z)))}
+
+
 def net_benefit(y, p, t):
     """Vickers & Elkin (2006), transcribed: treat when p >= t."""
     n = len(y)
@@ -302,15 +323,19 @@ def write_audit_reference(bc):
     y = np.array([1.0 if r["diagnosis"] == "M" else 0.0 for r in bc])
     eta = -9.0 + 0.35 * radius + 0.12 * texture + 30.0 * concave
     p = 1 / (1 + np.exp(-eta))
+    # A second invented model, without concave points, for the paired test.
+    pb = 1 / (1 + np.exp(-(-12.0 + 0.7 * radius + 0.1 * texture)))
     with open(os.path.join(HERE, "audit_predictions.csv"), "w") as f:
-        f.write("diagnosis,risk\n")
-        for yi, pi in zip(y, p):
-            f.write(f"{'M' if yi else 'B'},{pi!r}\n")
+        f.write("diagnosis,risk,risk_b\n")
+        for yi, pi, qi in zip(y, p, pb):
+            f.write(f"{'M' if yi else 'B'},{pi!r},{qi!r}\n")
     ref = {"_source": "testdata/reference/make_reference.py (scikit-learn, statsmodels, scipy)",
            "wdbc": audit_measures(y, p, 0.02)}
     # Ties: risks rounded to one decimal, for the DeLong components.
     pr = np.round(p, 1)
     auc, se = delong_quadratic(y, pr)
+    ref["paired_delong"] = paired_delong_quadratic(y, p, pb)
+    ref["paired_delong_rounded"] = paired_delong_quadratic(y, np.round(p, 1), np.round(pb, 1))
     ref["wdbc_rounded"] = {"auc_sklearn": r12(roc_auc_score_(y, pr)), "auc_delong_quadratic": r12(auc),
                            "auc_se_delong_quadratic": r12(se)}
     with open(os.path.join(HERE, "audit.json"), "w") as f:
