@@ -51,6 +51,7 @@ func Write(w io.Writer, a *validate.Audit, figures []plots.Figure) error {
 	r.calibration()
 	r.overall()
 	r.usefulness()
+	r.subgroups()
 	r.development()
 	r.fit()
 	r.internal()
@@ -377,6 +378,33 @@ func (r *renderer) usefulness() {
 		t.write(r.w)
 	}
 	r.figure("risk_histogram.svg")
+}
+
+func (r *renderer) subgroups() {
+	gs := r.a.Subgroups
+	if len(gs) == 0 {
+		return
+	}
+	r.p("## Subgroups\n\n")
+	r.p("The model's performance in each subgroup, with 95%% intervals. A subgroup with fewer than %d events or non-events is reported as too small: its measures would be too imprecise to act on (common practice). Criteria on AUC, O/E, calibration-in-the-large and slope are checked in every measured subgroup.\n\n", r.a.MinSubgroupEvents)
+	t := table{head: []string{"subgroup", "patients", "events", "AUC (95% CI)", "O/E (95% CI)", "CITL (95% CI)", "slope (95% CI)", "criteria not met"}}
+	iv := func(v *float64, ci *[2]float64, digits int) string {
+		if v == nil {
+			return "—"
+		}
+		f := fmt.Sprintf("%%.%df (%%.%df to %%.%df)", digits, digits, digits)
+		return fmt.Sprintf(f, *v, ci[0], ci[1])
+	}
+	for _, g := range gs {
+		failed := strings.Join(g.Failed, "; ")
+		if g.TooSmall {
+			failed = "too small to measure"
+		}
+		t.add(code(g.Column)+" = "+code(g.Level), fmt.Sprint(g.N), fmt.Sprint(g.Events),
+			iv(g.AUC, g.AUCCI, 3), iv(g.OE, g.OECI, 2), iv(g.CITL, g.CITLCI, 2), iv(g.Slope, g.SlopeCI, 2), failed)
+	}
+	t.write(r.w)
+	r.figure("subgroups.svg")
 }
 
 func (r *renderer) development() {

@@ -147,6 +147,10 @@ type Audit struct {
 	Performance
 	Development *Development `json:"development,omitempty"`
 	Internal    *Internal    `json:"internal,omitempty"`
+	// Subgroups holds the measures by patient subgroup when asked.
+	Subgroups []Subgroup `json:"subgroups,omitempty"`
+	// MinSubgroupEvents is the fewest events a subgroup was measured with.
+	MinSubgroupEvents int `json:"min_subgroup_events,omitempty"`
 	// BootstrapCI holds percentile intervals on the cohort when asked.
 	BootstrapCI *PercentileCIs `json:"bootstrap_ci,omitempty"`
 	// CohortIsDevelopment says that no new cohort was given, so the

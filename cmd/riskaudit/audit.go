@@ -207,6 +207,7 @@ func parseThresholds(s string) ([]float64, error) {
 // scored is a cohort's outcomes and predicted risks.
 type scored struct {
 	y, p, lp []float64
+	groups   []validate.GroupColumn
 	summary  validate.CohortSummary
 	file     string
 	hash     string
@@ -310,11 +311,23 @@ func runAudit(o *auditOptions, s *streams) error {
 	if a.Verdict, err = validate.Judge(perf, criteria); err != nil {
 		return usagef("%v", err)
 	}
+	if len(o.subgroups) > 0 && cur != nil {
+		prog.step("measuring subgroups")
+		a.Subgroups = validate.Subgroups(cur.y, cur.p, cur.lp, cur.groups, o.minSubEvents, criteria, o.epsilon)
+		a.MinSubgroupEvents = o.minSubEvents
+	}
 	label := a.Model.Name
 	prog.step("drawing figures")
 	figs, err := plots.All(perf, label)
 	if err != nil {
 		return err
+	}
+	if len(a.Subgroups) > 0 {
+		fig, err := plots.Forest(a.Subgroups, perf)
+		if err != nil {
+			return err
+		}
+		figs = append(figs, fig)
 	}
 	prog.step("writing " + o.out)
 	if err := writeAudit(o.out, a, figs, extra); err != nil {
@@ -462,6 +475,14 @@ func score(spec *model.Spec, o *auditOptions, path string) (*scored, error) {
 		reqs = append(reqs, cohort.Request{Name: o.predicted, Kind: cohort.Numeric, NaNIsError: true})
 		also = []string{o.predicted}
 	}
+	for _, g := range o.subgroups {
+		for _, q := range reqs {
+			if q.Name == g && q.Kind != cohort.Categorical {
+				return nil, usagef("subgroup column %q is a numeric predictor; give a categorical column (such as an age band)", g)
+			}
+		}
+		reqs = append(reqs, cohort.Request{Name: g, Kind: cohort.Categorical})
+	}
 	fr, err := cohort.Load(path, reqs, copt)
 	if err != nil {
 		return nil, err
@@ -471,6 +492,22 @@ func score(spec *model.Spec, o *auditOptions, path string) (*scored, error) {
 		return nil, err
 	}
 	sc := &scored{y: m.Y, file: path, spec: spec, terms: m.Terms}
+	for _, g := range o.subgroups {
+		col := fr.Column(g)
+		gc := validate.GroupColumn{Name: g, Levels: col.SortedLevels(), Codes: make([]int32, m.N)}
+		rank := map[string]int32{}
+		for k, l := range gc.Levels {
+			rank[l] = int32(k)
+		}
+		for r, i := range m.Rows {
+			if c := col.Codes[i]; c < 0 {
+				gc.Codes[r] = -1
+			} else {
+				gc.Codes[r] = rank[col.Levels[c]]
+			}
+		}
+		sc.groups = append(sc.groups, gc)
+	}
 	if o.predicted != "" {
 		col := fr.Column(o.predicted)
 		sc.p = make([]float64, m.N)
