@@ -156,6 +156,9 @@ func (s *Spec) MarshalYAML() ([]byte, error) {
 		if pv.RecipeFile != "" {
 			add(p, "recipe_file", str(pv.RecipeFile))
 		}
+		if pv.ParentSHA256 != "" {
+			add(p, "parent_model_sha256", str(pv.ParentSHA256))
+		}
 		add(root, "provenance", p)
 	}
 	doc := &yaml.Node{Kind: yaml.DocumentNode, Content: []*yaml.Node{root}}

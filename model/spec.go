@@ -129,6 +129,8 @@ type Provenance struct {
 	ToolVersion string `yaml:"tool_version"`
 	Method      string `yaml:"method"`
 	RecipeFile  string `yaml:"recipe_file,omitempty"`
+	// ParentSHA256 is the SHA-256 of the frozen model this one updates.
+	ParentSHA256 string `yaml:"parent_model_sha256,omitempty"`
 }
 
 // Spec is a recipe or a frozen model.
@@ -524,7 +526,7 @@ func (p *specParser) spline(n *yaml.Node) (*Spline, error) {
 }
 
 func (p *specParser) provenance(n *yaml.Node, pv *Provenance) error {
-	keys := []string{"data_file", "data_sha256", "rows_used", "events", "fitted_at", "tool_version", "method", "recipe_file"}
+	keys := []string{"data_file", "data_sha256", "rows_used", "events", "fitted_at", "tool_version", "method", "recipe_file", "parent_model_sha256"}
 	return p.fields(n, "provenance", keys, func(key string, k, v *yaml.Node) error {
 		s, err := p.scalar(v, key)
 		if err != nil {
@@ -553,6 +555,8 @@ func (p *specParser) provenance(n *yaml.Node, pv *Provenance) error {
 			pv.Method = s
 		case "recipe_file":
 			pv.RecipeFile = s
+		case "parent_model_sha256":
+			pv.ParentSHA256 = s
 		}
 		return nil
 	})

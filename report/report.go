@@ -52,6 +52,7 @@ func Write(w io.Writer, a *validate.Audit, figures []plots.Figure) error {
 	r.overall()
 	r.usefulness()
 	r.subgroups()
+	r.update()
 	r.development()
 	r.fit()
 	r.internal()
@@ -405,6 +406,35 @@ func (r *renderer) subgroups() {
 	}
 	t.write(r.w)
 	r.figure("subgroups.svg")
+}
+
+func (r *renderer) update() {
+	u := r.a.Update
+	if u == nil {
+		return
+	}
+	r.p("## Model updating\n\n")
+	r.p("The model was updated on this cohort in increasing order of change — recalibration in the large (intercept, with the linear predictor as offset), logistic recalibration (intercept and slope), model revision (every coefficient, with the original linear predictor as offset) — and the closed testing procedure of Vergouwe et al. (2017) chose among them: the revision is tested against the original model, then each simpler update against the revision, keeping the first not rejected at α = %g.\n\n", u.Alpha)
+	t := table{head: []string{"model", "parameters estimated", "−2 log-likelihood", "AIC"}}
+	for _, s := range u.Steps {
+		t.add(s.Method, fmt.Sprint(s.Params), fmt.Sprintf("%.3f", s.Neg2LL), fmt.Sprintf("%.3f", s.AIC))
+	}
+	t.write(r.w)
+	t = table{head: []string{"test against the revision", "likelihood ratio χ²", "df", "p", "result"}}
+	for _, ts := range u.Tests {
+		res := "not rejected: kept"
+		if ts.Rejected {
+			res = "rejected"
+		}
+		t.add(ts.Simpler, fmt.Sprintf("%.3f", ts.LRChi2), fmt.Sprint(ts.DF), fmtP(ts.P), res)
+	}
+	t.write(r.w)
+	r.p("**Chosen: %s**, written as a frozen model to %s with its provenance (the parent model's and the cohort's SHA-256, the method).\n\n", u.Chosen, code(u.ModelFile))
+	if e := u.Expected; e != nil {
+		r.p("Its performance expected in new patients from this cohort's population, by %d bootstrap replicates of the updating (seed %d, %d failed): AUC %.3f (apparent %.3f), calibration slope %.3f, calibration-in-the-large %.3f, Brier score %.4f.\n\n",
+			u.Bootstrap, u.Seed, u.Failed, e.AUC.Corrected, e.AUC.Apparent, e.Slope.Corrected, e.CITL.Corrected, e.Brier.Corrected)
+	}
+	r.p("**An updated model is a new model: it needs its own validation, on patients it was not updated on, before it is used.**\n\n")
 }
 
 func (r *renderer) development() {

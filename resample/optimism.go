@@ -36,6 +36,9 @@ type Problem struct {
 	// from them.
 	Coef  []float64
 	Firth bool
+	// Offset, when not nil, is added to the linear predictor of every row
+	// (as when updating a model with its original linear predictor).
+	Offset []float64
 }
 
 // Options control the bootstrap.
@@ -275,7 +278,7 @@ func (ws *workspace) draw(seed uint64, b int, keep bool) []int32 {
 }
 
 func data(pr Problem, w []float64) logistic.Data {
-	return logistic.Data{X: pr.X, N: pr.N, P: pr.P, Y: pr.Y, Weights: w}
+	return logistic.Data{X: pr.X, N: pr.N, P: pr.P, Y: pr.Y, Weights: w, Offset: pr.Offset}
 }
 
 func linearPredictor(pr Problem, beta, out []float64) []float64 {
@@ -290,7 +293,9 @@ func (ws *workspace) replicate(pr Problem, delta float64) (Measures, error) {
 	}
 	lp := linearPredictor(pr, fit.Coef, ws.lp)
 	order := ws.sort(lp)
-	app, err := ws.measures(pr, lp, order, ws.counts, fit.Deviance, delta, !pr.Firth)
+	// A maximum-likelihood fit with an intercept and no offset has
+	// calibration-in-the-large 0 and slope 1 on its own sample.
+	app, err := ws.measures(pr, lp, order, ws.counts, fit.Deviance, delta, !pr.Firth && pr.Offset == nil)
 	if err != nil {
 		return Measures{}, err
 	}

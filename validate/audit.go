@@ -147,6 +147,8 @@ type Audit struct {
 	Performance
 	Development *Development `json:"development,omitempty"`
 	Internal    *Internal    `json:"internal,omitempty"`
+	// Update is the model updating on the cohort, when asked.
+	Update *Update `json:"update,omitempty"`
 	// Subgroups holds the measures by patient subgroup when asked.
 	Subgroups []Subgroup `json:"subgroups,omitempty"`
 	// MinSubgroupEvents is the fewest events a subgroup was measured with.
@@ -291,4 +293,41 @@ func percentWord(f float64) string {
 		return "none (it does worse than that)"
 	}
 	return fmt.Sprintf("%.0f%%", 100*f)
+}
+
+// Update records the updating of the model on the cohort by the closed
+// testing procedure.
+type Update struct {
+	Alpha  float64      `json:"alpha"`
+	Steps  []UpdateStep `json:"steps"`
+	Tests  []UpdateTest `json:"tests"`
+	Chosen string       `json:"chosen"`
+	// ModelFile is where the updated frozen model was written.
+	ModelFile string `json:"model_file"`
+	// Expected is the updated model's performance expected in new patients
+	// of this cohort's population, by the optimism bootstrap of the
+	// updating (absent when no update was chosen).
+	Expected *InternalMetrics `json:"expected,omitempty"`
+	// Bootstrap and Seed describe that bootstrap.
+	Bootstrap int    `json:"bootstrap,omitempty"`
+	Seed      uint64 `json:"seed,omitempty"`
+	Failed    int    `json:"failed,omitempty"`
+}
+
+// UpdateStep is one candidate update with its fit.
+type UpdateStep struct {
+	Method string  `json:"method"`
+	Params int     `json:"parameters"`
+	Neg2LL float64 `json:"neg2ll"`
+	AIC    float64 `json:"aic"`
+}
+
+// UpdateTest is a likelihood-ratio test of a simpler update against the
+// model revision.
+type UpdateTest struct {
+	Simpler  string  `json:"simpler"`
+	LRChi2   float64 `json:"lr_chi2"`
+	DF       int     `json:"df"`
+	P        float64 `json:"p"`
+	Rejected bool    `json:"rejected"`
 }

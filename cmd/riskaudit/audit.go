@@ -23,37 +23,40 @@ import (
 )
 
 type auditOptions struct {
-	data         dataFlags
-	model        string
-	predicted    string
-	outcome      string
-	event        string
-	nonEvent     string
-	cohortFile   string
-	devFile      string
-	out          string
-	thresholds   string
-	classifyAt   []float64
-	groups       int
-	hlGroups     int
-	span         float64
-	delta        float64
-	epsilon      float64
-	quiet        bool
-	bootstrap    int
-	seed         uint64
-	workers      int
-	resampleLog  string
-	shrunken     string
-	ciBootstrap  int
-	firth        bool
-	planFile     string
-	history      string
-	auditDate    string
-	rename       map[string]string
-	criteria     []validate.Criterion
-	subgroups    []string
-	minSubEvents int
+	data            dataFlags
+	model           string
+	predicted       string
+	outcome         string
+	event           string
+	nonEvent        string
+	cohortFile      string
+	devFile         string
+	out             string
+	thresholds      string
+	classifyAt      []float64
+	groups          int
+	hlGroups        int
+	span            float64
+	delta           float64
+	epsilon         float64
+	quiet           bool
+	bootstrap       int
+	seed            uint64
+	workers         int
+	resampleLog     string
+	shrunken        string
+	ciBootstrap     int
+	firth           bool
+	planFile        string
+	history         string
+	auditDate       string
+	rename          map[string]string
+	criteria        []validate.Criterion
+	subgroups       []string
+	minSubEvents    int
+	update          string
+	updateAlpha     float64
+	updateBootstrap int
 }
 
 const auditLong = `Measure how a model performs on a cohort with observed outcomes and write
@@ -150,6 +153,9 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.StringVar(&o.auditDate, "audit-date", "", "the date the cohort describes, YYYY-MM-DD (default: today, UTC)")
 	f.StringSliceVar(&o.subgroups, "subgroups", nil, "categorical columns of the cohort to measure the model in, subgroup by subgroup")
 	f.IntVar(&o.minSubEvents, "min-subgroup-events", 20, "subgroups with fewer events are reported as too small (common practice)")
+	f.StringVar(&o.update, "update", "", "update the model on the cohort by closed testing and write the chosen model here")
+	f.Float64Var(&o.updateAlpha, "update-alpha", 0.05, "significance level of the closed testing procedure")
+	f.IntVar(&o.updateBootstrap, "update-bootstrap", 200, "bootstrap replicates for the updated model's expected performance (0: none)")
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
 	o.data.register(f)
 	_ = c.MarkFlagFilename("model", "yaml", "yml")
@@ -311,6 +317,15 @@ func runAudit(o *auditOptions, s *streams) error {
 	if a.Verdict, err = validate.Judge(perf, criteria); err != nil {
 		return usagef("%v", err)
 	}
+	if o.update != "" {
+		prog.step("updating the model on " + o.cohortFile)
+		u, files, err := updateModel(o, spec, cur.hash)
+		if err != nil {
+			return err
+		}
+		a.Update = u
+		extra = append(extra, files...)
+	}
 	if len(o.subgroups) > 0 && cur != nil {
 		prog.step("measuring subgroups")
 		a.Subgroups = validate.Subgroups(cur.y, cur.p, cur.lp, cur.groups, o.minSubEvents, criteria, o.epsilon)
@@ -399,6 +414,8 @@ func checkAuditFlags(o *auditOptions) ([]float64, error) {
 		return nil, usagef("--shrunken and --resample-log come from the bootstrap: add --bootstrap N")
 	case o.cohortFile == "" && o.predicted != "":
 		return nil, usagef("--predicted needs --cohort")
+	case o.update != "" && (o.predicted != "" || o.cohortFile == ""):
+		return nil, usagef("--update updates a model on the cohort: give --model and --cohort")
 	}
 	ts, err := parseThresholds(o.thresholds)
 	if err != nil {
@@ -421,7 +438,7 @@ func checkAuditFlags(o *auditOptions) ([]float64, error) {
 	if st, err := os.Stat(o.out); err == nil && !st.IsDir() {
 		return nil, usagef("--out %s is a file, not a folder", o.out)
 	}
-	for _, out := range []string{o.shrunken, o.resampleLog} {
+	for _, out := range []string{o.shrunken, o.resampleLog, o.update} {
 		if err := checkNotInput(out, o.model, o.cohortFile, o.devFile); err != nil {
 			return nil, err
 		}

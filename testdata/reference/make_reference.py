@@ -219,6 +219,7 @@ def main():
 
     write_audit_reference(bc)
     write_bootstrap_reference(bc)
+    write_update_reference(bc)
 
 
 def delong_quadratic(y, p):
@@ -402,6 +403,40 @@ def write_bootstrap_reference(bc):
            "optimism": {k: r12(v) for k, v in optimism.items()},
            "failed": failed, "replicates": len(diffs) + failed, "ici_delta_share": delta}
     with open(os.path.join(HERE, "bootstrap.json"), "w") as f:
+        json.dump(ref, f, indent=1, sort_keys=True)
+        f.write("\n")
+
+
+# Invented frozen coefficients of the four-predictor Wisconsin model
+# (intercept, radius, texture, smoothness, concave points), deliberately
+# off so that the updating methods have something to do.
+UPDATE_BETA = [-14.0, 0.55, 0.2, 25.0, 30.0]
+
+
+def write_update_reference(bc):
+    """The closed testing procedure of Vergouwe et al. (2017) with
+    statsmodels' binomial GLM: deviances of the original model, of
+    recalibration in the large (offset), logistic recalibration and model
+    revision (offset), and the likelihood-ratio tests against the revision."""
+    cols = ["mean_radius", "mean_texture", "mean_smoothness", "mean_concave_points"]
+    X = np.column_stack([np.ones(len(bc))] + [np.array([float(r[c]) for r in bc]) for c in cols])
+    y = np.array([1.0 if r["diagnosis"] == "M" else 0.0 for r in bc])
+    lp = X @ np.array(UPDATE_BETA)
+    fam = sm.families.Binomial()
+    d0 = -2 * loglik(X, y, np.array(UPDATE_BETA))
+    m1 = sm.GLM(y, np.ones((len(y), 1)), family=fam, offset=lp).fit(tol=1e-13, maxiter=200)
+    m2 = sm.GLM(y, sm.add_constant(lp), family=fam).fit(tol=1e-13, maxiter=200)
+    m3 = sm.GLM(y, X, family=fam, offset=lp).fit(tol=1e-13, maxiter=200)
+    devs = [d0, m1.deviance, m2.deviance, m3.deviance]
+    p = X.shape[1]
+    tests = []
+    for name, d, df in [("original", d0, p), ("in_the_large", m1.deviance, p - 1), ("recalibration", m2.deviance, p - 2)]:
+        lr = d - m3.deviance
+        tests.append({"simpler": name, "lr_chi2": r12(lr), "df": df, "p": r12(scipy.stats.chi2.sf(lr, df))})
+    ref = {"_source": "testdata/reference/make_reference.py (statsmodels GLM binomial with offset, scipy.stats.chi2)",
+           "beta": UPDATE_BETA, "neg2ll": r12(devs), "tests": tests,
+           "in_the_large": r12(m1.params[0]), "recalibration": r12(m2.params), "revision": r12(m3.params)}
+    with open(os.path.join(HERE, "update.json"), "w") as f:
         json.dump(ref, f, indent=1, sort_keys=True)
         f.write("\n")
 
