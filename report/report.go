@@ -52,6 +52,7 @@ func Write(w io.Writer, a *validate.Audit, figures []plots.Figure) error {
 	r.overall()
 	r.usefulness()
 	r.subgroups()
+	r.caseMix()
 	r.update()
 	r.development()
 	r.fit()
@@ -406,6 +407,34 @@ func (r *renderer) subgroups() {
 	}
 	t.write(r.w)
 	r.figure("subgroups.svg")
+}
+
+func (r *renderer) caseMix() {
+	cm := r.a.CaseMix
+	if cm == nil {
+		return
+	}
+	r.p("## Case-mix: development data against this cohort\n\n%s\n\n", cm.Interpretation)
+	t := table{head: []string{"predictor", "development", "this cohort", "standardised difference", "missing (dev / new)"}}
+	for _, pm := range cm.Predictors {
+		miss := fmt.Sprintf("%.1f%% / %.1f%%", 100*pm.DevMissing, 100*pm.NewMissing)
+		if pm.Kind == "numeric" {
+			t.add(code(pm.Column), fmt.Sprintf("%.3g (SD %.3g)", pm.Dev[0], pm.Dev[1]), fmt.Sprintf("%.3g (SD %.3g)", pm.New[0], pm.New[1]),
+				fmt.Sprintf("%+.2f", pm.StdDiff[0]), miss)
+			continue
+		}
+		for j, l := range pm.Levels {
+			m := ""
+			if j == 0 {
+				m = miss
+			}
+			t.add(code(pm.Column)+" = "+code(l), pct(pm.Dev[j]), pct(pm.New[j]), fmt.Sprintf("%+.2f", pm.StdDiff[j]), m)
+		}
+	}
+	t.write(r.w)
+	r.p("Standardised differences (Austin 2009) of 0.1 or more in absolute value are commonly taken as a meaningful imbalance. The membership model (Debray et al. 2015) is a logistic regression of cohort membership on the model's terms and the outcome; its c-statistic, %.3f, summarises how different the two populations are.\n\n", cm.MembershipC)
+	r.figure("casemix_lp.svg")
+	r.figure("casemix_differences.svg")
 }
 
 func (r *renderer) update() {

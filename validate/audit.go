@@ -147,6 +147,8 @@ type Audit struct {
 	Performance
 	Development *Development `json:"development,omitempty"`
 	Internal    *Internal    `json:"internal,omitempty"`
+	// CaseMix compares the development data with the cohort.
+	CaseMix *CaseMix `json:"case_mix,omitempty"`
 	// Update is the model updating on the cohort, when asked.
 	Update *Update `json:"update,omitempty"`
 	// Subgroups holds the measures by patient subgroup when asked.

@@ -8,9 +8,9 @@ import (
 	"testing"
 )
 
-// cohort draws outcomes whose true risk is the model's risk times factor,
+// drawCohort draws outcomes whose true risk is the model's risk times factor,
 // so factor > 1 means the model under-predicts.
-func cohort(n int, factor float64, seed uint64) (y, p []float64) {
+func drawCohort(n int, factor float64, seed uint64) (y, p []float64) {
 	r := rand.New(rand.NewPCG(seed, 1))
 	y, p = make([]float64, n), make([]float64, n)
 	for i := range p {
@@ -27,7 +27,7 @@ func TestFindingsSayWhichWay(t *testing.T) {
 		factor float64
 		want   string
 	}{{1.5, "under-predicts"}, {0.6, "over-predicts"}, {1, "consistent with the model predicting the right number"}} {
-		y, p := cohort(20000, tt.factor, 3)
+		y, p := drawCohort(20000, tt.factor, 3)
 		perf, err := Assess(y, p, Options{Delta: AutoDelta})
 		if err != nil {
 			t.Fatal(err)
@@ -56,7 +56,7 @@ func TestAssessRefusesBadRisks(t *testing.T) {
 // TestLogitsPathMatchesRisks: auditing with the model's linear predictor
 // gives the same calibration as taking logit(p) of its risks.
 func TestLogitsPathMatchesRisks(t *testing.T) {
-	y, p := cohort(5000, 1.2, 4)
+	y, p := drawCohort(5000, 1.2, 4)
 	lp := make([]float64, len(p))
 	for i, v := range p {
 		lp[i] = math.Log(v / (1 - v))

@@ -317,6 +317,12 @@ func runAudit(o *auditOptions, s *streams) error {
 	if a.Verdict, err = validate.Judge(perf, criteria); err != nil {
 		return usagef("%v", err)
 	}
+	if o.model != "" && o.devFile != "" && o.cohortFile != "" && dev != nil {
+		prog.step("comparing case-mix")
+		if a.CaseMix, err = caseMix(o, spec, devPerf, perf); err != nil {
+			return err
+		}
+	}
 	if o.update != "" {
 		prog.step("updating the model on " + o.cohortFile)
 		u, files, err := updateModel(o, spec, cur.hash)
@@ -343,6 +349,13 @@ func runAudit(o *auditOptions, s *streams) error {
 			return err
 		}
 		figs = append(figs, fig)
+	}
+	if a.CaseMix != nil {
+		cf, err := plots.CaseMix(a.CaseMix)
+		if err != nil {
+			return err
+		}
+		figs = append(figs, cf...)
 	}
 	prog.step("writing " + o.out)
 	if err := writeAudit(o.out, a, figs, extra); err != nil {

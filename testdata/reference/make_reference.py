@@ -220,6 +220,7 @@ def main():
     write_audit_reference(bc)
     write_bootstrap_reference(bc)
     write_update_reference(bc)
+    write_casemix_reference(bc)
 
 
 def delong_quadratic(y, p):
@@ -437,6 +438,32 @@ def write_update_reference(bc):
            "beta": UPDATE_BETA, "neg2ll": r12(devs), "tests": tests,
            "in_the_large": r12(m1.params[0]), "recalibration": r12(m2.params), "revision": r12(m3.params)}
     with open(os.path.join(HERE, "update.json"), "w") as f:
+        json.dump(ref, f, indent=1, sort_keys=True)
+        f.write("\n")
+
+
+def write_casemix_reference(bc):
+    """The membership model of Debray et al. (2015) with statsmodels' Logit
+    and scikit-learn's roc_auc_score, telling the second half of the
+    Wisconsin rows (the "new cohort") from the first half by the
+    four-predictor model's terms and the outcome; and the standardised
+    differences of the predictors (Austin 2009)."""
+    from sklearn.metrics import roc_auc_score
+    cols = ["mean_radius", "mean_texture", "mean_smoothness", "mean_concave_points"]
+    X = np.column_stack([np.ones(len(bc))] + [np.array([float(r[c]) for r in bc]) for c in cols])
+    y = np.array([1.0 if r["diagnosis"] == "M" else 0.0 for r in bc])
+    half = len(y) // 2
+    member = np.r_[np.zeros(half), np.ones(len(y) - half)]
+    Z = np.column_stack([X, y])
+    fit = sm.Logit(member, Z).fit(method="newton", tol=1e-12, maxiter=100, disp=False)
+    c = roc_auc_score(member, Z @ fit.params)
+    sd = {}
+    for j, name in enumerate(cols, start=1):
+        a, b = X[:half, j], X[half:, j]
+        sd[name] = r12((b.mean() - a.mean()) / np.sqrt((a.var(ddof=1) + b.var(ddof=1)) / 2))
+    ref = {"_source": "testdata/reference/make_reference.py (statsmodels Logit, scikit-learn roc_auc_score)",
+           "half": half, "membership_c": r12(c), "std_diff": sd}
+    with open(os.path.join(HERE, "casemix.json"), "w") as f:
         json.dump(ref, f, indent=1, sort_keys=True)
         f.write("\n")
 
