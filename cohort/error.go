@@ -25,7 +25,10 @@ type Error struct {
 	// HasValue reports whether Value is part of the message (an empty
 	// field is a value too).
 	HasValue bool
-	Msg      string
+	// Row says that Line counts data rows (1-based), as in a columnar
+	// file, rather than text lines.
+	Row bool
+	Msg string
 }
 
 // Error formats the problem as one line:
@@ -37,7 +40,11 @@ func (e *Error) Error() string {
 	sep := ": "
 	if e.Line > 0 {
 		b.WriteString(sep)
-		b.WriteString("line ")
+		if e.Row {
+			b.WriteString("row ")
+		} else {
+			b.WriteString("line ")
+		}
 		b.WriteString(strconv.Itoa(e.Line))
 		sep = ", "
 	}

@@ -57,6 +57,9 @@ type Options struct {
 	// asked for (extracts rename columns between releases). A name not in
 	// the file is left alone.
 	Rename map[string]string
+	// Format is "csv" (delimited text), "parquet", or "" to choose by the
+	// file's first bytes (Parquet files start with PAR1).
+	Format string
 }
 
 // Column is one column read from a file.
@@ -96,6 +99,9 @@ type Frame struct {
 	Delimiter byte
 	// Rows counts the data rows.
 	Rows int
+	// RowNumbered says that Line gives row numbers (a columnar file), not
+	// text lines.
+	RowNumbered bool
 	// Columns are the requested columns, in request order.
 	Columns []*Column
 
@@ -139,6 +145,20 @@ func (f *Frame) HeaderRecord() []byte {
 // never written. Large files are memory-mapped while they are parsed
 // (unless Options.KeepRecords asks for the raw text to be kept).
 func Load(path string, reqs []Request, opt Options) (*Frame, error) {
+	switch opt.Format {
+	case "parquet":
+		return LoadParquet(path, reqs, opt)
+	case "", "auto":
+		if isParquet(path) {
+			if opt.KeepRecords {
+				return nil, &Error{File: path, Msg: "a Parquet file has no text rows to copy; give a CSV or TSV file"}
+			}
+			return LoadParquet(path, reqs, opt)
+		}
+	case "csv":
+	default:
+		return nil, fmt.Errorf("cohort: unknown format %q", opt.Format)
+	}
 	var data []byte
 	var err error
 	release := func() {}

@@ -262,7 +262,7 @@ func (d *Design) completeCases(opt Options) ([]bool, *Matrix, error) {
 			}
 		}
 		if col != nil {
-			return nil, nil, &cohort.Error{File: fr.File, Line: fr.Line(row), Column: col.Name,
+			return nil, nil, &cohort.Error{File: fr.File, Line: fr.Line(row), Row: fr.RowNumbered, Column: col.Name,
 				Msg: "missing value (the missing-value policy is fail)"}
 		}
 	}
@@ -463,7 +463,7 @@ func (d *Design) bindCategorical(e *entry, used []bool) error {
 		default:
 			e.codeTerm[code] = -2
 			if present[code] {
-				return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Column: pr.Column, Value: l, HasValue: true,
+				return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Row: d.frame.RowNumbered, Column: pr.Column, Value: l, HasValue: true,
 					Msg: fmt.Sprintf("a level the model does not know (it knows %s)", strings.Join(append([]string{e.reference}, e.levels...), ", "))}
 			}
 		}
@@ -534,7 +534,7 @@ func (d *Design) mapOutcome(used []bool) error {
 	}
 	if len(bad) > 0 {
 		code := bad[0]
-		return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Column: c.Name, Value: c.Levels[code], HasValue: true,
+		return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Row: d.frame.RowNumbered, Column: c.Name, Value: c.Levels[code], HasValue: true,
 			Msg: fmt.Sprintf("neither the event %q nor the non-event %q; values seen: %s", o.Event.Text, o.NonEvent.Text, seen())}
 	}
 	if events == 0 {
@@ -581,7 +581,7 @@ func (d *Design) row(i int, out []float64) error {
 				t[j] = 1
 			} else if j == -2 {
 				c := e.col
-				return &cohort.Error{File: d.frame.File, Line: d.frame.Line(i), Column: c.Name, Value: c.Levels[c.Codes[i]], HasValue: true, Msg: "a level the model does not know"}
+				return &cohort.Error{File: d.frame.File, Line: d.frame.Line(i), Row: d.frame.RowNumbered, Column: c.Name, Value: c.Levels[c.Codes[i]], HasValue: true, Msg: "a level the model does not know"}
 			}
 		default:
 			if err := d.numericTerms(e, i, t); err != nil {
@@ -605,7 +605,7 @@ func (d *Design) numericTerms(e *entry, i int, t []float64) error {
 			if e.kind == powers {
 				what = "fractional-polynomial powers need"
 			}
-			return &cohort.Error{File: d.frame.File, Line: d.frame.Line(i), Column: pr.Column, Value: fmtNum(x), HasValue: true,
+			return &cohort.Error{File: d.frame.File, Line: d.frame.Line(i), Row: d.frame.RowNumbered, Column: pr.Column, Value: fmtNum(x), HasValue: true,
 				Msg: fmt.Sprintf("%s positive values of (x − center)/scale", what)}
 		}
 		if e.kind == logTerm {

@@ -544,7 +544,7 @@ func score(spec *model.Spec, o *auditOptions, path string) (*scored, error) {
 		for r, i := range m.Rows {
 			v := col.Num[i]
 			if !(v >= 0 && v <= 1) {
-				return nil, &cohort.Error{File: path, Line: fr.Line(i), Column: o.predicted, Value: strconv.FormatFloat(v, 'g', -1, 64), HasValue: true,
+				return nil, &cohort.Error{File: path, Line: fr.Line(i), Row: fr.RowNumbered, Column: o.predicted, Value: strconv.FormatFloat(v, 'g', -1, 64), HasValue: true,
 					Msg: "a predicted risk must lie between 0 and 1"}
 			}
 			sc.p[r] = v

@@ -180,7 +180,7 @@ func runCompare(o *compareOptions, s *streams) error {
 				for r, i := range m.Rows {
 					v := col.Num[i]
 					if !(v >= 0 && v <= 1) {
-						return &cohort.Error{File: o.cohortFile, Line: fr.Line(i), Column: o.predicted, Value: strconv.FormatFloat(v, 'g', -1, 64), HasValue: true, Msg: "a predicted risk must lie between 0 and 1"}
+						return &cohort.Error{File: o.cohortFile, Line: fr.Line(i), Row: fr.RowNumbered, Column: o.predicted, Value: strconv.FormatFloat(v, 'g', -1, 64), HasValue: true, Msg: "a predicted risk must lie between 0 and 1"}
 					}
 					q[r] = v
 				}

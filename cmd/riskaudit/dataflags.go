@@ -20,6 +20,7 @@ type dataFlags struct {
 	decimalComma bool
 	missing      string
 	naValues     []string
+	format       string
 }
 
 func (f *dataFlags) register(fs *pflag.FlagSet) {
@@ -27,6 +28,7 @@ func (f *dataFlags) register(fs *pflag.FlagSet) {
 	fs.BoolVar(&f.decimalComma, "decimal-comma", false, "read numbers written with a decimal comma, such as 27,5")
 	fs.StringVar(&f.missing, "missing", "complete-case", "missing-value policy: complete-case (leave out rows missing a model column) or fail")
 	fs.StringSliceVar(&f.naValues, "na-values", nil, "field values that mean missing, comma-separated (default: empty, NA, ., NaN)")
+	fs.StringVar(&f.format, "format", "auto", "cohort file format: csv (delimited text), parquet, or auto (Parquet files are recognised by their first bytes)")
 }
 
 func (f *dataFlags) cohortOptions() (cohort.Options, error) {
@@ -46,6 +48,13 @@ func (f *dataFlags) cohortOptions() (cohort.Options, error) {
 		o.Delimiter = f.delimiter[0]
 	}
 	o.DecimalComma = f.decimalComma
+	switch f.format {
+	case "auto", "":
+	case "csv", "parquet":
+		o.Format = f.format
+	default:
+		return o, usagef("--format %q: give csv, parquet or auto", f.format)
+	}
 	if o.DecimalComma && o.Delimiter == ',' {
 		return o, usagef("--decimal-comma needs a delimiter other than a comma")
 	}

@@ -1,0 +1,289 @@
+package cohort
+
+import (
+	"bytes"
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+
+	"github.com/apache/arrow-go/v18/arrow"
+	"github.com/apache/arrow-go/v18/arrow/array"
+	"github.com/apache/arrow-go/v18/arrow/memory"
+	"github.com/apache/arrow-go/v18/parquet/file"
+	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+)
+
+// isParquet reports whether the file at path starts with the Parquet
+// magic bytes.
+func isParquet(path string) bool {
+	f, err := os.Open(path)
+	if err != nil {
+		return false
+	}
+	defer f.Close()
+	var b [4]byte
+	if _, err := io.ReadFull(f, b[:]); err != nil {
+		return false
+	}
+	return bytes.Equal(b[:], []byte("PAR1"))
+}
+
+// LoadParquet reads the requested columns of an Apache Parquet file with
+// the Apache Arrow Go library, in batches, so that memory holds the
+// requested columns and one batch. Typed columns keep their types: a
+// numeric request takes integer, floating-point and boolean columns (and
+// text, parsed as in CSV); a categorical request takes text and
+// dictionary columns (and numbers, as text). Nulls are missing values, as
+// are the missing markers in text columns; NaN is a missing value (unless
+// Request.NaNIsError) and an infinite value is an error. Errors name the
+// file, the 1-based row, the column and the value.
+func LoadParquet(path string, reqs []Request, opt Options) (*Frame, error) {
+	pf, err := file.OpenParquetFile(path, true)
+	if err != nil {
+		return nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error()}
+	}
+	defer pf.Close()
+	fr, err := pqarrow.NewFileReader(pf, pqarrow.ArrowReadProperties{BatchSize: 1 << 16, Parallel: true}, memory.DefaultAllocator)
+	if err != nil {
+		return nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error()}
+	}
+	schema, err := fr.Schema()
+	if err != nil {
+		return nil, &Error{File: path, Msg: "cannot read the Parquet schema: " + err.Error()}
+	}
+	header := make([]string, schema.NumFields())
+	for i, f := range schema.Fields() {
+		header[i] = f.Name
+		if to, ok := opt.Rename[f.Name]; ok {
+			header[i] = to
+		}
+		if _, nested := f.Type.(arrow.NestedType); nested {
+			header[i] = f.Name // reported only if requested
+		}
+	}
+	if err := checkHeader(path, 0, header); err != nil {
+		return nil, err
+	}
+	plan, err := planColumns(path, header, reqs)
+	if err != nil {
+		return nil, err
+	}
+	var idx []int
+	for i, k := range plan {
+		if k >= 0 {
+			if _, nested := schema.Field(i).Type.(arrow.NestedType); nested {
+				return nil, &Error{File: path, Column: header[i], Msg: "a nested Parquet column; give a flat column"}
+			}
+			idx = append(idx, i)
+		}
+	}
+	missing := opt.Missing
+	if missing == nil {
+		missing = DefaultMissing
+	}
+	dec := byte('.')
+	if opt.DecimalComma {
+		dec = ','
+	}
+	n := int(pf.NumRows())
+	out := &Frame{File: path, Header: header, Rows: n, RowNumbered: true, lines: make([]int32, n)}
+	for i := range out.lines {
+		out.lines[i] = int32(i + 1)
+	}
+	cols := make([]*Column, len(reqs))
+	for k, r := range reqs {
+		c := &Column{Name: r.Name, Kind: r.Kind, Index: -1}
+		for i, h := range header {
+			if h == r.Name && c.Index < 0 {
+				c.Index = i
+			}
+		}
+		if r.Kind == Numeric {
+			c.Num = make([]float64, 0, n)
+		} else {
+			c.Codes = make([]int32, 0, n)
+		}
+		cols[k] = c
+	}
+	rr, err := fr.GetRecordReader(context.Background(), idx, nil)
+	if err != nil {
+		return nil, &Error{File: path, Msg: "cannot read the Parquet data: " + err.Error()}
+	}
+	defer rr.Release()
+	levels := make([]map[string]int32, len(reqs))
+	for k := range levels {
+		levels[k] = map[string]int32{}
+	}
+	row := 0
+	for rr.Next() {
+		rec := rr.Record()
+		for j, i := range idx {
+			k := plan[i]
+			c := cols[k]
+			arr := rec.Column(j)
+			var err error
+			if c.Kind == Numeric {
+				err = appendNumbers(c, arr, row, path, missing, dec, reqs[k].NaNIsError)
+			} else {
+				err = appendLevels(c, arr, row, levels[k], missing)
+			}
+			if err != nil {
+				return nil, err
+			}
+		}
+		row += int(rec.NumRows())
+	}
+	if err := rr.Err(); err != nil && !errors.Is(err, io.EOF) {
+		return nil, &Error{File: path, Msg: "reading the Parquet data: " + err.Error()}
+	}
+	if row == 0 {
+		return nil, &Error{File: path, Msg: "the file has no rows"}
+	}
+	out.Rows = row
+	out.lines = out.lines[:row]
+	for k, c := range cols {
+		k0 := plan[c.Index]
+		if k0 != k {
+			src := cols[k0]
+			*c = *src
+			c.Name = reqs[k].Name
+		}
+	}
+	out.Columns = cols
+	out.Delimiter = 0
+	return out, nil
+}
+
+func rowError(path string, row int, col, value, msg string) *Error {
+	return &Error{File: path, Line: row + 1, Row: true, Column: col, Value: value, HasValue: true, Msg: msg}
+}
+
+func appendNumbers(c *Column, arr arrow.Array, row0 int, path string, missing []string, dec byte, nanErr bool) error {
+	n := arr.Len()
+	push := func(i int, v float64) error {
+		if math.IsInf(v, 0) {
+			return rowError(path, row0+i, c.Name, strconv.FormatFloat(v, 'g', -1, 64), "not a finite number")
+		}
+		if math.IsNaN(v) {
+			if nanErr {
+				return rowError(path, row0+i, c.Name, "NaN", "not a number (a computed value of NaN is an error here, not a missing value)")
+			}
+			c.Missing++
+		}
+		c.Num = append(c.Num, v)
+		return nil
+	}
+	for i := 0; i < n; i++ {
+		if arr.IsNull(i) {
+			c.Num = append(c.Num, math.NaN())
+			c.Missing++
+			continue
+		}
+		var v float64
+		switch a := arr.(type) {
+		case *array.Float64:
+			v = a.Value(i)
+		case *array.Float32:
+			v = float64(a.Value(i))
+		case *array.Int64:
+			v = float64(a.Value(i))
+		case *array.Int32:
+			v = float64(a.Value(i))
+		case *array.Int16:
+			v = float64(a.Value(i))
+		case *array.Int8:
+			v = float64(a.Value(i))
+		case *array.Uint64:
+			v = float64(a.Value(i))
+		case *array.Uint32:
+			v = float64(a.Value(i))
+		case *array.Uint16:
+			v = float64(a.Value(i))
+		case *array.Uint8:
+			v = float64(a.Value(i))
+		case *array.Boolean:
+			if a.Value(i) {
+				v = 1
+			}
+		default:
+			s, ok := textValue(arr, i)
+			if !ok {
+				return &Error{File: path, Column: c.Name, Msg: fmt.Sprintf("a Parquet column of type %s, which is not a number", arr.DataType())}
+			}
+			s = strings.TrimSpace(s)
+			if isToken(s, missing) {
+				c.Num = append(c.Num, math.NaN())
+				c.Missing++
+				continue
+			}
+			x, ok := parseFloat([]byte(s), dec)
+			if !ok {
+				return rowError(path, row0+i, c.Name, s, "not a number")
+			}
+			v = x
+		}
+		if err := push(i, v); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+func appendLevels(c *Column, arr arrow.Array, row0 int, index map[string]int32, missing []string) error {
+	n := arr.Len()
+	for i := 0; i < n; i++ {
+		if arr.IsNull(i) {
+			c.Codes = append(c.Codes, -1)
+			c.Missing++
+			continue
+		}
+		s, ok := textValue(arr, i)
+		if !ok {
+			s = arr.ValueStr(i)
+		}
+		if isToken(strings.TrimSpace(s), missing) {
+			c.Codes = append(c.Codes, -1)
+			c.Missing++
+			continue
+		}
+		code, ok := index[s]
+		if !ok {
+			code = int32(len(c.Levels))
+			index[s] = code
+			c.Levels = append(c.Levels, s)
+			c.LevelLine = append(c.LevelLine, row0+i+1)
+		}
+		c.Codes = append(c.Codes, code)
+	}
+	return nil
+}
+
+// textValue returns the text of a string, binary or dictionary-encoded
+// value.
+func textValue(arr arrow.Array, i int) (string, bool) {
+	switch a := arr.(type) {
+	case *array.String:
+		return a.Value(i), true
+	case *array.LargeString:
+		return a.Value(i), true
+	case *array.Binary:
+		return string(a.Value(i)), true
+	case *array.Dictionary:
+		return textValue(a.Dictionary(), a.GetValueIndex(i))
+	}
+	return "", false
+}
+
+func isToken(s string, tokens []string) bool {
+	for _, t := range tokens {
+		if s == t {
+			return true
+		}
+	}
+	return false
+}
