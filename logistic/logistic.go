@@ -532,10 +532,7 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool) {
 		if !derivs {
 			continue
 		}
-		mu := 1 / (1 + z)
-		if eta < 0 {
-			mu = z / (1 + z)
-		}
+		mu := expitFrom(z, eta)
 		v := wt * mu * (1 - mu)
 		rv[nb] = wt * (y - mu)
 		for j, xj := range x {
@@ -568,10 +565,7 @@ func (e *evaluator) passSmall(beta []float64, lo, hi int, c *chunk) {
 		}
 		y := d.Y[i]
 		z := acc.add(wt, eta, y)
-		mu := 1 / (1 + z)
-		if eta < 0 {
-			mu = z / (1 + z)
-		}
+		mu := expitFrom(z, eta)
 		v := wt * mu * (1 - mu)
 		r := wt * (y - mu)
 		for j, xj := range x {
@@ -642,6 +636,14 @@ func (a *devSum) add(wt, eta, y float64) float64 {
 		a.lin += wt * log1pUnit(z)
 	}
 	return z
+}
+
+// expitFrom is expit(η) from z = e^−|η|.
+func expitFrom(z, eta float64) float64 {
+	if eta < 0 {
+		return z / (1 + z)
+	}
+	return 1 / (1 + z)
 }
 
 // total is the deviance, 2 × the accumulated sum.

@@ -276,6 +276,12 @@ func FlexibleCalibration(y, p []float64, order []int, opt LowessOptions) Calibra
 	return cc
 }
 
+// Quantiles returns the q1- and q2-quantiles (Quantile7) of unsorted
+// data by selection; it reorders a.
+func Quantiles(a []float64, q1, q2 float64) (float64, float64) {
+	return quantileSelect(a, q1), quantileSelect(a, q2)
+}
+
 // quantileSelect is Quantile7 of unsorted data, found by selection
 // (Hoare's quickselect) in expected linear time; it reorders a.
 func quantileSelect(a []float64, q float64) float64 {
