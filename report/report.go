@@ -51,6 +51,7 @@ func Write(w io.Writer, a *validate.Audit, figures []plots.Figure) error {
 	r.calibration()
 	r.overall()
 	r.usefulness()
+	r.sampleSize()
 	r.subgroups()
 	r.caseMix()
 	r.update()
@@ -407,6 +408,29 @@ func (r *renderer) subgroups() {
 	}
 	t.write(r.w)
 	r.figure("subgroups.svg")
+}
+
+func (r *renderer) sampleSize() {
+	ss := r.a.SampleSize
+	if ss == nil {
+		return
+	}
+	r.p("## Was the cohort large enough?\n\n")
+	r.p("The minimum sample size for precise estimates, criterion by criterion (after Riley et al. 2021), with the anticipated values taken from %s:\n\n", ss.Basis)
+	t := table{head: []string{"criterion", "target", "patients needed", "events needed", "this cohort"}}
+	for _, c := range ss.Criteria {
+		met := "enough"
+		if !c.Met {
+			met = "**too few**"
+		}
+		t.add(c.Measure, c.Target, fmt.Sprint(c.N), fmt.Sprint(c.Events), met)
+	}
+	t.write(r.w)
+	if ss.Short {
+		r.p("**Caution: the cohort's %d patients fall short of the %d the %s criterion needs; the intervals above are wider than the targets, and the audit's conclusions are correspondingly less certain.**\n\n", ss.Have, ss.Required, ss.Driver)
+	} else {
+		r.p("The cohort's %d patients meet every criterion (the largest need is %d, for the %s).\n\n", ss.Have, ss.Required, ss.Driver)
+	}
 }
 
 func (r *renderer) caseMix() {

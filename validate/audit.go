@@ -147,6 +147,9 @@ type Audit struct {
 	Performance
 	Development *Development `json:"development,omitempty"`
 	Internal    *Internal    `json:"internal,omitempty"`
+	// SampleSize says what sample size each precision criterion needs,
+	// beside the cohort's.
+	SampleSize *SampleSize `json:"sample_size,omitempty"`
 	// CaseMix compares the development data with the cohort.
 	CaseMix *CaseMix `json:"case_mix,omitempty"`
 	// Update is the model updating on the cohort, when asked.
@@ -332,4 +335,26 @@ type UpdateTest struct {
 	DF       int     `json:"df"`
 	P        float64 `json:"p"`
 	Rejected bool    `json:"rejected"`
+}
+
+// SampleSize compares the cohort's size with the minimum sample size of
+// Riley et al. (2021), with the anticipated values taken from the cohort
+// itself.
+type SampleSize struct {
+	Criteria []SizeCriterion `json:"criteria"`
+	Required int             `json:"required_n"`
+	Driver   string          `json:"driven_by"`
+	Have     int             `json:"have_n"`
+	Short    bool            `json:"short"`
+	Basis    string          `json:"anticipated_from"`
+}
+
+// SizeCriterion is one criterion's requirement.
+type SizeCriterion struct {
+	Measure string  `json:"measure"`
+	Target  string  `json:"target"`
+	SE      float64 `json:"target_se"`
+	N       int     `json:"n"`
+	Events  int     `json:"events"`
+	Met     bool    `json:"met"`
 }

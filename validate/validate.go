@@ -88,25 +88,27 @@ type Discrimination struct {
 // Calibration holds every calibration measure. The JSON keys are a
 // stable interface.
 type Calibration struct {
-	CITL      float64                    `json:"citl"`
-	CITLSE    float64                    `json:"citl_se"`
-	CITLCI    [2]float64                 `json:"citl_ci"`
-	Slope     float64                    `json:"slope"`
-	SlopeSE   float64                    `json:"slope_se"`
-	SlopeCI   [2]float64                 `json:"slope_ci"`
-	OE        float64                    `json:"oe"`
-	OECI      [2]float64                 `json:"oe_ci"`
-	Observed  float64                    `json:"observed_events"`
-	Expected  float64                    `json:"expected_events"`
-	HL        metrics.HosmerLemeshowTest `json:"hosmer_lemeshow"`
-	ICI       float64                    `json:"ici"`
-	E50       float64                    `json:"e50"`
-	E90       float64                    `json:"e90"`
-	Emax      float64                    `json:"emax"`
-	Span      float64                    `json:"lowess_span"`
-	Delta     float64                    `json:"lowess_delta"`
-	FitPoints int                        `json:"lowess_fit_points"`
-	Band      string                     `json:"band_method"`
+	CITL    float64    `json:"citl"`
+	CITLSE  float64    `json:"citl_se"`
+	CITLCI  [2]float64 `json:"citl_ci"`
+	Slope   float64    `json:"slope"`
+	SlopeSE float64    `json:"slope_se"`
+	SlopeCI [2]float64 `json:"slope_ci"`
+	// SlopeIntercept is the intercept of the calibration-slope model.
+	SlopeIntercept float64                    `json:"slope_intercept"`
+	OE             float64                    `json:"oe"`
+	OECI           [2]float64                 `json:"oe_ci"`
+	Observed       float64                    `json:"observed_events"`
+	Expected       float64                    `json:"expected_events"`
+	HL             metrics.HosmerLemeshowTest `json:"hosmer_lemeshow"`
+	ICI            float64                    `json:"ici"`
+	E50            float64                    `json:"e50"`
+	E90            float64                    `json:"e90"`
+	Emax           float64                    `json:"emax"`
+	Span           float64                    `json:"lowess_span"`
+	Delta          float64                    `json:"lowess_delta"`
+	FitPoints      int                        `json:"lowess_fit_points"`
+	Band           string                     `json:"band_method"`
 }
 
 // Overall is the overall accuracy.
@@ -236,13 +238,13 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	// The calibration fits and the smooth are the slow parts: run them
 	// beside each other.
 	var wg sync.WaitGroup
-	var citl, slope metrics.Estimate
+	var citl, slope, slopeIcpt metrics.Estimate
 	var errCITL, errSlope error
 	wg.Add(1)
 	go func() {
 		defer wg.Done()
 		citl, errCITL = metrics.CalibrationInTheLarge(y, lp)
-		slope, _, errSlope = metrics.CalibrationSlope(y, lp)
+		slope, slopeIcpt, errSlope = metrics.CalibrationSlope(y, lp)
 	}()
 	flex := metrics.FlexibleCalibration(ys, ps, ident, metrics.LowessOptions{Span: opt.Span, Delta: delta, Workers: opt.Workers})
 	auc, _ := metrics.AUC(ys, ps, ident)
@@ -259,7 +261,7 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	cal := &perf.Calibration
 	*cal = Calibration{
 		CITL: citl.Value, CITLSE: citl.SE, CITLCI: citl.CI,
-		Slope: slope.Value, SlopeSE: slope.SE, SlopeCI: slope.CI,
+		Slope: slope.Value, SlopeSE: slope.SE, SlopeCI: slope.CI, SlopeIntercept: slopeIcpt.Value,
 		OE: oe, OECI: oeci, Observed: obs, Expected: exp,
 		HL:  metrics.HosmerLemeshowSorted(ys, ps, ident, opt.HLGroups, opt.Development),
 		ICI: flex.ICI, E50: flex.E50, E90: flex.E90, Emax: flex.Emax,

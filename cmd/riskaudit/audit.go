@@ -317,6 +317,9 @@ func runAudit(o *auditOptions, s *streams) error {
 	if a.Verdict, err = validate.Judge(perf, criteria); err != nil {
 		return usagef("%v", err)
 	}
+	if cur != nil {
+		a.SampleSize = sampleSizeOf(cur, perf, o.classifyAt)
+	}
 	if o.model != "" && o.devFile != "" && o.cohortFile != "" && dev != nil {
 		prog.step("comparing case-mix")
 		if a.CaseMix, err = caseMix(o, spec, devPerf, perf); err != nil {

@@ -1,0 +1,301 @@
+// Package samplesize computes the minimum sample size of an external
+// validation of a binary-outcome model, criterion by criterion, following
+// the approach of Riley et al. (2021, Statistics in Medicine
+// 40:4230–4251): for each measure, the smallest n whose anticipated
+// standard error gives the target 95% confidence interval width, given the
+// anticipated event proportion, calibration and distribution of the
+// linear predictor. The recommended size is the largest of them.
+package samplesize
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"sort"
+
+	"gonum.org/v1/gonum/stat/distuv"
+)
+
+const z = 1.959963984540054
+
+// Targets are the 95% confidence interval widths aimed at.
+type Targets struct {
+	// OEWidth is the width of the interval of O/E (default 0.2).
+	OEWidth float64
+	// SlopeWidth is the width of the interval of the calibration slope
+	// (default 0.2).
+	SlopeWidth float64
+	// CWidth is the width of the interval of the C-statistic (default
+	// 0.1).
+	CWidth float64
+	// NBWidth is the width of the interval of the standardised net
+	// benefit, NB/φ (default 0.2).
+	NBWidth float64
+}
+
+// DefaultTargets are the widths commonly aimed at (as proposed by Riley
+// et al. 2021; common practice).
+func DefaultTargets() Targets {
+	return Targets{OEWidth: 0.2, SlopeWidth: 0.2, CWidth: 0.1, NBWidth: 0.2}
+}
+
+// Anticipated describes the validation population.
+type Anticipated struct {
+	// LP is the distribution of the model's linear predictor, as a sample
+	// (from a cohort, or from Normal).
+	LP []float64
+	// CalIntercept and CalSlope give the true risks expit(a + b·LP); 0 and
+	// 1 for a calibrated model.
+	CalIntercept, CalSlope float64
+	// OE is the anticipated O/E (default 1).
+	OE float64
+	// C is the anticipated C-statistic; 0 takes the value the LP
+	// distribution and calibration imply.
+	C float64
+	// Threshold is the risk threshold of the net-benefit criterion (0:
+	// no such criterion).
+	Threshold float64
+}
+
+// Criterion is one measure's sample size.
+type Criterion struct {
+	Measure string  `json:"measure"`
+	Target  string  `json:"target"`
+	SE      float64 `json:"target_se"`
+	N       int     `json:"n"`
+	Events  int     `json:"events"`
+	// Formula names how the standard error is anticipated.
+	Formula string `json:"formula"`
+}
+
+// Result is the sample size needed.
+type Result struct {
+	EventRate float64     `json:"event_rate"`
+	C         float64     `json:"c_statistic"`
+	Criteria  []Criterion `json:"criteria"`
+	// N and Events are the largest requirement, and Driver names it.
+	N      int    `json:"n"`
+	Events int    `json:"events"`
+	Driver string `json:"driven_by"`
+}
+
+// Normal returns k points spread over a normal distribution (its
+// quantiles at (i − ½)/k), a deterministic sample for the formulas.
+func Normal(mean, sd float64, k int) []float64 {
+	out := make([]float64, k)
+	for i := range out {
+		out[i] = mean + sd*distuv.UnitNormal.Quantile((float64(i)+0.5)/float64(k))
+	}
+	return out
+}
+
+func expit(x float64) float64 {
+	if x >= 0 {
+		return 1 / (1 + math.Exp(-x))
+	}
+	e := math.Exp(x)
+	return e / (1 + e)
+}
+
+// Compute returns the sample size each criterion needs.
+func Compute(a Anticipated, t Targets) (*Result, error) {
+	if len(a.LP) < 10 {
+		return nil, errors.New("samplesize: the linear predictor's distribution needs at least 10 values")
+	}
+	if a.CalSlope == 0 {
+		a.CalSlope = 1
+	}
+	if a.OE <= 0 {
+		a.OE = 1
+	}
+	def := DefaultTargets()
+	if t.OEWidth <= 0 {
+		t.OEWidth = def.OEWidth
+	}
+	if t.SlopeWidth <= 0 {
+		t.SlopeWidth = def.SlopeWidth
+	}
+	if t.CWidth <= 0 {
+		t.CWidth = def.CWidth
+	}
+	if t.NBWidth <= 0 {
+		t.NBWidth = def.NBWidth
+	}
+	p := make([]float64, len(a.LP))
+	phi := 0.0
+	for i, v := range a.LP {
+		p[i] = expit(a.CalIntercept + a.CalSlope*v)
+		phi += p[i]
+	}
+	phi /= float64(len(p))
+	c := a.C
+	if c <= 0 {
+		c = impliedC(a.LP, p)
+	}
+	r := &Result{EventRate: phi, C: c}
+	add := func(cr Criterion) {
+		cr.Events = int(math.Ceil(float64(cr.N) * phi))
+		r.Criteria = append(r.Criteria, cr)
+		if cr.N > r.N {
+			r.N, r.Events, r.Driver = cr.N, cr.Events, cr.Measure
+		}
+	}
+	// O/E: var(ln O/E) ≈ (1 − φ)/(nφ) (the delta method for a binomial
+	// count with E fixed); the interval exp(ln OE ± z·SE) has width
+	// 2·OE·sinh(z·SE).
+	se := math.Asinh(t.OEWidth/(2*a.OE)) / z
+	add(Criterion{Measure: "O/E", Target: fmt.Sprintf("95%% CI width %g", t.OEWidth), SE: se,
+		N: ceil((1 - phi) / (phi * se * se)), Formula: "var(ln O/E) = (1 − φ)/(nφ)"})
+	// Calibration slope: the inverse Fisher information of (a, b) in
+	// logit P(y) = a + b·LP, averaged over the LP distribution:
+	// var(b̂) = I_aa / (n (I_aa I_bb − I_ab²)).
+	var iaa, iab, ibb float64
+	for i, v := range a.LP {
+		w := p[i] * (1 - p[i])
+		iaa += w
+		iab += w * v
+		ibb += w * v * v
+	}
+	k := float64(len(p))
+	iaa, iab, ibb = iaa/k, iab/k, ibb/k
+	se = t.SlopeWidth / (2 * z)
+	add(Criterion{Measure: "calibration slope", Target: fmt.Sprintf("95%% CI width %g", t.SlopeWidth), SE: se,
+		N: ceil(iaa / (se * se * (iaa*ibb - iab*iab))), Formula: "inverse Fisher information of the calibration model over the LP distribution"})
+	// C-statistic: the variance of Newcombe (2006, Statistics in Medicine
+	// 25:543–557) as used by Riley et al. (2021; the formula recalled from
+	// memory), var(C) = C(1 − C)[1 + (n/2 − 1)(1 − C)/(2 − C)
+	// + (n/2 − 1)C/(1 + C)] / (n² φ(1 − φ)), solved for n by bisection.
+	se = t.CWidth / (2 * z)
+	add(Criterion{Measure: "C-statistic", Target: fmt.Sprintf("95%% CI width %g", t.CWidth), SE: se,
+		N: solve(func(n float64) float64 { return math.Sqrt(newcombeVar(c, phi, n)) }, se), Formula: "Newcombe (2006) variance"})
+	if a.Threshold > 0 && a.Threshold < 1 {
+		// Standardised net benefit sNB = (π₁ − wπ₂)/(π₁ + π₃), w = t/(1 − t),
+		// with π₁, π₂, π₃ the shares of true positives, false positives
+		// and false negatives (multinomial): its delta-method variance is
+		// [Σ gᵢ²πᵢ − (Σ gᵢπᵢ)²]/n with the gradient g = ((π₃ + wπ₂)/φ²,
+		// −w/φ, −(π₁ − wπ₂)/φ²), φ = π₁ + π₃.
+		w := a.Threshold / (1 - a.Threshold)
+		var tp, fp, fn float64
+		for i, v := range a.LP {
+			if expit(v) >= a.Threshold {
+				tp += p[i]
+				fp += 1 - p[i]
+			} else {
+				fn += p[i]
+			}
+		}
+		p1, p2, p3 := tp/k, fp/k, fn/k
+		f := p1 + p3
+		g1, g2, g3 := (p3+w*p2)/(f*f), -w/f, -(p1-w*p2)/(f*f)
+		m := g1*p1 + g2*p2 + g3*p3
+		v1 := g1*g1*p1 + g2*g2*p2 + g3*g3*p3 - m*m
+		se = t.NBWidth / (2 * z)
+		add(Criterion{Measure: fmt.Sprintf("standardised net benefit at %g", a.Threshold), Target: fmt.Sprintf("95%% CI width %g", t.NBWidth), SE: se,
+			N: ceil(v1 / (se * se)), Formula: "delta-method variance of NB/φ over the multinomial cells"})
+	}
+	return r, nil
+}
+
+func ceil(x float64) int { return int(math.Ceil(x)) }
+
+func newcombeVar(c, phi, n float64) float64 {
+	h := n/2 - 1
+	return c * (1 - c) * (1 + h*(1-c)/(2-c) + h*c/(1+c)) / (n * n * phi * (1 - phi))
+}
+
+// solve finds the smallest whole n with se(n) ≤ target, se decreasing.
+func solve(se func(float64) float64, target float64) int {
+	lo, hi := 4.0, 8.0
+	for se(hi) > target {
+		lo, hi = hi, hi*2
+		if hi > 1e12 {
+			return -1
+		}
+	}
+	for hi-lo > 0.5 {
+		mid := (lo + hi) / 2
+		if se(mid) > target {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	return ceil(hi)
+}
+
+// impliedC is the C-statistic of risks p over the LP sample: the
+// probability that an event's LP exceeds a non-event's, with each point
+// an event with probability p (ties ½).
+func impliedC(lp, p []float64) float64 {
+	idx := make([]int, len(lp))
+	for i := range idx {
+		idx[i] = i
+	}
+	sort.Slice(idx, func(a, b int) bool { return lp[idx[a]] < lp[idx[b]] })
+	var below0, total, e1, e0 float64
+	for s := 0; s < len(idx); {
+		e := s
+		var w1, w0 float64
+		for e < len(idx) && lp[idx[e]] == lp[idx[s]] {
+			w1 += p[idx[e]]
+			w0 += 1 - p[idx[e]]
+			e++
+		}
+		total += w1 * (below0 + w0/2)
+		below0 += w0
+		e1 += w1
+		e0 += w0
+		s = e
+	}
+	return total / (e1 * e0)
+}
+
+// NormalFor finds the normal distribution of the linear predictor of a
+// calibrated model with event proportion phi and C-statistic c: the
+// spread σ gives the C-statistic and the mean μ the event proportion,
+// each found by bisection over the deterministic sample of Normal.
+func NormalFor(phi, c float64) (mu, sd float64, err error) {
+	if !(phi > 0 && phi < 1) || !(c > 0.5 && c < 1) {
+		return 0, 0, errors.New("samplesize: give an event proportion in (0, 1) and a C-statistic in (0.5, 1)")
+	}
+	const k = 4000
+	meanFor := func(sd float64) float64 {
+		lo, hi := -30.0, 30.0
+		for it := 0; it < 80; it++ {
+			mid := (lo + hi) / 2
+			s := 0.0
+			for _, v := range Normal(mid, sd, k) {
+				s += expit(v)
+			}
+			if s/k < phi {
+				lo = mid
+			} else {
+				hi = mid
+			}
+		}
+		return (lo + hi) / 2
+	}
+	cFor := func(sd float64) float64 {
+		m := meanFor(sd)
+		lp := Normal(m, sd, k)
+		p := make([]float64, k)
+		for i, v := range lp {
+			p[i] = expit(v)
+		}
+		return impliedC(lp, p)
+	}
+	lo, hi := 1e-3, 10.0
+	if cFor(hi) < c {
+		return 0, 0, fmt.Errorf("samplesize: a C-statistic of %g is out of reach", c)
+	}
+	for it := 0; it < 50; it++ {
+		mid := (lo + hi) / 2
+		if cFor(mid) < c {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	sd = (lo + hi) / 2
+	return meanFor(sd), sd, nil
+}
