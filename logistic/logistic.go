@@ -521,14 +521,35 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool) {
 		}
 		nb = 0
 	}
-	var acc devSum
+	acc := newDevSum()
 	for i := lo; i < hi; i++ {
-		wt, x, eta, ok := e.rowAt(i, beta)
-		if !ok {
-			continue
+		// The row and its deviance term, written out here (not called) to
+		// keep this innermost loop free of calls.
+		wt := 1.0
+		if d.Weights != nil {
+			if wt = d.Weights[i]; wt == 0 {
+				continue
+			}
+		}
+		x := d.X[i*p : (i+1)*p]
+		eta := 0.0
+		if d.Offset != nil {
+			eta = d.Offset[i]
+		}
+		for j, b := range beta {
+			eta += x[j] * b
 		}
 		y := d.Y[i]
-		z := acc.add(wt, eta, y)
+		z := math.Exp(-math.Abs(eta))
+		if wt == 1 {
+			acc.lin += math.Max(eta, 0) - y*eta
+			acc.prod *= 1 + z
+			if acc.n++; acc.n >= 256 {
+				acc.flush()
+			}
+		} else {
+			acc.addWeighted(wt, eta, y, z)
+		}
 		if !derivs {
 			continue
 		}
@@ -557,14 +578,35 @@ func (e *evaluator) passSmall(beta []float64, lo, hi int, c *chunk) {
 	p := d.P
 	var info [9]float64
 	var score [3]float64
-	var acc devSum
+	acc := newDevSum()
 	for i := lo; i < hi; i++ {
-		wt, x, eta, ok := e.rowAt(i, beta)
-		if !ok {
-			continue
+		// The row and its deviance term, written out here (not called) to
+		// keep this innermost loop free of calls.
+		wt := 1.0
+		if d.Weights != nil {
+			if wt = d.Weights[i]; wt == 0 {
+				continue
+			}
+		}
+		x := d.X[i*p : (i+1)*p]
+		eta := 0.0
+		if d.Offset != nil {
+			eta = d.Offset[i]
+		}
+		for j, b := range beta {
+			eta += x[j] * b
 		}
 		y := d.Y[i]
-		z := acc.add(wt, eta, y)
+		z := math.Exp(-math.Abs(eta))
+		if wt == 1 {
+			acc.lin += math.Max(eta, 0) - y*eta
+			acc.prod *= 1 + z
+			if acc.n++; acc.n >= 256 {
+				acc.flush()
+			}
+		} else {
+			acc.addWeighted(wt, eta, y, z)
+		}
 		mu := expitFrom(z, eta)
 		v := wt * mu * (1 - mu)
 		r := wt * (y - mu)
@@ -585,28 +627,6 @@ func (e *evaluator) passSmall(beta []float64, lo, hi int, c *chunk) {
 	c.dev = acc.total()
 }
 
-// rowAt returns row i's weight, values and linear predictor at beta, and
-// false for a row of weight zero.
-func (e *evaluator) rowAt(i int, beta []float64) (float64, []float64, float64, bool) {
-	d := e.d
-	wt := 1.0
-	if d.Weights != nil {
-		wt = d.Weights[i]
-		if wt == 0 {
-			return 0, nil, 0, false
-		}
-	}
-	x := d.X[i*d.P : (i+1)*d.P]
-	eta := 0.0
-	if d.Offset != nil {
-		eta = d.Offset[i]
-	}
-	for j, b := range beta {
-		eta += x[j] * b
-	}
-	return wt, x, eta, true
-}
-
 // devSum accumulates −log-likelihood terms softplus(η) − yη. The sum of
 // log(1 + z), z = e^−|η|, is taken as the log of a running product, one
 // logarithm per 256 factors: each factor lies in (1, 2], so the product
@@ -617,25 +637,26 @@ type devSum struct {
 	n         int
 }
 
-// add adds a row and returns z = e^−|η|, shared with μ.
-func (a *devSum) add(wt, eta, y float64) float64 {
-	if a.prod == 0 {
-		a.prod = 1
-	}
-	z := math.Exp(-math.Abs(eta))
+func newDevSum() devSum { return devSum{prod: 1} }
+
+// addWeighted adds a row of weight wt (with z = e^−|η|).
+func (a *devSum) addWeighted(wt, eta, y, z float64) {
 	a.lin += wt * (math.Max(eta, 0) - y*eta)
 	if k := int(wt); float64(k) == wt && k <= 8 {
 		for ; k > 0; k-- {
 			a.prod *= 1 + z
 			if a.n++; a.n >= 256 {
-				a.lin += math.Log(a.prod)
-				a.prod, a.n = 1, 0
+				a.flush()
 			}
 		}
-	} else {
-		a.lin += wt * log1pUnit(z)
+		return
 	}
-	return z
+	a.lin += wt * log1pUnit(z)
+}
+
+func (a *devSum) flush() {
+	a.lin += math.Log(a.prod)
+	a.prod, a.n = 1, 0
 }
 
 // expitFrom is expit(η) from z = e^−|η|.
@@ -647,12 +668,7 @@ func expitFrom(z, eta float64) float64 {
 }
 
 // total is the deviance, 2 × the accumulated sum.
-func (a *devSum) total() float64 {
-	if a.prod == 0 {
-		return 2 * a.lin
-	}
-	return 2 * (a.lin + math.Log(a.prod))
-}
+func (a *devSum) total() float64 { return 2 * (a.lin + math.Log(a.prod)) }
 
 // firthPass adds Firth's adjustment Σ w·h·(½ − μ)·x to the score, where
 // h = μ(1 − μ)·x' I⁻¹ x is the hat value of the row.
