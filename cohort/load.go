@@ -57,8 +57,9 @@ type Options struct {
 	// asked for (extracts rename columns between releases). A name not in
 	// the file is left alone.
 	Rename map[string]string
-	// Format is "csv" (delimited text), "parquet", or "" to choose by the
-	// file's first bytes (Parquet files start with PAR1).
+	// Format is "csv" (delimited text), "parquet", "arrow" (the Arrow IPC
+	// file format), or "" to choose by the file's first bytes (PAR1 for
+	// Parquet, ARROW1 for Arrow).
 	Format string
 }
 
@@ -148,12 +149,18 @@ func Load(path string, reqs []Request, opt Options) (*Frame, error) {
 	switch opt.Format {
 	case "parquet":
 		return LoadParquet(path, reqs, opt)
+	case "arrow":
+		return LoadArrow(path, reqs, opt)
 	case "", "auto":
-		if isParquet(path) {
-			if opt.KeepRecords {
-				return nil, &Error{File: path, Msg: "a Parquet file has no text rows to copy; give a CSV or TSV file"}
-			}
+		pq, ar := isParquet(path), isArrow(path)
+		if (pq || ar) && opt.KeepRecords {
+			return nil, &Error{File: path, Msg: "a columnar file has no text rows to copy; give a CSV or TSV file"}
+		}
+		if pq {
 			return LoadParquet(path, reqs, opt)
+		}
+		if ar {
+			return LoadArrow(path, reqs, opt)
 		}
 	case "csv":
 	default:

@@ -13,6 +13,7 @@ import (
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
+	"github.com/apache/arrow-go/v18/arrow/ipc"
 	"github.com/apache/arrow-go/v18/arrow/memory"
 	"github.com/apache/arrow-go/v18/parquet/file"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
@@ -56,14 +57,62 @@ func LoadParquet(path string, reqs []Request, opt Options) (*Frame, error) {
 	if err != nil {
 		return nil, &Error{File: path, Msg: "cannot read the Parquet schema: " + err.Error()}
 	}
+	return fromBatches(path, schema, reqs, opt, int(pf.NumRows()), func(idx []int, each func(arrow.Record) error) error {
+		rr, err := fr.GetRecordReader(context.Background(), idx, nil)
+		if err != nil {
+			return err
+		}
+		defer rr.Release()
+		for rr.Next() {
+			if err := each(rr.Record()); err != nil {
+				return err
+			}
+		}
+		if err := rr.Err(); err != nil && !errors.Is(err, io.EOF) {
+			return err
+		}
+		return nil
+	}, true)
+}
+
+// LoadArrow reads the requested columns of an Arrow IPC file (the Arrow
+// file format, also written as Feather version 2), batch by batch, with
+// the rules of LoadParquet.
+func LoadArrow(path string, reqs []Request, opt Options) (*Frame, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, &Error{File: path, Msg: "cannot read file: " + err.Error()}
+	}
+	defer f.Close()
+	r, err := ipc.NewFileReader(f)
+	if err != nil {
+		return nil, &Error{File: path, Msg: "cannot read the Arrow file: " + err.Error()}
+	}
+	defer r.Close()
+	return fromBatches(path, r.Schema(), reqs, opt, 0, func(idx []int, each func(arrow.Record) error) error {
+		for i := 0; i < r.NumRecords(); i++ {
+			rec, err := r.Record(i)
+			if err != nil {
+				return err
+			}
+			if err := each(rec); err != nil {
+				return err
+			}
+		}
+		return nil
+	}, false)
+}
+
+// fromBatches builds a frame from record batches. read hands every batch
+// to its callback; when projected is true the batches hold only the
+// columns idx, in that order, otherwise every column of the schema.
+func fromBatches(path string, schema *arrow.Schema, reqs []Request, opt Options, hint int,
+	read func(idx []int, each func(arrow.Record) error) error, projected bool) (*Frame, error) {
 	header := make([]string, schema.NumFields())
 	for i, f := range schema.Fields() {
 		header[i] = f.Name
 		if to, ok := opt.Rename[f.Name]; ok {
 			header[i] = to
-		}
-		if _, nested := f.Type.(arrow.NestedType); nested {
-			header[i] = f.Name // reported only if requested
 		}
 	}
 	if err := checkHeader(path, 0, header); err != nil {
@@ -77,7 +126,7 @@ func LoadParquet(path string, reqs []Request, opt Options) (*Frame, error) {
 	for i, k := range plan {
 		if k >= 0 {
 			if _, nested := schema.Field(i).Type.(arrow.NestedType); nested {
-				return nil, &Error{File: path, Column: header[i], Msg: "a nested Parquet column; give a flat column"}
+				return nil, &Error{File: path, Column: header[i], Msg: "a nested column; give a flat column"}
 			}
 			idx = append(idx, i)
 		}
@@ -90,11 +139,6 @@ func LoadParquet(path string, reqs []Request, opt Options) (*Frame, error) {
 	if opt.DecimalComma {
 		dec = ','
 	}
-	n := int(pf.NumRows())
-	out := &Frame{File: path, Header: header, Rows: n, RowNumbered: true, lines: make([]int32, n)}
-	for i := range out.lines {
-		out.lines[i] = int32(i + 1)
-	}
 	cols := make([]*Column, len(reqs))
 	for k, r := range reqs {
 		c := &Column{Name: r.Name, Kind: r.Kind, Index: -1}
@@ -104,59 +148,79 @@ func LoadParquet(path string, reqs []Request, opt Options) (*Frame, error) {
 			}
 		}
 		if r.Kind == Numeric {
-			c.Num = make([]float64, 0, n)
+			c.Num = make([]float64, 0, hint)
 		} else {
-			c.Codes = make([]int32, 0, n)
+			c.Codes = make([]int32, 0, hint)
 		}
 		cols[k] = c
 	}
-	rr, err := fr.GetRecordReader(context.Background(), idx, nil)
-	if err != nil {
-		return nil, &Error{File: path, Msg: "cannot read the Parquet data: " + err.Error()}
-	}
-	defer rr.Release()
 	levels := make([]map[string]int32, len(reqs))
 	for k := range levels {
 		levels[k] = map[string]int32{}
 	}
 	row := 0
-	for rr.Next() {
-		rec := rr.Record()
+	err = read(idx, func(rec arrow.Record) error {
 		for j, i := range idx {
 			k := plan[i]
-			c := cols[k]
-			arr := rec.Column(j)
+			if cols[k].Index != i {
+				continue
+			}
+			col := j
+			if !projected {
+				col = i
+			}
+			arr := rec.Column(col)
 			var err error
-			if c.Kind == Numeric {
-				err = appendNumbers(c, arr, row, path, missing, dec, reqs[k].NaNIsError)
+			if cols[k].Kind == Numeric {
+				err = appendNumbers(cols[k], arr, row, path, missing, dec, reqs[k].NaNIsError)
 			} else {
-				err = appendLevels(c, arr, row, levels[k], missing)
+				err = appendLevels(cols[k], arr, row, levels[k], missing)
 			}
 			if err != nil {
-				return nil, err
+				return err
 			}
 		}
 		row += int(rec.NumRows())
-	}
-	if err := rr.Err(); err != nil && !errors.Is(err, io.EOF) {
-		return nil, &Error{File: path, Msg: "reading the Parquet data: " + err.Error()}
+		return nil
+	})
+	if err != nil {
+		var ce *Error
+		if errors.As(err, &ce) {
+			return nil, err
+		}
+		return nil, &Error{File: path, Msg: "reading the data: " + err.Error()}
 	}
 	if row == 0 {
 		return nil, &Error{File: path, Msg: "the file has no rows"}
 	}
-	out.Rows = row
-	out.lines = out.lines[:row]
+	out := &Frame{File: path, Header: header, Rows: row, RowNumbered: true, lines: make([]int32, row)}
+	for i := range out.lines {
+		out.lines[i] = int32(i + 1)
+	}
 	for k, c := range cols {
-		k0 := plan[c.Index]
-		if k0 != k {
+		if k0 := plan[c.Index]; k0 != k {
 			src := cols[k0]
 			*c = *src
 			c.Name = reqs[k].Name
 		}
 	}
 	out.Columns = cols
-	out.Delimiter = 0
 	return out, nil
+}
+
+// isArrow reports whether the file at path starts with the Arrow IPC
+// file magic.
+func isArrow(path string) bool {
+	f, err := os.Open(path)
+	if err != nil {
+		return false
+	}
+	defer f.Close()
+	var b [6]byte
+	if _, err := io.ReadFull(f, b[:]); err != nil {
+		return false
+	}
+	return bytes.Equal(b[:], []byte("ARROW1"))
 }
 
 func rowError(path string, row int, col, value, msg string) *Error {

@@ -9,6 +9,7 @@ import (
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
+	"github.com/apache/arrow-go/v18/arrow/ipc"
 	"github.com/apache/arrow-go/v18/arrow/memory"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 )
@@ -113,5 +114,61 @@ func TestParquetMatchesCSV(t *testing.T) {
 	}
 	if _, err := Load(pq, reqs, Options{Format: "csv"}); err == nil {
 		t.Error("forcing csv on a Parquet file should fail")
+	}
+}
+
+// TestArrowIPCMatchesParquet writes the same table as an Arrow IPC file
+// and as Parquet and reads both.
+func TestArrowIPCMatchesParquet(t *testing.T) {
+	dir := t.TempDir()
+	x := []float64{0.5, 1.25, -3, 8}
+	valid := []bool{true, true, false, true}
+	n := []int64{1, 2, 3, 4}
+	g := []string{"b", "a", "<null>", "c"}
+	pq := filepath.Join(dir, "d.parquet")
+	writeParquet(t, pq, x, valid, n, g, []string{"1", "2", "3", "4"})
+	mem := memory.DefaultAllocator
+	schema := arrow.NewSchema([]arrow.Field{
+		{Name: "x", Type: arrow.PrimitiveTypes.Float64, Nullable: true},
+		{Name: "n", Type: arrow.PrimitiveTypes.Int64},
+		{Name: "g", Type: arrow.BinaryTypes.String, Nullable: true},
+	}, nil)
+	b := array.NewRecordBuilder(mem, schema)
+	b.Field(0).(*array.Float64Builder).AppendValues(x, valid)
+	b.Field(1).(*array.Int64Builder).AppendValues(n, nil)
+	b.Field(2).(*array.StringBuilder).AppendValues(g, []bool{true, true, false, true})
+	rec := b.NewRecord()
+	ap := filepath.Join(dir, "d.arrow")
+	f, err := os.Create(ap)
+	if err != nil {
+		t.Fatal(err)
+	}
+	w, err := ipc.NewFileWriter(f, ipc.WithSchema(schema))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := w.Write(rec); err != nil {
+		t.Fatal(err)
+	}
+	w.Close()
+	f.Close()
+	reqs := []Request{{Name: "g", Kind: Categorical}, {Name: "x", Kind: Numeric}, {Name: "n", Kind: Numeric}}
+	a, err := Load(ap, reqs, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := Load(pq, reqs, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := 0; i < 4; i++ {
+		ax, px := a.Column("x").Num[i], p.Column("x").Num[i]
+		if !(ax == px || math.IsNaN(ax) && math.IsNaN(px)) || a.Column("n").Num[i] != p.Column("n").Num[i] ||
+			a.Column("g").Codes[i] < 0 != (p.Column("g").Codes[i] < 0) {
+			t.Fatalf("row %d differs", i)
+		}
+	}
+	if a.Column("x").Missing != 1 || a.Column("g").Missing != 1 {
+		t.Errorf("missing counts %d %d", a.Column("x").Missing, a.Column("g").Missing)
 	}
 }

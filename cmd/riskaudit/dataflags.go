@@ -28,7 +28,7 @@ func (f *dataFlags) register(fs *pflag.FlagSet) {
 	fs.BoolVar(&f.decimalComma, "decimal-comma", false, "read numbers written with a decimal comma, such as 27,5")
 	fs.StringVar(&f.missing, "missing", "complete-case", "missing-value policy: complete-case (leave out rows missing a model column) or fail")
 	fs.StringSliceVar(&f.naValues, "na-values", nil, "field values that mean missing, comma-separated (default: empty, NA, ., NaN)")
-	fs.StringVar(&f.format, "format", "auto", "cohort file format: csv (delimited text), parquet, or auto (Parquet files are recognised by their first bytes)")
+	fs.StringVar(&f.format, "format", "auto", "cohort file format: csv (delimited text), parquet, arrow (Arrow IPC file), or auto (columnar files are recognised by their first bytes)")
 }
 
 func (f *dataFlags) cohortOptions() (cohort.Options, error) {
@@ -50,10 +50,10 @@ func (f *dataFlags) cohortOptions() (cohort.Options, error) {
 	o.DecimalComma = f.decimalComma
 	switch f.format {
 	case "auto", "":
-	case "csv", "parquet":
+	case "csv", "parquet", "arrow":
 		o.Format = f.format
 	default:
-		return o, usagef("--format %q: give csv, parquet or auto", f.format)
+		return o, usagef("--format %q: give csv, parquet, arrow or auto", f.format)
 	}
 	if o.DecimalComma && o.Delimiter == ',' {
 		return o, usagef("--decimal-comma needs a delimiter other than a comma")
