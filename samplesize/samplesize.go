@@ -175,9 +175,10 @@ func Compute(a Anticipated, t Targets) (*Result, error) {
 		// [Σ gᵢ²πᵢ − (Σ gᵢπᵢ)²]/n with the gradient g = ((π₃ + wπ₂)/φ²,
 		// −w/φ, −(π₁ − wπ₂)/φ²), φ = π₁ + π₃.
 		w := a.Threshold / (1 - a.Threshold)
+		cut := math.Log(w) // expit(v) ≥ t exactly when v ≥ logit(t)
 		var tp, fp, fn float64
 		for i, v := range a.LP {
-			if expit(v) >= a.Threshold {
+			if v >= cut {
 				tp += p[i]
 				fp += 1 - p[i]
 			} else {
