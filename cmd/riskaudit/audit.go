@@ -516,8 +516,19 @@ func score(spec *model.Spec, o *auditOptions, path string) (*scored, error) {
 		}
 		reqs = append(reqs, cohort.Request{Name: g, Kind: cohort.Categorical})
 	}
+	// Hash the file while it is parsed (both read it from the page cache).
+	type hashed struct {
+		sum string
+		err error
+	}
+	hc := make(chan hashed, 1)
+	go func() {
+		h, err := fileSHA256(path)
+		hc <- hashed{h, err}
+	}()
 	fr, err := cohort.Load(path, reqs, copt)
 	if err != nil {
+		<-hc
 		return nil, err
 	}
 	d, m, err := model.Build(spec, fr, model.Options{Outcome: true, FailOnMissing: fail, Also: also, NoMatrix: true})
@@ -565,9 +576,11 @@ func score(spec *model.Spec, o *auditOptions, path string) (*scored, error) {
 			sc.p[i] = model.Risk(lp)
 		}
 	}
-	if sc.hash, err = fileSHA256(path); err != nil {
-		return nil, err
+	h := <-hc
+	if h.err != nil {
+		return nil, h.err
 	}
+	sc.hash = h.sum
 	if pv := spec.Provenance; pv != nil && pv.DataSHA256 == sc.hash {
 		sc.isDevFit = true
 	}
