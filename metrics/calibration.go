@@ -48,10 +48,6 @@ func ClampedLogits(p []float64, eps float64) ([]float64, int) {
 // of Clinical Epidemiology 74:167–176). lp holds logit(p).
 func CalibrationInTheLarge(y, lp []float64) (Estimate, error) {
 	n := len(y)
-	x := make([]float64, n)
-	for i := range x {
-		x[i] = 1
-	}
 	// Start from the difference of the mean outcome and the mean risk on
 	// the logit scale, close to the estimate when risks are not extreme.
 	ybar, pbar := sum(y)/float64(n), 0.0
@@ -59,11 +55,19 @@ func CalibrationInTheLarge(y, lp []float64) (Estimate, error) {
 		pbar += expit(v)
 	}
 	pbar /= float64(n)
-	start := []float64{0}
+	start := 0.0
 	if ybar > 0 && ybar < 1 {
-		start[0] = math.Log(ybar/(1-ybar)) - math.Log(pbar/(1-pbar))
+		start = math.Log(ybar/(1-ybar)) - math.Log(pbar/(1-pbar))
 	}
-	res, err := logistic.Fit(logistic.Data{X: x, N: n, P: 1, Y: y, Offset: lp}, logistic.Options{Start: start})
+	a, info, err := interceptNewton(y, lp, nil, start)
+	if err == nil {
+		return wald(a, 1/math.Sqrt(info)), nil
+	}
+	x := make([]float64, n)
+	for i := range x {
+		x[i] = 1
+	}
+	res, err := logistic.Fit(logistic.Data{X: x, N: n, P: 1, Y: y, Offset: lp}, logistic.Options{Start: []float64{start}})
 	if err != nil {
 		return Estimate{}, fmt.Errorf("calibration-in-the-large: %w", err)
 	}
@@ -76,6 +80,9 @@ func CalibrationInTheLarge(y, lp []float64) (Estimate, error) {
 // when too moderate (Cox 1958; Van Calster et al. 2016). It returns the
 // slope and the intercept of that model. lp holds logit(p).
 func CalibrationSlope(y, lp []float64) (slope, intercept Estimate, err error) {
+	if a, b, cov, ok := slopeNewton(y, lp, nil); ok {
+		return wald(b, math.Sqrt(cov[2])), wald(a, math.Sqrt(cov[0])), nil
+	}
 	n := len(y)
 	x := make([]float64, 2*n)
 	for i, v := range lp {
@@ -142,11 +149,11 @@ func CalibrationWeighted(y, lp, w []float64) (citl, slope float64, err error) {
 	if ybar, pbar := sy/sw, sp/sw; ybar > 0 && ybar < 1 && pbar > 0 && pbar < 1 {
 		start = math.Log(ybar/(1-ybar)) - math.Log(pbar/(1-pbar))
 	}
-	citl, err = interceptWithOffset(y, lp, w, start)
+	citl, _, err = interceptNewton(y, lp, w, start)
 	if err != nil {
 		return 0, 0, fmt.Errorf("calibration-in-the-large: %w", err)
 	}
-	if b, ok := slopeNewton(y, lp, w); ok {
+	if _, b, _, ok := slopeNewton(y, lp, w); ok {
 		return citl, b, nil
 	}
 	// Newton's method without step halving did not settle: take the
@@ -165,32 +172,39 @@ func CalibrationWeighted(y, lp, w []float64) (citl, slope float64, err error) {
 
 // slopeNewton fits logit P(y) = a + b·lp by plain Newton steps from
 // (0, 1), with no log-likelihood evaluations: one exponential per row per
-// step. It reports false when the steps do not settle within 50
-// iterations or the information matrix degenerates.
-func slopeNewton(y, lp, w []float64) (float64, bool) {
-	a, b := 0.0, 1.0
+// step, the rows split between two goroutines when there are many. It
+// returns a, b and the inverse information (var a, cov, var b) at the
+// last step, whose size (below 1e-10) leaves it exact to that order; it
+// reports false when the steps do not settle within 50 iterations or the
+// information degenerates.
+func slopeNewton(y, lp, w []float64) (a, b float64, cov [3]float64, ok bool) {
+	a, b = 0.0, 1.0
 	for it := 0; it < 50; it++ {
-		var s0, s1, i00, i01, i11 float64
-		for i, v := range lp {
-			wi := 1.0
-			if w != nil {
-				wi = w[i]
-				if wi == 0 {
-					continue
+		s := rowSums(len(lp), func(lo, hi int) [5]float64 {
+			var t [5]float64
+			for i := lo; i < hi; i++ {
+				wi := 1.0
+				if w != nil {
+					if wi = w[i]; wi == 0 {
+						continue
+					}
 				}
+				v := lp[i]
+				mu := expit(a + b*v)
+				r := wi * (y[i] - mu)
+				q := wi * mu * (1 - mu)
+				t[0] += r
+				t[1] += r * v
+				t[2] += q
+				t[3] += q * v
+				t[4] += q * v * v
 			}
-			mu := expit(a + b*v)
-			r := wi * (y[i] - mu)
-			q := wi * mu * (1 - mu)
-			s0 += r
-			s1 += r * v
-			i00 += q
-			i01 += q * v
-			i11 += q * v * v
-		}
+			return t
+		})
+		s0, s1, i00, i01, i11 := s[0], s[1], s[2], s[3], s[4]
 		det := i00*i11 - i01*i01
 		if !(det > 1e-300) {
-			return 0, false
+			return 0, 0, cov, false
 		}
 		da := (i11*s0 - i01*s1) / det
 		db := (i00*s1 - i01*s0) / det
@@ -199,50 +213,79 @@ func slopeNewton(y, lp, w []float64) (float64, bool) {
 		}
 		a, b = a+da, b+db
 		if math.Abs(da) < 1e-10 && math.Abs(db) < 1e-10 {
-			return b, true
+			return a, b, [3]float64{i11 / det, -i01 / det, i00 / det}, true
 		}
 	}
-	return 0, false
+	return 0, 0, cov, false
 }
 
-// interceptWithOffset solves the one score equation Σ w(y − expit(a + lp))
-// = 0 of the intercept-only model with offset lp by Newton's method. With
-// E = exp(lp) computed once, each step needs no exponential per row:
+// rowSums adds the sums f gives over [0, n), in two halves on two
+// goroutines when n is large. The halves are added in order, so the
+// result does not depend on scheduling.
+func rowSums(n int, f func(lo, hi int) [5]float64) [5]float64 {
+	if n < 50000 {
+		return f(0, n)
+	}
+	var second [5]float64
+	done := make(chan struct{})
+	go func() {
+		second = f(n/2, n)
+		close(done)
+	}()
+	first := f(0, n/2)
+	<-done
+	for k := range first {
+		first[k] += second[k]
+	}
+	return first
+}
+
+// interceptNewton solves the one score equation Σ w(y − expit(a + lp)) =
+// 0 of the intercept-only model with offset lp by Newton's method, and
+// returns a with the information Σ w·μ(1 − μ) at it. With E = exp(lp)
+// computed once, each step needs no exponential per row:
 // expit(a + lp) = E·eᵃ/(1 + E·eᵃ). The log-likelihood is strictly concave
 // in a, so the steps are only bounded (to ±5 on the logit scale), not
 // halved.
-func interceptWithOffset(y, lp, w []float64, a float64) (float64, error) {
+func interceptNewton(y, lp, w []float64, a float64) (float64, float64, error) {
 	e := make([]float64, len(lp))
 	for i, v := range lp {
 		e[i] = math.Exp(math.Max(-700, math.Min(700, v)))
 	}
-	for it := 0; it < 100; it++ {
+	sums := func(a float64) (score, info float64) {
 		ea := math.Exp(a)
-		score, info := 0.0, 0.0
-		for i, ei := range e {
-			wi := 1.0
-			if w != nil {
-				wi = w[i]
-				if wi == 0 {
-					continue
+		s := rowSums(len(e), func(lo, hi int) [5]float64 {
+			var t [5]float64
+			for i := lo; i < hi; i++ {
+				wi := 1.0
+				if w != nil {
+					if wi = w[i]; wi == 0 {
+						continue
+					}
 				}
+				q := e[i] * ea
+				mu := q / (1 + q)
+				if math.IsInf(q, 1) {
+					mu = 1
+				}
+				t[0] += wi * (y[i] - mu)
+				t[1] += wi * mu * (1 - mu)
 			}
-			t := ei * ea
-			mu := t / (1 + t)
-			if math.IsInf(t, 1) {
-				mu = 1
-			}
-			score += wi * (y[i] - mu)
-			info += wi * mu * (1 - mu)
-		}
+			return t
+		})
+		return s[0], s[1]
+	}
+	for it := 0; it < 100; it++ {
+		score, info := sums(a)
 		if info <= 0 {
-			return 0, errors.New("no information about the intercept")
+			return 0, 0, errors.New("no information about the intercept")
 		}
 		step := math.Max(-5, math.Min(5, score/info))
 		a += step
 		if math.Abs(step) < 1e-10 {
-			return a, nil
+			_, info = sums(a)
+			return a, info, nil
 		}
 	}
-	return 0, logistic.ErrNotConverged
+	return 0, 0, logistic.ErrNotConverged
 }
