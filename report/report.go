@@ -305,6 +305,9 @@ func (r *renderer) calibration() {
 	if c.Delta > 0 {
 		delta = fmt.Sprintf("δ = %.4g (local fits %d, the rest interpolated)", c.Delta, c.FitPoints)
 	}
+	for _, n := range c.Notes {
+		r.p("Note: %s.\n\n", n)
+	}
 	r.p("The flexible calibration curve is a LOWESS smooth of the outcome on the predicted risk (span %.2f, local linear, tricube weights, no robustness iterations, %s). Its band is %s.\n\n", c.Span, delta, c.Band)
 	r.figure("calibration.svg")
 	g := r.a.Curves.Groups
@@ -321,6 +324,8 @@ func (r *renderer) calibration() {
 
 func citlMeaning(c validate.Calibration) string {
 	switch {
+	case math.IsNaN(c.CITL):
+		return "could not be estimated"
 	case c.CITLCI[0] > 0:
 		return "predicted risks are too low on average"
 	case c.CITLCI[1] < 0:
@@ -331,6 +336,8 @@ func citlMeaning(c validate.Calibration) string {
 
 func slopeMeaning(c validate.Calibration) string {
 	switch {
+	case math.IsNaN(c.Slope):
+		return "could not be estimated"
 	case c.SlopeCI[1] < 1:
 		return "risks too extreme (high too high, low too low)"
 	case c.SlopeCI[0] > 1:
@@ -618,15 +625,28 @@ func fitStats(v any) (model.FitStats, bool) {
 	return st, len(st.Terms) > 0
 }
 
-func f3(v float64) string { return fmt.Sprintf("%.3f", v) }
-func f4(v float64) string { return fmt.Sprintf("%.4f", v) }
+func f3(v float64) string { return num(v, "%.3f") }
+func f4(v float64) string { return num(v, "%.4f") }
+
+// num formats v, or "n/a" for a measure that could not be estimated.
+func num(v float64, format string) string {
+	if math.IsNaN(v) {
+		return "n/a"
+	}
+	return fmt.Sprintf(format, v)
+}
 func pct(v float64) string {
 	if math.IsNaN(v) {
 		return "n/a"
 	}
 	return fmt.Sprintf("%.1f%%", 100*v)
 }
-func ci3(ci [2]float64) string { return fmt.Sprintf("%.3f to %.3f", ci[0], ci[1]) }
+func ci3(ci [2]float64) string {
+	if math.IsNaN(ci[0]) || math.IsNaN(ci[1]) {
+		return "n/a"
+	}
+	return fmt.Sprintf("%.3f to %.3f", ci[0], ci[1])
+}
 
 func prop(p metrics.Proportion) string {
 	if math.IsNaN(p.Value) {

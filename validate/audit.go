@@ -251,6 +251,9 @@ func oeSentence(c Calibration) string {
 }
 
 func slopeSentence(c Calibration) string {
+	if math.IsNaN(c.Slope) {
+		return "The calibration slope could not be estimated on this cohort (for example, every predicted risk is the same, or the cohort is too small): the spread of the risks cannot be judged."
+	}
 	s := fmt.Sprintf("Calibration slope %.2f (95%% CI %.2f to %.2f)", c.Slope, c.SlopeCI[0], c.SlopeCI[1])
 	switch {
 	case c.SlopeCI[1] < 1:

@@ -94,6 +94,8 @@ type Calibration struct {
 	Slope   float64    `json:"slope"`
 	SlopeSE float64    `json:"slope_se"`
 	SlopeCI [2]float64 `json:"slope_ci"`
+	// Notes say which measures could not be estimated, and why.
+	Notes []string `json:"notes,omitempty"`
 	// SlopeIntercept is the intercept of the calibration-slope model.
 	SlopeIntercept float64                    `json:"slope_intercept"`
 	OE             float64                    `json:"oe"`
@@ -250,11 +252,19 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	auc, _ := metrics.AUC(ys, ps, ident)
 	perf.Discrimination = Discrimination{auc}
 	wg.Wait()
+	// A calibration model that cannot be fitted (risks that are all the
+	// same, separation in a tiny cohort) leaves its measure undefined, not
+	// the audit impossible.
+	var notes []string
+	nan := math.NaN()
 	if errCITL != nil {
-		return nil, errCITL
+		citl = metrics.Estimate{Value: nan, SE: nan, CI: [2]float64{nan, nan}}
+		notes = append(notes, "calibration-in-the-large could not be estimated: "+errCITL.Error())
 	}
 	if errSlope != nil {
-		return nil, errSlope
+		slope = metrics.Estimate{Value: nan, SE: nan, CI: [2]float64{nan, nan}}
+		slopeIcpt = metrics.Estimate{Value: nan, SE: nan, CI: [2]float64{nan, nan}}
+		notes = append(notes, "the calibration slope could not be estimated: "+errSlope.Error())
 	}
 	oe, oeci, obs, exp := metrics.OE(y, p)
 	c.MeanRisk = exp / float64(len(p))
@@ -265,7 +275,7 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 		OE: oe, OECI: oeci, Observed: obs, Expected: exp,
 		HL:  metrics.HosmerLemeshowSorted(ys, ps, ident, opt.HLGroups, opt.Development),
 		ICI: flex.ICI, E50: flex.E50, E90: flex.E90, Emax: flex.Emax,
-		Span: opt.Span, Delta: delta, FitPoints: flex.Curve.FitPoints, Band: BandMethod,
+		Span: opt.Span, Delta: delta, FitPoints: flex.Curve.FitPoints, Band: BandMethod, Notes: notes,
 	}
 	cal.HL.Table = nil
 	perf.Overall.Brier, perf.Overall.ScaledBrier = metrics.Brier(y, p)
