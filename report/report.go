@@ -539,6 +539,21 @@ func (r *renderer) methods() {
 		"Net benefit (Vickers & Elkin 2006), treating when the predicted risk is at or above the threshold.",
 		"Proportions with exact Clopper–Pearson intervals (Clopper & Pearson 1934).",
 	}
+	if r.a.SampleSize != nil {
+		items = append(items, "Sample size: the minimum size for precise O/E, calibration slope, C-statistic and standardised net benefit, after Riley et al. (2021), with anticipated values from the cohort.")
+	}
+	if r.a.CaseMix != nil {
+		items = append(items, "Case-mix: standardised differences (Austin 2009) and the membership model (Debray et al. 2015).")
+	}
+	if r.a.Internal != nil {
+		items = append(items, "Internal validation: the optimism-corrected bootstrap (Efron 1983; Harrell, Lee & Mark 1996); shrinkage (Van Houwelingen & le Cessie 1990).")
+	}
+	if r.a.Update != nil {
+		items = append(items, "Updating: recalibration in the large, logistic recalibration and model revision chosen by closed testing (Vergouwe et al. 2017).")
+	}
+	if len(r.a.Subgroups) > 0 {
+		items = append(items, "Subgroups: the measures above within each level of the named columns, with their intervals.")
+	}
 	for _, it := range items {
 		r.p("- %s\n", it)
 	}
