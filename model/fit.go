@@ -153,13 +153,15 @@ func stats(m *Matrix, res *logistic.Result, opt FitOptions) FitStats {
 		})
 	}
 	st.NullNeg2LL = NullDeviance(m.Y, nil)
-	st.LRChi2 = st.NullNeg2LL - st.Neg2LL
+	// Rounding can leave a likelihood ratio of exactly nothing a hair
+	// below zero (an intercept-only model, say).
+	st.LRChi2 = math.Max(0, st.NullNeg2LL-st.Neg2LL)
 	st.LRDF = m.P - 1
 	st.LRP = ChiSquareP(st.LRChi2, st.LRDF)
 	k := float64(m.P)
 	st.AIC = st.Neg2LL + 2*k
 	st.BIC = st.Neg2LL + k*math.Log(float64(m.N))
-	st.NagelkerkeR2 = Nagelkerke(st.Neg2LL, st.NullNeg2LL, m.N)
+	st.NagelkerkeR2 = math.Max(0, Nagelkerke(st.Neg2LL, st.NullNeg2LL, m.N))
 	groups := opt.HLGroups
 	if groups <= 0 {
 		groups = 10
