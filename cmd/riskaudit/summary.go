@@ -55,7 +55,11 @@ func writeFitSummary(w io.Writer, r *fitRun, o *fitOptions) {
 	fmt.Fprintln(w)
 	fmt.Fprintf(w, "  events      %d of %d (%.1f%%), outcome %s = %s\n", st.Events, st.N,
 		100*float64(st.Events)/float64(st.N), spec.Outcome.Column, spec.Outcome.Event.Text)
-	fmt.Fprintf(w, "  method      %s, %d Newton steps\n\n", st.Method, st.Iterations)
+	steps := "steps"
+	if st.Iterations == 1 {
+		steps = "step"
+	}
+	fmt.Fprintf(w, "  method      %s, %d Newton %s\n\n", st.Method, st.Iterations, steps)
 
 	width := len("term")
 	for _, t := range st.Terms {
