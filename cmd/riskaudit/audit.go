@@ -214,6 +214,9 @@ func parseThresholds(s string) ([]float64, error) {
 type scored struct {
 	y, p, lp []float64
 	groups   []validate.GroupColumn
+	// frame is the file as read, kept so that later analyses (case-mix,
+	// updating) need not read it again.
+	frame    *cohort.Frame
 	summary  validate.CohortSummary
 	file     string
 	hash     string
@@ -322,13 +325,13 @@ func runAudit(o *auditOptions, s *streams) error {
 	}
 	if o.model != "" && o.devFile != "" && o.cohortFile != "" && dev != nil {
 		prog.step("comparing case-mix")
-		if a.CaseMix, err = caseMix(o, spec, devPerf, perf); err != nil {
+		if a.CaseMix, err = caseMix(o, spec, dev, cur, devPerf, perf); err != nil {
 			return err
 		}
 	}
 	if o.update != "" {
 		prog.step("updating the model on " + o.cohortFile)
-		u, files, err := updateModel(o, spec, cur.hash)
+		u, files, err := updateModel(o, spec, cur)
 		if err != nil {
 			return err
 		}
@@ -536,6 +539,9 @@ func score(spec *model.Spec, o *auditOptions, path string) (*scored, error) {
 		return nil, err
 	}
 	sc := &scored{y: m.Y, file: path, spec: spec, terms: m.Terms}
+	if o.update != "" || o.devFile != "" {
+		sc.frame = fr // the case-mix comparison or the update reads it again
+	}
 	for _, g := range o.subgroups {
 		col := fr.Column(g)
 		gc := validate.GroupColumn{Name: g, Levels: col.SortedLevels(), Codes: make([]int32, m.N)}

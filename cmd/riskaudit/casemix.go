@@ -7,14 +7,16 @@ import (
 
 // caseMix compares the development data with the new cohort for a
 // frozen model.
-func caseMix(o *auditOptions, spec *model.Spec, devPerf, perf *validate.Performance) (*validate.CaseMix, error) {
-	copt, fail, err := o.data.options()
+// The frames read for the audit are reused; only the design matrices are
+// built here.
+func caseMix(o *auditOptions, spec *model.Spec, devSc, curSc *scored, devPerf, perf *validate.Performance) (*validate.CaseMix, error) {
+	_, fail, err := o.data.options()
 	if err != nil {
 		return nil, err
 	}
-	copt.Rename = o.rename
-	side := func(path string) (validate.MixInput, error) {
-		fr, d, m, err := model.Load(spec, path, copt, model.Options{Outcome: true, FailOnMissing: fail})
+	side := func(sc *scored) (validate.MixInput, error) {
+		fr := sc.frame
+		d, m, err := model.Build(spec, fr, model.Options{Outcome: true, FailOnMissing: fail})
 		if err != nil {
 			return validate.MixInput{}, err
 		}
@@ -24,11 +26,11 @@ func caseMix(o *auditOptions, spec *model.Spec, devPerf, perf *validate.Performa
 		}
 		return validate.MixInput{Frame: fr, Rows: m.Rows, X: m.X, P: m.P, Y: m.Y, LP: model.LinearPredictors(m, beta)}, nil
 	}
-	dev, err := side(o.devFile)
+	dev, err := side(devSc)
 	if err != nil {
 		return nil, err
 	}
-	cur, err := side(o.cohortFile)
+	cur, err := side(curSc)
 	if err != nil {
 		return nil, err
 	}

@@ -12,13 +12,14 @@ import (
 // updateModel runs the closed testing procedure on the cohort, writes the
 // chosen updated model (returned as an extra output) and estimates its
 // performance by bootstrap.
-func updateModel(o *auditOptions, spec *model.Spec, cohortHash string) (*validate.Update, []outFile, error) {
-	copt, fail, err := o.data.options()
+// It reuses the cohort as read for the audit and builds its design matrix.
+func updateModel(o *auditOptions, spec *model.Spec, cur *scored) (*validate.Update, []outFile, error) {
+	_, fail, err := o.data.options()
 	if err != nil {
 		return nil, nil, err
 	}
-	copt.Rename = o.rename
-	_, d, m, err := model.Load(spec, o.cohortFile, copt, model.Options{Outcome: true, FailOnMissing: fail})
+	cohortHash := cur.hash
+	d, m, err := model.Build(spec, cur.frame, model.Options{Outcome: true, FailOnMissing: fail})
 	if err != nil {
 		return nil, nil, err
 	}
