@@ -172,7 +172,7 @@ type Audit struct {
 func NewAudit(m ModelInfo, prov Provenance, perf *Performance, dev *Performance, devFile string) *Audit {
 	a := &Audit{Schema: Schema, Model: m, Provenance: prov, Performance: *perf, Caution: Caution}
 	if dev != nil {
-		a.Development = &Development{File: devFile, Measures: dev, Apparent: apparent(dev)}
+		a.Development = &Development{File: devFile, Measures: dev, Apparent: ApparentOf(dev)}
 	}
 	a.Summary = Findings(perf, dev)
 	return a
@@ -193,7 +193,9 @@ func (a *Audit) SetInternal(in *Internal) {
 	a.Summary = append(a.Summary, Finding{"internal validation", text})
 }
 
-func apparent(p *Performance) Apparent {
+// ApparentOf picks the measures of a performance that the development
+// summary reports.
+func ApparentOf(p *Performance) Apparent {
 	return Apparent{AUC: p.Discrimination.AUC, Slope: p.Calibration.Slope, CITL: p.Calibration.CITL,
 		Brier: p.Overall.Brier, ScaledBrier: p.Overall.ScaledBrier, OE: p.Calibration.OE, ICI: p.Calibration.ICI}
 }

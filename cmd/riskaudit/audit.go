@@ -297,7 +297,7 @@ func runAudit(o *auditOptions, s *streams) error {
 	}
 	if a.Development != nil {
 		a.Development.Fitted = dev.isDevFit
-		a.Development.Apparent = apparentOf(devPerf)
+		a.Development.Apparent = validate.ApparentOf(devPerf)
 	}
 	if in != nil {
 		a.Development.Fit = in.report
@@ -463,11 +463,6 @@ func checkAuditFlags(o *auditOptions) ([]float64, error) {
 		}
 	}
 	return ts, nil
-}
-
-func apparentOf(p *validate.Performance) validate.Apparent {
-	return validate.Apparent{AUC: p.Discrimination.AUC, Slope: p.Calibration.Slope, CITL: p.Calibration.CITL,
-		Brier: p.Overall.Brier, ScaledBrier: p.Overall.ScaledBrier, OE: p.Calibration.OE, ICI: p.Calibration.ICI}
 }
 
 func percentileCIs(ci *resample.CIResult, o *auditOptions, ts []float64) *validate.PercentileCIs {
