@@ -74,18 +74,9 @@ func internalValidation(o *auditOptions, s *streams, in *inside, prog *progress)
 	if err != nil {
 		return nil, &model.FitError{Msg: err.Error(), Err: err}
 	}
-	c := func(ap, op, co float64) validate.Corrected {
-		return validate.Corrected{Apparent: ap, Optimism: op, Corrected: co}
-	}
-	A, O, C := res.Apparent, res.Optimism, res.Corrected
 	iv := &validate.Internal{
 		Bootstrap: res.B, Seed: res.Seed, Failed: res.Failed, Reasons: res.Reasons, Refitted: in.refit, ICIDelta: res.ICIDelta,
-		Shrinkage: C.Slope,
-		Metrics: validate.InternalMetrics{
-			AUC: c(A.AUC, O.AUC, C.AUC), Slope: c(A.Slope, O.Slope, C.Slope), CITL: c(A.CITL, O.CITL, C.CITL),
-			Brier: c(A.Brier, O.Brier, C.Brier), ScaledBrier: c(A.ScaledBrier, O.ScaledBrier, C.ScaledBrier),
-			R2: c(A.R2, O.R2, C.R2), ICI: c(A.ICI, O.ICI, C.ICI),
-		},
+		Shrinkage: res.Corrected.Slope, Metrics: internalMetrics(res),
 	}
 	if len(res.Reasons) == 0 {
 		iv.Reasons = nil
@@ -100,7 +91,7 @@ func internalValidation(o *auditOptions, s *streams, in *inside, prog *progress)
 		extra = append(extra, outFile{o.resampleLog, log.Bytes()})
 	}
 	if o.shrunken != "" {
-		spec, err := shrink(in, C.Slope)
+		spec, err := shrink(in, res.Corrected.Slope)
 		if err != nil {
 			return nil, err
 		}
@@ -142,4 +133,15 @@ func shrink(in *inside, factor float64) (*model.Spec, error) {
 	pv := *in.frozen.Provenance
 	pv.Method = fmt.Sprintf("%s, then uniform shrinkage by the bootstrap factor %.4f with the intercept re-estimated (Van Houwelingen & le Cessie 1990)", pv.Method, factor)
 	return model.FreezeWith(in.fitted.Design, beta, pv), nil
+}
+
+// internalMetrics lays a bootstrap result out as the audit reports it.
+func internalMetrics(r *resample.Result) validate.InternalMetrics {
+	c := func(ap, op, co float64) validate.Corrected { return validate.Corrected{Apparent: ap, Optimism: op, Corrected: co} }
+	A, O, C := r.Apparent, r.Optimism, r.Corrected
+	return validate.InternalMetrics{
+		AUC: c(A.AUC, O.AUC, C.AUC), Slope: c(A.Slope, O.Slope, C.Slope), CITL: c(A.CITL, O.CITL, C.CITL),
+		Brier: c(A.Brier, O.Brier, C.Brier), ScaledBrier: c(A.ScaledBrier, O.ScaledBrier, C.ScaledBrier),
+		R2: c(A.R2, O.R2, C.R2), ICI: c(A.ICI, O.ICI, C.ICI),
+	}
 }

@@ -45,12 +45,8 @@ func updateModel(o *auditOptions, spec *model.Spec, cur *scored) (*validate.Upda
 		if err != nil {
 			return nil, nil, &model.FitError{Msg: "bootstrapping the update: " + err.Error(), Err: err}
 		}
-		c := func(a, op, co float64) validate.Corrected {
-			return validate.Corrected{Apparent: a, Optimism: op, Corrected: co}
-		}
-		A, O, C := br.Apparent, br.Optimism, br.Corrected
-		u.Expected = &validate.InternalMetrics{AUC: c(A.AUC, O.AUC, C.AUC), Slope: c(A.Slope, O.Slope, C.Slope), CITL: c(A.CITL, O.CITL, C.CITL),
-			Brier: c(A.Brier, O.Brier, C.Brier), ScaledBrier: c(A.ScaledBrier, O.ScaledBrier, C.ScaledBrier), R2: c(A.R2, O.R2, C.R2), ICI: c(A.ICI, O.ICI, C.ICI)}
+		m := internalMetrics(br)
+		u.Expected = &m
 		u.Bootstrap, u.Seed, u.Failed = br.B, br.Seed, br.Failed
 	}
 	parent, err := fileSHA256(o.model)
