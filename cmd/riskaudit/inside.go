@@ -137,7 +137,9 @@ func shrink(in *inside, factor float64) (*model.Spec, error) {
 
 // internalMetrics lays a bootstrap result out as the audit reports it.
 func internalMetrics(r *resample.Result) validate.InternalMetrics {
-	c := func(ap, op, co float64) validate.Corrected { return validate.Corrected{Apparent: ap, Optimism: op, Corrected: co} }
+	c := func(ap, op, co float64) validate.Corrected {
+		return validate.Corrected{Apparent: ap, Optimism: op, Corrected: co}
+	}
 	A, O, C := r.Apparent, r.Optimism, r.Corrected
 	return validate.InternalMetrics{
 		AUC: c(A.AUC, O.AUC, C.AUC), Slope: c(A.Slope, O.Slope, C.Slope), CITL: c(A.CITL, O.CITL, C.CITL),
