@@ -8,6 +8,8 @@ testdata/reference/fits.json, from general-purpose libraries:
                           Hosmer-Lemeshow tests
   numpy                   the design matrices, built here independently of
                           riskaudit from the formulas of the cited papers
+  scipy (integrate)       the sample-size criteria over the exact normal
+                          density (samplesize.json)
 
 Run it with Debian's python3 (python3-statsmodels, python3-sklearn); .ci/run
 regenerates every file and fails on any difference from the committed copy.
@@ -237,6 +239,7 @@ def main():
     write_bootstrap_reference(bc)
     write_update_reference(bc)
     write_casemix_reference(bc)
+    write_samplesize_reference()
 
 
 def delong_quadratic(y, p):
@@ -480,6 +483,68 @@ def write_casemix_reference(bc):
     ref = {"_source": "testdata/reference/make_reference.py (statsmodels Logit, scikit-learn roc_auc_score)",
            "half": half, "membership_c": r12(c), "std_diff": sd}
     with open(os.path.join(HERE, "casemix.json"), "w") as f:
+        json.dump(ref, f, indent=1, sort_keys=True)
+        f.write("\n")
+
+
+def write_samplesize_reference():
+    """The criteria of the external-validation sample size (Riley et al.
+    2021) for a normal linear predictor, by scipy quadrature over the exact
+    normal density rather than riskaudit's sample of normal quantiles, and
+    with the C-statistic implied by the distribution computed as a double
+    integral. The variance formulas are the ones riskaudit's samplesize
+    package states; this checks their evaluation, not their derivation."""
+    from scipy import integrate, optimize
+    from scipy.special import expit
+    z = scipy.stats.norm.ppf(0.975)
+    scenarios = [
+        {"name": "calibrated", "mu": -2.2, "sd": 0.9, "a": 0.0, "b": 1.0, "oe": 1.0, "threshold": 0.1,
+         "widths": {"oe": 0.2, "slope": 0.2, "c": 0.1, "nb": 0.2}},
+        {"name": "miscalibrated", "mu": -4.0, "sd": 1.5, "a": 0.3, "b": 0.8, "oe": 1.2, "threshold": 0.05,
+         "widths": {"oe": 0.4, "slope": 0.3, "c": 0.08, "nb": 0.3}},
+        {"name": "rare", "mu": -5.5, "sd": 1.2, "a": 0.0, "b": 1.0, "oe": 1.0, "threshold": 0.02,
+         "widths": {"oe": 1.0, "slope": 0.2, "c": 0.1, "nb": 0.2}},
+    ]
+    out = []
+    for sc in scenarios:
+        mu, sd, a, b, t = sc["mu"], sc["sd"], sc["a"], sc["b"], sc["threshold"]
+        lo, hi = mu - 12 * sd, mu + 12 * sd
+        dens = scipy.stats.norm(mu, sd).pdf
+        risk = lambda x: expit(a + b * x)
+
+        def expect(g, lo=lo, hi=hi):
+            return integrate.quad(lambda x: g(x) * dens(x), lo, hi, limit=400, epsabs=0, epsrel=1e-12)[0]
+        phi = expect(risk)
+        # C: P(LP of an event > LP of a non-event) = int f1(x) F0(x) dx.
+        f0_cdf = lambda x: integrate.quad(lambda u: (1 - risk(u)) * dens(u), lo, x, limit=400, epsabs=0, epsrel=1e-11)[0]
+        cstat = integrate.quad(lambda x: risk(x) * dens(x) * f0_cdf(x), lo, hi, limit=400, epsabs=0, epsrel=1e-10)[0] / (phi * (1 - phi))
+        w = sc["widths"]
+        se_oe = np.arcsinh(w["oe"] / (2 * sc["oe"])) / z
+        n_oe = (1 - phi) / (phi * se_oe ** 2)
+        v = lambda x: risk(x) * (1 - risk(x))
+        iaa, iab, ibb = expect(v), expect(lambda x: v(x) * x), expect(lambda x: v(x) * x * x)
+        se_slope = w["slope"] / (2 * z)
+        n_slope = iaa / (se_slope ** 2 * (iaa * ibb - iab ** 2))
+        se_c = w["c"] / (2 * z)
+
+        def newcombe_se(n):
+            h = n / 2 - 1
+            return np.sqrt(cstat * (1 - cstat) * (1 + h * (1 - cstat) / (2 - cstat) + h * cstat / (1 + cstat)) / (n * n * phi * (1 - phi)))
+        n_c = optimize.brentq(lambda n: newcombe_se(n) - se_c, 4, 1e9, xtol=1e-9)
+        cut = np.log(t / (1 - t))
+        p1 = expect(risk, cut, hi)
+        p2 = expect(lambda x: 1 - risk(x), cut, hi)
+        p3 = expect(risk, lo, cut)
+        f, wt = p1 + p3, t / (1 - t)
+        g = np.array([(p3 + wt * p2) / f ** 2, -wt / f, -(p1 - wt * p2) / f ** 2])
+        pi = np.array([p1, p2, p3])
+        var1 = np.sum(g * g * pi) - np.sum(g * pi) ** 2
+        n_nb = var1 / (w["nb"] / (2 * z)) ** 2
+        out.append(dict(sc, event_rate=r12(phi), c_statistic=r12(cstat),
+                        n={"oe": r12(n_oe), "slope": r12(n_slope), "c": r12(n_c), "nb": r12(n_nb)}))
+    ref = {"_source": "testdata/reference/make_reference.py (scipy.integrate.quad, scipy.optimize.brentq)",
+           "scenarios": out}
+    with open(os.path.join(HERE, "samplesize.json"), "w") as f:
         json.dump(ref, f, indent=1, sort_keys=True)
         f.write("\n")
 
