@@ -16,6 +16,7 @@ import (
 	"go.yaml.in/yaml/v3"
 
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/samplesize"
 	"github.com/riskaudit/riskaudit/validate"
 )
 
@@ -60,6 +61,7 @@ type Plan struct {
 	Thresholds                                 string
 	ClassifyAt                                 []float64
 	Data                                       Data
+	SampleSize                                 SampleSize
 
 	// Set records the keys the plan gave, by their plan name.
 	Set map[string]bool
@@ -67,7 +69,29 @@ type Plan struct {
 
 var topKeys = []string{"name", "model", "predicted", "outcome", "event", "non_event", "dev", "cohort", "out", "history",
 	"audit_date", "rename", "subgroups", "min_subgroup_events", "criteria", "bootstrap", "ci_bootstrap",
-	"thresholds", "classify_at", "data"}
+	"thresholds", "classify_at", "data", "sample_size"}
+
+// SampleSize is the plan's sample_size section: the target 95% CI widths
+// of the sample-size criteria (Riley et al. 2021), the risk threshold of
+// the net-benefit criterion, and anticipated values that replace the
+// cohort's own. A zero field (a nil pointer) was not given.
+type SampleSize struct {
+	// OEWidth, SlopeWidth, CWidth and NBWidth are the target widths.
+	OEWidth, SlopeWidth, CWidth, NBWidth float64
+	// Threshold is the net-benefit criterion's risk threshold.
+	Threshold float64
+	// EventRate and CStatistic are the anticipated event proportion and
+	// C-statistic; given together, they fix LPMean and LPSD (the normal
+	// linear predictor of a calibrated model with those values,
+	// samplesize.NormalFor). CStatistic alone replaces the cohort's AUC.
+	EventRate, CStatistic float64
+	// LPMean and LPSD describe a normal linear predictor, given in the
+	// plan or found from EventRate and CStatistic (FromEventRate).
+	LPMean, LPSD  float64
+	FromEventRate bool
+	// CalIntercept and CalSlope are the anticipated calibration.
+	CalIntercept, CalSlope *float64
+}
 
 // Load reads the plan at path.
 func Load(path string) (*Plan, error) {
@@ -269,6 +293,8 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 		})
 	case "data":
 		err = p.data(&pl.Data, v, pl.Set)
+	case "sample_size":
+		err = p.sampleSize(&pl.SampleSize, v, pl.Set)
 	case "criteria":
 		if v.Kind != yaml.SequenceNode {
 			return p.errf(v, "criteria must be a list")
@@ -307,6 +333,92 @@ func (p *parser) data(d *Data, v *yaml.Node, set map[string]bool) error {
 		}
 		return err
 	})
+}
+
+// inRange reads a number strictly between lo and hi (hi = 0: no upper
+// bound).
+func (p *parser) inRange(v *yaml.Node, key string, lo, hi float64) (float64, error) {
+	x, err := p.num(v, key)
+	if err != nil {
+		return 0, err
+	}
+	if !(x > lo) || (hi != 0 && !(x < hi)) {
+		if hi == 0 {
+			return 0, p.errf(v, "%s must be above %g, not %g", key, lo, x)
+		}
+		return 0, p.errf(v, "%s must be strictly between %g and %g, not %g", key, lo, hi, x)
+	}
+	return x, nil
+}
+
+func (p *parser) sampleSize(ss *SampleSize, v *yaml.Node, set map[string]bool) error {
+	err := p.fields(v, "sample_size", []string{"oe_width", "slope_width", "c_width", "nb_width", "threshold", "anticipated"}, func(k string, c *yaml.Node) error {
+		set["sample_size."+k] = true
+		var err error
+		switch k {
+		case "oe_width":
+			ss.OEWidth, err = p.inRange(c, k, 0, 0)
+		case "slope_width":
+			ss.SlopeWidth, err = p.inRange(c, k, 0, 0)
+		case "c_width":
+			ss.CWidth, err = p.inRange(c, k, 0, 1)
+		case "nb_width":
+			ss.NBWidth, err = p.inRange(c, k, 0, 0)
+		case "threshold":
+			ss.Threshold, err = p.inRange(c, k, 0, 1)
+		case "anticipated":
+			err = p.anticipated(ss, c)
+		}
+		return err
+	})
+	return err
+}
+
+func (p *parser) anticipated(ss *SampleSize, v *yaml.Node) error {
+	keys := map[string]*yaml.Node{}
+	err := p.fields(v, "anticipated", []string{"event_rate", "c_statistic", "lp_mean", "lp_sd", "calibration_intercept", "calibration_slope"}, func(k string, c *yaml.Node) error {
+		keys[k] = c
+		var err error
+		switch k {
+		case "event_rate":
+			ss.EventRate, err = p.inRange(c, k, 0, 1)
+		case "c_statistic":
+			ss.CStatistic, err = p.inRange(c, k, 0.5, 1)
+		case "lp_mean":
+			ss.LPMean, err = p.num(c, k)
+		case "lp_sd":
+			ss.LPSD, err = p.inRange(c, k, 0, 0)
+		case "calibration_intercept":
+			var x float64
+			x, err = p.num(c, k)
+			ss.CalIntercept = &x
+		case "calibration_slope":
+			var x float64
+			x, err = p.inRange(c, k, 0, 0)
+			ss.CalSlope = &x
+		}
+		return err
+	})
+	if err != nil {
+		return err
+	}
+	_, mean := keys["lp_mean"]
+	_, sd := keys["lp_sd"]
+	switch {
+	case mean != sd:
+		return p.errf(v, "anticipated: lp_mean and lp_sd go together")
+	case mean && keys["event_rate"] != nil:
+		return p.errf(keys["event_rate"], "anticipated: give the linear predictor by lp_mean and lp_sd, or by event_rate and c_statistic, not both")
+	case keys["event_rate"] != nil && keys["c_statistic"] == nil:
+		return p.errf(keys["event_rate"], "anticipated: event_rate needs c_statistic (the normal linear predictor is found from both), or give lp_mean and lp_sd")
+	case keys["event_rate"] != nil:
+		m, s, err := samplesize.NormalFor(ss.EventRate, ss.CStatistic)
+		if err != nil {
+			return p.errf(keys["c_statistic"], "anticipated: %v", strings.TrimPrefix(err.Error(), "samplesize: "))
+		}
+		ss.LPMean, ss.LPSD, ss.FromEventRate = m, s, true
+	}
+	return nil
 }
 
 func (p *parser) criterion(n *yaml.Node) (validate.Criterion, error) {
@@ -396,4 +508,21 @@ bootstrap:
 
 data:
   missing: complete-case    # or fail
+
+# Was the cohort large enough? Target 95% CI widths of the sample-size
+# criteria (Riley et al. 2021; these are the defaults) and, optionally,
+# anticipated values to use instead of the cohort's own.
+sample_size:
+  oe_width: 0.2
+  slope_width: 0.2
+  c_width: 0.1
+  nb_width: 0.2
+  # threshold: 0.1          # net-benefit criterion (default: the first classify_at)
+  # anticipated:            # default: taken from the cohort
+  #   event_rate: 0.12      # with c_statistic: a normal linear predictor
+  #   c_statistic: 0.75
+  #   lp_mean: -2.3         # or give the linear predictor itself
+  #   lp_sd: 1.0
+  #   calibration_intercept: 0
+  #   calibration_slope: 1
 `

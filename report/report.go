@@ -540,7 +540,7 @@ func (r *renderer) methods() {
 		"Proportions with exact Clopper–Pearson intervals (Clopper & Pearson 1934).",
 	}
 	if r.a.SampleSize != nil {
-		items = append(items, "Sample size: the minimum size for precise O/E, calibration slope, C-statistic and standardised net benefit, after Riley et al. (2021), with anticipated values from the cohort.")
+		items = append(items, "Sample size: the minimum size for precise O/E, calibration slope, C-statistic and standardised net benefit, after Riley et al. (2021): var(ln O/E) = (1 − φ)/(nφ); the slope's variance from the Fisher information of the calibration model over the linear predictor's distribution; Newcombe's (2006) variance of the C-statistic; the delta-method variance of NB/φ. Anticipated values as stated in that section.")
 	}
 	if r.a.CaseMix != nil {
 		items = append(items, "Case-mix: standardised differences (Austin 2009) and the membership model (Debray et al. 2015).")

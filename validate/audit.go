@@ -344,7 +344,7 @@ type UpdateTest struct {
 
 // SampleSize compares the cohort's size with the minimum sample size of
 // Riley et al. (2021), with the anticipated values taken from the cohort
-// itself.
+// itself or from the audit plan, as Basis says.
 type SampleSize struct {
 	Criteria []SizeCriterion `json:"criteria"`
 	Required int             `json:"required_n"`

@@ -63,6 +63,20 @@ func applyPlan(cmd *cobra.Command, o *auditOptions) error {
 	if pl.Set["ci_bootstrap"] && !fl.Changed("ci-bootstrap") {
 		o.ciBootstrap = pl.CIBootstrap
 	}
+	// The sample-size section: widths the flags did not set, and the
+	// threshold and anticipated values, which only a plan gives.
+	widths := o.size
+	o.size = pl.SampleSize
+	for _, w := range []struct {
+		flag, key string
+		dst       *float64
+		flagValue float64
+	}{{"oe-width", "oe_width", &o.size.OEWidth, widths.OEWidth}, {"slope-width", "slope_width", &o.size.SlopeWidth, widths.SlopeWidth},
+		{"c-width", "c_width", &o.size.CWidth, widths.CWidth}, {"nb-width", "nb_width", &o.size.NBWidth, widths.NBWidth}} {
+		if !pl.Set["sample_size."+w.key] || fl.Changed(w.flag) {
+			*w.dst = w.flagValue
+		}
+	}
 	if pl.Set["criteria"] {
 		o.criteria = pl.Criteria
 	}

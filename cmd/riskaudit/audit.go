@@ -16,9 +16,11 @@ import (
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/internal/jsonout"
 	"github.com/riskaudit/riskaudit/model"
+	"github.com/riskaudit/riskaudit/plan"
 	"github.com/riskaudit/riskaudit/plots"
 	"github.com/riskaudit/riskaudit/report"
 	"github.com/riskaudit/riskaudit/resample"
+	"github.com/riskaudit/riskaudit/samplesize"
 	"github.com/riskaudit/riskaudit/validate"
 )
 
@@ -57,6 +59,9 @@ type auditOptions struct {
 	update          string
 	updateAlpha     float64
 	updateBootstrap int
+	// size holds the sample-size check's targets and the plan's
+	// anticipated values.
+	size plan.SampleSize
 }
 
 const auditLong = `Measure how a model performs on a cohort with observed outcomes and write
@@ -84,6 +89,13 @@ apparent values (Efron 1983; Harrell, Lee & Mark 1996). A recipe given as
 --model is fitted on --dev first; without --cohort the report describes the
 development data. The same --seed gives the same numbers whatever
 --workers.
+
+Sample size: every report compares the cohort's size with the minimum
+sample size for precise O/E, calibration slope, C-statistic and
+standardised net benefit (Riley et al. 2021), from target 95% CI widths
+(--oe-width, --slope-width, --c-width, --nb-width, or the plan) and
+anticipated values taken from the cohort or from the plan's sample_size
+section.
 
 Outputs are written to temporary files and renamed into place only when
 everything has succeeded.`
@@ -156,6 +168,11 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.StringVar(&o.update, "update", "", "update the model on the cohort by closed testing and write the chosen model here")
 	f.Float64Var(&o.updateAlpha, "update-alpha", 0.05, "significance level of the closed testing procedure")
 	f.IntVar(&o.updateBootstrap, "update-bootstrap", 200, "bootstrap replicates for the updated model's expected performance (0: none)")
+	def := defaultSize()
+	f.Float64Var(&o.size.OEWidth, "oe-width", def.OEWidth, "sample-size check: target 95% CI width of O/E")
+	f.Float64Var(&o.size.SlopeWidth, "slope-width", def.SlopeWidth, "sample-size check: target 95% CI width of the calibration slope")
+	f.Float64Var(&o.size.CWidth, "c-width", def.CWidth, "sample-size check: target 95% CI width of the C-statistic")
+	f.Float64Var(&o.size.NBWidth, "nb-width", def.NBWidth, "sample-size check: target 95% CI width of the standardised net benefit")
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
 	o.data.register(f)
 	_ = c.MarkFlagFilename("model", "yaml", "yml")
@@ -164,6 +181,13 @@ func newAuditCmd(s *streams) *cobra.Command {
 	_ = c.MarkFlagFilename("dev", "csv", "tsv", "txt")
 	_ = c.MarkFlagDirname("out")
 	return c
+}
+
+// defaultSize is the sample-size check without a plan: the default
+// target widths, the anticipated values taken from the cohort.
+func defaultSize() plan.SampleSize {
+	t := samplesize.DefaultTargets()
+	return plan.SampleSize{OEWidth: t.OEWidth, SlopeWidth: t.SlopeWidth, CWidth: t.CWidth, NBWidth: t.NBWidth}
 }
 
 // parseThresholds reads FROM:TO:STEP or a comma-separated list; every
@@ -321,7 +345,7 @@ func runAudit(o *auditOptions, s *streams) error {
 		return usagef("%v", err)
 	}
 	if cur != nil {
-		a.SampleSize = sampleSizeOf(cur, perf, o.classifyAt)
+		a.SampleSize = sampleSizeOf(cur, perf, o.classifyAt, o.size)
 	}
 	if o.model != "" && o.devFile != "" && o.cohortFile != "" && dev != nil {
 		prog.step("comparing case-mix")
@@ -447,6 +471,14 @@ func checkAuditFlags(o *auditOptions) ([]float64, error) {
 	}
 	if o.groups < 2 || o.hlGroups < 3 {
 		return nil, usagef("--groups needs at least 2 and --hl-groups at least 3")
+	}
+	for _, w := range []struct {
+		flag string
+		v    float64
+	}{{"oe-width", o.size.OEWidth}, {"slope-width", o.size.SlopeWidth}, {"c-width", o.size.CWidth}, {"nb-width", o.size.NBWidth}} {
+		if !(w.v > 0) || (w.flag == "c-width" && w.v >= 1) {
+			return nil, usagef("--%s %g: give a positive width (below 1 for the C-statistic)", w.flag, w.v)
+		}
 	}
 	if o.span <= 0 || o.span > 1 {
 		return nil, usagef("--lowess-span %g: give a value in (0, 1]", o.span)

@@ -29,6 +29,7 @@ func BenchmarkAudit1M(b *testing.B) {
 		model: filepath.Join(dir, "demo", "frozen.yaml"), cohortFile: cohortFile, out: filepath.Join(dir, "audit"),
 		thresholds: "0.05:0.50:0.05", classifyAt: []float64{0.1, 0.2}, groups: 10, hlGroups: 10, span: 0.75,
 		delta: validate.AutoDelta, epsilon: validate.DefaultEpsilon, data: dataFlags{missing: "complete-case"}, quiet: true,
+		size: defaultSize(),
 	}
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {

@@ -81,7 +81,7 @@ func runDemo(dir string, s *streams) error {
 		model: frozen, cohortFile: later, devFile: dev, out: filepath.Join(dir, "audit"),
 		thresholds: "0.05:0.50:0.05", classifyAt: []float64{0.10, 0.20}, groups: 10, hlGroups: 10,
 		span: 0.75, delta: validate.AutoDelta, epsilon: validate.DefaultEpsilon, data: dataFlags{missing: "complete-case"},
-		bootstrap: 200, seed: 1,
+		bootstrap: 200, seed: 1, size: defaultSize(),
 	}, s)
 	var ce *criterionError
 	if errors.As(err, &ce) {

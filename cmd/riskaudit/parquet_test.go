@@ -91,7 +91,7 @@ func toParquet(t testing.TB, csvPath, pqPath string, rowGroup int64) {
 func quietAudit(model, cohortFile, out string) *auditOptions {
 	return &auditOptions{model: model, cohortFile: cohortFile, out: out, thresholds: "0.05:0.50:0.05",
 		classifyAt: []float64{0.1, 0.2}, groups: 10, hlGroups: 10, span: 0.75, delta: validate.AutoDelta,
-		epsilon: validate.DefaultEpsilon, data: dataFlags{missing: "complete-case"}, quiet: true}
+		epsilon: validate.DefaultEpsilon, data: dataFlags{missing: "complete-case"}, quiet: true, size: defaultSize()}
 }
 
 // TestParquetAuditMatchesCSV audits the demo's later extract as CSV and as

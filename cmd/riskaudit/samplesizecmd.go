@@ -3,38 +3,78 @@ package main
 import (
 	"fmt"
 	"math"
+	"strings"
 
 	"github.com/spf13/cobra"
 
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/internal/jsonout"
+	"github.com/riskaudit/riskaudit/plan"
 	"github.com/riskaudit/riskaudit/samplesize"
 	"github.com/riskaudit/riskaudit/validate"
 )
 
-// sampleSizeOf checks the cohort's size against each criterion, with the
-// anticipated values (linear predictor, calibration, C-statistic) taken
-// from the cohort itself.
-func sampleSizeOf(sc *scored, perf *validate.Performance, classifyAt []float64) *validate.SampleSize {
-	lp := sc.lp
-	if lp == nil {
-		lp = make([]float64, len(sc.p))
-		for i, v := range sc.p {
-			v = math.Min(math.Max(v, 1e-9), 1-1e-9)
-			lp[i] = math.Log(v / (1 - v))
+// sampleSizeOf checks the cohort's size against each criterion. The
+// anticipated values (linear predictor, calibration, C-statistic) are the
+// plan's where it gives them and the cohort's otherwise; the net-benefit
+// criterion uses the plan's threshold or the first --classify-at.
+func sampleSizeOf(sc *scored, perf *validate.Performance, classifyAt []float64, size plan.SampleSize) *validate.SampleSize {
+	ant := samplesize.Anticipated{Threshold: size.Threshold}
+	if ant.Threshold == 0 && len(classifyAt) > 0 {
+		ant.Threshold = classifyAt[0]
+	}
+	var basis []string
+	if size.LPSD > 0 {
+		ant.LP = samplesize.Normal(size.LPMean, size.LPSD, 20000)
+		ant.CalSlope = 1
+		if size.FromEventRate {
+			basis = append(basis, fmt.Sprintf("the plan: a normal linear predictor (mean %.3f, SD %.3f) giving event proportion %g and C-statistic %g", size.LPMean, size.LPSD, size.EventRate, size.CStatistic))
+		} else {
+			basis = append(basis, fmt.Sprintf("the plan: a normal linear predictor (mean %g, SD %g)", size.LPMean, size.LPSD))
 		}
+	} else {
+		ant.LP = sc.lp
+		if ant.LP == nil {
+			ant.LP = make([]float64, len(sc.p))
+			for i, v := range sc.p {
+				v = math.Min(math.Max(v, 1e-9), 1-1e-9)
+				ant.LP[i] = math.Log(v / (1 - v))
+			}
+		}
+		ant.CalIntercept, ant.CalSlope = perf.Calibration.SlopeIntercept, perf.Calibration.Slope
+		ant.C = perf.Discrimination.AUC
+		basis = append(basis, "this cohort: its linear predictors")
 	}
-	thr := 0.0
-	if len(classifyAt) > 0 {
-		thr = classifyAt[0]
+	switch {
+	case size.CalIntercept != nil || size.CalSlope != nil:
+		if size.CalIntercept != nil {
+			ant.CalIntercept = *size.CalIntercept
+		}
+		if size.CalSlope != nil {
+			ant.CalSlope = *size.CalSlope
+		}
+		basis = append(basis, fmt.Sprintf("calibration intercept %g and slope %g (from the plan)", ant.CalIntercept, ant.CalSlope))
+	case size.LPSD > 0:
+		ant.CalIntercept, ant.CalSlope = 0, 1
+		basis = append(basis, "a calibrated model")
+	default:
+		basis = append(basis, "its calibration intercept and slope")
 	}
-	res, err := samplesize.Compute(samplesize.Anticipated{LP: lp, CalIntercept: perf.Calibration.SlopeIntercept,
-		CalSlope: perf.Calibration.Slope, C: perf.Discrimination.AUC, Threshold: thr}, samplesize.DefaultTargets())
+	switch {
+	case size.CStatistic > 0 && !size.FromEventRate:
+		ant.C = size.CStatistic
+		basis = append(basis, fmt.Sprintf("C-statistic %g (from the plan)", size.CStatistic))
+	case size.LPSD > 0:
+		ant.C = 0 // implied by the distribution
+	default:
+		basis = append(basis, "its AUC")
+	}
+	res, err := samplesize.Compute(ant, samplesize.Targets{OEWidth: size.OEWidth, SlopeWidth: size.SlopeWidth, CWidth: size.CWidth, NBWidth: size.NBWidth})
 	if err != nil {
 		return nil
 	}
 	out := &validate.SampleSize{Required: res.N, Driver: res.Driver, Have: perf.Cohort.Used,
-		Basis: "this cohort: its linear predictors, its calibration intercept and slope, its AUC"}
+		Basis: strings.Join(basis, ", ")}
 	for _, c := range res.Criteria {
 		out.Criteria = append(out.Criteria, validate.SizeCriterion{Measure: c.Measure, Target: c.Target, SE: c.SE, N: c.N, Events: c.Events, Met: perf.Cohort.Used >= c.N})
 	}
