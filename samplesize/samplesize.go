@@ -47,7 +47,9 @@ type Anticipated struct {
 	// CalIntercept and CalSlope give the true risks expit(a + b·LP); 0 and
 	// 1 for a calibrated model.
 	CalIntercept, CalSlope float64
-	// OE is the anticipated O/E (default 1).
+	// OE is the anticipated O/E; 0 takes the value the calibration
+	// implies, the mean true risk over the mean of expit(LP) (1 for a
+	// calibrated model).
 	OE float64
 	// C is the anticipated C-statistic; 0 takes the value the LP
 	// distribution and calibration imply.
@@ -72,6 +74,7 @@ type Criterion struct {
 type Result struct {
 	EventRate float64     `json:"event_rate"`
 	C         float64     `json:"c_statistic"`
+	OE        float64     `json:"oe"`
 	Criteria  []Criterion `json:"criteria"`
 	// N and Events are the largest requirement, and Driver names it.
 	N      int    `json:"n"`
@@ -105,9 +108,6 @@ func Compute(a Anticipated, t Targets) (*Result, error) {
 	if a.CalSlope == 0 {
 		a.CalSlope = 1
 	}
-	if a.OE <= 0 {
-		a.OE = 1
-	}
 	def := DefaultTargets()
 	if t.OEWidth <= 0 {
 		t.OEWidth = def.OEWidth
@@ -128,11 +128,18 @@ func Compute(a Anticipated, t Targets) (*Result, error) {
 		phi += p[i]
 	}
 	phi /= float64(len(p))
+	if a.OE <= 0 {
+		e := 0.0
+		for _, v := range a.LP {
+			e += expit(v)
+		}
+		a.OE = phi / (e / float64(len(p)))
+	}
 	c := a.C
 	if c <= 0 {
 		c = impliedC(a.LP, p)
 	}
-	r := &Result{EventRate: phi, C: c}
+	r := &Result{EventRate: phi, C: c, OE: a.OE}
 	add := func(cr Criterion) {
 		cr.Events = int(math.Ceil(float64(cr.N) * phi))
 		r.Criteria = append(r.Criteria, cr)

@@ -221,3 +221,31 @@ func TestCStatisticEventsAgainstPavlou2021(t *testing.T) {
 		t.Errorf("events needed range from %g to %g; Pavlou et al. report 60–170", lo, hi)
 	}
 }
+
+// TestImpliedOE: without an anticipated O/E, the calibration gives it
+// (mean true risk over mean predicted risk), and the O/E criterion's
+// log-scale SE is the one whose interval exp(ln OE ± z·SE) has the target
+// width.
+func TestImpliedOE(t *testing.T) {
+	lp := Normal(-3, 1, 20000)
+	res, err := Compute(Anticipated{LP: lp, CalIntercept: 0.3, CalSlope: 0.8}, DefaultTargets())
+	if err != nil {
+		t.Fatal(err)
+	}
+	var obs, exp float64
+	for _, v := range lp {
+		obs += expit(0.3 + 0.8*v)
+		exp += expit(v)
+	}
+	if oe := obs / exp; math.Abs(res.OE-oe) > 1e-12 || oe < 1.2 {
+		t.Fatalf("O/E %.6f, want %.6f", res.OE, oe)
+	}
+	se := res.Criteria[0].SE
+	if w := res.OE*math.Exp(z*se) - res.OE*math.Exp(-z*se); math.Abs(w-0.2) > 1e-12 {
+		t.Errorf("interval width %.6f at the target SE, want 0.2", w)
+	}
+	calibrated, _ := Compute(Anticipated{LP: lp}, DefaultTargets())
+	if calibrated.OE != 1 {
+		t.Errorf("a calibrated model's O/E is %g", calibrated.OE)
+	}
+}

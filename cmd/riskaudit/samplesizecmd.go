@@ -83,7 +83,7 @@ func sampleSizeOf(sc *scored, perf *validate.Performance, classifyAt []float64, 
 }
 
 func newSampleSizeCmd(s *streams) *cobra.Command {
-	var phi, c, mu, sd, thr, oeW, slW, cW, nbW float64
+	var phi, c, mu, sd, thr, oeW, slW, cW, nbW, calA, calB float64
 	var jsonOut string
 	cmd := &cobra.Command{
 		Use:   "samplesize (--event-rate P --c-statistic C | --lp-mean M --lp-sd S)",
@@ -94,10 +94,12 @@ precise O/E, calibration slope, C-statistic and, with --threshold,
 standardised net benefit, each from a target 95% CI width. The linear
 predictor is taken as normal: give its mean and SD, or the anticipated
 event proportion and C-statistic, from which the normal distribution of a
-calibrated model's linear predictor is found. The recommended size is the
-largest requirement.`,
+calibrated model's linear predictor is found. An anticipated miscalibration
+(--calibration-intercept a, --calibration-slope b) makes the true risks
+expit(a + b·LP). The recommended size is the largest requirement.`,
 		Example: `  riskaudit samplesize --event-rate 0.1 --c-statistic 0.75 --threshold 0.1
-  riskaudit samplesize --lp-mean -2.5 --lp-sd 1.2 --slope-width 0.3 --json size.json`,
+  riskaudit samplesize --lp-mean -2.5 --lp-sd 1.2 --slope-width 0.3 --json size.json
+  riskaudit samplesize --lp-mean -3 --lp-sd 1 --calibration-intercept 0.3 --calibration-slope 0.8`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			fl := cmd.Flags()
@@ -116,13 +118,17 @@ largest requirement.`,
 			} else if sd <= 0 {
 				return usagef("--lp-sd must be positive")
 			}
-			res, err := samplesize.Compute(samplesize.Anticipated{LP: samplesize.Normal(mu, sd, 20000), C: c, Threshold: thr},
+			if !(calB > 0) {
+				return usagef("--calibration-slope %g: give a positive slope", calB)
+			}
+			res, err := samplesize.Compute(samplesize.Anticipated{LP: samplesize.Normal(mu, sd, 20000), C: c, Threshold: thr,
+				CalIntercept: calA, CalSlope: calB},
 				samplesize.Targets{OEWidth: oeW, SlopeWidth: slW, CWidth: cW, NBWidth: nbW})
 			if err != nil {
 				return usagef("%v", err)
 			}
 			w := s.out
-			fmt.Fprintf(w, "Linear predictor Normal(mean %.3f, SD %.3f): event proportion %.4f, C-statistic %.3f\n", mu, sd, res.EventRate, res.C)
+			fmt.Fprintf(w, "Linear predictor Normal(mean %.3f, SD %.3f): event proportion %.4f, C-statistic %.3f, O/E %.3f\n", mu, sd, res.EventRate, res.C, res.OE)
 			for _, cr := range res.Criteria {
 				fmt.Fprintf(w, "  %-36s %-20s n %7d (%d events)\n", cr.Measure, cr.Target, cr.N, cr.Events)
 			}
@@ -142,6 +148,8 @@ largest requirement.`,
 	f.Float64Var(&c, "c-statistic", 0, "anticipated C-statistic")
 	f.Float64Var(&mu, "lp-mean", 0, "mean of the linear predictor")
 	f.Float64Var(&sd, "lp-sd", 0, "standard deviation of the linear predictor")
+	f.Float64Var(&calA, "calibration-intercept", 0, "anticipated calibration intercept a (true risks expit(a + b·LP))")
+	f.Float64Var(&calB, "calibration-slope", 1, "anticipated calibration slope b")
 	f.Float64Var(&thr, "threshold", 0, "risk threshold for the net-benefit criterion (0: none)")
 	f.Float64Var(&oeW, "oe-width", 0.2, "target 95% CI width of O/E")
 	f.Float64Var(&slW, "slope-width", 0.2, "target 95% CI width of the calibration slope")
