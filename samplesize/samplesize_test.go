@@ -249,3 +249,22 @@ func TestImpliedOE(t *testing.T) {
 		t.Errorf("a calibrated model's O/E is %g", calibrated.OE)
 	}
 }
+
+// TestNewcombeIsHanleyMcNeilWhenBalanced: Newcombe's (2006) variance of
+// the C-statistic is the variance of Hanley & McNeil (1982, Radiology
+// 143:29–36), [C(1 − C) + (n₁ − 1)(Q₁ − C²) + (n₀ − 1)(Q₂ − C²)]/(n₁n₀)
+// with Q₁ = C/(2 − C) and Q₂ = 2C²/(1 + C) (formula recalled from memory),
+// with n₁ − 1 and n₀ − 1 both replaced by n/2 − 1; with as many events as
+// non-events the two agree exactly.
+func TestNewcombeIsHanleyMcNeilWhenBalanced(t *testing.T) {
+	for _, c := range []float64{0.55, 0.7, 0.85, 0.95} {
+		for _, n := range []float64{40, 200, 5000} {
+			n1, n0 := n/2, n/2
+			q1, q2 := c/(2-c), 2*c*c/(1+c)
+			hm := (c*(1-c) + (n1-1)*(q1-c*c) + (n0-1)*(q2-c*c)) / (n1 * n0)
+			if got := newcombeVar(c, 0.5, n); math.Abs(got/hm-1) > 1e-12 {
+				t.Errorf("C %g n %g: %g, Hanley–McNeil %g", c, n, got, hm)
+			}
+		}
+	}
+}
