@@ -96,6 +96,7 @@ type SeparationError struct {
 	Rows int
 }
 
+// Error says which columns separate the outcome and in how many rows.
 func (e *SeparationError) Error() string {
 	kind := "quasi-complete"
 	if e.Complete {
@@ -110,6 +111,7 @@ type CollinearError struct {
 	Columns []int
 }
 
+// Error names the collinear columns.
 func (e *CollinearError) Error() string {
 	return fmt.Sprintf("logistic: columns %v are linearly dependent", e.Columns)
 }

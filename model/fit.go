@@ -76,6 +76,7 @@ type SeparationError struct {
 	Terms    []string
 }
 
+// Error names the terms that separate the outcome.
 func (e *SeparationError) Error() string {
 	kind := "quasi-complete"
 	if e.Complete {
@@ -107,6 +108,7 @@ type FitError struct {
 	Err error
 }
 
+// Error is the message.
 func (e *FitError) Error() string { return e.Msg }
 
 // Unwrap returns the underlying error.

@@ -27,6 +27,7 @@ type SpecError struct {
 	Msg  string
 }
 
+// Error gives the file, the line when known, and the message.
 func (e *SpecError) Error() string {
 	if e.Line > 0 {
 		return fmt.Sprintf("%s: line %d: %s", e.File, e.Line, e.Msg)

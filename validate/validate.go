@@ -175,6 +175,7 @@ type RiskError struct {
 	Value float64
 }
 
+// Error says which row holds the bad risk and what it is.
 func (e *RiskError) Error() string {
 	return fmt.Sprintf("predicted risk %v of row %d is not in [0, 1]", e.Value, e.Row)
 }
