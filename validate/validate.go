@@ -142,7 +142,9 @@ type ColumnCount struct {
 }
 
 // CurvePoint is one point of the flexible calibration curve: the smoothed
-// observed risk at a predicted risk, with its pointwise 95% band.
+// observed risk at a predicted risk (as smoothed: a local linear fit can
+// stray a little outside [0, 1]), with its pointwise 95% band clipped to
+// [0, 1].
 type CurvePoint struct {
 	Predicted float64 `json:"predicted"`
 	Observed  float64 `json:"observed"`
@@ -330,10 +332,15 @@ func thinCurve(c metrics.LowessCurve, n int) []CurvePoint {
 	return out
 }
 
+// clamp01 keeps a band end within [0, 1]; a smooth a little outside
+// [0, 1] (LOWESS does not know its values are risks) keeps its band
+// ends in order.
+func clamp01(v float64) float64 { return math.Min(1, math.Max(0, v)) }
+
 func curvePoint(c metrics.LowessCurve, i int) CurvePoint {
 	h := metrics.Z975 * c.SE[i]
 	return CurvePoint{
 		Predicted: c.X[i], Observed: c.Fit[i],
-		Lower: math.Max(0, c.Fit[i]-h), Upper: math.Min(1, c.Fit[i]+h),
+		Lower: clamp01(c.Fit[i] - h), Upper: clamp01(c.Fit[i] + h),
 	}
 }

@@ -6,6 +6,8 @@ import (
 	"math/rand/v2"
 	"strings"
 	"testing"
+
+	"github.com/riskaudit/riskaudit/metrics"
 )
 
 // drawCohort draws outcomes whose true risk is the model's risk times factor,
@@ -82,6 +84,19 @@ func TestFractionWords(t *testing.T) {
 	for f, want := range map[float64]string{0.2: "about a fifth", 0.26: "about a quarter", 0.4: "about 40%", 0.5: "about a half"} {
 		if got := fractionWord(f); got != want {
 			t.Errorf("fractionWord(%v) = %q, want %q", f, got, want)
+		}
+	}
+}
+
+// TestCurveBandInOrder: where the smooth strays below 0 (a local linear
+// fit does not know it models a risk), the band is clipped to [0, 1]
+// with its lower end never above its upper end.
+func TestCurveBandInOrder(t *testing.T) {
+	c := metrics.LowessCurve{X: []float64{0.01, 0.5, 0.99}, Fit: []float64{-0.006, 0.5, 1.004}, SE: []float64{0, 0.01, 0.002}}
+	for i := range c.X {
+		p := curvePoint(c, i)
+		if !(0 <= p.Lower && p.Lower <= p.Upper && p.Upper <= 1) {
+			t.Errorf("point %d: band [%g, %g]", i, p.Lower, p.Upper)
 		}
 	}
 }
