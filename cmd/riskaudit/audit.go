@@ -143,7 +143,7 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.StringVar(&o.outcome, "outcome", "", "with --predicted: the outcome column")
 	f.StringVar(&o.event, "event", "", "with --predicted: the outcome value that is an event")
 	f.StringVar(&o.nonEvent, "non-event", "", "with --predicted: the value that is a non-event (then any other value is an error)")
-	f.StringVar(&o.cohortFile, "cohort", "", "the cohort to audit (CSV or TSV with a header row)")
+	f.StringVar(&o.cohortFile, "cohort", "", "the cohort to audit (CSV or TSV with a header row, Parquet, or Arrow IPC)")
 	f.StringVar(&o.devFile, "dev", "", "the development data, measured the same way for comparison")
 	f.StringVar(&o.out, "out", "", "folder for the report, audit.json and figures (created if absent)")
 	f.StringVar(&o.thresholds, "thresholds", "0.05:0.50:0.05", "decision-curve risk thresholds: FROM:TO:STEP or a comma-separated list")
@@ -177,8 +177,8 @@ func newAuditCmd(s *streams) *cobra.Command {
 	o.data.register(f)
 	_ = c.MarkFlagFilename("model", "yaml", "yml")
 	_ = c.MarkFlagFilename("plan", "yaml", "yml")
-	_ = c.MarkFlagFilename("cohort", "csv", "tsv", "txt")
-	_ = c.MarkFlagFilename("dev", "csv", "tsv", "txt")
+	_ = c.MarkFlagFilename("cohort", "csv", "tsv", "txt", "parquet", "arrow", "feather")
+	_ = c.MarkFlagFilename("dev", "csv", "tsv", "txt", "parquet", "arrow", "feather")
 	_ = c.MarkFlagDirname("out")
 	return c
 }

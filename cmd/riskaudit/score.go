@@ -49,7 +49,7 @@ stops the run). The outcome column is not needed.`,
 	}
 	f := c.Flags()
 	f.StringVar(&o.model, "model", "", "frozen model (YAML with an intercept and every coefficient)")
-	f.StringVar(&o.dataFile, "data", "", "cohort to score (CSV or TSV with a header row)")
+	f.StringVar(&o.dataFile, "data", "", "cohort to score (CSV or TSV with a header row, Parquet, or Arrow IPC)")
 	f.StringVar(&o.out, "out", "", "where to write the scored rows")
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
 	o.data.register(f)
@@ -57,7 +57,7 @@ stops the run). The outcome column is not needed.`,
 		_ = c.MarkFlagRequired(name)
 	}
 	_ = c.MarkFlagFilename("model", "yaml", "yml")
-	_ = c.MarkFlagFilename("data", "csv", "tsv", "txt")
+	_ = c.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather")
 	return c
 }
 
