@@ -10,12 +10,13 @@ import (
 	"testing"
 )
 
-// TestAuditJSONKeysDocumented runs an audit with every analysis switched
-// on (a recipe fitted on the development data, internal validation,
-// percentile intervals, subgroups, updating) and checks that every key
-// path of its audit.json is listed in docs/audit-json.md, so the
-// machine-readable output never grows an undocumented key.
-func TestAuditJSONKeysDocumented(t *testing.T) {
+// TestJSONKeysDocumented runs an audit with every analysis switched on
+// (a recipe fitted on the development data, internal validation,
+// percentile intervals, subgroups, updating), a fit with a nested
+// comparison and a comparison of two models, and checks that every key
+// path they write is listed in docs/json.md, so the machine-readable
+// outputs never grow an undocumented key.
+func TestJSONKeysDocumented(t *testing.T) {
 	dir := t.TempDir()
 	s := &streams{out: io.Discard, err: io.Discard}
 	demo := filepath.Join(dir, "demo")
@@ -32,17 +33,42 @@ func TestAuditJSONKeysDocumented(t *testing.T) {
 			t.Fatal(err)
 		}
 	}
-	raw, err := os.ReadFile(filepath.Join(dir, "audit", "audit.json"))
+	reduced := filepath.Join(dir, "reduced.yaml")
+	recipe, err := os.ReadFile(filepath.Join(demo, "recipe.yaml"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	var doc any
-	if err := json.Unmarshal(raw, &doc); err != nil {
+	// The recipe without its last predictor (lung_disease).
+	cut := strings.Index(string(recipe), "  - column: lung_disease")
+	if cut < 0 {
+		t.Fatal("the demo recipe has changed: no lung_disease predictor")
+	}
+	if err := os.WriteFile(reduced, recipe[:cut], 0o644); err != nil {
 		t.Fatal(err)
 	}
+	for _, args := range [][]string{
+		{"fit", "--model", filepath.Join(demo, "recipe.yaml"), "--reduced", reduced, "--data", filepath.Join(demo, "development.csv"),
+			"--out", filepath.Join(dir, "refit.yaml"), "--json", filepath.Join(dir, "fit.json"), "-q"},
+		{"compare", "--model", filepath.Join(demo, "frozen.yaml"), "--model", filepath.Join(dir, "updated.yaml"),
+			"--cohort", filepath.Join(demo, "later.csv"), "--out", filepath.Join(dir, "cmp"), "--bootstrap", "100", "-q"},
+	} {
+		if code := run(args, s); code != 0 {
+			t.Fatalf("riskaudit %s: exit status %d", args[0], code)
+		}
+	}
 	paths := map[string]bool{}
-	jsonPaths(doc, "", paths)
-	md, err := os.ReadFile("../../docs/audit-json.md")
+	for _, f := range []string{filepath.Join(dir, "audit", "audit.json"), filepath.Join(dir, "fit.json"), filepath.Join(dir, "cmp", "compare.json")} {
+		raw, err := os.ReadFile(f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var doc any
+		if err := json.Unmarshal(raw, &doc); err != nil {
+			t.Fatal(err)
+		}
+		jsonPaths(doc, "", paths)
+	}
+	md, err := os.ReadFile("../../docs/json.md")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -56,11 +82,16 @@ func TestAuditJSONKeysDocumented(t *testing.T) {
 		}
 	}
 	sort.Strings(missing)
+	for _, p := range []string{"nested.lr_chi2", "delong.difference_se", "update.chosen", "internal.shrinkage_factor", "bootstrap_ci.ici"} {
+		if !paths[p] {
+			t.Errorf("%s not written: an analysis did not run", p)
+		}
+	}
 	if len(paths) < 200 {
 		t.Errorf("only %d key paths: the audit did not run every analysis", len(paths))
 	}
 	if len(missing) > 0 {
-		t.Errorf("audit.json keys not in docs/audit-json.md:\n%s", strings.Join(missing, "\n"))
+		t.Errorf("audit.json keys not in docs/json.md:\n%s", strings.Join(missing, "\n"))
 	}
 }
 
