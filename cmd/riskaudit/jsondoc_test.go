@@ -91,7 +91,7 @@ func TestJSONKeysDocumented(t *testing.T) {
 		t.Errorf("only %d key paths: the audit did not run every analysis", len(paths))
 	}
 	if len(missing) > 0 {
-		t.Errorf("audit.json keys not in docs/json.md:\n%s", strings.Join(missing, "\n"))
+		t.Errorf("JSON keys not in docs/json.md:\n%s", strings.Join(missing, "\n"))
 	}
 }
 
