@@ -1,7 +1,8 @@
 // Package validate measures how a model's predicted risks perform on a
 // cohort with observed outcomes: discrimination, calibration, overall
 // accuracy and clinical usefulness, gathered into one result that the
-// report, the figures and the JSON are written from.
+// report, the figures and the JSON are written from. The JSON key of
+// every field, with its meaning, is listed in docs/json.md.
 package validate
 
 import (
