@@ -7,8 +7,10 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/internal/jsonout"
+	"github.com/riskaudit/riskaudit/model"
 	"github.com/riskaudit/riskaudit/plan"
 	"github.com/riskaudit/riskaudit/samplesize"
 	"github.com/riskaudit/riskaudit/validate"
@@ -82,79 +84,168 @@ func sampleSizeOf(sc *scored, perf *validate.Performance, classifyAt []float64, 
 	return out
 }
 
+// sizeOptions are the samplesize command's flags.
+type sizeOptions struct {
+	phi, c, mu, sd, thr, calA, calB float64
+	widths                          samplesize.Targets
+	model, dataFile, jsonOut        string
+	data                            dataFlags
+}
+
 func newSampleSizeCmd(s *streams) *cobra.Command {
-	var phi, c, mu, sd, thr, oeW, slW, cW, nbW, calA, calB float64
-	var jsonOut string
+	o := &sizeOptions{}
 	cmd := &cobra.Command{
-		Use:   "samplesize (--event-rate P --c-statistic C | --lp-mean M --lp-sd S)",
+		Use:   "samplesize (--event-rate P --c-statistic C | --lp-mean M --lp-sd S | --model M --data FILE)",
 		Short: "Plan an external validation: the minimum sample size for precise estimates",
 		Long: `Compute the minimum sample size of an external validation study of a
 binary-outcome model, criterion by criterion (after Riley et al. 2021):
 precise O/E, calibration slope, C-statistic and, with --threshold,
-standardised net benefit, each from a target 95% CI width. The linear
-predictor is taken as normal: give its mean and SD, or the anticipated
-event proportion and C-statistic, from which the normal distribution of a
-calibrated model's linear predictor is found. An anticipated miscalibration
+standardised net benefit, each from a target 95% CI width.
+
+The anticipated distribution of the model's linear predictor comes from
+one of: its normal mean and SD (--lp-mean, --lp-sd); the anticipated
+event proportion and C-statistic (--event-rate, --c-statistic), from which
+the normal distribution of a calibrated model's linear predictor is
+found; or a frozen model scored on existing data without outcomes, such
+as a pilot extract of the target population (--model, --data), whose
+linear predictors are taken as they are. An anticipated miscalibration
 (--calibration-intercept a, --calibration-slope b) makes the true risks
-expit(a + b·LP). The recommended size is the largest requirement.`,
+expit(a + b·LP); --c-statistic otherwise replaces the C-statistic the
+distribution implies. The recommended size is the largest requirement.`,
 		Example: `  riskaudit samplesize --event-rate 0.1 --c-statistic 0.75 --threshold 0.1
   riskaudit samplesize --lp-mean -2.5 --lp-sd 1.2 --slope-width 0.3 --json size.json
-  riskaudit samplesize --lp-mean -3 --lp-sd 1 --calibration-intercept 0.3 --calibration-slope 0.8`,
+  riskaudit samplesize --lp-mean -3 --lp-sd 1 --calibration-intercept 0.3 --calibration-slope 0.8
+  riskaudit samplesize --model frozen.yaml --data pilot-extract.csv --calibration-intercept 0.2`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			fl := cmd.Flags()
-			if fl.Changed("lp-mean") != fl.Changed("lp-sd") {
-				return usagef("give --lp-mean and --lp-sd together")
-			}
-			if !fl.Changed("lp-mean") {
-				if !fl.Changed("event-rate") || !fl.Changed("c-statistic") {
-					return usagef("give --event-rate and --c-statistic, or --lp-mean and --lp-sd")
-				}
-				var err error
-				if mu, sd, err = samplesize.NormalFor(phi, c); err != nil {
-					return usagef("%v", err)
-				}
-				c = 0
-			} else if sd <= 0 {
-				return usagef("--lp-sd must be positive")
-			}
-			if !(calB > 0) {
-				return usagef("--calibration-slope %g: give a positive slope", calB)
-			}
-			res, err := samplesize.Compute(samplesize.Anticipated{LP: samplesize.Normal(mu, sd, 20000), C: c, Threshold: thr,
-				CalIntercept: calA, CalSlope: calB},
-				samplesize.Targets{OEWidth: oeW, SlopeWidth: slW, CWidth: cW, NBWidth: nbW})
-			if err != nil {
-				return usagef("%v", err)
-			}
-			w := s.out
-			fmt.Fprintf(w, "Linear predictor Normal(mean %.3f, SD %.3f): event proportion %.4f, C-statistic %.3f, O/E %.3f\n", mu, sd, res.EventRate, res.C, res.OE)
-			for _, cr := range res.Criteria {
-				fmt.Fprintf(w, "  %-36s %-20s n %7d (%d events)\n", cr.Measure, cr.Target, cr.N, cr.Events)
-			}
-			fmt.Fprintf(w, "Minimum sample size %d (%d events), driven by the %s criterion\n", res.N, res.Events, res.Driver)
-			if jsonOut != "" {
-				b, err := jsonout.Marshal(res)
-				if err != nil {
-					return err
-				}
-				return atomicfile.WriteFile(jsonOut, b)
-			}
-			return nil
+			return runSampleSize(cmd, o, s)
 		},
 	}
 	f := cmd.Flags()
-	f.Float64Var(&phi, "event-rate", 0, "anticipated event proportion")
-	f.Float64Var(&c, "c-statistic", 0, "anticipated C-statistic")
-	f.Float64Var(&mu, "lp-mean", 0, "mean of the linear predictor")
-	f.Float64Var(&sd, "lp-sd", 0, "standard deviation of the linear predictor")
-	f.Float64Var(&calA, "calibration-intercept", 0, "anticipated calibration intercept a (true risks expit(a + b·LP))")
-	f.Float64Var(&calB, "calibration-slope", 1, "anticipated calibration slope b")
-	f.Float64Var(&thr, "threshold", 0, "risk threshold for the net-benefit criterion (0: none)")
-	f.Float64Var(&oeW, "oe-width", 0.2, "target 95% CI width of O/E")
-	f.Float64Var(&slW, "slope-width", 0.2, "target 95% CI width of the calibration slope")
-	f.Float64Var(&cW, "c-width", 0.1, "target 95% CI width of the C-statistic")
-	f.Float64Var(&nbW, "nb-width", 0.2, "target 95% CI width of the standardised net benefit")
-	f.StringVar(&jsonOut, "json", "", "also write the result as JSON")
+	f.Float64Var(&o.phi, "event-rate", 0, "anticipated event proportion")
+	f.Float64Var(&o.c, "c-statistic", 0, "anticipated C-statistic")
+	f.Float64Var(&o.mu, "lp-mean", 0, "mean of the linear predictor")
+	f.Float64Var(&o.sd, "lp-sd", 0, "standard deviation of the linear predictor")
+	f.StringVar(&o.model, "model", "", "a frozen model whose linear predictor --data gives")
+	f.StringVar(&o.dataFile, "data", "", "data to score with --model (outcomes not needed): CSV or TSV with a header row, Parquet, or Arrow IPC")
+	f.Float64Var(&o.calA, "calibration-intercept", 0, "anticipated calibration intercept a (true risks expit(a + b·LP))")
+	f.Float64Var(&o.calB, "calibration-slope", 1, "anticipated calibration slope b")
+	f.Float64Var(&o.thr, "threshold", 0, "risk threshold for the net-benefit criterion (0: none)")
+	def := samplesize.DefaultTargets()
+	f.Float64Var(&o.widths.OEWidth, "oe-width", def.OEWidth, "target 95% CI width of O/E")
+	f.Float64Var(&o.widths.SlopeWidth, "slope-width", def.SlopeWidth, "target 95% CI width of the calibration slope")
+	f.Float64Var(&o.widths.CWidth, "c-width", def.CWidth, "target 95% CI width of the C-statistic")
+	f.Float64Var(&o.widths.NBWidth, "nb-width", def.NBWidth, "target 95% CI width of the standardised net benefit")
+	f.StringVar(&o.jsonOut, "json", "", "also write the result as JSON")
+	o.data.register(f)
+	_ = cmd.MarkFlagFilename("model", "yaml", "yml")
+	_ = cmd.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather")
 	return cmd
+}
+
+func runSampleSize(cmd *cobra.Command, o *sizeOptions, s *streams) error {
+	fl := cmd.Flags()
+	byLP, byRate, byData := fl.Changed("lp-mean") || fl.Changed("lp-sd"), fl.Changed("event-rate"), o.model != "" || o.dataFile != ""
+	switch {
+	case fl.Changed("lp-mean") != fl.Changed("lp-sd"):
+		return usagef("give --lp-mean and --lp-sd together")
+	case (o.model == "") != (o.dataFile == ""):
+		return usagef("give --model and --data together")
+	case byLP && byRate || byLP && byData || byRate && byData:
+		return usagef("give the linear predictor one way: --lp-mean and --lp-sd, --event-rate and --c-statistic, or --model and --data")
+	case byRate && !fl.Changed("c-statistic"):
+		return usagef("give --event-rate and --c-statistic, or --lp-mean and --lp-sd")
+	case !byLP && !byRate && !byData:
+		return usagef("give --event-rate and --c-statistic, --lp-mean and --lp-sd, or --model and --data")
+	case byLP && !(o.sd > 0):
+		return usagef("--lp-sd must be positive")
+	case !(o.calB > 0):
+		return usagef("--calibration-slope %g: give a positive slope", o.calB)
+	}
+	if fl.Changed("c-statistic") && !(o.c > 0.5 && o.c < 1) {
+		return usagef("--c-statistic %g: give a C-statistic in (0.5, 1)", o.c)
+	}
+	var lp []float64
+	var about string
+	c := o.c
+	switch {
+	case byData:
+		var err error
+		if lp, about, err = scoredLP(o); err != nil {
+			return err
+		}
+	case byRate:
+		var err error
+		if o.mu, o.sd, err = samplesize.NormalFor(o.phi, o.c); err != nil {
+			return usagef("%v", err)
+		}
+		c = 0
+		fallthrough
+	default:
+		lp = samplesize.Normal(o.mu, o.sd, 20000)
+		about = fmt.Sprintf("Linear predictor Normal(mean %.3f, SD %.3f)", o.mu, o.sd)
+	}
+	res, err := samplesize.Compute(samplesize.Anticipated{LP: lp, C: c, Threshold: o.thr, CalIntercept: o.calA, CalSlope: o.calB}, o.widths)
+	if err != nil {
+		return usagef("%v", err)
+	}
+	w := s.out
+	fmt.Fprintf(w, "%s: event proportion %.4f, C-statistic %.3f, O/E %.3f\n", about, res.EventRate, res.C, res.OE)
+	for _, cr := range res.Criteria {
+		fmt.Fprintf(w, "  %-36s %-20s n %7d (%d events)\n", cr.Measure, cr.Target, cr.N, cr.Events)
+	}
+	fmt.Fprintf(w, "Minimum sample size %d (%d events), driven by the %s criterion\n", res.N, res.Events, res.Driver)
+	if o.jsonOut != "" {
+		b, err := jsonout.Marshal(res)
+		if err != nil {
+			return err
+		}
+		return atomicfile.WriteFile(o.jsonOut, b)
+	}
+	return nil
+}
+
+// scoredLP scores --data with the frozen --model and returns the linear
+// predictors of its complete rows, and a line describing them.
+func scoredLP(o *sizeOptions) ([]float64, string, error) {
+	copt, fail, err := o.data.options()
+	if err != nil {
+		return nil, "", err
+	}
+	spec, err := model.LoadSpec(o.model)
+	if err != nil {
+		return nil, "", err
+	}
+	if !spec.Frozen() {
+		return nil, "", &model.SpecError{File: o.model, Msg: "this is a recipe (it has no intercept): fit it first with 'riskaudit fit'"}
+	}
+	fr, err := cohort.Load(o.dataFile, spec.Columns(false), copt)
+	if err != nil {
+		return nil, "", err
+	}
+	d, m, err := model.Build(spec, fr, model.Options{FailOnMissing: fail, NoMatrix: true})
+	if err != nil {
+		return nil, "", err
+	}
+	beta, err := d.Coefficients()
+	if err != nil {
+		return nil, "", err
+	}
+	lp, err := d.LinearPredictors(m, beta)
+	if err != nil {
+		return nil, "", err
+	}
+	if len(lp) < 10 {
+		return nil, "", &cohort.Error{File: o.dataFile, Msg: fmt.Sprintf("only %d complete rows: the linear predictor's distribution needs at least 10", len(lp))}
+	}
+	var mean, ss float64
+	for _, v := range lp {
+		mean += v
+	}
+	mean /= float64(len(lp))
+	for _, v := range lp {
+		ss += (v - mean) * (v - mean)
+	}
+	about := fmt.Sprintf("Linear predictor of %s on %d rows of %s (mean %.3f, SD %.3f)", o.model, len(lp), o.dataFile, mean, math.Sqrt(ss/float64(len(lp)-1)))
+	return lp, about, nil
 }
