@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"github.com/spf13/cobra"
+	"github.com/spf13/pflag"
 
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
@@ -131,16 +132,22 @@ distribution implies. The recommended size is the largest requirement.`,
 	f.Float64Var(&o.calA, "calibration-intercept", 0, "anticipated calibration intercept a (true risks expit(a + b·LP))")
 	f.Float64Var(&o.calB, "calibration-slope", 1, "anticipated calibration slope b")
 	f.Float64Var(&o.thr, "threshold", 0, "risk threshold for the net-benefit criterion (0: none)")
-	def := samplesize.DefaultTargets()
-	f.Float64Var(&o.widths.OEWidth, "oe-width", def.OEWidth, "target 95% CI width of O/E")
-	f.Float64Var(&o.widths.SlopeWidth, "slope-width", def.SlopeWidth, "target 95% CI width of the calibration slope")
-	f.Float64Var(&o.widths.CWidth, "c-width", def.CWidth, "target 95% CI width of the C-statistic")
-	f.Float64Var(&o.widths.NBWidth, "nb-width", def.NBWidth, "target 95% CI width of the standardised net benefit")
+	widthFlags(f, "", &o.widths.OEWidth, &o.widths.SlopeWidth, &o.widths.CWidth, &o.widths.NBWidth)
 	f.StringVar(&o.jsonOut, "json", "", "also write the result as JSON")
 	o.data.register(f)
 	_ = cmd.MarkFlagFilename("model", "yaml", "yml")
 	_ = cmd.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather")
 	return cmd
+}
+
+// widthFlags registers the target 95% CI widths of the sample-size
+// criteria, with their defaults; what prefixes each flag's help.
+func widthFlags(f *pflag.FlagSet, what string, oe, slope, c, nb *float64) {
+	def := samplesize.DefaultTargets()
+	f.Float64Var(oe, "oe-width", def.OEWidth, what+"target 95% CI width of O/E")
+	f.Float64Var(slope, "slope-width", def.SlopeWidth, what+"target 95% CI width of the calibration slope")
+	f.Float64Var(c, "c-width", def.CWidth, what+"target 95% CI width of the C-statistic")
+	f.Float64Var(nb, "nb-width", def.NBWidth, what+"target 95% CI width of the standardised net benefit")
 }
 
 func runSampleSize(cmd *cobra.Command, o *sizeOptions, s *streams) error {
