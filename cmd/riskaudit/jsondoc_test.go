@@ -13,7 +13,8 @@ import (
 // TestJSONKeysDocumented runs an audit with every analysis switched on
 // (a recipe fitted on the development data, internal validation,
 // percentile intervals, subgroups, updating), a fit with a nested
-// comparison and a comparison of two models, and checks that every key
+// comparison, a comparison of two models and a sample-size plan, and
+// checks that every key
 // path they write is listed in docs/json.md, so the machine-readable
 // outputs never grow an undocumented key.
 func TestJSONKeysDocumented(t *testing.T) {
@@ -51,13 +52,15 @@ func TestJSONKeysDocumented(t *testing.T) {
 			"--out", filepath.Join(dir, "refit.yaml"), "--json", filepath.Join(dir, "fit.json"), "-q"},
 		{"compare", "--model", filepath.Join(demo, "frozen.yaml"), "--model", filepath.Join(dir, "updated.yaml"),
 			"--cohort", filepath.Join(demo, "later.csv"), "--out", filepath.Join(dir, "cmp"), "--bootstrap", "100", "-q"},
+		{"samplesize", "--model", filepath.Join(demo, "frozen.yaml"), "--data", filepath.Join(demo, "later.csv"),
+			"--threshold", "0.1", "--json", filepath.Join(dir, "size.json")},
 	} {
 		if code := run(args, s); code != 0 {
 			t.Fatalf("riskaudit %s: exit status %d", args[0], code)
 		}
 	}
 	paths := map[string]bool{}
-	for _, f := range []string{filepath.Join(dir, "audit", "audit.json"), filepath.Join(dir, "fit.json"), filepath.Join(dir, "cmp", "compare.json")} {
+	for _, f := range []string{filepath.Join(dir, "audit", "audit.json"), filepath.Join(dir, "fit.json"), filepath.Join(dir, "cmp", "compare.json"), filepath.Join(dir, "size.json")} {
 		raw, err := os.ReadFile(f)
 		if err != nil {
 			t.Fatal(err)
@@ -82,7 +85,7 @@ func TestJSONKeysDocumented(t *testing.T) {
 		}
 	}
 	sort.Strings(missing)
-	for _, p := range []string{"nested.lr_chi2", "delong.difference_se", "update.chosen", "internal.shrinkage_factor", "bootstrap_ci.ici"} {
+	for _, p := range []string{"nested.lr_chi2", "delong.difference_se", "update.chosen", "internal.shrinkage_factor", "bootstrap_ci.ici", "criteria[].formula"} {
 		if !paths[p] {
 			t.Errorf("%s not written: an analysis did not run", p)
 		}

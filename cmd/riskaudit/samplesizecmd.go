@@ -85,6 +85,19 @@ func sampleSizeOf(sc *scored, perf *validate.Performance, classifyAt []float64, 
 	return out
 }
 
+// sizeReport is the samplesize command's JSON: the anticipated values,
+// then the result's fields.
+type sizeReport struct {
+	Schema          string  `json:"schema"`
+	LinearPredictor string  `json:"linear_predictor"`
+	CalIntercept    float64 `json:"calibration_intercept"`
+	CalSlope        float64 `json:"calibration_slope"`
+	Threshold       float64 `json:"threshold,omitempty"`
+	*samplesize.Result
+	Tool        string `json:"tool"`
+	CommandLine string `json:"command_line"`
+}
+
 // sizeOptions are the samplesize command's flags.
 type sizeOptions struct {
 	phi, c, mu, sd, thr, calA, calB float64
@@ -203,7 +216,9 @@ func runSampleSize(cmd *cobra.Command, o *sizeOptions, s *streams) error {
 	}
 	fmt.Fprintf(w, "Minimum sample size %d (%d events), driven by the %s criterion\n", res.N, res.Events, res.Driver)
 	if o.jsonOut != "" {
-		b, err := jsonout.Marshal(res)
+		b, err := jsonout.Marshal(sizeReport{Schema: "riskaudit.samplesize/1", LinearPredictor: about,
+			CalIntercept: o.calA, CalSlope: o.calB, Threshold: o.thr, Result: res,
+			Tool: "riskaudit " + toolVersion(), CommandLine: s.commandLine()})
 		if err != nil {
 			return err
 		}
