@@ -127,31 +127,8 @@ func TestArrowIPCMatchesParquet(t *testing.T) {
 	g := []string{"b", "a", "<null>", "c"}
 	pq := filepath.Join(dir, "d.parquet")
 	writeParquet(t, pq, x, valid, n, g, []string{"1", "2", "3", "4"})
-	mem := memory.DefaultAllocator
-	schema := arrow.NewSchema([]arrow.Field{
-		{Name: "x", Type: arrow.PrimitiveTypes.Float64, Nullable: true},
-		{Name: "n", Type: arrow.PrimitiveTypes.Int64},
-		{Name: "g", Type: arrow.BinaryTypes.String, Nullable: true},
-	}, nil)
-	b := array.NewRecordBuilder(mem, schema)
-	b.Field(0).(*array.Float64Builder).AppendValues(x, valid)
-	b.Field(1).(*array.Int64Builder).AppendValues(n, nil)
-	b.Field(2).(*array.StringBuilder).AppendValues(g, []bool{true, true, false, true})
-	rec := b.NewRecord()
 	ap := filepath.Join(dir, "d.arrow")
-	f, err := os.Create(ap)
-	if err != nil {
-		t.Fatal(err)
-	}
-	w, err := ipc.NewFileWriter(f, ipc.WithSchema(schema))
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := w.Write(rec); err != nil {
-		t.Fatal(err)
-	}
-	w.Close()
-	f.Close()
+	writeArrow(t, ap, x, valid, n, g)
 	reqs := []Request{{Name: "g", Kind: Categorical}, {Name: "x", Kind: Numeric}, {Name: "n", Kind: Numeric}}
 	a, err := Load(ap, reqs, Options{})
 	if err != nil {
@@ -170,5 +147,100 @@ func TestArrowIPCMatchesParquet(t *testing.T) {
 	}
 	if a.Column("x").Missing != 1 || a.Column("g").Missing != 1 {
 		t.Errorf("missing counts %d %d", a.Column("x").Missing, a.Column("g").Missing)
+	}
+}
+
+// writeArrow writes the columns x (nulls where valid is false), n and g
+// ("<null>" for a null) as an Arrow IPC file.
+func writeArrow(t testing.TB, path string, x []float64, valid []bool, n []int64, g []string) {
+	t.Helper()
+	schema := arrow.NewSchema([]arrow.Field{
+		{Name: "x", Type: arrow.PrimitiveTypes.Float64, Nullable: true},
+		{Name: "n", Type: arrow.PrimitiveTypes.Int64},
+		{Name: "g", Type: arrow.BinaryTypes.String, Nullable: true},
+	}, nil)
+	b := array.NewRecordBuilder(memory.DefaultAllocator, schema)
+	defer b.Release()
+	b.Field(0).(*array.Float64Builder).AppendValues(x, valid)
+	b.Field(1).(*array.Int64Builder).AppendValues(n, nil)
+	gv := make([]bool, len(g))
+	for i, s := range g {
+		gv[i] = s != "<null>"
+	}
+	b.Field(2).(*array.StringBuilder).AppendValues(g, gv)
+	rec := b.NewRecord()
+	defer rec.Release()
+	f, err := os.Create(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	w, err := ipc.NewFileWriter(f, ipc.WithSchema(schema))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := w.Write(rec); err != nil {
+		t.Fatal(err)
+	}
+	if err := w.Close(); err != nil {
+		t.Fatal(err)
+	}
+	f.Close()
+}
+
+// TestAppendColumns: scored columns appended to a Parquet or Arrow file
+// come back as written (NaN as missing), and the file's own columns are
+// unchanged, types included.
+func TestAppendColumns(t *testing.T) {
+	dir := t.TempDir()
+	x := []float64{0.5, 1.25, -3, 8}
+	valid := []bool{true, true, false, true}
+	n := []int64{1, 2, 3, 4}
+	g := []string{"b", "a", "<null>", "c"}
+	pq := filepath.Join(dir, "d.parquet")
+	writeParquet(t, pq, x, valid, n, g, []string{"1", "2", "3", "4"})
+	ap := filepath.Join(dir, "d.arrow")
+	writeArrow(t, ap, x, valid, n, g)
+	score := []float64{-1.5, 0.25, math.NaN(), 2}
+	for _, tc := range []struct{ path, format string }{{pq, "parquet"}, {ap, "arrow"}} {
+		if got := Format(tc.path, "auto"); got != tc.format {
+			t.Fatalf("Format(%s) = %s", tc.path, got)
+		}
+		out, err := AppendColumns(tc.path, tc.format, []string{"s"}, [][]float64{score})
+		if err != nil {
+			t.Fatal(err)
+		}
+		dst := filepath.Join(dir, "scored."+tc.format)
+		if err := os.WriteFile(dst, out, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		fr, err := Load(dst, []Request{{Name: "x", Kind: Numeric}, {Name: "n", Kind: Numeric}, {Name: "g", Kind: Categorical}, {Name: "s", Kind: Numeric}}, Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if want := []string{"x", "n", "g", "s"}; tc.format == "arrow" && strings.Join(fr.Header, ",") != strings.Join(want, ",") {
+			t.Errorf("%s: header %v", tc.format, fr.Header)
+		}
+		for i := range score {
+			s, xs := fr.Column("s").Num[i], fr.Column("x").Num[i]
+			if !(s == score[i] || math.IsNaN(s) && math.IsNaN(score[i])) || !(xs == x[i] || !valid[i] && math.IsNaN(xs)) ||
+				fr.Column("n").Num[i] != float64(n[i]) || (fr.Column("g").Codes[i] < 0) != (g[i] == "<null>") {
+				t.Errorf("%s row %d: s %v x %v n %v", tc.format, i, s, xs, fr.Column("n").Num[i])
+			}
+		}
+		if fr.Column("s").Missing != 1 {
+			t.Errorf("%s: %d missing scores, want 1", tc.format, fr.Column("s").Missing)
+		}
+		// The original column keeps its integer type.
+		tbl, err := readTable(dst, tc.format)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if typ := tbl.Schema().Field(1).Type; typ.ID() != arrow.INT64 {
+			t.Errorf("%s: column n is now %s", tc.format, typ)
+		}
+		tbl.Release()
+	}
+	if _, err := AppendColumns(pq, "parquet", []string{"s"}, [][]float64{score[:2]}); err == nil {
+		t.Error("a short column should be refused")
 	}
 }

@@ -4,8 +4,10 @@ import (
 	"bytes"
 	"fmt"
 	"math"
+	"path/filepath"
 	"slices"
 	"strconv"
+	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -38,12 +40,19 @@ as it was, in the same order and with the same delimiter, followed by two
 columns: ` + lpColumn + ` (intercept + Σ coefficient × term) and
 ` + riskColumn + ` (1 / (1 + exp(−linear predictor))). A row missing a
 value the model needs gets two empty fields (or, with --missing fail,
-stops the run). The outcome column is not needed.`,
+stops the run). The outcome column is not needed.
+
+A Parquet or Arrow IPC cohort gives a file of the same format: every
+column with its type, then the two columns as float64, null where a row
+was not scored.`,
 		Example: `  # Score a new extract with the frozen model
   riskaudit score --model frozen.yaml --data new.csv --out scored.csv
 
   # A tab-separated extract in which -99 means missing
-  riskaudit score --model frozen.yaml --data new.tsv --na-values=-99 --out scored.tsv`,
+  riskaudit score --model frozen.yaml --data new.tsv --na-values=-99 --out scored.tsv
+
+  # A Parquet extract gives a Parquet file
+  riskaudit score --model frozen.yaml --data new.parquet --out scored.parquet`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error { return runScore(o, s) },
 	}
@@ -76,7 +85,11 @@ func runScore(o *scoreOptions, s *streams) error {
 	if !spec.Frozen() {
 		return &model.SpecError{File: o.model, Msg: "this is a recipe (it has no intercept): fit it first with 'riskaudit fit'"}
 	}
-	copt.KeepRecords = true
+	format := cohort.Format(o.dataFile, copt.Format)
+	if err := checkScoredName(o.out, format); err != nil {
+		return err
+	}
+	copt.KeepRecords = format == "csv"
 	fr, err := cohort.Load(o.dataFile, spec.Columns(false), copt)
 	if err != nil {
 		return err
@@ -101,7 +114,18 @@ func runScore(o *scoreOptions, s *streams) error {
 	for r, v := range model.LinearPredictors(m, beta) {
 		lp[m.Rows[r]] = v
 	}
-	out := scoredCSV(fr, lp, copt.DecimalComma)
+	var out []byte
+	if format == "csv" {
+		out = scoredCSV(fr, lp, copt.DecimalComma)
+	} else {
+		risk := make([]float64, len(lp))
+		for i, v := range lp {
+			risk[i] = model.Risk(v) // NaN stays NaN: written as null
+		}
+		if out, err = cohort.AppendColumns(o.dataFile, format, []string{lpColumn, riskColumn}, [][]float64{lp, risk}); err != nil {
+			return err
+		}
+	}
 	if err := atomicfile.WriteFile(o.out, out); err != nil {
 		return err
 	}
@@ -111,6 +135,28 @@ func runScore(o *scoreOptions, s *streams) error {
 			fmt.Fprintf(s.out, "; %d rows left unscored for missing values (%s)", m.Excluded, describeExclusions(m.ByColumn))
 		}
 		fmt.Fprintf(s.out, "\nWrote %s\n", o.out)
+	}
+	return nil
+}
+
+// checkScoredName refuses an output name whose extension names another
+// format than the scored file will have (the input's own).
+func checkScoredName(out, format string) error {
+	ext := strings.ToLower(filepath.Ext(out))
+	var want string
+	switch ext {
+	case ".csv", ".tsv", ".txt":
+		want = "csv"
+	case ".parquet", ".pq":
+		want = "parquet"
+	case ".arrow", ".feather", ".ipc":
+		want = "arrow"
+	default:
+		return nil
+	}
+	if want != format {
+		names := map[string]string{"csv": "delimited text", "parquet": "Parquet", "arrow": "Arrow IPC"}
+		return usagef("--out %s: the scored file keeps the input's format (%s); give it a matching name", out, names[format])
 	}
 	return nil
 }
