@@ -66,8 +66,9 @@ type auditOptions struct {
 }
 
 const auditLong = `Measure how a model performs on a cohort with observed outcomes and write
-an audit report: DIR/report.md, DIR/audit.json and four SVG figures
-(calibration, ROC curve, decision curve, predicted risk by outcome).
+an audit report: DIR/report.md, DIR/audit.json and SVG figures
+(calibration, ROC curve, decision curve, predicted risk by outcome, and
+the subgroups and case-mix when those analyses run).
 
 The risks come either from a frozen model (--model), which scores every
 complete row of the cohort, or from a column of risks predicted by any
