@@ -92,6 +92,19 @@ apparent values (Efron 1983; Harrell, Lee & Mark 1996). A recipe given as
 development data. The same --seed gives the same numbers whatever
 --workers.
 
+Case-mix: with --model, --dev and --cohort, the report compares the two
+populations predictor by predictor (standardised differences,
+missingness), the spread of the linear predictor, and a membership model
+telling their rows apart (Debray et al. 2015), and says whether a change
+in performance fits a change in case-mix.
+
+Updating: with --update FILE, the model is updated on the cohort by
+recalibration in the large, logistic recalibration or revision, chosen by
+the closed testing procedure of Vergouwe et al. (2017), and written to
+FILE as a frozen model with its provenance; its expected performance comes
+from --update-bootstrap replicates. An updated model needs its own
+validation before use.
+
 Sample size: every report compares the cohort's size with the minimum
 sample size for precise O/E, calibration slope, C-statistic and
 standardised net benefit (Riley et al. 2021), from target 95% CI widths
@@ -115,6 +128,12 @@ const auditExample = `  # Audit a frozen model on a fresh extract
   # replicates, keep the draws and a shrunken model, and audit a new cohort
   riskaudit audit --model recipe.yaml --dev dev.csv --bootstrap 500 --seed 1 \
     --resample-log draws.txt --shrunken shrunk.yaml --cohort new.csv --out audit
+
+  # Case-mix against the development data, and the smallest sound update
+  riskaudit audit --model frozen.yaml --dev dev.csv --cohort new.csv --update updated.yaml --out audit
+
+  # A scheduled audit from a plan (flags override it)
+  riskaudit audit --plan monthly-audit.yaml --cohort extracts/2026-12.parquet
 
   # Percentile intervals for ICI, E50, E90, scaled Brier and net benefit
   riskaudit audit --model frozen.yaml --cohort new.csv --ci-bootstrap 500 --out audit
