@@ -176,11 +176,9 @@ func Compute(a Anticipated, t Targets) (*Result, error) {
 	add(Criterion{Measure: "C-statistic", Target: fmt.Sprintf("95%% CI width %g", t.CWidth), SE: se,
 		N: solve(func(n float64) float64 { return math.Sqrt(newcombeVar(c, phi, n)) }, se), Formula: "Newcombe (2006) variance"})
 	if a.Threshold > 0 && a.Threshold < 1 {
-		// Standardised net benefit sNB = (π₁ − wπ₂)/(π₁ + π₃), w = t/(1 − t),
-		// with π₁, π₂, π₃ the shares of true positives, false positives
-		// and false negatives (multinomial): its delta-method variance is
-		// [Σ gᵢ²πᵢ − (Σ gᵢπᵢ)²]/n with the gradient g = ((π₃ + wπ₂)/φ²,
-		// −w/φ, −(π₁ − wπ₂)/φ²), φ = π₁ + π₃.
+		// Standardised net benefit at threshold t, w = t/(1 − t): the
+		// cells of true positives, false positives and false negatives
+		// over the LP distribution, then snbVariance.
 		w := a.Threshold / (1 - a.Threshold)
 		cut := math.Log(w) // expit(v) ≥ t exactly when v ≥ logit(t)
 		var tp, fp, fn float64
@@ -192,16 +190,24 @@ func Compute(a Anticipated, t Targets) (*Result, error) {
 				fn += p[i]
 			}
 		}
-		p1, p2, p3 := tp/k, fp/k, fn/k
-		f := p1 + p3
-		g1, g2, g3 := (p3+w*p2)/(f*f), -w/f, -(p1-w*p2)/(f*f)
-		m := g1*p1 + g2*p2 + g3*p3
-		v1 := g1*g1*p1 + g2*g2*p2 + g3*g3*p3 - m*m
+		v1 := snbVariance(tp/k, fp/k, fn/k, w)
 		se = t.NBWidth / (2 * z)
 		add(Criterion{Measure: fmt.Sprintf("standardised net benefit at %g", a.Threshold), Target: fmt.Sprintf("95%% CI width %g", t.NBWidth), SE: se,
 			N: ceil(v1 / (se * se)), Formula: "delta-method variance of NB/φ over the multinomial cells"})
 	}
 	return r, nil
+}
+
+// snbVariance is n times the delta-method variance of the standardised
+// net benefit (π₁ − wπ₂)/(π₁ + π₃) estimated from n patients, with π₁, π₂
+// and π₃ the shares of true positives, false positives and false
+// negatives (multinomial cells): Σ gᵢ²πᵢ − (Σ gᵢπᵢ)² with the gradient
+// g = ((π₃ + wπ₂)/φ², −w/φ, −(π₁ − wπ₂)/φ²), φ = π₁ + π₃.
+func snbVariance(p1, p2, p3, w float64) float64 {
+	f := p1 + p3
+	g1, g2, g3 := (p3+w*p2)/(f*f), -w/f, -(p1-w*p2)/(f*f)
+	m := g1*p1 + g2*p2 + g3*p3
+	return g1*g1*p1 + g2*g2*p2 + g3*g3*p3 - m*m
 }
 
 func ceil(x float64) int { return int(math.Ceil(x)) }

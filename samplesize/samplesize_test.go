@@ -268,3 +268,25 @@ func TestNewcombeIsHanleyMcNeilWhenBalanced(t *testing.T) {
 		}
 	}
 }
+
+// TestNetBenefitVarianceBySensitivity: written with sensitivity,
+// specificity and the event proportion φ, which are asymptotically
+// independent with variances sens(1 − sens)/(nφ), spec(1 − spec)/(n(1 − φ))
+// and φ(1 − φ)/n, the delta method gives for sNB = sens − w(1 − spec)(1 −
+// φ)/φ the variance [sens(1 − sens)/φ + w²spec(1 − spec)(1 − φ)/φ² +
+// w²(1 − spec)²(1 − φ)/φ³]/n, the form used by Riley et al. (2021) as we
+// recall it (from memory). The multinomial form used here must agree.
+func TestNetBenefitVarianceBySensitivity(t *testing.T) {
+	for _, c := range []struct{ phi, sens, spec, thr float64 }{
+		{0.1, 0.8, 0.7, 0.1}, {0.018, 0.65, 0.96, 0.08}, {0.3, 0.95, 0.4, 0.2}, {0.05, 0.3, 0.99, 0.02},
+	} {
+		w := c.thr / (1 - c.thr)
+		p1, p3 := c.sens*c.phi, (1-c.sens)*c.phi
+		p2 := (1 - c.spec) * (1 - c.phi)
+		want := c.sens*(1-c.sens)/c.phi + w*w*c.spec*(1-c.spec)*(1-c.phi)/(c.phi*c.phi) +
+			w*w*(1-c.spec)*(1-c.spec)*(1-c.phi)/(c.phi*c.phi*c.phi)
+		if got := snbVariance(p1, p2, p3, w); math.Abs(got/want-1) > 1e-12 {
+			t.Errorf("%+v: %g, by sensitivity and specificity %g", c, got, want)
+		}
+	}
+}
