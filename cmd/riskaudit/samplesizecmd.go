@@ -29,7 +29,6 @@ func sampleSizeOf(sc *scored, perf *validate.Performance, classifyAt []float64, 
 	var basis []string
 	if size.LPSD > 0 {
 		ant.LP = samplesize.Normal(size.LPMean, size.LPSD, 20000)
-		ant.CalSlope = 1
 		if size.FromEventRate {
 			basis = append(basis, fmt.Sprintf("the plan: a normal linear predictor (mean %.3f, SD %.3f) giving event proportion %g and C-statistic %g", size.LPMean, size.LPSD, size.EventRate, size.CStatistic))
 		} else {
@@ -48,17 +47,20 @@ func sampleSizeOf(sc *scored, perf *validate.Performance, classifyAt []float64, 
 		ant.C = perf.Discrimination.AUC
 		basis = append(basis, "this cohort: its linear predictors")
 	}
+	if size.LPSD > 0 {
+		ant.CalIntercept, ant.CalSlope = 0, 1 // unless the plan says otherwise
+	}
 	switch {
-	case size.CalIntercept != nil || size.CalSlope != nil:
-		if size.CalIntercept != nil {
-			ant.CalIntercept = *size.CalIntercept
-		}
-		if size.CalSlope != nil {
-			ant.CalSlope = *size.CalSlope
-		}
+	case size.CalIntercept != nil && size.CalSlope != nil:
+		ant.CalIntercept, ant.CalSlope = *size.CalIntercept, *size.CalSlope
 		basis = append(basis, fmt.Sprintf("calibration intercept %g and slope %g (from the plan)", ant.CalIntercept, ant.CalSlope))
+	case size.CalIntercept != nil:
+		ant.CalIntercept = *size.CalIntercept
+		basis = append(basis, fmt.Sprintf("calibration intercept %g (from the plan) and slope %.3g", ant.CalIntercept, ant.CalSlope))
+	case size.CalSlope != nil:
+		ant.CalSlope = *size.CalSlope
+		basis = append(basis, fmt.Sprintf("calibration intercept %.3g and slope %g (from the plan)", ant.CalIntercept, ant.CalSlope))
 	case size.LPSD > 0:
-		ant.CalIntercept, ant.CalSlope = 0, 1
 		basis = append(basis, "a calibrated model")
 	default:
 		basis = append(basis, "its calibration intercept and slope")
