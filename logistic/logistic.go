@@ -52,6 +52,11 @@ type Options struct {
 	Firth bool
 	// Start is the starting β (default 0 for every coefficient).
 	Start []float64
+	// Fixed, when not nil, marks coefficients held at their Start value
+	// (0 without Start): Newton steps move only the others, while a Firth
+	// penalty still uses the information of every column, as a
+	// penalised likelihood-ratio test requires (Heinze & Schemper 2002).
+	Fixed []bool
 	// Workers bounds the goroutines used (default GOMAXPROCS).
 	Workers int
 }
@@ -144,7 +149,7 @@ func Fit(d Data, opt Options) (*Result, error) {
 	beta := make([]float64, p)
 	if opt.Start != nil {
 		copy(beta, opt.Start)
-	} else if m, ok := interceptStart(d); ok {
+	} else if m, ok := interceptStart(d); ok && (opt.Fixed == nil || !opt.Fixed[0]) {
 		beta[0] = m
 	}
 	ev := newEvaluator(d, opt.Workers)
@@ -157,8 +162,11 @@ func Fit(d Data, opt Options) (*Result, error) {
 	var lastStep []float64
 	converged := false
 	var stepErr error
+	if opt.Fixed != nil && len(opt.Fixed) != p {
+		return nil, errors.New("logistic: Fixed must mark every coefficient")
+	}
 	for it := 1; it <= opt.MaxIter; it++ {
-		step, solver, err := solve(st.info, st.score, p)
+		step, solver, err := freeStep(st.info, st.score, opt.Fixed, p)
 		if err != nil {
 			if it == 1 {
 				return nil, err
@@ -284,6 +292,40 @@ func Deviance(d Data, beta []float64) float64 {
 // solve returns the Newton step info⁻¹·score: by Cholesky when info is
 // well conditioned, otherwise by a truncated SVD. A rank-deficient info is
 // a CollinearError.
+// freeStep is the Newton step info⁻¹·score over the coefficients not
+// fixed (all when fixed is nil); fixed ones do not move.
+func freeStep(info, score []float64, fixed []bool, p int) ([]float64, string, error) {
+	if fixed == nil {
+		return solve(info, score, p)
+	}
+	var free []int
+	for j, f := range fixed {
+		if !f {
+			free = append(free, j)
+		}
+	}
+	step := make([]float64, p)
+	q := len(free)
+	if q == 0 {
+		return step, "none", nil
+	}
+	sub, ss := make([]float64, q*q), make([]float64, q)
+	for a, i := range free {
+		ss[a] = score[i]
+		for b, j := range free {
+			sub[a*q+b] = info[i*p+j]
+		}
+	}
+	x, solver, err := solve(sub, ss, q)
+	if err != nil {
+		return nil, "", err
+	}
+	for a, i := range free {
+		step[i] = x[a]
+	}
+	return step, solver, nil
+}
+
 func solve(info, score []float64, p int) ([]float64, string, error) {
 	sym := mat.NewSymDense(p, append([]float64(nil), info...))
 	var ch mat.Cholesky

@@ -225,3 +225,53 @@ func BenchmarkFit1M(b *testing.B) {
 		}
 	}
 }
+
+// TestFixedEqualsOffset: by maximum likelihood, holding a coefficient at
+// c is the same fit as leaving its column out with c times it as offset.
+// With Firth's penalty the fixed column still counts in the penalty, so
+// its penalised log-likelihood is at most the free fit's.
+func TestFixedEqualsOffset(t *testing.T) {
+	d := simulate(2000, []float64{-1, 0.5, -0.25, 1}, 7)
+	const c = 0.3
+	start := []float64{0, 0, c, 0}
+	fixed := []bool{false, false, true, false}
+	a, err := Fit(d, Options{Start: start, Fixed: fixed})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if a.Coef[2] != c {
+		t.Fatalf("the fixed coefficient moved to %g", a.Coef[2])
+	}
+	red := Data{N: d.N, P: 3, Y: d.Y, X: make([]float64, d.N*3), Offset: make([]float64, d.N)}
+	for i := 0; i < d.N; i++ {
+		x := d.X[i*4 : i*4+4]
+		copy(red.X[i*3:], []float64{x[0], x[1], x[3]})
+		red.Offset[i] = c * x[2]
+	}
+	b, err := Fit(red, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for k, j := range []int{0, 1, 3} {
+		if math.Abs(a.Coef[j]-b.Coef[k]) > 1e-8 {
+			t.Errorf("coefficient %d: fixed fit %.10f, offset fit %.10f", j, a.Coef[j], b.Coef[k])
+		}
+	}
+	if math.Abs(a.Deviance-b.Deviance) > 1e-8 {
+		t.Errorf("deviance %.10f against %.10f", a.Deviance, b.Deviance)
+	}
+	free, err := Fit(d, Options{Firth: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	held, err := Fit(d, Options{Firth: true, Start: start, Fixed: fixed})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if held.PenalizedLogLik > free.PenalizedLogLik+1e-9 || held.Coef[2] != c {
+		t.Errorf("penalised log-likelihood %g held, %g free; held coefficient %g", held.PenalizedLogLik, free.PenalizedLogLik, held.Coef[2])
+	}
+	if _, err := Fit(d, Options{Fixed: []bool{true}}); err == nil {
+		t.Error("a Fixed of the wrong length should be refused")
+	}
+}

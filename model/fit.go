@@ -16,7 +16,8 @@ import (
 // multiplier of 95% Wald intervals.
 var Z975 = distuv.UnitNormal.Quantile(0.975)
 
-// TermStat is the fitted coefficient of one term with its Wald statistics.
+// TermStat is the fitted coefficient of one term with its Wald statistics
+// (for a Firth fit, P is the penalised likelihood-ratio test's).
 type TermStat struct {
 	Term      string     `json:"term"`
 	Coef      float64    `json:"coef"`
@@ -25,6 +26,9 @@ type TermStat struct {
 	P         float64    `json:"p"`
 	OddsRatio float64    `json:"odds_ratio"`
 	ORCI      [2]float64 `json:"or_ci"`
+	// PLRChi2 is the penalised likelihood-ratio statistic of a Firth fit,
+	// whose P it gives.
+	PLRChi2 float64 `json:"plr_chi2,omitempty"`
 }
 
 // FitStats are the statistics of a fitted model. The JSON keys are a
@@ -48,6 +52,9 @@ type FitStats struct {
 	Excluded     int                        `json:"rows_excluded"`
 	ByColumn     []Exclusion                `json:"excluded_by_column"`
 	Solver       string                     `json:"solver"`
+	// PMethod names how the terms' p-values were computed: PWald, or
+	// PPenalisedLR for a Firth fit.
+	PMethod string `json:"p_method"`
 }
 
 // FitOptions control a fit.
@@ -98,7 +105,43 @@ func Fit(d *Design, m *Matrix, opt FitOptions) (*Fitted, error) {
 	}
 	f := &Fitted{Design: d, Matrix: m, Result: res}
 	f.Stats = stats(m, res, opt)
+	if opt.Firth {
+		penalisedLRTests(m, res, opt, &f.Stats)
+	}
 	return f, nil
+}
+
+// PWald and PPenalisedLR name how the p-values of FitStats.Terms were
+// computed.
+const (
+	PWald        = "Wald"
+	PPenalisedLR = "penalised likelihood ratio (Heinze & Schemper 2002)"
+)
+
+// penalisedLRTests replaces the Wald p-values of a Firth fit by
+// penalised likelihood-ratio tests (Heinze & Schemper 2002, Statistics in
+// Medicine 21:2409–2419): for each coefficient, the model is refitted by
+// Firth's method with that coefficient held at 0 (the penalty still using
+// the information of every column) and 2·(ℓ*(β̂) − ℓ*(β̂₀)) is referred to
+// χ² on 1 df. Wald p-values are unreliable exactly where Firth's method
+// is used, when the data nearly separate. A refit that fails leaves NaN.
+func penalisedLRTests(m *Matrix, res *logistic.Result, opt FitOptions, st *FitStats) {
+	st.PMethod = PPenalisedLR
+	data := logistic.Data{X: m.X, N: m.N, P: m.P, Y: m.Y}
+	for j := range st.Terms {
+		start := append([]float64(nil), res.Coef...)
+		start[j] = 0
+		fixed := make([]bool, m.P)
+		fixed[j] = true
+		r, err := logistic.Fit(data, logistic.Options{Firth: true, Start: start, Fixed: fixed, Workers: opt.Workers})
+		if err != nil {
+			st.Terms[j].P, st.Terms[j].PLRChi2 = math.NaN(), math.NaN()
+			continue
+		}
+		chi2 := math.Max(0, 2*(res.PenalizedLogLik-r.PenalizedLogLik))
+		st.Terms[j].PLRChi2 = chi2
+		st.Terms[j].P = ChiSquareP(chi2, 1)
+	}
 }
 
 // FitError says that the model could not be fitted (collinear terms, no
@@ -144,7 +187,7 @@ func stats(m *Matrix, res *logistic.Result, opt FitOptions) FitStats {
 	if opt.Firth {
 		method = "Firth penalised likelihood"
 	}
-	st := FitStats{Method: method, N: m.N, Events: m.Events(), Neg2LL: res.Deviance,
+	st := FitStats{Method: method, PMethod: PWald, N: m.N, Events: m.Events(), Neg2LL: res.Deviance,
 		Iterations: res.Iterations, RowsRead: m.Total, Excluded: m.Excluded, ByColumn: m.ByColumn, Solver: res.Solver}
 	for j, t := range m.Terms {
 		b, se := res.Coef[j], res.SE[j]

@@ -133,6 +133,9 @@ func (r *renderer) fit() {
 			fmt.Sprintf("%.3f", term.OddsRatio), fmt.Sprintf("%.3f to %.3f", term.ORCI[0], term.ORCI[1]))
 	}
 	t.write(r.w)
+	if st.PMethod == model.PPenalisedLR {
+		r.p("The p-values are %s tests, each refitting the model with that coefficient held at 0; SE, z and the intervals are Wald.\n\n", model.PPenalisedLR)
+	}
 	t = table{head: []string{"statistic", "value"}}
 	t.add("rows used (events)", fmt.Sprintf("%d (%d)", st.N, st.Events))
 	t.add("−2 log-likelihood", fmt.Sprintf("%.3f (intercept only %.3f)", st.Neg2LL, st.NullNeg2LL))

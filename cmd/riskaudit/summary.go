@@ -71,6 +71,9 @@ func writeFitSummary(w io.Writer, r *fitRun, o *fitOptions) {
 		fmt.Fprintf(w, "  %-*s  %10s  %9s  %7.2f  %8s  %10s  %s – %s\n", pad, t.Term, fmtG(t.Coef), fmtG(t.SE), t.Z, fmtP(t.P),
 			fmtG(t.OddsRatio), fmtG(t.ORCI[0]), fmtG(t.ORCI[1]))
 	}
+	if st.PMethod == model.PPenalisedLR {
+		fmt.Fprintf(w, "  p: %s tests; SE, z and intervals are Wald\n", model.PPenalisedLR)
+	}
 	fmt.Fprintln(w)
 	fmt.Fprintf(w, "  −2 log-likelihood   %.3f (intercept only %.3f)\n", st.Neg2LL, st.NullNeg2LL)
 	fmt.Fprintf(w, "  likelihood ratio    χ² %.3f on %d df, p %s\n", st.LRChi2, st.LRDF, fmtP(st.LRP))

@@ -135,8 +135,13 @@ def fit(name, X, y, terms):
     return out, res
 
 
-def firth(X, y, terms):
+def firth_fit(X, y, fixed=None):
+    """Maximises Firth's penalised log-likelihood ll + 1/2 log det X'WX
+    over the coefficients not in fixed (held at 0; the penalty still uses
+    every column). Returns the estimate and the penalised log-likelihood."""
     import scipy.optimize
+    p = X.shape[1]
+    free = [j for j in range(p) if fixed is None or j not in fixed]
 
     def negpen(b):
         eta = X @ b
@@ -145,31 +150,53 @@ def firth(X, y, terms):
         info = X.T @ (X * (mu * (1 - mu))[:, None])
         return -(ll + 0.5 * np.linalg.slogdet(info)[1])
 
-    b = np.zeros(X.shape[1])
+    def full(bf):
+        b = np.zeros(p)
+        b[free] = bf
+        return b
+
+    bf = np.zeros(len(free))
     for _ in range(3):  # restart from the optimum to polish it
-        b = scipy.optimize.minimize(negpen, b, method="BFGS", options={"gtol": 1e-11, "maxiter": 10000}).x
+        bf = scipy.optimize.minimize(lambda v: negpen(full(v)), bf, method="BFGS",
+                                     options={"gtol": 1e-11, "maxiter": 10000}).x
+    b = full(bf)
     # BFGS stops within about 1e-6 of the optimum, and where it stops
     # depends on the numpy build; Newton steps on the gradient of the
     # penalised log-likelihood, X'(y - mu + h(1/2 - mu)) (Firth 1993,
-    # eq. 8 for logistic models), take it to machine precision so that the
-    # reference is the same on every machine.
+    # eq. 8 for logistic models), restricted to the free coefficients, take
+    # it to machine precision so that the reference is the same on every
+    # machine.
     for _ in range(50):
         eta = X @ b
         mu = 1 / (1 + np.exp(-eta))
         w = mu * (1 - mu)
         info = X.T @ (X * w[:, None])
-        inv = np.linalg.inv(info)
-        h = np.einsum("ij,jk,ik->i", X * w[:, None], inv, X)
-        step = inv @ (X.T @ (y - mu + h * (0.5 - mu)))
+        h = np.einsum("ij,jk,ik->i", X * w[:, None], np.linalg.inv(info), X)
+        score = X.T @ (y - mu + h * (0.5 - mu))
+        step = np.zeros(p)
+        step[free] = np.linalg.solve(info[np.ix_(free, free)], score[free])
         b = b + step
         if np.max(np.abs(step)) < 1e-15:
             break
+    return b, -negpen(b)
+
+
+def firth(X, y, terms):
+    """The Firth fit, its Wald SEs, and for each coefficient the penalised
+    likelihood-ratio test of Heinze & Schemper (2002): the fit with that
+    coefficient held at 0, 2(pl - pl0) on 1 df."""
+    b, pl = firth_fit(X, y)
     eta = X @ b
     mu = 1 / (1 + np.exp(-eta))
     info = X.T @ (X * (mu * (1 - mu))[:, None])
     se = np.sqrt(np.diag(np.linalg.inv(info)))
-    return {"terms": [{"term": t, "coef": r12(c), "se": r12(s)} for t, c, s in zip(terms, b, se)],
-            "penalized_loglik": r12(-negpen(b))}
+    out = []
+    for j, (t, c, s) in enumerate(zip(terms, b, se)):
+        _, pl0 = firth_fit(X, y, fixed={j})
+        chi2 = max(0.0, 2 * (pl - pl0))
+        out.append({"term": t, "coef": r12(c), "se": r12(s), "plr_chi2": r12(chi2),
+                    "plr_p": r12(scipy.stats.chi2.sf(chi2, 1))})
+    return {"terms": out, "penalized_loglik": r12(pl)}
 
 
 def main():
