@@ -55,6 +55,9 @@ type FitStats struct {
 	// PMethod names how the terms' p-values were computed: PWald, or
 	// PPenalisedLR for a Firth fit.
 	PMethod string `json:"p_method"`
+	// CIMethod names how the odds ratios' intervals were computed: CIWald,
+	// or CIProfilePenalised for a Firth fit.
+	CIMethod string `json:"ci_method"`
 }
 
 // FitOptions control a fit.
@@ -105,17 +108,30 @@ func Fit(d *Design, m *Matrix, opt FitOptions) (*Fitted, error) {
 	}
 	f := &Fitted{Design: d, Matrix: m, Result: res}
 	f.Stats = stats(m, res, opt)
-	if opt.Firth {
+	if opt.Firth && m.N <= ProfileRows {
 		penalisedLRTests(m, res, opt, &f.Stats)
 	}
 	return f, nil
 }
+
+// ProfileRows is the most rows for which a Firth fit gets penalised
+// likelihood-ratio tests and profile intervals: each needs a few dozen
+// refits, and on larger data, where they agree closely with the Wald
+// ones, that would take minutes (our choice).
+const ProfileRows = 200_000
 
 // PWald and PPenalisedLR name how the p-values of FitStats.Terms were
 // computed.
 const (
 	PWald        = "Wald"
 	PPenalisedLR = "penalised likelihood ratio (Heinze & Schemper 2002)"
+)
+
+// CIWald and CIProfilePenalised name how the intervals of FitStats.Terms
+// were computed.
+const (
+	CIWald             = "Wald"
+	CIProfilePenalised = "profile penalised likelihood (Heinze & Schemper 2002)"
 )
 
 // penalisedLRTests replaces the Wald p-values of a Firth fit by
@@ -142,7 +158,95 @@ func penalisedLRTests(m *Matrix, res *logistic.Result, opt FitOptions, st *FitSt
 		st.Terms[j].PLRChi2 = chi2
 		st.Terms[j].P = ChiSquareP(chi2, 1)
 	}
+	st.CIMethod = CIProfilePenalised
+	for j := range st.Terms {
+		lo := profileBound(data, res, j, -1, opt.Workers)
+		hi := profileBound(data, res, j, +1, opt.Workers)
+		st.Terms[j].ORCI = [2]float64{math.Exp(lo), math.Exp(hi)}
+	}
 }
+
+// profileBound is one end of the 95% profile penalised-likelihood
+// interval of coefficient j (Heinze & Schemper 2002): the value b on side
+// dir of the estimate where 2·(ℓ*(β̂) − max ℓ* with β_j = b) reaches
+// χ²₁(0.95). It brackets the crossing by steps of one SE, doubling, then
+// narrows the bracket by the Illinois method to 1e-9 of the SE. A side that never crosses within 2⁴⁰ SEs (or
+// a refit that fails) gives ±Inf or NaN.
+func profileBound(data logistic.Data, res *logistic.Result, j int, dir float64, workers int) float64 {
+	target := res.PenalizedLogLik - chiSquare95/2
+	fixed := make([]bool, data.P)
+	fixed[j] = true
+	start := append([]float64(nil), res.Coef...)
+	pl := func(b float64) (float64, bool) {
+		start[j] = b
+		r, err := logistic.Fit(data, logistic.Options{Firth: true, Start: start, Fixed: fixed, Workers: workers})
+		if err != nil {
+			return 0, false
+		}
+		copy(start, r.Coef) // a warm start for the next value
+		return r.PenalizedLogLik, true
+	}
+	b0, se := res.Coef[j], res.SE[j]
+	if !(se > 0) {
+		return math.NaN()
+	}
+	inside, outside := b0, b0
+	for k := 0; ; k++ {
+		if k == 40 {
+			return dir * math.Inf(1)
+		}
+		outside = b0 + dir*se*math.Ldexp(1, k)
+		v, ok := pl(outside)
+		if !ok {
+			return math.NaN()
+		}
+		if v < target {
+			break
+		}
+		inside = outside
+	}
+	// The Illinois variant of regula falsi on g(b) = ℓ*(b) − target,
+	// positive inside and negative outside.
+	gIn, ok := pl(inside)
+	if !ok {
+		return math.NaN()
+	}
+	gIn -= target
+	gOut, _ := pl(outside)
+	gOut -= target
+	side := 0
+	for it := 0; it < 200 && math.Abs(outside-inside) > 1e-9*se; it++ {
+		b := outside - gOut*(outside-inside)/(gOut-gIn)
+		if !(math.Min(inside, outside) < b && b < math.Max(inside, outside)) {
+			b = (inside + outside) / 2
+		}
+		v, ok := pl(b)
+		if !ok {
+			return math.NaN()
+		}
+		v -= target
+		if v == 0 {
+			return b
+		}
+		if v < 0 {
+			outside, gOut = b, v
+			if side == -1 {
+				gIn /= 2
+			}
+			side = -1
+		} else {
+			inside, gIn = b, v
+			if side == +1 {
+				gOut /= 2
+			}
+			side = +1
+		}
+	}
+	return (inside + outside) / 2
+}
+
+// chiSquare95 is the 0.95 quantile of χ² on 1 df, 1.959963984540054².
+const chiSquare95 = 3.841458820694124
 
 // FitError says that the model could not be fitted (collinear terms, no
 // convergence); separation has its own SeparationError.
@@ -187,7 +291,7 @@ func stats(m *Matrix, res *logistic.Result, opt FitOptions) FitStats {
 	if opt.Firth {
 		method = "Firth penalised likelihood"
 	}
-	st := FitStats{Method: method, PMethod: PWald, N: m.N, Events: m.Events(), Neg2LL: res.Deviance,
+	st := FitStats{Method: method, PMethod: PWald, CIMethod: CIWald, N: m.N, Events: m.Events(), Neg2LL: res.Deviance,
 		Iterations: res.Iterations, RowsRead: m.Total, Excluded: m.Excluded, ByColumn: m.ByColumn, Solver: res.Solver}
 	for j, t := range m.Terms {
 		b, se := res.Coef[j], res.SE[j]

@@ -134,7 +134,7 @@ func (r *renderer) fit() {
 	}
 	t.write(r.w)
 	if st.PMethod == model.PPenalisedLR {
-		r.p("The p-values are %s tests, each refitting the model with that coefficient held at 0; SE, z and the intervals are Wald.\n\n", model.PPenalisedLR)
+		r.p("The p-values are %s tests, each refitting the model with that coefficient held at 0, and the intervals are %s; SE and z are Wald.\n\n", model.PPenalisedLR, model.CIProfilePenalised)
 	}
 	t = table{head: []string{"statistic", "value"}}
 	t.add("rows used (events)", fmt.Sprintf("%d (%d)", st.N, st.Events))

@@ -72,7 +72,7 @@ func writeFitSummary(w io.Writer, r *fitRun, o *fitOptions) {
 			fmtG(t.OddsRatio), fmtG(t.ORCI[0]), fmtG(t.ORCI[1]))
 	}
 	if st.PMethod == model.PPenalisedLR {
-		fmt.Fprintf(w, "  p: %s tests; SE, z and intervals are Wald\n", model.PPenalisedLR)
+		fmt.Fprintf(w, "  p: %s tests; intervals: %s; SE and z are Wald\n", model.PPenalisedLR, model.CIProfilePenalised)
 	}
 	fmt.Fprintln(w)
 	fmt.Fprintf(w, "  −2 log-likelihood   %.3f (intercept only %.3f)\n", st.Neg2LL, st.NullNeg2LL)

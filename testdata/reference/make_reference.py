@@ -137,11 +137,13 @@ def fit(name, X, y, terms):
 
 def firth_fit(X, y, fixed=None):
     """Maximises Firth's penalised log-likelihood ll + 1/2 log det X'WX
-    over the coefficients not in fixed (held at 0; the penalty still uses
-    every column). Returns the estimate and the penalised log-likelihood."""
+    over the coefficients not in fixed, a map from index to the value it is
+    held at (the penalty still uses every column). Returns the estimate and
+    the penalised log-likelihood."""
     import scipy.optimize
     p = X.shape[1]
-    free = [j for j in range(p) if fixed is None or j not in fixed]
+    fixed = fixed or {}
+    free = [j for j in range(p) if j not in fixed]
 
     def negpen(b):
         eta = X @ b
@@ -152,6 +154,8 @@ def firth_fit(X, y, fixed=None):
 
     def full(bf):
         b = np.zeros(p)
+        for j, v in fixed.items():
+            b[j] = v
         b[free] = bf
         return b
 
@@ -183,19 +187,34 @@ def firth_fit(X, y, fixed=None):
 
 def firth(X, y, terms):
     """The Firth fit, its Wald SEs, and for each coefficient the penalised
-    likelihood-ratio test of Heinze & Schemper (2002): the fit with that
-    coefficient held at 0, 2(pl - pl0) on 1 df."""
+    likelihood-ratio test of Heinze & Schemper (2002) (the fit with that
+    coefficient held at 0, 2(pl - pl0) on 1 df) and the 95% profile
+    penalised-likelihood interval (where 2(pl - pl(b)) reaches the chi-square
+    0.95 quantile on 1 df)."""
     b, pl = firth_fit(X, y)
     eta = X @ b
     mu = 1 / (1 + np.exp(-eta))
     info = X.T @ (X * (mu * (1 - mu))[:, None])
     se = np.sqrt(np.diag(np.linalg.inv(info)))
+    import scipy.optimize
+    target = pl - scipy.stats.chi2.ppf(0.95, 1) / 2
     out = []
     for j, (t, c, s) in enumerate(zip(terms, b, se)):
-        _, pl0 = firth_fit(X, y, fixed={j})
+        _, pl0 = firth_fit(X, y, fixed={j: 0.0})
         chi2 = max(0.0, 2 * (pl - pl0))
+        # The profile interval: where the constrained maximum falls to
+        # target, bracketed by doubling steps of one SE, then brentq.
+        ends = []
+        for side in (-1, 1):
+            g = lambda v: firth_fit(X, y, fixed={j: v})[1] - target
+            k = 0
+            while g(c + side * s * 2 ** k) > 0:
+                k += 1
+            inner = c if k == 0 else c + side * s * 2 ** (k - 1)
+            ends.append(scipy.optimize.brentq(g, min(inner, c + side * s * 2 ** k),
+                                              max(inner, c + side * s * 2 ** k), xtol=1e-12))
         out.append({"term": t, "coef": r12(c), "se": r12(s), "plr_chi2": r12(chi2),
-                    "plr_p": r12(scipy.stats.chi2.sf(chi2, 1))})
+                    "plr_p": r12(scipy.stats.chi2.sf(chi2, 1)), "profile_ci": r12(ends)})
     return {"terms": out, "penalized_loglik": r12(pl)}
 
 
