@@ -5,7 +5,6 @@ import (
 	"context"
 	"fmt"
 	"math"
-	"os"
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
@@ -13,7 +12,6 @@ import (
 	"github.com/apache/arrow-go/v18/arrow/memory"
 	"github.com/apache/arrow-go/v18/parquet"
 	"github.com/apache/arrow-go/v18/parquet/compress"
-	"github.com/apache/arrow-go/v18/parquet/file"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 )
 
@@ -107,31 +105,22 @@ func AppendColumns(path, format string, names []string, values [][]float64) ([]b
 func readTable(path, format string) (arrow.Table, error) {
 	switch format {
 	case "parquet":
-		pf, err := file.OpenParquetFile(path, true)
+		fr, closeFile, err := openParquet(path, pqarrow.ArrowReadProperties{Parallel: true})
 		if err != nil {
-			return nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error()}
+			return nil, err
 		}
-		defer pf.Close()
-		fr, err := pqarrow.NewFileReader(pf, pqarrow.ArrowReadProperties{Parallel: true}, memory.DefaultAllocator)
-		if err != nil {
-			return nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error()}
-		}
+		defer closeFile()
 		tbl, err := fr.ReadTable(context.Background())
 		if err != nil {
 			return nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error()}
 		}
 		return tbl, nil
 	case "arrow":
-		f, err := os.Open(path)
+		r, closeFile, err := openArrow(path)
 		if err != nil {
-			return nil, &Error{File: path, Msg: "cannot read file: " + err.Error()}
+			return nil, err
 		}
-		defer f.Close()
-		r, err := ipc.NewFileReader(f)
-		if err != nil {
-			return nil, &Error{File: path, Msg: "cannot read the Arrow file: " + err.Error()}
-		}
-		defer r.Close()
+		defer closeFile()
 		var recs []arrow.Record
 		for i := 0; i < r.NumRecords(); i++ {
 			rec, err := r.Record(i)

@@ -44,15 +44,12 @@ func isParquet(path string) bool {
 // Request.NaNIsError) and an infinite value is an error. Errors name the
 // file, the 1-based row, the column and the value.
 func LoadParquet(path string, reqs []Request, opt Options) (*Frame, error) {
-	pf, err := file.OpenParquetFile(path, true)
+	fr, closeFile, err := openParquet(path, pqarrow.ArrowReadProperties{BatchSize: 1 << 16, Parallel: true})
 	if err != nil {
-		return nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error()}
+		return nil, err
 	}
-	defer pf.Close()
-	fr, err := pqarrow.NewFileReader(pf, pqarrow.ArrowReadProperties{BatchSize: 1 << 16, Parallel: true}, memory.DefaultAllocator)
-	if err != nil {
-		return nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error()}
-	}
+	defer closeFile()
+	pf := fr.ParquetReader()
 	schema, err := fr.Schema()
 	if err != nil {
 		return nil, &Error{File: path, Msg: "cannot read the Parquet schema: " + err.Error()}
@@ -79,16 +76,11 @@ func LoadParquet(path string, reqs []Request, opt Options) (*Frame, error) {
 // file format, also written as Feather version 2), batch by batch, with
 // the rules of LoadParquet.
 func LoadArrow(path string, reqs []Request, opt Options) (*Frame, error) {
-	f, err := os.Open(path)
+	r, closeFile, err := openArrow(path)
 	if err != nil {
-		return nil, &Error{File: path, Msg: "cannot read file: " + err.Error()}
+		return nil, err
 	}
-	defer f.Close()
-	r, err := ipc.NewFileReader(f)
-	if err != nil {
-		return nil, &Error{File: path, Msg: "cannot read the Arrow file: " + err.Error()}
-	}
-	defer r.Close()
+	defer closeFile()
 	return fromBatches(path, r.Schema(), reqs, opt, 0, func(idx []int, each func(arrow.Record) error) error {
 		for i := 0; i < r.NumRecords(); i++ {
 			rec, err := r.Record(i)
@@ -101,6 +93,35 @@ func LoadArrow(path string, reqs []Request, opt Options) (*Frame, error) {
 		}
 		return nil
 	}, false)
+}
+
+// openParquet opens a Parquet file for reading as Arrow data; close
+// releases it.
+func openParquet(path string, props pqarrow.ArrowReadProperties) (fr *pqarrow.FileReader, close func(), err error) {
+	pf, err := file.OpenParquetFile(path, true)
+	if err != nil {
+		return nil, nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error()}
+	}
+	fr, err = pqarrow.NewFileReader(pf, props, memory.DefaultAllocator)
+	if err != nil {
+		pf.Close()
+		return nil, nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error()}
+	}
+	return fr, func() { pf.Close() }, nil
+}
+
+// openArrow opens an Arrow IPC file; close releases it.
+func openArrow(path string) (r *ipc.FileReader, close func(), err error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, nil, &Error{File: path, Msg: "cannot read file: " + err.Error()}
+	}
+	r, err = ipc.NewFileReader(f)
+	if err != nil {
+		f.Close()
+		return nil, nil, &Error{File: path, Msg: "cannot read the Arrow file: " + err.Error()}
+	}
+	return r, func() { r.Close(); f.Close() }, nil
 }
 
 // fromBatches builds a frame from record batches. read hands every batch
