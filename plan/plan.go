@@ -353,7 +353,7 @@ func (p *parser) inRange(v *yaml.Node, key string, lo, hi float64) (float64, err
 }
 
 func (p *parser) sampleSize(ss *SampleSize, v *yaml.Node, set map[string]bool) error {
-	err := p.fields(v, "sample_size", []string{"oe_width", "slope_width", "c_width", "nb_width", "threshold", "anticipated"}, func(k string, c *yaml.Node) error {
+	return p.fields(v, "sample_size", []string{"oe_width", "slope_width", "c_width", "nb_width", "threshold", "anticipated"}, func(k string, c *yaml.Node) error {
 		set["sample_size."+k] = true
 		var err error
 		switch k {
@@ -372,7 +372,6 @@ func (p *parser) sampleSize(ss *SampleSize, v *yaml.Node, set map[string]bool) e
 		}
 		return err
 	})
-	return err
 }
 
 func (p *parser) anticipated(ss *SampleSize, v *yaml.Node) error {
