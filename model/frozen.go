@@ -12,6 +12,17 @@ import (
 	"github.com/riskaudit/riskaudit/logistic"
 )
 
+// FrozenLinearPredictors returns the linear predictor of every matrix
+// row under the frozen spec's coefficients (Coefficients, then
+// LinearPredictors).
+func (d *Design) FrozenLinearPredictors(m *Matrix) ([]float64, error) {
+	beta, err := d.Coefficients()
+	if err != nil {
+		return nil, err
+	}
+	return d.LinearPredictors(m, beta)
+}
+
 // Coefficients returns the frozen spec's coefficients in the design's term
 // order, checking that the spec gives one for every term and none for a
 // term the model lacks.

@@ -635,11 +635,7 @@ func score(spec *model.Spec, o *auditOptions, path string) (*scored, error) {
 			sc.p[r] = v
 		}
 	} else {
-		beta, err := d.Coefficients()
-		if err != nil {
-			return nil, err
-		}
-		if sc.lp, err = d.LinearPredictors(m, beta); err != nil {
+		if sc.lp, err = d.FrozenLinearPredictors(m); err != nil {
 			return nil, err
 		}
 		sc.p = make([]float64, m.N)

@@ -20,11 +20,11 @@ func caseMix(o *auditOptions, spec *model.Spec, devSc, curSc *scored, devPerf, p
 		if err != nil {
 			return validate.MixInput{}, err
 		}
-		beta, err := d.Coefficients()
+		lp, err := d.FrozenLinearPredictors(m)
 		if err != nil {
 			return validate.MixInput{}, err
 		}
-		return validate.MixInput{Frame: fr, Rows: m.Rows, X: m.X, P: m.P, Y: m.Y, LP: model.LinearPredictors(m, beta)}, nil
+		return validate.MixInput{Frame: fr, Rows: m.Rows, X: m.X, P: m.P, Y: m.Y, LP: lp}, nil
 	}
 	dev, err := side(devSc)
 	if err != nil {

@@ -159,11 +159,7 @@ func runCompare(o *compareOptions, s *streams) error {
 		if err != nil {
 			return err
 		}
-		beta, err := d.Coefficients()
-		if err != nil {
-			return err
-		}
-		lp, err := d.LinearPredictors(m, beta)
+		lp, err := d.FrozenLinearPredictors(m)
 		if err != nil {
 			return err
 		}

@@ -236,12 +236,9 @@ func scoredLP(o *sizeOptions) ([]float64, string, error) {
 	if err != nil {
 		return nil, "", err
 	}
-	spec, err := model.LoadSpec(o.model)
+	spec, err := loadFrozen(o.model)
 	if err != nil {
 		return nil, "", err
-	}
-	if !spec.Frozen() {
-		return nil, "", &model.SpecError{File: o.model, Msg: "this is a recipe (it has no intercept): fit it first with 'riskaudit fit'"}
 	}
 	fr, err := cohort.Load(o.dataFile, spec.Columns(false), copt)
 	if err != nil {
@@ -251,11 +248,7 @@ func scoredLP(o *sizeOptions) ([]float64, string, error) {
 	if err != nil {
 		return nil, "", err
 	}
-	beta, err := d.Coefficients()
-	if err != nil {
-		return nil, "", err
-	}
-	lp, err := d.LinearPredictors(m, beta)
+	lp, err := d.FrozenLinearPredictors(m)
 	if err != nil {
 		return nil, "", err
 	}

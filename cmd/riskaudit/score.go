@@ -70,6 +70,18 @@ was not scored.`,
 	return c
 }
 
+// loadFrozen reads the frozen model at path, refusing a recipe.
+func loadFrozen(path string) (*model.Spec, error) {
+	spec, err := model.LoadSpec(path)
+	if err != nil {
+		return nil, err
+	}
+	if !spec.Frozen() {
+		return nil, &model.SpecError{File: path, Msg: "this is a recipe (it has no intercept): fit it first with 'riskaudit fit'"}
+	}
+	return spec, nil
+}
+
 func runScore(o *scoreOptions, s *streams) error {
 	if err := checkNotInput(o.out, o.dataFile, o.model); err != nil {
 		return err
@@ -78,12 +90,9 @@ func runScore(o *scoreOptions, s *streams) error {
 	if err != nil {
 		return err
 	}
-	spec, err := model.LoadSpec(o.model)
+	spec, err := loadFrozen(o.model)
 	if err != nil {
 		return err
-	}
-	if !spec.Frozen() {
-		return &model.SpecError{File: o.model, Msg: "this is a recipe (it has no intercept): fit it first with 'riskaudit fit'"}
 	}
 	format := cohort.Format(o.dataFile, copt.Format)
 	if err := checkScoredName(o.out, format); err != nil {
@@ -103,7 +112,7 @@ func runScore(o *scoreOptions, s *streams) error {
 	if err != nil {
 		return err
 	}
-	beta, err := d.Coefficients()
+	scored, err := d.FrozenLinearPredictors(m)
 	if err != nil {
 		return err
 	}
@@ -111,7 +120,7 @@ func runScore(o *scoreOptions, s *streams) error {
 	for i := range lp {
 		lp[i] = math.NaN()
 	}
-	for r, v := range model.LinearPredictors(m, beta) {
+	for r, v := range scored {
 		lp[m.Rows[r]] = v
 	}
 	var out []byte
