@@ -60,6 +60,22 @@ type FitStats struct {
 	CIMethod string `json:"ci_method"`
 }
 
+// FitSchema names the layout of a FitReport.
+const FitSchema = "riskaudit.fit/1"
+
+// FitReport is a fit's statistics with what was fitted to what: the JSON
+// that 'riskaudit fit --json' writes, and the development fit an audit
+// keeps when it fitted a recipe. The JSON keys are a stable interface.
+type FitReport struct {
+	Schema     string `json:"schema"`
+	Model      string `json:"model"`
+	DataFile   string `json:"data_file"`
+	DataSHA256 string `json:"data_sha256"`
+	FitStats
+	// Nested is the comparison with a nested recipe, when one was given.
+	Nested *NestedTest `json:"nested,omitempty"`
+}
+
 // FitOptions control a fit.
 type FitOptions struct {
 	// Firth uses Firth's penalised likelihood instead of maximum

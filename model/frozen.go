@@ -134,6 +134,16 @@ func LinearPredictors(m *Matrix, beta []float64) []float64 {
 // Risk is the predicted risk of a linear predictor.
 func Risk(lp float64) float64 { return logistic.Expit(lp) }
 
+// Risks returns the risk of every linear predictor (Risk of each); a NaN
+// linear predictor gives a NaN risk.
+func Risks(lp []float64) []float64 {
+	p := make([]float64, len(lp))
+	for i, v := range lp {
+		p[i] = logistic.Expit(v)
+	}
+	return p
+}
+
 // MarshalYAML writes the spec in the fixed schema, keys in a stable order.
 func (s *Spec) MarshalYAML() ([]byte, error) {
 	root := mapping()

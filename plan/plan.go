@@ -62,7 +62,8 @@ type Plan struct {
 	Thresholds                                 string
 	ClassifyAt                                 []float64
 	Data                                       Data
-	SampleSize                                 SampleSize
+	// SampleSize is the sample_size section.
+	SampleSize samplesize.Request
 
 	// Set records the keys the plan gave, by their plan name.
 	Set map[string]bool
@@ -71,28 +72,6 @@ type Plan struct {
 var topKeys = []string{"name", "model", "predicted", "outcome", "event", "non_event", "dev", "cohort", "out", "history",
 	"audit_date", "rename", "subgroups", "min_subgroup_events", "criteria", "bootstrap", "ci_bootstrap",
 	"thresholds", "classify_at", "data", "sample_size"}
-
-// SampleSize is the plan's sample_size section: the target 95% CI widths
-// of the sample-size criteria (Riley et al. 2021), the risk threshold of
-// the net-benefit criterion, and anticipated values that replace the
-// cohort's own. A zero field (a nil pointer) was not given.
-type SampleSize struct {
-	// OEWidth, SlopeWidth, CWidth and NBWidth are the target widths.
-	OEWidth, SlopeWidth, CWidth, NBWidth float64
-	// Threshold is the net-benefit criterion's risk threshold.
-	Threshold float64
-	// EventRate and CStatistic are the anticipated event proportion and
-	// C-statistic; given together, they fix LPMean and LPSD (the normal
-	// linear predictor of a calibrated model with those values,
-	// samplesize.NormalFor). CStatistic alone replaces the cohort's AUC.
-	EventRate, CStatistic float64
-	// LPMean and LPSD describe a normal linear predictor, given in the
-	// plan or found from EventRate and CStatistic (FromEventRate).
-	LPMean, LPSD  float64
-	FromEventRate bool
-	// CalIntercept and CalSlope are the anticipated calibration.
-	CalIntercept, CalSlope *float64
-}
 
 // Load reads the plan at path.
 func Load(path string) (*Plan, error) {
@@ -352,7 +331,7 @@ func (p *parser) inRange(v *yaml.Node, key string, lo, hi float64) (float64, err
 	return x, nil
 }
 
-func (p *parser) sampleSize(ss *SampleSize, v *yaml.Node, set map[string]bool) error {
+func (p *parser) sampleSize(ss *samplesize.Request, v *yaml.Node, set map[string]bool) error {
 	return p.fields(v, "sample_size", []string{"oe_width", "slope_width", "c_width", "nb_width", "threshold", "anticipated"}, func(k string, c *yaml.Node) error {
 		set["sample_size."+k] = true
 		var err error
@@ -374,7 +353,7 @@ func (p *parser) sampleSize(ss *SampleSize, v *yaml.Node, set map[string]bool) e
 	})
 }
 
-func (p *parser) anticipated(ss *SampleSize, v *yaml.Node) error {
+func (p *parser) anticipated(ss *samplesize.Request, v *yaml.Node) error {
 	keys := map[string]*yaml.Node{}
 	err := p.fields(v, "anticipated", []string{"event_rate", "c_statistic", "lp_mean", "lp_sd", "calibration_intercept", "calibration_slope"}, func(k string, c *yaml.Node) error {
 		keys[k] = c

@@ -9,7 +9,6 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
-	"github.com/riskaudit/riskaudit/metrics"
 	"github.com/riskaudit/riskaudit/trend"
 )
 
@@ -142,61 +141,4 @@ func addLimits(p *plot.Plot, tr *trend.Trend) error {
 		p.Legend.Add(lim.label, a)
 	}
 	return nil
-}
-
-// CompareDecision draws the decision curves of two models on one chart,
-// with treating everyone and treating no one.
-func CompareDecision(nameA, nameB string, a, b []metrics.NetBenefit) (Figure, error) {
-	p := newPlot("Decision curves", "Risk threshold for treatment (%)", "Net benefit (true positives per patient)")
-	hi := 0.01
-	mk := func(nb []metrics.NetBenefit, get func(metrics.NetBenefit) float64) plotter.XYs {
-		xys := make(plotter.XYs, 0, len(nb))
-		for _, v := range nb {
-			hi = math.Max(hi, get(v))
-			xys = append(xys, plotter.XY{X: 100 * v.Threshold, Y: get(v)})
-		}
-		return xys
-	}
-	la := mk(a, func(v metrics.NetBenefit) float64 { return v.Model })
-	lb := mk(b, func(v metrics.NetBenefit) float64 { return v.Model })
-	all := mk(a, func(v metrics.NetBenefit) float64 { return v.TreatAll })
-	p.Y.Min, p.Y.Max = -hi*0.25, hi*1.1
-	if len(a) > 0 {
-		p.X.Min, p.X.Max = 0, 100*a[len(a)-1].Threshold
-	}
-	p.X.Tick.Marker = percentTicks{}
-	var keep plotter.XYs
-	for _, v := range all {
-		if v.Y >= p.Y.Min {
-			keep = append(keep, v)
-		}
-	}
-	none, err := line(plotter.XYs{{X: p.X.Min, Y: 0}, {X: p.X.Max, Y: 0}}, ink, 1)
-	if err != nil {
-		return Figure{}, err
-	}
-	p.Add(none)
-	if len(keep) > 1 {
-		lt, err := line(keep, orange, 1.5, vg.Points(5), vg.Points(2))
-		if err != nil {
-			return Figure{}, err
-		}
-		p.Add(lt)
-		p.Legend.Add("treat everyone", lt)
-	}
-	l1, err := line(la, blue, 2)
-	if err != nil {
-		return Figure{}, err
-	}
-	l2, err := line(lb, vermillion, 2, vg.Points(6), vg.Points(2), vg.Points(1), vg.Points(2))
-	if err != nil {
-		return Figure{}, err
-	}
-	p.Add(l1, l2)
-	p.Legend.Add("a: "+shorten(nameA, 40), l1)
-	p.Legend.Add("b: "+shorten(nameB, 40), l2)
-	p.Legend.Add("treat no one", none)
-	shiftLegend(p, 0.40, 6*vg.Inch)
-	svg, err := render(p, 6*vg.Inch, 4.5*vg.Inch)
-	return Figure{Name: "decision_curves.svg", Title: "Decision curves of both models", SVG: svg}, err
 }

@@ -5,10 +5,11 @@
 package report
 
 import (
-	"encoding/json"
 	"fmt"
 	"io"
+	"maps"
 	"math"
+	"slices"
 	"strings"
 
 	"github.com/riskaudit/riskaudit/metrics"
@@ -117,8 +118,8 @@ func (r *renderer) fit() {
 	if d == nil || d.Fit == nil {
 		return
 	}
-	st, ok := fitStats(d.Fit)
-	if !ok {
+	st := d.Fit.FitStats
+	if len(st.Terms) == 0 {
 		return
 	}
 	r.p("## Model fit on the development data\n\n")
@@ -129,7 +130,7 @@ func (r *renderer) fit() {
 	}
 	t := table{head: []string{"term", "coefficient", "SE", "z", "p", "odds ratio", "95% CI"}}
 	for _, term := range st.Terms {
-		t.add(code(term.Term), fmt.Sprintf("%.4f", term.Coef), fmt.Sprintf("%.4f", term.SE), fmt.Sprintf("%.2f", term.Z), fmtP(term.P),
+		t.add(code(term.Term), fmt.Sprintf("%.4f", term.Coef), fmt.Sprintf("%.4f", term.SE), fmt.Sprintf("%.2f", term.Z), FormatP(term.P),
 			fmt.Sprintf("%.3f", term.OddsRatio), fmt.Sprintf("%.3f to %.3f", term.ORCI[0], term.ORCI[1]))
 	}
 	t.write(r.w)
@@ -139,10 +140,10 @@ func (r *renderer) fit() {
 	t = table{head: []string{"statistic", "value"}}
 	t.add("rows used (events)", fmt.Sprintf("%d (%d)", st.N, st.Events))
 	t.add("−2 log-likelihood", fmt.Sprintf("%.3f (intercept only %.3f)", st.Neg2LL, st.NullNeg2LL))
-	t.add("likelihood-ratio χ²", fmt.Sprintf("%.3f on %d df, p %s", st.LRChi2, st.LRDF, fmtP(st.LRP)))
+	t.add("likelihood-ratio χ²", fmt.Sprintf("%.3f on %d df, p %s", st.LRChi2, st.LRDF, FormatP(st.LRP)))
 	t.add("AIC / BIC", fmt.Sprintf("%.3f / %.3f", st.AIC, st.BIC))
 	t.add("Nagelkerke R²", fmt.Sprintf("%.4f", st.NagelkerkeR2))
-	t.add("Hosmer–Lemeshow", fmt.Sprintf("%.3f on %d df, p %s (%d groups)", st.HL.Statistic, st.HL.DF, fmtP(st.HL.P), st.HL.Groups))
+	t.add("Hosmer–Lemeshow", fmt.Sprintf("%.3f on %d df, p %s (%d groups)", st.HL.Statistic, st.HL.DF, FormatP(st.HL.P), st.HL.Groups))
 	t.write(r.w)
 }
 
@@ -156,8 +157,8 @@ func (r *renderer) internal() {
 		in.Bootstrap, in.Seed, in.Failed)
 	if len(in.Reasons) > 0 {
 		var parts []string
-		for k, v := range in.Reasons {
-			parts = append(parts, fmt.Sprintf("%s: %d", k, v))
+		for _, k := range slices.Sorted(maps.Keys(in.Reasons)) {
+			parts = append(parts, fmt.Sprintf("%s: %d", k, in.Reasons[k]))
 		}
 		r.p(" (%s)", strings.Join(parts, "; "))
 	}
@@ -287,7 +288,7 @@ func (r *renderer) calibration() {
 	t.add("calibration-in-the-large", f3(c.CITL), ci3(c.CITLCI), "0", citlMeaning(c))
 	t.add("calibration slope", f3(c.Slope), ci3(c.SlopeCI), "1", slopeMeaning(c))
 	t.add("observed / expected (O/E)", f3(c.OE), ci3(c.OECI), "1", fmt.Sprintf("%.0f events observed, %.1f expected", c.Observed, c.Expected))
-	t.add("Hosmer–Lemeshow χ²", fmt.Sprintf("%.2f", c.HL.Statistic), "", "", fmt.Sprintf("%d groups, %d df, p %s", c.HL.Groups, c.HL.DF, fmtP(c.HL.P)))
+	t.add("Hosmer–Lemeshow χ²", fmt.Sprintf("%.2f", c.HL.Statistic), "", "", fmt.Sprintf("%d groups, %d df, p %s", c.HL.Groups, c.HL.DF, FormatP(c.HL.P)))
 	bci := r.a.BootstrapCI
 	pctCI := func(get func(*validate.PercentileCIs) [2]float64) string {
 		if bci == nil {
@@ -489,7 +490,7 @@ func (r *renderer) update() {
 		if ts.Rejected {
 			res = "rejected"
 		}
-		t.add(ts.Simpler, fmt.Sprintf("%.3f", ts.LRChi2), fmt.Sprint(ts.DF), fmtP(ts.P), res)
+		t.add(ts.Simpler, fmt.Sprintf("%.3f", ts.LRChi2), fmt.Sprint(ts.DF), FormatP(ts.P), res)
 	}
 	t.write(r.w)
 	r.p("**Chosen: %s**, written as a frozen model to %s with its provenance (the parent model's and the cohort's SHA-256, the method).\n\n", u.Chosen, code(u.ModelFile))
@@ -629,20 +630,6 @@ func (t *table) write(w io.Writer) {
 	fmt.Fprintln(w)
 }
 
-// fitStats reads the fit statistics out of the development fit, which
-// the audit keeps as an opaque JSON object.
-func fitStats(v any) (model.FitStats, bool) {
-	b, err := json.Marshal(v)
-	if err != nil {
-		return model.FitStats{}, false
-	}
-	var st model.FitStats
-	if err := json.Unmarshal(b, &st); err != nil {
-		return model.FitStats{}, false
-	}
-	return st, len(st.Terms) > 0
-}
-
 func f3(v float64) string { return num(v, "%.3f") }
 func f4(v float64) string { return num(v, "%.4f") }
 
@@ -673,7 +660,10 @@ func prop(p metrics.Proportion) string {
 	return fmt.Sprintf("%.1f%% (%.1f–%.1f)", 100*p.Value, 100*p.CI[0], 100*p.CI[1])
 }
 
-func fmtP(p float64) string {
+// FormatP writes a p-value with four decimals, as "< 0.0001" below
+// that, or "n/a" when it does not exist. Every p-value riskaudit prints
+// goes through it.
+func FormatP(p float64) string {
 	switch {
 	case math.IsNaN(p):
 		return "n/a"

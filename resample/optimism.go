@@ -12,6 +12,7 @@
 package resample
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io"
@@ -62,6 +63,23 @@ type Options struct {
 	Progress func(done int)
 }
 
+// feed sends 0, 1, …, n−1 to the workers that range over the channel it
+// returns, stopping early when ctx is done, and then closes it.
+func feed(ctx context.Context, n int) <-chan int {
+	next := make(chan int)
+	go func() {
+		defer close(next)
+		for b := 0; b < n; b++ {
+			select {
+			case next <- b:
+			case <-ctx.Done():
+				return
+			}
+		}
+	}()
+	return next
+}
+
 // Measures are the measures corrected for optimism.
 type Measures struct {
 	AUC         float64
@@ -108,7 +126,10 @@ func (r *Result) FailedShare() float64 { return float64(r.Failed) / float64(r.B)
 // corrected measure is the apparent one less the optimism. The measures
 // are the AUC, calibration slope, calibration-in-the-large, Brier and
 // scaled Brier scores, Nagelkerke's R² and the ICI.
-func Optimism(pr Problem, opt Options) (*Result, error) {
+//
+// A cancelled ctx stops the bootstrap within a replicate per worker and
+// returns context.Cause(ctx).
+func Optimism(ctx context.Context, pr Problem, opt Options) (*Result, error) {
 	if pr.N <= 0 || len(pr.X) != pr.N*pr.P || len(pr.Y) != pr.N || len(pr.Coef) != pr.P {
 		return nil, errors.New("resample: inconsistent problem")
 	}
@@ -136,7 +157,7 @@ func Optimism(pr Problem, opt Options) (*Result, error) {
 		drawn  []int32
 	}
 	outs := make([]outcome, opt.B)
-	next := make(chan int)
+	next := feed(ctx, opt.B)
 	var wg sync.WaitGroup
 	var mu sync.Mutex
 	done := 0
@@ -178,11 +199,10 @@ func Optimism(pr Problem, opt Options) (*Result, error) {
 			}
 		}()
 	}
-	for b := 0; b < opt.B; b++ {
-		next <- b
-	}
-	close(next)
 	wg.Wait()
+	if ctx.Err() != nil {
+		return nil, context.Cause(ctx)
+	}
 	if logErr != nil {
 		return nil, fmt.Errorf("resample: writing the resample log: %w", logErr)
 	}

@@ -2,6 +2,7 @@ package resample
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"math"
 	"math/rand/v2"
@@ -50,7 +51,7 @@ type refOptimism struct {
 func TestOptimismMatchesStatsmodels(t *testing.T) {
 	pr := wdbcProblem(t)
 	var log bytes.Buffer
-	res, err := Optimism(pr, Options{B: 20, Seed: 1, Log: &log, Workers: 2, ICIDelta: 0.05})
+	res, err := Optimism(context.Background(), pr, Options{B: 20, Seed: 1, Log: &log, Workers: 2, ICIDelta: 0.05})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -95,11 +96,11 @@ func TestOptimismMatchesStatsmodels(t *testing.T) {
 func TestSameResultWhateverTheWorkers(t *testing.T) {
 	pr := wdbcProblem(t)
 	var a, b bytes.Buffer
-	r1, err := Optimism(pr, Options{B: 30, Seed: 7, Workers: 1, Log: &a})
+	r1, err := Optimism(context.Background(), pr, Options{B: 30, Seed: 7, Workers: 1, Log: &a})
 	if err != nil {
 		t.Fatal(err)
 	}
-	r2, err := Optimism(pr, Options{B: 30, Seed: 7, Workers: 3, Log: &b})
+	r2, err := Optimism(context.Background(), pr, Options{B: 30, Seed: 7, Workers: 3, Log: &b})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -138,7 +139,7 @@ func TestOverfittedModelIsOptimistic(t *testing.T) {
 		t.Fatal(err)
 	}
 	pr.Coef = fit.Coef
-	res, err := Optimism(pr, Options{B: 100, Seed: 11})
+	res, err := Optimism(context.Background(), pr, Options{B: 100, Seed: 11})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -165,7 +166,7 @@ func BenchmarkOptimism(b *testing.B) {
 	for _, w := range []int{1, 2} {
 		b.Run(map[int]string{1: "workers=1", 2: "workers=2"}[w], func(b *testing.B) {
 			for i := 0; i < b.N; i++ {
-				if _, err := Optimism(pr, Options{B: 1000, Seed: 1, Workers: w}); err != nil {
+				if _, err := Optimism(context.Background(), pr, Options{B: 1000, Seed: 1, Workers: w}); err != nil {
 					b.Fatal(err)
 				}
 			}
@@ -184,11 +185,11 @@ func TestPercentileIntervals(t *testing.T) {
 		}
 	}
 	ts := []float64{0.1, 0.2}
-	a, err := PercentileIntervals(y, p, CIOptions{B: 60, Seed: 4, Workers: 1, Thresholds: ts})
+	a, err := PercentileIntervals(context.Background(), y, p, CIOptions{B: 60, Seed: 4, Workers: 1, Thresholds: ts})
 	if err != nil {
 		t.Fatal(err)
 	}
-	b, err := PercentileIntervals(y, p, CIOptions{B: 60, Seed: 4, Workers: 3, Thresholds: ts})
+	b, err := PercentileIntervals(context.Background(), y, p, CIOptions{B: 60, Seed: 4, Workers: 3, Thresholds: ts})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -233,7 +234,7 @@ func TestFailedReplicatesAreCounted(t *testing.T) {
 		t.Fatal(err)
 	}
 	pr.Coef = fit.Coef
-	res, err := Optimism(pr, Options{B: 60, Seed: 2})
+	res, err := Optimism(context.Background(), pr, Options{B: 60, Seed: 2})
 	if err != nil {
 		t.Fatal(err)
 	}

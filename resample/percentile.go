@@ -1,6 +1,7 @@
 package resample
 
 import (
+	"context"
 	"errors"
 	"math"
 	"runtime"
@@ -38,8 +39,9 @@ type CIResult struct {
 // for outcomes y: the rows are drawn with replacement B times, each
 // measure is computed on every sample, and the interval runs from the
 // 2.5th to the 97.5th percentile (Hyndman & Fan definition 7) of the
-// replicate values. The model is not refitted.
-func PercentileIntervals(y, p []float64, opt CIOptions) (*CIResult, error) {
+// replicate values. The model is not refitted. A cancelled ctx stops the
+// replicates and returns context.Cause(ctx).
+func PercentileIntervals(ctx context.Context, y, p []float64, opt CIOptions) (*CIResult, error) {
 	n := len(y)
 	if n == 0 || len(p) != n || opt.B < 2 {
 		return nil, errors.New("resample: percentile intervals need rows and at least 2 replicates")
@@ -56,7 +58,7 @@ func PercentileIntervals(y, p []float64, opt CIOptions) (*CIResult, error) {
 		nb                []float64
 	}
 	reps := make([]rep, opt.B)
-	next := make(chan int)
+	next := feed(ctx, opt.B)
 	var wg sync.WaitGroup
 	for w := 0; w < opt.Workers; w++ {
 		wg.Add(1)
@@ -97,11 +99,10 @@ func PercentileIntervals(y, p []float64, opt CIOptions) (*CIResult, error) {
 			}
 		}()
 	}
-	for b := 0; b < opt.B; b++ {
-		next <- b
-	}
-	close(next)
 	wg.Wait()
+	if ctx.Err() != nil {
+		return nil, context.Cause(ctx)
+	}
 	interval := func(get func(rep) float64) [2]float64 {
 		v := make([]float64, 0, len(reps))
 		for _, r := range reps {
@@ -130,12 +131,16 @@ func PercentileIntervals(y, p []float64, opt CIOptions) (*CIResult, error) {
 // BrierDifferenceCI is the 95% bootstrap percentile interval of
 // Brier(pa) − Brier(pb) on the same rows: each replicate draws the rows
 // with replacement (one stream per replicate, as in Optimism) and takes
-// the difference of the two weighted Brier scores.
-func BrierDifferenceCI(y, pa, pb []float64, b int, seed uint64) [2]float64 {
+// the difference of the two weighted Brier scores. A cancelled ctx stops
+// the replicates and returns context.Cause(ctx).
+func BrierDifferenceCI(ctx context.Context, y, pa, pb []float64, b int, seed uint64) ([2]float64, error) {
 	n := len(y)
 	d := make([]float64, b)
 	w := make([]float64, n)
 	for k := 0; k < b; k++ {
+		if ctx.Err() != nil {
+			return [2]float64{}, context.Cause(ctx)
+		}
 		r := Stream(seed, k)
 		for i := range w {
 			w[i] = 0
@@ -148,5 +153,5 @@ func BrierDifferenceCI(y, pa, pb []float64, b int, seed uint64) [2]float64 {
 		d[k] = ba - bb
 	}
 	sort.Float64s(d)
-	return [2]float64{metrics.Quantile7(d, 0.025), metrics.Quantile7(d, 0.975)}
+	return [2]float64{metrics.Quantile7(d, 0.025), metrics.Quantile7(d, 0.975)}, nil
 }

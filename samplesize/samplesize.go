@@ -39,6 +39,29 @@ func DefaultTargets() Targets {
 	return Targets{OEWidth: 0.2, SlopeWidth: 0.2, CWidth: 0.1, NBWidth: 0.2}
 }
 
+// Request is a sample-size check as a plan's sample_size section or
+// the command line asks for it: the target 95% CI widths, the risk
+// threshold of the net-benefit criterion, and anticipated values that
+// replace those of the cohort being checked. A zero field (a nil
+// pointer) was not given.
+type Request struct {
+	// Targets are the target widths.
+	Targets
+	// Threshold is the net-benefit criterion's risk threshold.
+	Threshold float64
+	// EventRate and CStatistic are the anticipated event proportion and
+	// C-statistic; given together, they fix LPMean and LPSD (the normal
+	// linear predictor of a calibrated model with those values,
+	// NormalFor). CStatistic alone replaces the cohort's AUC.
+	EventRate, CStatistic float64
+	// LPMean and LPSD describe a normal linear predictor, given as such
+	// or found from EventRate and CStatistic (FromEventRate).
+	LPMean, LPSD  float64
+	FromEventRate bool
+	// CalIntercept and CalSlope are the anticipated calibration.
+	CalIntercept, CalSlope *float64
+}
+
 // Anticipated describes the validation population.
 type Anticipated struct {
 	// LP is the distribution of the model's linear predictor, as a sample

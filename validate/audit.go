@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"strings"
+
+	"github.com/riskaudit/riskaudit/model"
 )
 
 // Schema names the layout of audit.json.
@@ -67,7 +69,7 @@ type Development struct {
 	Measures *Performance `json:"measures"`
 	// Fit is the fit of the recipe on these data (the fit --json object)
 	// when the audit fitted it.
-	Fit any `json:"fit,omitempty"`
+	Fit *model.FitReport `json:"fit,omitempty"`
 }
 
 // Corrected is one measure's apparent value, its bootstrap optimism and

@@ -187,7 +187,8 @@ func (e *RiskError) Error() string {
 const BandMethod = "pointwise 95%: smoothed ± 1.96·√(ŝ(1 − ŝ)·Σl²), the variance of the local linear smoother with the binomial variance at the smoothed value (Cleveland & Devlin 1988)"
 
 // Assess measures risks p against outcomes y (1 event, 0 non-event).
-// A risk outside [0, 1] or NaN is a *RiskError naming its row.
+// A risk outside [0, 1] or NaN is a *RiskError naming its row; outcomes
+// of one kind only are an *OutcomesError.
 func Assess(y, p []float64, opt Options) (*Performance, error) {
 	return AssessLogits(y, p, nil, opt)
 }
@@ -215,7 +216,7 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 		}
 	}
 	if c.Events == 0 || c.Events == c.Used {
-		return nil, fmt.Errorf("validate: the cohort has %d events among %d rows: both outcomes are needed", c.Events, c.Used)
+		return nil, &OutcomesError{Events: c.Events, Rows: c.Used}
 	}
 	c.EventRate = float64(c.Events) / float64(c.Used)
 	c.Epsilon = opt.Epsilon

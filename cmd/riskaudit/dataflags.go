@@ -1,12 +1,8 @@
 package main
 
 import (
-	"crypto/sha256"
-	"encoding/hex"
 	"fmt"
-	"io"
 	"os"
-	"strings"
 	"time"
 
 	"github.com/spf13/pflag"
@@ -33,19 +29,9 @@ func (f *dataFlags) register(fs *pflag.FlagSet) {
 
 func (f *dataFlags) cohortOptions() (cohort.Options, error) {
 	var o cohort.Options
-	switch strings.ToLower(f.delimiter) {
-	case "":
-	case "comma", ",":
-		o.Delimiter = ','
-	case "semicolon", ";":
-		o.Delimiter = ';'
-	case "tab", `\t`, "\t":
-		o.Delimiter = '\t'
-	default:
-		if len(f.delimiter) != 1 || f.delimiter == `"` || f.delimiter == "\n" || f.delimiter == "\r" {
-			return o, usagef("--delimiter %q: give comma, semicolon, tab or one character other than a quote or line end", f.delimiter)
-		}
-		o.Delimiter = f.delimiter[0]
+	var err error
+	if o.Delimiter, err = cohort.ParseDelimiter(f.delimiter); err != nil {
+		return o, usagef("--delimiter %v", err)
 	}
 	o.DecimalComma = f.decimalComma
 	switch f.format {
@@ -85,20 +71,6 @@ func (f *dataFlags) failOnMissing() (bool, error) {
 	return false, usagef("--missing %q: give complete-case or fail", f.missing)
 }
 
-// fileSHA256 returns the hex SHA-256 of the file at path.
-func fileSHA256(path string) (string, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return "", fmt.Errorf("cannot read %s: %w", path, err)
-	}
-	defer f.Close()
-	h := sha256.New()
-	if _, err := io.Copy(h, f); err != nil {
-		return "", fmt.Errorf("cannot read %s: %w", path, err)
-	}
-	return hex.EncodeToString(h.Sum(nil)), nil
-}
-
 // now returns the current time in UTC, or the time in SOURCE_DATE_EPOCH
 // (seconds since 1970) when it is set, so that outputs can be made
 // reproducible.
@@ -110,25 +82,4 @@ func now() time.Time {
 		}
 	}
 	return time.Now().UTC()
-}
-
-// checkNotInput refuses an output path that names one of the inputs:
-// input files are never modified.
-func checkNotInput(out string, inputs ...string) error {
-	if out == "" {
-		return nil
-	}
-	ost, err := os.Stat(out)
-	if err != nil {
-		return nil
-	}
-	for _, in := range inputs {
-		if in == "" {
-			continue
-		}
-		if ist, err := os.Stat(in); err == nil && os.SameFile(ost, ist) {
-			return usagef("the output %s is the input %s: inputs are never overwritten; choose another output path", out, in)
-		}
-	}
-	return nil
 }

@@ -1,14 +1,15 @@
 package main
 
 import (
+	"context"
 	"errors"
 	"fmt"
-	"os"
 	"path/filepath"
 
 	"github.com/spf13/cobra"
 
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
+	"github.com/riskaudit/riskaudit/samplesize"
 	"github.com/riskaudit/riskaudit/scenario"
 	"github.com/riskaudit/riskaudit/validate"
 )
@@ -39,7 +40,7 @@ validation by 200 bootstrap replicates (seed 1). It writes:
 		Example: `  riskaudit demo --out demo
   riskaudit audit --model demo/frozen.yaml --cohort demo/later.csv --dev demo/development.csv --out demo/audit`,
 		Args: cobra.NoArgs,
-		RunE: func(cmd *cobra.Command, _ []string) error { return runDemo(out, s) },
+		RunE: func(cmd *cobra.Command, _ []string) error { return runDemo(cmd.Context(), out, s) },
 	}
 	c.Flags().StringVar(&out, "out", "", "folder to write the scenario into (created if absent)")
 	_ = c.MarkFlagRequired("out")
@@ -47,29 +48,18 @@ validation by 200 bootstrap replicates (seed 1). It writes:
 	return c
 }
 
-func runDemo(dir string, s *streams) error {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return fmt.Errorf("cannot create %s: %w", dir, err)
-	}
+func runDemo(ctx context.Context, dir string, s *streams) error {
 	dev := filepath.Join(dir, "development.csv")
 	later := filepath.Join(dir, "later.csv")
 	recipe := filepath.Join(dir, "recipe.yaml")
 	frozen := filepath.Join(dir, "frozen.yaml")
-	var set atomicfile.Set
-	defer set.Abort()
-	for _, f := range []struct {
-		path string
-		data []byte
-	}{{dev, scenario.Development.CSV()}, {later, scenario.Later.CSV()}, {recipe, []byte(scenario.Recipe)}} {
-		if err := set.Add(f.path, f.data); err != nil {
-			return err
-		}
-	}
-	if err := set.Commit(); err != nil {
+	err := atomicfile.WriteAll(dir, []atomicfile.File{
+		{Path: dev, Data: scenario.Development.CSV()}, {Path: later, Data: scenario.Later.CSV()}, {Path: recipe, Data: []byte(scenario.Recipe)}})
+	if err != nil {
 		return err
 	}
 	fmt.Fprintf(s.out, "Ostbrook Valley Health (an invented scenario): wrote %s, %s and %s\n\n", dev, later, recipe)
-	err := runFit(&fitOptions{
+	err = runFit(ctx, &fitOptions{
 		model: recipe, dataFile: dev, out: frozen,
 		jsonOut: filepath.Join(dir, "fit.json"), hlGroups: 10, data: dataFlags{missing: "complete-case"},
 	}, s)
@@ -77,11 +67,11 @@ func runDemo(dir string, s *streams) error {
 		return err
 	}
 	fmt.Fprintln(s.out)
-	err = runAudit(&auditOptions{
+	err = runAudit(ctx, &auditOptions{
 		model: frozen, cohortFile: later, devFile: dev, out: filepath.Join(dir, "audit"),
 		thresholds: "0.05:0.50:0.05", classifyAt: []float64{0.10, 0.20}, groups: 10, hlGroups: 10,
 		span: 0.75, delta: validate.AutoDelta, epsilon: validate.DefaultEpsilon, data: dataFlags{missing: "complete-case"},
-		bootstrap: 200, seed: 1, size: defaultSize(),
+		bootstrap: 200, seed: 1, size: samplesize.Request{Targets: samplesize.DefaultTargets()},
 	}, s)
 	var ce *criterionError
 	if errors.As(err, &ce) {

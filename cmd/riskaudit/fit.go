@@ -1,15 +1,14 @@
 package main
 
 import (
+	"context"
 	"encoding/json"
 	"fmt"
-	"slices"
 
 	"github.com/spf13/cobra"
 
-	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/audit"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
-	"github.com/riskaudit/riskaudit/model"
 )
 
 type fitOptions struct {
@@ -54,7 +53,7 @@ terms involved, and --firth fits Firth's penalised likelihood instead.`,
 		Example: fitExample,
 		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			return runFit(o, s)
+			return runFit(cmd.Context(), o, s)
 		},
 	}
 	f := c.Flags()
@@ -76,132 +75,42 @@ terms involved, and --firth fits Firth's penalised likelihood instead.`,
 	return c
 }
 
-// fitReport is the JSON written by fit --json.
-type fitReport struct {
-	Schema     string `json:"schema"`
-	Model      string `json:"model"`
-	DataFile   string `json:"data_file"`
-	DataSHA256 string `json:"data_sha256"`
-	model.FitStats
-	Nested *model.NestedTest `json:"nested,omitempty"`
-}
-
-type fitRun struct {
-	fitted  *model.Fitted
-	nested  *model.NestedTest
-	frozen  *model.Spec
-	hash    string
-	refit   bool
-	reduced *model.Fitted
-}
-
-func runFit(o *fitOptions, s *streams) error {
+func runFit(ctx context.Context, o *fitOptions, s *streams) error {
 	if o.hlGroups < 3 {
 		return usagef("--hl-groups %d: give at least 3 groups", o.hlGroups)
 	}
-	if err := checkNotInput(o.out, o.dataFile, o.model, o.reduced); err != nil {
+	if err := audit.CheckNotInput(o.out, o.dataFile, o.model, o.reduced); err != nil {
 		return err
 	}
-	if err := checkNotInput(o.jsonOut, o.dataFile, o.model, o.reduced); err != nil {
+	if err := audit.CheckNotInput(o.jsonOut, o.dataFile, o.model, o.reduced); err != nil {
 		return err
 	}
-	r, err := doFit(o)
+	copt, fail, err := o.data.options()
 	if err != nil {
 		return err
 	}
-	yml, err := r.frozen.MarshalYAML()
+	r, err := audit.Fit(ctx, audit.FitConfig{Model: o.model, Reduced: o.reduced, Data: audit.Input{Path: o.dataFile},
+		Read: copt, FailOnMissing: fail, Firth: o.firth, HLGroups: o.hlGroups, Tool: "riskaudit " + toolVersion(), Clock: now})
+	if err != nil {
+		return err
+	}
+	yml, err := r.Frozen.MarshalYAML()
 	if err != nil {
 		return fmt.Errorf("writing the frozen model: %w", err)
 	}
-	var set atomicfile.Set
-	defer set.Abort()
+	files := []atomicfile.File{{Path: o.out, Data: yml}}
 	if o.jsonOut != "" {
-		rep := fitReport{Schema: "riskaudit.fit/1", Model: r.fitted.Design.Spec.Name, DataFile: o.dataFile,
-			DataSHA256: r.hash, FitStats: r.fitted.Stats, Nested: r.nested}
-		b, err := json.MarshalIndent(rep, "", "  ")
+		b, err := json.MarshalIndent(r.Report, "", "  ")
 		if err != nil {
 			return err
 		}
-		if err := set.Add(o.jsonOut, append(b, '\n')); err != nil {
-			return err
-		}
+		files = append([]atomicfile.File{{Path: o.jsonOut, Data: append(b, '\n')}}, files...)
 	}
-	if err := set.Add(o.out, yml); err != nil {
-		return err
-	}
-	if err := set.Commit(); err != nil {
+	if err := atomicfile.WriteAll("", files); err != nil {
 		return err
 	}
 	if !o.quiet {
 		writeFitSummary(s.out, r, o)
 	}
 	return nil
-}
-
-func doFit(o *fitOptions) (*fitRun, error) {
-	copt, fail, err := o.data.options()
-	if err != nil {
-		return nil, err
-	}
-	spec, err := model.LoadSpec(o.model)
-	if err != nil {
-		return nil, err
-	}
-	r := &fitRun{}
-	if spec.Frozen() {
-		spec, r.refit = spec.AsRecipe(), true
-	}
-	reqs := spec.Columns(true)
-	var reduced *model.Spec
-	if o.reduced != "" {
-		if reduced, err = model.LoadSpec(o.reduced); err != nil {
-			return nil, err
-		}
-		if reduced.Frozen() {
-			reduced = reduced.AsRecipe()
-		}
-		for _, q := range reduced.Columns(true) {
-			if !slices.Contains(reqs, q) {
-				reqs = append(reqs, q)
-			}
-		}
-	}
-	fr, err := cohort.Load(o.dataFile, reqs, copt)
-	if err != nil {
-		return nil, err
-	}
-	var also []string
-	for _, q := range reqs {
-		also = append(also, q.Name)
-	}
-	mopt := model.Options{Outcome: true, FailOnMissing: fail, Also: also}
-	fopt := model.FitOptions{Firth: o.firth, HLGroups: o.hlGroups}
-	d, m, err := model.Build(spec, fr, mopt)
-	if err != nil {
-		return nil, err
-	}
-	if r.fitted, err = model.Fit(d, m, fopt); err != nil {
-		return nil, err
-	}
-	if reduced != nil {
-		d2, m2, err := model.Build(reduced, fr, mopt)
-		if err != nil {
-			return nil, err
-		}
-		if r.reduced, err = model.Fit(d2, m2, fopt); err != nil {
-			return nil, fmt.Errorf("the reduced model %s: %w", o.reduced, err)
-		}
-		if r.nested, err = model.CompareNested(r.fitted, r.reduced); err != nil {
-			return nil, &model.SpecError{File: o.reduced, Msg: err.Error()}
-		}
-	}
-	if r.hash, err = fileSHA256(o.dataFile); err != nil {
-		return nil, err
-	}
-	r.frozen = r.fitted.Freeze(model.Provenance{
-		Method: r.fitted.Stats.Method, DataFile: o.dataFile, DataSHA256: r.hash,
-		RowsUsed: m.N, Events: r.fitted.Stats.Events, FittedAt: now().Format("2006-01-02T15:04:05Z"),
-		ToolVersion: "riskaudit " + toolVersion(), RecipeFile: o.model,
-	})
-	return r, nil
 }

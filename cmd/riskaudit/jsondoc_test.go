@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"encoding/json"
 	"io"
 	"os"
@@ -21,18 +22,16 @@ func TestJSONKeysDocumented(t *testing.T) {
 	dir := t.TempDir()
 	s := &streams{out: io.Discard, err: io.Discard}
 	demo := filepath.Join(dir, "demo")
-	if err := runDemo(demo, s); err != nil {
+	ctx := context.Background()
+	if err := runDemo(ctx, demo, s); err != nil {
 		t.Fatal(err)
 	}
-	o := quietAudit(filepath.Join(demo, "recipe.yaml"), filepath.Join(demo, "later.csv"), filepath.Join(dir, "audit"))
-	o.devFile = filepath.Join(demo, "development.csv")
-	o.bootstrap, o.seed, o.ciBootstrap = 20, 1, 20
-	o.subgroups, o.minSubEvents = []string{"sex", "smoker"}, 20
-	o.update, o.updateAlpha, o.updateBootstrap = filepath.Join(dir, "updated.yaml"), 0.05, 20
-	if err := runAudit(o, s); err != nil {
-		if _, ok := err.(*criterionError); !ok {
-			t.Fatal(err)
-		}
+	args := []string{"audit", "--model", filepath.Join(demo, "recipe.yaml"), "--cohort", filepath.Join(demo, "later.csv"),
+		"--dev", filepath.Join(demo, "development.csv"), "--out", filepath.Join(dir, "audit"), "--bootstrap", "20", "--seed", "1",
+		"--ci-bootstrap", "20", "--subgroups", "sex,smoker", "--min-subgroup-events", "20",
+		"--update", filepath.Join(dir, "updated.yaml"), "--update-alpha", "0.05", "--update-bootstrap", "20", "-q"}
+	if code := run(ctx, args, s); code != exitOK && code != exitCriterion {
+		t.Fatalf("riskaudit audit: exit status %d", code)
 	}
 	reduced := filepath.Join(dir, "reduced.yaml")
 	recipe, err := os.ReadFile(filepath.Join(demo, "recipe.yaml"))
@@ -55,7 +54,7 @@ func TestJSONKeysDocumented(t *testing.T) {
 		{"samplesize", "--model", filepath.Join(demo, "frozen.yaml"), "--data", filepath.Join(demo, "later.csv"),
 			"--threshold", "0.1", "--json", filepath.Join(dir, "size.json")},
 	} {
-		if code := run(args, s); code != 0 {
+		if code := run(ctx, args, s); code != 0 {
 			t.Fatalf("riskaudit %s: exit status %d", args[0], code)
 		}
 	}

@@ -2,7 +2,6 @@ package main
 
 import (
 	"errors"
-	"os"
 	"os/exec"
 	"strconv"
 	"testing"
@@ -12,7 +11,7 @@ import (
 
 func TestMain(m *testing.M) {
 	testscript.Main(m, map[string]func(){
-		"riskaudit": func() { os.Exit(run(os.Args[1:], newStreams(os.Stdout, os.Stderr))) },
+		"riskaudit": main,
 	})
 }
 

@@ -6,35 +6,58 @@ import (
 	"time"
 )
 
-// progress reports the steps of a long command on stderr, only when
-// stderr is a terminal and the command is not quiet.
+// progress reports the steps of a long command on one line of stderr,
+// only when stderr is a terminal and the command is not quiet; it is the
+// terminal's audit.Progress.
 type progress struct {
 	s     *streams
 	on    bool
 	start time.Time
 	width int
+	// counting is the step being counted and since when.
+	counting string
+	since    time.Time
 }
 
 func newProgress(s *streams, quiet bool) *progress {
 	return &progress{s: s, on: s.errTTY && !quiet, start: time.Now()}
 }
 
-// step replaces the progress line with the named step.
-func (p *progress) step(what string) {
+// Step replaces the progress line with the named step.
+func (p *progress) Step(what string) {
+	p.show(fmt.Sprintf("riskaudit: %s… (%.1fs)", what, time.Since(p.start).Seconds()))
+}
+
+// Count shows how many of total items are done, the rate and the time
+// left.
+func (p *progress) Count(what string, done, total int) {
 	if !p.on {
 		return
 	}
-	line := fmt.Sprintf("riskaudit: %s… (%.1fs)", what, time.Since(p.start).Seconds())
+	if what != p.counting {
+		p.counting, p.since = what, time.Now()
+	}
+	el := time.Since(p.since).Seconds()
+	rate := float64(done) / max(el, 1e-9)
+	left := float64(total-done) / max(rate, 1e-9)
+	p.show(fmt.Sprintf("riskaudit: %s %d/%d (%.0f/s, %.0fs left)", what, done, total, rate, left))
+}
+
+// Done clears the progress line.
+func (p *progress) Done() {
+	if p.on && p.width > 0 {
+		fmt.Fprintf(p.s.err, "\r%s\r", strings.Repeat(" ", p.width))
+		p.width = 0
+	}
+}
+
+func (p *progress) show(line string) {
+	if !p.on {
+		return
+	}
 	pad := max(0, p.width-len(line))
 	fmt.Fprintf(p.s.err, "\r%s%s", line, strings.Repeat(" ", pad))
 	p.width = len(line)
-}
-
-// done clears the progress line.
-func (p *progress) done() {
-	if p.on && p.width > 0 {
-		fmt.Fprintf(p.s.err, "\r%s\r", strings.Repeat(" ", p.width))
-	}
 }
 
 // commandLine is the command as typed, each argument quoted for a POSIX
@@ -54,19 +77,4 @@ func shellQuote(a string) string {
 		return a
 	}
 	return "'" + strings.ReplaceAll(a, "'", `'\''`) + "'"
-}
-
-// count shows how many of total items are done, the rate and the time
-// left.
-func (p *progress) count(what string, done, total int, start time.Time) {
-	if !p.on {
-		return
-	}
-	el := time.Since(start).Seconds()
-	rate := float64(done) / max(el, 1e-9)
-	left := float64(total-done) / max(rate, 1e-9)
-	line := fmt.Sprintf("riskaudit: %s %d/%d (%.0f/s, %.0fs left)", what, done, total, rate, left)
-	pad := max(0, p.width-len(line))
-	fmt.Fprintf(p.s.err, "\r%s%s", line, strings.Repeat(" ", pad))
-	p.width = len(line)
 }

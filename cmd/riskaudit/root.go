@@ -1,15 +1,18 @@
 package main
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io"
 	"os"
 	"runtime/debug"
 	"strings"
+	"syscall"
 
 	"github.com/spf13/cobra"
 
+	"github.com/riskaudit/riskaudit/audit"
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/model"
 	"github.com/riskaudit/riskaudit/plan"
@@ -37,7 +40,27 @@ const (
 	exitBadInput    = 3
 	exitCannotFit   = 4
 	exitOtherFailed = 5
+	// An interrupted command exits with 128 + the signal's number: 130
+	// for SIGINT (Ctrl-C), 143 for SIGTERM.
+	exitSignalBase = 128
 )
+
+// interrupted is the cause of a command stopped by a signal.
+type interrupted struct{ sig syscall.Signal }
+
+func (e *interrupted) Error() string {
+	return fmt.Sprintf("interrupted by %s: stopped, nothing was written", signalName(e.sig))
+}
+
+func signalName(s syscall.Signal) string {
+	switch s {
+	case syscall.SIGINT:
+		return "SIGINT"
+	case syscall.SIGTERM:
+		return "SIGTERM"
+	}
+	return s.String()
+}
 
 // streams are the command's output streams, with whether each is a
 // terminal: progress and decoration only go to a terminal.
@@ -79,7 +102,8 @@ Exit status:
   2  wrong usage: an unknown flag, a missing argument
   3  bad input: a data file or model spec that cannot be used as it is
   4  the model cannot be fitted: separation, collinear terms, no convergence
-  5  any other failure, such as an output file that cannot be written`
+  5  any other failure, such as an output file that cannot be written
+  130, 143  interrupted by SIGINT (Ctrl-C) or SIGTERM: stopped, nothing written`
 
 func newRootCmd(s *streams) *cobra.Command {
 	root := &cobra.Command{
@@ -100,12 +124,16 @@ func newRootCmd(s *streams) *cobra.Command {
 	return root
 }
 
-// run executes the command line and returns the exit status.
-func run(args []string, s *streams) int {
+// run executes the command line and returns the exit status; ctx
+// cancelled stops the command.
+func run(ctx context.Context, args []string, s *streams) int {
 	s.args = args
 	root := newRootCmd(s)
 	root.SetArgs(args)
-	err := root.Execute()
+	err := root.ExecuteContext(ctx)
+	if err != nil && ctx.Err() != nil {
+		err = context.Cause(ctx)
+	}
 	if err == nil {
 		return exitOK
 	}
@@ -126,10 +154,14 @@ func exitCode(err error) int {
 	var fe *model.FitError
 	var cr *criterionError
 	var pe *plan.Error
+	var ae *audit.ConfigError
+	var in *interrupted
 	switch {
+	case errors.As(err, &in):
+		return exitSignalBase + int(in.sig)
 	case errors.As(err, &cr):
 		return exitCriterion
-	case errors.As(err, &ue):
+	case errors.As(err, &ue), errors.As(err, &ae):
 		return exitUsage
 	case errors.As(err, &pe):
 		return exitBadInput

@@ -1,91 +1,20 @@
 package main
 
 import (
+	"context"
 	"fmt"
 	"math"
-	"strings"
 
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
+	"gonum.org/v1/gonum/stat"
 
+	"github.com/riskaudit/riskaudit/audit"
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/internal/jsonout"
-	"github.com/riskaudit/riskaudit/model"
-	"github.com/riskaudit/riskaudit/plan"
 	"github.com/riskaudit/riskaudit/samplesize"
-	"github.com/riskaudit/riskaudit/validate"
 )
-
-// sampleSizeOf checks the cohort's size against each criterion. The
-// anticipated values (linear predictor, calibration, C-statistic) are the
-// plan's where it gives them and the cohort's otherwise; the net-benefit
-// criterion uses the plan's threshold or the first --classify-at.
-func sampleSizeOf(sc *scored, perf *validate.Performance, classifyAt []float64, size plan.SampleSize) *validate.SampleSize {
-	ant := samplesize.Anticipated{Threshold: size.Threshold}
-	if ant.Threshold == 0 && len(classifyAt) > 0 {
-		ant.Threshold = classifyAt[0]
-	}
-	var basis []string
-	if size.LPSD > 0 {
-		ant.LP = samplesize.Normal(size.LPMean, size.LPSD, 20000)
-		if size.FromEventRate {
-			basis = append(basis, fmt.Sprintf("the plan: a normal linear predictor (mean %.3f, SD %.3f) giving event proportion %g and C-statistic %g", size.LPMean, size.LPSD, size.EventRate, size.CStatistic))
-		} else {
-			basis = append(basis, fmt.Sprintf("the plan: a normal linear predictor (mean %g, SD %g)", size.LPMean, size.LPSD))
-		}
-	} else {
-		ant.LP = sc.lp
-		if ant.LP == nil {
-			ant.LP = make([]float64, len(sc.p))
-			for i, v := range sc.p {
-				v = math.Min(math.Max(v, 1e-9), 1-1e-9)
-				ant.LP[i] = math.Log(v / (1 - v))
-			}
-		}
-		ant.CalIntercept, ant.CalSlope = perf.Calibration.SlopeIntercept, perf.Calibration.Slope
-		ant.C = perf.Discrimination.AUC
-		basis = append(basis, "this cohort: its linear predictors")
-	}
-	if size.LPSD > 0 {
-		ant.CalIntercept, ant.CalSlope = 0, 1 // unless the plan says otherwise
-	}
-	switch {
-	case size.CalIntercept != nil && size.CalSlope != nil:
-		ant.CalIntercept, ant.CalSlope = *size.CalIntercept, *size.CalSlope
-		basis = append(basis, fmt.Sprintf("calibration intercept %g and slope %g (from the plan)", ant.CalIntercept, ant.CalSlope))
-	case size.CalIntercept != nil:
-		ant.CalIntercept = *size.CalIntercept
-		basis = append(basis, fmt.Sprintf("calibration intercept %g (from the plan) and slope %.3g", ant.CalIntercept, ant.CalSlope))
-	case size.CalSlope != nil:
-		ant.CalSlope = *size.CalSlope
-		basis = append(basis, fmt.Sprintf("calibration intercept %.3g and slope %g (from the plan)", ant.CalIntercept, ant.CalSlope))
-	case size.LPSD > 0:
-		basis = append(basis, "a calibrated model")
-	default:
-		basis = append(basis, "its calibration intercept and slope")
-	}
-	switch {
-	case size.CStatistic > 0 && !size.FromEventRate:
-		ant.C = size.CStatistic
-		basis = append(basis, fmt.Sprintf("C-statistic %g (from the plan)", size.CStatistic))
-	case size.LPSD > 0:
-		ant.C = 0 // implied by the distribution
-	default:
-		basis = append(basis, "its AUC")
-	}
-	res, err := samplesize.Compute(ant, samplesize.Targets{OEWidth: size.OEWidth, SlopeWidth: size.SlopeWidth, CWidth: size.CWidth, NBWidth: size.NBWidth})
-	if err != nil {
-		return nil
-	}
-	out := &validate.SampleSize{Required: res.N, Driver: res.Driver, Have: perf.Cohort.Used,
-		Basis: strings.Join(basis, ", ")}
-	for _, c := range res.Criteria {
-		out.Criteria = append(out.Criteria, validate.SizeCriterion{Measure: c.Measure, Target: c.Target, SE: c.SE, N: c.N, Events: c.Events, Met: perf.Cohort.Used >= c.N})
-	}
-	out.Short = perf.Cohort.Used < res.N
-	return out
-}
 
 // sizeReport is the samplesize command's JSON: the anticipated values,
 // then the result's fields.
@@ -147,7 +76,7 @@ distribution implies. The recommended size is the largest requirement.`,
 	f.Float64Var(&o.calA, "calibration-intercept", 0, "anticipated calibration intercept a (true risks expit(a + b·LP))")
 	f.Float64Var(&o.calB, "calibration-slope", 1, "anticipated calibration slope b")
 	f.Float64Var(&o.thr, "threshold", 0, "risk threshold for the net-benefit criterion (0: none)")
-	widthFlags(f, "", &o.widths.OEWidth, &o.widths.SlopeWidth, &o.widths.CWidth, &o.widths.NBWidth)
+	widthFlags(f, "", &o.widths)
 	f.StringVar(&o.jsonOut, "json", "", "also write the result as JSON")
 	o.data.register(f)
 	_ = cmd.MarkFlagFilename("model", "yaml", "yml")
@@ -157,12 +86,26 @@ distribution implies. The recommended size is the largest requirement.`,
 
 // widthFlags registers the target 95% CI widths of the sample-size
 // criteria, with their defaults; what prefixes each flag's help.
-func widthFlags(f *pflag.FlagSet, what string, oe, slope, c, nb *float64) {
+func widthFlags(f *pflag.FlagSet, what string, t *samplesize.Targets) {
 	def := samplesize.DefaultTargets()
-	f.Float64Var(oe, "oe-width", def.OEWidth, what+"target 95% CI width of O/E")
-	f.Float64Var(slope, "slope-width", def.SlopeWidth, what+"target 95% CI width of the calibration slope")
-	f.Float64Var(c, "c-width", def.CWidth, what+"target 95% CI width of the C-statistic")
-	f.Float64Var(nb, "nb-width", def.NBWidth, what+"target 95% CI width of the standardised net benefit")
+	f.Float64Var(&t.OEWidth, "oe-width", def.OEWidth, what+"target 95% CI width of O/E")
+	f.Float64Var(&t.SlopeWidth, "slope-width", def.SlopeWidth, what+"target 95% CI width of the calibration slope")
+	f.Float64Var(&t.CWidth, "c-width", def.CWidth, what+"target 95% CI width of the C-statistic")
+	f.Float64Var(&t.NBWidth, "nb-width", def.NBWidth, what+"target 95% CI width of the standardised net benefit")
+}
+
+// checkWidths refuses a target width that is not positive (or, for the
+// C-statistic, not below 1).
+func checkWidths(t samplesize.Targets) error {
+	for _, w := range []struct {
+		flag string
+		v    float64
+	}{{"oe-width", t.OEWidth}, {"slope-width", t.SlopeWidth}, {"c-width", t.CWidth}, {"nb-width", t.NBWidth}} {
+		if !(w.v > 0) || (w.flag == "c-width" && w.v >= 1) {
+			return usagef("--%s %g: give a positive width (below 1 for the C-statistic)", w.flag, w.v)
+		}
+	}
+	return nil
 }
 
 func runSampleSize(cmd *cobra.Command, o *sizeOptions, s *streams) error {
@@ -193,7 +136,7 @@ func runSampleSize(cmd *cobra.Command, o *sizeOptions, s *streams) error {
 	switch {
 	case byData:
 		var err error
-		if lp, about, err = scoredLP(o); err != nil {
+		if lp, about, err = scoredLP(cmd.Context(), o); err != nil {
 			return err
 		}
 	case byRate:
@@ -231,38 +174,25 @@ func runSampleSize(cmd *cobra.Command, o *sizeOptions, s *streams) error {
 
 // scoredLP scores --data with the frozen --model and returns the linear
 // predictors of its complete rows, and a line describing them.
-func scoredLP(o *sizeOptions) ([]float64, string, error) {
+func scoredLP(ctx context.Context, o *sizeOptions) ([]float64, string, error) {
 	copt, fail, err := o.data.options()
 	if err != nil {
 		return nil, "", err
 	}
-	spec, err := loadFrozen(o.model)
+	sc, err := audit.Score(ctx, audit.ScoreConfig{Model: o.model, Data: audit.Input{Path: o.dataFile}, Read: copt, FailOnMissing: fail})
 	if err != nil {
 		return nil, "", err
 	}
-	fr, err := cohort.Load(o.dataFile, spec.Columns(false), copt)
-	if err != nil {
-		return nil, "", err
-	}
-	d, m, err := model.Build(spec, fr, model.Options{FailOnMissing: fail, NoMatrix: true})
-	if err != nil {
-		return nil, "", err
-	}
-	lp, err := d.FrozenLinearPredictors(m)
-	if err != nil {
-		return nil, "", err
+	lp := make([]float64, 0, sc.Scored)
+	for _, v := range sc.LP {
+		if !math.IsNaN(v) {
+			lp = append(lp, v)
+		}
 	}
 	if len(lp) < 10 {
 		return nil, "", &cohort.Error{File: o.dataFile, Msg: fmt.Sprintf("only %d complete rows: the linear predictor's distribution needs at least 10", len(lp))}
 	}
-	var mean, ss float64
-	for _, v := range lp {
-		mean += v
-	}
-	mean /= float64(len(lp))
-	for _, v := range lp {
-		ss += (v - mean) * (v - mean)
-	}
-	about := fmt.Sprintf("Linear predictor of %s on %d rows of %s (mean %.3f, SD %.3f)", o.model, len(lp), o.dataFile, mean, math.Sqrt(ss/float64(len(lp)-1)))
+	mean, sd := stat.MeanStdDev(lp, nil)
+	about := fmt.Sprintf("Linear predictor of %s on %d rows of %s (mean %.3f, SD %.3f)", o.model, len(lp), o.dataFile, mean, sd)
 	return lp, about, nil
 }

@@ -1,16 +1,15 @@
 package main
 
 import (
-	"bytes"
+	"context"
 	"fmt"
-	"math"
 	"path/filepath"
 	"slices"
-	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
 
+	"github.com/riskaudit/riskaudit/audit"
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/model"
@@ -54,7 +53,7 @@ was not scored.`,
   # A Parquet extract gives a Parquet file
   riskaudit score --model frozen.yaml --data new.parquet --out scored.parquet`,
 		Args: cobra.NoArgs,
-		RunE: func(cmd *cobra.Command, _ []string) error { return runScore(o, s) },
+		RunE: func(cmd *cobra.Command, _ []string) error { return runScore(cmd.Context(), o, s) },
 	}
 	f := c.Flags()
 	f.StringVar(&o.model, "model", "", "frozen model (YAML with an intercept and every coefficient)")
@@ -70,27 +69,15 @@ was not scored.`,
 	return c
 }
 
-// loadFrozen reads the frozen model at path, refusing a recipe.
-func loadFrozen(path string) (*model.Spec, error) {
-	spec, err := model.LoadSpec(path)
-	if err != nil {
-		return nil, err
-	}
-	if !spec.Frozen() {
-		return nil, &model.SpecError{File: path, Msg: "this is a recipe (it has no intercept): fit it first with 'riskaudit fit'"}
-	}
-	return spec, nil
-}
-
-func runScore(o *scoreOptions, s *streams) error {
-	if err := checkNotInput(o.out, o.dataFile, o.model); err != nil {
+func runScore(ctx context.Context, o *scoreOptions, s *streams) error {
+	if err := audit.CheckNotInput(o.out, o.dataFile, o.model); err != nil {
 		return err
 	}
 	copt, fail, err := o.data.options()
 	if err != nil {
 		return err
 	}
-	spec, err := loadFrozen(o.model)
+	spec, err := audit.LoadFrozen(o.model)
 	if err != nil {
 		return err
 	}
@@ -99,49 +86,30 @@ func runScore(o *scoreOptions, s *streams) error {
 		return err
 	}
 	copt.KeepRecords = format == "csv"
-	fr, err := cohort.Load(o.dataFile, spec.Columns(false), copt)
+	sc, err := audit.Score(ctx, audit.ScoreConfig{Spec: spec, Data: audit.Input{Path: o.dataFile}, Read: copt, FailOnMissing: fail})
 	if err != nil {
 		return err
 	}
+	fr := sc.Frame
 	for _, name := range []string{lpColumn, riskColumn} {
 		if slices.Contains(fr.Header, name) {
 			return &cohort.Error{File: o.dataFile, Line: 1, Column: name, Msg: "the file already has this column, which score would append; rename it or score the original extract"}
 		}
 	}
-	d, m, err := model.Build(spec, fr, model.Options{FailOnMissing: fail})
-	if err != nil {
-		return err
-	}
-	scored, err := d.FrozenLinearPredictors(m)
-	if err != nil {
-		return err
-	}
-	lp := make([]float64, fr.Rows)
-	for i := range lp {
-		lp[i] = math.NaN()
-	}
-	for r, v := range scored {
-		lp[m.Rows[r]] = v
-	}
+	names, values := []string{lpColumn, riskColumn}, [][]float64{sc.LP, model.Risks(sc.LP)}
 	var out []byte
 	if format == "csv" {
-		out = scoredCSV(fr, lp, copt.DecimalComma)
-	} else {
-		risk := make([]float64, len(lp))
-		for i, v := range lp {
-			risk[i] = model.Risk(v) // NaN stays NaN: written as null
-		}
-		if out, err = cohort.AppendColumns(o.dataFile, format, []string{lpColumn, riskColumn}, [][]float64{lp, risk}); err != nil {
-			return err
-		}
+		out = fr.AppendCSV(names, values, copt.DecimalComma)
+	} else if out, err = cohort.AppendColumns(o.dataFile, format, names, values); err != nil {
+		return err
 	}
 	if err := atomicfile.WriteFile(o.out, out); err != nil {
 		return err
 	}
 	if !o.quiet {
-		fmt.Fprintf(s.out, "Scored %d of %d rows of %s with %s", m.N, fr.Rows, o.dataFile, o.model)
-		if m.Excluded > 0 {
-			fmt.Fprintf(s.out, "; %d rows left unscored for missing values (%s)", m.Excluded, describeExclusions(m.ByColumn))
+		fmt.Fprintf(s.out, "Scored %d of %d rows of %s with %s", sc.Scored, fr.Rows, o.dataFile, o.model)
+		if sc.Excluded > 0 {
+			fmt.Fprintf(s.out, "; %d rows left unscored for missing values (%s)", sc.Excluded, describeExclusions(sc.ByColumn))
 		}
 		fmt.Fprintf(s.out, "\nWrote %s\n", o.out)
 	}
@@ -168,46 +136,4 @@ func checkScoredName(out, format string) error {
 		return usagef("--out %s: the scored file keeps the input's format (%s); give it a matching name", out, names[format])
 	}
 	return nil
-}
-
-// scoredCSV writes every record as read, followed by the linear predictor
-// and the risk (empty where the row was not scored).
-func scoredCSV(fr *cohort.Frame, lp []float64, decimalComma bool) []byte {
-	var b bytes.Buffer
-	b.Grow(len(fr.HeaderRecord()) * (fr.Rows + 1) * 2)
-	d := fr.Delimiter
-	b.Write(fr.HeaderRecord())
-	b.WriteByte(d)
-	b.WriteString(lpColumn)
-	b.WriteByte(d)
-	b.WriteString(riskColumn)
-	b.WriteByte('\n')
-	buf := make([]byte, 0, 64)
-	for i := 0; i < fr.Rows; i++ {
-		b.Write(fr.Record(i))
-		b.WriteByte(d)
-		if !math.IsNaN(lp[i]) {
-			b.Write(number(buf[:0], lp[i], decimalComma))
-			b.WriteByte(d)
-			b.Write(number(buf[:0], model.Risk(lp[i]), decimalComma))
-		} else {
-			b.WriteByte(d)
-		}
-		b.WriteByte('\n')
-	}
-	return b.Bytes()
-}
-
-// number formats v in the shortest form that reads back exactly, with a
-// decimal comma when asked.
-func number(buf []byte, v float64, decimalComma bool) []byte {
-	buf = strconv.AppendFloat(buf, v, 'g', -1, 64)
-	if decimalComma {
-		for i, c := range buf {
-			if c == '.' {
-				buf[i] = ','
-			}
-		}
-	}
-	return buf
 }

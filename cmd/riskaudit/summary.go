@@ -6,19 +6,10 @@ import (
 	"math"
 	"strings"
 
+	"github.com/riskaudit/riskaudit/audit"
 	"github.com/riskaudit/riskaudit/model"
+	"github.com/riskaudit/riskaudit/report"
 )
-
-// fmtP writes a p-value with four decimals, or as "<0.0001".
-func fmtP(p float64) string {
-	switch {
-	case math.IsNaN(p):
-		return "n/a"
-	case p < 0.0001:
-		return "<0.0001"
-	}
-	return fmt.Sprintf("%.4f", p)
-}
 
 // fmtG writes a number with about four significant digits.
 func fmtG(v float64) string {
@@ -32,18 +23,18 @@ func fmtG(v float64) string {
 	return fmt.Sprintf("%.4f", v)
 }
 
-func writeFitSummary(w io.Writer, r *fitRun, o *fitOptions) {
-	st := r.fitted.Stats
-	spec := r.fitted.Design.Spec
+func writeFitSummary(w io.Writer, r *audit.FitResult, o *fitOptions) {
+	st := r.Fitted.Stats
+	spec := r.Fitted.Design.Spec
 	name := spec.Name
 	if name == "" {
 		name = o.model
 	}
 	fmt.Fprintf(w, "Fitted: %s\n", name)
-	if r.refit {
+	if r.Refitted {
 		fmt.Fprintf(w, "  (%s is a frozen model: its terms were refitted as a recipe)\n", o.model)
 	}
-	fmt.Fprintf(w, "  data        %s (SHA-256 %s…)\n", o.dataFile, r.hash[:16])
+	fmt.Fprintf(w, "  data        %s (SHA-256 %s…)\n", o.dataFile, r.Report.DataSHA256[:16])
 	fmt.Fprintf(w, "  rows        %d read, %d used, %d left out for missing values", st.RowsRead, st.N, st.Excluded)
 	if len(st.ByColumn) > 0 {
 		var parts []string
@@ -68,7 +59,7 @@ func writeFitSummary(w io.Writer, r *fitRun, o *fitOptions) {
 	fmt.Fprintf(w, "  %-*s  %10s  %9s  %7s  %8s  %10s  %s\n", width, "term", "coef", "SE", "z", "p", "odds ratio", "95% CI")
 	for _, t := range st.Terms {
 		pad := width - len([]rune(t.Term)) + len(t.Term)
-		fmt.Fprintf(w, "  %-*s  %10s  %9s  %7.2f  %8s  %10s  %s – %s\n", pad, t.Term, fmtG(t.Coef), fmtG(t.SE), t.Z, fmtP(t.P),
+		fmt.Fprintf(w, "  %-*s  %10s  %9s  %7.2f  %8s  %10s  %s – %s\n", pad, t.Term, fmtG(t.Coef), fmtG(t.SE), t.Z, report.FormatP(t.P),
 			fmtG(t.OddsRatio), fmtG(t.ORCI[0]), fmtG(t.ORCI[1]))
 	}
 	if st.PMethod == model.PPenalisedLR {
@@ -76,13 +67,13 @@ func writeFitSummary(w io.Writer, r *fitRun, o *fitOptions) {
 	}
 	fmt.Fprintln(w)
 	fmt.Fprintf(w, "  −2 log-likelihood   %.3f (intercept only %.3f)\n", st.Neg2LL, st.NullNeg2LL)
-	fmt.Fprintf(w, "  likelihood ratio    χ² %.3f on %d df, p %s\n", st.LRChi2, st.LRDF, fmtP(st.LRP))
+	fmt.Fprintf(w, "  likelihood ratio    χ² %.3f on %d df, p %s\n", st.LRChi2, st.LRDF, report.FormatP(st.LRP))
 	fmt.Fprintf(w, "  AIC %.3f   BIC %.3f   Nagelkerke R² %.4f\n", st.AIC, st.BIC, st.NagelkerkeR2)
-	fmt.Fprintf(w, "  Hosmer–Lemeshow     %.3f on %d df, p %s (%d risk groups)\n", st.HL.Statistic, st.HL.DF, fmtP(st.HL.P), st.HL.Groups)
-	if n := r.nested; n != nil {
+	fmt.Fprintf(w, "  Hosmer–Lemeshow     %.3f on %d df, p %s (%d risk groups)\n", st.HL.Statistic, st.HL.DF, report.FormatP(st.HL.P), st.HL.Groups)
+	if n := r.Report.Nested; n != nil {
 		fmt.Fprintf(w, "\n  Nested comparison with %s, on the same %d rows\n", o.reduced, n.Rows)
 		fmt.Fprintf(w, "    added terms        %s\n", strings.Join(n.Added, ", "))
-		fmt.Fprintf(w, "    likelihood ratio   χ² %.3f on %d df, p %s\n", n.LRChi2, n.DF, fmtP(n.P))
+		fmt.Fprintf(w, "    likelihood ratio   χ² %.3f on %d df, p %s\n", n.LRChi2, n.DF, report.FormatP(n.P))
 		fmt.Fprintf(w, "    AIC difference     %.3f (full − reduced; negative favours the full model)\n", n.AICDifference)
 	}
 	fmt.Fprintf(w, "\nWrote %s", o.out)

@@ -45,20 +45,11 @@ expected events; the first audit outside its 99.8% limits is flagged.`,
 			if err := report.WriteTrend(&md, tr, hist, figs); err != nil {
 				return err
 			}
-			if err := os.MkdirAll(out, 0o755); err != nil {
-				return fmt.Errorf("cannot create %s: %w", out, err)
-			}
-			var set atomicfile.Set
-			defer set.Abort()
+			files := []atomicfile.File{{Path: filepath.Join(out, "trend.md"), Data: md.Bytes()}}
 			for _, f := range figs {
-				if err := set.Add(filepath.Join(out, f.Name), f.SVG); err != nil {
-					return err
-				}
+				files = append(files, atomicfile.File{Path: filepath.Join(out, f.Name), Data: f.SVG})
 			}
-			if err := set.Add(filepath.Join(out, "trend.md"), md.Bytes()); err != nil {
-				return err
-			}
-			if err := set.Commit(); err != nil {
+			if err := atomicfile.WriteAll(out, files); err != nil {
 				return err
 			}
 			fmt.Fprintf(s.out, "%d audits from %s to %s\n", len(recs), recs[0].AuditDate, recs[len(recs)-1].AuditDate)

@@ -66,6 +66,32 @@ func (s *Set) Abort() {
 	s.staged = nil
 }
 
+// File is one file of a set: its path and its content.
+type File struct {
+	Path string
+	Data []byte
+}
+
+// WriteAll creates dir (and its parents) if it is absent, then writes
+// every file as one set: all of them appear, or none does. The files'
+// paths need not lie inside dir; dir is the folder the caller promised
+// to create.
+func WriteAll(dir string, files []File) error {
+	if dir != "" {
+		if err := os.MkdirAll(dir, 0o755); err != nil {
+			return fmt.Errorf("cannot create %s: %w", dir, err)
+		}
+	}
+	var s Set
+	defer s.Abort()
+	for _, f := range files {
+		if err := s.Add(f.Path, f.Data); err != nil {
+			return err
+		}
+	}
+	return s.Commit()
+}
+
 // WriteFile writes one file atomically.
 func WriteFile(path string, data []byte) error {
 	var s Set

@@ -1,4 +1,4 @@
-package main
+package audit
 
 import (
 	"github.com/riskaudit/riskaudit/model"
@@ -6,17 +6,12 @@ import (
 )
 
 // caseMix compares the development data with the new cohort for a
-// frozen model.
-// The frames read for the audit are reused; only the design matrices are
-// built here.
-func caseMix(o *auditOptions, spec *model.Spec, devSc, curSc *scored, devPerf, perf *validate.Performance) (*validate.CaseMix, error) {
-	_, fail, err := o.data.options()
-	if err != nil {
-		return nil, err
-	}
+// frozen model. The frames read for the audit are reused; only the
+// design matrices are built here.
+func (c *Config) caseMix(spec *model.Spec, devSc, curSc *scored, devPerf, perf *validate.Performance) (*validate.CaseMix, error) {
 	side := func(sc *scored) (validate.MixInput, error) {
 		fr := sc.frame
-		d, m, err := model.Build(spec, fr, model.Options{Outcome: true, FailOnMissing: fail})
+		d, m, err := model.Build(spec, fr, model.Options{Outcome: true, FailOnMissing: c.FailOnMissing})
 		if err != nil {
 			return validate.MixInput{}, err
 		}

@@ -1,0 +1,163 @@
+package audit
+
+import (
+	"bytes"
+	"context"
+	"errors"
+	"path/filepath"
+
+	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/atomicfile"
+	"github.com/riskaudit/riskaudit/internal/jsonout"
+	"github.com/riskaudit/riskaudit/model"
+	"github.com/riskaudit/riskaudit/plots"
+	"github.com/riskaudit/riskaudit/report"
+	"github.com/riskaudit/riskaudit/validate"
+)
+
+// CompareConfig names two models to compare on one cohort: two frozen
+// models, or one and a column of risks some other model predicted.
+type CompareConfig struct {
+	// Models are one or two frozen models (YAML); with one, Predicted
+	// names the column of the other model's risks.
+	Models    []string
+	Predicted string
+	// Cohort is the data; Read and FailOnMissing say how to read it, as
+	// in Config.
+	Cohort        Input
+	Read          cohort.Options
+	FailOnMissing bool
+	// Measures are the decision curves' thresholds and the bootstrap of
+	// the Brier difference.
+	Measures validate.CompareOptions
+	// Tool and CommandLine record how the comparison was made.
+	Tool, CommandLine string
+}
+
+// Comparison is a finished comparison and its figure.
+type Comparison struct {
+	Comparison *validate.Comparison
+	Figure     plots.Figure
+}
+
+// Compare scores the cohort's rows complete for both models and compares
+// the two models on them (validate.Compare). Errors are as for Run; a
+// cohort whose complete rows have one outcome only is a *cohort.Error
+// wrapping a *validate.OutcomesError.
+func Compare(ctx context.Context, cfg CompareConfig) (*Comparison, error) {
+	if !(len(cfg.Models) == 2 && cfg.Predicted == "" || len(cfg.Models) == 1 && cfg.Predicted != "") {
+		return nil, configErrorf("give --model twice, or --model once and --predicted")
+	}
+	var specs []*model.Spec
+	for _, m := range cfg.Models {
+		sp, err := model.LoadSpec(m)
+		if err != nil {
+			return nil, err
+		}
+		if !sp.Frozen() {
+			return nil, &model.SpecError{File: m, Msg: "compare needs frozen models; fit this recipe first"}
+		}
+		specs = append(specs, sp)
+	}
+	if len(specs) == 2 && (specs[0].Outcome.Column != specs[1].Outcome.Column || specs[0].Outcome.Event.Text != specs[1].Outcome.Event.Text) {
+		return nil, &model.SpecError{File: cfg.Models[1], Msg: "the two models have different outcomes"}
+	}
+	var reqs []cohort.Request
+	seen := map[string]bool{}
+	for _, sp := range specs {
+		for _, q := range sp.Columns(true) {
+			if !seen[q.Name] {
+				seen[q.Name] = true
+				reqs = append(reqs, q)
+			}
+		}
+	}
+	if cfg.Predicted != "" {
+		reqs = append(reqs, cohort.Request{Name: cfg.Predicted, Kind: cohort.Numeric, NaNIsError: true})
+	}
+	fr, hash, err := load(ctx, cfg.Cohort, reqs, cfg.Read)
+	if err != nil {
+		return nil, err
+	}
+	y, risks, err := scoreBoth(fr, specs, reqs, cfg)
+	if err != nil {
+		return nil, err
+	}
+	cmp, err := validate.Compare(ctx, y, risks[0], risks[1], cfg.Measures)
+	if err != nil {
+		if errors.Is(err, validate.ErrOneOutcome) {
+			return nil, &cohort.Error{File: cfg.Cohort.Path, Msg: "the complete rows have only one outcome; both are needed" /*ERRMERGE, Err: err*/}
+		}
+		return nil, err
+	}
+	nameOf := func(i int) string {
+		if i < len(specs) && specs[i].Name != "" {
+			return specs[i].Name
+		}
+		if i < len(cfg.Models) {
+			return filepath.Base(cfg.Models[i])
+		}
+		return "column " + cfg.Predicted
+	}
+	cmp.ModelA, cmp.ModelB, cmp.Cohort, cmp.CohortSHA, cmp.Rows = nameOf(0), nameOf(1), cfg.Cohort.Path, hash, fr.Rows
+	cmp.Tool, cmp.Command = cfg.Tool, cfg.CommandLine
+	fig, err := plots.CompareDecision(cmp)
+	if err != nil {
+		return nil, err
+	}
+	return &Comparison{Comparison: cmp, Figure: fig}, nil
+}
+
+// scoreBoth returns the outcomes and both models' risks on the rows
+// complete for every column either needs.
+func scoreBoth(fr *cohort.Frame, specs []*model.Spec, reqs []cohort.Request, cfg CompareConfig) ([]float64, [][]float64, error) {
+	var also []string
+	for _, q := range reqs {
+		also = append(also, q.Name)
+	}
+	var risks [][]float64
+	var y []float64
+	for _, sp := range specs {
+		d, m, err := model.Build(sp, fr, model.Options{Outcome: true, FailOnMissing: cfg.FailOnMissing, Also: also, NoMatrix: true})
+		if err != nil {
+			return nil, nil, err
+		}
+		lp, err := d.FrozenLinearPredictors(m)
+		if err != nil {
+			return nil, nil, err
+		}
+		risks = append(risks, model.Risks(lp))
+		if y == nil {
+			y = m.Y
+			if cfg.Predicted != "" {
+				q, err := predictedRisks(fr, cfg.Predicted, m.Rows)
+				if err != nil {
+					return nil, nil, err
+				}
+				risks = append(risks, q)
+			}
+		}
+	}
+	return y, risks, nil
+}
+
+// WriteComparison writes compare.md, compare.json and the decision
+// curves into dir (created if absent), all or nothing.
+func WriteComparison(dir string, c *Comparison) error {
+	if err := CheckOutputDir(dir); err != nil {
+		return err
+	}
+	js, err := jsonout.Marshal(c.Comparison)
+	if err != nil {
+		return err
+	}
+	var md bytes.Buffer
+	if err := report.WriteComparison(&md, c.Comparison, c.Figure.Name); err != nil {
+		return err
+	}
+	return atomicfile.WriteAll(dir, []atomicfile.File{
+		{Path: filepath.Join(dir, c.Figure.Name), Data: c.Figure.SVG},
+		{Path: filepath.Join(dir, "compare.json"), Data: js},
+		{Path: filepath.Join(dir, "compare.md"), Data: md.Bytes()},
+	})
+}

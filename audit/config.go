@@ -1,0 +1,228 @@
+package audit
+
+import (
+	"errors"
+	"fmt"
+	"os"
+	"time"
+
+	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/model"
+	"github.com/riskaudit/riskaudit/samplesize"
+	"github.com/riskaudit/riskaudit/validate"
+)
+
+// Input is one dataset of an audit: a file to read, or a frame already
+// read.
+type Input struct {
+	// Path is the file to read. With Frame it is only the name the
+	// report and the provenance give the data.
+	Path string
+	// Frame, when not nil, is used as it is instead of reading Path; it
+	// must hold every column the audit needs, of the kind it needs.
+	Frame *cohort.Frame
+	// SHA256 is the hex SHA-256 of the data. It is computed from Path
+	// when Frame is nil; with Frame it is the caller's (empty: unknown).
+	SHA256 string
+}
+
+// given reports whether the input names any data.
+func (in Input) given() bool { return in.Path != "" || in.Frame != nil }
+
+// Predicted names a column of risks that some model wrote into the
+// cohort, audited instead of a model.
+type Predicted struct {
+	// Column holds the predicted risks, each in [0, 1].
+	Column string
+	// Outcome is the outcome column and Event the value that is an
+	// event; with NonEvent, any value other than the two is an error.
+	Outcome, Event, NonEvent string
+}
+
+// Config names everything one audit needs. The zero values of the
+// options give the command line's defaults, except where a field says
+// otherwise.
+type Config struct {
+	// Model is the path of a frozen model, or of a recipe to fit on Dev
+	// (YAML). Spec, when not nil, is that model already read, and Model
+	// then only names it. Predicted audits a column of risks instead;
+	// exactly one of Model (or Spec) and Predicted is given.
+	Model     string
+	Spec      *model.Spec
+	Predicted *Predicted
+
+	// Cohort is the data to audit; Dev the development data, measured
+	// the same way beside it. Without Cohort a recipe audit describes
+	// its development data.
+	Cohort, Dev Input
+
+	// Read says how to read the files (delimiter, decimal comma,
+	// missing-value markers, renames, format); FailOnMissing makes a
+	// missing value in a model column an error instead of leaving the row
+	// out (complete-case analysis).
+	Read          cohort.Options
+	FailOnMissing bool
+
+	// Measures are the options of every measure (thresholds, groups,
+	// LOWESS span and δ, clamping). Its Development field is set by the
+	// audit itself.
+	Measures validate.Options
+
+	// Bootstrap is the number of replicates of the internal validation
+	// (0: none), drawn with Seed on Workers goroutines (0: all cores);
+	// Firth fits the recipe and every refit by Firth's penalised
+	// likelihood. ResampleLog and Shrunken, when set, are the paths at
+	// which the result offers the replicates' rows and the shrunken
+	// model (see Result.Files).
+	Bootstrap   int
+	Seed        uint64
+	Workers     int
+	Firth       bool
+	ResampleLog string
+	Shrunken    string
+
+	// CIBootstrap is the number of replicates of the percentile intervals
+	// on the cohort (0: none).
+	CIBootstrap int
+
+	// Criteria judge the audit; nil means validate.DefaultCriteria.
+	Criteria []validate.Criterion
+
+	// SampleSize holds the sample-size check's target widths, threshold
+	// and anticipated values; zero widths take samplesize's defaults.
+	SampleSize samplesize.Request
+
+	// Subgroups are categorical columns to measure the model in, level by
+	// level; a subgroup with fewer than MinSubgroupEvents events or
+	// non-events is reported as too small (0: the default of 20).
+	Subgroups         []string
+	MinSubgroupEvents int
+
+	// Update, when set, updates the model on the cohort by closed testing
+	// at level UpdateAlpha (0: 0.05) and offers the chosen model at this
+	// path; its expected performance comes from UpdateBootstrap
+	// replicates (0: none).
+	Update          string
+	UpdateAlpha     float64
+	UpdateBootstrap int
+
+	// Tool names the program and its version for the provenance, and
+	// CommandLine how it was called; Clock gives the time (nil: the
+	// current time in UTC).
+	Tool        string
+	CommandLine string
+	Clock       func() time.Time
+
+	// GCPercent, when positive, is the garbage collector's target while a
+	// cohort of LargeCohort rows or more is measured (the process-wide
+	// setting, restored afterwards); the command line sets 25 unless the
+	// environment sets GOGC.
+	GCPercent int
+
+	// Progress hears of each step; nil is silent.
+	Progress Progress
+}
+
+// ConfigError is a Config that cannot be run as it is: contradictory or
+// out-of-range options. Its message names the options by their
+// command-line flags, which are the names riskaudit's users know.
+type ConfigError struct{ Msg string }
+
+// Error returns the message.
+func (e *ConfigError) Error() string { return e.Msg }
+
+func configErrorf(format string, args ...any) error {
+	return &ConfigError{Msg: fmt.Sprintf(format, args...)}
+}
+
+// ErrRecipeWithoutData is the error (within a *model.SpecError) of a
+// recipe given to audit without development data to fit it on.
+var ErrRecipeWithoutData = errors.New("a recipe needs development data to be fitted")
+
+// model reports whether the audit has a model (rather than a column of
+// risks).
+func (c *Config) hasModel() bool { return c.Model != "" || c.Spec != nil }
+
+// check refuses contradictory or out-of-range options.
+func (c *Config) check() error {
+	switch {
+	case c.hasModel() == (c.Predicted != nil):
+		return configErrorf("give either --model (a frozen model or a recipe) or --predicted (a column of risks)")
+	case c.Predicted != nil && (c.Predicted.Outcome == "" || c.Predicted.Event == ""):
+		return configErrorf("--predicted needs --outcome and --event")
+	case c.Predicted != nil && c.Predicted.Column == c.Predicted.Outcome:
+		return configErrorf("--predicted and --outcome name the same column")
+	case !c.Cohort.given() && !c.Dev.given():
+		return configErrorf("give the cohort to audit with --cohort (or, for a recipe, the development data with --dev)")
+	case c.Bootstrap < 0 || c.CIBootstrap < 0:
+		return configErrorf("--bootstrap and --ci-bootstrap take a number of replicates")
+	case c.Bootstrap > 0 && !c.Dev.given():
+		return configErrorf("--bootstrap resamples the development data: give it with --dev")
+	case c.Bootstrap > 0 && c.Predicted != nil:
+		return configErrorf("--bootstrap refits a model: give --model, not --predicted")
+	case c.Bootstrap > 0 && c.Bootstrap < 10:
+		return configErrorf("--bootstrap %d: give at least 10 replicates (200 or more is common practice)", c.Bootstrap)
+	case c.CIBootstrap > 0 && c.CIBootstrap < 20:
+		return configErrorf("--ci-bootstrap %d: give at least 20 replicates", c.CIBootstrap)
+	case (c.Shrunken != "" || c.ResampleLog != "") && c.Bootstrap == 0:
+		return configErrorf("--shrunken and --resample-log come from the bootstrap: add --bootstrap N")
+	case !c.Cohort.given() && c.Predicted != nil:
+		return configErrorf("--predicted needs --cohort")
+	case c.Update != "" && (c.Predicted != nil || !c.Cohort.given()):
+		return configErrorf("--update updates a model on the cohort: give --model and --cohort")
+	}
+	for _, out := range []string{c.Shrunken, c.ResampleLog, c.Update} {
+		if err := CheckNotInput(out, c.Model, c.Cohort.Path, c.Dev.Path); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// sizeRequest is the sample-size request with samplesize's default
+// widths where the Config gives none.
+func (c *Config) sizeRequest() samplesize.Request {
+	s := c.SampleSize
+	def := samplesize.DefaultTargets()
+	for _, w := range []struct {
+		v   *float64
+		def float64
+	}{
+		{&s.OEWidth, def.OEWidth}, {&s.SlopeWidth, def.SlopeWidth}, {&s.CWidth, def.CWidth}, {&s.NBWidth, def.NBWidth}} {
+		if *w.v == 0 {
+			*w.v = w.def
+		}
+	}
+	return s
+}
+
+// now is the time by clock, or the current time in UTC when clock is
+// nil.
+func now(clock func() time.Time) time.Time {
+	if clock != nil {
+		return clock()
+	}
+	return time.Now().UTC()
+}
+
+// CheckNotInput refuses an output path that names one of the inputs
+// (input files are never modified): a *ConfigError when out exists and
+// is the same file as an input. An empty out or input is skipped.
+func CheckNotInput(out string, inputs ...string) error {
+	if out == "" {
+		return nil
+	}
+	ost, err := os.Stat(out)
+	if err != nil {
+		return nil
+	}
+	for _, in := range inputs {
+		if in == "" {
+			continue
+		}
+		if ist, err := os.Stat(in); err == nil && os.SameFile(ost, ist) {
+			return configErrorf("the output %s is the input %s: inputs are never overwritten; choose another output path", out, in)
+		}
+	}
+	return nil
+}

@@ -1,0 +1,219 @@
+package audit
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"slices"
+	"time"
+
+	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/model"
+)
+
+// FitConfig names a recipe to fit on development data and freeze.
+type FitConfig struct {
+	// Model is the recipe's path (YAML); Spec, when not nil, is that
+	// recipe already read, and Model then only names it. A frozen model
+	// is refitted as a recipe of the same terms.
+	Model string
+	Spec  *model.Spec
+	// Reduced, when set, is a recipe nested in Model: the two are
+	// compared by likelihood ratio and AIC on the same rows.
+	Reduced string
+	// Data is the development data.
+	Data Input
+	// Read and FailOnMissing say how to read the data, as in Config.
+	Read          cohort.Options
+	FailOnMissing bool
+	// Firth fits Firth's penalised likelihood; HLGroups is the number of
+	// Hosmer–Lemeshow groups (0: 10).
+	Firth    bool
+	HLGroups int
+	// Tool names the program for the frozen model's provenance; Clock
+	// gives its time (nil: now, UTC).
+	Tool  string
+	Clock func() time.Time
+}
+
+// FitResult is a fitted and frozen recipe.
+type FitResult struct {
+	// Fitted is the fit; Frozen the frozen model with its provenance;
+	// Report its statistics as 'riskaudit fit --json' writes them.
+	Fitted *model.Fitted
+	Frozen *model.Spec
+	Report *model.FitReport
+	// Refitted says that Model was a frozen model whose terms were
+	// refitted as a recipe.
+	Refitted bool
+}
+
+// Fit reads the development data, fits the recipe on its complete cases
+// (and the reduced recipe, when given, on the same rows), and freezes
+// it with its provenance (the data's SHA-256, the rows used, the time,
+// the tool). A failed fit is the model package's error (such as a
+// *model.SeparationError).
+func Fit(ctx context.Context, cfg FitConfig) (*FitResult, error) {
+	spec, err := specOf(cfg.Spec, cfg.Model)
+	if err != nil {
+		return nil, err
+	}
+	var reduced *model.Spec
+	if cfg.Reduced != "" {
+		if reduced, err = model.LoadSpec(cfg.Reduced); err != nil {
+			return nil, err
+		}
+	}
+	reqs := fitRequests(spec, reduced)
+	fr, hash, err := load(ctx, cfg.Data, reqs, cfg.Read)
+	if err != nil {
+		return nil, err
+	}
+	return fitFrame(spec, reduced, fr, hash, cfg, false)
+}
+
+// fitRequests are the columns the recipe and the reduced recipe read.
+func fitRequests(spec, reduced *model.Spec) []cohort.Request {
+	reqs := spec.Columns(true)
+	if reduced != nil {
+		for _, q := range reduced.Columns(true) {
+			if !slices.Contains(reqs, q) {
+				reqs = append(reqs, q)
+			}
+		}
+	}
+	return reqs
+}
+
+// fitFrame fits spec (a frozen model's terms as a recipe) and the
+// reduced recipe on the rows of fr complete for both; with wrap, a
+// failed fit says what was being fitted on what.
+func fitFrame(spec, reduced *model.Spec, fr *cohort.Frame, hash string, cfg FitConfig, wrap bool) (*FitResult, error) {
+	r := &FitResult{}
+	if spec.Frozen() {
+		spec, r.Refitted = spec.AsRecipe(), true
+	}
+	if reduced != nil && reduced.Frozen() {
+		reduced = reduced.AsRecipe()
+	}
+	var also []string
+	for _, q := range fitRequests(spec, reduced) {
+		also = append(also, q.Name)
+	}
+	mopt := model.Options{Outcome: true, FailOnMissing: cfg.FailOnMissing, Also: also}
+	fopt := model.FitOptions{Firth: cfg.Firth, HLGroups: cfg.HLGroups}
+	d, m, err := model.Build(spec, fr, mopt)
+	if err != nil {
+		return nil, err
+	}
+	if r.Fitted, err = model.Fit(d, m, fopt); err != nil {
+		if wrap {
+			return nil, fmt.Errorf("fitting %s on %s: %w", cfg.Model, cfg.Data.Path, err)
+		}
+		return nil, err
+	}
+	st := r.Fitted.Stats
+	r.Report = &model.FitReport{Schema: model.FitSchema, Model: spec.Name, DataFile: cfg.Data.Path, DataSHA256: hash, FitStats: st}
+	if reduced != nil {
+		d2, m2, err := model.Build(reduced, fr, mopt)
+		if err != nil {
+			return nil, err
+		}
+		red, err := model.Fit(d2, m2, fopt)
+		if err != nil {
+			return nil, fmt.Errorf("the reduced model %s: %w", cfg.Reduced, err)
+		}
+		if r.Report.Nested, err = model.CompareNested(r.Fitted, red); err != nil {
+			return nil, &model.SpecError{File: cfg.Reduced, Msg: err.Error()}
+		}
+	}
+	r.Frozen = r.Fitted.Freeze(model.Provenance{
+		Method: st.Method, DataFile: cfg.Data.Path, DataSHA256: hash, RowsUsed: m.N, Events: st.Events,
+		FittedAt: now(cfg.Clock).Format(timeFormat), ToolVersion: cfg.Tool, RecipeFile: cfg.Model,
+	})
+	return r, nil
+}
+
+// timeFormat is how times are written in provenance: UTC, to the second.
+const timeFormat = "2006-01-02T15:04:05Z"
+
+// specOf returns spec, or the spec read from path.
+func specOf(spec *model.Spec, path string) (*model.Spec, error) {
+	if spec != nil {
+		return spec, nil
+	}
+	return model.LoadSpec(path)
+}
+
+// LoadFrozen reads the frozen model at path, refusing a recipe with a
+// *model.SpecError.
+func LoadFrozen(path string) (*model.Spec, error) {
+	spec, err := model.LoadSpec(path)
+	if err != nil {
+		return nil, err
+	}
+	if !spec.Frozen() {
+		return nil, &model.SpecError{File: path, Msg: "this is a recipe (it has no intercept): fit it first with 'riskaudit fit'"}
+	}
+	return spec, nil
+}
+
+// ScoreConfig names a frozen model and the data it scores; the outcome
+// is not needed.
+type ScoreConfig struct {
+	// Model is the frozen model's path; Spec, when not nil, is that
+	// model already read.
+	Model string
+	Spec  *model.Spec
+	// Data is the data to score; Read and FailOnMissing say how to read
+	// it, as in Config.
+	Data          Input
+	Read          cohort.Options
+	FailOnMissing bool
+}
+
+// Scores are a frozen model's linear predictors for the rows of some
+// data.
+type Scores struct {
+	// Frame is the data as read.
+	Frame *cohort.Frame
+	// LP holds the linear predictor of every row of Frame, NaN where a
+	// value the model needs is missing.
+	LP []float64
+	// Scored counts the rows scored; Excluded those left out, and
+	// ByColumn the missing values behind them.
+	Scored, Excluded int
+	ByColumn         []model.Exclusion
+}
+
+// Score reads the data and computes the frozen model's linear predictor
+// for every row complete in the model's columns.
+func Score(ctx context.Context, cfg ScoreConfig) (*Scores, error) {
+	spec := cfg.Spec
+	if spec == nil {
+		var err error
+		if spec, err = LoadFrozen(cfg.Model); err != nil {
+			return nil, err
+		}
+	}
+	fr, err := frameOf(ctx, cfg.Data, spec.Columns(false), cfg.Read)
+	if err != nil {
+		return nil, err
+	}
+	d, m, err := model.Build(spec, fr, model.Options{FailOnMissing: cfg.FailOnMissing, NoMatrix: true})
+	if err != nil {
+		return nil, err
+	}
+	scored, err := d.FrozenLinearPredictors(m)
+	if err != nil {
+		return nil, err
+	}
+	lp := make([]float64, fr.Rows)
+	for i := range lp {
+		lp[i] = math.NaN()
+	}
+	for r, v := range scored {
+		lp[m.Rows[r]] = v
+	}
+	return &Scores{Frame: fr, LP: lp, Scored: m.N, Excluded: m.Excluded, ByColumn: m.ByColumn}, nil
+}

@@ -1,0 +1,204 @@
+package audit
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"fmt"
+	"io"
+	"os"
+	"strconv"
+
+	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/model"
+	"github.com/riskaudit/riskaudit/validate"
+)
+
+// scored is one dataset's outcomes and predicted risks over its complete
+// cases.
+type scored struct {
+	y, p, lp []float64
+	groups   []validate.GroupColumn
+	// frame is the data as read, kept so that later analyses (case-mix,
+	// updating) need not read it again.
+	frame    *cohort.Frame
+	summary  validate.CohortSummary
+	file     string
+	hash     string
+	terms    []string
+	isDevFit bool // the frozen model was fitted to these data
+}
+
+// requests are the columns an audit reads: the model's (with the
+// outcome), the predicted risks and the subgroups.
+func (c *Config) requests(spec *model.Spec) ([]cohort.Request, error) {
+	reqs := spec.Columns(true)
+	if c.Predicted != nil {
+		reqs = append(reqs, cohort.Request{Name: c.Predicted.Column, Kind: cohort.Numeric, NaNIsError: true})
+	}
+	for _, g := range c.Subgroups {
+		for _, q := range reqs {
+			if q.Name == g && q.Kind != cohort.Categorical {
+				return nil, configErrorf("subgroup column %q is a numeric predictor; give a categorical column (such as an age band)", g)
+			}
+		}
+		reqs = append(reqs, cohort.Request{Name: g, Kind: cohort.Categorical})
+	}
+	return reqs, nil
+}
+
+// frameOf reads an input's requested columns, or checks that a frame
+// already read holds them.
+func frameOf(ctx context.Context, in Input, reqs []cohort.Request, opt cohort.Options) (*cohort.Frame, error) {
+	if in.Frame == nil {
+		return cohort.LoadContext(ctx, in.Path, reqs, opt)
+	}
+	for _, q := range reqs {
+		col := in.Frame.Column(q.Name)
+		if col == nil || col.Kind != q.Kind {
+			return nil, configErrorf("the frame given for %s has no %s column %q", in.Path, kindName(q.Kind), q.Name)
+		}
+	}
+	return in.Frame, nil
+}
+
+// load is frameOf with the input's SHA-256, computed beside the parse
+// (both read the file from the page cache) unless the input is a frame
+// already read.
+func load(ctx context.Context, in Input, reqs []cohort.Request, opt cohort.Options) (*cohort.Frame, string, error) {
+	if in.Frame != nil {
+		fr, err := frameOf(ctx, in, reqs, opt)
+		return fr, in.SHA256, err
+	}
+	type hashed struct {
+		sum string
+		err error
+	}
+	hc := make(chan hashed, 1)
+	go func() {
+		h, err := fileSHA256(in.Path)
+		hc <- hashed{h, err}
+	}()
+	fr, err := frameOf(ctx, in, reqs, opt)
+	h := <-hc
+	if err != nil {
+		return nil, "", err
+	}
+	if h.err != nil {
+		return nil, "", h.err
+	}
+	return fr, h.sum, nil
+}
+
+func kindName(k cohort.Kind) string {
+	if k == cohort.Categorical {
+		return "categorical"
+	}
+	return "numeric"
+}
+
+// score reads one input and returns its outcomes and predicted risks
+// over the complete cases.
+func (c *Config) score(ctx context.Context, spec *model.Spec, in Input) (*scored, error) {
+	reqs, err := c.requests(spec)
+	if err != nil {
+		return nil, err
+	}
+	fr, hash, err := load(ctx, in, reqs, c.Read)
+	if err != nil {
+		return nil, err
+	}
+	var also []string
+	if c.Predicted != nil {
+		also = []string{c.Predicted.Column}
+	}
+	d, m, err := model.Build(spec, fr, model.Options{Outcome: true, FailOnMissing: c.FailOnMissing, Also: also, NoMatrix: true})
+	if err != nil {
+		return nil, err
+	}
+	sc := &scored{y: m.Y, file: in.Path, hash: hash, terms: m.Terms}
+	if c.Update != "" || c.Dev.given() {
+		sc.frame = fr // the case-mix comparison or the update reads it again
+	}
+	for _, g := range c.Subgroups {
+		sc.groups = append(sc.groups, groupColumn(fr.Column(g), m.Rows, m.N))
+	}
+	if c.Predicted != nil {
+		if sc.p, err = predictedRisks(fr, c.Predicted.Column, m.Rows); err != nil {
+			return nil, err
+		}
+	} else {
+		if sc.lp, err = d.FrozenLinearPredictors(m); err != nil {
+			return nil, err
+		}
+		sc.p = model.Risks(sc.lp)
+	}
+	if pv := spec.Provenance; pv != nil && pv.DataSHA256 == sc.hash && sc.hash != "" {
+		sc.isDevFit = true
+	}
+	sc.summary = validate.CohortSummary{Rows: m.Total, Excluded: m.Excluded}
+	for _, e := range m.ByColumn {
+		sc.summary.ExcludedByColumn = append(sc.summary.ExcludedByColumn, validate.ColumnCount{Column: e.Column, Rows: e.Rows})
+	}
+	return sc, nil
+}
+
+// groupColumn codes a subgroup column's used rows by the rank of their
+// level in sorted order (−1 where missing).
+func groupColumn(col *cohort.Column, rows []int, n int) validate.GroupColumn {
+	gc := validate.GroupColumn{Name: col.Name, Levels: col.SortedLevels(), Codes: make([]int32, n)}
+	rank := map[string]int32{}
+	for k, l := range gc.Levels {
+		rank[l] = int32(k)
+	}
+	for r, i := range rows {
+		if c := col.Codes[i]; c < 0 {
+			gc.Codes[r] = -1
+		} else {
+			gc.Codes[r] = rank[col.Levels[c]]
+		}
+	}
+	return gc
+}
+
+// predictedRisks returns the risks in column name of the given frame
+// rows, refusing any outside [0, 1] with its line.
+func predictedRisks(fr *cohort.Frame, name string, rows []int) ([]float64, error) {
+	col := fr.Column(name)
+	p := make([]float64, len(rows))
+	for r, i := range rows {
+		v := col.Num[i]
+		if !(v >= 0 && v <= 1) {
+			return nil, &cohort.Error{File: fr.File, Line: fr.Line(i), Row: fr.RowNumbered, Column: name,
+				Value: strconv.FormatFloat(v, 'g', -1, 64), HasValue: true, Msg: "a predicted risk must lie between 0 and 1"}
+		}
+		p[r] = v
+	}
+	return p, nil
+}
+
+// assess measures a scored dataset; a cohort the measures cannot use
+// (a risk out of range, one outcome only) is bad input in that file.
+func assess(sc *scored, opt validate.Options) (*validate.Performance, error) {
+	perf, err := validate.AssessLogits(sc.y, sc.p, sc.lp, opt)
+	if err != nil {
+		return nil, &cohort.Error{File: sc.file, Msg: err.Error() /*ERRMERGE*/}
+	}
+	c := &perf.Cohort
+	c.Rows, c.Excluded, c.ExcludedByColumn = sc.summary.Rows, sc.summary.Excluded, sc.summary.ExcludedByColumn
+	return perf, nil
+}
+
+// fileSHA256 returns the hex SHA-256 of the file at path.
+func fileSHA256(path string) (string, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return "", fmt.Errorf("cannot read %s: %w", path, err)
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", fmt.Errorf("cannot read %s: %w", path, err)
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}

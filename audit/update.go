@@ -1,0 +1,67 @@
+package audit
+
+import (
+	"context"
+	"fmt"
+
+	"github.com/riskaudit/riskaudit/internal/atomicfile"
+	"github.com/riskaudit/riskaudit/model"
+	"github.com/riskaudit/riskaudit/resample"
+	"github.com/riskaudit/riskaudit/update"
+	"github.com/riskaudit/riskaudit/validate"
+)
+
+// updateModel runs the closed testing procedure on the cohort, offers the
+// chosen updated model as a file and estimates its performance by
+// bootstrap. It reuses the cohort as read for the audit and builds its
+// design matrix.
+func (c *Config) updateModel(ctx context.Context, spec *model.Spec, modelHash string, cur *scored) (*validate.Update, atomicfile.File, error) {
+	var none atomicfile.File
+	d, m, err := model.Build(spec, cur.frame, model.Options{Outcome: true, FailOnMissing: c.FailOnMissing})
+	if err != nil {
+		return nil, none, err
+	}
+	beta, err := d.Coefficients()
+	if err != nil {
+		return nil, none, err
+	}
+	alpha := c.UpdateAlpha
+	if alpha == 0 {
+		alpha = 0.05
+	}
+	res, err := update.ClosedTest(m.X, m.N, m.P, m.Y, beta, alpha)
+	if err != nil {
+		return nil, none, &model.FitError{Msg: "updating the model: " + err.Error(), Err: err}
+	}
+	u := &validate.Update{Alpha: res.Alpha, Chosen: res.Chosen, ModelFile: c.Update}
+	for _, s := range res.Steps {
+		u.Steps = append(u.Steps, validate.UpdateStep{Method: s.Method, Params: s.Params, Neg2LL: s.Neg2LL, AIC: s.AIC})
+	}
+	for _, t := range res.Tests {
+		u.Tests = append(u.Tests, validate.UpdateTest{Simpler: t.Simpler, LRChi2: t.LRChi2, DF: t.DF, P: t.P, Rejected: t.Rejected})
+	}
+	if res.Chosen != update.Original && c.UpdateBootstrap > 0 {
+		f := res.Fit
+		br, err := resample.Optimism(ctx, resample.Problem{X: f.X, N: m.N, P: f.P, Y: m.Y, Coef: f.Coef, Offset: f.Offset},
+			resample.Options{B: c.UpdateBootstrap, Seed: c.Seed, Workers: c.Workers})
+		if err != nil {
+			if ctx.Err() != nil {
+				return nil, none, err
+			}
+			return nil, none, &model.FitError{Msg: "bootstrapping the update: " + err.Error(), Err: err}
+		}
+		m := internalMetrics(br)
+		u.Expected = &m
+		u.Bootstrap, u.Seed, u.Failed = br.B, br.Seed, br.Failed
+	}
+	frozen := model.FreezeWith(d, res.Coef, model.Provenance{
+		Method:   fmt.Sprintf("%s of the model in %s on %s (closed testing, Vergouwe et al. 2017, α = %g)", res.Chosen, c.Model, cur.file, res.Alpha),
+		DataFile: cur.file, DataSHA256: cur.hash, RowsUsed: m.N, Events: m.Events(),
+		FittedAt: now(c.Clock).Format(timeFormat), ToolVersion: c.Tool, ParentSHA256: modelHash,
+	})
+	y, err := frozen.MarshalYAML()
+	if err != nil {
+		return nil, none, err
+	}
+	return u, atomicfile.File{Path: c.Update, Data: y}, nil
+}

@@ -1,0 +1,54 @@
+package validate
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+)
+
+// ParseThresholds reads risk thresholds written FROM:TO:STEP (such as
+// 0.05:0.50:0.05, TO included, each rounded to 9 decimals) or as a
+// comma-separated list; every threshold must lie strictly between 0 and
+// 1. An error quotes s and says what is wrong.
+func ParseThresholds(s string) ([]float64, error) {
+	var out []float64
+	if strings.Contains(s, ":") {
+		parts := strings.Split(s, ":")
+		if len(parts) != 3 {
+			return nil, fmt.Errorf("%q: give FROM:TO:STEP, such as 0.05:0.50:0.05", s)
+		}
+		var v [3]float64
+		for i, p := range parts {
+			f, err := strconv.ParseFloat(strings.TrimSpace(p), 64)
+			if err != nil {
+				return nil, fmt.Errorf("%q: %q is not a number", s, p)
+			}
+			v[i] = f
+		}
+		if v[2] <= 0 || v[1] < v[0] {
+			return nil, fmt.Errorf("%q: the step must be positive and TO at least FROM", s)
+		}
+		for k := 0; ; k++ {
+			t := v[0] + float64(k)*v[2]
+			if t > v[1]+1e-9 {
+				break
+			}
+			out = append(out, math.Round(t*1e9)/1e9)
+		}
+	} else {
+		for _, p := range strings.Split(s, ",") {
+			f, err := strconv.ParseFloat(strings.TrimSpace(p), 64)
+			if err != nil {
+				return nil, fmt.Errorf("%q: %q is not a number", s, p)
+			}
+			out = append(out, f)
+		}
+	}
+	for _, t := range out {
+		if !(t > 0 && t < 1) {
+			return nil, fmt.Errorf("%q: %g is not strictly between 0 and 1", s, t)
+		}
+	}
+	return out, nil
+}
