@@ -183,17 +183,20 @@ func (c *Config) check() error {
 // widths where the Config gives none.
 func (c *Config) sizeRequest() samplesize.Request {
 	s := c.SampleSize
+	s.Targets = withDefaultTargets(s.Targets)
+	return s
+}
+
+// withDefaultTargets replaces each zero width by samplesize's default.
+func withDefaultTargets(t samplesize.Targets) samplesize.Targets {
 	def := samplesize.DefaultTargets()
-	for _, w := range []struct {
-		v   *float64
-		def float64
-	}{
-		{&s.OEWidth, def.OEWidth}, {&s.SlopeWidth, def.SlopeWidth}, {&s.CWidth, def.CWidth}, {&s.NBWidth, def.NBWidth}} {
+	for _, w := range []struct{ v, def *float64 }{
+		{&t.OEWidth, &def.OEWidth}, {&t.SlopeWidth, &def.SlopeWidth}, {&t.CWidth, &def.CWidth}, {&t.NBWidth, &def.NBWidth}} {
 		if *w.v == 0 {
-			*w.v = w.def
+			*w.v = *w.def
 		}
 	}
-	return s
+	return t
 }
 
 // now is the time by clock, or the current time in UTC when clock is

@@ -2,12 +2,14 @@ package audit
 
 import (
 	"context"
+	"encoding/json"
 	"fmt"
 	"math"
 	"slices"
 	"time"
 
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/model"
 )
 
@@ -216,4 +218,47 @@ func Score(ctx context.Context, cfg ScoreConfig) (*Scores, error) {
 		lp[m.Rows[r]] = v
 	}
 	return &Scores{Frame: fr, LP: lp, Scored: m.N, Excluded: m.Excluded, ByColumn: m.ByColumn}, nil
+}
+
+// WriteFit writes the frozen model (YAML) to path and, when jsonPath is
+// set, the fit statistics as JSON, all or nothing.
+func WriteFit(path, jsonPath string, r *FitResult) error {
+	yml, err := r.Frozen.MarshalYAML()
+	if err != nil {
+		return fmt.Errorf("writing the frozen model: %w", err)
+	}
+	var files []atomicfile.File
+	if jsonPath != "" {
+		b, err := json.MarshalIndent(r.Report, "", "  ")
+		if err != nil {
+			return err
+		}
+		files = append(files, atomicfile.File{Path: jsonPath, Data: append(b, '\n')})
+	}
+	return atomicfile.WriteAll("", append(files, atomicfile.File{Path: path, Data: yml}))
+}
+
+// The columns a scored file gains.
+const (
+	LPColumn   = "ra_linear_predictor"
+	RiskColumn = "ra_predicted_risk"
+)
+
+// File returns the scored data as a file of the input's format
+// ("csv", "parquet" or "arrow", as cohort.Format names it): every row
+// and column as read, followed by LPColumn and RiskColumn, empty (or
+// null) where a row was not scored. A delimited-text input must have
+// been read with Options.KeepRecords; a columnar one is read again from
+// path. A file that already has either column is refused.
+func (s *Scores) File(path, format string, decimalComma bool) ([]byte, error) {
+	for _, name := range []string{LPColumn, RiskColumn} {
+		if slices.Contains(s.Frame.Header, name) {
+			return nil, &cohort.Error{File: path, Line: 1, Column: name, Msg: "the file already has this column, which score would append; rename it or score the original extract"}
+		}
+	}
+	names, values := []string{LPColumn, RiskColumn}, [][]float64{s.LP, model.Risks(s.LP)}
+	if format == "csv" {
+		return s.Frame.AppendCSV(names, values, decimalComma), nil
+	}
+	return cohort.AppendColumns(path, format, names, values)
 }

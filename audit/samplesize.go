@@ -1,9 +1,14 @@
 package audit
 
 import (
+	"context"
 	"fmt"
+	"math"
 	"strings"
 
+	"gonum.org/v1/gonum/stat"
+
+	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/metrics"
 	"github.com/riskaudit/riskaudit/samplesize"
 	"github.com/riskaudit/riskaudit/validate"
@@ -72,4 +77,104 @@ func sampleSizeOf(sc *scored, perf *validate.Performance, classifyAt []float64, 
 	}
 	out.Short = perf.Cohort.Used < res.N
 	return out
+}
+
+// SizeConfig plans an external validation: the anticipated linear
+// predictor given one way, the anticipated calibration, the net-benefit
+// threshold and the target widths.
+type SizeConfig struct {
+	// The linear predictor: a frozen Model scored on Data (rows complete
+	// in the model's columns; outcomes not needed), or the normal
+	// distribution of a calibrated model with event proportion EventRate
+	// and C-statistic CStatistic (samplesize.NormalFor), or
+	// Normal(LPMean, LPSD). Without EventRate, a CStatistic replaces the
+	// one the distribution implies.
+	Model                 string
+	Data                  Input
+	Read                  cohort.Options
+	FailOnMissing         bool
+	EventRate, CStatistic float64
+	LPMean, LPSD          float64
+	// CalIntercept and CalSlope make the true risks
+	// expit(a + b·LP) (CalSlope 0: 1).
+	CalIntercept, CalSlope float64
+	// Threshold is the net-benefit criterion's risk threshold (0: none).
+	Threshold float64
+	// Targets are the target widths (zero: samplesize's defaults).
+	Targets samplesize.Targets
+	// Tool and CommandLine record how the plan was made.
+	Tool, CommandLine string
+}
+
+// SizeSchema names the layout of SizePlan's JSON.
+const SizeSchema = "riskaudit.samplesize/1"
+
+// SizePlan is a sample-size plan: the anticipated values, then the
+// result's fields; it is the JSON of 'riskaudit samplesize --json'.
+type SizePlan struct {
+	Schema          string  `json:"schema"`
+	LinearPredictor string  `json:"linear_predictor"`
+	CalIntercept    float64 `json:"calibration_intercept"`
+	CalSlope        float64 `json:"calibration_slope"`
+	Threshold       float64 `json:"threshold,omitempty"`
+	*samplesize.Result
+	Tool        string `json:"tool"`
+	CommandLine string `json:"command_line"`
+}
+
+// PlanSize computes the minimum sample size of cfg, criterion by
+// criterion (samplesize.Compute). Values that samplesize cannot use are a
+// *ConfigError.
+func PlanSize(ctx context.Context, cfg SizeConfig) (*SizePlan, error) {
+	if cfg.CalSlope == 0 {
+		cfg.CalSlope = 1
+	}
+	t := withDefaultTargets(cfg.Targets)
+	var lp []float64
+	var about string
+	c := cfg.CStatistic
+	switch {
+	case cfg.Model != "":
+		var err error
+		if lp, about, err = scoredLinearPredictors(ctx, cfg); err != nil {
+			return nil, err
+		}
+	case cfg.EventRate > 0:
+		var err error
+		if cfg.LPMean, cfg.LPSD, err = samplesize.NormalFor(cfg.EventRate, cfg.CStatistic); err != nil {
+			return nil, &ConfigError{Msg: err.Error()}
+		}
+		c = 0
+		fallthrough
+	default:
+		lp = samplesize.Normal(cfg.LPMean, cfg.LPSD, 20000)
+		about = fmt.Sprintf("Linear predictor Normal(mean %.3f, SD %.3f)", cfg.LPMean, cfg.LPSD)
+	}
+	res, err := samplesize.Compute(samplesize.Anticipated{LP: lp, C: c, Threshold: cfg.Threshold, CalIntercept: cfg.CalIntercept, CalSlope: cfg.CalSlope}, t)
+	if err != nil {
+		return nil, &ConfigError{Msg: err.Error()}
+	}
+	return &SizePlan{Schema: SizeSchema, LinearPredictor: about, CalIntercept: cfg.CalIntercept, CalSlope: cfg.CalSlope,
+		Threshold: cfg.Threshold, Result: res, Tool: cfg.Tool, CommandLine: cfg.CommandLine}, nil
+}
+
+// scoredLinearPredictors scores the data with the frozen model and
+// returns the linear predictors of its complete rows, and a line
+// describing them.
+func scoredLinearPredictors(ctx context.Context, cfg SizeConfig) ([]float64, string, error) {
+	sc, err := Score(ctx, ScoreConfig{Model: cfg.Model, Data: cfg.Data, Read: cfg.Read, FailOnMissing: cfg.FailOnMissing})
+	if err != nil {
+		return nil, "", err
+	}
+	lp := make([]float64, 0, sc.Scored)
+	for _, v := range sc.LP {
+		if !math.IsNaN(v) {
+			lp = append(lp, v)
+		}
+	}
+	if len(lp) < 10 {
+		return nil, "", &cohort.Error{File: cfg.Data.Path, Msg: fmt.Sprintf("only %d complete rows: the linear predictor's distribution needs at least 10", len(lp))}
+	}
+	mean, sd := stat.MeanStdDev(lp, nil)
+	return lp, fmt.Sprintf("Linear predictor of %s on %d rows of %s (mean %.3f, SD %.3f)", cfg.Model, len(lp), cfg.Data.Path, mean, sd), nil
 }

@@ -26,13 +26,13 @@ func applyPlan(cmd *cobra.Command, o *auditOptions) error {
 			*dst = v
 		}
 	}
-	str("model", "model", &o.model, pl.Model)
+	str("model", "model", &o.cfg.Model, pl.Model)
 	str("predicted", "predicted", &o.predicted, pl.Predicted)
 	str("outcome", "outcome", &o.outcome, pl.Outcome)
 	str("event", "event", &o.event, pl.Event)
 	str("non-event", "non_event", &o.nonEvent, pl.NonEvent)
-	str("dev", "dev", &o.devFile, pl.Dev)
-	str("cohort", "cohort", &o.cohortFile, pl.Cohort)
+	str("dev", "dev", &o.cfg.Dev.Path, pl.Dev)
+	str("cohort", "cohort", &o.cfg.Cohort.Path, pl.Cohort)
 	str("out", "out", &o.out, pl.Out)
 	str("history", "history", &o.history, pl.History)
 	str("audit-date", "audit_date", &o.auditDate, pl.AuditDate)
@@ -46,41 +46,41 @@ func applyPlan(cmd *cobra.Command, o *auditOptions) error {
 		o.data.naValues = pl.Data.NAValues
 	}
 	if pl.Set["classify_at"] && !fl.Changed("classify-at") {
-		o.classifyAt = pl.ClassifyAt
+		o.cfg.Measures.ClassifyAt = pl.ClassifyAt
 	}
 	if pl.Set["subgroups"] && !fl.Changed("subgroups") {
-		o.subgroups = pl.Subgroups
+		o.cfg.Subgroups = pl.Subgroups
 	}
 	if pl.Set["min_subgroup_events"] && !fl.Changed("min-subgroup-events") {
-		o.minSubEvents = pl.MinSubgroupEvents
+		o.cfg.MinSubgroupEvents = pl.MinSubgroupEvents
 	}
 	if pl.Set["bootstrap.replicates"] && !fl.Changed("bootstrap") {
-		o.bootstrap = pl.Bootstrap
+		o.cfg.Bootstrap = pl.Bootstrap
 	}
 	if pl.Set["bootstrap.seed"] && !fl.Changed("seed") {
-		o.seed = pl.Seed
+		o.cfg.Seed = pl.Seed
 	}
 	if pl.Set["ci_bootstrap"] && !fl.Changed("ci-bootstrap") {
-		o.ciBootstrap = pl.CIBootstrap
+		o.cfg.CIBootstrap = pl.CIBootstrap
 	}
 	// The sample-size section: widths the flags did not set, and the
 	// threshold and anticipated values, which only a plan gives.
-	widths := o.size
-	o.size = pl.SampleSize
+	widths := o.cfg.SampleSize
+	o.cfg.SampleSize = pl.SampleSize
 	for _, w := range []struct {
 		flag, key string
 		dst       *float64
 		flagValue float64
-	}{{"oe-width", "oe_width", &o.size.OEWidth, widths.OEWidth}, {"slope-width", "slope_width", &o.size.SlopeWidth, widths.SlopeWidth},
-		{"c-width", "c_width", &o.size.CWidth, widths.CWidth}, {"nb-width", "nb_width", &o.size.NBWidth, widths.NBWidth}} {
+	}{{"oe-width", "oe_width", &o.cfg.SampleSize.OEWidth, widths.OEWidth}, {"slope-width", "slope_width", &o.cfg.SampleSize.SlopeWidth, widths.SlopeWidth},
+		{"c-width", "c_width", &o.cfg.SampleSize.CWidth, widths.CWidth}, {"nb-width", "nb_width", &o.cfg.SampleSize.NBWidth, widths.NBWidth}} {
 		if !pl.Set["sample_size."+w.key] || fl.Changed(w.flag) {
 			*w.dst = w.flagValue
 		}
 	}
 	if pl.Set["criteria"] {
-		o.criteria = pl.Criteria
+		o.cfg.Criteria = pl.Criteria
 	}
-	o.rename = pl.Rename
+	o.cfg.Read.Rename = pl.Rename
 	if o.out == "" {
 		return usagef("the plan %s names no out folder and --out is not given", o.planFile)
 	}

@@ -9,48 +9,24 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/riskaudit/riskaudit/audit"
-	"github.com/riskaudit/riskaudit/samplesize"
 	"github.com/riskaudit/riskaudit/validate"
 )
 
+// auditOptions are the audit command's flags: most bind straight into
+// the audit's Config, the rest are the command line's own.
 type auditOptions struct {
-	data            dataFlags
-	model           string
-	predicted       string
-	outcome         string
-	event           string
-	nonEvent        string
-	cohortFile      string
-	devFile         string
-	out             string
-	thresholds      string
-	classifyAt      []float64
-	groups          int
-	hlGroups        int
-	span            float64
-	delta           float64
-	epsilon         float64
-	quiet           bool
-	bootstrap       int
-	seed            uint64
-	workers         int
-	resampleLog     string
-	shrunken        string
-	ciBootstrap     int
-	firth           bool
-	planFile        string
-	history         string
-	auditDate       string
-	rename          map[string]string
-	criteria        []validate.Criterion
-	subgroups       []string
-	minSubEvents    int
-	update          string
-	updateAlpha     float64
-	updateBootstrap int
-	// size holds the sample-size check's targets and the plan's
-	// anticipated values.
-	size samplesize.Request
+	cfg  audit.Config
+	data dataFlags
+	// predicted, outcome, event and nonEvent make cfg.Predicted.
+	predicted, outcome, event, nonEvent string
+	// thresholds and delta are read into cfg.Measures.
+	thresholds string
+	delta      float64
+	out        string
+	quiet      bool
+	planFile   string
+	history    string
+	auditDate  string
 }
 
 const auditLong = `Measure how a model performs on a cohort with observed outcomes and write
@@ -147,37 +123,37 @@ func newAuditCmd(s *streams) *cobra.Command {
 		},
 	}
 	f := c.Flags()
-	f.StringVar(&o.model, "model", "", "frozen model (YAML) that scores the cohort, or a recipe to fit on --dev")
+	f.StringVar(&o.cfg.Model, "model", "", "frozen model (YAML) that scores the cohort, or a recipe to fit on --dev")
 	f.StringVar(&o.predicted, "predicted", "", "column of predicted risks (0 to 1) to audit instead of a model")
 	f.StringVar(&o.outcome, "outcome", "", "with --predicted: the outcome column")
 	f.StringVar(&o.event, "event", "", "with --predicted: the outcome value that is an event")
 	f.StringVar(&o.nonEvent, "non-event", "", "with --predicted: the value that is a non-event (then any other value is an error)")
-	f.StringVar(&o.cohortFile, "cohort", "", "the cohort to audit (CSV or TSV with a header row, Parquet, or Arrow IPC)")
-	f.StringVar(&o.devFile, "dev", "", "the development data, measured the same way for comparison")
+	f.StringVar(&o.cfg.Cohort.Path, "cohort", "", "the cohort to audit (CSV or TSV with a header row, Parquet, or Arrow IPC)")
+	f.StringVar(&o.cfg.Dev.Path, "dev", "", "the development data, measured the same way for comparison")
 	f.StringVar(&o.out, "out", "", "folder for the report, audit.json and figures (created if absent)")
 	f.StringVar(&o.thresholds, "thresholds", "0.05:0.50:0.05", "decision-curve risk thresholds: FROM:TO:STEP or a comma-separated list")
-	f.Float64SliceVar(&o.classifyAt, "classify-at", []float64{0.10, 0.20}, "risk thresholds for sensitivity, specificity, PPV and NPV")
-	f.IntVar(&o.groups, "groups", 10, "risk groups of the calibration plot (10: deciles)")
-	f.IntVar(&o.hlGroups, "hl-groups", 10, "Hosmer–Lemeshow groups")
-	f.Float64Var(&o.span, "lowess-span", 0.75, "span of the LOWESS calibration curve")
+	f.Float64SliceVar(&o.cfg.Measures.ClassifyAt, "classify-at", []float64{0.10, 0.20}, "risk thresholds for sensitivity, specificity, PPV and NPV")
+	f.IntVar(&o.cfg.Measures.Groups, "groups", 10, "risk groups of the calibration plot (10: deciles)")
+	f.IntVar(&o.cfg.Measures.HLGroups, "hl-groups", 10, "Hosmer–Lemeshow groups")
+	f.Float64Var(&o.cfg.Measures.Span, "lowess-span", 0.75, "span of the LOWESS calibration curve")
 	f.Float64Var(&o.delta, "lowess-delta", -1, "LOWESS δ; negative chooses 0 up to 10,000 rows and 1% of the risk range beyond")
-	f.Float64Var(&o.epsilon, "clamp", validate.DefaultEpsilon, "risks of exactly 0 or 1 are clamped to [clamp, 1 − clamp] for the logit")
-	f.IntVar(&o.bootstrap, "bootstrap", 0, "internal validation: bootstrap replicates of the development data (refitting the recipe each time)")
-	f.Uint64Var(&o.seed, "seed", 1, "seed of the bootstrap draws (the same seed gives the same numbers whatever --workers)")
-	f.IntVar(&o.workers, "workers", 0, "goroutines for the bootstrap (default: all cores)")
-	f.StringVar(&o.resampleLog, "resample-log", "", "write the rows each bootstrap replicate drew (0-based, after exclusions, in file order), one line per replicate")
-	f.StringVar(&o.shrunken, "shrunken", "", "write a frozen model shrunk by the bootstrap's uniform shrinkage factor")
-	f.IntVar(&o.ciBootstrap, "ci-bootstrap", 0, "percentile intervals for ICI, E50, E90, scaled Brier and net benefit from this many replicates of the cohort")
-	f.BoolVar(&o.firth, "firth", false, "fit the recipe (and every bootstrap refit) by Firth's penalised likelihood")
+	f.Float64Var(&o.cfg.Measures.Epsilon, "clamp", validate.DefaultEpsilon, "risks of exactly 0 or 1 are clamped to [clamp, 1 − clamp] for the logit")
+	f.IntVar(&o.cfg.Bootstrap, "bootstrap", 0, "internal validation: bootstrap replicates of the development data (refitting the recipe each time)")
+	f.Uint64Var(&o.cfg.Seed, "seed", 1, "seed of the bootstrap draws (the same seed gives the same numbers whatever --workers)")
+	f.IntVar(&o.cfg.Workers, "workers", 0, "goroutines for the bootstrap (default: all cores)")
+	f.StringVar(&o.cfg.ResampleLog, "resample-log", "", "write the rows each bootstrap replicate drew (0-based, after exclusions, in file order), one line per replicate")
+	f.StringVar(&o.cfg.Shrunken, "shrunken", "", "write a frozen model shrunk by the bootstrap's uniform shrinkage factor")
+	f.IntVar(&o.cfg.CIBootstrap, "ci-bootstrap", 0, "percentile intervals for ICI, E50, E90, scaled Brier and net benefit from this many replicates of the cohort")
+	f.BoolVar(&o.cfg.Firth, "firth", false, "fit the recipe (and every bootstrap refit) by Firth's penalised likelihood")
 	f.StringVar(&o.planFile, "plan", "", "audit plan (YAML): model, data, renames, subgroups, criteria, outputs; flags override it")
 	f.StringVar(&o.history, "history", "", "append the audit's summary to this history store (SQLite)")
 	f.StringVar(&o.auditDate, "audit-date", "", "the date the cohort describes, YYYY-MM-DD (default: today, UTC)")
-	f.StringSliceVar(&o.subgroups, "subgroups", nil, "categorical columns of the cohort to measure the model in, subgroup by subgroup")
-	f.IntVar(&o.minSubEvents, "min-subgroup-events", 20, "subgroups with fewer events are reported as too small (common practice)")
-	f.StringVar(&o.update, "update", "", "update the model on the cohort by closed testing and write the chosen model here")
-	f.Float64Var(&o.updateAlpha, "update-alpha", 0.05, "significance level of the closed testing procedure")
-	f.IntVar(&o.updateBootstrap, "update-bootstrap", 200, "bootstrap replicates for the updated model's expected performance (0: none)")
-	widthFlags(f, "sample-size check: ", &o.size.Targets)
+	f.StringSliceVar(&o.cfg.Subgroups, "subgroups", nil, "categorical columns of the cohort to measure the model in, subgroup by subgroup")
+	f.IntVar(&o.cfg.MinSubgroupEvents, "min-subgroup-events", 20, "subgroups with fewer events are reported as too small (common practice)")
+	f.StringVar(&o.cfg.Update, "update", "", "update the model on the cohort by closed testing and write the chosen model here")
+	f.Float64Var(&o.cfg.UpdateAlpha, "update-alpha", 0.05, "significance level of the closed testing procedure")
+	f.IntVar(&o.cfg.UpdateBootstrap, "update-bootstrap", 200, "bootstrap replicates for the updated model's expected performance (0: none)")
+	widthFlags(f, "sample-size check: ", &o.cfg.SampleSize.Targets)
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
 	o.data.register(f)
 	_ = c.MarkFlagFilename("model", "yaml", "yml")
@@ -237,47 +213,37 @@ func runAudit(ctx context.Context, o *auditOptions, s *streams) error {
 	return nil
 }
 
-// config checks the flags' values and turns them into the audit's
-// Config.
+// config checks the flags' values and completes the audit's Config.
 func (o *auditOptions) config(s *streams) (audit.Config, error) {
+	cfg := o.cfg
 	if o.out == "" {
-		return audit.Config{}, usagef("give the output folder with --out (or in the plan)")
+		return cfg, usagef("give the output folder with --out (or in the plan)")
 	}
-	if o.model != "" && (o.outcome != "" || o.event != "" || o.nonEvent != "") {
-		return audit.Config{}, usagef("--outcome, --event and --non-event go with --predicted; a model names its own outcome")
+	if cfg.Model != "" && (o.outcome != "" || o.event != "" || o.nonEvent != "") {
+		return cfg, usagef("--outcome, --event and --non-event go with --predicted; a model names its own outcome")
 	}
-	ts, err := parseThresholds(o.thresholds)
-	if err != nil {
-		return audit.Config{}, err
+	var err error
+	if cfg.Measures.Thresholds, err = parseThresholds(o.thresholds); err != nil {
+		return cfg, err
 	}
 	if err := o.checkValues(); err != nil {
-		return audit.Config{}, err
+		return cfg, err
 	}
-	copt, fail, err := o.data.options()
-	if err != nil {
-		return audit.Config{}, err
+	rename := cfg.Read.Rename
+	if cfg.Read, cfg.FailOnMissing, err = o.data.options(); err != nil {
+		return cfg, err
 	}
-	copt.Rename = o.rename
-	delta := o.delta
-	if delta < 0 {
-		delta = validate.AutoDelta
-	}
-	cfg := audit.Config{
-		Model: o.model, Cohort: audit.Input{Path: o.cohortFile}, Dev: audit.Input{Path: o.devFile},
-		Read: copt, FailOnMissing: fail,
-		Measures: validate.Options{Thresholds: ts, ClassifyAt: o.classifyAt, Groups: o.groups, HLGroups: o.hlGroups,
-			Span: o.span, Delta: delta, Epsilon: o.epsilon},
-		Bootstrap: o.bootstrap, Seed: o.seed, Workers: o.workers, Firth: o.firth, ResampleLog: o.resampleLog, Shrunken: o.shrunken,
-		CIBootstrap: o.ciBootstrap, Criteria: o.criteria, SampleSize: o.size,
-		Subgroups: o.subgroups, MinSubgroupEvents: o.minSubEvents,
-		Update: o.update, UpdateAlpha: o.updateAlpha, UpdateBootstrap: o.updateBootstrap,
-		Tool: "riskaudit " + toolVersion(), CommandLine: s.commandLine(), Clock: now,
-	}
-	if os.Getenv("GOGC") == "" {
-		cfg.GCPercent = 25
+	cfg.Read.Rename = rename
+	cfg.Measures.Delta = o.delta
+	if o.delta < 0 {
+		cfg.Measures.Delta = validate.AutoDelta
 	}
 	if o.predicted != "" {
 		cfg.Predicted = &audit.Predicted{Column: o.predicted, Outcome: o.outcome, Event: o.event, NonEvent: o.nonEvent}
+	}
+	cfg.Tool, cfg.CommandLine, cfg.Clock = "riskaudit "+toolVersion(), s.commandLine(), now
+	if os.Getenv("GOGC") == "" {
+		cfg.GCPercent = 25
 	}
 	return cfg, nil
 }
@@ -286,28 +252,29 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 // read a zero as its default, a zero typed on the command line is an
 // error).
 func (o *auditOptions) checkValues() error {
-	for _, t := range o.classifyAt {
+	m := o.cfg.Measures
+	for _, t := range m.ClassifyAt {
 		if !(t > 0 && t < 1) {
 			return usagef("--classify-at: %g is not strictly between 0 and 1", t)
 		}
 	}
-	if o.groups < 2 || o.hlGroups < 3 {
+	if m.Groups < 2 || m.HLGroups < 3 {
 		return usagef("--groups needs at least 2 and --hl-groups at least 3")
 	}
-	if err := checkWidths(o.size.Targets); err != nil {
+	if err := checkWidths(o.cfg.SampleSize.Targets); err != nil {
 		return err
 	}
-	if o.span <= 0 || o.span > 1 {
-		return usagef("--lowess-span %g: give a value in (0, 1]", o.span)
+	if m.Span <= 0 || m.Span > 1 {
+		return usagef("--lowess-span %g: give a value in (0, 1]", m.Span)
 	}
-	if !(o.epsilon > 0 && o.epsilon < 0.01) {
-		return usagef("--clamp %g: give a small positive value below 0.01", o.epsilon)
+	if !(m.Epsilon > 0 && m.Epsilon < 0.01) {
+		return usagef("--clamp %g: give a small positive value below 0.01", m.Epsilon)
 	}
-	if len(o.subgroups) > 0 && o.minSubEvents < 1 {
-		return usagef("--min-subgroup-events %d: give at least 1", o.minSubEvents)
+	if len(o.cfg.Subgroups) > 0 && o.cfg.MinSubgroupEvents < 1 {
+		return usagef("--min-subgroup-events %d: give at least 1", o.cfg.MinSubgroupEvents)
 	}
-	if o.update != "" && !(o.updateAlpha > 0 && o.updateAlpha < 1) {
-		return usagef("--update-alpha %g: give a level strictly between 0 and 1", o.updateAlpha)
+	if o.cfg.Update != "" && !(o.cfg.UpdateAlpha > 0 && o.cfg.UpdateAlpha < 1) {
+		return usagef("--update-alpha %g: give a level strictly between 0 and 1", o.cfg.UpdateAlpha)
 	}
 	return nil
 }

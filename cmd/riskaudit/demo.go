@@ -9,9 +9,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
-	"github.com/riskaudit/riskaudit/samplesize"
 	"github.com/riskaudit/riskaudit/scenario"
-	"github.com/riskaudit/riskaudit/validate"
 )
 
 func newDemoCmd(s *streams) *cobra.Command {
@@ -59,20 +57,16 @@ func runDemo(ctx context.Context, dir string, s *streams) error {
 		return err
 	}
 	fmt.Fprintf(s.out, "Ostbrook Valley Health (an invented scenario): wrote %s, %s and %s\n\n", dev, later, recipe)
-	err = runFit(ctx, &fitOptions{
-		model: recipe, dataFile: dev, out: frozen,
-		jsonOut: filepath.Join(dir, "fit.json"), hlGroups: 10, data: dataFlags{missing: "complete-case"},
-	}, s)
-	if err != nil {
+	sub := func(args ...string) error {
+		root := newRootCmd(s)
+		root.SetArgs(args)
+		return root.ExecuteContext(ctx)
+	}
+	if err := sub("fit", "--model", recipe, "--data", dev, "--out", frozen, "--json", filepath.Join(dir, "fit.json")); err != nil {
 		return err
 	}
 	fmt.Fprintln(s.out)
-	err = runAudit(ctx, &auditOptions{
-		model: frozen, cohortFile: later, devFile: dev, out: filepath.Join(dir, "audit"),
-		thresholds: "0.05:0.50:0.05", classifyAt: []float64{0.10, 0.20}, groups: 10, hlGroups: 10,
-		span: 0.75, delta: validate.AutoDelta, epsilon: validate.DefaultEpsilon, data: dataFlags{missing: "complete-case"},
-		bootstrap: 200, seed: 1, size: samplesize.Request{Targets: samplesize.DefaultTargets()},
-	}, s)
+	err = sub("audit", "--model", frozen, "--cohort", later, "--dev", dev, "--out", filepath.Join(dir, "audit"), "--bootstrap", "200", "--seed", "1")
 	var ce *criterionError
 	if errors.As(err, &ce) {
 		// The scenario is made to drift: the verdict is the point of the

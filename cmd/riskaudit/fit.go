@@ -2,13 +2,10 @@ package main
 
 import (
 	"context"
-	"encoding/json"
-	"fmt"
 
 	"github.com/spf13/cobra"
 
 	"github.com/riskaudit/riskaudit/audit"
-	"github.com/riskaudit/riskaudit/internal/atomicfile"
 )
 
 type fitOptions struct {
@@ -94,19 +91,7 @@ func runFit(ctx context.Context, o *fitOptions, s *streams) error {
 	if err != nil {
 		return err
 	}
-	yml, err := r.Frozen.MarshalYAML()
-	if err != nil {
-		return fmt.Errorf("writing the frozen model: %w", err)
-	}
-	files := []atomicfile.File{{Path: o.out, Data: yml}}
-	if o.jsonOut != "" {
-		b, err := json.MarshalIndent(r.Report, "", "  ")
-		if err != nil {
-			return err
-		}
-		files = append([]atomicfile.File{{Path: o.jsonOut, Data: append(b, '\n')}}, files...)
-	}
-	if err := atomicfile.WriteAll("", files); err != nil {
+	if err := audit.WriteFit(o.out, o.jsonOut, r); err != nil {
 		return err
 	}
 	if !o.quiet {

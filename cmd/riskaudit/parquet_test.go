@@ -7,6 +7,7 @@ import (
 	"path/filepath"
 	"testing"
 
+	"github.com/riskaudit/riskaudit/audit"
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/internal/fixture"
 )
@@ -31,7 +32,7 @@ func TestScoreParquetMatchesCSV(t *testing.T) {
 			t.Fatalf("%v: exit status %d", args, code)
 		}
 	}
-	reqs := []cohort.Request{{Name: lpColumn, Kind: cohort.Numeric}, {Name: riskColumn, Kind: cohort.Numeric}, {Name: "age", Kind: cohort.Numeric}}
+	reqs := []cohort.Request{{Name: audit.LPColumn, Kind: cohort.Numeric}, {Name: audit.RiskColumn, Kind: cohort.Numeric}, {Name: "age", Kind: cohort.Numeric}}
 	a, err := cohort.Load(filepath.Join(dir, "scored.csv"), reqs, cohort.Options{})
 	if err != nil {
 		t.Fatal(err)
@@ -40,10 +41,10 @@ func TestScoreParquetMatchesCSV(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if a.Rows != b.Rows || a.Column(lpColumn).Missing == 0 || a.Column(lpColumn).Missing != b.Column(lpColumn).Missing {
-		t.Fatalf("rows %d/%d, unscored %d/%d", a.Rows, b.Rows, a.Column(lpColumn).Missing, b.Column(lpColumn).Missing)
+	if a.Rows != b.Rows || a.Column(audit.LPColumn).Missing == 0 || a.Column(audit.LPColumn).Missing != b.Column(audit.LPColumn).Missing {
+		t.Fatalf("rows %d/%d, unscored %d/%d", a.Rows, b.Rows, a.Column(audit.LPColumn).Missing, b.Column(audit.LPColumn).Missing)
 	}
-	for _, name := range []string{lpColumn, riskColumn, "age"} {
+	for _, name := range []string{audit.LPColumn, audit.RiskColumn, "age"} {
 		for i := 0; i < a.Rows; i++ {
 			x, y := a.Column(name).Num[i], b.Column(name).Num[i]
 			// The CSV holds the shortest text that reads back exactly.

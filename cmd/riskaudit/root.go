@@ -165,7 +165,7 @@ func exitCode(err error) int {
 		return exitUsage
 	case errors.As(err, &pe):
 		return exitBadInput
-	case errors.As(err, new(*historyError)):
+	case errors.As(err, new(*audit.HistoryError)):
 		return exitBadInput
 	case errors.As(err, &sep), errors.As(err, &fe):
 		return exitCannotFit

@@ -1,33 +1,16 @@
 package main
 
 import (
-	"context"
 	"fmt"
-	"math"
 
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
-	"gonum.org/v1/gonum/stat"
 
 	"github.com/riskaudit/riskaudit/audit"
-	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/internal/jsonout"
 	"github.com/riskaudit/riskaudit/samplesize"
 )
-
-// sizeReport is the samplesize command's JSON: the anticipated values,
-// then the result's fields.
-type sizeReport struct {
-	Schema          string  `json:"schema"`
-	LinearPredictor string  `json:"linear_predictor"`
-	CalIntercept    float64 `json:"calibration_intercept"`
-	CalSlope        float64 `json:"calibration_slope"`
-	Threshold       float64 `json:"threshold,omitempty"`
-	*samplesize.Result
-	Tool        string `json:"tool"`
-	CommandLine string `json:"command_line"`
-}
 
 // sizeOptions are the samplesize command's flags.
 type sizeOptions struct {
@@ -130,69 +113,40 @@ func runSampleSize(cmd *cobra.Command, o *sizeOptions, s *streams) error {
 	if fl.Changed("c-statistic") && !(o.c > 0.5 && o.c < 1) {
 		return usagef("--c-statistic %g: give a C-statistic in (0.5, 1)", o.c)
 	}
-	var lp []float64
-	var about string
-	c := o.c
-	switch {
-	case byData:
-		var err error
-		if lp, about, err = scoredLP(cmd.Context(), o); err != nil {
-			return err
-		}
-	case byRate:
-		var err error
-		if o.mu, o.sd, err = samplesize.NormalFor(o.phi, o.c); err != nil {
-			return usagef("%v", err)
-		}
-		c = 0
-		fallthrough
-	default:
-		lp = samplesize.Normal(o.mu, o.sd, 20000)
-		about = fmt.Sprintf("Linear predictor Normal(mean %.3f, SD %.3f)", o.mu, o.sd)
-	}
-	res, err := samplesize.Compute(samplesize.Anticipated{LP: lp, C: c, Threshold: o.thr, CalIntercept: o.calA, CalSlope: o.calB}, o.widths)
-	if err != nil {
-		return usagef("%v", err)
-	}
-	w := s.out
-	fmt.Fprintf(w, "%s: event proportion %.4f, C-statistic %.3f, O/E %.3f\n", about, res.EventRate, res.C, res.OE)
-	for _, cr := range res.Criteria {
-		fmt.Fprintf(w, "  %-36s %-20s n %7d (%d events)\n", cr.Measure, cr.Target, cr.N, cr.Events)
-	}
-	fmt.Fprintf(w, "Minimum sample size %d (%d events), driven by the %s criterion\n", res.N, res.Events, res.Driver)
-	if o.jsonOut != "" {
-		b, err := jsonout.Marshal(sizeReport{Schema: "riskaudit.samplesize/1", LinearPredictor: about,
-			CalIntercept: o.calA, CalSlope: o.calB, Threshold: o.thr, Result: res,
-			Tool: "riskaudit " + toolVersion(), CommandLine: s.commandLine()})
-		if err != nil {
-			return err
-		}
-		return atomicfile.WriteFile(o.jsonOut, b)
-	}
-	return nil
-}
-
-// scoredLP scores --data with the frozen --model and returns the linear
-// predictors of its complete rows, and a line describing them.
-func scoredLP(ctx context.Context, o *sizeOptions) ([]float64, string, error) {
 	copt, fail, err := o.data.options()
 	if err != nil {
-		return nil, "", err
+		return err
 	}
-	sc, err := audit.Score(ctx, audit.ScoreConfig{Model: o.model, Data: audit.Input{Path: o.dataFile}, Read: copt, FailOnMissing: fail})
-	if err != nil {
-		return nil, "", err
-	}
-	lp := make([]float64, 0, sc.Scored)
-	for _, v := range sc.LP {
-		if !math.IsNaN(v) {
-			lp = append(lp, v)
+	cfg := audit.SizeConfig{Model: o.model, Data: audit.Input{Path: o.dataFile}, Read: copt, FailOnMissing: fail,
+		CalIntercept: o.calA, CalSlope: o.calB, Threshold: o.thr, Targets: o.widths,
+		Tool: "riskaudit " + toolVersion(), CommandLine: s.commandLine()}
+	switch {
+	case byRate:
+		cfg.EventRate, cfg.CStatistic = o.phi, o.c
+	case byLP:
+		cfg.LPMean, cfg.LPSD = o.mu, o.sd
+		fallthrough
+	default:
+		if fl.Changed("c-statistic") {
+			cfg.CStatistic = o.c
 		}
 	}
-	if len(lp) < 10 {
-		return nil, "", &cohort.Error{File: o.dataFile, Msg: fmt.Sprintf("only %d complete rows: the linear predictor's distribution needs at least 10", len(lp))}
+	p, err := audit.PlanSize(cmd.Context(), cfg)
+	if err != nil {
+		return err
 	}
-	mean, sd := stat.MeanStdDev(lp, nil)
-	about := fmt.Sprintf("Linear predictor of %s on %d rows of %s (mean %.3f, SD %.3f)", o.model, len(lp), o.dataFile, mean, sd)
-	return lp, about, nil
+	w := s.out
+	fmt.Fprintf(w, "%s: event proportion %.4f, C-statistic %.3f, O/E %.3f\n", p.LinearPredictor, p.EventRate, p.C, p.OE)
+	for _, cr := range p.Criteria {
+		fmt.Fprintf(w, "  %-36s %-20s n %7d (%d events)\n", cr.Measure, cr.Target, cr.N, cr.Events)
+	}
+	fmt.Fprintf(w, "Minimum sample size %d (%d events), driven by the %s criterion\n", p.N, p.Events, p.Driver)
+	if o.jsonOut == "" {
+		return nil
+	}
+	b, err := jsonout.Marshal(p)
+	if err != nil {
+		return err
+	}
+	return atomicfile.WriteFile(o.jsonOut, b)
 }

@@ -4,7 +4,6 @@ import (
 	"context"
 	"fmt"
 	"path/filepath"
-	"slices"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -12,13 +11,6 @@ import (
 	"github.com/riskaudit/riskaudit/audit"
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
-	"github.com/riskaudit/riskaudit/model"
-)
-
-// The columns score appends.
-const (
-	lpColumn   = "ra_linear_predictor"
-	riskColumn = "ra_predicted_risk"
 )
 
 type scoreOptions struct {
@@ -36,8 +28,8 @@ func newScoreCmd(s *streams) *cobra.Command {
 		Short: "Append a frozen model's linear predictor and predicted risk to every row",
 		Long: `Score a cohort with a frozen model. The output has every input row exactly
 as it was, in the same order and with the same delimiter, followed by two
-columns: ` + lpColumn + ` (intercept + Σ coefficient × term) and
-` + riskColumn + ` (1 / (1 + exp(−linear predictor))). A row missing a
+columns: ` + audit.LPColumn + ` (intercept + Σ coefficient × term) and
+` + audit.RiskColumn + ` (1 / (1 + exp(−linear predictor))). A row missing a
 value the model needs gets two empty fields (or, with --missing fail,
 stops the run). The outcome column is not needed.
 
@@ -90,24 +82,15 @@ func runScore(ctx context.Context, o *scoreOptions, s *streams) error {
 	if err != nil {
 		return err
 	}
-	fr := sc.Frame
-	for _, name := range []string{lpColumn, riskColumn} {
-		if slices.Contains(fr.Header, name) {
-			return &cohort.Error{File: o.dataFile, Line: 1, Column: name, Msg: "the file already has this column, which score would append; rename it or score the original extract"}
-		}
-	}
-	names, values := []string{lpColumn, riskColumn}, [][]float64{sc.LP, model.Risks(sc.LP)}
-	var out []byte
-	if format == "csv" {
-		out = fr.AppendCSV(names, values, copt.DecimalComma)
-	} else if out, err = cohort.AppendColumns(o.dataFile, format, names, values); err != nil {
+	out, err := sc.File(o.dataFile, format, copt.DecimalComma)
+	if err != nil {
 		return err
 	}
 	if err := atomicfile.WriteFile(o.out, out); err != nil {
 		return err
 	}
 	if !o.quiet {
-		fmt.Fprintf(s.out, "Scored %d of %d rows of %s with %s", sc.Scored, fr.Rows, o.dataFile, o.model)
+		fmt.Fprintf(s.out, "Scored %d of %d rows of %s with %s", sc.Scored, sc.Frame.Rows, o.dataFile, o.model)
 		if sc.Excluded > 0 {
 			fmt.Fprintf(s.out, "; %d rows left unscored for missing values (%s)", sc.Excluded, describeExclusions(sc.ByColumn))
 		}

@@ -1,18 +1,12 @@
 package main
 
 import (
-	"bytes"
 	"fmt"
-	"os"
 	"path/filepath"
 
 	"github.com/spf13/cobra"
 
-	"github.com/riskaudit/riskaudit/history"
-	"github.com/riskaudit/riskaudit/internal/atomicfile"
-	"github.com/riskaudit/riskaudit/plots"
-	"github.com/riskaudit/riskaudit/report"
-	"github.com/riskaudit/riskaudit/trend"
+	"github.com/riskaudit/riskaudit/audit"
 )
 
 func newTrendCmd(s *streams) *cobra.Command {
@@ -29,34 +23,19 @@ expected events; the first audit outside its 99.8% limits is flagged.`,
   riskaudit trend --history audits.sqlite --out trend`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			if _, err := os.Stat(hist); err != nil {
-				return &historyError{fmt.Sprintf("%s: no such history store", hist)}
-			}
-			recs, err := history.Read(hist)
-			if err != nil {
-				return &historyError{err.Error()}
-			}
-			tr := trend.Build(recs)
-			figs, err := plots.Trend(tr)
+			t, err := audit.ReadTrend(hist)
 			if err != nil {
 				return err
 			}
-			var md bytes.Buffer
-			if err := report.WriteTrend(&md, tr, hist, figs); err != nil {
+			if err := audit.WriteTrend(out, t); err != nil {
 				return err
 			}
-			files := []atomicfile.File{{Path: filepath.Join(out, "trend.md"), Data: md.Bytes()}}
-			for _, f := range figs {
-				files = append(files, atomicfile.File{Path: filepath.Join(out, f.Name), Data: f.SVG})
-			}
-			if err := atomicfile.WriteAll(out, files); err != nil {
-				return err
-			}
+			recs, tr := t.Records, t.Trend
 			fmt.Fprintf(s.out, "%d audits from %s to %s\n", len(recs), recs[0].AuditDate, recs[len(recs)-1].AuditDate)
 			if tr.FirstOutside >= 0 {
 				fmt.Fprintf(s.out, "first audit outside the O/E control limits: %s\n", tr.Points[tr.FirstOutside].Date)
 			}
-			fmt.Fprintf(s.out, "Wrote %s and %d charts\n", filepath.Join(out, "trend.md"), len(figs))
+			fmt.Fprintf(s.out, "Wrote %s and %d charts\n", filepath.Join(out, "trend.md"), len(t.Figures))
 			return nil
 		},
 	}
@@ -66,8 +45,3 @@ expected events; the first audit outside its 99.8% limits is flagged.`,
 	_ = c.MarkFlagRequired("out")
 	return c
 }
-
-// historyError is a history store that cannot be read: bad input.
-type historyError struct{ msg string }
-
-func (e *historyError) Error() string { return e.msg }

@@ -1,0 +1,75 @@
+package audit
+
+import (
+	"bytes"
+	"fmt"
+	"os"
+	"path/filepath"
+
+	"github.com/riskaudit/riskaudit/history"
+	"github.com/riskaudit/riskaudit/internal/atomicfile"
+	"github.com/riskaudit/riskaudit/plots"
+	"github.com/riskaudit/riskaudit/report"
+	"github.com/riskaudit/riskaudit/trend"
+)
+
+// HistoryError is a history store that does not exist or cannot be
+// read: bad input.
+type HistoryError struct {
+	Path string
+	Err  error
+}
+
+// Error names the store and what is wrong with it.
+func (e *HistoryError) Error() string {
+	if os.IsNotExist(e.Err) {
+		return e.Path + ": no such history store"
+	}
+	return e.Err.Error()
+}
+
+// Unwrap returns the underlying error.
+func (e *HistoryError) Unwrap() error { return e.Err }
+
+// Trend is the trend of the audits recorded in a history store, with
+// its charts.
+type Trend struct {
+	// Source is the store's path; Records its audits in date order.
+	Source  string
+	Records []history.Record
+	Trend   *trend.Trend
+	Figures []plots.Figure
+}
+
+// ReadTrend reads every audit in the history store at path and builds
+// the trend (O/E control limits, the first audit outside them) and its
+// charts.
+func ReadTrend(path string) (*Trend, error) {
+	if _, err := os.Stat(path); err != nil {
+		return nil, &HistoryError{Path: path, Err: err}
+	}
+	recs, err := history.Read(path)
+	if err != nil {
+		return nil, &HistoryError{Path: path, Err: err}
+	}
+	tr := trend.Build(recs)
+	figs, err := plots.Trend(tr)
+	if err != nil {
+		return nil, err
+	}
+	return &Trend{Source: path, Records: recs, Trend: tr, Figures: figs}, nil
+}
+
+// WriteTrend writes trend.md and the charts into dir (created if
+// absent), all or nothing.
+func WriteTrend(dir string, t *Trend) error {
+	var md bytes.Buffer
+	if err := report.WriteTrend(&md, t.Trend, t.Source, t.Figures); err != nil {
+		return fmt.Errorf("writing trend.md: %w", err)
+	}
+	files := []atomicfile.File{{Path: filepath.Join(dir, "trend.md"), Data: md.Bytes()}}
+	for _, f := range t.Figures {
+		files = append(files, atomicfile.File{Path: filepath.Join(dir, f.Name), Data: f.SVG})
+	}
+	return atomicfile.WriteAll(dir, files)
+}
