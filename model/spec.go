@@ -20,8 +20,9 @@
 // parser's error or the strconv error of a bad number. A fit error
 // unwraps to the package logistic error it explains, whose kind is
 // ErrSeparation, ErrCollinear or ErrNotConverged (the same values as
-// logistic's). Messages are built from the fields alone and do not
-// depend on Kind or Err.
+// logistic's), and CompareNested's errors are of kind ErrNotNested.
+// Messages are built from the fields alone and do not depend on Kind or
+// Err.
 package model
 
 import (
