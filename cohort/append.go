@@ -78,22 +78,22 @@ func AppendColumns(path, format string, names []string, values [][]float64) ([]b
 	case "parquet":
 		props := parquet.NewWriterProperties(parquet.WithCompression(compress.Codecs.Snappy))
 		if err := pqarrow.WriteTable(out, &buf, 1<<20, props, pqarrow.DefaultWriterProps()); err != nil {
-			return nil, &Error{File: path, Msg: "cannot write the scored Parquet file: " + err.Error()}
+			return nil, &Error{File: path, Msg: "cannot write the scored Parquet file: " + err.Error(), Kind: ErrFormat, Err: err}
 		}
 	case "arrow":
 		w, err := ipc.NewFileWriter(&buf, ipc.WithSchema(out.Schema()))
 		if err != nil {
-			return nil, &Error{File: path, Msg: "cannot write the scored Arrow file: " + err.Error()}
+			return nil, &Error{File: path, Msg: "cannot write the scored Arrow file: " + err.Error(), Kind: ErrFormat, Err: err}
 		}
 		tr := array.NewTableReader(out, 1<<16)
 		defer tr.Release()
 		for tr.Next() {
 			if err := w.Write(tr.Record()); err != nil {
-				return nil, &Error{File: path, Msg: "cannot write the scored Arrow file: " + err.Error()}
+				return nil, &Error{File: path, Msg: "cannot write the scored Arrow file: " + err.Error(), Kind: ErrFormat, Err: err}
 			}
 		}
 		if err := w.Close(); err != nil {
-			return nil, &Error{File: path, Msg: "cannot write the scored Arrow file: " + err.Error()}
+			return nil, &Error{File: path, Msg: "cannot write the scored Arrow file: " + err.Error(), Kind: ErrFormat, Err: err}
 		}
 	default:
 		return nil, fmt.Errorf("cohort: AppendColumns writes parquet or arrow, not %q", format)
@@ -112,7 +112,7 @@ func readTable(path, format string) (arrow.Table, error) {
 		defer closeFile()
 		tbl, err := fr.ReadTable(context.Background())
 		if err != nil {
-			return nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error()}
+			return nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error(), Kind: ErrFormat, Err: err}
 		}
 		return tbl, nil
 	case "arrow":
@@ -125,7 +125,7 @@ func readTable(path, format string) (arrow.Table, error) {
 		for i := 0; i < r.NumRecords(); i++ {
 			rec, err := r.Record(i)
 			if err != nil {
-				return nil, &Error{File: path, Msg: "cannot read the Arrow file: " + err.Error()}
+				return nil, &Error{File: path, Msg: "cannot read the Arrow file: " + err.Error(), Kind: ErrFormat, Err: err}
 			}
 			rec.Retain()
 			defer rec.Release()

@@ -5,12 +5,72 @@
 // Every problem with the input is reported as an *Error that names the
 // file and, where it applies, the line, the column and the offending
 // value, so that a command-line tool can print one precise line.
+//
+// # Errors
+//
+// An *Error is built as encoding/csv builds its ParseError: the fields
+// locate the problem, Kind names what kind of problem it is and Err keeps
+// the error underneath, if any. Kind is one of the sentinel errors below
+// and errors.Is(err, Kind) holds through the Error's Is method; Unwrap
+// returns Err, so that errors.Is(err, fs.ErrNotExist) holds for a file
+// that does not exist and errors.As reaches the operating system's
+// *fs.PathError or the Arrow library's error. The message (Msg) is the
+// same as it would be without either. Package model reports the problems
+// it finds in cohort data (a missing value under the fail policy, an
+// outcome value that is neither event nor non-event, a level a frozen
+// model does not know, a value outside a transform's domain) as an
+// *Error with one of the kinds below. An error that is not an *Error
+// (an unknown format name, a column requested as two kinds) is a mistake
+// of the caller, not of the file.
 package cohort
 
 import (
+	"errors"
 	"fmt"
 	"strconv"
 	"strings"
+)
+
+// The kinds of bad input, the values of Error.Kind. Each *Error this
+// package returns has exactly one of them.
+var (
+	// ErrRead is a file that cannot be read at all: it does not exist,
+	// it may not be read, it is a folder. Err holds the operating
+	// system's error.
+	ErrRead = errors.New("cohort: cannot read file")
+	// ErrFormat is a file that is not well formed in its format: a
+	// quoted field that never ends or is followed by other text, a
+	// record with more or fewer fields than the header, a Parquet or
+	// Arrow file its reader refuses (Err holds the reader's error), a
+	// nested column, a columnar file where text rows are needed, or a
+	// columnar file that cannot be written back with scored columns.
+	ErrFormat = errors.New("cohort: malformed file")
+	// ErrEmpty is a file without data rows: empty, blank or a header
+	// alone.
+	ErrEmpty = errors.New("cohort: no data rows")
+	// ErrDuplicateColumn is a header that names one column twice
+	// (perhaps after renaming).
+	ErrDuplicateColumn = errors.New("cohort: duplicate column name")
+	// ErrNoColumn is a requested column that the file does not have.
+	ErrNoColumn = errors.New("cohort: no such column")
+	// ErrNotNumber is a value of a numeric column that does not read as
+	// a finite number and is not a missing-value marker (NaN included
+	// when Request.NaNIsError), or a columnar file's column whose type
+	// holds no numbers.
+	ErrNotNumber = errors.New("cohort: not a number")
+	// ErrMissing is a missing value where none may be (the missing-value
+	// policy fail), or missing values that leave no row complete.
+	ErrMissing = errors.New("cohort: missing value")
+	// ErrOutcome is an outcome column that cannot be used: a value that
+	// is neither the event nor the non-event, or no events or no
+	// non-events at all.
+	ErrOutcome = errors.New("cohort: unusable outcome")
+	// ErrLevel is a level of a categorical column that the frozen model
+	// does not know.
+	ErrLevel = errors.New("cohort: unknown level")
+	// ErrDomain is a value outside the domain of its term's transform,
+	// such as a log of a value that is not positive.
+	ErrDomain = errors.New("cohort: value outside the transform's domain")
 )
 
 // Error describes bad input in a cohort file. Line is the 1-based line of
@@ -29,6 +89,15 @@ type Error struct {
 	// file, rather than text lines.
 	Row bool
 	Msg string
+	// Kind is the kind of problem, one of the sentinel errors of this
+	// package (ErrNotNumber, ErrNoColumn, ...), or nil for an error of no
+	// listed kind. errors.Is(err, Kind) holds.
+	Kind error
+	// Err is the underlying error (the *fs.PathError of a file that
+	// cannot be opened, the Arrow library's error on a damaged file), or
+	// nil when the problem was found in the data. Its text is already
+	// part of Msg where the message shows it.
+	Err error
 }
 
 // Error formats the problem as one line:
@@ -59,3 +128,10 @@ func (e *Error) Error() string {
 	b.WriteString(e.Msg)
 	return b.String()
 }
+
+// Unwrap returns the underlying error, Err.
+func (e *Error) Unwrap() error { return e.Err }
+
+// Is reports whether target is the error's kind, so that
+// errors.Is(err, ErrNotNumber) holds for a value that is not a number.
+func (e *Error) Is(target error) bool { return e.Kind != nil && target == e.Kind }

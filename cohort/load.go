@@ -154,7 +154,7 @@ func Load(path string, reqs []Request, opt Options) (*Frame, error) {
 	case "", "auto":
 		pq, ar := isParquet(path), isArrow(path)
 		if (pq || ar) && opt.KeepRecords {
-			return nil, &Error{File: path, Msg: "a columnar file has no text rows to copy; give a CSV or TSV file"}
+			return nil, &Error{File: path, Msg: "a columnar file has no text rows to copy; give a CSV or TSV file", Kind: ErrFormat}
 		}
 		if pq {
 			return LoadParquet(path, reqs, opt)
@@ -180,7 +180,7 @@ func Load(path string, reqs []Request, opt Options) (*Frame, error) {
 		if errors.As(err, &pe) {
 			msg = pe.Err.Error()
 		}
-		return nil, &Error{File: path, Msg: "cannot read file: " + msg}
+		return nil, &Error{File: path, Msg: "cannot read file: " + msg, Kind: ErrRead, Err: err}
 	}
 	defer release()
 	return Parse(path, data, reqs, opt)
@@ -191,7 +191,7 @@ func Load(path string, reqs []Request, opt Options) (*Frame, error) {
 func Parse(name string, data []byte, reqs []Request, opt Options) (*Frame, error) {
 	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
 	if len(bytes.TrimSpace(data)) == 0 {
-		return nil, &Error{File: name, Msg: "file is empty"}
+		return nil, &Error{File: name, Msg: "file is empty", Kind: ErrEmpty}
 	}
 	delim := opt.Delimiter
 	if delim == 0 {
@@ -244,7 +244,7 @@ func Parse(name string, data []byte, reqs []Request, opt Options) (*Frame, error
 		return nil, err
 	}
 	if fr.Rows == 0 {
-		return nil, &Error{File: name, Msg: "the file has a header but no data rows"}
+		return nil, &Error{File: name, Msg: "the file has a header but no data rows", Kind: ErrEmpty}
 	}
 	if opt.KeepRecords {
 		fr.data = data
@@ -285,7 +285,7 @@ func checkHeader(name string, line int, header []string) error {
 	for i, h := range header {
 		if j, ok := seen[h]; ok {
 			return &Error{File: name, Line: line, Column: h,
-				Msg: fmt.Sprintf("duplicate column name (fields %d and %d of the header)", j+1, i+1)}
+				Msg: fmt.Sprintf("duplicate column name (fields %d and %d of the header)", j+1, i+1), Kind: ErrDuplicateColumn}
 		}
 		seen[h] = i
 	}
@@ -313,7 +313,7 @@ func planColumns(name string, header []string, reqs []Request) ([]int, error) {
 			}
 		}
 		if !found {
-			return nil, &Error{File: name, Column: r.Name, Msg: missingColumnMsg(r.Name, header)}
+			return nil, &Error{File: name, Column: r.Name, Msg: missingColumnMsg(r.Name, header), Kind: ErrNoColumn}
 		}
 	}
 	return plan, nil
@@ -334,7 +334,7 @@ func missingColumnMsg(want string, header []string) string {
 func syntaxError(name string, err error) error {
 	var se *errSyntax
 	if errors.As(err, &se) {
-		return &Error{File: name, Line: se.line, Msg: se.msg}
+		return &Error{File: name, Line: se.line, Msg: se.msg, Kind: ErrFormat}
 	}
 	return err
 }

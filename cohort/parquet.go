@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"math"
 	"os"
 	"strconv"
@@ -52,7 +53,7 @@ func LoadParquet(path string, reqs []Request, opt Options) (*Frame, error) {
 	pf := fr.ParquetReader()
 	schema, err := fr.Schema()
 	if err != nil {
-		return nil, &Error{File: path, Msg: "cannot read the Parquet schema: " + err.Error()}
+		return nil, &Error{File: path, Msg: "cannot read the Parquet schema: " + err.Error(), Kind: ErrFormat, Err: err}
 	}
 	return fromBatches(path, schema, reqs, opt, int(pf.NumRows()), func(idx []int, each func(arrow.Record) error) error {
 		rr, err := fr.GetRecordReader(context.Background(), idx, nil)
@@ -100,12 +101,16 @@ func LoadArrow(path string, reqs []Request, opt Options) (*Frame, error) {
 func openParquet(path string, props pqarrow.ArrowReadProperties) (fr *pqarrow.FileReader, close func(), err error) {
 	pf, err := file.OpenParquetFile(path, true)
 	if err != nil {
-		return nil, nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error()}
+		kind := ErrFormat
+		if errors.As(err, new(*fs.PathError)) {
+			kind = ErrRead // the file could not be opened or read
+		}
+		return nil, nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error(), Kind: kind, Err: err}
 	}
 	fr, err = pqarrow.NewFileReader(pf, props, memory.DefaultAllocator)
 	if err != nil {
 		pf.Close()
-		return nil, nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error()}
+		return nil, nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error(), Kind: ErrFormat, Err: err}
 	}
 	return fr, func() { pf.Close() }, nil
 }
@@ -114,12 +119,12 @@ func openParquet(path string, props pqarrow.ArrowReadProperties) (fr *pqarrow.Fi
 func openArrow(path string) (r *ipc.FileReader, close func(), err error) {
 	f, err := os.Open(path)
 	if err != nil {
-		return nil, nil, &Error{File: path, Msg: "cannot read file: " + err.Error()}
+		return nil, nil, &Error{File: path, Msg: "cannot read file: " + err.Error(), Kind: ErrRead, Err: err}
 	}
 	r, err = ipc.NewFileReader(f)
 	if err != nil {
 		f.Close()
-		return nil, nil, &Error{File: path, Msg: "cannot read the Arrow file: " + err.Error()}
+		return nil, nil, &Error{File: path, Msg: "cannot read the Arrow file: " + err.Error(), Kind: ErrFormat, Err: err}
 	}
 	return r, func() { r.Close(); f.Close() }, nil
 }
@@ -147,7 +152,7 @@ func fromBatches(path string, schema *arrow.Schema, reqs []Request, opt Options,
 	for i, k := range plan {
 		if k >= 0 {
 			if _, nested := schema.Field(i).Type.(arrow.NestedType); nested {
-				return nil, &Error{File: path, Column: header[i], Msg: "a nested column; give a flat column"}
+				return nil, &Error{File: path, Column: header[i], Msg: "a nested column; give a flat column", Kind: ErrFormat}
 			}
 			idx = append(idx, i)
 		}
@@ -209,10 +214,10 @@ func fromBatches(path string, schema *arrow.Schema, reqs []Request, opt Options,
 		if errors.As(err, &ce) {
 			return nil, err
 		}
-		return nil, &Error{File: path, Msg: "reading the data: " + err.Error()}
+		return nil, &Error{File: path, Msg: "reading the data: " + err.Error(), Kind: ErrFormat, Err: err}
 	}
 	if row == 0 {
-		return nil, &Error{File: path, Msg: "the file has no rows"}
+		return nil, &Error{File: path, Msg: "the file has no rows", Kind: ErrEmpty}
 	}
 	out := &Frame{File: path, Header: header, Rows: row, RowNumbered: true, lines: make([]int32, row)}
 	for i := range out.lines {
@@ -245,7 +250,7 @@ func isArrow(path string) bool {
 }
 
 func rowError(path string, row int, col, value, msg string) *Error {
-	return &Error{File: path, Line: row + 1, Row: true, Column: col, Value: value, HasValue: true, Msg: msg}
+	return &Error{File: path, Line: row + 1, Row: true, Column: col, Value: value, HasValue: true, Msg: msg, Kind: ErrNotNumber}
 }
 
 func appendNumbers(c *Column, arr arrow.Array, row0 int, path string, missing []string, dec byte, nanErr bool) error {
@@ -298,7 +303,7 @@ func appendNumbers(c *Column, arr arrow.Array, row0 int, path string, missing []
 		default:
 			s, ok := textValue(arr, i)
 			if !ok {
-				return &Error{File: path, Column: c.Name, Msg: fmt.Sprintf("a Parquet column of type %s, which is not a number", arr.DataType())}
+				return &Error{File: path, Column: c.Name, Msg: fmt.Sprintf("a Parquet column of type %s, which is not a number", arr.DataType()), Kind: ErrNotNumber}
 			}
 			s = strings.TrimSpace(s)
 			if isToken(s, missing) {

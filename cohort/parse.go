@@ -208,7 +208,7 @@ func (p *parser) parse(sc *scanner, pt *part) {
 		}
 		if len(sc.fields) != p.ncol {
 			pt.err = &Error{File: p.name, Line: line,
-				Msg: strconv.Itoa(len(sc.fields)) + " fields, but the header has " + strconv.Itoa(p.ncol)}
+				Msg: strconv.Itoa(len(sc.fields)) + " fields, but the header has " + strconv.Itoa(p.ncol), Kind: ErrFormat}
 			return
 		}
 		lines[row] = int32(line)
@@ -225,7 +225,7 @@ func (p *parser) parse(sc *scanner, pt *part) {
 				if !ok {
 					if o.nanErr && len(f) == 3 && strings.EqualFold(string(f), "nan") {
 						pt.err = &Error{File: p.name, Line: line, Column: p.header[o.col], Value: string(f), HasValue: true,
-							Msg: "not a number (a computed value of NaN is an error here, not a missing value)"}
+							Msg: "not a number (a computed value of NaN is an error here, not a missing value)", Kind: ErrNotNumber}
 						return
 					}
 					if !p.isMissing(f) {
@@ -251,7 +251,7 @@ func (p *parser) numberError(f []byte, col, line int) error {
 			msg += " (written with a decimal comma? see --decimal-comma)"
 		}
 	}
-	return &Error{File: p.name, Line: line, Column: p.header[col], Value: string(f), HasValue: true, Msg: msg}
+	return &Error{File: p.name, Line: line, Column: p.header[col], Value: string(f), HasValue: true, Msg: msg, Kind: ErrNotNumber}
 }
 
 // newLevel records a level not seen before in this part.

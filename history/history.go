@@ -6,6 +6,12 @@
 // a busy timeout, in write-ahead-log mode: two audits appending at once
 // wait for each other, and a writer killed mid-append leaves the file as
 // it was before that append.
+//
+// Errors wrap the database's error with %w and name the store. The two
+// problems the package finds itself have sentinels for errors.Is:
+// ErrNoAudits (a store without records) and ErrIntegrity (a store that
+// fails SQLite's integrity check). Their texts are part of the messages
+// ("history h.sqlite: no audits recorded").
 package history
 
 import (
@@ -17,6 +23,16 @@ import (
 	"time"
 
 	_ "modernc.org/sqlite" // registers the "sqlite" driver
+)
+
+// The problems with a store that the package finds itself; other errors
+// wrap the database's.
+var (
+	// ErrNoAudits is a store that holds no audit.
+	ErrNoAudits = errors.New("no audits recorded")
+	// ErrIntegrity is a store that fails SQLite's integrity check; the
+	// message goes on with what the check found.
+	ErrIntegrity = errors.New("integrity check")
 )
 
 // Record is the summary of one audit.
@@ -161,7 +177,7 @@ func Read(path string) ([]Record, error) {
 		return nil, fmt.Errorf("history %s: %w", path, err)
 	}
 	if len(out) == 0 {
-		return nil, errors.New("history " + path + ": no audits recorded")
+		return nil, fmt.Errorf("history %s: %w", path, ErrNoAudits)
 	}
 	return out, nil
 }
@@ -178,7 +194,7 @@ func Check(path string) error {
 		return fmt.Errorf("history %s: %w", path, err)
 	}
 	if res != "ok" {
-		return fmt.Errorf("history %s: integrity check: %s", path, res)
+		return fmt.Errorf("history %s: %w: %s", path, ErrIntegrity, res)
 	}
 	return nil
 }

@@ -1,10 +1,12 @@
 package history
 
 import (
+	"errors"
 	"fmt"
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strings"
 	"sync"
 	"syscall"
 	"testing"
@@ -87,5 +89,61 @@ func TestKilledWriterLeavesEarlierRecords(t *testing.T) {
 	}
 	if err := Append(path, rec(4)); err != nil {
 		t.Fatalf("appending after the crash: %v", err)
+	}
+}
+
+// TestErrorKinds: an empty store and a damaged one give errors that
+// errors.Is finds with their sentinel (and not the other's), with the
+// messages the CLI prints.
+func TestErrorKinds(t *testing.T) {
+	dir := t.TempDir()
+	// A store whose table exists but holds no audit.
+	empty := filepath.Join(dir, "empty.sqlite")
+	if err := Append(empty, rec(0)); err != nil {
+		t.Fatal(err)
+	}
+	execAll(t, empty, "DELETE FROM audits")
+	// A store with an index whose declared order no longer matches its
+	// entries.
+	damaged := filepath.Join(dir, "damaged.sqlite")
+	execAll(t, damaged, "CREATE TABLE t(a INTEGER)", "CREATE INDEX ti ON t(a)", "INSERT INTO t VALUES (1), (2), (3)",
+		"PRAGMA writable_schema=ON", "UPDATE sqlite_master SET sql = 'CREATE INDEX ti ON t(a DESC)' WHERE name = 'ti'")
+	for _, tc := range []struct {
+		name       string
+		err        error
+		kind, not  error
+		wantPrefix string
+	}{
+		{"no audits", func() error { _, err := Read(empty); return err }(), ErrNoAudits, ErrIntegrity,
+			"history " + empty + ": no audits recorded"},
+		{"integrity", Check(damaged), ErrIntegrity, ErrNoAudits,
+			"history " + damaged + ": integrity check: "},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			if tc.err == nil {
+				t.Fatal("no error")
+			}
+			if !errors.Is(tc.err, tc.kind) || errors.Is(tc.err, tc.not) {
+				t.Errorf("errors.Is(%v): %v %v, %v %v", tc.err, tc.kind, errors.Is(tc.err, tc.kind), tc.not, errors.Is(tc.err, tc.not))
+			}
+			if !strings.HasPrefix(tc.err.Error(), tc.wantPrefix) {
+				t.Errorf("message %q, want it to start %q", tc.err, tc.wantPrefix)
+			}
+		})
+	}
+}
+
+// execAll runs the statements on the store at path.
+func execAll(t *testing.T, path string, stmts ...string) {
+	t.Helper()
+	db, err := open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	for _, q := range stmts {
+		if _, err := db.Exec(q); err != nil {
+			t.Fatalf("%s: %v", q, err)
+		}
 	}
 }

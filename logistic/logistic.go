@@ -6,6 +6,12 @@
 // weights, so that a bootstrap sample can be fitted as counts over the
 // original rows without copying the data.
 //
+// A fit that cannot be made fails with one of three kinds, each a
+// sentinel error for errors.Is: ErrSeparation (a *SeparationError, which
+// names the diverging columns), ErrCollinear (a *CollinearError, which
+// names the dependent columns) and ErrNotConverged (wrapped with the
+// number of iterations). Other errors report inconsistent input.
+//
 // References: McCullagh & Nelder (1989), Generalized Linear Models, 2nd
 // ed., ch. 4 (IRLS); Firth (1993), "Bias reduction of maximum likelihood
 // estimates", Biometrika 80:27–38.
@@ -88,6 +94,14 @@ type Result struct {
 // the convergence bounds within MaxIter steps and no separation is found.
 var ErrNotConverged = errors.New("logistic: iterations did not converge")
 
+// ErrSeparation is the kind of a *SeparationError: errors.Is(err,
+// ErrSeparation) holds for a fit that failed by separation.
+var ErrSeparation = errors.New("logistic: separation")
+
+// ErrCollinear is the kind of a *CollinearError: errors.Is(err,
+// ErrCollinear) holds for a design matrix without full column rank.
+var ErrCollinear = errors.New("logistic: linearly dependent columns")
+
 // SeparationError reports complete or quasi-complete separation: a
 // combination of predictors that predicts some or all outcomes perfectly,
 // so that maximum-likelihood estimates do not exist (Albert & Anderson
@@ -110,6 +124,9 @@ func (e *SeparationError) Error() string {
 	return fmt.Sprintf("logistic: %s separation (%d rows predicted perfectly; columns %v diverge)", kind, e.Rows, e.Columns)
 }
 
+// Is reports whether target is ErrSeparation.
+func (e *SeparationError) Is(target error) bool { return target == ErrSeparation }
+
 // CollinearError reports a design matrix without full column rank.
 type CollinearError struct {
 	// Columns are the X columns that take part in the dependence.
@@ -120,6 +137,9 @@ type CollinearError struct {
 func (e *CollinearError) Error() string {
 	return fmt.Sprintf("logistic: columns %v are linearly dependent", e.Columns)
 }
+
+// Is reports whether target is ErrCollinear.
+func (e *CollinearError) Is(target error) bool { return target == ErrCollinear }
 
 func (o *Options) defaults(p int) {
 	if o.MaxIter <= 0 {

@@ -275,3 +275,56 @@ func TestFixedEqualsOffset(t *testing.T) {
 		t.Error("a Fixed of the wrong length should be refused")
 	}
 }
+
+// TestFitErrorKinds: each way a fit fails is found by errors.Is with its
+// sentinel and no other, and by errors.As with its type where it has one.
+func TestFitErrorKinds(t *testing.T) {
+	separated := Data{N: 8, P: 2, Y: []float64{0, 0, 0, 0, 1, 1, 1, 1}}
+	for _, v := range []float64{-3, -2, -1, -0.5, 0.5, 1, 2, 3} {
+		separated.X = append(separated.X, 1, v)
+	}
+	collinear := simulate(200, []float64{0, 1}, 6)
+	var x []float64
+	for i := 0; i < collinear.N; i++ {
+		x = append(x, 1, collinear.X[2*i+1], -3*collinear.X[2*i+1])
+	}
+	collinear.X, collinear.P = x, 3
+	kinds := []error{ErrSeparation, ErrCollinear, ErrNotConverged}
+	for _, tc := range []struct {
+		name string
+		d    Data
+		opt  Options
+		kind error
+		// as checks the error's type and fields.
+		as func(error) bool
+	}{
+		{"separation", separated, Options{}, ErrSeparation, func(err error) bool {
+			var se *SeparationError
+			return errors.As(err, &se) && se.Complete && se.Rows == 8
+		}},
+		{"collinear", collinear, Options{}, ErrCollinear, func(err error) bool {
+			var ce *CollinearError
+			return errors.As(err, &ce) && len(ce.Columns) == 2 && ce.Columns[0] == 1 && ce.Columns[1] == 2
+		}},
+		{"one iteration", simulate(200, []float64{-1, 1, 0.5}, 3), Options{MaxIter: 1}, ErrNotConverged, func(err error) bool {
+			var se *SeparationError
+			var ce *CollinearError
+			return !errors.As(err, &se) && !errors.As(err, &ce)
+		}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			_, err := Fit(tc.d, tc.opt)
+			if err == nil {
+				t.Fatal("no error")
+			}
+			for _, k := range kinds {
+				if got := errors.Is(err, k); got != (k == tc.kind) {
+					t.Errorf("errors.Is(err, %v) = %v; err: %v", k, got, err)
+				}
+			}
+			if !tc.as(err) {
+				t.Errorf("errors.As does not find the expected type and fields in %T: %v", err, err)
+			}
+		})
+	}
+}

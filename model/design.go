@@ -263,7 +263,7 @@ func (d *Design) completeCases(opt Options) ([]bool, *Matrix, error) {
 		}
 		if col != nil {
 			return nil, nil, &cohort.Error{File: fr.File, Line: fr.Line(row), Row: fr.RowNumbered, Column: col.Name,
-				Msg: "missing value (the missing-value policy is fail)"}
+				Msg: "missing value (the missing-value policy is fail)", Kind: cohort.ErrMissing}
 		}
 	}
 	// Column by column: tight loops over contiguous values.
@@ -300,7 +300,7 @@ func (d *Design) completeCases(opt Options) ([]bool, *Matrix, error) {
 		}
 	}
 	if m.N == 0 {
-		return nil, nil, &cohort.Error{File: fr.File, Msg: fmt.Sprintf("no row has values in every column the model uses (%s)", describeExclusions(m.ByColumn))}
+		return nil, nil, &cohort.Error{File: fr.File, Msg: fmt.Sprintf("no row has values in every column the model uses (%s)", describeExclusions(m.ByColumn)), Kind: cohort.ErrMissing}
 	}
 	return used, m, nil
 }
@@ -346,7 +346,7 @@ func (d *Design) bind(used []bool) error {
 	seen := map[string]bool{}
 	for _, t := range d.Terms {
 		if seen[t] {
-			return &SpecError{File: s.File, Msg: fmt.Sprintf("term %q appears twice in the model", t)}
+			return &SpecError{File: s.File, Msg: fmt.Sprintf("term %q appears twice in the model", t), Kind: ErrConflict}
 		}
 		seen[t] = true
 	}
@@ -388,7 +388,7 @@ func (d *Design) bindNumeric(e *entry, used []bool) error {
 			}
 			k, err := DefaultKnots(z, pr.Spline.Count)
 			if err != nil {
-				return &SpecError{File: d.Spec.File, Line: pr.Line, Msg: fmt.Sprintf("predictor %q: %v", name, err)}
+				return &SpecError{File: d.Spec.File, Line: pr.Line, Msg: fmt.Sprintf("predictor %q: %v", name, err), Kind: ErrSpecData, Err: err}
 			}
 			e.knots = k
 		}
@@ -418,7 +418,7 @@ func (d *Design) bindCategorical(e *entry, used []bool) error {
 		e.reference = pr.Reference
 		for _, l := range pr.Levels {
 			if l.Term == pr.Reference {
-				return &SpecError{File: d.Spec.File, Line: l.Line, Msg: fmt.Sprintf("predictor %q: the reference level %q cannot have a coefficient", pr.Column, l.Term)}
+				return &SpecError{File: d.Spec.File, Line: l.Line, Msg: fmt.Sprintf("predictor %q: the reference level %q cannot have a coefficient", pr.Column, l.Term), Kind: ErrCoefficients}
 			}
 			e.levels = append(e.levels, l.Term)
 		}
@@ -438,7 +438,7 @@ func (d *Design) bindCategorical(e *entry, used []bool) error {
 				found = found || l == pr.Reference
 			}
 			if !found {
-				return &SpecError{File: d.Spec.File, Line: pr.Line, Msg: fmt.Sprintf("predictor %q: the reference level %q does not occur in the data (levels: %s)", pr.Column, pr.Reference, strings.Join(levels, ", "))}
+				return &SpecError{File: d.Spec.File, Line: pr.Line, Msg: fmt.Sprintf("predictor %q: the reference level %q does not occur in the data (levels: %s)", pr.Column, pr.Reference, strings.Join(levels, ", ")), Kind: ErrSpecData}
 			}
 		}
 		for _, l := range levels {
@@ -464,7 +464,7 @@ func (d *Design) bindCategorical(e *entry, used []bool) error {
 			e.codeTerm[code] = -2
 			if present[code] {
 				return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Row: d.frame.RowNumbered, Column: pr.Column, Value: l, HasValue: true,
-					Msg: fmt.Sprintf("a level the model does not know (it knows %s)", strings.Join(append([]string{e.reference}, e.levels...), ", "))}
+					Msg: fmt.Sprintf("a level the model does not know (it knows %s)", strings.Join(append([]string{e.reference}, e.levels...), ", ")), Kind: cohort.ErrLevel}
 			}
 		}
 	}
@@ -477,7 +477,7 @@ func (d *Design) bindProduct(e *entry, byColumn map[string]int) error {
 	for k, c := range pr.Product {
 		j, ok := byColumn[c]
 		if !ok {
-			return &SpecError{File: d.Spec.File, Line: pr.Line, Msg: fmt.Sprintf("product names %q before its own entry: list the product after the predictors it multiplies", c)}
+			return &SpecError{File: d.Spec.File, Line: pr.Line, Msg: fmt.Sprintf("product names %q before its own entry: list the product after the predictors it multiplies", c), Kind: ErrConflict}
 		}
 		e.factors[k] = j
 	}
@@ -535,13 +535,13 @@ func (d *Design) mapOutcome(used []bool) error {
 	if len(bad) > 0 {
 		code := bad[0]
 		return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Row: d.frame.RowNumbered, Column: c.Name, Value: c.Levels[code], HasValue: true,
-			Msg: fmt.Sprintf("neither the event %q nor the non-event %q; values seen: %s", o.Event.Text, o.NonEvent.Text, seen())}
+			Msg: fmt.Sprintf("neither the event %q nor the non-event %q; values seen: %s", o.Event.Text, o.NonEvent.Text, seen()), Kind: cohort.ErrOutcome}
 	}
 	if events == 0 {
-		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no events (no row equals the event value %q); values seen: %s", o.Event.Text, seen())}
+		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no events (no row equals the event value %q); values seen: %s", o.Event.Text, seen()), Kind: cohort.ErrOutcome}
 	}
 	if nonEvents == 0 {
-		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no non-events (every row equals the event value %q)", o.Event.Text)}
+		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no non-events (every row equals the event value %q)", o.Event.Text), Kind: cohort.ErrOutcome}
 	}
 	return nil
 }
@@ -581,7 +581,7 @@ func (d *Design) row(i int, out []float64) error {
 				t[j] = 1
 			} else if j == -2 {
 				c := e.col
-				return &cohort.Error{File: d.frame.File, Line: d.frame.Line(i), Row: d.frame.RowNumbered, Column: c.Name, Value: c.Levels[c.Codes[i]], HasValue: true, Msg: "a level the model does not know"}
+				return &cohort.Error{File: d.frame.File, Line: d.frame.Line(i), Row: d.frame.RowNumbered, Column: c.Name, Value: c.Levels[c.Codes[i]], HasValue: true, Msg: "a level the model does not know", Kind: cohort.ErrLevel}
 			}
 		default:
 			if err := d.numericTerms(e, i, t); err != nil {
@@ -606,7 +606,7 @@ func (d *Design) numericTerms(e *entry, i int, t []float64) error {
 				what = "fractional-polynomial powers need"
 			}
 			return &cohort.Error{File: d.frame.File, Line: d.frame.Line(i), Row: d.frame.RowNumbered, Column: pr.Column, Value: fmtNum(x), HasValue: true,
-				Msg: fmt.Sprintf("%s positive values of (x − center)/scale", what)}
+				Msg: fmt.Sprintf("%s positive values of (x − center)/scale", what), Kind: cohort.ErrDomain}
 		}
 		if e.kind == logTerm {
 			t[0] = math.Log(z)

@@ -95,11 +95,27 @@ type Fitted struct {
 	Stats  FitStats
 }
 
+// The kinds of fit errors, the same values as package logistic's, so
+// that callers of model can use errors.Is without importing logistic.
+var (
+	// ErrSeparation is the kind of a *SeparationError.
+	ErrSeparation = logistic.ErrSeparation
+	// ErrCollinear is the kind of a *FitError for linearly dependent
+	// terms.
+	ErrCollinear = logistic.ErrCollinear
+	// ErrNotConverged is the kind of a *FitError for iterations that did
+	// not converge.
+	ErrNotConverged = logistic.ErrNotConverged
+)
+
 // SeparationError says that the outcome is separated by the named terms,
 // so that maximum-likelihood estimates do not exist.
 type SeparationError struct {
 	Complete bool
 	Terms    []string
+	// Err is the *logistic.SeparationError found by the fit (with the
+	// diverging columns and the rows predicted perfectly), or nil.
+	Err error
 }
 
 // Error names the terms that separate the outcome.
@@ -111,6 +127,13 @@ func (e *SeparationError) Error() string {
 	return fmt.Sprintf("%s separation: the outcome is predicted perfectly by %s, so maximum-likelihood estimates do not exist; no model was written (Firth's penalised likelihood, --firth, gives finite estimates)",
 		kind, strings.Join(e.Terms, ", "))
 }
+
+// Unwrap returns the underlying error, Err.
+func (e *SeparationError) Unwrap() error { return e.Err }
+
+// Is reports whether target is ErrSeparation, the kind of every
+// SeparationError.
+func (e *SeparationError) Is(target error) bool { return target == ErrSeparation }
 
 // Fit fits the design matrix m of design d.
 func Fit(d *Design, m *Matrix, opt FitOptions) (*Fitted, error) {
@@ -265,7 +288,9 @@ func profileBound(data logistic.Data, res *logistic.Result, j int, dir float64, 
 const chiSquare95 = 3.841458820694124
 
 // FitError says that the model could not be fitted (collinear terms, no
-// convergence); separation has its own SeparationError.
+// convergence); separation has its own SeparationError. Err is the error
+// of the fit, whose kind (ErrCollinear, ErrNotConverged) errors.Is finds
+// through Unwrap.
 type FitError struct {
 	Msg string
 	Err error
@@ -286,7 +311,7 @@ func explainFitError(err error, terms []string) error {
 				names = append(names, terms[c])
 			}
 		}
-		return &SeparationError{Complete: se.Complete, Terms: names}
+		return &SeparationError{Complete: se.Complete, Terms: names, Err: err}
 	}
 	var ce *logistic.CollinearError
 	if errors.As(err, &ce) {

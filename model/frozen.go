@@ -29,7 +29,7 @@ func (d *Design) FrozenLinearPredictors(m *Matrix) ([]float64, error) {
 func (d *Design) Coefficients() ([]float64, error) {
 	s := d.Spec
 	if !s.Frozen() {
-		return nil, &SpecError{File: s.File, Msg: "the spec is a recipe (it has no intercept); fit it first"}
+		return nil, &SpecError{File: s.File, Msg: "the spec is a recipe (it has no intercept); fit it first", Kind: ErrNotFrozen}
 	}
 	beta := make([]float64, len(d.Terms))
 	beta[0] = s.Intercept
@@ -52,20 +52,20 @@ func (d *Design) Coefficients() ([]float64, error) {
 			for j, l := range e.labels {
 				c, ok := byTerm[l]
 				if !ok {
-					return nil, &SpecError{File: s.File, Line: pr.Line, Msg: fmt.Sprintf("coefs has no coefficient for term %q (terms: %v)", l, e.labels)}
+					return nil, &SpecError{File: s.File, Line: pr.Line, Msg: fmt.Sprintf("coefs has no coefficient for term %q (terms: %v)", l, e.labels), Kind: ErrCoefficients}
 				}
 				t[j] = c.Value
 				delete(byTerm, l)
 			}
 			for _, c := range pr.Coefs {
 				if _, extra := byTerm[c.Term]; extra {
-					return nil, &SpecError{File: s.File, Line: c.Line, Msg: fmt.Sprintf("coefs names %q, which is not a term of this predictor (terms: %v)", c.Term, e.labels)}
+					return nil, &SpecError{File: s.File, Line: c.Line, Msg: fmt.Sprintf("coefs names %q, which is not a term of this predictor (terms: %v)", c.Term, e.labels), Kind: ErrCoefficients}
 				}
 			}
 		case len(e.labels) == 1:
-			return nil, &SpecError{File: s.File, Line: pr.Line, Msg: fmt.Sprintf("frozen predictor %s needs coef (or coefs with its one term)", describe(pr))}
+			return nil, &SpecError{File: s.File, Line: pr.Line, Msg: fmt.Sprintf("frozen predictor %s needs coef (or coefs with its one term)", describe(pr)), Kind: ErrCoefficients}
 		default:
-			return nil, &SpecError{File: s.File, Line: pr.Line, Msg: fmt.Sprintf("frozen predictor %s has %d terms and needs coefs with a coefficient for each of %v", describe(pr), len(e.labels), e.labels)}
+			return nil, &SpecError{File: s.File, Line: pr.Line, Msg: fmt.Sprintf("frozen predictor %s has %d terms and needs coefs with a coefficient for each of %v", describe(pr), len(e.labels), e.labels), Kind: ErrCoefficients}
 		}
 	}
 	return beta, nil

@@ -1,9 +1,27 @@
 package model
 
 import (
+	"errors"
 	"fmt"
 	"slices"
 )
+
+// ErrNotNested is the kind of the errors of CompareNested: models fitted
+// to different rows, outcomes or methods, or a reduced model whose terms
+// are not all terms of the full model, coded alike.
+var ErrNotNested = errors.New("model: the models are not nested")
+
+// notNested is an error of kind ErrNotNested; its message is msg alone.
+type notNested struct{ msg string }
+
+func (e *notNested) Error() string { return e.msg }
+
+// Is reports whether target is ErrNotNested.
+func (e *notNested) Is(target error) bool { return target == ErrNotNested }
+
+func notNestedf(format string, args ...any) error {
+	return &notNested{fmt.Sprintf(format, args...)}
+}
 
 // NestedTest compares two nested models fitted to the same rows by the
 // likelihood-ratio test: LR = D_reduced − D_full, referred to a chi-square
@@ -25,20 +43,21 @@ type NestedTest struct {
 
 // CompareNested tests the reduced model against the full one. Both must
 // be fitted to the same rows with the same outcome, and every term of the
-// reduced model must be a term of the full model with the same coding.
+// reduced model must be a term of the full model with the same coding;
+// otherwise the error is of kind ErrNotNested.
 func CompareNested(full, reduced *Fitted) (*NestedTest, error) {
 	if !slices.Equal(full.Matrix.Rows, reduced.Matrix.Rows) {
-		return nil, fmt.Errorf("the two models were fitted to different rows (%d and %d); fit them on the same complete cases", full.Matrix.N, reduced.Matrix.N)
+		return nil, notNestedf("the two models were fitted to different rows (%d and %d); fit them on the same complete cases", full.Matrix.N, reduced.Matrix.N)
 	}
 	fo, ro := full.Design.Spec.Outcome, reduced.Design.Spec.Outcome
 	if fo.Column != ro.Column || fo.Event.Text != ro.Event.Text {
-		return nil, fmt.Errorf("the two models have different outcomes")
+		return nil, notNestedf("the two models have different outcomes")
 	}
 	if err := nestedIn(reduced.Design, full.Design); err != nil {
 		return nil, err
 	}
 	if full.Stats.Method != reduced.Stats.Method {
-		return nil, fmt.Errorf("the two models were fitted by different methods")
+		return nil, notNestedf("the two models were fitted by different methods")
 	}
 	t := &NestedTest{FullTerms: len(full.Matrix.Terms), ReducedTerms: len(reduced.Matrix.Terms), Rows: full.Matrix.N}
 	t.DF = t.FullTerms - t.ReducedTerms
@@ -56,11 +75,11 @@ func CompareNested(full, reduced *Fitted) (*NestedTest, error) {
 // nestedIn checks that every term of a is a term of b, coded alike.
 func nestedIn(a, b *Design) error {
 	if len(a.Terms) >= len(b.Terms) {
-		return fmt.Errorf("the reduced model has %d terms and the full one %d: the reduced model must have fewer", len(a.Terms), len(b.Terms))
+		return notNestedf("the reduced model has %d terms and the full one %d: the reduced model must have fewer", len(a.Terms), len(b.Terms))
 	}
 	for _, t := range a.Terms {
 		if !slices.Contains(b.Terms, t) {
-			return fmt.Errorf("the models are not nested: term %q of the reduced model is not in the full model", t)
+			return notNestedf("the models are not nested: term %q of the reduced model is not in the full model", t)
 		}
 	}
 	for i := range a.entries {
@@ -76,7 +95,7 @@ func nestedIn(a, b *Design) error {
 				same = false
 			}
 			if !same {
-				return fmt.Errorf("the models are not nested: predictor %q is coded differently in the two models", ea.pred.Column)
+				return notNestedf("the models are not nested: predictor %q is coded differently in the two models", ea.pred.Column)
 			}
 		}
 	}

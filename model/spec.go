@@ -4,10 +4,30 @@
 // One schema serves two purposes. A recipe names the outcome and the
 // predictors; a frozen model adds the intercept and every coefficient.
 // A spec is frozen exactly when it has an intercept.
+//
+// # Errors
+//
+// A problem in a spec file is a *SpecError with the file and line, a
+// problem in the cohort data (a missing value under the fail policy, an
+// outcome value that is neither event nor non-event, a level a frozen
+// model lacks, a value outside a transform's domain) is a *cohort.Error
+// with the kind cohort.ErrMissing, ErrOutcome, ErrLevel or ErrDomain, and
+// a fit that cannot be made is a *SeparationError or a *FitError. Each
+// carries its kind for errors.Is, as in encoding/csv: a SpecError's Kind
+// is one of the ErrSpec…, ErrUnknownKey, … sentinels below and its Is
+// method matches it; Err (returned by Unwrap) keeps the error underneath,
+// such as the *fs.PathError of a spec that cannot be read, the YAML
+// parser's error or the strconv error of a bad number. A fit error
+// unwraps to the package logistic error it explains, whose kind is
+// ErrSeparation, ErrCollinear or ErrNotConverged (the same values as
+// logistic's), and CompareNested's errors are of kind ErrNotNested.
+// Messages are built from the fields alone and do not depend on Kind or
+// Err.
 package model
 
 import (
 	"bytes"
+	"errors"
 	"fmt"
 	"math"
 	"os"
@@ -19,12 +39,57 @@ import (
 	"github.com/riskaudit/riskaudit/cohort"
 )
 
+// The kinds of problems in a spec, the values of SpecError.Kind. Each
+// *SpecError this package returns has exactly one of them.
+var (
+	// ErrSpecRead is a spec file that cannot be read; Err holds the
+	// operating system's error.
+	ErrSpecRead = errors.New("model: cannot read the spec file")
+	// ErrSpecSyntax is a spec file that is empty, is not valid YAML (Err
+	// holds the parser's error) or is not a mapping of keys.
+	ErrSpecSyntax = errors.New("model: not a YAML spec")
+	// ErrUnknownKey is a key the schema does not have where it stands.
+	ErrUnknownKey = errors.New("model: unknown key")
+	// ErrDuplicateKey is a key (or a term of a coefficient map) given
+	// twice.
+	ErrDuplicateKey = errors.New("model: duplicate key")
+	// ErrMissingKey is a key the spec needs and lacks: the outcome, its
+	// column or event, the predictors, a predictor's column, a spline's
+	// knots, and in a frozen spec the knot positions and reference
+	// levels.
+	ErrMissingKey = errors.New("model: missing key")
+	// ErrSpecValue is a value of the wrong type or outside its range,
+	// such as a number that does not read as one (Err holds strconv's
+	// error) or knots that do not increase.
+	ErrSpecValue = errors.New("model: bad value")
+	// ErrConflict is keys or predictors that do not go together: a
+	// categorical predictor with a transform, two transforms, the
+	// outcome as a predictor, a product of terms the spec lacks or lists
+	// later, a term that appears twice.
+	ErrConflict = errors.New("model: conflicting keys")
+	// ErrCoefficients is coefficients that do not match the terms: a
+	// term without one, one for no term or for the reference level, or
+	// coefficients in a recipe (a spec without an intercept).
+	ErrCoefficients = errors.New("model: coefficients do not match the terms")
+	// ErrNotFrozen is a recipe where a frozen model is needed.
+	ErrNotFrozen = errors.New("model: the spec is a recipe")
+	// ErrSpecData is a spec that the data cannot bear out: a reference
+	// level that does not occur, too few distinct values to place the
+	// default knots.
+	ErrSpecData = errors.New("model: the spec does not fit the data")
+)
+
 // SpecError is a problem in a spec file, with the line it is on (0 when
 // not tied to a line).
 type SpecError struct {
 	File string
 	Line int
 	Msg  string
+	// Kind is the kind of problem, one of the sentinel errors above, or
+	// nil for an error of no listed kind; errors.Is(err, Kind) holds.
+	Kind error
+	// Err is the underlying error, or nil; Unwrap returns it.
+	Err error
 }
 
 // Error gives the file, the line when known, and the message.
@@ -34,6 +99,12 @@ func (e *SpecError) Error() string {
 	}
 	return fmt.Sprintf("%s: %s", e.File, e.Msg)
 }
+
+// Unwrap returns the underlying error, Err.
+func (e *SpecError) Unwrap() error { return e.Err }
+
+// Is reports whether target is the error's kind.
+func (e *SpecError) Is(target error) bool { return e.Kind != nil && target == e.Kind }
 
 // Value is a YAML scalar that may be read as text or as a number.
 type Value struct {
@@ -152,7 +223,7 @@ func (s *Spec) Frozen() bool { return s.HasIntercept }
 func LoadSpec(path string) (*Spec, error) {
 	data, err := os.ReadFile(path)
 	if err != nil {
-		return nil, &SpecError{File: path, Msg: "cannot read file: " + unwrapPath(err)}
+		return nil, &SpecError{File: path, Msg: "cannot read file: " + unwrapPath(err), Kind: ErrSpecRead, Err: err}
 	}
 	return ParseSpec(path, data)
 }
@@ -169,15 +240,15 @@ func unwrapPath(err error) string {
 // with the line they are on: a typo must never change a model silently.
 func ParseSpec(name string, data []byte) (*Spec, error) {
 	if len(bytes.TrimSpace(data)) == 0 {
-		return nil, &SpecError{File: name, Msg: "file is empty"}
+		return nil, &SpecError{File: name, Msg: "file is empty", Kind: ErrSpecSyntax}
 	}
 	var doc yaml.Node
 	if err := yaml.Unmarshal(data, &doc); err != nil {
-		return nil, &SpecError{File: name, Msg: "not valid YAML: " + strings.TrimPrefix(err.Error(), "yaml: ")}
+		return nil, &SpecError{File: name, Msg: "not valid YAML: " + strings.TrimPrefix(err.Error(), "yaml: "), Kind: ErrSpecSyntax, Err: err}
 	}
 	p := &specParser{file: name}
 	if len(doc.Content) != 1 || doc.Content[0].Kind != yaml.MappingNode {
-		return nil, p.errf(&doc, "the spec must be a mapping of keys such as name, outcome and predictors")
+		return nil, p.errf(ErrSpecSyntax, &doc, "the spec must be a mapping of keys such as name, outcome and predictors")
 	}
 	s, err := p.spec(doc.Content[0])
 	if err != nil {
@@ -192,25 +263,31 @@ func ParseSpec(name string, data []byte) (*Spec, error) {
 
 type specParser struct{ file string }
 
-func (p *specParser) errf(n *yaml.Node, format string, args ...any) error {
+// errf is a SpecError of the given kind at the line of n.
+func (p *specParser) errf(kind error, n *yaml.Node, format string, args ...any) error {
+	return p.wrapf(kind, nil, n, format, args...)
+}
+
+// wrapf is errf with an underlying error.
+func (p *specParser) wrapf(kind, err error, n *yaml.Node, format string, args ...any) error {
 	line := 0
 	if n != nil {
 		line = n.Line
 	}
-	return &SpecError{File: p.file, Line: line, Msg: fmt.Sprintf(format, args...)}
+	return &SpecError{File: p.file, Line: line, Msg: fmt.Sprintf(format, args...), Kind: kind, Err: err}
 }
 
 // fields walks a mapping node, checking every key against allowed.
 func (p *specParser) fields(n *yaml.Node, what string, allowed []string, f func(key string, k, v *yaml.Node) error) error {
 	if n.Kind != yaml.MappingNode {
-		return p.errf(n, "%s must be a mapping", what)
+		return p.errf(ErrSpecValue, n, "%s must be a mapping", what)
 	}
 	seen := map[string]bool{}
 	for i := 0; i+1 < len(n.Content); i += 2 {
 		k, v := n.Content[i], n.Content[i+1]
 		key := k.Value
 		if seen[key] {
-			return p.errf(k, "key %q appears twice in %s", key, what)
+			return p.errf(ErrDuplicateKey, k, "key %q appears twice in %s", key, what)
 		}
 		seen[key] = true
 		ok := false
@@ -222,7 +299,7 @@ func (p *specParser) fields(n *yaml.Node, what string, allowed []string, f func(
 			if c := cohort.Closest(key, allowed); c != "" {
 				msg += fmt.Sprintf(" (did you mean %q?)", c)
 			}
-			return p.errf(k, "%s; allowed keys: %s", msg, strings.Join(allowed, ", "))
+			return p.errf(ErrUnknownKey, k, "%s; allowed keys: %s", msg, strings.Join(allowed, ", "))
 		}
 		if err := f(key, k, v); err != nil {
 			return err
@@ -233,7 +310,7 @@ func (p *specParser) fields(n *yaml.Node, what string, allowed []string, f func(
 
 func (p *specParser) scalar(v *yaml.Node, key string) (string, error) {
 	if v.Kind != yaml.ScalarNode {
-		return "", p.errf(v, "%s must be a single value", key)
+		return "", p.errf(ErrSpecValue, v, "%s must be a single value", key)
 	}
 	return v.Value, nil
 }
@@ -245,7 +322,7 @@ func (p *specParser) number(v *yaml.Node, key string) (float64, error) {
 	}
 	f, perr := strconv.ParseFloat(s, 64)
 	if perr != nil || math.IsInf(f, 0) || math.IsNaN(f) {
-		return 0, p.errf(v, "%s must be a finite number, not %q", key, s)
+		return 0, p.wrapf(ErrSpecValue, perr, v, "%s must be a finite number, not %q", key, s)
 	}
 	return f, nil
 }
@@ -261,7 +338,7 @@ func (p *specParser) boolean(v *yaml.Node, key string) (bool, error) {
 	case "false":
 		return false, nil
 	}
-	return false, p.errf(v, "%s must be true or false, not %q", key, s)
+	return false, p.errf(ErrSpecValue, v, "%s must be true or false, not %q", key, s)
 }
 
 func (p *specParser) value(v *yaml.Node, key string) (Value, error) {
@@ -295,7 +372,7 @@ func (p *specParser) spec(n *yaml.Node) (*Spec, error) {
 		case "predictors":
 			sawPreds = true
 			if v.Kind != yaml.SequenceNode {
-				return p.errf(v, "predictors must be a list")
+				return p.errf(ErrSpecValue, v, "predictors must be a list")
 			}
 			for _, item := range v.Content {
 				pr, err := p.predictor(item)
@@ -314,10 +391,10 @@ func (p *specParser) spec(n *yaml.Node) (*Spec, error) {
 		return nil, err
 	}
 	if !sawOutcome {
-		return nil, p.errf(n, "the spec has no outcome")
+		return nil, p.errf(ErrMissingKey, n, "the spec has no outcome")
 	}
 	if !sawPreds {
-		return nil, p.errf(n, "the spec has no predictors (write predictors: [] for an intercept-only model)")
+		return nil, p.errf(ErrMissingKey, n, "the spec has no predictors (write predictors: [] for an intercept-only model)")
 	}
 	return s, nil
 }
@@ -343,13 +420,13 @@ func (p *specParser) outcome(n *yaml.Node, o *Outcome) error {
 		return err
 	}
 	if o.Column == "" {
-		return p.errf(n, "outcome needs a column")
+		return p.errf(ErrMissingKey, n, "outcome needs a column")
 	}
 	if !sawEvent {
-		return p.errf(n, "outcome needs an event value")
+		return p.errf(ErrMissingKey, n, "outcome needs an event value")
 	}
 	if o.NonEvent != nil && o.NonEvent.Text == o.Event.Text {
-		return p.errf(n, "outcome event and non_event are the same value %q", o.Event.Text)
+		return p.errf(ErrConflict, n, "outcome event and non_event are the same value %q", o.Event.Text)
 	}
 	return nil
 }
@@ -381,20 +458,20 @@ func (p *specParser) predictor(n *yaml.Node) (Predictor, error) {
 		case "scale":
 			pr.Scale, err = p.number(v, "scale")
 			if err == nil && pr.Scale <= 0 {
-				err = p.errf(v, "scale must be positive")
+				err = p.errf(ErrSpecValue, v, "scale must be positive")
 			}
 		case "log":
 			pr.Log, err = p.boolean(v, "log")
 		case "powers":
 			pr.Powers, err = p.numbers(v, "powers")
 			if err == nil && (len(pr.Powers) < 1 || len(pr.Powers) > 2) {
-				err = p.errf(v, "powers takes one or two fractional-polynomial powers")
+				err = p.errf(ErrSpecValue, v, "powers takes one or two fractional-polynomial powers")
 			}
 		case "spline":
 			pr.Spline, err = p.spline(v)
 		case "product":
 			if v.Kind != yaml.SequenceNode || len(v.Content) != 2 {
-				return p.errf(v, "product takes a list of two predictor columns")
+				return p.errf(ErrSpecValue, v, "product takes a list of two predictor columns")
 			}
 			for _, c := range v.Content {
 				s, err := p.scalar(c, "product")
@@ -415,21 +492,21 @@ func (p *specParser) predictor(n *yaml.Node) (Predictor, error) {
 func (p *specParser) checkPredictor(n *yaml.Node, pr *Predictor) error {
 	if pr.Product != nil {
 		if pr.Column != "" || pr.Categorical || pr.Log || pr.Powers != nil || pr.Spline != nil || pr.Center != 0 || pr.Scale != 1 || pr.Levels != nil || pr.HasReference {
-			return p.errf(n, "a product entry takes only product and its coefficients (coef or coefs)")
+			return p.errf(ErrConflict, n, "a product entry takes only product and its coefficients (coef or coefs)")
 		}
 		return nil
 	}
 	if pr.Column == "" {
-		return p.errf(n, "a predictor needs a column (or a product)")
+		return p.errf(ErrMissingKey, n, "a predictor needs a column (or a product)")
 	}
 	if pr.Categorical {
 		if pr.Log || pr.Powers != nil || pr.Spline != nil || pr.Center != 0 || pr.Scale != 1 || pr.HasCoef || pr.Coefs != nil {
-			return p.errf(n, "categorical predictor %q takes only reference and levels", pr.Column)
+			return p.errf(ErrConflict, n, "categorical predictor %q takes only reference and levels", pr.Column)
 		}
 		return nil
 	}
 	if pr.HasReference || pr.Levels != nil {
-		return p.errf(n, "predictor %q has reference or levels but is not categorical (add categorical: true)", pr.Column)
+		return p.errf(ErrConflict, n, "predictor %q has reference or levels but is not categorical (add categorical: true)", pr.Column)
 	}
 	ways := 0
 	for _, b := range []bool{pr.Log, pr.Powers != nil, pr.Spline != nil} {
@@ -438,14 +515,14 @@ func (p *specParser) checkPredictor(n *yaml.Node, pr *Predictor) error {
 		}
 	}
 	if ways > 1 {
-		return p.errf(n, "predictor %q: choose one of log, powers and spline", pr.Column)
+		return p.errf(ErrConflict, n, "predictor %q: choose one of log, powers and spline", pr.Column)
 	}
 	return nil
 }
 
 func (p *specParser) numbers(v *yaml.Node, key string) ([]float64, error) {
 	if v.Kind != yaml.SequenceNode {
-		return nil, p.errf(v, "%s must be a list of numbers", key)
+		return nil, p.errf(ErrSpecValue, v, "%s must be a list of numbers", key)
 	}
 	out := make([]float64, 0, len(v.Content))
 	for _, c := range v.Content {
@@ -460,14 +537,14 @@ func (p *specParser) numbers(v *yaml.Node, key string) ([]float64, error) {
 
 func (p *specParser) coefMap(v *yaml.Node, key string) ([]Coef, error) {
 	if v.Kind != yaml.MappingNode {
-		return nil, p.errf(v, "%s must map each term to its coefficient", key)
+		return nil, p.errf(ErrSpecValue, v, "%s must map each term to its coefficient", key)
 	}
 	var out []Coef
 	seen := map[string]bool{}
 	for i := 0; i+1 < len(v.Content); i += 2 {
 		k, val := v.Content[i], v.Content[i+1]
 		if seen[k.Value] {
-			return nil, p.errf(k, "%q appears twice in %s", k.Value, key)
+			return nil, p.errf(ErrDuplicateKey, k, "%q appears twice in %s", k.Value, key)
 		}
 		seen[k.Value] = true
 		f, err := p.number(val, fmt.Sprintf("%s of %q", key, k.Value))
@@ -487,7 +564,7 @@ func (p *specParser) spline(n *yaml.Node) (*Spline, error) {
 			if v.Kind == yaml.ScalarNode {
 				c, err := strconv.Atoi(v.Value)
 				if err != nil || c < 3 || c > 7 {
-					return p.errf(v, "knots must be a list of positions or a count from 3 to 7, not %q", v.Value)
+					return p.wrapf(ErrSpecValue, err, v, "knots must be a list of positions or a count from 3 to 7, not %q", v.Value)
 				}
 				sp.Count = c
 				return nil
@@ -497,11 +574,11 @@ func (p *specParser) spline(n *yaml.Node) (*Spline, error) {
 				return err
 			}
 			if len(ks) < 3 {
-				return p.errf(v, "a restricted cubic spline needs at least 3 knots")
+				return p.errf(ErrSpecValue, v, "a restricted cubic spline needs at least 3 knots")
 			}
 			for i := 1; i < len(ks); i++ {
 				if ks[i] <= ks[i-1] {
-					return p.errf(v, "knots must increase strictly")
+					return p.errf(ErrSpecValue, v, "knots must increase strictly")
 				}
 			}
 			sp.Knots = ks
@@ -511,7 +588,7 @@ func (p *specParser) spline(n *yaml.Node) (*Spline, error) {
 				return err
 			}
 			if s != "outer-range" && s != "none" {
-				return p.errf(v, "normalise must be outer-range or none, not %q", s)
+				return p.errf(ErrSpecValue, v, "normalise must be outer-range or none, not %q", s)
 			}
 			sp.Normalise = s
 		}
@@ -521,7 +598,7 @@ func (p *specParser) spline(n *yaml.Node) (*Spline, error) {
 		return nil, err
 	}
 	if sp.Knots == nil && sp.Count == 0 {
-		return nil, p.errf(n, "spline needs knots")
+		return nil, p.errf(ErrMissingKey, n, "spline needs knots")
 	}
 	return sp, nil
 }
@@ -537,7 +614,7 @@ func (p *specParser) provenance(n *yaml.Node, pv *Provenance) error {
 		case "rows_used", "events":
 			n, err := strconv.Atoi(s)
 			if err != nil {
-				return p.errf(v, "%s must be a whole number", key)
+				return p.wrapf(ErrSpecValue, err, v, "%s must be a whole number", key)
 			}
 			if key == "rows_used" {
 				pv.RowsUsed = n
@@ -570,11 +647,11 @@ func (s *Spec) check(p *specParser) error {
 	for i := range s.Predictors {
 		pr := &s.Predictors[i]
 		if pr.Column == s.Outcome.Column && pr.Column != "" {
-			return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("the outcome column %q cannot be a predictor", pr.Column)}
+			return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("the outcome column %q cannot be a predictor", pr.Column), Kind: ErrConflict}
 		}
 		if pr.Column != "" {
 			if cat, ok := kinds[pr.Column]; ok && cat != pr.Categorical {
-				return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("column %q is both categorical and numeric", pr.Column)}
+				return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("column %q is both categorical and numeric", pr.Column), Kind: ErrConflict}
 			}
 			kinds[pr.Column] = pr.Categorical
 			if _, ok := seen[pr.Column]; !ok {
@@ -587,30 +664,30 @@ func (s *Spec) check(p *specParser) error {
 		for _, c := range pr.Product {
 			j, ok := seen[c]
 			if !ok {
-				return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("product names %q, which is not a predictor of the spec", c)}
+				return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("product names %q, which is not a predictor of the spec", c), Kind: ErrConflict}
 			}
 			if s.Predictors[j].Product != nil {
-				return &SpecError{File: p.file, Line: pr.Line, Msg: "a product cannot contain a product"}
+				return &SpecError{File: p.file, Line: pr.Line, Msg: "a product cannot contain a product", Kind: ErrConflict}
 			}
 		}
 		if pr.Product != nil && pr.Product[0] == pr.Product[1] && s.Predictors[seen[pr.Product[0]]].Categorical {
-			return &SpecError{File: p.file, Line: pr.Line, Msg: "the product of a categorical predictor with itself is not defined"}
+			return &SpecError{File: p.file, Line: pr.Line, Msg: "the product of a categorical predictor with itself is not defined", Kind: ErrConflict}
 		}
 	}
 	if !s.Frozen() {
 		for _, pr := range s.Predictors {
 			if pr.HasCoef || pr.Levels != nil || pr.Coefs != nil {
-				return &SpecError{File: p.file, Line: pr.Line, Msg: "coefficients are given but the spec has no intercept: a frozen model needs an intercept and every coefficient"}
+				return &SpecError{File: p.file, Line: pr.Line, Msg: "coefficients are given but the spec has no intercept: a frozen model needs an intercept and every coefficient", Kind: ErrCoefficients}
 			}
 		}
 		return nil
 	}
 	for _, pr := range s.Predictors {
 		if pr.Spline != nil && pr.Spline.Knots == nil {
-			return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("frozen predictor %q needs its spline knot positions", pr.Column)}
+			return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("frozen predictor %q needs its spline knot positions", pr.Column), Kind: ErrMissingKey}
 		}
 		if pr.Categorical && !pr.HasReference {
-			return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("frozen categorical predictor %q needs its reference level", pr.Column)}
+			return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("frozen categorical predictor %q needs its reference level", pr.Column), Kind: ErrMissingKey}
 		}
 	}
 	return nil

@@ -3,10 +3,20 @@
 // acceptance criteria, bootstrap settings, outputs), so that the same
 // audit can be re-run on every fresh extract. Unknown keys are errors
 // with their line; relative paths are taken from the plan's folder.
+//
+// Every problem in a plan is an *Error with the file and line, built as
+// encoding/csv builds its ParseError: Kind is one of the sentinel errors
+// ErrRead, ErrSyntax, ErrUnknownKey, ErrDuplicateKey, ErrValue,
+// ErrConflict and ErrCriterion, which errors.Is matches through the
+// Error's Is method, and Err keeps the error underneath (the
+// *fs.PathError of a plan that cannot be read, strconv's, validate's or
+// samplesize's error), which Unwrap returns. The message does not depend
+// on either.
 package plan
 
 import (
 	"bytes"
+	"errors"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -20,11 +30,43 @@ import (
 	"github.com/riskaudit/riskaudit/validate"
 )
 
+// The kinds of problems in a plan, the values of Error.Kind. Each *Error
+// this package returns has exactly one of them.
+var (
+	// ErrRead is a plan file that cannot be read; Err holds the
+	// operating system's error.
+	ErrRead = errors.New("plan: cannot read the plan file")
+	// ErrSyntax is a plan file that is empty, is not valid YAML (Err
+	// holds the parser's error) or is not a mapping of keys.
+	ErrSyntax = errors.New("plan: not a YAML plan")
+	// ErrUnknownKey is a key the plan's schema does not have where it
+	// stands.
+	ErrUnknownKey = errors.New("plan: unknown key")
+	// ErrDuplicateKey is a key given twice in one mapping.
+	ErrDuplicateKey = errors.New("plan: duplicate key")
+	// ErrValue is a value of the wrong type or outside its range, such as
+	// a number that does not read as one (Err holds strconv's error).
+	ErrValue = errors.New("plan: bad value")
+	// ErrConflict is keys or values that do not go together in
+	// sample_size.anticipated, such as an event proportion and a
+	// C-statistic that no normal linear predictor has (Err holds
+	// package samplesize's error).
+	ErrConflict = errors.New("plan: conflicting keys")
+	// ErrCriterion is an acceptance criterion that package validate
+	// refuses; Err holds validate's error.
+	ErrCriterion = errors.New("plan: bad criterion")
+)
+
 // Error is a problem in a plan file.
 type Error struct {
 	File string
 	Line int
 	Msg  string
+	// Kind is the kind of problem, one of the sentinel errors above, or
+	// nil for an error of no listed kind; errors.Is(err, Kind) holds.
+	Kind error
+	// Err is the underlying error, or nil; Unwrap returns it.
+	Err error
 }
 
 // Error gives the plan file, the line when known, and the message.
@@ -34,6 +76,12 @@ func (e *Error) Error() string {
 	}
 	return fmt.Sprintf("%s: %s", e.File, e.Msg)
 }
+
+// Unwrap returns the underlying error, Err.
+func (e *Error) Unwrap() error { return e.Err }
+
+// Is reports whether target is the error's kind.
+func (e *Error) Is(target error) bool { return e.Kind != nil && target == e.Kind }
 
 // Data says how to read the plan's files.
 type Data struct {
@@ -81,7 +129,7 @@ func Load(path string) (*Plan, error) {
 		if pe, ok := err.(*os.PathError); ok {
 			msg = pe.Err.Error()
 		}
-		return nil, &Error{File: path, Msg: "cannot read file: " + msg}
+		return nil, &Error{File: path, Msg: "cannot read file: " + msg, Kind: ErrRead, Err: err}
 	}
 	return Parse(path, b)
 }
@@ -90,14 +138,14 @@ func Load(path string) (*Plan, error) {
 func Parse(name string, data []byte) (*Plan, error) {
 	p := &parser{file: name}
 	if len(bytes.TrimSpace(data)) == 0 {
-		return nil, p.errf(nil, "file is empty")
+		return nil, p.errf(ErrSyntax, nil, "file is empty")
 	}
 	var doc yaml.Node
 	if err := yaml.Unmarshal(data, &doc); err != nil {
-		return nil, p.errf(nil, "not valid YAML: %s", strings.TrimPrefix(err.Error(), "yaml: "))
+		return nil, p.wrapf(ErrSyntax, err, nil, "not valid YAML: %s", strings.TrimPrefix(err.Error(), "yaml: "))
 	}
 	if len(doc.Content) != 1 || doc.Content[0].Kind != yaml.MappingNode {
-		return nil, p.errf(&doc, "a plan must be a mapping of keys such as model, cohort and criteria")
+		return nil, p.errf(ErrSyntax, &doc, "a plan must be a mapping of keys such as model, cohort and criteria")
 	}
 	pl := &Plan{File: name, Set: map[string]bool{}}
 	root := doc.Content[0]
@@ -118,23 +166,29 @@ func Parse(name string, data []byte) (*Plan, error) {
 
 type parser struct{ file string }
 
-func (p *parser) errf(n *yaml.Node, format string, args ...any) error {
+// errf is an Error of the given kind at the line of n (no line for nil).
+func (p *parser) errf(kind error, n *yaml.Node, format string, args ...any) error {
+	return p.wrapf(kind, nil, n, format, args...)
+}
+
+// wrapf is errf with an underlying error.
+func (p *parser) wrapf(kind, err error, n *yaml.Node, format string, args ...any) error {
 	line := 0
 	if n != nil {
 		line = n.Line
 	}
-	return &Error{File: p.file, Line: line, Msg: fmt.Sprintf(format, args...)}
+	return &Error{File: p.file, Line: line, Msg: fmt.Sprintf(format, args...), Kind: kind, Err: err}
 }
 
 func (p *parser) fields(n *yaml.Node, what string, allowed []string, f func(key string, v *yaml.Node) error) error {
 	if n.Kind != yaml.MappingNode {
-		return p.errf(n, "%s must be a mapping", what)
+		return p.errf(ErrValue, n, "%s must be a mapping", what)
 	}
 	seen := map[string]bool{}
 	for i := 0; i+1 < len(n.Content); i += 2 {
 		k, v := n.Content[i], n.Content[i+1]
 		if seen[k.Value] {
-			return p.errf(k, "key %q appears twice in %s", k.Value, what)
+			return p.errf(ErrDuplicateKey, k, "key %q appears twice in %s", k.Value, what)
 		}
 		seen[k.Value] = true
 		ok := false
@@ -146,7 +200,7 @@ func (p *parser) fields(n *yaml.Node, what string, allowed []string, f func(key 
 			if c := cohort.Closest(k.Value, allowed); c != "" {
 				msg += fmt.Sprintf(" (did you mean %q?)", c)
 			}
-			return p.errf(k, "%s; allowed keys: %s", msg, strings.Join(allowed, ", "))
+			return p.errf(ErrUnknownKey, k, "%s; allowed keys: %s", msg, strings.Join(allowed, ", "))
 		}
 		if err := f(k.Value, v); err != nil {
 			return err
@@ -157,7 +211,7 @@ func (p *parser) fields(n *yaml.Node, what string, allowed []string, f func(key 
 
 func (p *parser) str(v *yaml.Node, key string) (string, error) {
 	if v.Kind != yaml.ScalarNode {
-		return "", p.errf(v, "%s must be a single value", key)
+		return "", p.errf(ErrValue, v, "%s must be a single value", key)
 	}
 	return v.Value, nil
 }
@@ -169,7 +223,7 @@ func (p *parser) num(v *yaml.Node, key string) (float64, error) {
 	}
 	x, err := strconv.ParseFloat(s, 64)
 	if err != nil {
-		return 0, p.errf(v, "%s must be a number, not %q", key, s)
+		return 0, p.wrapf(ErrValue, err, v, "%s must be a number, not %q", key, s)
 	}
 	return x, nil
 }
@@ -181,14 +235,14 @@ func (p *parser) whole(v *yaml.Node, key string) (int, error) {
 	}
 	x, err := strconv.Atoi(s)
 	if err != nil || x < 0 {
-		return 0, p.errf(v, "%s must be a whole number, not %q", key, s)
+		return 0, p.wrapf(ErrValue, err, v, "%s must be a whole number, not %q", key, s)
 	}
 	return x, nil
 }
 
 func (p *parser) strs(v *yaml.Node, key string) ([]string, error) {
 	if v.Kind != yaml.SequenceNode {
-		return nil, p.errf(v, "%s must be a list", key)
+		return nil, p.errf(ErrValue, v, "%s must be a list", key)
 	}
 	var out []string
 	for _, c := range v.Content {
@@ -241,7 +295,7 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 			for i, s := range parts {
 				x, perr := strconv.ParseFloat(s, 64)
 				if perr != nil {
-					return p.errf(v.Content[i], "classify_at: %q is not a number", s)
+					return p.wrapf(ErrValue, perr, v.Content[i], "classify_at: %q is not a number", s)
 				}
 				pl.ClassifyAt = append(pl.ClassifyAt, x)
 			}
@@ -249,7 +303,7 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 	case "rename":
 		pl.Rename = map[string]string{}
 		if v.Kind != yaml.MappingNode {
-			return p.errf(v, "rename must map each column name in the extract to the name the model uses")
+			return p.errf(ErrValue, v, "rename must map each column name in the extract to the name the model uses")
 		}
 		for i := 0; i+1 < len(v.Content); i += 2 {
 			pl.Rename[v.Content[i].Value] = v.Content[i+1].Value
@@ -277,7 +331,7 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 		err = p.sampleSize(&pl.SampleSize, v, pl.Set)
 	case "criteria":
 		if v.Kind != yaml.SequenceNode {
-			return p.errf(v, "criteria must be a list")
+			return p.errf(ErrValue, v, "criteria must be a list")
 		}
 		for _, c := range v.Content {
 			cr, err := p.criterion(c)
@@ -301,7 +355,7 @@ func (p *parser) data(d *Data, v *yaml.Node, set map[string]bool) error {
 			var s string
 			if s, err = p.str(c, k); err == nil {
 				if s != "true" && s != "false" {
-					return p.errf(c, "decimal_comma must be true or false")
+					return p.errf(ErrValue, c, "decimal_comma must be true or false")
 				}
 				d.DecimalComma = s == "true"
 			}
@@ -324,9 +378,9 @@ func (p *parser) inRange(v *yaml.Node, key string, lo, hi float64) (float64, err
 	}
 	if !(x > lo) || (hi != 0 && !(x < hi)) {
 		if hi == 0 {
-			return 0, p.errf(v, "%s must be above %g, not %g", key, lo, x)
+			return 0, p.errf(ErrValue, v, "%s must be above %g, not %g", key, lo, x)
 		}
-		return 0, p.errf(v, "%s must be strictly between %g and %g, not %g", key, lo, hi, x)
+		return 0, p.errf(ErrValue, v, "%s must be strictly between %g and %g, not %g", key, lo, hi, x)
 	}
 	return x, nil
 }
@@ -385,15 +439,15 @@ func (p *parser) anticipated(ss *samplesize.Request, v *yaml.Node) error {
 	_, sd := keys["lp_sd"]
 	switch {
 	case mean != sd:
-		return p.errf(v, "anticipated: lp_mean and lp_sd go together")
+		return p.errf(ErrConflict, v, "anticipated: lp_mean and lp_sd go together")
 	case mean && keys["event_rate"] != nil:
-		return p.errf(keys["event_rate"], "anticipated: give the linear predictor by lp_mean and lp_sd, or by event_rate and c_statistic, not both")
+		return p.errf(ErrConflict, keys["event_rate"], "anticipated: give the linear predictor by lp_mean and lp_sd, or by event_rate and c_statistic, not both")
 	case keys["event_rate"] != nil && keys["c_statistic"] == nil:
-		return p.errf(keys["event_rate"], "anticipated: event_rate needs c_statistic (the normal linear predictor is found from both), or give lp_mean and lp_sd")
+		return p.errf(ErrConflict, keys["event_rate"], "anticipated: event_rate needs c_statistic (the normal linear predictor is found from both), or give lp_mean and lp_sd")
 	case keys["event_rate"] != nil:
 		m, s, err := samplesize.NormalFor(ss.EventRate, ss.CStatistic)
 		if err != nil {
-			return p.errf(keys["c_statistic"], "anticipated: %v", strings.TrimPrefix(err.Error(), "samplesize: "))
+			return p.wrapf(ErrConflict, err, keys["c_statistic"], "anticipated: %v", strings.TrimPrefix(err.Error(), "samplesize: "))
 		}
 		ss.LPMean, ss.LPSD, ss.FromEventRate = m, s, true
 	}
@@ -421,7 +475,7 @@ func (p *parser) criterion(n *yaml.Node) (validate.Criterion, error) {
 			c.Contains = &x
 		case "between":
 			if v.Kind != yaml.SequenceNode || len(v.Content) != 2 {
-				return p.errf(v, "between takes two numbers: [low, high]")
+				return p.errf(ErrValue, v, "between takes two numbers: [low, high]")
 			}
 			var b [2]float64
 			for i := range b {
@@ -441,7 +495,7 @@ func (p *parser) criterion(n *yaml.Node) (validate.Criterion, error) {
 		return c, err
 	}
 	if err := c.Check(); err != nil {
-		return c, p.errf(n, "%v", err)
+		return c, p.wrapf(ErrCriterion, err, n, "%v", err)
 	}
 	return c, nil
 }
