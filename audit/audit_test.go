@@ -264,3 +264,35 @@ func TestParquetAuditMatchesCSV(t *testing.T) {
 		}
 	}
 }
+
+// TestErrorKinds: Run's errors keep their kinds and causes for
+// errors.Is and errors.As.
+func TestErrorKinds(t *testing.T) {
+	d := fixture.WriteDemo(t, t.TempDir())
+	oneOutcome := filepath.Join(d.Dir, "one-outcome.csv")
+	if err := os.WriteFile(oneOutcome, []byte("risk,died\n0.1,no\n0.2,no\n0.3,no\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	pred := &audit.Predicted{Column: "risk", Outcome: "died", Event: "yes"}
+	for _, tc := range []struct {
+		name string
+		cfg  audit.Config
+		kind []error
+	}{
+		{"missing cohort file", audit.Config{Model: d.Frozen, Cohort: audit.Input{Path: filepath.Join(d.Dir, "absent.csv")}},
+			[]error{cohort.ErrRead, os.ErrNotExist}},
+		{"recipe without development data", audit.Config{Model: d.Recipe, Cohort: audit.Input{Path: d.Later}}, []error{model.ErrNotFrozen}},
+		{"one outcome", audit.Config{Predicted: pred, Cohort: audit.Input{Path: oneOutcome}}, []error{cohort.ErrOutcome}},
+	} {
+		_, err := audit.Run(context.Background(), tc.cfg)
+		for _, k := range tc.kind {
+			if !errors.Is(err, k) {
+				t.Errorf("%s: %v is not %v", tc.name, err, k)
+			}
+		}
+	}
+	_, err := audit.Compare(context.Background(), audit.CompareConfig{Models: []string{d.Recipe, d.Frozen}, Cohort: audit.Input{Path: d.Later}})
+	if !errors.Is(err, model.ErrNotFrozen) {
+		t.Errorf("compare with a recipe: %v", err)
+	}
+}

@@ -55,12 +55,12 @@ func Compare(ctx context.Context, cfg CompareConfig) (*Comparison, error) {
 			return nil, err
 		}
 		if !sp.Frozen() {
-			return nil, &model.SpecError{File: m, Msg: "compare needs frozen models; fit this recipe first"}
+			return nil, &model.SpecError{File: m, Msg: "compare needs frozen models; fit this recipe first", Kind: model.ErrNotFrozen}
 		}
 		specs = append(specs, sp)
 	}
 	if len(specs) == 2 && (specs[0].Outcome.Column != specs[1].Outcome.Column || specs[0].Outcome.Event.Text != specs[1].Outcome.Event.Text) {
-		return nil, &model.SpecError{File: cfg.Models[1], Msg: "the two models have different outcomes"}
+		return nil, &model.SpecError{File: cfg.Models[1], Msg: "the two models have different outcomes", Kind: model.ErrConflict}
 	}
 	var reqs []cohort.Request
 	seen := map[string]bool{}
@@ -86,7 +86,7 @@ func Compare(ctx context.Context, cfg CompareConfig) (*Comparison, error) {
 	cmp, err := validate.Compare(ctx, y, risks[0], risks[1], cfg.Measures)
 	if err != nil {
 		if errors.Is(err, validate.ErrOneOutcome) {
-			return nil, &cohort.Error{File: cfg.Cohort.Path, Msg: "the complete rows have only one outcome; both are needed" /*ERRMERGE, Err: err*/}
+			return nil, &cohort.Error{File: cfg.Cohort.Path, Msg: "the complete rows have only one outcome; both are needed", Kind: cohort.ErrOutcome, Err: err}
 		}
 		return nil, err
 	}

@@ -1,7 +1,6 @@
 package audit
 
 import (
-	"errors"
 	"fmt"
 	"os"
 	"time"
@@ -134,10 +133,6 @@ func (e *ConfigError) Error() string { return e.Msg }
 func configErrorf(format string, args ...any) error {
 	return &ConfigError{Msg: fmt.Sprintf(format, args...)}
 }
-
-// ErrRecipeWithoutData is the error (within a *model.SpecError) of a
-// recipe given to audit without development data to fit it on.
-var ErrRecipeWithoutData = errors.New("a recipe needs development data to be fitted")
 
 // model reports whether the audit has a model (rather than a column of
 // risks).

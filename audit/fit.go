@@ -126,7 +126,7 @@ func fitFrame(spec, reduced *model.Spec, fr *cohort.Frame, hash string, cfg FitC
 			return nil, fmt.Errorf("the reduced model %s: %w", cfg.Reduced, err)
 		}
 		if r.Report.Nested, err = model.CompareNested(r.Fitted, red); err != nil {
-			return nil, &model.SpecError{File: cfg.Reduced, Msg: err.Error()}
+			return nil, &model.SpecError{File: cfg.Reduced, Msg: err.Error(), Kind: model.ErrNotNested, Err: err}
 		}
 	}
 	r.Frozen = r.Fitted.Freeze(model.Provenance{
@@ -155,7 +155,7 @@ func LoadFrozen(path string) (*model.Spec, error) {
 		return nil, err
 	}
 	if !spec.Frozen() {
-		return nil, &model.SpecError{File: path, Msg: "this is a recipe (it has no intercept): fit it first with 'riskaudit fit'"}
+		return nil, &model.SpecError{File: path, Msg: "this is a recipe (it has no intercept): fit it first with 'riskaudit fit'", Kind: model.ErrNotFrozen}
 	}
 	return spec, nil
 }
@@ -253,7 +253,7 @@ const (
 func (s *Scores) File(path, format string, decimalComma bool) ([]byte, error) {
 	for _, name := range []string{LPColumn, RiskColumn} {
 		if slices.Contains(s.Frame.Header, name) {
-			return nil, &cohort.Error{File: path, Line: 1, Column: name, Msg: "the file already has this column, which score would append; rename it or score the original extract"}
+			return nil, &cohort.Error{File: path, Line: 1, Column: name, Msg: "the file already has this column, which score would append; rename it or score the original extract", Kind: cohort.ErrDuplicateColumn}
 		}
 	}
 	names, values := []string{LPColumn, RiskColumn}, [][]float64{s.LP, model.Risks(s.LP)}

@@ -147,7 +147,7 @@ func (r *run) loadModel() error {
 		return err
 	}
 	if !r.spec.Frozen() && !c.Dev.given() {
-		return &model.SpecError{File: c.Model, Msg: "this is a recipe (it has no intercept): give the development data with --dev to fit it, or fit it first with 'riskaudit fit'" /*ERRMERGE, Err: ErrRecipeWithoutData*/}
+		return &model.SpecError{File: c.Model, Msg: "this is a recipe (it has no intercept): give the development data with --dev to fit it, or fit it first with 'riskaudit fit'", Kind: model.ErrNotFrozen}
 	}
 	if c.Model != "" && c.Spec == nil {
 		r.modelHash, r.modelErr = fileSHA256(c.Model)

@@ -173,7 +173,7 @@ func scoredLinearPredictors(ctx context.Context, cfg SizeConfig) ([]float64, str
 		}
 	}
 	if len(lp) < 10 {
-		return nil, "", &cohort.Error{File: cfg.Data.Path, Msg: fmt.Sprintf("only %d complete rows: the linear predictor's distribution needs at least 10", len(lp))}
+		return nil, "", &cohort.Error{File: cfg.Data.Path, Msg: fmt.Sprintf("only %d complete rows: the linear predictor's distribution needs at least 10", len(lp)), Kind: cohort.ErrMissing}
 	}
 	mean, sd := stat.MeanStdDev(lp, nil)
 	return lp, fmt.Sprintf("Linear predictor of %s on %d rows of %s (mean %.3f, SD %.3f)", cfg.Model, len(lp), cfg.Data.Path, mean, sd), nil

@@ -4,6 +4,7 @@ import (
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
+	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -170,7 +171,7 @@ func predictedRisks(fr *cohort.Frame, name string, rows []int) ([]float64, error
 		v := col.Num[i]
 		if !(v >= 0 && v <= 1) {
 			return nil, &cohort.Error{File: fr.File, Line: fr.Line(i), Row: fr.RowNumbered, Column: name,
-				Value: strconv.FormatFloat(v, 'g', -1, 64), HasValue: true, Msg: "a predicted risk must lie between 0 and 1"}
+				Value: strconv.FormatFloat(v, 'g', -1, 64), HasValue: true, Msg: "a predicted risk must lie between 0 and 1", Kind: cohort.ErrDomain}
 		}
 		p[r] = v
 	}
@@ -182,7 +183,11 @@ func predictedRisks(fr *cohort.Frame, name string, rows []int) ([]float64, error
 func assess(sc *scored, opt validate.Options) (*validate.Performance, error) {
 	perf, err := validate.AssessLogits(sc.y, sc.p, sc.lp, opt)
 	if err != nil {
-		return nil, &cohort.Error{File: sc.file, Msg: err.Error() /*ERRMERGE*/}
+		kind := cohort.ErrOutcome
+		if errors.As(err, new(*validate.RiskError)) {
+			kind = cohort.ErrDomain
+		}
+		return nil, &cohort.Error{File: sc.file, Msg: err.Error(), Kind: kind, Err: err}
 	}
 	c := &perf.Cohort
 	c.Rows, c.Excluded, c.ExcludedByColumn = sc.summary.Rows, sc.summary.Excluded, sc.summary.ExcludedByColumn

@@ -69,7 +69,8 @@ var (
 	// does not know.
 	ErrLevel = errors.New("cohort: unknown level")
 	// ErrDomain is a value outside the domain of its term's transform,
-	// such as a log of a value that is not positive.
+	// such as a log of a value that is not positive, or a predicted risk
+	// outside [0, 1].
 	ErrDomain = errors.New("cohort: value outside the transform's domain")
 )
 
