@@ -2,6 +2,7 @@ package cohort
 
 import (
 	"bytes"
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -146,21 +147,39 @@ func (f *Frame) HeaderRecord() []byte {
 // never written. Large files are memory-mapped while they are parsed
 // (unless Options.KeepRecords asks for the raw text to be kept).
 func Load(path string, reqs []Request, opt Options) (*Frame, error) {
+	return LoadContext(context.Background(), path, reqs, opt)
+}
+
+// LoadContext is Load with a context: a cancelled or expired ctx stops
+// the read within one chunk (65,536 rows of text, one record batch of a
+// columnar file) and returns context.Cause(ctx).
+func LoadContext(ctx context.Context, path string, reqs []Request, opt Options) (*Frame, error) {
+	fr, err := load(ctx, path, reqs, opt)
+	if err != nil && ctx.Err() != nil {
+		return nil, context.Cause(ctx)
+	}
+	return fr, err
+}
+
+func load(ctx context.Context, path string, reqs []Request, opt Options) (*Frame, error) {
+	if ctx.Err() != nil {
+		return nil, ctx.Err()
+	}
 	switch opt.Format {
 	case "parquet":
-		return LoadParquet(path, reqs, opt)
+		return loadParquet(ctx, path, reqs, opt)
 	case "arrow":
-		return LoadArrow(path, reqs, opt)
+		return loadArrow(ctx, path, reqs, opt)
 	case "", "auto":
 		pq, ar := isParquet(path), isArrow(path)
 		if (pq || ar) && opt.KeepRecords {
 			return nil, &Error{File: path, Msg: "a columnar file has no text rows to copy; give a CSV or TSV file", Kind: ErrFormat}
 		}
 		if pq {
-			return LoadParquet(path, reqs, opt)
+			return loadParquet(ctx, path, reqs, opt)
 		}
 		if ar {
-			return LoadArrow(path, reqs, opt)
+			return loadArrow(ctx, path, reqs, opt)
 		}
 	case "csv":
 	default:
@@ -183,12 +202,16 @@ func Load(path string, reqs []Request, opt Options) (*Frame, error) {
 		return nil, &Error{File: path, Msg: "cannot read file: " + msg, Kind: ErrRead, Err: err}
 	}
 	defer release()
-	return Parse(path, data, reqs, opt)
+	return parse(ctx, path, data, reqs, opt)
 }
 
 // Parse reads the requested columns from data, the contents of a file
 // named name. The frame may refer to data, which must not be changed.
 func Parse(name string, data []byte, reqs []Request, opt Options) (*Frame, error) {
+	return parse(context.Background(), name, data, reqs, opt)
+}
+
+func parse(ctx context.Context, name string, data []byte, reqs []Request, opt Options) (*Frame, error) {
 	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
 	if len(bytes.TrimSpace(data)) == 0 {
 		return nil, &Error{File: name, Msg: "file is empty", Kind: ErrEmpty}
@@ -218,7 +241,7 @@ func Parse(name string, data []byte, reqs []Request, opt Options) (*Frame, error
 		return nil, err
 	}
 	p := parser{
-		name: name, ncol: len(header), plan: plan, nreq: len(reqs), delim: delim,
+		ctx: ctx, name: name, ncol: len(header), plan: plan, nreq: len(reqs), delim: delim,
 		missing: opt.Missing, dec: '.', keep: opt.KeepRecords,
 		header: header, kinds: make([]Kind, len(header)), nanErr: make([]bool, len(header)),
 	}

@@ -45,6 +45,10 @@ func isParquet(path string) bool {
 // Request.NaNIsError) and an infinite value is an error. Errors name the
 // file, the 1-based row, the column and the value.
 func LoadParquet(path string, reqs []Request, opt Options) (*Frame, error) {
+	return loadParquet(context.Background(), path, reqs, opt)
+}
+
+func loadParquet(ctx context.Context, path string, reqs []Request, opt Options) (*Frame, error) {
 	fr, closeFile, err := openParquet(path, pqarrow.ArrowReadProperties{BatchSize: 1 << 16, Parallel: true})
 	if err != nil {
 		return nil, err
@@ -56,12 +60,15 @@ func LoadParquet(path string, reqs []Request, opt Options) (*Frame, error) {
 		return nil, &Error{File: path, Msg: "cannot read the Parquet schema: " + err.Error(), Kind: ErrFormat, Err: err}
 	}
 	return fromBatches(path, schema, reqs, opt, int(pf.NumRows()), func(idx []int, each func(arrow.Record) error) error {
-		rr, err := fr.GetRecordReader(context.Background(), idx, nil)
+		rr, err := fr.GetRecordReader(ctx, idx, nil)
 		if err != nil {
 			return err
 		}
 		defer rr.Release()
 		for rr.Next() {
+			if err := ctx.Err(); err != nil {
+				return err
+			}
 			if err := each(rr.Record()); err != nil {
 				return err
 			}
@@ -77,6 +84,10 @@ func LoadParquet(path string, reqs []Request, opt Options) (*Frame, error) {
 // file format, also written as Feather version 2), batch by batch, with
 // the rules of LoadParquet.
 func LoadArrow(path string, reqs []Request, opt Options) (*Frame, error) {
+	return loadArrow(context.Background(), path, reqs, opt)
+}
+
+func loadArrow(ctx context.Context, path string, reqs []Request, opt Options) (*Frame, error) {
 	r, closeFile, err := openArrow(path)
 	if err != nil {
 		return nil, err
@@ -84,6 +95,9 @@ func LoadArrow(path string, reqs []Request, opt Options) (*Frame, error) {
 	defer closeFile()
 	return fromBatches(path, r.Schema(), reqs, opt, 0, func(idx []int, each func(arrow.Record) error) error {
 		for i := 0; i < r.NumRecords(); i++ {
+			if err := ctx.Err(); err != nil {
+				return err
+			}
 			rec, err := r.Record(i)
 			if err != nil {
 				return err

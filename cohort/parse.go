@@ -2,6 +2,7 @@ package cohort
 
 import (
 	"bytes"
+	"context"
 	"math"
 	"runtime"
 	"strconv"
@@ -10,6 +11,8 @@ import (
 )
 
 type parser struct {
+	// ctx stops the parse when it is done (checked every 65,536 rows).
+	ctx     context.Context
 	name    string
 	ncol    int
 	plan    []int // request index by header position, -1 for none
@@ -204,6 +207,10 @@ func (p *parser) parse(sc *scanner, pt *part) {
 			return
 		}
 		if !ok {
+			return
+		}
+		if row&0xffff == 0 && p.ctx.Err() != nil {
+			pt.err = p.ctx.Err()
 			return
 		}
 		if len(sc.fields) != p.ncol {
