@@ -34,8 +34,8 @@ type CompareConfig struct {
 	Tool, CommandLine string
 }
 
-// Comparison is a finished comparison and its figure.
-type Comparison struct {
+// CompareResult is a finished comparison and its figure.
+type CompareResult struct {
 	Comparison *validate.Comparison
 	Figure     plots.Figure
 }
@@ -44,7 +44,7 @@ type Comparison struct {
 // the two models on them (validate.Compare). Errors are as for Run; a
 // cohort whose complete rows have one outcome only is a *cohort.Error
 // wrapping a *validate.OutcomesError.
-func Compare(ctx context.Context, cfg CompareConfig) (*Comparison, error) {
+func Compare(ctx context.Context, cfg CompareConfig) (*CompareResult, error) {
 	if !(len(cfg.Models) == 2 && cfg.Predicted == "" || len(cfg.Models) == 1 && cfg.Predicted != "") {
 		return nil, configErrorf("give --model twice, or --model once and --predicted")
 	}
@@ -105,7 +105,7 @@ func Compare(ctx context.Context, cfg CompareConfig) (*Comparison, error) {
 	if err != nil {
 		return nil, err
 	}
-	return &Comparison{Comparison: cmp, Figure: fig}, nil
+	return &CompareResult{Comparison: cmp, Figure: fig}, nil
 }
 
 // scoreBoth returns the outcomes and both models' risks on the rows
@@ -143,7 +143,7 @@ func scoreBoth(fr *cohort.Frame, specs []*model.Spec, reqs []cohort.Request, cfg
 
 // WriteComparison writes compare.md, compare.json and the decision
 // curves into dir (created if absent), all or nothing.
-func WriteComparison(dir string, c *Comparison) error {
+func WriteComparison(dir string, c *CompareResult) error {
 	if err := CheckOutputDir(dir); err != nil {
 		return err
 	}

@@ -1,9 +1,10 @@
 // Package audit runs riskaudit's pipelines as library calls: the audit of
 // a model on a cohort (Run), the comparison of two models on one cohort
-// (Compare), fitting a recipe into a frozen model (Fit) and scoring data
-// with a frozen model (Score). The command line is one thin client of
-// it; a monitoring service, a scheduled job written in Go or a test is
-// another.
+// (Compare), fitting a recipe into a frozen model (Fit), scoring data
+// with a frozen model (Score), planning the sample size of a validation
+// (PlanSize) and the trend of a history store (ReadTrend). The command
+// line is one thin client of it; a monitoring service, a scheduled job
+// written in Go or a test is another.
 //
 // The data flow of an audit is
 //
