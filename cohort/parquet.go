@@ -9,8 +9,10 @@ import (
 	"io/fs"
 	"math"
 	"os"
+	"runtime"
 	"strconv"
 	"strings"
+	"sync"
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
@@ -36,101 +38,240 @@ func isParquet(path string) bool {
 }
 
 // LoadParquet reads the requested columns of an Apache Parquet file with
-// the Apache Arrow Go library, in batches, so that memory holds the
-// requested columns and one batch. Typed columns keep their types: a
-// numeric request takes integer, floating-point and boolean columns (and
-// text, parsed as in CSV); a categorical request takes text and
-// dictionary columns (and numbers, as text). Nulls are missing values, as
-// are the missing markers in text columns; NaN is a missing value (unless
-// Request.NaNIsError) and an infinite value is an error. Errors name the
-// file, the 1-based row, the column and the value.
+// the Apache Arrow Go library, column by column in batches (columns in
+// parallel), so that memory holds the requested columns and one batch of
+// each. Typed columns keep their types: a numeric request takes integer,
+// floating-point and boolean columns (and text, parsed as in CSV); a
+// categorical request takes text and dictionary columns (and numbers, as
+// text). Nulls are missing values, as are the missing markers in text
+// columns; NaN is a missing value (unless Request.NaNIsError) and an
+// infinite value is an error. Errors name the file, the 1-based row, the
+// column and the value.
+//
+// A damaged or truncated file is an *Error of kind ErrFormat ("not a
+// readable Parquet file: …"), never a panic: the footer's row groups
+// and column chunks are checked against the file's size, every array the
+// reader decodes is validated before it is read, and the decoding runs
+// inside recover boundaries, in goroutines of this package only.
 func LoadParquet(path string, reqs []Request, opt Options) (*Frame, error) {
 	return loadParquet(context.Background(), path, reqs, opt)
 }
 
-func loadParquet(ctx context.Context, path string, reqs []Request, opt Options) (*Frame, error) {
-	fr, closeFile, err := openParquet(path, pqarrow.ArrowReadProperties{BatchSize: 1 << 16, Parallel: true})
+// batchRows is the number of rows a columnar reader decodes at a time.
+const batchRows = 1 << 16
+
+func loadParquet(ctx context.Context, path string, reqs []Request, opt Options) (out *Frame, err error) {
+	defer recoverDecode(path, "Parquet", &err)
+	pr, closeFile, err := openParquet(path, pqarrow.ArrowReadProperties{BatchSize: batchRows})
 	if err != nil {
 		return nil, err
 	}
 	defer closeFile()
-	pf := fr.ParquetReader()
-	schema, err := fr.Schema()
+	schema, err := pr.Schema()
 	if err != nil {
-		return nil, &Error{File: path, Msg: "cannot read the Parquet schema: " + err.Error(), Kind: ErrFormat, Err: err}
+		return nil, formatError(path, "Parquet", err)
 	}
-	return fromBatches(path, schema, reqs, opt, int(pf.NumRows()), func(idx []int, each func(arrow.Record) error) error {
-		rr, err := fr.GetRecordReader(ctx, idx, nil)
+	nrows := pr.ParquetReader().NumRows()
+	l, err := newLayout(path, "Parquet", schema, reqs, opt, int(min(nrows, 1<<24)))
+	if err != nil {
+		return nil, err
+	}
+	type job struct {
+		k   int
+		rdr *pqarrow.ColumnReader
+	}
+	var jobs []job
+	for _, i := range l.idx {
+		if k := l.plan[i]; l.cols[k].Index == i {
+			cr, err := pr.GetColumn(ctx, i)
+			if err != nil {
+				return nil, formatError(path, "Parquet", err)
+			}
+			defer cr.Release()
+			jobs = append(jobs, job{k, cr})
+		}
+	}
+	errs := make([]error, len(jobs))
+	rows := make([]int, len(jobs))
+	workers := opt.Workers
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	sem := make(chan struct{}, workers)
+	var wg sync.WaitGroup
+	for j, jb := range jobs {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			sem <- struct{}{}
+			defer func() { <-sem }()
+			defer recoverDecode(path, "Parquet", &errs[j])
+			rows[j], errs[j] = l.readColumn(ctx, jb.k, jb.rdr, reqs[jb.k].NaNIsError)
+		}()
+	}
+	wg.Wait()
+	for _, err := range errs {
 		if err != nil {
-			return err
+			return nil, err
 		}
-		defer rr.Release()
-		for rr.Next() {
-			if err := ctx.Err(); err != nil {
-				return err
+	}
+	for _, r := range rows {
+		if int64(r) != nrows {
+			return nil, formatError(path, "Parquet", fmt.Errorf("a column holds %d values, but the file says %d rows", r, nrows))
+		}
+	}
+	return l.frame(int(nrows), reqs)
+}
+
+// readColumn reads every batch of one column into request k's column and
+// returns the number of rows read.
+func (l *layout) readColumn(ctx context.Context, k int, cr *pqarrow.ColumnReader, nanErr bool) (int, error) {
+	row := 0
+	for {
+		if err := ctx.Err(); err != nil {
+			return row, err
+		}
+		ch, err := cr.NextBatch(batchRows)
+		if err != nil {
+			return row, formatError(l.path, "Parquet", err)
+		}
+		if ch.Len() == 0 {
+			ch.Release()
+			return row, nil
+		}
+		for _, arr := range ch.Chunks() {
+			if err := l.append(k, arr, row, nanErr); err != nil {
+				ch.Release()
+				return row, err
 			}
-			if err := each(rr.Record()); err != nil {
-				return err
-			}
+			row += arr.Len()
 		}
-		if err := rr.Err(); err != nil && !errors.Is(err, io.EOF) {
-			return err
-		}
-		return nil
-	}, true)
+		ch.Release()
+	}
 }
 
 // LoadArrow reads the requested columns of an Arrow IPC file (the Arrow
 // file format, also written as Feather version 2), batch by batch, with
-// the rules of LoadParquet.
+// the rules of LoadParquet: every record batch is validated before it is
+// read, and a damaged file is an *Error of kind ErrFormat ("not a
+// readable Arrow IPC file: …"), never a panic.
 func LoadArrow(path string, reqs []Request, opt Options) (*Frame, error) {
 	return loadArrow(context.Background(), path, reqs, opt)
 }
 
-func loadArrow(ctx context.Context, path string, reqs []Request, opt Options) (*Frame, error) {
+func loadArrow(ctx context.Context, path string, reqs []Request, opt Options) (out *Frame, err error) {
+	defer recoverDecode(path, "Arrow IPC", &err)
 	r, closeFile, err := openArrow(path)
 	if err != nil {
 		return nil, err
 	}
 	defer closeFile()
-	return fromBatches(path, r.Schema(), reqs, opt, 0, func(idx []int, each func(arrow.Record) error) error {
-		for i := 0; i < r.NumRecords(); i++ {
-			if err := ctx.Err(); err != nil {
-				return err
+	l, err := newLayout(path, "Arrow IPC", r.Schema(), reqs, opt, 0)
+	if err != nil {
+		return nil, err
+	}
+	row := 0
+	for b := 0; b < r.NumRecords(); b++ {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		rec, err := r.Record(b)
+		if err != nil {
+			return nil, formatError(path, "Arrow IPC", err)
+		}
+		if int(rec.NumCols()) != len(l.header) {
+			return nil, formatError(path, "Arrow IPC", fmt.Errorf("record batch %d has %d columns, the schema %d", b, rec.NumCols(), len(l.header)))
+		}
+		n := int(rec.NumRows())
+		for _, i := range l.idx {
+			k := l.plan[i]
+			if l.cols[k].Index != i {
+				continue
 			}
-			rec, err := r.Record(i)
-			if err != nil {
-				return err
+			arr := rec.Column(i)
+			if arr.Len() != n {
+				return nil, formatError(path, "Arrow IPC", fmt.Errorf("record batch %d: column %q holds %d values for %d rows", b, l.header[i], arr.Len(), n))
 			}
-			if err := each(rec); err != nil {
-				return err
+			if err := l.append(k, arr, row, reqs[k].NaNIsError); err != nil {
+				return nil, err
 			}
 		}
-		return nil
-	}, false)
+		row += n
+	}
+	return l.frame(row, reqs)
 }
 
-// openParquet opens a Parquet file for reading as Arrow data; close
-// releases it.
+// openParquet opens a Parquet file for reading as Arrow data, after
+// checking its footer against the file's size; close releases it. Only
+// readers whose goroutines recover from panics may be made with
+// props.Parallel (the table reader's do; the record reader's do not).
 func openParquet(path string, props pqarrow.ArrowReadProperties) (fr *pqarrow.FileReader, close func(), err error) {
+	defer recoverDecode(path, "Parquet", &err)
 	pf, err := file.OpenParquetFile(path, true)
 	if err != nil {
-		kind := ErrFormat
 		if errors.As(err, new(*fs.PathError)) {
-			kind = ErrRead // the file could not be opened or read
+			return nil, nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error(), Kind: ErrRead, Err: err}
 		}
-		return nil, nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error(), Kind: kind, Err: err}
+		return nil, nil, formatError(path, "Parquet", err)
+	}
+	if err := checkFooter(path, pf); err != nil {
+		pf.Close()
+		return nil, nil, formatError(path, "Parquet", err)
 	}
 	fr, err = pqarrow.NewFileReader(pf, props, memory.DefaultAllocator)
 	if err != nil {
 		pf.Close()
-		return nil, nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error(), Kind: ErrFormat, Err: err}
+		return nil, nil, formatError(path, "Parquet", err)
 	}
 	return fr, func() { pf.Close() }, nil
 }
 
+// checkFooter checks what a Parquet footer says against the file: row
+// counts that are not negative and add up, and every column chunk inside
+// the file.
+func checkFooter(path string, pf *file.Reader) error {
+	st, err := os.Stat(path)
+	if err != nil {
+		return err
+	}
+	size := st.Size()
+	md := pf.MetaData()
+	if md.NumRows < 0 {
+		return fmt.Errorf("the footer says %d rows", md.NumRows)
+	}
+	var rows int64
+	for g := 0; g < md.NumRowGroups(); g++ {
+		rg := md.RowGroup(g)
+		if rg.NumRows() < 0 {
+			return fmt.Errorf("row group %d says %d rows", g, rg.NumRows())
+		}
+		rows += rg.NumRows()
+		for c := 0; c < rg.NumColumns(); c++ {
+			cc, err := rg.ColumnChunk(c)
+			if err != nil {
+				return err
+			}
+			start := cc.DataPageOffset()
+			if cc.HasDictionaryPage() && cc.DictionaryPageOffset() > 0 {
+				start = min(start, cc.DictionaryPageOffset())
+			}
+			if n := cc.TotalCompressedSize(); start < 0 || n < 0 || start > size || n > size-start {
+				return fmt.Errorf("row group %d, column %d lies outside the file (offset %d, %d bytes, file %d bytes)", g, c, start, n, size)
+			}
+			if cc.NumValues() < 0 {
+				return fmt.Errorf("row group %d, column %d says %d values", g, c, cc.NumValues())
+			}
+		}
+	}
+	if rows != md.NumRows {
+		return fmt.Errorf("the row groups hold %d rows, the footer says %d", rows, md.NumRows)
+	}
+	return nil
+}
+
 // openArrow opens an Arrow IPC file; close releases it.
 func openArrow(path string) (r *ipc.FileReader, close func(), err error) {
+	defer recoverDecode(path, "Arrow IPC", &err)
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, nil, &Error{File: path, Msg: "cannot read file: " + err.Error(), Kind: ErrRead, Err: err}
@@ -138,51 +279,93 @@ func openArrow(path string) (r *ipc.FileReader, close func(), err error) {
 	r, err = ipc.NewFileReader(f)
 	if err != nil {
 		f.Close()
-		return nil, nil, &Error{File: path, Msg: "cannot read the Arrow file: " + err.Error(), Kind: ErrFormat, Err: err}
+		return nil, nil, formatError(path, "Arrow IPC", err)
 	}
 	return r, func() { r.Close(); f.Close() }, nil
 }
 
-// fromBatches builds a frame from record batches. read hands every batch
-// to its callback; when projected is true the batches hold only the
-// columns idx, in that order, otherwise every column of the schema.
-func fromBatches(path string, schema *arrow.Schema, reqs []Request, opt Options, hint int,
-	read func(idx []int, each func(arrow.Record) error) error, projected bool) (*Frame, error) {
-	header := make([]string, schema.NumFields())
+// formatError is a columnar file its reader refuses: kind ErrFormat. An
+// error that already is an *Error, or a cancelled read, is kept.
+func formatError(path, format string, err error) error {
+	if errors.As(err, new(*Error)) || errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded) {
+		return err
+	}
+	return &Error{File: path, Msg: "not a readable " + format + " file: " + firstLine(err.Error()), Kind: ErrFormat, Err: err}
+}
+
+// firstLine is the first line of s, at most 200 bytes of it.
+func firstLine(s string) string {
+	if i := strings.IndexByte(s, '\n'); i >= 0 {
+		s = s[:i]
+	}
+	if len(s) > 200 {
+		s = s[:200] + "…"
+	}
+	return s
+}
+
+// recoverDecode turns a panic in a third-party decoder (or in this
+// package's reading of what it decoded) into an *Error of kind
+// ErrFormat in *err. Deferred at the top of every function that decodes
+// a columnar file and of every goroutine that does.
+func recoverDecode(path, format string, err *error) {
+	if p := recover(); p != nil {
+		*err = &Error{File: path, Msg: fmt.Sprintf("not a readable %s file: the reader failed (%v)", format, firstLine(fmt.Sprint(p))), Kind: ErrFormat,
+			Err: fmt.Errorf("panic while decoding: %v", p)}
+	}
+}
+
+// layout is how a columnar file's columns map to the requests, and the
+// columns being filled.
+type layout struct {
+	path    string
+	format  string
+	header  []string
+	plan    []int // request index by file column, −1 for none
+	idx     []int // the file columns read
+	cols    []*Column
+	levels  []map[string]int32
+	missing []string
+	dec     byte
+}
+
+// newLayout checks the schema against the requests and makes the
+// columns to fill, with room for hint rows.
+func newLayout(path, format string, schema *arrow.Schema, reqs []Request, opt Options, hint int) (*layout, error) {
+	l := &layout{path: path, format: format, header: make([]string, schema.NumFields()), missing: opt.Missing, dec: '.'}
 	for i, f := range schema.Fields() {
-		header[i] = f.Name
+		l.header[i] = f.Name
 		if to, ok := opt.Rename[f.Name]; ok {
-			header[i] = to
+			l.header[i] = to
 		}
 	}
-	if err := checkHeader(path, 0, header); err != nil {
+	if err := checkHeader(path, 0, l.header); err != nil {
 		return nil, err
 	}
-	plan, err := planColumns(path, header, reqs)
-	if err != nil {
+	var err error
+	if l.plan, err = planColumns(path, l.header, reqs); err != nil {
 		return nil, err
 	}
-	var idx []int
-	for i, k := range plan {
+	for i, k := range l.plan {
 		if k >= 0 {
 			if _, nested := schema.Field(i).Type.(arrow.NestedType); nested {
-				return nil, &Error{File: path, Column: header[i], Msg: "a nested column; give a flat column", Kind: ErrFormat}
+				return nil, &Error{File: path, Column: l.header[i], Msg: "a nested column; give a flat column", Kind: ErrFormat}
 			}
-			idx = append(idx, i)
+			l.idx = append(l.idx, i)
 		}
 	}
-	missing := opt.Missing
-	if missing == nil {
-		missing = DefaultMissing
+	if l.missing == nil {
+		l.missing = DefaultMissing
 	}
-	dec := byte('.')
 	if opt.DecimalComma {
-		dec = ','
+		l.dec = ','
 	}
-	cols := make([]*Column, len(reqs))
+	hint = max(hint, 0)
+	l.cols = make([]*Column, len(reqs))
+	l.levels = make([]map[string]int32, len(reqs))
 	for k, r := range reqs {
 		c := &Column{Name: r.Name, Kind: r.Kind, Index: -1}
-		for i, h := range header {
+		for i, h := range l.header {
 			if h == r.Name && c.Index < 0 {
 				c.Index = i
 			}
@@ -192,60 +375,84 @@ func fromBatches(path string, schema *arrow.Schema, reqs []Request, opt Options,
 		} else {
 			c.Codes = make([]int32, 0, hint)
 		}
-		cols[k] = c
+		l.cols[k] = c
+		l.levels[k] = map[string]int32{}
 	}
-	levels := make([]map[string]int32, len(reqs))
-	for k := range levels {
-		levels[k] = map[string]int32{}
+	return l, nil
+}
+
+// append adds the values of arr, the rows from row0 of request k's
+// column, after checking that the array is well formed.
+func (l *layout) append(k int, arr arrow.Array, row0 int, nanErr bool) error {
+	if err := validArray(arr); err != nil {
+		return formatError(l.path, l.format, fmt.Errorf("column %q, rows from %d: %w", l.cols[k].Name, row0+1, err))
 	}
-	row := 0
-	err = read(idx, func(rec arrow.Record) error {
-		for j, i := range idx {
-			k := plan[i]
-			if cols[k].Index != i {
-				continue
-			}
-			col := j
-			if !projected {
-				col = i
-			}
-			arr := rec.Column(col)
-			var err error
-			if cols[k].Kind == Numeric {
-				err = appendNumbers(cols[k], arr, row, path, missing, dec, reqs[k].NaNIsError)
-			} else {
-				err = appendLevels(cols[k], arr, row, levels[k], missing)
-			}
-			if err != nil {
-				return err
-			}
-		}
-		row += int(rec.NumRows())
-		return nil
-	})
-	if err != nil {
-		var ce *Error
-		if errors.As(err, &ce) {
-			return nil, err
-		}
-		return nil, &Error{File: path, Msg: "reading the data: " + err.Error(), Kind: ErrFormat, Err: err}
+	if l.cols[k].Kind == Numeric {
+		return appendNumbers(l.cols[k], arr, row0, l.path, l.missing, l.dec, nanErr)
 	}
-	if row == 0 {
-		return nil, &Error{File: path, Msg: "the file has no rows", Kind: ErrEmpty}
+	return appendLevels(l.cols[k], arr, row0, l.levels[k], l.missing)
+}
+
+// frame makes the frame of rows rows from the filled columns; a request
+// for a column another request also reads shares its values.
+func (l *layout) frame(rows int, reqs []Request) (*Frame, error) {
+	if rows == 0 {
+		return nil, &Error{File: l.path, Msg: "the file has no rows", Kind: ErrEmpty}
 	}
-	out := &Frame{File: path, Header: header, Rows: row, RowNumbered: true, lines: make([]int32, row)}
+	out := &Frame{File: l.path, Header: l.header, Rows: rows, RowNumbered: true, lines: make([]int32, rows)}
 	for i := range out.lines {
 		out.lines[i] = int32(i + 1)
 	}
-	for k, c := range cols {
-		if k0 := plan[c.Index]; k0 != k {
-			src := cols[k0]
+	for k, c := range l.cols {
+		if k0 := l.plan[c.Index]; k0 != k {
+			src := l.cols[k0]
 			*c = *src
 			c.Name = reqs[k].Name
 		}
 	}
-	out.Columns = cols
+	out.Columns = l.cols
 	return out, nil
+}
+
+// validArray checks what reading arr relies on: a validity bitmap long
+// enough for its rows, offsets of text that run forwards within the
+// data, and dictionary indices within the dictionary.
+func validArray(arr arrow.Array) error {
+	d := arr.Data()
+	if d.Len() < 0 || d.Offset() < 0 {
+		return fmt.Errorf("an array of length %d at offset %d", d.Len(), d.Offset())
+	}
+	bufs := d.Buffers()
+	if arr.NullN() > 0 && d.DataType().ID() != arrow.NULL && (len(bufs) == 0 || bufs[0] == nil || bufs[0].Len()*8 < d.Offset()+d.Len()) {
+		return errors.New("a validity bitmap shorter than its rows")
+	}
+	if fw, ok := d.DataType().(arrow.FixedWidthDataType); ok {
+		need := ((d.Offset()+d.Len())*fw.BitWidth() + 7) / 8
+		if len(bufs) < 2 || bufs[1] == nil && d.Len() > 0 || bufs[1] != nil && bufs[1].Len() < need {
+			return fmt.Errorf("a values buffer shorter than its %d rows", d.Len())
+		}
+	}
+	switch a := arr.(type) {
+	case *array.String:
+		return a.ValidateFull()
+	case *array.LargeString:
+		return a.ValidateFull()
+	case *array.Binary:
+		return a.ValidateFull()
+	case *array.Dictionary:
+		if err := validArray(a.Dictionary()); err != nil {
+			return err
+		}
+		n := a.Dictionary().Len()
+		for i := 0; i < a.Len(); i++ {
+			if a.IsValid(i) {
+				if j := a.GetValueIndex(i); j < 0 || j >= n {
+					return fmt.Errorf("dictionary index %d of a dictionary of %d values", j, n)
+				}
+			}
+		}
+	}
+	return nil
 }
 
 // isArrow reports whether the file at path starts with the Arrow IPC
