@@ -112,23 +112,6 @@ func OE(y, p []float64) (oe float64, ci [2]float64, observed, expected float64) 
 	return oe, [2]float64{oe * math.Exp(-h), oe * math.Exp(h)}, observed, expected
 }
 
-// Brier is the Brier score, the mean of (p − y)² (Brier 1950, Monthly
-// Weather Review 78:1–3), and the scaled Brier score
-// 1 − Brier / (ȳ(1 − ȳ)), which compares it with a model that gives every
-// row the observed event rate ȳ (Steyerberg et al. 2010, Epidemiology
-// 21:128–138).
-func Brier(y, p []float64) (brier, scaled float64) {
-	s, c := 0.0, 0.0
-	for i, v := range p {
-		d := v - y[i]
-		s, c = neumaier(s, c, d*d)
-	}
-	n := float64(len(y))
-	brier = (s + c) / n
-	ybar := sum(y) / n
-	return brier, 1 - brier/(ybar*(1-ybar))
-}
-
 // CalibrationWeighted returns calibration-in-the-large and the
 // calibration slope (coefficients only) with every row counted w times
 // (w nil counts each once), as for a bootstrap sample given by counts.

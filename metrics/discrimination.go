@@ -4,12 +4,6 @@ import (
 	"math"
 )
 
-// z975 is the 0.975 quantile of the standard normal distribution.
-const z975 = 1.959963984540054
-
-// Z975 is the multiplier of two-sided 95% Wald intervals.
-const Z975 = z975
-
 // AUCResult is the area under the ROC curve with its DeLong standard
 // error and 95% confidence intervals.
 type AUCResult struct {
@@ -141,40 +135,6 @@ func expit(x float64) float64 {
 	return z / (1 + z)
 }
 
-// mean is the arithmetic mean, with a compensated sum.
-func mean(x []float64) float64 { return sum(x) / float64(len(x)) }
-
-// variance is the sample variance with divisor len(x) − 1, by two passes.
-func variance(x []float64) float64 {
-	m := mean(x)
-	s, c := 0.0, 0.0
-	for _, v := range x {
-		d := v - m
-		s, c = neumaier(s, c, d*d)
-	}
-	return (s + c) / float64(len(x)-1)
-}
-
-func sum(x []float64) float64 {
-	s, c := 0.0, 0.0
-	for _, v := range x {
-		s, c = neumaier(s, c, v)
-	}
-	return s + c
-}
-
-// neumaier adds v to the running sum s with compensation c (Neumaier
-// 1974, ZAMM 54:39–51).
-func neumaier(s, c, v float64) (float64, float64) {
-	t := s + v
-	if math.Abs(s) >= math.Abs(v) {
-		c += (s - t) + v
-	} else {
-		c += (v - t) + s
-	}
-	return t, c
-}
-
 // ROCPoint is one point of an ROC curve: classifying risks ≥ Threshold as
 // events gives the true-positive rate TPR and false-positive rate FPR.
 type ROCPoint struct {
@@ -229,4 +189,30 @@ func ROC(y, p []float64, order []int, maxPoints int) []ROCPoint {
 		e = s
 	}
 	return out
+}
+
+// AUCSorted is the AUC (as in AUC) of rows already sorted by p, without
+// its standard error and without allocating.
+func AUCSorted(y, p []float64) float64 {
+	m := 0.0
+	for _, v := range y {
+		m += v
+	}
+	n := float64(len(y)) - m
+	if m == 0 || n == 0 {
+		return math.NaN()
+	}
+	belowY, total := 0.0, 0.0
+	for s := 0; s < len(p); {
+		e, x := s, 0.0
+		for e < len(p) && p[e] == p[s] {
+			x += y[e]
+			e++
+		}
+		yy := float64(e-s) - x
+		total += x * (belowY + yy/2)
+		belowY += yy
+		s = e
+	}
+	return total / (m * n)
 }

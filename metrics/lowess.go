@@ -276,76 +276,6 @@ func FlexibleCalibration(y, p []float64, order []int, opt LowessOptions) Calibra
 	return cc
 }
 
-// Quantiles returns the q1- and q2-quantiles (Quantile7) of unsorted
-// data by selection; it reorders a.
-func Quantiles(a []float64, q1, q2 float64) (float64, float64) {
-	return quantileSelect(a, q1), quantileSelect(a, q2)
-}
-
-// quantileSelect is Quantile7 of unsorted data, found by selection
-// (Hoare's quickselect) in expected linear time; it reorders a.
-func quantileSelect(a []float64, q float64) float64 {
-	n := len(a)
-	if n == 0 {
-		return math.NaN()
-	}
-	h := float64(n-1) * q
-	lo := int(math.Floor(h))
-	if lo >= n-1 {
-		return selectK(a, n-1)
-	}
-	v := selectK(a, lo)
-	// The next order statistic is the smallest value right of lo.
-	next := math.Inf(1)
-	for _, x := range a[lo+1:] {
-		next = math.Min(next, x)
-	}
-	return v + (h-float64(lo))*(next-v)
-}
-
-// selectK places the k-th smallest value of a (0-based) at a[k], smaller
-// ones before it and larger ones after, and returns it.
-func selectK(a []float64, k int) float64 {
-	lo, hi := 0, len(a)-1
-	for lo < hi {
-		// Median of three as the pivot.
-		mid := lo + (hi-lo)/2
-		if a[mid] < a[lo] {
-			a[mid], a[lo] = a[lo], a[mid]
-		}
-		if a[hi] < a[lo] {
-			a[hi], a[lo] = a[lo], a[hi]
-		}
-		if a[hi] < a[mid] {
-			a[hi], a[mid] = a[mid], a[hi]
-		}
-		pivot := a[mid]
-		i, j := lo, hi
-		for i <= j {
-			for a[i] < pivot {
-				i++
-			}
-			for a[j] > pivot {
-				j--
-			}
-			if i <= j {
-				a[i], a[j] = a[j], a[i]
-				i++
-				j--
-			}
-		}
-		switch {
-		case k <= j:
-			hi = j
-		case k >= i:
-			lo = i
-		default:
-			return a[k]
-		}
-	}
-	return a[k]
-}
-
 // DefaultDelta is the δ used when none is given: 0 (a fit at every
 // point) up to 10,000 rows; 1% of the range of x up to 100,000 rows, the
 // choice commonly suggested with Cleveland's algorithm for large data;
@@ -360,20 +290,4 @@ func DefaultDelta(xmin, xmax float64, n int) float64 {
 		return 0.01 * (xmax - xmin)
 	}
 	return 0.02 * (xmax - xmin)
-}
-
-// Quantile7 is the q-quantile of sorted by definition 7 of Hyndman & Fan
-// (1996, The American Statistician 50:361–365): with h = (n − 1)q,
-// s[⌊h⌋] + (h − ⌊h⌋)(s[⌊h⌋+1] − s[⌊h⌋]).
-func Quantile7(sorted []float64, q float64) float64 {
-	n := len(sorted)
-	if n == 0 {
-		return math.NaN()
-	}
-	h := float64(n-1) * q
-	lo := int(math.Floor(h))
-	if lo >= n-1 {
-		return sorted[n-1]
-	}
-	return sorted[lo] + (h-float64(lo))*(sorted[lo+1]-sorted[lo])
 }

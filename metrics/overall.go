@@ -48,28 +48,19 @@ func BrierWeighted(y, p, w []float64) (brier, scaled float64) {
 	return brier, 1 - brier/(ybar*(1-ybar))
 }
 
-// AUCSorted is the AUC (as in AUC) of rows already sorted by p, without
-// its standard error and without allocating.
-func AUCSorted(y, p []float64) float64 {
-	m := 0.0
-	for _, v := range y {
-		m += v
+// Brier is the Brier score, the mean of (p − y)² (Brier 1950, Monthly
+// Weather Review 78:1–3), and the scaled Brier score
+// 1 − Brier / (ȳ(1 − ȳ)), which compares it with a model that gives every
+// row the observed event rate ȳ (Steyerberg et al. 2010, Epidemiology
+// 21:128–138).
+func Brier(y, p []float64) (brier, scaled float64) {
+	s, c := 0.0, 0.0
+	for i, v := range p {
+		d := v - y[i]
+		s, c = neumaier(s, c, d*d)
 	}
-	n := float64(len(y)) - m
-	if m == 0 || n == 0 {
-		return math.NaN()
-	}
-	belowY, total := 0.0, 0.0
-	for s := 0; s < len(p); {
-		e, x := s, 0.0
-		for e < len(p) && p[e] == p[s] {
-			x += y[e]
-			e++
-		}
-		yy := float64(e-s) - x
-		total += x * (belowY + yy/2)
-		belowY += yy
-		s = e
-	}
-	return total / (m * n)
+	n := float64(len(y))
+	brier = (s + c) / n
+	ybar := sum(y) / n
+	return brier, 1 - brier/(ybar*(1-ybar))
 }

@@ -90,13 +90,3 @@ func componentsByRow(y, p []float64) []float64 {
 	}
 	return out
 }
-
-// covariance is the sample covariance of a and b (divisor len − 1).
-func covariance(a, b []float64) float64 {
-	ma, mb := mean(a), mean(b)
-	s := 0.0
-	for i := range a {
-		s += (a[i] - ma) * (b[i] - mb)
-	}
-	return s / float64(len(a)-1)
-}
