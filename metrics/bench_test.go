@@ -4,6 +4,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+
+	"github.com/riskaudit/riskaudit/logistic"
 )
 
 // cohort1M draws 1M risks from a logistic model and outcomes from them.
@@ -12,7 +14,7 @@ func cohort1M() (y, p []float64) {
 	n := 1_000_000
 	y, p = make([]float64, n), make([]float64, n)
 	for i := range p {
-		p[i] = expit(-2 + 1.2*r.NormFloat64())
+		p[i] = logistic.Expit(-2 + 1.2*r.NormFloat64())
 		if r.Float64() < p[i] {
 			y[i] = 1
 		}

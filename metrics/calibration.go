@@ -36,7 +36,7 @@ func ClampedLogits(p []float64, eps float64) ([]float64, int) {
 		} else if v > 1-eps {
 			v, clamped = 1-eps, clamped+1
 		}
-		out[i] = math.Log(v) - math.Log1p(-v)
+		out[i] = logistic.Logit(v)
 	}
 	return out, clamped
 }
@@ -52,7 +52,7 @@ func CalibrationInTheLarge(y, lp []float64) (Estimate, error) {
 	// the logit scale, close to the estimate when risks are not extreme.
 	ybar, pbar := sum(y)/float64(n), 0.0
 	for _, v := range lp {
-		pbar += expit(v)
+		pbar += logistic.Expit(v)
 	}
 	pbar /= float64(n)
 	start := 0.0
@@ -126,7 +126,7 @@ func CalibrationWeighted(y, lp, w []float64) (citl, slope float64, err error) {
 		}
 		sw += wi
 		sy += wi * y[i]
-		sp += wi * expit(v)
+		sp += wi * logistic.Expit(v)
 	}
 	start := 0.0
 	if ybar, pbar := sy/sw, sp/sw; ybar > 0 && ybar < 1 && pbar > 0 && pbar < 1 {
@@ -173,7 +173,7 @@ func slopeNewton(y, lp, w []float64) (a, b float64, cov [3]float64, ok bool) {
 					}
 				}
 				v := lp[i]
-				mu := expit(a + b*v)
+				mu := logistic.Expit(a + b*v)
 				r := wi * (y[i] - mu)
 				q := wi * mu * (1 - mu)
 				t[0] += r
@@ -223,11 +223,11 @@ func rowSums(n int, f func(lo, hi int) [5]float64) [5]float64 {
 	return first
 }
 
-// interceptNewton solves the one score equation Σ w(y − expit(a + lp)) =
+// interceptNewton solves the one score equation Σ w(y − logistic.Expit(a + lp)) =
 // 0 of the intercept-only model with offset lp by Newton's method, and
 // returns a with the information Σ w·μ(1 − μ) at it. With E = exp(lp)
 // computed once, each step needs no exponential per row:
-// expit(a + lp) = E·eᵃ/(1 + E·eᵃ). The log-likelihood is strictly concave
+// logistic.Expit(a + lp) = E·eᵃ/(1 + E·eᵃ). The log-likelihood is strictly concave
 // in a, so the steps are only bounded (to ±5 on the logit scale), not
 // halved.
 func interceptNewton(y, lp, w []float64, a float64) (float64, float64, error) {

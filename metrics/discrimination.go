@@ -2,6 +2,8 @@ package metrics
 
 import (
 	"math"
+
+	"github.com/riskaudit/riskaudit/logistic"
 )
 
 // AUCResult is the area under the ROC curve with its DeLong standard
@@ -122,17 +124,9 @@ func logitCI(a, se float64) [2]float64 {
 	if a <= 0 || a >= 1 || math.IsNaN(se) {
 		return [2]float64{a, a}
 	}
-	l := math.Log(a) - math.Log1p(-a)
+	l := logistic.Logit(a)
 	h := z975 * se / (a * (1 - a))
-	return [2]float64{expit(l - h), expit(l + h)}
-}
-
-func expit(x float64) float64 {
-	if x >= 0 {
-		return 1 / (1 + math.Exp(-x))
-	}
-	z := math.Exp(x)
-	return z / (1 + z)
+	return [2]float64{logistic.Expit(l - h), logistic.Expit(l + h)}
 }
 
 // ROCPoint is one point of an ROC curve: classifying risks ≥ Threshold as
