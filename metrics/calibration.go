@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"runtime"
 
 	"github.com/riskaudit/riskaudit/logistic"
 )
@@ -59,7 +60,7 @@ func CalibrationInTheLarge(y, lp []float64) (Estimate, error) {
 	if ybar > 0 && ybar < 1 {
 		start = math.Log(ybar/(1-ybar)) - math.Log(pbar/(1-pbar))
 	}
-	a, info, err := interceptNewton(y, lp, nil, start)
+	a, info, err := interceptNewton(y, lp, nil, start, 2)
 	if err == nil {
 		return wald(a, 1/math.Sqrt(info)), nil
 	}
@@ -80,7 +81,7 @@ func CalibrationInTheLarge(y, lp []float64) (Estimate, error) {
 // when too moderate (Cox 1958; Van Calster et al. 2016). It returns the
 // slope and the intercept of that model. lp holds logit(p).
 func CalibrationSlope(y, lp []float64) (slope, intercept Estimate, err error) {
-	if a, b, cov, ok := slopeNewton(y, lp, nil); ok {
+	if a, b, cov, ok := slopeNewton(y, lp, nil, 2); ok {
 		return wald(b, math.Sqrt(cov[2])), wald(a, math.Sqrt(cov[0])), nil
 	}
 	n := len(y)
@@ -115,8 +116,16 @@ func OE(y, p []float64) (oe float64, ci [2]float64, observed, expected float64) 
 // CalibrationWeighted returns calibration-in-the-large and the
 // calibration slope (coefficients only) with every row counted w times
 // (w nil counts each once), as for a bootstrap sample given by counts.
-// It runs on the calling goroutine.
-func CalibrationWeighted(y, lp, w []float64) (citl, slope float64, err error) {
+// workers bounds the goroutines it runs on: 1 is the calling goroutine
+// only (for callers that already run one goroutine per core), 0 means
+// GOMAXPROCS, and at most two are used. From 50,000 rows the sums are
+// taken over two halves whatever workers is, and the safeguarded fit it
+// falls back on when Newton's steps do not settle runs on the calling
+// goroutine, so the result does not depend on workers.
+func CalibrationWeighted(y, lp, w []float64, workers int) (citl, slope float64, err error) {
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
 	n := len(y)
 	sw, sy, sp := 0.0, 0.0, 0.0
 	for i, v := range lp {
@@ -132,11 +141,11 @@ func CalibrationWeighted(y, lp, w []float64) (citl, slope float64, err error) {
 	if ybar, pbar := sy/sw, sp/sw; ybar > 0 && ybar < 1 && pbar > 0 && pbar < 1 {
 		start = math.Log(ybar/(1-ybar)) - math.Log(pbar/(1-pbar))
 	}
-	citl, _, err = interceptNewton(y, lp, w, start)
+	citl, _, err = interceptNewton(y, lp, w, start, workers)
 	if err != nil {
 		return 0, 0, fmt.Errorf("calibration-in-the-large: %w", err)
 	}
-	if _, b, _, ok := slopeNewton(y, lp, w); ok {
+	if _, b, _, ok := slopeNewton(y, lp, w, workers); ok {
 		return citl, b, nil
 	}
 	// Newton's method without step halving did not settle: take the
@@ -155,15 +164,15 @@ func CalibrationWeighted(y, lp, w []float64) (citl, slope float64, err error) {
 
 // slopeNewton fits logit P(y) = a + b·lp by plain Newton steps from
 // (0, 1), with no log-likelihood evaluations: one exponential per row per
-// step, the rows split between two goroutines when there are many. It
-// returns a, b and the inverse information (var a, cov, var b) at the
-// last step, whose size (below 1e-10) leaves it exact to that order; it
-// reports false when the steps do not settle within 50 iterations or the
-// information degenerates.
-func slopeNewton(y, lp, w []float64) (a, b float64, cov [3]float64, ok bool) {
+// step, the rows summed as rowSums does with workers. It returns a, b and
+// the inverse information (var a, cov, var b) at the last step, whose
+// size (below 1e-10) leaves it exact to that order; it reports false when
+// the steps do not settle within 50 iterations or the information
+// degenerates.
+func slopeNewton(y, lp, w []float64, workers int) (a, b float64, cov [3]float64, ok bool) {
 	a, b = 0.0, 1.0
 	for it := 0; it < 50; it++ {
-		s := rowSums(len(lp), func(lo, hi int) [5]float64 {
+		s := rowSums(len(lp), workers, func(lo, hi int) [5]float64 {
 			var t [5]float64
 			for i := lo; i < hi; i++ {
 				wi := 1.0
@@ -202,12 +211,24 @@ func slopeNewton(y, lp, w []float64) (a, b float64, cov [3]float64, ok bool) {
 	return 0, 0, cov, false
 }
 
-// rowSums adds the sums f gives over [0, n), in two halves on two
-// goroutines when n is large. The halves are added in order, so the
-// result does not depend on scheduling.
-func rowSums(n int, f func(lo, hi int) [5]float64) [5]float64 {
-	if n < 50000 {
+// rowSplit is the number of rows from which rowSums sums two halves.
+const rowSplit = 50000
+
+// rowSums adds the sums f gives over [0, n): from rowSplit rows in two
+// halves, the second on a goroutine of its own when workers ≥ 2 and on
+// the calling goroutine after the first when workers is 1. The halves
+// are added in order, so the result depends neither on scheduling nor on
+// workers.
+func rowSums(n, workers int, f func(lo, hi int) [5]float64) [5]float64 {
+	if n < rowSplit {
 		return f(0, n)
+	}
+	if workers == 1 {
+		first, second := f(0, n/2), f(n/2, n)
+		for k := range first {
+			first[k] += second[k]
+		}
+		return first
 	}
 	var second [5]float64
 	done := make(chan struct{})
@@ -223,21 +244,21 @@ func rowSums(n int, f func(lo, hi int) [5]float64) [5]float64 {
 	return first
 }
 
-// interceptNewton solves the one score equation Σ w(y − logistic.Expit(a + lp)) =
+// interceptNewton solves the one score equation Σ w(y − expit(a + lp)) =
 // 0 of the intercept-only model with offset lp by Newton's method, and
 // returns a with the information Σ w·μ(1 − μ) at it. With E = exp(lp)
 // computed once, each step needs no exponential per row:
-// logistic.Expit(a + lp) = E·eᵃ/(1 + E·eᵃ). The log-likelihood is strictly concave
+// expit(a + lp) = E·eᵃ/(1 + E·eᵃ). The log-likelihood is strictly concave
 // in a, so the steps are only bounded (to ±5 on the logit scale), not
-// halved.
-func interceptNewton(y, lp, w []float64, a float64) (float64, float64, error) {
+// halved. workers is as for rowSums.
+func interceptNewton(y, lp, w []float64, a float64, workers int) (float64, float64, error) {
 	e := make([]float64, len(lp))
 	for i, v := range lp {
 		e[i] = math.Exp(math.Max(-700, math.Min(700, v)))
 	}
 	sums := func(a float64) (score, info float64) {
 		ea := math.Exp(a)
-		s := rowSums(len(e), func(lo, hi int) [5]float64 {
+		s := rowSums(len(e), workers, func(lo, hi int) [5]float64 {
 			var t [5]float64
 			for i := lo; i < hi; i++ {
 				wi := 1.0
