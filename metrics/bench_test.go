@@ -28,7 +28,7 @@ func BenchmarkDeLong1M(b *testing.B) {
 	y, p := cohort1M()
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
-		AUC(y, p, nil)
+		AUC(SortByRisk(y, p))
 	}
 }
 
@@ -42,7 +42,7 @@ func BenchmarkLowess1M(b *testing.B) {
 	}
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
-		FlexibleCalibration(y, p, nil, LowessOptions{Delta: DefaultDelta(lo, hi, len(p))})
+		FlexibleCalibration(SortByRisk(y, p), LowessOptions{Delta: DefaultDelta(lo, hi, len(p))})
 	}
 }
 

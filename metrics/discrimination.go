@@ -30,31 +30,27 @@ type DeLongComponents struct {
 	V10, V01 []float64
 }
 
-// AUC returns the area under the ROC curve of risks p for outcomes y (1
-// event, 0 non-event): the Mann–Whitney probability that a random event
-// has a higher risk than a random non-event, ties counted ½ (Hanley &
-// McNeil 1982, Radiology 143:29–36). Its standard error is DeLong's
-// (DeLong, DeLong & Clarke-Pearson 1988, Biometrics 44:837–845),
+// AUC returns the area under the ROC curve of the rows of s: the
+// Mann–Whitney probability that a random event has a higher risk than a
+// random non-event, ties counted ½ (Hanley & McNeil 1982, Radiology
+// 143:29–36). Its standard error is DeLong's (DeLong, DeLong &
+// Clarke-Pearson 1988, Biometrics 44:837–845),
 //
 //	Var = S10/m + S01/n,
 //
 // with S10 and S01 the sample variances (divisor m − 1 and n − 1) of the
 // components over the m events and n non-events. The components come
-// from mid-ranks in O(N log N) (Sun & Xu 2014, IEEE Signal Processing
-// Letters 21:1389–1393): V10[i] = (R(X_i) − R_X(X_i))/n and
-// V01[j] = 1 − (R(Y_j) − R_Y(Y_j))/m, where R is the mid-rank among all
-// rows and R_X, R_Y the mid-ranks among events and among non-events.
+// from mid-ranks (Sun & Xu 2014, IEEE Signal Processing Letters
+// 21:1389–1393), in one pass over the sorted rows: V10[i] =
+// (R(X_i) − R_X(X_i))/n and V01[j] = 1 − (R(Y_j) − R_Y(Y_j))/m, where R
+// is the mid-rank among all rows and R_X, R_Y the mid-ranks among events
+// and among non-events. The components are returned in risk order.
 //
-// order must be the rows sorted by p (as from SortedOrder), or nil to
-// sort here. AUC panics if the lengths differ, and returns NaN values
-// when there are no events or no non-events.
-func AUC(y, p []float64, order []int) (AUCResult, DeLongComponents) {
-	if len(y) != len(p) {
-		panic("metrics: AUC: y and p differ in length")
-	}
-	if order == nil {
-		order = SortedOrder(p)
-	}
+// AUC, SE and both intervals are NaN when there are no events or no
+// non-events (an empty s included); SE and the intervals are NaN, the
+// AUC not, when there is only one event or one non-event.
+func AUC(s Sorted) (AUCResult, DeLongComponents) {
+	y, p := s.y, s.p
 	var r AUCResult
 	for _, v := range y {
 		if v == 1 {
@@ -74,16 +70,16 @@ func AUC(y, p []float64, order []int) (AUCResult, DeLongComponents) {
 	// lower; within a run the mid-rank is below + (run + 1)/2, and
 	// likewise among events and among non-events.
 	below, belowX, belowY := 0, 0, 0
-	for s := 0; s < len(order); {
-		e := s
+	for i := 0; i < len(p); {
+		e := i
 		x := 0
-		for e < len(order) && p[order[e]] == p[order[s]] {
-			if y[order[e]] == 1 {
+		for e < len(p) && p[e] == p[i] {
+			if y[e] == 1 {
 				x++
 			}
 			e++
 		}
-		run := e - s
+		run := e - i
 		yy := run - x
 		// Mid-rank among all: below + (run+1)/2. Among events:
 		// belowX + (x+1)/2. Their difference counts the non-events below
@@ -103,7 +99,7 @@ func AUC(y, p []float64, order []int) (AUCResult, DeLongComponents) {
 		below += run
 		belowX += x
 		belowY += yy
-		s = e
+		i = e
 	}
 	r.AUC = mean(v10)
 	var se float64
@@ -137,17 +133,18 @@ type ROCPoint struct {
 	TPR       float64 `json:"tpr"`
 }
 
-// ROC returns the empirical ROC curve: one point per distinct risk, from
-// the highest threshold down, starting at (0, 0) (threshold +Inf) and
-// ending at (1, 1). When maxPoints > 0 and the curve has more points,
-// interior points are thinned: a point is kept when it differs from the
-// last kept one by at least 1/maxPoints in FPR or TPR, so every kept
-// point is a true point of the curve and the last one is (1, 1). order is
-// the rows sorted by p, or nil.
-func ROC(y, p []float64, order []int, maxPoints int) []ROCPoint {
-	if order == nil {
-		order = SortedOrder(p)
-	}
+// ROC returns the empirical ROC curve of the rows of s: one point per
+// distinct risk t, classifying the rows with risk ≥ t as events, from the
+// highest threshold down, starting at (0, 0) (threshold +Inf) and ending
+// at (1, 1). When maxPoints > 0 and the curve has more points, interior
+// points are thinned: a point is kept when it differs from the last kept
+// one by at least 1/maxPoints in FPR or TPR, so every kept point is a
+// true point of the curve and the last one is (1, 1).
+//
+// When there are no events or no non-events (an empty s included) the
+// curve is the single point (0, 0) at threshold +Inf.
+func ROC(s Sorted, maxPoints int) []ROCPoint {
+	y, p := s.y, s.p
 	m, n := 0, 0
 	for _, v := range y {
 		if v == 1 {
@@ -165,29 +162,34 @@ func ROC(y, p []float64, order []int, maxPoints int) []ROCPoint {
 		step = 1 / float64(maxPoints)
 	}
 	tp, fp := 0, 0
-	for e := len(order) - 1; e >= 0; {
-		s := e
-		for s >= 0 && p[order[s]] == p[order[e]] {
-			if y[order[s]] == 1 {
+	for e := len(p) - 1; e >= 0; {
+		i := e
+		for i >= 0 && p[i] == p[e] {
+			if y[i] == 1 {
 				tp++
 			} else {
 				fp++
 			}
-			s--
+			i--
 		}
-		pt := ROCPoint{Threshold: p[order[e]], FPR: float64(fp) / float64(n), TPR: float64(tp) / float64(m)}
+		pt := ROCPoint{Threshold: p[e], FPR: float64(fp) / float64(n), TPR: float64(tp) / float64(m)}
 		last := out[len(out)-1]
-		if s < 0 || pt.FPR-last.FPR >= step || pt.TPR-last.TPR >= step {
+		if i < 0 || pt.FPR-last.FPR >= step || pt.TPR-last.TPR >= step {
 			out = append(out, pt)
 		}
-		e = s
+		e = i
 	}
 	return out
 }
 
-// AUCSorted is the AUC (as in AUC) of rows already sorted by p, without
-// its standard error and without allocating.
-func AUCSorted(y, p []float64) float64 {
+// AUCValue is the AUC of the rows of s, as AUC computes it but without
+// the standard error, the components or any allocation, for resampling
+// loops: Σ over events of (non-events ranked below + ½ tied) / (m·n).
+// It equals AUC's value up to rounding (AUC averages the components with
+// a compensated sum). It is NaN when there are no events or no
+// non-events.
+func AUCValue(s Sorted) float64 {
+	y, p := s.y, s.p
 	m := 0.0
 	for _, v := range y {
 		m += v
@@ -197,16 +199,16 @@ func AUCSorted(y, p []float64) float64 {
 		return math.NaN()
 	}
 	belowY, total := 0.0, 0.0
-	for s := 0; s < len(p); {
-		e, x := s, 0.0
-		for e < len(p) && p[e] == p[s] {
+	for i := 0; i < len(p); {
+		e, x := i, 0.0
+		for e < len(p) && p[e] == p[i] {
 			x += y[e]
 			e++
 		}
-		yy := float64(e-s) - x
+		yy := float64(e-i) - x
 		total += x * (belowY + yy/2)
 		belowY += yy
-		s = e
+		i = e
 	}
 	return total / (m * n)
 }

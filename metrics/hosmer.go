@@ -26,46 +26,37 @@ type HosmerLemeshowTest struct {
 
 // HosmerLemeshow computes the Hosmer–Lemeshow goodness-of-fit test
 // (Hosmer & Lemeshow 1980, Communications in Statistics A10:1043–1069)
-// of outcomes y (0 or 1) against predicted risks p, with g groups.
+// of the rows of s, with g groups.
 //
-// Grouping is exact, so results are reproducible: the rows are sorted by
-// predicted risk, stably in row order; group k (0-based) starts at sorted
-// position ⌊k·n/g⌋, and a start that falls inside a run of tied risks
-// moves forward past the run, so ties stay in one group; empty groups are
-// dropped. The statistic is Σ (O_k − E_k)² / (E_k (1 − E_k/n_k)), with O_k
-// the events, E_k the sum of risks and n_k the rows of group k. The
+// Grouping is exact, so results are reproducible: group k (0-based)
+// starts at sorted position ⌊k·n/g⌋ (s holds the rows in risk order, ties
+// in row order), and a start that falls inside a run of tied risks moves
+// forward past the run, so ties stay in one group; empty groups are
+// dropped. The statistic is Σ (O_k − E_k)² / (E_k (1 − E_k/n_k)), with
+// O_k the events, E_k the sum of risks and n_k the rows of group k. The
 // degrees of freedom are groups − 2 when development is true (the model
-// was fitted to these rows) and groups otherwise.
+// was fitted to these rows) and groups otherwise; P is the chi-squared
+// upper tail, NaN when the degrees of freedom are below 1 (an empty s has
+// no groups). A group whose risks are all 0, or all 1, adds NaN or ±Inf
+// to the statistic.
 //
-// HosmerLemeshow panics if y and p differ in length or g < 1.
-func HosmerLemeshow(y, p []float64, g int, development bool) HosmerLemeshowTest {
-	return HosmerLemeshowSorted(y, p, nil, g, development)
-}
-
-// HosmerLemeshowSorted is HosmerLemeshow with the rows already sorted by
-// p (order as from SortedOrder; nil sorts here).
-func HosmerLemeshowSorted(y, p []float64, order []int, g int, development bool) HosmerLemeshowTest {
-	if len(y) != len(p) {
-		panic("metrics: HosmerLemeshow: y and p differ in length")
-	}
+// HosmerLemeshow panics if g < 1.
+func HosmerLemeshow(s Sorted, g int, development bool) HosmerLemeshowTest {
 	if g < 1 {
 		panic("metrics: HosmerLemeshow: fewer than one group")
 	}
+	y, p := s.y, s.p
 	n := len(p)
-	idx := order
-	if idx == nil {
-		idx = SortedOrder(p)
-	}
 	starts := make([]int, 0, g+1)
 	for k := 0; k < g; k++ {
-		s := k * n / g
-		for s > 0 && s < n && p[idx[s]] == p[idx[s-1]] {
-			s++
+		start := k * n / g
+		for start > 0 && start < n && p[start] == p[start-1] {
+			start++
 		}
-		if len(starts) > 0 && s <= starts[len(starts)-1] {
+		if len(starts) > 0 && start <= starts[len(starts)-1] {
 			continue
 		}
-		starts = append(starts, s)
+		starts = append(starts, start)
 	}
 	starts = append(starts, n)
 	var t HosmerLemeshowTest
@@ -74,8 +65,8 @@ func HosmerLemeshowSorted(y, p []float64, order []int, g int, development bool) 
 		if lo >= hi {
 			continue
 		}
-		grp := HLGroup{N: hi - lo, MinRisk: p[idx[lo]], MaxRisk: p[idx[hi-1]]}
-		for _, i := range idx[lo:hi] {
+		grp := HLGroup{N: hi - lo, MinRisk: p[lo], MaxRisk: p[hi-1]}
+		for i := lo; i < hi; i++ {
 			grp.Observed += y[i]
 			grp.Expected += p[i]
 		}

@@ -55,6 +55,9 @@ type LowessCurve struct {
 // variance at the fitted value, taken as constant over the window
 // (Cleveland & Devlin 1988, Journal of the American Statistical
 // Association 83:596–610, §3). It is interpolated like the fit.
+//
+// y may hold any values, not only outcomes. Lowess panics if x and y
+// differ in length or x is not sorted ascending.
 func Lowess(x, y []float64, opt LowessOptions) LowessCurve {
 	if len(x) != len(y) {
 		panic("metrics: Lowess: x and y differ in length")
@@ -62,6 +65,11 @@ func Lowess(x, y []float64, opt LowessOptions) LowessCurve {
 	if !sort.Float64sAreSorted(x) {
 		panic("metrics: Lowess: x is not sorted")
 	}
+	return lowess(x, y, opt)
+}
+
+// lowess is Lowess on inputs already checked.
+func lowess(x, y []float64, opt LowessOptions) LowessCurve {
 	n := len(x)
 	if opt.Span <= 0 {
 		opt.Span = 0.75
@@ -252,19 +260,16 @@ type CalibrationCurve struct {
 	ICI, E50, E90, Emax float64
 }
 
-// FlexibleCalibration smooths y on p by Lowess and summarises the
-// distance from the line of ideal calibration. order is the rows sorted by
-// p (or nil).
-func FlexibleCalibration(y, p []float64, order []int, opt LowessOptions) CalibrationCurve {
-	if order == nil {
-		order = SortedOrder(p)
-	}
-	xs := make([]float64, len(p))
-	ys := make([]float64, len(p))
-	for r, i := range order {
-		xs[r], ys[r] = p[i], y[i]
-	}
-	cc := CalibrationCurve{Curve: Lowess(xs, ys, opt)}
+// FlexibleCalibration smooths the outcomes of s on their risks by Lowess
+// with opt (at every row, in risk order; Curve.X is s.P() itself, not a
+// copy) and summarises the distance |p − ŝ(p)| from the line of ideal
+// calibration by its mean (ICI), median (E50), 90th percentile (E90) and
+// maximum (Emax) over the rows (Austin & Steyerberg 2019). Tied risks
+// are smoothed in the order s keeps them, row order, so the result is
+// reproducible. ICI, E50, E90 and Emax are NaN when s is empty.
+func FlexibleCalibration(s Sorted, opt LowessOptions) CalibrationCurve {
+	xs := s.p
+	cc := CalibrationCurve{Curve: lowess(xs, s.y, opt)}
 	diff := make([]float64, len(xs))
 	for i, v := range xs {
 		diff[i] = math.Abs(v - cc.Curve.Fit[i])

@@ -2,10 +2,82 @@ package metrics
 
 import (
 	"cmp"
+	"fmt"
 	"math"
 	"slices"
 	"sync"
 )
+
+// Sorted is a cohort's outcomes and predicted risks in ascending order of
+// risk, ties kept in row order (the order of a stable sort). It is the
+// one input of every measure that walks the rows in risk order — AUC,
+// AUCValue, ROC, HosmerLemeshow, RiskGroups, FlexibleCalibration,
+// ThresholdCounts, NetBenefits and Classify — so that a cohort is sorted
+// once, by SortByRisk, however many of them are computed, and none of
+// them sorts or copies the rows again.
+//
+// A Sorted is made only by SortByRisk or AsSorted, which check what the
+// measures then rely on: as many outcomes as risks, every outcome 0 or 1,
+// the risks ascending and none NaN. The zero value holds no rows.
+type Sorted struct {
+	y, p []float64
+}
+
+// SortByRisk returns the rows of outcomes y and risks p sorted by p,
+// ties kept in row order, in new slices (16 bytes a row, beside the
+// sort's own temporary 24). The sort is SortedOrder's, on two goroutines
+// for large inputs. The "risks" may be any values that order the rows,
+// such as linear predictors; ±Inf are allowed.
+//
+// SortByRisk panics if y and p differ in length, if an outcome is
+// neither 0 nor 1, or if a risk is NaN.
+func SortByRisk(y, p []float64) Sorted {
+	checkLengths("SortByRisk", y, p)
+	idx := sortedIdx(p, true)
+	s := Sorted{y: make([]float64, len(y)), p: make([]float64, len(p))}
+	for r, i := range idx {
+		o, v := y[i], p[i]
+		if o != 0 && o != 1 {
+			badOutcome("SortByRisk", int(i), o)
+		}
+		if v != v {
+			panic(fmt.Sprintf("metrics: SortByRisk: risk of row %d is NaN", i))
+		}
+		s.y[r], s.p[r] = o, v
+	}
+	return s
+}
+
+// AsSorted wraps outcomes y and risks p that are already in ascending
+// order of p, as resampling loops build them, without copying: the
+// Sorted shares their storage, so they must not change while it is in
+// use. It reads every row once to check them.
+//
+// AsSorted panics if y and p differ in length, if an outcome is neither
+// 0 nor 1, or if p is not ascending or holds NaN.
+func AsSorted(y, p []float64) Sorted {
+	checkLengths("AsSorted", y, p)
+	for i, v := range p {
+		if o := y[i]; o != 0 && o != 1 {
+			badOutcome("AsSorted", i, o)
+		}
+		if v != v || i > 0 && !(v >= p[i-1]) {
+			panic(fmt.Sprintf("metrics: AsSorted: risks not ascending at row %d", i))
+		}
+	}
+	return Sorted{y: y, p: p}
+}
+
+// Len returns the number of rows.
+func (s Sorted) Len() int { return len(s.p) }
+
+// Y returns the outcomes in risk order. The slice is the Sorted's own
+// storage: read it, do not change it.
+func (s Sorted) Y() []float64 { return s.y }
+
+// P returns the risks in ascending order. The slice is the Sorted's own
+// storage: read it, do not change it.
+func (s Sorted) P() []float64 { return s.p }
 
 // SortedOrder returns the row indices ordered by p, ties kept in row
 // order (a stable sort). p must hold no NaN; −0 sorts before +0.
@@ -17,26 +89,38 @@ import (
 // placed before the second's within every bucket, so the sort stays
 // stable.
 func SortedOrder(p []float64) []int {
-	return sortedOrder(p, true)
+	return widen(sortedIdx(p, true))
 }
 
 // SortedOrderSerial is SortedOrder on the calling goroutine alone, for
 // callers that already run one sort per core.
 func SortedOrderSerial(p []float64) []int {
-	return sortedOrder(p, false)
+	return widen(sortedIdx(p, false))
 }
 
-func sortedOrder(p []float64, parallel bool) []int {
+// widen returns the indices of idx as ints.
+func widen(idx []int32) []int {
+	out := make([]int, len(idx))
+	for i, v := range idx {
+		out[i] = int(v)
+	}
+	return out
+}
+
+// sortedIdx is the order of SortedOrder as 32-bit indices: a stable
+// comparison sort below 4096 rows, the radix sort from there, on two
+// goroutines when parallel is true.
+func sortedIdx(p []float64, parallel bool) []int32 {
 	n := len(p)
 	if n >= 4096 && !parallel {
 		return radixSerial(p)
 	}
 	if n < 4096 {
-		idx := make([]int, n)
+		idx := make([]int32, n)
 		for i := range idx {
-			idx[i] = i
+			idx[i] = int32(i)
 		}
-		slices.SortStableFunc(idx, func(a, b int) int { return cmp.Compare(p[a], p[b]) })
+		slices.SortStableFunc(idx, func(a, b int32) int { return cmp.Compare(p[a], p[b]) })
 		return idx
 	}
 	const bits, buckets, passes = 11, 1 << 11, 6
@@ -111,11 +195,7 @@ func sortedOrder(p []float64, parallel bool) []int {
 		keys, tk = tk, keys
 		idx, ti = ti, idx
 	}
-	out := make([]int, n)
-	for i, v := range idx {
-		out[i] = int(v)
-	}
-	return out
+	return idx
 }
 
 // recount sets the bucket offsets of both halves for the digit at shift
@@ -138,7 +218,7 @@ func recount(keys []uint64, half int, shift int, h0, h1 *[1 << 11]int) {
 }
 
 // radixSerial is the radix sort of SortedOrder on one goroutine.
-func radixSerial(p []float64) []int {
+func radixSerial(p []float64) []int32 {
 	const bits, buckets, passes = 11, 1 << 11, 6
 	n := len(p)
 	keys := make([]uint64, n)
@@ -177,11 +257,7 @@ func radixSerial(p []float64) []int {
 		keys, tk = tk, keys
 		idx, ti = ti, idx
 	}
-	out := make([]int, n)
-	for i, v := range idx {
-		out[i] = int(v)
-	}
-	return out
+	return idx
 }
 
 // radixKey maps a float64 to a uint64 whose unsigned order is the

@@ -335,7 +335,7 @@ func (ws *workspace) measures(pr Problem, lp []float64, order []int, w []float64
 	}
 	ps, ys := ws.ps[:k], ws.ys[:k]
 	var m Measures
-	m.AUC = metrics.AUCSorted(ys, ps)
+	m.AUC = metrics.AUCValue(metrics.AsSorted(ys, ps))
 	if fitted {
 		m.CITL, m.Slope = 0, 1
 	} else {

@@ -208,7 +208,7 @@ func runCompare(o *compareOptions, s *streams) error {
 	bb, _ := metrics.Brier(y, risks[1])
 	cmp.Brier = brierComparison{A: ba, B: bb, Difference: ba - bb, Replicates: o.bootstrap, Seed: o.seed,
 		DifferenceCI: resample.BrierDifferenceCI(y, risks[0], risks[1], o.bootstrap, o.seed)}
-	na, nb := metrics.NetBenefits(y, risks[0], ts), metrics.NetBenefits(y, risks[1], ts)
+	na, nb := metrics.NetBenefits(metrics.SortByRisk(y, risks[0]), ts), metrics.NetBenefits(metrics.SortByRisk(y, risks[1]), ts)
 	for i := range na {
 		cmp.NetBenefit = append(cmp.NetBenefit, netBenefitPair{Threshold: na[i].Threshold, A: na[i].Model, B: nb[i].Model, TreatAll: na[i].TreatAll})
 	}
