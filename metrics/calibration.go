@@ -21,10 +21,11 @@ func wald(v, se float64) Estimate {
 	return Estimate{Value: v, SE: se, CI: [2]float64{v - z975*se, v + z975*se}}
 }
 
-// ClampedLogits returns logit(p) for every risk, with risks of exactly 0
-// or 1 first clamped to [eps, 1 − eps], and the number clamped. It
-// panics on a risk outside [0, 1] or NaN: callers check their input and
-// report the offending line.
+// ClampedLogits returns logit(p) for every risk, with risks below eps or
+// above 1 − eps (those of exactly 0 or 1 among them) first clamped to
+// [eps, 1 − eps], and the number clamped; the logits are new slices, in
+// row order. It panics on a risk outside [0, 1] or NaN: callers check
+// their input and report the offending line.
 func ClampedLogits(p []float64, eps float64) ([]float64, int) {
 	out := make([]float64, len(p))
 	clamped := 0
@@ -44,10 +45,19 @@ func ClampedLogits(p []float64, eps float64) ([]float64, int) {
 
 // CalibrationInTheLarge is the intercept a of the logistic model
 // logit P(y = 1) = a + logit(p), with logit(p) as an offset (slope fixed
-// at 1); a = 0 when risks are right on average, a > 0 when they are too
-// low (Cox 1958, Biometrika 45:562–565; Van Calster et al. 2016, Journal
-// of Clinical Epidemiology 74:167–176). lp holds logit(p).
+// at 1), fitted by maximum likelihood to outcomes y; a = 0 when risks are
+// right on average, a > 0 when they are too low (Cox 1958, Biometrika
+// 45:562–565; Van Calster et al. 2016, Journal of Clinical Epidemiology
+// 74:167–176). lp holds logit(p), in the rows' order (any order; see
+// ClampedLogits). The standard error is the inverse square root of the
+// information at the estimate, and the interval Wald's.
+//
+// CalibrationInTheLarge panics if y and lp differ in length or an
+// outcome is neither 0 nor 1. It returns an error when the model cannot
+// be fitted: no rows, or outcomes all the same (the estimate runs to
+// ±∞).
 func CalibrationInTheLarge(y, lp []float64) (Estimate, error) {
+	checkLinear("CalibrationInTheLarge", y, lp)
 	n := len(y)
 	// Start from the difference of the mean outcome and the mean risk on
 	// the logit scale, close to the estimate when risks are not extreme.
@@ -76,11 +86,18 @@ func CalibrationInTheLarge(y, lp []float64) (Estimate, error) {
 }
 
 // CalibrationSlope is the coefficient b of the logistic model
-// logit P(y = 1) = a + b·logit(p), with a free intercept; b = 1 for
-// ideal spread, b < 1 when risks are too extreme (overfitting), b > 1
-// when too moderate (Cox 1958; Van Calster et al. 2016). It returns the
-// slope and the intercept of that model. lp holds logit(p).
+// logit P(y = 1) = a + b·logit(p), with a free intercept, fitted by
+// maximum likelihood to outcomes y; b = 1 for ideal spread, b < 1 when
+// risks are too extreme (overfitting), b > 1 when too moderate (Cox
+// 1958; Van Calster et al. 2016). It returns the slope and the intercept
+// of that model, with standard errors from the inverse information and
+// Wald intervals. lp holds logit(p), in the rows' order (any order).
+//
+// CalibrationSlope panics if y and lp differ in length or an outcome is
+// neither 0 nor 1. It returns an error when the model cannot be fitted:
+// no rows, outcomes all the same, or every lp equal.
 func CalibrationSlope(y, lp []float64) (slope, intercept Estimate, err error) {
+	checkLinear("CalibrationSlope", y, lp)
 	if a, b, cov, ok := slopeNewton(y, lp, nil, 2); ok {
 		return wald(b, math.Sqrt(cov[2])), wald(a, math.Sqrt(cov[0])), nil
 	}
@@ -97,12 +114,18 @@ func CalibrationSlope(y, lp []float64) (slope, intercept Estimate, err error) {
 	return wald(res.Coef[1], res.SE[1]), wald(res.Coef[0], res.SE[0]), nil
 }
 
-// OE is the ratio of observed to expected events, O/E = Σy / Σp, with the
-// 95% interval exp(ln(O/E) ± 1.96·√((1 − O/n)/O)): the delta-method
-// standard error of ln O for a binomial count, with E treated as fixed
-// (as in Debray et al. 2017, BMJ 356:i6460). The interval is NaN when
-// there are no events.
+// OE is the ratio of observed to expected events, O/E = Σy / Σp over the
+// n rows (in any order), with the 95% interval
+// exp(ln(O/E) ± 1.96·√((1 − O/n)/O)): the delta-method standard error of
+// ln O for a binomial count, with E treated as fixed (as in Debray et
+// al. 2017, BMJ 356:i6460). It also returns O and E. The interval is NaN
+// when there are no events (O/E is then 0), and everything but O and E
+// is NaN when there are no rows.
+//
+// OE panics if y and p differ in length or an outcome is neither 0 nor 1.
 func OE(y, p []float64) (oe float64, ci [2]float64, observed, expected float64) {
+	checkLengths("OE", y, p)
+	checkOutcomes("OE", y)
 	observed, expected = sum(y), sum(p)
 	oe = observed / expected
 	n := float64(len(y))
@@ -114,15 +137,24 @@ func OE(y, p []float64) (oe float64, ci [2]float64, observed, expected float64) 
 }
 
 // CalibrationWeighted returns calibration-in-the-large and the
-// calibration slope (coefficients only) with every row counted w times
-// (w nil counts each once), as for a bootstrap sample given by counts.
+// calibration slope (coefficients only, as CalibrationInTheLarge and
+// CalibrationSlope define them) of outcomes y and linear predictors
+// lp = logit(p), with every row counted w times (w nil counts each
+// once), as for a bootstrap sample given by counts; a row of weight 0
+// takes no part.
 // workers bounds the goroutines it runs on: 1 is the calling goroutine
 // only (for callers that already run one goroutine per core), 0 means
 // GOMAXPROCS, and at most two are used. From 50,000 rows the sums are
 // taken over two halves whatever workers is, and the safeguarded fit it
 // falls back on when Newton's steps do not settle runs on the calling
 // goroutine, so the result does not depend on workers.
+//
+// CalibrationWeighted panics if y, lp and w (when not nil) differ in
+// length or an outcome is neither 0 nor 1. It returns an error when
+// either model cannot be fitted, as the unweighted functions do.
 func CalibrationWeighted(y, lp, w []float64, workers int) (citl, slope float64, err error) {
+	checkLinear("CalibrationWeighted", y, lp)
+	checkWeights("CalibrationWeighted", y, w)
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}

@@ -10,6 +10,15 @@ func checkLengths(fn string, y, p []float64) {
 	}
 }
 
+// checkLinear panics, naming fn, when there are not as many linear
+// predictors as outcomes or an outcome is neither 0 nor 1.
+func checkLinear(fn string, y, lp []float64) {
+	if len(y) != len(lp) {
+		panic(fmt.Sprintf("metrics: %s: %d outcomes but %d linear predictors", fn, len(y), len(lp)))
+	}
+	checkOutcomes(fn, y)
+}
+
 // checkWeights panics, naming fn, when w is not nil and not as long as y.
 func checkWeights(fn string, y, w []float64) {
 	if w != nil && len(w) != len(y) {
