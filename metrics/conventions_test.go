@@ -64,7 +64,7 @@ func TestLengthsChecked(t *testing.T) {
 func TestOutcomesAreZeroOrOne(t *testing.T) {
 	p := []float64{0.1, 0.4, 0.35, 0.8}
 	w := []float64{1, 1, 1, 1}
-	for _, bad := range []float64{0.5, 2, -1, math.NaN(), math.Inf(1)} {
+	for _, bad := range []float64{0.5, 2, -1, 5e-324, 1 + 0x1p-52, 1 - 0x1p-53, math.NaN(), math.Inf(1), math.Inf(-1)} {
 		y := []float64{0, 1, bad, 1}
 		want := fmt.Sprintf("outcome %v of row 2 is neither 0 nor 1", bad)
 		for _, c := range []struct {

@@ -37,7 +37,7 @@ func SortByRisk(y, p []float64) Sorted {
 	s := Sorted{y: make([]float64, len(y)), p: make([]float64, len(p))}
 	for r, i := range idx {
 		o, v := y[i], p[i]
-		if o != 0 && o != 1 {
+		if !isOutcome(o) {
 			badOutcome("SortByRisk", int(i), o)
 		}
 		if v != v {
@@ -58,7 +58,7 @@ func SortByRisk(y, p []float64) Sorted {
 func AsSorted(y, p []float64) Sorted {
 	checkLengths("AsSorted", y, p)
 	for i, v := range p {
-		if o := y[i]; o != 0 && o != 1 {
+		if o := y[i]; !isOutcome(o) {
 			badOutcome("AsSorted", i, o)
 		}
 		if v != v || i > 0 && !(v >= p[i-1]) {
