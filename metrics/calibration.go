@@ -142,6 +142,7 @@ func OE(y, p []float64) (oe float64, ci [2]float64, observed, expected float64) 
 // lp = logit(p), with every row counted w times (w nil counts each
 // once), as for a bootstrap sample given by counts; a row of weight 0
 // takes no part.
+//
 // workers bounds the goroutines it runs on: 1 is the calling goroutine
 // only (for callers that already run one goroutine per core), 0 means
 // GOMAXPROCS, and at most two are used. From 50,000 rows the sums are

@@ -22,6 +22,7 @@ func variance(x []float64) float64 {
 	return (s + c) / float64(len(x)-1)
 }
 
+// sum is the compensated sum of x (see neumaier).
 func sum(x []float64) float64 {
 	s, c := 0.0, 0.0
 	for _, v := range x {
