@@ -4,6 +4,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+
+	"github.com/riskaudit/riskaudit/logistic"
 )
 
 // cohort1M draws 1M risks from a logistic model and outcomes from them.
@@ -12,7 +14,7 @@ func cohort1M() (y, p []float64) {
 	n := 1_000_000
 	y, p = make([]float64, n), make([]float64, n)
 	for i := range p {
-		p[i] = expit(-2 + 1.2*r.NormFloat64())
+		p[i] = logistic.Expit(-2 + 1.2*r.NormFloat64())
 		if r.Float64() < p[i] {
 			y[i] = 1
 		}
@@ -26,7 +28,7 @@ func BenchmarkDeLong1M(b *testing.B) {
 	y, p := cohort1M()
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
-		AUC(y, p, nil)
+		AUC(SortByRisk(y, p))
 	}
 }
 
@@ -40,7 +42,7 @@ func BenchmarkLowess1M(b *testing.B) {
 	}
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
-		FlexibleCalibration(y, p, nil, LowessOptions{Delta: DefaultDelta(lo, hi, len(p))})
+		FlexibleCalibration(SortByRisk(y, p), LowessOptions{Delta: DefaultDelta(lo, hi, len(p))})
 	}
 }
 

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"runtime"
 
 	"github.com/riskaudit/riskaudit/logistic"
 )
@@ -20,10 +21,11 @@ func wald(v, se float64) Estimate {
 	return Estimate{Value: v, SE: se, CI: [2]float64{v - z975*se, v + z975*se}}
 }
 
-// ClampedLogits returns logit(p) for every risk, with risks of exactly 0
-// or 1 first clamped to [eps, 1 − eps], and the number clamped. It
-// panics on a risk outside [0, 1] or NaN: callers check their input and
-// report the offending line.
+// ClampedLogits returns logit(p) for every risk, with risks below eps or
+// above 1 − eps (those of exactly 0 or 1 among them) first clamped to
+// [eps, 1 − eps], and the number clamped; the logits are new slices, in
+// row order. It panics on a risk outside [0, 1] or NaN: callers check
+// their input and report the offending line.
 func ClampedLogits(p []float64, eps float64) ([]float64, int) {
 	out := make([]float64, len(p))
 	clamped := 0
@@ -36,30 +38,39 @@ func ClampedLogits(p []float64, eps float64) ([]float64, int) {
 		} else if v > 1-eps {
 			v, clamped = 1-eps, clamped+1
 		}
-		out[i] = math.Log(v) - math.Log1p(-v)
+		out[i] = logistic.Logit(v)
 	}
 	return out, clamped
 }
 
 // CalibrationInTheLarge is the intercept a of the logistic model
 // logit P(y = 1) = a + logit(p), with logit(p) as an offset (slope fixed
-// at 1); a = 0 when risks are right on average, a > 0 when they are too
-// low (Cox 1958, Biometrika 45:562–565; Van Calster et al. 2016, Journal
-// of Clinical Epidemiology 74:167–176). lp holds logit(p).
+// at 1), fitted by maximum likelihood to outcomes y; a = 0 when risks are
+// right on average, a > 0 when they are too low (Cox 1958, Biometrika
+// 45:562–565; Van Calster et al. 2016, Journal of Clinical Epidemiology
+// 74:167–176). lp holds logit(p), in the rows' order (any order; see
+// ClampedLogits). The standard error is the inverse square root of the
+// information at the estimate, and the interval Wald's.
+//
+// CalibrationInTheLarge panics if y and lp differ in length or an
+// outcome is neither 0 nor 1. It returns an error when the model cannot
+// be fitted: no rows, or outcomes all the same (the estimate runs to
+// ±∞).
 func CalibrationInTheLarge(y, lp []float64) (Estimate, error) {
+	checkLinear("CalibrationInTheLarge", y, lp)
 	n := len(y)
 	// Start from the difference of the mean outcome and the mean risk on
 	// the logit scale, close to the estimate when risks are not extreme.
 	ybar, pbar := sum(y)/float64(n), 0.0
 	for _, v := range lp {
-		pbar += expit(v)
+		pbar += logistic.Expit(v)
 	}
 	pbar /= float64(n)
 	start := 0.0
 	if ybar > 0 && ybar < 1 {
 		start = math.Log(ybar/(1-ybar)) - math.Log(pbar/(1-pbar))
 	}
-	a, info, err := interceptNewton(y, lp, nil, start)
+	a, info, err := interceptNewton(y, lp, nil, start, 2)
 	if err == nil {
 		return wald(a, 1/math.Sqrt(info)), nil
 	}
@@ -75,12 +86,19 @@ func CalibrationInTheLarge(y, lp []float64) (Estimate, error) {
 }
 
 // CalibrationSlope is the coefficient b of the logistic model
-// logit P(y = 1) = a + b·logit(p), with a free intercept; b = 1 for
-// ideal spread, b < 1 when risks are too extreme (overfitting), b > 1
-// when too moderate (Cox 1958; Van Calster et al. 2016). It returns the
-// slope and the intercept of that model. lp holds logit(p).
+// logit P(y = 1) = a + b·logit(p), with a free intercept, fitted by
+// maximum likelihood to outcomes y; b = 1 for ideal spread, b < 1 when
+// risks are too extreme (overfitting), b > 1 when too moderate (Cox
+// 1958; Van Calster et al. 2016). It returns the slope and the intercept
+// of that model, with standard errors from the inverse information and
+// Wald intervals. lp holds logit(p), in the rows' order (any order).
+//
+// CalibrationSlope panics if y and lp differ in length or an outcome is
+// neither 0 nor 1. It returns an error when the model cannot be fitted:
+// no rows, outcomes all the same, or every lp equal.
 func CalibrationSlope(y, lp []float64) (slope, intercept Estimate, err error) {
-	if a, b, cov, ok := slopeNewton(y, lp, nil); ok {
+	checkLinear("CalibrationSlope", y, lp)
+	if a, b, cov, ok := slopeNewton(y, lp, nil, 2); ok {
 		return wald(b, math.Sqrt(cov[2])), wald(a, math.Sqrt(cov[0])), nil
 	}
 	n := len(y)
@@ -96,12 +114,18 @@ func CalibrationSlope(y, lp []float64) (slope, intercept Estimate, err error) {
 	return wald(res.Coef[1], res.SE[1]), wald(res.Coef[0], res.SE[0]), nil
 }
 
-// OE is the ratio of observed to expected events, O/E = Σy / Σp, with the
-// 95% interval exp(ln(O/E) ± 1.96·√((1 − O/n)/O)): the delta-method
-// standard error of ln O for a binomial count, with E treated as fixed
-// (as in Debray et al. 2017, BMJ 356:i6460). The interval is NaN when
-// there are no events.
+// OE is the ratio of observed to expected events, O/E = Σy / Σp over the
+// n rows (in any order), with the 95% interval
+// exp(ln(O/E) ± 1.96·√((1 − O/n)/O)): the delta-method standard error of
+// ln O for a binomial count, with E treated as fixed (as in Debray et
+// al. 2017, BMJ 356:i6460). It also returns O and E. The interval is NaN
+// when there are no events (O/E is then 0), and everything but O and E
+// is NaN when there are no rows.
+//
+// OE panics if y and p differ in length or an outcome is neither 0 nor 1.
 func OE(y, p []float64) (oe float64, ci [2]float64, observed, expected float64) {
+	checkLengths("OE", y, p)
+	checkOutcomes("OE", y)
 	observed, expected = sum(y), sum(p)
 	oe = observed / expected
 	n := float64(len(y))
@@ -112,28 +136,29 @@ func OE(y, p []float64) (oe float64, ci [2]float64, observed, expected float64) 
 	return oe, [2]float64{oe * math.Exp(-h), oe * math.Exp(h)}, observed, expected
 }
 
-// Brier is the Brier score, the mean of (p − y)² (Brier 1950, Monthly
-// Weather Review 78:1–3), and the scaled Brier score
-// 1 − Brier / (ȳ(1 − ȳ)), which compares it with a model that gives every
-// row the observed event rate ȳ (Steyerberg et al. 2010, Epidemiology
-// 21:128–138).
-func Brier(y, p []float64) (brier, scaled float64) {
-	s, c := 0.0, 0.0
-	for i, v := range p {
-		d := v - y[i]
-		s, c = neumaier(s, c, d*d)
-	}
-	n := float64(len(y))
-	brier = (s + c) / n
-	ybar := sum(y) / n
-	return brier, 1 - brier/(ybar*(1-ybar))
-}
-
 // CalibrationWeighted returns calibration-in-the-large and the
-// calibration slope (coefficients only) with every row counted w times
-// (w nil counts each once), as for a bootstrap sample given by counts.
-// It runs on the calling goroutine.
-func CalibrationWeighted(y, lp, w []float64) (citl, slope float64, err error) {
+// calibration slope (coefficients only, as CalibrationInTheLarge and
+// CalibrationSlope define them) of outcomes y and linear predictors
+// lp = logit(p), with every row counted w times (w nil counts each
+// once), as for a bootstrap sample given by counts; a row of weight 0
+// takes no part.
+//
+// workers bounds the goroutines it runs on: 1 is the calling goroutine
+// only (for callers that already run one goroutine per core), 0 means
+// GOMAXPROCS, and at most two are used. From 50,000 rows the sums are
+// taken over two halves whatever workers is, and the safeguarded fit it
+// falls back on when Newton's steps do not settle runs on the calling
+// goroutine, so the result does not depend on workers.
+//
+// CalibrationWeighted panics if y, lp and w (when not nil) differ in
+// length or an outcome is neither 0 nor 1. It returns an error when
+// either model cannot be fitted, as the unweighted functions do.
+func CalibrationWeighted(y, lp, w []float64, workers int) (citl, slope float64, err error) {
+	checkLinear("CalibrationWeighted", y, lp)
+	checkWeights("CalibrationWeighted", y, w)
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
 	n := len(y)
 	sw, sy, sp := 0.0, 0.0, 0.0
 	for i, v := range lp {
@@ -143,17 +168,17 @@ func CalibrationWeighted(y, lp, w []float64) (citl, slope float64, err error) {
 		}
 		sw += wi
 		sy += wi * y[i]
-		sp += wi * expit(v)
+		sp += wi * logistic.Expit(v)
 	}
 	start := 0.0
 	if ybar, pbar := sy/sw, sp/sw; ybar > 0 && ybar < 1 && pbar > 0 && pbar < 1 {
 		start = math.Log(ybar/(1-ybar)) - math.Log(pbar/(1-pbar))
 	}
-	citl, _, err = interceptNewton(y, lp, w, start)
+	citl, _, err = interceptNewton(y, lp, w, start, workers)
 	if err != nil {
 		return 0, 0, fmt.Errorf("calibration-in-the-large: %w", err)
 	}
-	if _, b, _, ok := slopeNewton(y, lp, w); ok {
+	if _, b, _, ok := slopeNewton(y, lp, w, workers); ok {
 		return citl, b, nil
 	}
 	// Newton's method without step halving did not settle: take the
@@ -172,15 +197,15 @@ func CalibrationWeighted(y, lp, w []float64) (citl, slope float64, err error) {
 
 // slopeNewton fits logit P(y) = a + b·lp by plain Newton steps from
 // (0, 1), with no log-likelihood evaluations: one exponential per row per
-// step, the rows split between two goroutines when there are many. It
-// returns a, b and the inverse information (var a, cov, var b) at the
-// last step, whose size (below 1e-10) leaves it exact to that order; it
-// reports false when the steps do not settle within 50 iterations or the
-// information degenerates.
-func slopeNewton(y, lp, w []float64) (a, b float64, cov [3]float64, ok bool) {
+// step, the rows summed as rowSums does with workers. It returns a, b and
+// the inverse information (var a, cov, var b) at the last step, whose
+// size (below 1e-10) leaves it exact to that order; it reports false when
+// the steps do not settle within 50 iterations or the information
+// degenerates.
+func slopeNewton(y, lp, w []float64, workers int) (a, b float64, cov [3]float64, ok bool) {
 	a, b = 0.0, 1.0
 	for it := 0; it < 50; it++ {
-		s := rowSums(len(lp), func(lo, hi int) [5]float64 {
+		s := rowSums(len(lp), workers, func(lo, hi int) [5]float64 {
 			var t [5]float64
 			for i := lo; i < hi; i++ {
 				wi := 1.0
@@ -190,7 +215,7 @@ func slopeNewton(y, lp, w []float64) (a, b float64, cov [3]float64, ok bool) {
 					}
 				}
 				v := lp[i]
-				mu := expit(a + b*v)
+				mu := logistic.Expit(a + b*v)
 				r := wi * (y[i] - mu)
 				q := wi * mu * (1 - mu)
 				t[0] += r
@@ -219,12 +244,24 @@ func slopeNewton(y, lp, w []float64) (a, b float64, cov [3]float64, ok bool) {
 	return 0, 0, cov, false
 }
 
-// rowSums adds the sums f gives over [0, n), in two halves on two
-// goroutines when n is large. The halves are added in order, so the
-// result does not depend on scheduling.
-func rowSums(n int, f func(lo, hi int) [5]float64) [5]float64 {
-	if n < 50000 {
+// rowSplit is the number of rows from which rowSums sums two halves.
+const rowSplit = 50000
+
+// rowSums adds the sums f gives over [0, n): from rowSplit rows in two
+// halves, the second on a goroutine of its own when workers ≥ 2 and on
+// the calling goroutine after the first when workers is 1. The halves
+// are added in order, so the result depends neither on scheduling nor on
+// workers.
+func rowSums(n, workers int, f func(lo, hi int) [5]float64) [5]float64 {
+	if n < rowSplit {
 		return f(0, n)
+	}
+	if workers == 1 {
+		first, second := f(0, n/2), f(n/2, n)
+		for k := range first {
+			first[k] += second[k]
+		}
+		return first
 	}
 	var second [5]float64
 	done := make(chan struct{})
@@ -246,15 +283,15 @@ func rowSums(n int, f func(lo, hi int) [5]float64) [5]float64 {
 // computed once, each step needs no exponential per row:
 // expit(a + lp) = E·eᵃ/(1 + E·eᵃ). The log-likelihood is strictly concave
 // in a, so the steps are only bounded (to ±5 on the logit scale), not
-// halved.
-func interceptNewton(y, lp, w []float64, a float64) (float64, float64, error) {
+// halved. workers is as for rowSums.
+func interceptNewton(y, lp, w []float64, a float64, workers int) (float64, float64, error) {
 	e := make([]float64, len(lp))
 	for i, v := range lp {
 		e[i] = math.Exp(math.Max(-700, math.Min(700, v)))
 	}
 	sums := func(a float64) (score, info float64) {
 		ea := math.Exp(a)
-		s := rowSums(len(e), func(lo, hi int) [5]float64 {
+		s := rowSums(len(e), workers, func(lo, hi int) [5]float64 {
 			var t [5]float64
 			for i := lo; i < hi; i++ {
 				wi := 1.0

@@ -2,13 +2,9 @@ package metrics
 
 import (
 	"math"
+
+	"github.com/riskaudit/riskaudit/logistic"
 )
-
-// z975 is the 0.975 quantile of the standard normal distribution.
-const z975 = 1.959963984540054
-
-// Z975 is the multiplier of two-sided 95% Wald intervals.
-const Z975 = z975
 
 // AUCResult is the area under the ROC curve with its DeLong standard
 // error and 95% confidence intervals.
@@ -34,31 +30,27 @@ type DeLongComponents struct {
 	V10, V01 []float64
 }
 
-// AUC returns the area under the ROC curve of risks p for outcomes y (1
-// event, 0 non-event): the Mann–Whitney probability that a random event
-// has a higher risk than a random non-event, ties counted ½ (Hanley &
-// McNeil 1982, Radiology 143:29–36). Its standard error is DeLong's
-// (DeLong, DeLong & Clarke-Pearson 1988, Biometrics 44:837–845),
+// AUC returns the area under the ROC curve of the rows of s: the
+// Mann–Whitney probability that a random event has a higher risk than a
+// random non-event, ties counted ½ (Hanley & McNeil 1982, Radiology
+// 143:29–36). Its standard error is DeLong's (DeLong, DeLong &
+// Clarke-Pearson 1988, Biometrics 44:837–845),
 //
 //	Var = S10/m + S01/n,
 //
 // with S10 and S01 the sample variances (divisor m − 1 and n − 1) of the
 // components over the m events and n non-events. The components come
-// from mid-ranks in O(N log N) (Sun & Xu 2014, IEEE Signal Processing
-// Letters 21:1389–1393): V10[i] = (R(X_i) − R_X(X_i))/n and
-// V01[j] = 1 − (R(Y_j) − R_Y(Y_j))/m, where R is the mid-rank among all
-// rows and R_X, R_Y the mid-ranks among events and among non-events.
+// from mid-ranks (Sun & Xu 2014, IEEE Signal Processing Letters
+// 21:1389–1393), in one pass over the sorted rows: V10[i] =
+// (R(X_i) − R_X(X_i))/n and V01[j] = 1 − (R(Y_j) − R_Y(Y_j))/m, where R
+// is the mid-rank among all rows and R_X, R_Y the mid-ranks among events
+// and among non-events. The components are returned in risk order.
 //
-// order must be the rows sorted by p (as from SortedOrder), or nil to
-// sort here. AUC panics if the lengths differ, and returns NaN values
-// when there are no events or no non-events.
-func AUC(y, p []float64, order []int) (AUCResult, DeLongComponents) {
-	if len(y) != len(p) {
-		panic("metrics: AUC: y and p differ in length")
-	}
-	if order == nil {
-		order = SortedOrder(p)
-	}
+// AUC, SE and both intervals are NaN when there are no events or no
+// non-events (an empty s included); SE and the intervals are NaN, the
+// AUC not, when there is only one event or one non-event.
+func AUC(s Sorted) (AUCResult, DeLongComponents) {
+	y, p := s.y, s.p
 	var r AUCResult
 	for _, v := range y {
 		if v == 1 {
@@ -78,16 +70,16 @@ func AUC(y, p []float64, order []int) (AUCResult, DeLongComponents) {
 	// lower; within a run the mid-rank is below + (run + 1)/2, and
 	// likewise among events and among non-events.
 	below, belowX, belowY := 0, 0, 0
-	for s := 0; s < len(order); {
-		e := s
+	for i := 0; i < len(p); {
+		e := i
 		x := 0
-		for e < len(order) && p[order[e]] == p[order[s]] {
-			if y[order[e]] == 1 {
+		for e < len(p) && p[e] == p[i] {
+			if y[e] == 1 {
 				x++
 			}
 			e++
 		}
-		run := e - s
+		run := e - i
 		yy := run - x
 		// Mid-rank among all: below + (run+1)/2. Among events:
 		// belowX + (x+1)/2. Their difference counts the non-events below
@@ -107,7 +99,7 @@ func AUC(y, p []float64, order []int) (AUCResult, DeLongComponents) {
 		below += run
 		belowX += x
 		belowY += yy
-		s = e
+		i = e
 	}
 	r.AUC = mean(v10)
 	var se float64
@@ -128,51 +120,9 @@ func logitCI(a, se float64) [2]float64 {
 	if a <= 0 || a >= 1 || math.IsNaN(se) {
 		return [2]float64{a, a}
 	}
-	l := math.Log(a) - math.Log1p(-a)
+	l := logistic.Logit(a)
 	h := z975 * se / (a * (1 - a))
-	return [2]float64{expit(l - h), expit(l + h)}
-}
-
-func expit(x float64) float64 {
-	if x >= 0 {
-		return 1 / (1 + math.Exp(-x))
-	}
-	z := math.Exp(x)
-	return z / (1 + z)
-}
-
-// mean is the arithmetic mean, with a compensated sum.
-func mean(x []float64) float64 { return sum(x) / float64(len(x)) }
-
-// variance is the sample variance with divisor len(x) − 1, by two passes.
-func variance(x []float64) float64 {
-	m := mean(x)
-	s, c := 0.0, 0.0
-	for _, v := range x {
-		d := v - m
-		s, c = neumaier(s, c, d*d)
-	}
-	return (s + c) / float64(len(x)-1)
-}
-
-func sum(x []float64) float64 {
-	s, c := 0.0, 0.0
-	for _, v := range x {
-		s, c = neumaier(s, c, v)
-	}
-	return s + c
-}
-
-// neumaier adds v to the running sum s with compensation c (Neumaier
-// 1974, ZAMM 54:39–51).
-func neumaier(s, c, v float64) (float64, float64) {
-	t := s + v
-	if math.Abs(s) >= math.Abs(v) {
-		c += (s - t) + v
-	} else {
-		c += (v - t) + s
-	}
-	return t, c
+	return [2]float64{logistic.Expit(l - h), logistic.Expit(l + h)}
 }
 
 // ROCPoint is one point of an ROC curve: classifying risks ≥ Threshold as
@@ -183,17 +133,18 @@ type ROCPoint struct {
 	TPR       float64 `json:"tpr"`
 }
 
-// ROC returns the empirical ROC curve: one point per distinct risk, from
-// the highest threshold down, starting at (0, 0) (threshold +Inf) and
-// ending at (1, 1). When maxPoints > 0 and the curve has more points,
-// interior points are thinned: a point is kept when it differs from the
-// last kept one by at least 1/maxPoints in FPR or TPR, so every kept
-// point is a true point of the curve and the last one is (1, 1). order is
-// the rows sorted by p, or nil.
-func ROC(y, p []float64, order []int, maxPoints int) []ROCPoint {
-	if order == nil {
-		order = SortedOrder(p)
-	}
+// ROC returns the empirical ROC curve of the rows of s: one point per
+// distinct risk t, classifying the rows with risk ≥ t as events, from the
+// highest threshold down, starting at (0, 0) (threshold +Inf) and ending
+// at (1, 1). When maxPoints > 0 and the curve has more points, interior
+// points are thinned: a point is kept when it differs from the last kept
+// one by at least 1/maxPoints in FPR or TPR, so every kept point is a
+// true point of the curve and the last one is (1, 1).
+//
+// When there are no events or no non-events (an empty s included) the
+// curve is the single point (0, 0) at threshold +Inf.
+func ROC(s Sorted, maxPoints int) []ROCPoint {
+	y, p := s.y, s.p
 	m, n := 0, 0
 	for _, v := range y {
 		if v == 1 {
@@ -211,22 +162,53 @@ func ROC(y, p []float64, order []int, maxPoints int) []ROCPoint {
 		step = 1 / float64(maxPoints)
 	}
 	tp, fp := 0, 0
-	for e := len(order) - 1; e >= 0; {
-		s := e
-		for s >= 0 && p[order[s]] == p[order[e]] {
-			if y[order[s]] == 1 {
+	for e := len(p) - 1; e >= 0; {
+		i := e
+		for i >= 0 && p[i] == p[e] {
+			if y[i] == 1 {
 				tp++
 			} else {
 				fp++
 			}
-			s--
+			i--
 		}
-		pt := ROCPoint{Threshold: p[order[e]], FPR: float64(fp) / float64(n), TPR: float64(tp) / float64(m)}
+		pt := ROCPoint{Threshold: p[e], FPR: float64(fp) / float64(n), TPR: float64(tp) / float64(m)}
 		last := out[len(out)-1]
-		if s < 0 || pt.FPR-last.FPR >= step || pt.TPR-last.TPR >= step {
+		if i < 0 || pt.FPR-last.FPR >= step || pt.TPR-last.TPR >= step {
 			out = append(out, pt)
 		}
-		e = s
+		e = i
 	}
 	return out
+}
+
+// AUCValue is the AUC of the rows of s, as AUC computes it but without
+// the standard error, the components or any allocation, for resampling
+// loops: Σ over events of (non-events ranked below + ½ tied) / (m·n).
+// It equals AUC's value up to rounding (AUC averages the components with
+// a compensated sum). It is NaN when there are no events or no
+// non-events.
+func AUCValue(s Sorted) float64 {
+	y, p := s.y, s.p
+	m := 0.0
+	for _, v := range y {
+		m += v
+	}
+	n := float64(len(y)) - m
+	if m == 0 || n == 0 {
+		return math.NaN()
+	}
+	belowY, total := 0.0, 0.0
+	for i := 0; i < len(p); {
+		e, x := i, 0.0
+		for e < len(p) && p[e] == p[i] {
+			x += y[e]
+			e++
+		}
+		yy := float64(e-i) - x
+		total += x * (belowY + yy/2)
+		belowY += yy
+		i = e
+	}
+	return total / (m * n)
 }

@@ -4,6 +4,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+	"sort"
 	"testing"
 )
 
@@ -51,7 +52,7 @@ func TestHosmerLemeshowTiesStayTogether(t *testing.T) {
 	y := []float64{0, 0, 1, 0, 0, 1, 0, 0, 1, 0}
 	// With 4 groups the starts 0, 2, 5, 7 move to 0, 5, 5, 10: the runs of
 	// ties become the two groups, and the empty ones are dropped.
-	got := HosmerLemeshow(y, p, 4, false)
+	got := HosmerLemeshow(SortByRisk(y, p), 4, false)
 	if got.Groups != 2 || got.Table[0].N != 5 || got.Table[1].N != 5 {
 		t.Fatalf("groups %+v", got.Table)
 	}
@@ -60,7 +61,7 @@ func TestHosmerLemeshowTiesStayTogether(t *testing.T) {
 	if math.Abs(got.Statistic-want) > 1e-12 || got.DF != 2 {
 		t.Errorf("statistic %v df %d, want %v and 2", got.Statistic, got.DF, want)
 	}
-	if dev := HosmerLemeshow(y, p, 4, true); !math.IsNaN(dev.P) || dev.DF != 0 {
+	if dev := HosmerLemeshow(SortByRisk(y, p), 4, true); !math.IsNaN(dev.P) || dev.DF != 0 {
 		t.Errorf("with 2 groups on development data df is 0 and p undefined: %+v", dev)
 	}
 }
@@ -70,12 +71,12 @@ func TestHosmerLemeshowStableOrder(t *testing.T) {
 	// rows with distinct risks leaves the result unchanged.
 	p := []float64{0.3, 0.05, 0.6, 0.2, 0.9, 0.4, 0.15, 0.7, 0.5, 0.8, 0.25, 0.35}
 	y := []float64{0, 0, 1, 0, 1, 1, 0, 1, 0, 1, 0, 0}
-	a := HosmerLemeshow(y, p, 3, false)
+	a := HosmerLemeshow(SortByRisk(y, p), 3, false)
 	rp, ry := make([]float64, len(p)), make([]float64, len(p))
 	for i := range p {
 		rp[len(p)-1-i], ry[len(p)-1-i] = p[i], y[i]
 	}
-	b := HosmerLemeshow(ry, rp, 3, false)
+	b := HosmerLemeshow(SortByRisk(ry, rp), 3, false)
 	if math.Abs(a.Statistic-b.Statistic) > 1e-12 || a.Groups != b.Groups {
 		t.Errorf("%v vs %v", a, b)
 	}
@@ -109,14 +110,55 @@ func TestThresholdCountsSortedPath(t *testing.T) {
 		}
 	}
 	ts := []float64{0.3, 0.05, 0.5, 0.5, 0.975}
-	unsorted := ThresholdCounts(y, p, ts)
+	unsorted := thresholdCountsUnsorted(y, p, ts)
 	order := SortedOrder(p)
 	ps, ys := make([]float64, n), make([]float64, n)
 	for k, i := range order {
 		ps[k], ys[k] = p[i], y[i]
 	}
-	sorted := ThresholdCounts(ys, ps, ts)
+	sorted := ThresholdCounts(AsSorted(ys, ps), ts)
 	if !slices.Equal(unsorted, sorted) {
 		t.Errorf("sorted path %v, unsorted %v", sorted, unsorted)
 	}
+}
+
+// thresholdCountsUnsorted counts the 2×2 tables of unsorted rows in one
+// pass (each row placed by binary search among the sorted thresholds):
+// the algorithm ThresholdCounts used on unsorted rows before it took
+// Sorted, kept as an independent check of the sorted path.
+func thresholdCountsUnsorted(y, p []float64, ts []float64) []Counts {
+	sorted := append([]float64(nil), ts...)
+	sort.Float64s(sorted)
+	// posAt[k] counts rows whose risk reaches sorted[k-1] but not
+	// sorted[k]: a row with p ≥ sorted[j] for j < k.
+	ev := make([]int, len(sorted)+1)
+	ne := make([]int, len(sorted)+1)
+	for i, v := range p {
+		k := sort.Search(len(sorted), func(j int) bool { return sorted[j] > v })
+		if y[i] == 1 {
+			ev[k]++
+		} else {
+			ne[k]++
+		}
+	}
+	// Rows in bucket k are treated at thresholds sorted[0..k-1].
+	totalE, totalN := 0, 0
+	for k := range ev {
+		totalE += ev[k]
+		totalN += ne[k]
+	}
+	bySorted := make([]Counts, len(sorted))
+	tp, fp := totalE, totalN
+	for j := range sorted {
+		// Rows with p < sorted[j] are in buckets 0..j.
+		tp -= ev[j]
+		fp -= ne[j]
+		bySorted[j] = Counts{Threshold: sorted[j], TP: tp, FP: fp, FN: totalE - tp, TN: totalN - fp}
+	}
+	out := make([]Counts, len(ts))
+	for i, t := range ts {
+		j := sort.SearchFloat64s(sorted, t)
+		out[i] = bySorted[j]
+	}
+	return out
 }

@@ -55,6 +55,9 @@ type LowessCurve struct {
 // variance at the fitted value, taken as constant over the window
 // (Cleveland & Devlin 1988, Journal of the American Statistical
 // Association 83:596–610, §3). It is interpolated like the fit.
+//
+// y may hold any values, not only outcomes. Lowess panics if x and y
+// differ in length or x is not sorted ascending.
 func Lowess(x, y []float64, opt LowessOptions) LowessCurve {
 	if len(x) != len(y) {
 		panic("metrics: Lowess: x and y differ in length")
@@ -62,6 +65,11 @@ func Lowess(x, y []float64, opt LowessOptions) LowessCurve {
 	if !sort.Float64sAreSorted(x) {
 		panic("metrics: Lowess: x is not sorted")
 	}
+	return lowess(x, y, opt)
+}
+
+// lowess is Lowess on inputs already checked.
+func lowess(x, y []float64, opt LowessOptions) LowessCurve {
 	n := len(x)
 	if opt.Span <= 0 {
 		opt.Span = 0.75
@@ -252,19 +260,16 @@ type CalibrationCurve struct {
 	ICI, E50, E90, Emax float64
 }
 
-// FlexibleCalibration smooths y on p by Lowess and summarises the
-// distance from the line of ideal calibration. order is the rows sorted by
-// p (or nil).
-func FlexibleCalibration(y, p []float64, order []int, opt LowessOptions) CalibrationCurve {
-	if order == nil {
-		order = SortedOrder(p)
-	}
-	xs := make([]float64, len(p))
-	ys := make([]float64, len(p))
-	for r, i := range order {
-		xs[r], ys[r] = p[i], y[i]
-	}
-	cc := CalibrationCurve{Curve: Lowess(xs, ys, opt)}
+// FlexibleCalibration smooths the outcomes of s on their risks by Lowess
+// with opt (at every row, in risk order; Curve.X is s.P() itself, not a
+// copy) and summarises the distance |p − ŝ(p)| from the line of ideal
+// calibration by its mean (ICI), median (E50), 90th percentile (E90) and
+// maximum (Emax) over the rows (Austin & Steyerberg 2019). Tied risks
+// are smoothed in the order s keeps them, row order, so the result is
+// reproducible. ICI, E50, E90 and Emax are NaN when s is empty.
+func FlexibleCalibration(s Sorted, opt LowessOptions) CalibrationCurve {
+	xs := s.p
+	cc := CalibrationCurve{Curve: lowess(xs, s.y, opt)}
 	diff := make([]float64, len(xs))
 	for i, v := range xs {
 		diff[i] = math.Abs(v - cc.Curve.Fit[i])
@@ -274,76 +279,6 @@ func FlexibleCalibration(y, p []float64, order []int, opt LowessOptions) Calibra
 	cc.E90 = quantileSelect(diff, 0.9)
 	cc.Emax = quantileSelect(diff, 1)
 	return cc
-}
-
-// Quantiles returns the q1- and q2-quantiles (Quantile7) of unsorted
-// data by selection; it reorders a.
-func Quantiles(a []float64, q1, q2 float64) (float64, float64) {
-	return quantileSelect(a, q1), quantileSelect(a, q2)
-}
-
-// quantileSelect is Quantile7 of unsorted data, found by selection
-// (Hoare's quickselect) in expected linear time; it reorders a.
-func quantileSelect(a []float64, q float64) float64 {
-	n := len(a)
-	if n == 0 {
-		return math.NaN()
-	}
-	h := float64(n-1) * q
-	lo := int(math.Floor(h))
-	if lo >= n-1 {
-		return selectK(a, n-1)
-	}
-	v := selectK(a, lo)
-	// The next order statistic is the smallest value right of lo.
-	next := math.Inf(1)
-	for _, x := range a[lo+1:] {
-		next = math.Min(next, x)
-	}
-	return v + (h-float64(lo))*(next-v)
-}
-
-// selectK places the k-th smallest value of a (0-based) at a[k], smaller
-// ones before it and larger ones after, and returns it.
-func selectK(a []float64, k int) float64 {
-	lo, hi := 0, len(a)-1
-	for lo < hi {
-		// Median of three as the pivot.
-		mid := lo + (hi-lo)/2
-		if a[mid] < a[lo] {
-			a[mid], a[lo] = a[lo], a[mid]
-		}
-		if a[hi] < a[lo] {
-			a[hi], a[lo] = a[lo], a[hi]
-		}
-		if a[hi] < a[mid] {
-			a[hi], a[mid] = a[mid], a[hi]
-		}
-		pivot := a[mid]
-		i, j := lo, hi
-		for i <= j {
-			for a[i] < pivot {
-				i++
-			}
-			for a[j] > pivot {
-				j--
-			}
-			if i <= j {
-				a[i], a[j] = a[j], a[i]
-				i++
-				j--
-			}
-		}
-		switch {
-		case k <= j:
-			hi = j
-		case k >= i:
-			lo = i
-		default:
-			return a[k]
-		}
-	}
-	return a[k]
 }
 
 // DefaultDelta is the δ used when none is given: 0 (a fit at every
@@ -360,20 +295,4 @@ func DefaultDelta(xmin, xmax float64, n int) float64 {
 		return 0.01 * (xmax - xmin)
 	}
 	return 0.02 * (xmax - xmin)
-}
-
-// Quantile7 is the q-quantile of sorted by definition 7 of Hyndman & Fan
-// (1996, The American Statistician 50:361–365): with h = (n − 1)q,
-// s[⌊h⌋] + (h − ⌊h⌋)(s[⌊h⌋+1] − s[⌊h⌋]).
-func Quantile7(sorted []float64, q float64) float64 {
-	n := len(sorted)
-	if n == 0 {
-		return math.NaN()
-	}
-	h := float64(n-1) * q
-	lo := int(math.Floor(h))
-	if lo >= n-1 {
-		return sorted[n-1]
-	}
-	return sorted[lo] + (h-float64(lo))*(sorted[lo+1]-sorted[lo])
 }

@@ -1,6 +1,9 @@
 package metrics
 
-import "math"
+import (
+	"fmt"
+	"math"
+)
 
 // PairedDeLong compares the AUCs of two risks on the same rows by the
 // test of DeLong, DeLong & Clarke-Pearson (1988): with the structural
@@ -22,10 +25,28 @@ type PairedDeLong struct {
 	Correlation float64 `json:"correlation"`
 }
 
-// DeLongPaired tests AUC(pa) − AUC(pb) for outcomes y.
+// DeLongPaired tests AUC(pa) − AUC(pb) for outcomes y, the two risks
+// measured on the same rows (in any order: it sorts the rows by each risk
+// itself, stably, as SortByRisk does). The difference's interval is
+// Wald's, Difference ± 1.96·DifferenceSE, and P is two-sided. Every
+// value is NaN when there are no events or no non-events, and all but
+// the two AUCs and their difference when there is only one; Z and P are
+// NaN when the two risks rank the rows alike (Difference and
+// DifferenceSE 0).
+//
+// DeLongPaired panics if y, pa and pb differ in length, if an outcome is
+// neither 0 nor 1, or if a risk is NaN.
 func DeLongPaired(y, pa, pb []float64) PairedDeLong {
 	if len(y) != len(pa) || len(y) != len(pb) {
-		panic("metrics: DeLongPaired: lengths differ")
+		panic(fmt.Sprintf("metrics: DeLongPaired: %d outcomes but %d and %d risks", len(y), len(pa), len(pb)))
+	}
+	checkOutcomes("DeLongPaired", y)
+	for _, q := range [][]float64{pa, pb} {
+		for i, v := range q {
+			if v != v {
+				panic(fmt.Sprintf("metrics: DeLongPaired: risk of row %d is NaN", i))
+			}
+		}
 	}
 	va, vb := componentsByRow(y, pa), componentsByRow(y, pb)
 	var ea, eb, na, nb []float64
@@ -89,14 +110,4 @@ func componentsByRow(y, p []float64) []float64 {
 		s = e
 	}
 	return out
-}
-
-// covariance is the sample covariance of a and b (divisor len − 1).
-func covariance(a, b []float64) float64 {
-	ma, mb := mean(a), mean(b)
-	s := 0.0
-	for i := range a {
-		s += (a[i] - ma) * (b[i] - mb)
-	}
-	return s / float64(len(a)-1)
 }

@@ -89,7 +89,7 @@ func near(t *testing.T, what string, got, want, rel float64) {
 func TestAuditMeasuresMatchReferences(t *testing.T) {
 	ref, y, p := loadAuditRef(t)
 	w := ref.WDBC
-	auc, _ := AUC(y, p, nil)
+	auc, _ := AUC(SortByRisk(y, p))
 	near(t, "AUC vs scikit-learn roc_auc_score", auc.AUC, w.AUCSklearn, 1e-9)
 	near(t, "DeLong SE vs the O(n²) formulas", auc.SE, w.AUCSEQuadratic, 1e-9)
 	lp, _ := ClampedLogits(p, 1e-10)
@@ -108,11 +108,11 @@ func TestAuditMeasuresMatchReferences(t *testing.T) {
 	near(t, "slope model intercept", icpt.Value, w.SlopeIntercept, 1e-6)
 	brier, _ := Brier(y, p)
 	near(t, "Brier vs scikit-learn brier_score_loss", brier, w.Brier, 1e-9)
-	for i, nb := range NetBenefits(y, p, []float64{0.05, 0.1, 0.2, 0.3, 0.5}) {
+	for i, nb := range NetBenefits(SortByRisk(y, p), []float64{0.05, 0.1, 0.2, 0.3, 0.5}) {
 		near(t, "net benefit", nb.Model, w.NetBenefit[i].Model, 1e-9)
 		near(t, "treat all", nb.TreatAll, w.NetBenefit[i].TreatAll, 1e-9)
 	}
-	for i, c := range Classify(y, p, []float64{0.1, 0.5}) {
+	for i, c := range Classify(SortByRisk(y, p), []float64{0.1, 0.5}) {
 		rc := w.Classification[i]
 		for _, pair := range []struct {
 			name string
@@ -136,7 +136,7 @@ func TestAuditMeasuresMatchReferences(t *testing.T) {
 func TestLowessMatchesStatsmodels(t *testing.T) {
 	ref, y, p := loadAuditRef(t)
 	for _, rl := range []refLowess{ref.WDBC.LowessExact, ref.WDBC.LowessDelta} {
-		cc := FlexibleCalibration(y, p, nil, LowessOptions{Span: 0.75, Delta: rl.Delta})
+		cc := FlexibleCalibration(SortByRisk(y, p), LowessOptions{Span: 0.75, Delta: rl.Delta})
 		if len(cc.Curve.Fit) != len(rl.Fit) {
 			t.Fatalf("%d points, reference %d", len(cc.Curve.Fit), len(rl.Fit))
 		}
@@ -166,7 +166,7 @@ func TestDeLongWithTiesMatchesQuadratic(t *testing.T) {
 	for i, v := range p {
 		pr[i] = math.Round(v*10) / 10
 	}
-	auc, _ := AUC(y, pr, nil)
+	auc, _ := AUC(SortByRisk(y, pr))
 	near(t, "AUC with ties vs scikit-learn", auc.AUC, ref.Rounded.AUCSklearn, 1e-9)
 	near(t, "DeLong SE with ties vs the O(n²) formulas", auc.SE, ref.Rounded.AUCSEQuadratic, 1e-9)
 }
@@ -187,7 +187,7 @@ func TestHanleyMcNeilRatingExample(t *testing.T) {
 			y, p = append(y, 1), append(p, float64(r+1))
 		}
 	}
-	auc, _ := AUC(y, p, nil)
+	auc, _ := AUC(SortByRisk(y, p))
 	if math.Abs(auc.AUC-0.893) > 0.0005 {
 		t.Errorf("AUC %.4f, published 0.893", auc.AUC)
 	}
@@ -237,7 +237,7 @@ func TestFastDeLongEqualsDefinition(t *testing.T) {
 				y[i] = 1
 			}
 		}
-		got, _ := AUC(y, p, nil)
+		got, _ := AUC(SortByRisk(y, p))
 		auc, se := quadraticDeLong(y, p)
 		if got.Events < 2 || got.NonEvents < 2 {
 			continue
@@ -259,8 +259,8 @@ func TestAUCInvariantToMonotoneTransform(t *testing.T) {
 			y[i] = 1
 		}
 	}
-	a, _ := AUC(y, p, nil)
-	b, _ := AUC(y, q, nil)
+	a, _ := AUC(SortByRisk(y, p))
+	b, _ := AUC(SortByRisk(y, q))
 	if a.AUC != b.AUC || math.Abs(a.SE-b.SE) > 1e-15 {
 		t.Errorf("%v vs %v", a, b)
 	}
@@ -286,7 +286,7 @@ func TestDeLongCoverage(t *testing.T) {
 				p[i] = r.NormFloat64()
 			}
 		}
-		a, _ := AUC(y, p, nil)
+		a, _ := AUC(SortByRisk(y, p))
 		if a.CI[0] <= truth && truth <= a.CI[1] {
 			covered++
 		}

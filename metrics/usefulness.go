@@ -14,53 +14,13 @@ type Counts struct {
 	TP, FP, FN, TN int
 }
 
-// ThresholdCounts returns the 2×2 table at every threshold in ts, in one
-// pass over the rows (each row is placed by binary search among the
-// sorted thresholds).
-func ThresholdCounts(y, p []float64, ts []float64) []Counts {
-	if sort.Float64sAreSorted(p) {
-		return sortedThresholdCounts(y, p, ts)
-	}
-	sorted := append([]float64(nil), ts...)
-	sort.Float64s(sorted)
-	// posAt[k] counts rows whose risk reaches sorted[k-1] but not
-	// sorted[k]: a row with p ≥ sorted[j] for j < k.
-	ev := make([]int, len(sorted)+1)
-	ne := make([]int, len(sorted)+1)
-	for i, v := range p {
-		k := sort.Search(len(sorted), func(j int) bool { return sorted[j] > v })
-		if y[i] == 1 {
-			ev[k]++
-		} else {
-			ne[k]++
-		}
-	}
-	// Rows in bucket k are treated at thresholds sorted[0..k-1].
-	totalE, totalN := 0, 0
-	for k := range ev {
-		totalE += ev[k]
-		totalN += ne[k]
-	}
-	bySorted := make([]Counts, len(sorted))
-	tp, fp := totalE, totalN
-	for j := range sorted {
-		// Rows with p < sorted[j] are in buckets 0..j.
-		tp -= ev[j]
-		fp -= ne[j]
-		bySorted[j] = Counts{Threshold: sorted[j], TP: tp, FP: fp, FN: totalE - tp, TN: totalN - fp}
-	}
-	out := make([]Counts, len(ts))
-	for i, t := range ts {
-		j := sort.SearchFloat64s(sorted, t)
-		out[i] = bySorted[j]
-	}
-	return out
-}
-
-// sortedThresholdCounts is ThresholdCounts for risks sorted ascending:
-// one pass counts the events below each row, and each threshold is then
-// found by binary search.
-func sortedThresholdCounts(y, p []float64, ts []float64) []Counts {
+// ThresholdCounts returns the 2×2 table of the rows of s at every
+// threshold t in ts, in the order of ts: rows with risk ≥ t are
+// classified as events. Each threshold is found by binary search among
+// the sorted risks, and the events below it are counted. Thresholds need
+// not be sorted, and may repeat.
+func ThresholdCounts(s Sorted, ts []float64) []Counts {
+	y, p := s.y, s.p
 	n := len(p)
 	totalE := 0
 	for _, v := range y {
@@ -96,12 +56,16 @@ type NetBenefit struct {
 	TreatNone float64 `json:"treat_none"`
 }
 
-// NetBenefits returns the net benefit at every threshold (each in (0, 1)).
-func NetBenefits(y, p []float64, ts []float64) []NetBenefit {
-	n := float64(len(y))
-	prev := sum(y) / n
+// NetBenefits returns the net benefit of the rows of s at every threshold
+// t in ts, in the order of ts, treating the rows with risk ≥ t (as
+// ThresholdCounts counts them). Thresholds must lie in (0, 1); at 1 the
+// odds are infinite and the values meaningless. Every value is NaN when s
+// is empty.
+func NetBenefits(s Sorted, ts []float64) []NetBenefit {
+	n := float64(s.Len())
+	prev := sum(s.y) / n
 	out := make([]NetBenefit, len(ts))
-	for i, c := range ThresholdCounts(y, p, ts) {
+	for i, c := range ThresholdCounts(s, ts) {
 		odds := c.Threshold / (1 - c.Threshold)
 		out[i] = NetBenefit{
 			Threshold: c.Threshold,
@@ -153,13 +117,17 @@ type Classification struct {
 	Flagged float64 `json:"flagged"`
 }
 
-// Classify returns sensitivity TP/(TP+FN), specificity TN/(TN+FP),
-// positive predictive value TP/(TP+FP) and negative predictive value
-// TN/(TN+FN) at every threshold, each with its Clopper–Pearson interval.
-func Classify(y, p []float64, ts []float64) []Classification {
+// Classify returns, for the rows of s at every threshold t in ts (in the
+// order of ts, rows with risk ≥ t classified as events, as
+// ThresholdCounts counts them), the sensitivity TP/(TP+FN), specificity
+// TN/(TN+FP), positive predictive value TP/(TP+FP) and negative
+// predictive value TN/(TN+FN), each with its Clopper–Pearson interval. A
+// proportion with no rows behind it (no events, say) is NaN, as is
+// Flagged when s is empty.
+func Classify(s Sorted, ts []float64) []Classification {
 	out := make([]Classification, len(ts))
-	n := float64(len(y))
-	for i, c := range ThresholdCounts(y, p, ts) {
+	n := float64(s.Len())
+	for i, c := range ThresholdCounts(s, ts) {
 		out[i] = Classification{
 			Threshold:   c.Threshold,
 			Sensitivity: ClopperPearson(c.TP, c.TP+c.FN),
@@ -183,13 +151,18 @@ type RiskGroup struct {
 	MaxRisk  float64    `json:"max_risk"`
 }
 
-// RiskGroups cuts the rows into g groups of (nearly) equal size by
+// RiskGroups cuts the rows of s into g groups of (nearly) equal size by
 // predicted risk, with the grouping rule of HosmerLemeshow (ties kept
 // together, empty groups dropped), and returns the observed share of
-// events beside the mean risk in each. order is the rows sorted by p, or
-// nil.
-func RiskGroups(y, p []float64, order []int, g int) []RiskGroup {
-	hl := HosmerLemeshowSorted(y, p, order, g, false)
+// events beside the mean risk in each, lowest risks first. An empty s has
+// no groups.
+//
+// RiskGroups panics if g < 1.
+func RiskGroups(s Sorted, g int) []RiskGroup {
+	if g < 1 {
+		panic("metrics: RiskGroups: fewer than one group")
+	}
+	hl := HosmerLemeshow(s, g, false)
 	out := make([]RiskGroup, len(hl.Table))
 	for i, t := range hl.Table {
 		out[i] = RiskGroup{N: t.N, MeanRisk: t.Expected / float64(t.N),
@@ -207,8 +180,19 @@ type Histogram struct {
 	NonEvents []int     `json:"non_events"`
 }
 
-// RiskHistogram returns the histogram of risks by outcome in bins bins.
+// RiskHistogram returns the histogram of risks p by outcome y in bins
+// bins; the rows may be in any order. A risk v goes to bin
+// ⌊v·bins/max⌋, a risk equal to max to the last. Risks must lie in
+// [0, 1].
+//
+// RiskHistogram panics if y and p differ in length, if an outcome is
+// neither 0 nor 1, or if bins < 1.
 func RiskHistogram(y, p []float64, bins int) Histogram {
+	checkLengths("RiskHistogram", y, p)
+	checkOutcomes("RiskHistogram", y)
+	if bins < 1 {
+		panic("metrics: RiskHistogram: fewer than one bin")
+	}
 	top := 0.0
 	for _, v := range p {
 		top = math.Max(top, v)

@@ -357,7 +357,7 @@ func stats(m *Matrix, res *logistic.Result, opt FitOptions) FitStats {
 		groups = 10
 	}
 	p := Predict(m, res.Coef, nil)
-	st.HL = metrics.HosmerLemeshow(m.Y, p, groups, true)
+	st.HL = metrics.HosmerLemeshow(metrics.SortByRisk(m.Y, p), groups, true)
 	return st
 }
 

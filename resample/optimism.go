@@ -355,12 +355,13 @@ func (ws *workspace) measures(pr Problem, lp []float64, order []int, w []float64
 	}
 	ps, ys := ws.ps[:k], ws.ys[:k]
 	var m Measures
-	m.AUC = metrics.AUCSorted(ys, ps)
+	m.AUC = metrics.AUCValue(metrics.AsSorted(ys, ps))
 	if fitted {
 		m.CITL, m.Slope = 0, 1
 	} else {
 		var err error
-		if m.CITL, m.Slope, err = metrics.CalibrationWeighted(pr.Y, lp, w); err != nil {
+		// Each bootstrap worker is one goroutine: the fit stays on it.
+		if m.CITL, m.Slope, err = metrics.CalibrationWeighted(pr.Y, lp, w, 1); err != nil {
 			return m, err
 		}
 	}

@@ -200,7 +200,7 @@ func TestPercentileIntervals(t *testing.T) {
 	if !(a.ScaledBrier[0] < sb && sb < a.ScaledBrier[1]) {
 		t.Errorf("scaled Brier %v outside its interval %v", sb, a.ScaledBrier)
 	}
-	nb := metrics.NetBenefits(y, p, ts)
+	nb := metrics.NetBenefits(metrics.SortByRisk(y, p), ts)
 	for j := range ts {
 		if !(a.NetBenefit[j][0] < nb[j].Model && nb[j].Model < a.NetBenefit[j][1]) {
 			t.Errorf("net benefit %v outside %v", nb[j].Model, a.NetBenefit[j])

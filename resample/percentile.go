@@ -92,7 +92,7 @@ func PercentileIntervals(ctx context.Context, y, p []float64, opt CIOptions) (*C
 				e50, e90 := metrics.Quantiles(diff, 0.5, 0.9)
 				_, sb := metrics.Brier(ys, ps)
 				nb := make([]float64, len(opt.Thresholds))
-				for j, v := range metrics.NetBenefits(ys, ps, opt.Thresholds) {
+				for j, v := range metrics.NetBenefits(metrics.AsSorted(ys, ps), opt.Thresholds) {
 					nb[j] = v.Model
 				}
 				reps[b] = rep{ici: s / float64(n), e50: e50, e90: e90, sb: sb, nb: nb}

@@ -27,8 +27,9 @@ func simulate(r *rand.Rand, n int, mu, sd, t float64) (lnOE, slopeSE, cSE, snb f
 	if err != nil {
 		return math.NaN(), math.NaN(), math.NaN(), math.NaN()
 	}
-	auc, _ := metrics.AUC(y, p, nil)
-	nb := metrics.NetBenefits(y, p, []float64{t})[0].Model
+	sorted := metrics.SortByRisk(y, p)
+	auc, _ := metrics.AUC(sorted)
+	nb := metrics.NetBenefits(sorted, []float64{t})[0].Model
 	ybar := 0.0
 	for _, v := range y {
 		ybar += v
@@ -117,7 +118,7 @@ func TestImpliedCAndEventRate(t *testing.T) {
 			y[i] = 1
 		}
 	}
-	auc, _ := metrics.AUC(y, p, nil)
+	auc, _ := metrics.AUC(metrics.SortByRisk(y, p))
 	if math.Abs(auc.AUC-res.C) > 0.005 {
 		t.Errorf("implied C %.4f, simulated %.4f", res.C, auc.AUC)
 	}

@@ -182,7 +182,7 @@ func membership(dev, cur MixInput) (float64, error) {
 		return 0, fmt.Errorf("the membership model: %w", err)
 	}
 	lp := logistic.Data{X: x, N: n, P: p}.LinearPredictor(fit.Coef, make([]float64, n))
-	auc, _ := metrics.AUC(y, lp, nil)
+	auc, _ := metrics.AUC(metrics.SortByRisk(y, lp))
 	return auc.AUC, nil
 }
 

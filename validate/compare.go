@@ -106,7 +106,7 @@ func Compare(ctx context.Context, y, pa, pb []float64, opt CompareOptions) (*Com
 		return nil, err
 	}
 	c.Brier = BrierComparison{A: ba, B: bb, Difference: ba - bb, DifferenceCI: ci, Replicates: opt.Replicates, Seed: opt.Seed}
-	na, nb := metrics.NetBenefits(y, pa, opt.Thresholds), metrics.NetBenefits(y, pb, opt.Thresholds)
+	na, nb := metrics.NetBenefits(metrics.SortByRisk(y, pa), opt.Thresholds), metrics.NetBenefits(metrics.SortByRisk(y, pb), opt.Thresholds)
 	for i := range na {
 		c.NetBenefit = append(c.NetBenefit, NetBenefitPair{Threshold: na[i].Threshold, A: na[i].Model, B: nb[i].Model, TreatAll: na[i].TreatAll})
 	}

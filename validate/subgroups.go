@@ -92,7 +92,7 @@ func measureSubgroup(col, level string, idx []int, y, p, lp []float64, minEvents
 		g.TooSmall = true
 		return g
 	}
-	auc, _ := metrics.AUC(ys, ps, nil)
+	auc, _ := metrics.AUC(metrics.SortByRisk(ys, ps))
 	oe, oeci, _, _ := metrics.OE(ys, ps)
 	perf := &Performance{Discrimination: Discrimination{auc}}
 	perf.Calibration.OE, perf.Calibration.OECI = oe, oeci

@@ -227,15 +227,8 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	}
 	// Sort once: the measures that walk the rows in risk order read
 	// these contiguous sorted copies.
-	order := metrics.SortedOrder(p)
-	ps, ys := make([]float64, len(p)), make([]float64, len(p))
-	for r, i := range order {
-		ps[r], ys[r] = p[i], y[i]
-	}
-	ident := make([]int, len(p))
-	for i := range ident {
-		ident[i] = i
-	}
+	sorted := metrics.SortByRisk(y, p)
+	ps := sorted.P()
 	lo, hi := ps[0], ps[len(ps)-1]
 	delta := opt.Delta
 	if delta < 0 {
@@ -253,8 +246,8 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 		citl, errCITL = metrics.CalibrationInTheLarge(y, lp)
 		slope, slopeIcpt, errSlope = metrics.CalibrationSlope(y, lp)
 	}()
-	flex := metrics.FlexibleCalibration(ys, ps, ident, metrics.LowessOptions{Span: opt.Span, Delta: delta, Workers: opt.Workers})
-	auc, _ := metrics.AUC(ys, ps, ident)
+	flex := metrics.FlexibleCalibration(sorted, metrics.LowessOptions{Span: opt.Span, Delta: delta, Workers: opt.Workers})
+	auc, _ := metrics.AUC(sorted)
 	perf.Discrimination = Discrimination{auc}
 	wg.Wait()
 	// A calibration model that cannot be fitted (risks that are all the
@@ -278,19 +271,19 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 		CITL: citl.Value, CITLSE: citl.SE, CITLCI: citl.CI,
 		Slope: slope.Value, SlopeSE: slope.SE, SlopeCI: slope.CI, SlopeIntercept: slopeIcpt.Value,
 		OE: oe, OECI: oeci, Observed: obs, Expected: exp,
-		HL:  metrics.HosmerLemeshowSorted(ys, ps, ident, opt.HLGroups, opt.Development),
+		HL:  metrics.HosmerLemeshow(sorted, opt.HLGroups, opt.Development),
 		ICI: flex.ICI, E50: flex.E50, E90: flex.E90, Emax: flex.Emax,
 		Span: opt.Span, Delta: delta, FitPoints: flex.Curve.FitPoints, Band: BandMethod, Notes: notes,
 	}
 	cal.HL.Table = nil
 	perf.Overall.Brier, perf.Overall.ScaledBrier = metrics.Brier(y, p)
-	perf.NetBenefit = metrics.NetBenefits(ys, ps, opt.Thresholds)
-	perf.Classification = metrics.Classify(ys, ps, opt.ClassifyAt)
+	perf.NetBenefit = metrics.NetBenefits(sorted, opt.Thresholds)
+	perf.Classification = metrics.Classify(sorted, opt.ClassifyAt)
 	perf.Curves = Curves{
-		ROC:       metrics.ROC(ys, ps, ident, 500),
+		ROC:       metrics.ROC(sorted, 500),
 		Flexible:  thinCurve(flex.Curve, 200),
-		Groups:    metrics.RiskGroups(ys, ps, ident, opt.Groups),
-		Histogram: metrics.RiskHistogram(ys, ps, 40),
+		Groups:    metrics.RiskGroups(sorted, opt.Groups),
+		Histogram: metrics.RiskHistogram(sorted.Y(), ps, 40),
 	}
 	return perf, nil
 }

@@ -1,0 +1,272 @@
+package metrics
+
+import (
+	"cmp"
+	"fmt"
+	"math"
+	"slices"
+	"sync"
+)
+
+// Sorted is a cohort's outcomes and predicted risks in ascending order of
+// risk, ties kept in row order (the order of a stable sort). It is the
+// one input of every measure that walks the rows in risk order — AUC,
+// AUCValue, ROC, HosmerLemeshow, RiskGroups, FlexibleCalibration,
+// ThresholdCounts, NetBenefits and Classify — so that a cohort is sorted
+// once, by SortByRisk, however many of them are computed, and none of
+// them sorts or copies the rows again.
+//
+// A Sorted is made only by SortByRisk or AsSorted, which check what the
+// measures then rely on: as many outcomes as risks, every outcome 0 or 1,
+// the risks ascending and none NaN. The zero value holds no rows.
+type Sorted struct {
+	y, p []float64
+}
+
+// SortByRisk returns the rows of outcomes y and risks p sorted by p,
+// ties kept in row order, in new slices (16 bytes a row, beside the
+// sort's own temporary 24). The sort is SortedOrder's, on two goroutines
+// for large inputs. The "risks" may be any values that order the rows,
+// such as linear predictors; ±Inf are allowed.
+//
+// SortByRisk panics if y and p differ in length, if an outcome is
+// neither 0 nor 1, or if a risk is NaN.
+func SortByRisk(y, p []float64) Sorted {
+	checkLengths("SortByRisk", y, p)
+	idx := sortedIdx(p, true)
+	s := Sorted{y: make([]float64, len(y)), p: make([]float64, len(p))}
+	for r, i := range idx {
+		o, v := y[i], p[i]
+		if !isOutcome(o) {
+			badOutcome("SortByRisk", int(i), o)
+		}
+		if v != v {
+			panic(fmt.Sprintf("metrics: SortByRisk: risk of row %d is NaN", i))
+		}
+		s.y[r], s.p[r] = o, v
+	}
+	return s
+}
+
+// AsSorted wraps outcomes y and risks p that are already in ascending
+// order of p, as resampling loops build them, without copying: the
+// Sorted shares their storage, so they must not change while it is in
+// use. It reads every row once to check them.
+//
+// AsSorted panics if y and p differ in length, if an outcome is neither
+// 0 nor 1, or if p is not ascending or holds NaN.
+func AsSorted(y, p []float64) Sorted {
+	checkLengths("AsSorted", y, p)
+	for i, v := range p {
+		if o := y[i]; !isOutcome(o) {
+			badOutcome("AsSorted", i, o)
+		}
+		if v != v || i > 0 && !(v >= p[i-1]) {
+			panic(fmt.Sprintf("metrics: AsSorted: risks not ascending at row %d", i))
+		}
+	}
+	return Sorted{y: y, p: p}
+}
+
+// Len returns the number of rows.
+func (s Sorted) Len() int { return len(s.p) }
+
+// Y returns the outcomes in risk order. The slice is the Sorted's own
+// storage: read it, do not change it.
+func (s Sorted) Y() []float64 { return s.y }
+
+// P returns the risks in ascending order. The slice is the Sorted's own
+// storage: read it, do not change it.
+func (s Sorted) P() []float64 { return s.p }
+
+// SortedOrder returns the row indices ordered by p, ties kept in row
+// order (a stable sort). p must hold no NaN; −0 sorts before +0.
+//
+// Large inputs are sorted by a least-significant-digit radix sort on the
+// IEEE-754 bit patterns (mapped so that unsigned order is numeric order),
+// 11 bits per pass, skipping passes in which every key has the same
+// digit. Each pass is split between two goroutines, the first half's rows
+// placed before the second's within every bucket, so the sort stays
+// stable.
+func SortedOrder(p []float64) []int {
+	return widen(sortedIdx(p, true))
+}
+
+// SortedOrderSerial is SortedOrder on the calling goroutine alone, for
+// callers that already run one sort per core.
+func SortedOrderSerial(p []float64) []int {
+	return widen(sortedIdx(p, false))
+}
+
+// widen returns the indices of idx as ints.
+func widen(idx []int32) []int {
+	out := make([]int, len(idx))
+	for i, v := range idx {
+		out[i] = int(v)
+	}
+	return out
+}
+
+// sortedIdx is the order of SortedOrder as 32-bit indices: a stable
+// comparison sort below 4096 rows, the radix sort from there, on two
+// goroutines when parallel is true.
+func sortedIdx(p []float64, parallel bool) []int32 {
+	n := len(p)
+	if n >= 4096 && !parallel {
+		return radixSerial(p)
+	}
+	if n < 4096 {
+		idx := make([]int32, n)
+		for i := range idx {
+			idx[i] = int32(i)
+		}
+		slices.SortStableFunc(idx, func(a, b int32) int { return cmp.Compare(p[a], p[b]) })
+		return idx
+	}
+	const bits, buckets, passes = 11, 1 << 11, 6
+	keys := make([]uint64, n)
+	idx := make([]int32, n)
+	half := n / 2
+	var hist [2][passes][buckets]int
+	var wg sync.WaitGroup
+	for h := 0; h < 2; h++ {
+		wg.Add(1)
+		go func(h int) {
+			defer wg.Done()
+			lo, hi := h*half, n
+			if h == 0 {
+				hi = half
+			}
+			hh := &hist[h]
+			for i := lo; i < hi; i++ {
+				k := radixKey(p[i])
+				keys[i] = k
+				idx[i] = int32(i)
+				for d := 0; d < passes; d++ {
+					hh[d][(k>>(d*bits))&(buckets-1)]++
+				}
+			}
+		}(h)
+	}
+	wg.Wait()
+	tk, ti := make([]uint64, n), make([]int32, n)
+	for d := 0; d < passes; d++ {
+		h0, h1 := &hist[0][d], &hist[1][d]
+		skip := false
+		sum := 0
+		for b := 0; b < buckets; b++ {
+			c0, c1 := h0[b], h1[b]
+			if c0+c1 == n {
+				skip = true
+				break
+			}
+			h0[b], h1[b] = sum, sum+c0
+			sum += c0 + c1
+		}
+		if skip {
+			continue
+		}
+		// The histograms were counted on the original halves; a pass
+		// scatters the current order, whose halves hold other rows, so
+		// recount the second half's digits for this pass.
+		if d > 0 {
+			recount(keys, half, d*bits, h0, h1)
+		}
+		shift := d * bits
+		for h := 0; h < 2; h++ {
+			wg.Add(1)
+			go func(h int) {
+				defer wg.Done()
+				off := h0
+				lo, hi := 0, half
+				if h == 1 {
+					off, lo, hi = h1, half, n
+				}
+				for j := lo; j < hi; j++ {
+					k := keys[j]
+					b := (k >> shift) & (buckets - 1)
+					pos := off[b]
+					off[b]++
+					tk[pos], ti[pos] = k, idx[j]
+				}
+			}(h)
+		}
+		wg.Wait()
+		keys, tk = tk, keys
+		idx, ti = ti, idx
+	}
+	return idx
+}
+
+// recount sets the bucket offsets of both halves for the digit at shift
+// from the keys in their current order: h0 for keys[:half], h1 for the
+// rest.
+func recount(keys []uint64, half int, shift int, h0, h1 *[1 << 11]int) {
+	const buckets = 1 << 11
+	var c0, c1 [buckets]int
+	for _, k := range keys[:half] {
+		c0[(k>>shift)&(buckets-1)]++
+	}
+	for _, k := range keys[half:] {
+		c1[(k>>shift)&(buckets-1)]++
+	}
+	sum := 0
+	for b := 0; b < buckets; b++ {
+		h0[b], h1[b] = sum, sum+c0[b]
+		sum += c0[b] + c1[b]
+	}
+}
+
+// radixSerial is the radix sort of SortedOrder on one goroutine.
+func radixSerial(p []float64) []int32 {
+	const bits, buckets, passes = 11, 1 << 11, 6
+	n := len(p)
+	keys := make([]uint64, n)
+	idx := make([]int32, n)
+	var hist [passes][buckets]int
+	for i, v := range p {
+		k := radixKey(v)
+		keys[i], idx[i] = k, int32(i)
+		for d := 0; d < passes; d++ {
+			hist[d][(k>>(d*bits))&(buckets-1)]++
+		}
+	}
+	tk, ti := make([]uint64, n), make([]int32, n)
+	for d := 0; d < passes; d++ {
+		h := &hist[d]
+		skip := false
+		sum := 0
+		for b := range h {
+			if h[b] == n {
+				skip = true
+				break
+			}
+			c := h[b]
+			h[b] = sum
+			sum += c
+		}
+		if skip {
+			continue
+		}
+		shift := d * bits
+		for j, k := range keys {
+			b := (k >> shift) & (buckets - 1)
+			tk[h[b]], ti[h[b]] = k, idx[j]
+			h[b]++
+		}
+		keys, tk = tk, keys
+		idx, ti = ti, idx
+	}
+	return idx
+}
+
+// radixKey maps a float64 to a uint64 whose unsigned order is the
+// numeric order: negative values have every bit flipped, others only the
+// sign bit.
+func radixKey(v float64) uint64 {
+	k := math.Float64bits(v)
+	if k>>63 == 1 {
+		return ^k
+	}
+	return k | 1<<63
+}
