@@ -5,6 +5,8 @@ import (
 	"reflect"
 	"strings"
 	"testing"
+
+	"github.com/riskaudit/riskaudit/metrics"
 )
 
 func TestParseThresholds(t *testing.T) {
@@ -46,6 +48,37 @@ func TestOneOutcome(t *testing.T) {
 		var oe *OutcomesError
 		if !errors.Is(err, ErrOneOutcome) || !errors.As(err, &oe) || oe.Rows != 3 {
 			t.Errorf("outcomes %v: error %v", y, err)
+		}
+	}
+}
+
+// TestDeltaOptions: the zero Delta takes the default δ for the cohort's
+// size, ExactDelta gives δ = 0 and a local fit at every distinct risk,
+// and a positive Delta is used as it is.
+func TestDeltaOptions(t *testing.T) {
+	n := 20_000
+	y, p := make([]float64, n), make([]float64, n)
+	for i := range p {
+		p[i] = 0.05 + 0.9*float64(i)/float64(n)
+		if i%3 == 0 {
+			y[i] = 1
+		}
+	}
+	want := metrics.DefaultDelta(p[0], p[n-1], n)
+	if want <= 0 {
+		t.Fatalf("the default δ for %d rows is %g: the test needs a positive one", n, want)
+	}
+	for _, tc := range []struct {
+		delta, want float64
+		fits        int
+	}{{AutoDelta, want, -1}, {0, want, -1}, {ExactDelta, 0, n}, {0.05, 0.05, -1}} {
+		perf, err := Assess(y, p, Options{Delta: tc.delta})
+		if err != nil {
+			t.Fatal(err)
+		}
+		c := perf.Calibration
+		if c.Delta != tc.want || tc.fits > 0 && c.FitPoints != tc.fits || tc.fits < 0 && c.FitPoints >= n/2 {
+			t.Errorf("Delta %g: δ %g with %d local fits, want δ %g", tc.delta, c.Delta, c.FitPoints, tc.want)
 		}
 	}
 }

@@ -35,8 +35,10 @@ type Options struct {
 	HLGroups int
 	// Span is the LOWESS span (default 0.75).
 	Span float64
-	// Delta is the LOWESS δ; a negative value (the default, via
-	// AutoDelta) chooses metrics.DefaultDelta.
+	// Delta is the LOWESS δ: zero (the default, AutoDelta) chooses
+	// metrics.DefaultDelta for the cohort's size, a positive value is used
+	// as it is, and a negative one (ExactDelta) asks for δ = 0, a local
+	// fit at every distinct risk.
 	Delta float64
 	// Epsilon clamps risks of 0 or 1 for the logit (default
 	// DefaultEpsilon).
@@ -48,8 +50,13 @@ type Options struct {
 	Workers int
 }
 
-// AutoDelta asks for the default LOWESS δ.
-const AutoDelta = -1
+// AutoDelta asks for the default LOWESS δ (metrics.DefaultDelta); it is
+// the zero value, so that options left unset never ask for an exact
+// smooth of millions of rows.
+const AutoDelta = 0
+
+// ExactDelta asks for δ = 0: a local fit at every distinct risk.
+const ExactDelta = -1
 
 // DefaultThresholds returns 0.05, 0.10, …, 0.50.
 func DefaultThresholds() []float64 {
@@ -231,8 +238,11 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	ps := sorted.P()
 	lo, hi := ps[0], ps[len(ps)-1]
 	delta := opt.Delta
-	if delta < 0 {
+	switch {
+	case delta == AutoDelta:
 		delta = metrics.DefaultDelta(lo, hi, len(p))
+	case delta < 0:
+		delta = 0
 	}
 
 	// The calibration fits and the smooth are the slow parts: run them

@@ -234,9 +234,13 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 		return cfg, err
 	}
 	cfg.Read.Rename = rename
-	cfg.Measures.Delta = o.delta
-	if o.delta < 0 {
+	switch {
+	case o.delta < 0:
 		cfg.Measures.Delta = validate.AutoDelta
+	case o.delta == 0:
+		cfg.Measures.Delta = validate.ExactDelta
+	default:
+		cfg.Measures.Delta = o.delta
 	}
 	if o.predicted != "" {
 		cfg.Predicted = &audit.Predicted{Column: o.predicted, Outcome: o.outcome, Event: o.event, NonEvent: o.nonEvent}
