@@ -9,11 +9,6 @@ import (
 	"strings"
 	"sync/atomic"
 	"testing"
-
-	"github.com/apache/arrow-go/v18/arrow"
-	"github.com/apache/arrow-go/v18/arrow/array"
-	"github.com/apache/arrow-go/v18/arrow/memory"
-	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 )
 
 // countdown is a context that reports itself cancelled from its n-th
@@ -58,7 +53,7 @@ func TestLoadContextStopsPartWay(t *testing.T) {
 		x[i], n[i], g[i] = float64(i), int64(i), "a"
 	}
 	pq := filepath.Join(dir, "big.parquet")
-	writeParquetChunked(t, pq, x, n, g, 50_000)
+	writeParquetRows(t, pq, 50_000, x, nil, n, g, g)
 	reqs := []Request{{Name: "x", Kind: Numeric}, {Name: "g", Kind: Categorical}}
 	for _, path := range []string{csv, pq} {
 		fr, err := LoadContext(context.Background(), path, reqs, Options{Workers: 1})
@@ -73,34 +68,5 @@ func TestLoadContextStopsPartWay(t *testing.T) {
 				t.Errorf("%s cancelled at check %d: frame %v, error %v", filepath.Ext(path), after, fr != nil, err)
 			}
 		}
-	}
-}
-
-// writeParquetChunked writes columns x (float), n (int) and g (string)
-// in row groups of chunk rows.
-func writeParquetChunked(t testing.TB, path string, x []float64, n []int64, g []string, chunk int64) {
-	t.Helper()
-	mem := memory.DefaultAllocator
-	schema := arrow.NewSchema([]arrow.Field{
-		{Name: "x", Type: arrow.PrimitiveTypes.Float64},
-		{Name: "n", Type: arrow.PrimitiveTypes.Int64},
-		{Name: "g", Type: arrow.BinaryTypes.String},
-	}, nil)
-	b := array.NewRecordBuilder(mem, schema)
-	defer b.Release()
-	b.Field(0).(*array.Float64Builder).AppendValues(x, nil)
-	b.Field(1).(*array.Int64Builder).AppendValues(n, nil)
-	b.Field(2).(*array.StringBuilder).AppendValues(g, nil)
-	rec := b.NewRecord()
-	defer rec.Release()
-	tbl := array.NewTableFromRecords(schema, []arrow.Record{rec})
-	defer tbl.Release()
-	f, err := os.Create(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	if err := pqarrow.WriteTable(tbl, f, chunk, nil, pqarrow.DefaultWriterProps()); err != nil {
-		t.Fatal(err)
 	}
 }

@@ -19,6 +19,12 @@ import (
 // t holding numbers as text.
 func writeParquet(t testing.TB, path string, x []float64, valid []bool, n []int64, g []string, txt []string) {
 	t.Helper()
+	writeParquetRows(t, path, 2, x, valid, n, g, txt)
+}
+
+// writeParquetRows is writeParquet in row groups of chunk rows.
+func writeParquetRows(t testing.TB, path string, chunk int64, x []float64, valid []bool, n []int64, g []string, txt []string) {
+	t.Helper()
 	mem := memory.DefaultAllocator
 	schema := arrow.NewSchema([]arrow.Field{
 		{Name: "x", Type: arrow.PrimitiveTypes.Float64, Nullable: true},
@@ -44,7 +50,7 @@ func writeParquet(t testing.TB, path string, x []float64, valid []bool, n []int6
 	if err != nil {
 		t.Fatal(err)
 	}
-	if err := pqarrow.WriteTable(tbl, f, 2, nil, pqarrow.DefaultWriterProps()); err != nil {
+	if err := pqarrow.WriteTable(tbl, f, chunk, nil, pqarrow.DefaultWriterProps()); err != nil {
 		t.Fatal(err)
 	}
 	f.Close()
