@@ -74,3 +74,26 @@ func TestReportSectionsAndCaution(t *testing.T) {
 		t.Error("the summary must come first")
 	}
 }
+
+// TestFailureReasonsInOrder: the bootstrap's failure reasons are listed
+// in the order of their names, so the report is the same on every run
+// (a map's order is not).
+func TestFailureReasonsInOrder(t *testing.T) {
+	perf, err := validate.Assess([]float64{0, 1, 0, 1, 1, 0}, []float64{0.1, 0.8, 0.3, 0.6, 0.9, 0.2}, validate.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	reasons := map[string]int{"separation": 3, "a level absent from the sample": 2, "no convergence": 1, "collinear terms": 4}
+	want := "(a level absent from the sample: 2; collinear terms: 4; no convergence: 1; separation: 3)"
+	for run := 0; run < 20; run++ {
+		a := validate.NewAudit(validate.ModelInfo{Name: "m"}, validate.Provenance{}, perf, nil, "")
+		a.SetInternal(&validate.Internal{Bootstrap: 30, Failed: 10, Reasons: reasons})
+		var b bytes.Buffer
+		if err := Write(&b, a, nil); err != nil {
+			t.Fatal(err)
+		}
+		if !strings.Contains(b.String(), want) {
+			t.Fatalf("run %d: the reasons are not listed as %s", run, want)
+		}
+	}
+}
