@@ -14,73 +14,56 @@ func exists(path string) bool {
 }
 
 // applyPlan fills every option the command line did not set from the
-// plan.
+// plan: a plan key that the plan gives takes effect unless its flag was
+// typed.
 func applyPlan(cmd *cobra.Command, o *auditOptions) error {
 	pl, err := plan.Load(o.planFile)
 	if err != nil {
 		return err
 	}
-	fl := cmd.Flags()
-	str := func(flag, key string, dst *string, v string) {
-		if pl.Set[key] && !fl.Changed(flag) {
-			*dst = v
-		}
-	}
-	str("model", "model", &o.cfg.Model, pl.Model)
-	str("predicted", "predicted", &o.predicted, pl.Predicted)
-	str("outcome", "outcome", &o.outcome, pl.Outcome)
-	str("event", "event", &o.event, pl.Event)
-	str("non-event", "non_event", &o.nonEvent, pl.NonEvent)
-	str("dev", "dev", &o.cfg.Dev.Path, pl.Dev)
-	str("cohort", "cohort", &o.cfg.Cohort.Path, pl.Cohort)
-	str("out", "out", &o.out, pl.Out)
-	str("history", "history", &o.history, pl.History)
-	str("audit-date", "audit_date", &o.auditDate, pl.AuditDate)
-	str("thresholds", "thresholds", &o.thresholds, pl.Thresholds)
-	str("delimiter", "data.delimiter", &o.data.delimiter, pl.Data.Delimiter)
-	str("missing", "data.missing", &o.data.missing, pl.Data.Missing)
-	if pl.Set["data.decimal_comma"] && !fl.Changed("decimal-comma") {
-		o.data.decimalComma = pl.Data.DecimalComma
-	}
-	if pl.Set["data.na_values"] && !fl.Changed("na-values") {
-		o.data.naValues = pl.Data.NAValues
-	}
-	if pl.Set["classify_at"] && !fl.Changed("classify-at") {
-		o.cfg.Measures.ClassifyAt = pl.ClassifyAt
-	}
-	if pl.Set["subgroups"] && !fl.Changed("subgroups") {
-		o.cfg.Subgroups = pl.Subgroups
-	}
-	if pl.Set["min_subgroup_events"] && !fl.Changed("min-subgroup-events") {
-		o.cfg.MinSubgroupEvents = pl.MinSubgroupEvents
-	}
-	if pl.Set["bootstrap.replicates"] && !fl.Changed("bootstrap") {
-		o.cfg.Bootstrap = pl.Bootstrap
-	}
-	if pl.Set["bootstrap.seed"] && !fl.Changed("seed") {
-		o.cfg.Seed = pl.Seed
-	}
-	if pl.Set["ci_bootstrap"] && !fl.Changed("ci-bootstrap") {
-		o.cfg.CIBootstrap = pl.CIBootstrap
-	}
-	// The sample-size section: widths the flags did not set, and the
-	// threshold and anticipated values, which only a plan gives.
-	widths := o.cfg.SampleSize
-	o.cfg.SampleSize = pl.SampleSize
-	for _, w := range []struct {
+	c, ss := &o.cfg, pl.SampleSize
+	for _, f := range []struct {
 		flag, key string
-		dst       *float64
-		flagValue float64
-	}{{"oe-width", "oe_width", &o.cfg.SampleSize.OEWidth, widths.OEWidth}, {"slope-width", "slope_width", &o.cfg.SampleSize.SlopeWidth, widths.SlopeWidth},
-		{"c-width", "c_width", &o.cfg.SampleSize.CWidth, widths.CWidth}, {"nb-width", "nb_width", &o.cfg.SampleSize.NBWidth, widths.NBWidth}} {
-		if !pl.Set["sample_size."+w.key] || fl.Changed(w.flag) {
-			*w.dst = w.flagValue
+		apply     func()
+	}{
+		{"model", "model", func() { c.Model = pl.Model }},
+		{"predicted", "predicted", func() { o.predicted = pl.Predicted }},
+		{"outcome", "outcome", func() { o.outcome = pl.Outcome }},
+		{"event", "event", func() { o.event = pl.Event }},
+		{"non-event", "non_event", func() { o.nonEvent = pl.NonEvent }},
+		{"dev", "dev", func() { c.Dev.Path = pl.Dev }},
+		{"cohort", "cohort", func() { c.Cohort.Path = pl.Cohort }},
+		{"out", "out", func() { o.out = pl.Out }},
+		{"history", "history", func() { o.history = pl.History }},
+		{"audit-date", "audit_date", func() { o.auditDate = pl.AuditDate }},
+		{"thresholds", "thresholds", func() { o.thresholds = pl.Thresholds }},
+		{"delimiter", "data.delimiter", func() { o.data.delimiter = pl.Data.Delimiter }},
+		{"missing", "data.missing", func() { o.data.missing = pl.Data.Missing }},
+		{"decimal-comma", "data.decimal_comma", func() { o.data.decimalComma = pl.Data.DecimalComma }},
+		{"na-values", "data.na_values", func() { o.data.naValues = pl.Data.NAValues }},
+		{"classify-at", "classify_at", func() { c.Measures.ClassifyAt = pl.ClassifyAt }},
+		{"subgroups", "subgroups", func() { c.Subgroups = pl.Subgroups }},
+		{"min-subgroup-events", "min_subgroup_events", func() { c.MinSubgroupEvents = pl.MinSubgroupEvents }},
+		{"bootstrap", "bootstrap.replicates", func() { c.Bootstrap = pl.Bootstrap }},
+		{"seed", "bootstrap.seed", func() { c.Seed = pl.Seed }},
+		{"ci-bootstrap", "ci_bootstrap", func() { c.CIBootstrap = pl.CIBootstrap }},
+		{"oe-width", "sample_size.oe_width", func() { c.SampleSize.OEWidth = ss.OEWidth }},
+		{"slope-width", "sample_size.slope_width", func() { c.SampleSize.SlopeWidth = ss.SlopeWidth }},
+		{"c-width", "sample_size.c_width", func() { c.SampleSize.CWidth = ss.CWidth }},
+		{"nb-width", "sample_size.nb_width", func() { c.SampleSize.NBWidth = ss.NBWidth }},
+	} {
+		if pl.Set[f.key] && !cmd.Flags().Changed(f.flag) {
+			f.apply()
 		}
 	}
+	// The sample-size threshold and anticipated values, which only a plan
+	// gives; the criteria; the renames.
+	ss.Targets = c.SampleSize.Targets
+	c.SampleSize = ss
 	if pl.Set["criteria"] {
-		o.cfg.Criteria = pl.Criteria
+		c.Criteria = pl.Criteria
 	}
-	o.cfg.Read.Rename = pl.Rename
+	c.Read.Rename = pl.Rename
 	if o.out == "" {
 		return usagef("the plan %s names no out folder and --out is not given", o.planFile)
 	}

@@ -27,48 +27,32 @@ func (f *dataFlags) register(fs *pflag.FlagSet) {
 	fs.StringVar(&f.format, "format", "auto", "cohort file format: csv (delimited text), parquet, arrow (Arrow IPC file), or auto (columnar files are recognised by their first bytes)")
 }
 
-func (f *dataFlags) cohortOptions() (cohort.Options, error) {
-	var o cohort.Options
-	var err error
+// options returns how to read the files and whether a missing value is
+// an error (the --missing policy).
+func (f *dataFlags) options() (o cohort.Options, fail bool, err error) {
 	if o.Delimiter, err = cohort.ParseDelimiter(f.delimiter); err != nil {
-		return o, usagef("--delimiter %v", err)
+		return o, false, usagef("--delimiter %v", err)
 	}
-	o.DecimalComma = f.decimalComma
 	switch f.format {
 	case "auto", "":
 	case "csv", "parquet", "arrow":
 		o.Format = f.format
 	default:
-		return o, usagef("--format %q: give csv, parquet, arrow or auto", f.format)
+		return o, false, usagef("--format %q: give csv, parquet, arrow or auto", f.format)
 	}
-	if o.DecimalComma && o.Delimiter == ',' {
-		return o, usagef("--decimal-comma needs a delimiter other than a comma")
+	if o.DecimalComma = f.decimalComma; o.DecimalComma && o.Delimiter == ',' {
+		return o, false, usagef("--decimal-comma needs a delimiter other than a comma")
 	}
 	if f.naValues != nil {
 		o.Missing = append([]string{}, f.naValues...)
 	}
-	return o, nil
-}
-
-// options returns how to read the files and whether a missing value is
-// an error.
-func (f *dataFlags) options() (cohort.Options, bool, error) {
-	copt, err := f.cohortOptions()
-	if err != nil {
-		return copt, false, err
-	}
-	fail, err := f.failOnMissing()
-	return copt, fail, err
-}
-
-func (f *dataFlags) failOnMissing() (bool, error) {
 	switch f.missing {
 	case "complete-case":
-		return false, nil
+		return o, false, nil
 	case "fail":
-		return true, nil
+		return o, true, nil
 	}
-	return false, usagef("--missing %q: give complete-case or fail", f.missing)
+	return o, false, usagef("--missing %q: give complete-case or fail", f.missing)
 }
 
 // now returns the current time in UTC, or the time in SOURCE_DATE_EPOCH

@@ -146,33 +146,33 @@ func run(ctx context.Context, args []string, s *streams) int {
 	return code
 }
 
+// exitCode maps an error to the exit status by its type.
 func exitCode(err error) int {
-	var ue *usageError
-	var ce *cohort.Error
-	var se *model.SpecError
-	var sep *model.SeparationError
-	var fe *model.FitError
-	var cr *criterionError
-	var pe *plan.Error
-	var ae *audit.ConfigError
+	is := func(targets ...any) bool {
+		for _, t := range targets {
+			if errors.As(err, t) {
+				return true
+			}
+		}
+		return false
+	}
 	var in *interrupted
+	msg := err.Error()
 	switch {
 	case errors.As(err, &in):
 		return exitSignalBase + int(in.sig)
-	case errors.As(err, &cr):
+	case is(new(*criterionError)):
 		return exitCriterion
-	case errors.As(err, &ue), errors.As(err, &ae):
+	case is(new(*usageError), new(*audit.ConfigError)):
 		return exitUsage
-	case errors.As(err, &pe):
+	case is(new(*plan.Error), new(*audit.HistoryError)):
 		return exitBadInput
-	case errors.As(err, new(*audit.HistoryError)):
-		return exitBadInput
-	case errors.As(err, &sep), errors.As(err, &fe):
+	case is(new(*model.SeparationError), new(*model.FitError)):
 		return exitCannotFit
-	case errors.As(err, &ce), errors.As(err, &se):
+	case is(new(*cohort.Error), new(*model.SpecError)):
 		return exitBadInput
-	case strings.HasPrefix(err.Error(), "unknown command"), strings.HasPrefix(err.Error(), "unknown flag"),
-		strings.Contains(err.Error(), "required flag"), strings.HasPrefix(err.Error(), "accepts "):
+	case strings.HasPrefix(msg, "unknown command"), strings.HasPrefix(msg, "unknown flag"),
+		strings.Contains(msg, "required flag"), strings.HasPrefix(msg, "accepts "):
 		return exitUsage
 	}
 	return exitOtherFailed
