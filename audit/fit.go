@@ -2,7 +2,6 @@ package audit
 
 import (
 	"context"
-	"encoding/json"
 	"fmt"
 	"math"
 	"slices"
@@ -10,6 +9,7 @@ import (
 
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
+	"github.com/riskaudit/riskaudit/internal/jsonout"
 	"github.com/riskaudit/riskaudit/model"
 )
 
@@ -229,11 +229,11 @@ func WriteFit(path, jsonPath string, r *FitResult) error {
 	}
 	var files []atomicfile.File
 	if jsonPath != "" {
-		b, err := json.MarshalIndent(r.Report, "", "  ")
+		b, err := jsonout.Marshal(r.Report)
 		if err != nil {
-			return err
+			return fmt.Errorf("writing %s: %w", jsonPath, err)
 		}
-		files = append(files, atomicfile.File{Path: jsonPath, Data: append(b, '\n')})
+		files = append(files, atomicfile.File{Path: jsonPath, Data: b})
 	}
 	return atomicfile.WriteAll("", append(files, atomicfile.File{Path: path, Data: yml}))
 }

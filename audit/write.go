@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
-	"regexp"
 	"time"
 
 	"github.com/riskaudit/riskaudit/history"
@@ -48,13 +47,12 @@ func Write(dir string, r *Result) error {
 	return atomicfile.WriteAll(dir, files)
 }
 
-var datePattern = regexp.MustCompile(`^\d{4}-\d{2}-\d{2}$`)
-
-// CheckAuditDate refuses a date that is not written YYYY-MM-DD, with a
+// CheckAuditDate refuses a date that is not a calendar date written
+// YYYY-MM-DD (2026-02-30 and 2026-13-01 are refused), with a
 // *ConfigError.
 func CheckAuditDate(date string) error {
-	if !datePattern.MatchString(date) {
-		return configErrorf("--audit-date %q: give YYYY-MM-DD", date)
+	if t, err := time.Parse(time.DateOnly, date); err != nil || t.Format(time.DateOnly) != date {
+		return configErrorf("--audit-date %q: give a date as YYYY-MM-DD", date)
 	}
 	return nil
 }

@@ -181,7 +181,7 @@ func runAudit(ctx context.Context, o *auditOptions, s *streams) error {
 	if err := audit.CheckOutputDir(o.out); err != nil {
 		return err
 	}
-	if o.history != "" && o.auditDate != "" {
+	if o.auditDate != "" {
 		if err := audit.CheckAuditDate(o.auditDate); err != nil {
 			return err
 		}
