@@ -226,13 +226,13 @@ func TestWriteAllOrNothing(t *testing.T) {
 		t.Fatal(err)
 	}
 	out := filepath.Join(t.TempDir(), "audit")
-	if err := audit.Write(out, res); err == nil {
+	if _, err := audit.Write(out, res, audit.WriteOptions{}); err == nil {
 		t.Fatal("the updated model's folder does not exist, yet Write succeeded")
 	}
 	if entries, _ := os.ReadDir(out); len(entries) != 0 {
 		t.Errorf("a failed Write left %d files", len(entries))
 	}
-	if err := audit.Write(d.Later, res); err == nil {
+	if _, err := audit.Write(d.Later, res, audit.WriteOptions{}); err == nil {
 		t.Error("Write into a file that is not a folder succeeded")
 	}
 }

@@ -25,7 +25,7 @@ func benchAudit(b *testing.B, d fixture.Demo, cohortFile string) {
 		if err != nil {
 			b.Fatal(err)
 		}
-		if err := audit.Write(out, res); err != nil {
+		if _, err := audit.Write(out, res, audit.WriteOptions{}); err != nil {
 			b.Fatal(err)
 		}
 	}

@@ -5,6 +5,8 @@ import (
 	"context"
 	"errors"
 	"path/filepath"
+	"slices"
+	"time"
 
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
@@ -30,14 +32,21 @@ type CompareConfig struct {
 	// Measures are the decision curves' thresholds and the bootstrap of
 	// the Brier difference.
 	Measures validate.CompareOptions
-	// Tool and CommandLine record how the comparison was made.
+	// Tool and CommandLine record how the comparison was made; Clock
+	// gives the time (nil: now, UTC).
 	Tool, CommandLine string
+	Clock             func() time.Time
 }
 
 // CompareResult is a finished comparison and its figure.
 type CompareResult struct {
 	Comparison *validate.Comparison
 	Figure     plots.Figure
+	// Inputs are the models' and the cohort's paths, which no output may
+	// overwrite.
+	Inputs []string
+	// Made is when the comparison was made, by the config's clock.
+	Made time.Time
 }
 
 // Compare scores the cohort's rows complete for both models and compares
@@ -105,7 +114,7 @@ func Compare(ctx context.Context, cfg CompareConfig) (*CompareResult, error) {
 	if err != nil {
 		return nil, err
 	}
-	return &CompareResult{Comparison: cmp, Figure: fig}, nil
+	return &CompareResult{Comparison: cmp, Figure: fig, Inputs: append(slices.Clone(cfg.Models), cfg.Cohort.Path), Made: now(cfg.Clock)}, nil
 }
 
 // scoreBoth returns the outcomes and both models' risks on the rows
@@ -142,22 +151,18 @@ func scoreBoth(fr *cohort.Frame, specs []*model.Spec, reqs []cohort.Request, cfg
 }
 
 // WriteComparison writes compare.md, compare.json and the decision
-// curves into dir (created if absent), all or nothing.
-func WriteComparison(dir string, c *CompareResult) error {
-	if err := CheckOutputDir(dir); err != nil {
-		return err
-	}
+// curves into dir (created if absent), whole and all or nothing, with
+// the rules of Write.
+func WriteComparison(dir string, c *CompareResult) (*Written, error) {
 	js, err := jsonout.Marshal(c.Comparison)
 	if err != nil {
-		return err
+		return nil, err
 	}
 	var md bytes.Buffer
 	if err := report.WriteComparison(&md, c.Comparison, c.Figure.Name); err != nil {
-		return err
+		return nil, err
 	}
-	return atomicfile.WriteAll(dir, []atomicfile.File{
-		{Path: filepath.Join(dir, c.Figure.Name), Data: c.Figure.SVG},
-		{Path: filepath.Join(dir, "compare.json"), Data: js},
-		{Path: filepath.Join(dir, "compare.md"), Data: md.Bytes()},
-	})
+	return (&folderWrite{dir: dir, kind: "comparison", written: c.Made, inputs: c.Inputs, files: []atomicfile.File{
+		{Path: "compare.md", Data: md.Bytes()}, {Path: "compare.json", Data: js}, {Path: c.Figure.Name, Data: c.Figure.SVG},
+	}}).write()
 }

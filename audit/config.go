@@ -125,10 +125,18 @@ type Config struct {
 // ConfigError is a Config that cannot be run as it is: contradictory or
 // out-of-range options. Its message names the options by their
 // command-line flags, which are the names riskaudit's users know.
-type ConfigError struct{ Msg string }
+type ConfigError struct {
+	Msg string
+	// Err is the refusal underneath, if any (such as an
+	// *atomicfile.TargetError); Unwrap returns it.
+	Err error
+}
 
 // Error returns the message.
 func (e *ConfigError) Error() string { return e.Msg }
+
+// Unwrap returns the refusal underneath.
+func (e *ConfigError) Unwrap() error { return e.Err }
 
 func configErrorf(format string, args ...any) error {
 	return &ConfigError{Msg: fmt.Sprintf(format, args...)}

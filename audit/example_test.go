@@ -41,7 +41,7 @@ func Example() {
 	fmt.Printf("O/E %.2f (95%% CI %.2f to %.2f)\n", a.Calibration.OE, a.Calibration.OECI[0], a.Calibration.OECI[1])
 	fmt.Printf("verdict %s\n", a.Verdict.Status)
 
-	if err := audit.Write(filepath.Join(dir, "audit"), res); err != nil {
+	if _, err := audit.Write(filepath.Join(dir, "audit"), res, audit.WriteOptions{}); err != nil {
 		log.Fatal(err)
 	}
 	// Output:

@@ -4,7 +4,7 @@ import (
 	"bytes"
 	"fmt"
 	"os"
-	"path/filepath"
+	"time"
 
 	"github.com/riskaudit/riskaudit/history"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
@@ -39,12 +39,14 @@ type Trend struct {
 	Records []history.Record
 	Trend   *trend.Trend
 	Figures []plots.Figure
+	// Made is when the trend was read, by the clock given to ReadTrend.
+	Made time.Time
 }
 
 // ReadTrend reads every audit in the history store at path and builds
 // the trend (O/E control limits, the first audit outside them) and its
-// charts.
-func ReadTrend(path string) (*Trend, error) {
+// charts; clock gives the time (nil: now, UTC).
+func ReadTrend(path string, clock func() time.Time) (*Trend, error) {
 	if _, err := os.Stat(path); err != nil {
 		return nil, &HistoryError{Path: path, Err: err}
 	}
@@ -57,19 +59,19 @@ func ReadTrend(path string) (*Trend, error) {
 	if err != nil {
 		return nil, err
 	}
-	return &Trend{Source: path, Records: recs, Trend: tr, Figures: figs}, nil
+	return &Trend{Source: path, Records: recs, Trend: tr, Figures: figs, Made: now(clock)}, nil
 }
 
 // WriteTrend writes trend.md and the charts into dir (created if
-// absent), all or nothing.
-func WriteTrend(dir string, t *Trend) error {
+// absent), whole and all or nothing, with the rules of Write.
+func WriteTrend(dir string, t *Trend) (*Written, error) {
 	var md bytes.Buffer
 	if err := report.WriteTrend(&md, t.Trend, t.Source, t.Figures); err != nil {
-		return fmt.Errorf("writing trend.md: %w", err)
+		return nil, fmt.Errorf("writing trend.md: %w", err)
 	}
-	files := []atomicfile.File{{Path: filepath.Join(dir, "trend.md"), Data: md.Bytes()}}
+	files := []atomicfile.File{{Path: "trend.md", Data: md.Bytes()}}
 	for _, f := range t.Figures {
-		files = append(files, atomicfile.File{Path: filepath.Join(dir, f.Name), Data: f.SVG})
+		files = append(files, atomicfile.File{Path: f.Name, Data: f.SVG})
 	}
-	return atomicfile.WriteAll(dir, files)
+	return (&folderWrite{dir: dir, kind: "trend", written: t.Made, files: files, inputs: []string{t.Source}}).write()
 }

@@ -57,6 +57,10 @@ type Record struct {
 	Verdict    string
 	// JSON is the whole audit.json.
 	JSON string
+	// Token, when set, names the output the record was written with, so
+	// that a run stopped between writing its audit folder and committing
+	// the record can be recognised (HasToken).
+	Token string
 }
 
 const schema = `CREATE TABLE IF NOT EXISTS audits (
@@ -102,30 +106,101 @@ func Append(path string, r Record) error {
 	return appendTx(db, r, nil)
 }
 
-// appendTx appends in one transaction; beforeCommit (for tests) runs
-// after the insert and before the commit.
-func appendTx(db *sql.DB, r Record, beforeCommit func()) error {
-	tx, err := db.Begin()
+// Pending is a record inserted in an open transaction, holding the
+// store's write lock until Commit or Rollback, so that a caller can put
+// other outputs in place between the insert and the commit.
+type Pending struct {
+	db *sql.DB
+	tx *sql.Tx
+}
+
+// Begin inserts r into the store at path (created if needed) in a
+// transaction left open.
+func Begin(path string, r Record) (*Pending, error) {
+	db, err := open(path)
+	if err != nil {
+		return nil, err
+	}
+	tx, err := insert(db, r)
+	if err != nil {
+		db.Close()
+		return nil, err
+	}
+	return &Pending{db: db, tx: tx}, nil
+}
+
+// Commit commits the record.
+func (p *Pending) Commit() error {
+	defer p.db.Close()
+	if err := p.tx.Commit(); err != nil {
+		return fmt.Errorf("history: committing: %w", err)
+	}
+	return nil
+}
+
+// Rollback abandons the record.
+func (p *Pending) Rollback() {
+	p.tx.Rollback()
+	p.db.Close()
+}
+
+// HasToken reports whether the store at path holds a record with the
+// token.
+func HasToken(path, token string) (bool, error) {
+	db, err := open(path)
+	if err != nil {
+		return false, err
+	}
+	defer db.Close()
+	if err := migrate(db); err != nil {
+		return false, err
+	}
+	var n int
+	if err := db.QueryRow(`SELECT COUNT(*) FROM audits WHERE token = ?`, token).Scan(&n); err != nil {
+		return false, fmt.Errorf("history %s: %w", path, err)
+	}
+	return n > 0, nil
+}
+
+// migrate creates the table, and adds the token column to a store made
+// before it existed.
+func migrate(db interface {
+	Exec(string, ...any) (sql.Result, error)
+	Query(string, ...any) (*sql.Rows, error)
+}) error {
+	if _, err := db.Exec(schema); err != nil {
+		return fmt.Errorf("history: creating the table: %w", err)
+	}
+	rows, err := db.Query(`SELECT name FROM pragma_table_info('audits')`)
 	if err != nil {
 		return fmt.Errorf("history: %w", err)
 	}
-	defer tx.Rollback()
-	if _, err := tx.Exec(schema); err != nil {
-		return fmt.Errorf("history: creating the table: %w", err)
+	has := false
+	for rows.Next() {
+		var name string
+		if err := rows.Scan(&name); err != nil {
+			rows.Close()
+			return fmt.Errorf("history: %w", err)
+		}
+		has = has || name == "token"
 	}
-	if r.RecordedAt == "" {
-		r.RecordedAt = time.Now().UTC().Format(time.RFC3339)
+	rows.Close()
+	if !has {
+		if _, err := db.Exec(`ALTER TABLE audits ADD COLUMN token TEXT NOT NULL DEFAULT ''`); err != nil {
+			return fmt.Errorf("history: adding the token column: %w", err)
+		}
 	}
-	_, err = tx.Exec(`INSERT INTO audits (audit_date, recorded_at, model, model_sha256, cohort, cohort_sha256,
-		rows_read, rows_used, events, expected, auc, auc_lower, auc_upper, oe, oe_lower, oe_upper,
-		slope, slope_lower, slope_upper, citl, citl_lower, citl_upper, ici, brier, verdict, audit_json)
-		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
-		r.AuditDate, r.RecordedAt, r.Model, r.ModelSHA, r.Cohort, r.CohortSHA, r.Rows, r.Used, r.Events, r.Expected,
-		r.AUC[0], r.AUC[1], r.AUC[2], r.OE[0], r.OE[1], r.OE[2], r.Slope[0], r.Slope[1], r.Slope[2],
-		r.CITL[0], r.CITL[1], r.CITL[2], r.ICI, r.Brier, r.Verdict, r.JSON)
+	return nil
+}
+
+// appendTx appends in one transaction; beforeCommit (for tests) runs
+// after the insert and before the commit.
+func appendTx(db *sql.DB, r Record, beforeCommit func()) error {
+	tx, err := insert(db, r)
 	if err != nil {
-		return fmt.Errorf("history: appending: %w", err)
+		return err
 	}
+	defer tx.Rollback()
 	if beforeCommit != nil {
 		beforeCommit()
 	}
@@ -133,6 +208,34 @@ func appendTx(db *sql.DB, r Record, beforeCommit func()) error {
 		return fmt.Errorf("history: committing: %w", err)
 	}
 	return nil
+}
+
+// insert begins a transaction (taking the write lock), creates or
+// migrates the table and inserts r; the caller commits or rolls back.
+func insert(db *sql.DB, r Record) (*sql.Tx, error) {
+	tx, err := db.Begin()
+	if err != nil {
+		return nil, fmt.Errorf("history: %w", err)
+	}
+	if err := migrate(tx); err != nil {
+		tx.Rollback()
+		return nil, err
+	}
+	if r.RecordedAt == "" {
+		r.RecordedAt = time.Now().UTC().Format(time.RFC3339)
+	}
+	_, err = tx.Exec(`INSERT INTO audits (audit_date, recorded_at, model, model_sha256, cohort, cohort_sha256,
+		rows_read, rows_used, events, expected, auc, auc_lower, auc_upper, oe, oe_lower, oe_upper,
+		slope, slope_lower, slope_upper, citl, citl_lower, citl_upper, ici, brier, verdict, audit_json, token)
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		r.AuditDate, r.RecordedAt, r.Model, r.ModelSHA, r.Cohort, r.CohortSHA, r.Rows, r.Used, r.Events, r.Expected,
+		r.AUC[0], r.AUC[1], r.AUC[2], r.OE[0], r.OE[1], r.OE[2], r.Slope[0], r.Slope[1], r.Slope[2],
+		r.CITL[0], r.CITL[1], r.CITL[2], r.ICI, r.Brier, r.Verdict, r.JSON, r.Token)
+	if err != nil {
+		tx.Rollback()
+		return nil, fmt.Errorf("history: appending: %w", err)
+	}
+	return tx, nil
 }
 
 // Read returns every record of the store at path, by audit date and then

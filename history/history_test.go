@@ -147,3 +147,67 @@ func execAll(t *testing.T, path string, stmts ...string) {
 		}
 	}
 }
+
+// TestPending: a record begun and rolled back leaves nothing; one
+// committed is there with its token; HasToken tells them apart.
+func TestPending(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "h.sqlite")
+	if err := Append(path, rec(0)); err != nil {
+		t.Fatal(err)
+	}
+	r := rec(1)
+	r.Token = "abandoned"
+	p, err := Begin(path, r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.Rollback()
+	r.Token = "kept"
+	if p, err = Begin(path, r); err != nil {
+		t.Fatal(err)
+	}
+	if err := p.Commit(); err != nil {
+		t.Fatal(err)
+	}
+	recs, err := Read(path)
+	if err != nil || len(recs) != 2 {
+		t.Fatalf("%d records, %v", len(recs), err)
+	}
+	for token, want := range map[string]bool{"kept": true, "abandoned": false} {
+		if got, err := HasToken(path, token); err != nil || got != want {
+			t.Errorf("HasToken(%q) = %v, %v", token, got, err)
+		}
+	}
+}
+
+// TestMigratesStoreWithoutToken: a store made before the token column
+// gains it on the next append, and its records stay readable.
+func TestMigratesStoreWithoutToken(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "old.sqlite")
+	db, err := open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The table as stores made before the token column hold it (schema
+	// creates it so; migrate adds the column).
+	if _, err := db.Exec(schema); err != nil {
+		t.Fatal(err)
+	}
+	r := rec(2)
+	if _, err := db.Exec(`INSERT INTO audits (audit_date, recorded_at, model, model_sha256, cohort, cohort_sha256,
+		rows_read, rows_used, events, expected, verdict, audit_json) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		r.AuditDate, "2026-01-01T00:00:00Z", r.Model, r.ModelSHA, r.Cohort, r.CohortSHA, r.Rows, r.Used, r.Events, r.Expected, r.Verdict, r.JSON); err != nil {
+		t.Fatal(err)
+	}
+	db.Close()
+	r.Token = "new"
+	if err := Append(path, r); err != nil {
+		t.Fatal(err)
+	}
+	if recs, err := Read(path); err != nil || len(recs) != 2 {
+		t.Fatalf("%d records, %v", len(recs), err)
+	}
+	if ok, err := HasToken(path, "new"); !ok || err != nil {
+		t.Errorf("HasToken after migration: %v, %v", ok, err)
+	}
+}

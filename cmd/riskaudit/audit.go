@@ -178,7 +178,8 @@ func runAudit(ctx context.Context, o *auditOptions, s *streams) error {
 	if err != nil {
 		return err
 	}
-	if err := audit.CheckOutputDir(o.out); err != nil {
+	wopt := audit.WriteOptions{History: o.history, AuditDate: o.auditDate, Inputs: []string{o.planFile}}
+	if err := audit.CheckWrite(o.out, &cfg, wopt); err != nil {
 		return err
 	}
 	if o.auditDate != "" {
@@ -193,18 +194,17 @@ func runAudit(ctx context.Context, o *auditOptions, s *streams) error {
 		return err
 	}
 	prog.Step("writing " + o.out)
-	if err := audit.Write(o.out, res); err != nil {
+	w, err := audit.Write(o.out, res, wopt)
+	if err != nil {
 		return err
-	}
-	if o.history != "" {
-		prog.Step("recording in " + o.history)
-		if err := audit.RecordHistory(o.history, o.auditDate, res); err != nil {
-			return err
-		}
 	}
 	prog.Done()
 	if !o.quiet {
 		writeAuditSummary(s, res.Audit, o.out, len(res.Figures))
+		replacedNote(s, o.out, "audit", w)
+		if o.history != "" {
+			fmt.Fprintf(s.out, "Recorded in %s\n", o.history)
+		}
 	}
 	if !res.Passed() {
 		v := res.Audit.Verdict

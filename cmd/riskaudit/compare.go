@@ -84,12 +84,13 @@ func runCompare(ctx context.Context, o *compareOptions, s *streams) error {
 	res, err := audit.Compare(ctx, audit.CompareConfig{
 		Models: o.models, Predicted: o.predicted, Cohort: audit.Input{Path: o.cohortFile}, Read: copt, FailOnMissing: fail,
 		Measures: validate.CompareOptions{Thresholds: ts, Replicates: o.ciBootstrap, Seed: o.seed},
-		Tool:     "riskaudit " + toolVersion(), CommandLine: s.commandLine(),
+		Tool:     "riskaudit " + toolVersion(), CommandLine: s.commandLine(), Clock: now,
 	})
 	if err != nil {
 		return err
 	}
-	if err := audit.WriteComparison(o.out, res); err != nil {
+	w, err := audit.WriteComparison(o.out, res)
+	if err != nil {
 		return err
 	}
 	if !o.quiet {
@@ -99,6 +100,7 @@ func runCompare(ctx context.Context, o *compareOptions, s *streams) error {
 		fmt.Fprintf(s.out, "  AUC a %.3f, b %.3f; difference %.4f (95%% CI %.4f to %.4f), z %.2f, p %s\n", d.AUCA, d.AUCB, d.Difference, d.DifferenceCI[0], d.DifferenceCI[1], d.Z, report.FormatP(d.P))
 		fmt.Fprintf(s.out, "  Brier a %.4f, b %.4f; difference %.4f (95%% CI %.4f to %.4f)\n", b.A, b.B, b.Difference, b.DifferenceCI[0], b.DifferenceCI[1])
 		fmt.Fprintf(s.out, "Wrote %s\n", filepath.Join(o.out, "compare.md"))
+		replacedNote(s, o.out, "comparison", w)
 	}
 	return nil
 }

@@ -3,11 +3,14 @@ package main
 import (
 	"fmt"
 	"os"
+	"path/filepath"
 	"time"
 
 	"github.com/spf13/pflag"
 
+	"github.com/riskaudit/riskaudit/audit"
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/atomicfile"
 )
 
 // dataFlags are the flags that say how to read a cohort file.
@@ -66,4 +69,28 @@ func now() time.Time {
 		}
 	}
 	return time.Now().UTC()
+}
+
+// checkOutputs refuses, before any work, output files that exist and are
+// not regular files, two outputs at one path, and an output that is an
+// input; empty paths are skipped.
+func checkOutputs(outs []string, inputs ...string) error {
+	seen := map[string]bool{}
+	for _, out := range outs {
+		if out == "" {
+			continue
+		}
+		if err := atomicfile.CheckTarget(out, false); err != nil {
+			return err
+		}
+		if err := audit.CheckNotInput(out, inputs...); err != nil {
+			return err
+		}
+		abs, _ := filepath.Abs(out)
+		if seen[abs] {
+			return usagef("two outputs are the same file %s: give each its own path", out)
+		}
+		seen[abs] = true
+	}
+	return nil
 }

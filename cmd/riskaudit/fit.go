@@ -76,10 +76,7 @@ func runFit(ctx context.Context, o *fitOptions, s *streams) error {
 	if o.hlGroups < 3 {
 		return usagef("--hl-groups %d: give at least 3 groups", o.hlGroups)
 	}
-	if err := audit.CheckNotInput(o.out, o.dataFile, o.model, o.reduced); err != nil {
-		return err
-	}
-	if err := audit.CheckNotInput(o.jsonOut, o.dataFile, o.model, o.reduced); err != nil {
+	if err := checkOutputs([]string{o.out, o.jsonOut}, o.dataFile, o.model, o.reduced); err != nil {
 		return err
 	}
 	copt, fail, err := o.data.options()

@@ -28,6 +28,9 @@ on the command line override it.`,
   riskaudit audit --plan monthly-audit.yaml`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
+			if err := atomicfile.CheckTarget(out, false); err != nil {
+				return err
+			}
 			if !force && exists(out) {
 				return usagef("%s exists; choose another name or add --force", out)
 			}

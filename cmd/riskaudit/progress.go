@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"strings"
 	"time"
+
+	"github.com/riskaudit/riskaudit/audit"
 )
 
 // progress reports the steps of a long command on one line of stderr,
@@ -77,4 +79,17 @@ func shellQuote(a string) string {
 		return a
 	}
 	return "'" + strings.ReplaceAll(a, "'", `'\''`) + "'"
+}
+
+// replacedNote says, after the summary, that an earlier output in dir
+// was replaced.
+func replacedNote(s *streams, dir, what string, w *audit.Written) {
+	if w == nil || !w.Replaced {
+		return
+	}
+	when := ""
+	if w.ReplacedAt != "" {
+		when = " (written " + w.ReplacedAt + ")"
+	}
+	fmt.Fprintf(s.out, "Replaced the earlier %s in %s%s\n", what, dir, when)
 }

@@ -14,6 +14,7 @@ import (
 
 	"github.com/riskaudit/riskaudit/audit"
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/model"
 	"github.com/riskaudit/riskaudit/plan"
 )
@@ -72,7 +73,24 @@ type streams struct {
 }
 
 func newStreams(out, err *os.File) *streams {
-	return &streams{out: out, err: err, outTTY: isTerminal(out), errTTY: isTerminal(err)}
+	return &streams{out: &checkedWriter{w: out}, err: err, outTTY: isTerminal(out), errTTY: isTerminal(err)}
+}
+
+// checkedWriter keeps the first error of the writes to it (stdout full
+// or closed), so that a summary that could not be written fails the
+// command.
+type checkedWriter struct {
+	w   io.Writer
+	err error
+}
+
+func (c *checkedWriter) Write(p []byte) (int, error) {
+	if c.err != nil {
+		return 0, c.err
+	}
+	n, err := c.w.Write(p)
+	c.err = err
+	return n, err
 }
 
 func isTerminal(f *os.File) bool {
@@ -134,6 +152,9 @@ func run(ctx context.Context, args []string, s *streams) int {
 	if err != nil && ctx.Err() != nil {
 		err = context.Cause(ctx)
 	}
+	if cw, ok := s.out.(*checkedWriter); ok && cw.err != nil && (err == nil || exitCode(err) == exitCriterion) {
+		err = fmt.Errorf("writing to standard output: %w", unwrapPath(cw.err))
+	}
 	if err == nil {
 		return exitOK
 	}
@@ -163,7 +184,7 @@ func exitCode(err error) int {
 		return exitSignalBase + int(in.sig)
 	case is(new(*criterionError)):
 		return exitCriterion
-	case is(new(*usageError), new(*audit.ConfigError)):
+	case is(new(*usageError), new(*audit.ConfigError), new(*atomicfile.TargetError)):
 		return exitUsage
 	case is(new(*plan.Error), new(*audit.HistoryError)):
 		return exitBadInput
@@ -176,4 +197,14 @@ func exitCode(err error) int {
 		return exitUsage
 	}
 	return exitOtherFailed
+}
+
+// unwrapPath is the system's error without the file name it names
+// (/dev/stdout tells the user nothing).
+func unwrapPath(err error) error {
+	var pe *os.PathError
+	if errors.As(err, &pe) {
+		return pe.Err
+	}
+	return err
 }

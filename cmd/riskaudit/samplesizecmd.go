@@ -113,6 +113,9 @@ func runSampleSize(cmd *cobra.Command, o *sizeOptions, s *streams) error {
 	if fl.Changed("c-statistic") && !(o.c > 0.5 && o.c < 1) {
 		return usagef("--c-statistic %g: give a C-statistic in (0.5, 1)", o.c)
 	}
+	if err := checkOutputs([]string{o.jsonOut}, o.model, o.dataFile); err != nil {
+		return err
+	}
 	copt, fail, err := o.data.options()
 	if err != nil {
 		return err

@@ -62,7 +62,7 @@ was not scored.`,
 }
 
 func runScore(ctx context.Context, o *scoreOptions, s *streams) error {
-	if err := audit.CheckNotInput(o.out, o.dataFile, o.model); err != nil {
+	if err := checkOutputs([]string{o.out}, o.dataFile, o.model); err != nil {
 		return err
 	}
 	copt, fail, err := o.data.options()

@@ -23,11 +23,12 @@ expected events; the first audit outside its 99.8% limits is flagged.`,
   riskaudit trend --history audits.sqlite --out trend`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			t, err := audit.ReadTrend(hist)
+			t, err := audit.ReadTrend(hist, now)
 			if err != nil {
 				return err
 			}
-			if err := audit.WriteTrend(out, t); err != nil {
+			w, err := audit.WriteTrend(out, t)
+			if err != nil {
 				return err
 			}
 			recs, tr := t.Records, t.Trend
@@ -36,6 +37,7 @@ expected events; the first audit outside its 99.8% limits is flagged.`,
 				fmt.Fprintf(s.out, "first audit outside the O/E control limits: %s\n", tr.Points[tr.FirstOutside].Date)
 			}
 			fmt.Fprintf(s.out, "Wrote %s and %d charts\n", filepath.Join(out, "trend.md"), len(t.Figures))
+			replacedNote(s, out, "trend report", w)
 			return nil
 		},
 	}
