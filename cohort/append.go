@@ -37,7 +37,8 @@ func Format(path, forced string) string {
 // values[k], one value per row in file order, NaN written as null. Every
 // column of the file is kept as it is, with its type. The file is read,
 // never written; the caller writes the result.
-func AppendColumns(path, format string, names []string, values [][]float64) ([]byte, error) {
+func AppendColumns(path, format string, names []string, values [][]float64) (file []byte, err error) {
+	defer recoverDecode(path, map[string]string{"parquet": "Parquet", "arrow": "Arrow IPC"}[format], &err)
 	tbl, err := readTable(path, format)
 	if err != nil {
 		return nil, err
@@ -112,7 +113,7 @@ func readTable(path, format string) (arrow.Table, error) {
 		defer closeFile()
 		tbl, err := fr.ReadTable(context.Background())
 		if err != nil {
-			return nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error(), Kind: ErrFormat, Err: err}
+			return nil, formatError(path, "Parquet", err)
 		}
 		return tbl, nil
 	case "arrow":
@@ -125,7 +126,7 @@ func readTable(path, format string) (arrow.Table, error) {
 		for i := 0; i < r.NumRecords(); i++ {
 			rec, err := r.Record(i)
 			if err != nil {
-				return nil, &Error{File: path, Msg: "cannot read the Arrow file: " + err.Error(), Kind: ErrFormat, Err: err}
+				return nil, formatError(path, "Arrow IPC", err)
 			}
 			rec.Retain()
 			defer rec.Release()
