@@ -299,6 +299,12 @@ func layoutOutputs(dir string, files, extras []atomicfile.File, inputs []string,
 	if err != nil {
 		return nil, nil, err
 	}
+	if wd, err := os.Getwd(); err == nil && (wd == absDir || strings.HasPrefix(wd, absDir+string(filepath.Separator))) {
+		return nil, nil, fmt.Errorf("the output folder %s is the current folder or holds it; an output folder is replaced whole, so give a folder of its own", dir)
+	}
+	if filepath.Dir(absDir) == absDir {
+		return nil, nil, fmt.Errorf("the output folder %s is the top of the file system: give a folder of its own", dir)
+	}
 	seen := map[string]string{}
 	claim := func(path, what string) error {
 		abs, err := filepath.Abs(path)
