@@ -17,7 +17,7 @@ import (
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
 	"github.com/apache/arrow-go/v18/arrow/ipc"
-	"github.com/apache/arrow-go/v18/arrow/memory"
+	"github.com/apache/arrow-go/v18/parquet"
 	"github.com/apache/arrow-go/v18/parquet/file"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 )
@@ -207,7 +207,8 @@ func loadArrow(ctx context.Context, path string, reqs []Request, opt Options) (o
 // props.Parallel (the table reader's do; the record reader's do not).
 func openParquet(path string, props pqarrow.ArrowReadProperties) (fr *pqarrow.FileReader, close func(), err error) {
 	defer recoverDecode(path, "Parquet", &err)
-	pf, err := file.OpenParquetFile(path, true)
+	alloc := newLimitedAllocator(path)
+	pf, err := file.OpenParquetFile(path, true, file.WithReadProps(parquet.NewReaderProperties(alloc)))
 	if err != nil {
 		if errors.As(err, new(*fs.PathError)) {
 			return nil, nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error(), Kind: ErrRead, Err: err}
@@ -218,7 +219,7 @@ func openParquet(path string, props pqarrow.ArrowReadProperties) (fr *pqarrow.Fi
 		pf.Close()
 		return nil, nil, formatError(path, "Parquet", err)
 	}
-	fr, err = pqarrow.NewFileReader(pf, props, memory.DefaultAllocator)
+	fr, err = pqarrow.NewFileReader(pf, props, alloc)
 	if err != nil {
 		pf.Close()
 		return nil, nil, formatError(path, "Parquet", err)
@@ -276,7 +277,7 @@ func openArrow(path string) (r *ipc.FileReader, close func(), err error) {
 	if err != nil {
 		return nil, nil, &Error{File: path, Msg: "cannot read file: " + err.Error(), Kind: ErrRead, Err: err}
 	}
-	r, err = ipc.NewFileReader(f)
+	r, err = ipc.NewFileReader(f, ipc.WithAllocator(newLimitedAllocator(path)))
 	if err != nil {
 		f.Close()
 		return nil, nil, formatError(path, "Arrow IPC", err)
