@@ -29,6 +29,10 @@ type WriteOptions struct {
 	// RecordHistory).
 	History   string
 	AuditDate string
+	// ReplaceRecord replaces a record of the same audit (model, cohort
+	// and date) that the store already holds; without it such a record
+	// is refused.
+	ReplaceRecord bool
 	// Inputs are further files that no output may overwrite (such as the
 	// plan the audit came from); the audit's own inputs are known.
 	Inputs []string
@@ -80,6 +84,14 @@ func CheckWrite(dir string, cfg *Config, opt WriteOptions) error {
 			return asConfigError(err)
 		}
 	}
+	if opt.History != "" {
+		if err := atomicfile.CheckTarget(opt.History, false); err != nil {
+			return asConfigError(err)
+		}
+		if err := history.CheckStore(opt.History); err != nil {
+			return &HistoryError{Path: opt.History, Err: err}
+		}
+	}
 	return nil
 }
 
@@ -128,7 +140,7 @@ func Write(dir string, r *Result, opt WriteOptions) (*Written, error) {
 		rec = &hr
 	}
 	return (&folderWrite{dir: dir, kind: "audit", written: r.Started, files: files, extras: r.Files, inputs: inputs,
-		record: rec, history: opt.History}).write()
+		record: rec, history: opt.History, replace: opt.ReplaceRecord}).write()
 }
 
 // inputs are the paths of the audit's inputs.
@@ -185,6 +197,7 @@ type folderWrite struct {
 	inputs        []string
 	record        *history.Record
 	history       string
+	replace       bool
 	// stopAt, in tests, ends the write as a killed process would at a
 	// step ("swapped": the folder is in place, the record not committed;
 	// "recorded": committed, the manifest still pending).
@@ -238,7 +251,13 @@ func (fw *folderWrite) write() (*Written, error) {
 	}
 	var pending *history.Pending
 	if rec != nil {
-		if pending, err = history.Begin(histPath, *rec); err != nil {
+		if pending, err = history.Begin(histPath, *rec, fw.replace); err != nil {
+			if errors.Is(err, history.ErrDuplicate) {
+				return nil, &ConfigError{Msg: fmt.Sprintf("%s: %v: nothing was written; add --replace-record to replace it", histPath, err), Err: err}
+			}
+			if errors.Is(err, history.ErrNotStore) {
+				return nil, &HistoryError{Path: histPath, Err: err}
+			}
 			return nil, fmt.Errorf("recording the audit in %s: %w", histPath, err)
 		}
 	}

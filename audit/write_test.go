@@ -121,11 +121,11 @@ func TestWriteRefusesClashes(t *testing.T) {
 		inputs []string
 		want   string
 	}{
-		"extra over audit.json":  {[]atomicfile.File{{Path: filepath.Join(dir, "audit.json"), Data: []byte("log")}}, nil, "are the same path"},
-		"two extras at one path": {[]atomicfile.File{{Path: filepath.Join(top, "x"), Data: nil}, {Path: filepath.Join(top, "x")}}, nil, "are the same path"},
-		"extra over an input":    {[]atomicfile.File{{Path: input, Data: []byte("clobber")}}, []string{input}, "is the input"},
+		"extra over audit.json":   {[]atomicfile.File{{Path: filepath.Join(dir, "audit.json"), Data: []byte("log")}}, nil, "are the same path"},
+		"two extras at one path":  {[]atomicfile.File{{Path: filepath.Join(top, "x"), Data: nil}, {Path: filepath.Join(top, "x")}}, nil, "are the same path"},
+		"extra over an input":     {[]atomicfile.File{{Path: input, Data: []byte("clobber")}}, []string{input}, "is the input"},
 		"input inside the folder": {nil, []string{filepath.Join(dir, "report.md")}, "is the input"},
-		"extra below the folder": {[]atomicfile.File{{Path: filepath.Join(dir, "sub", "x.yaml")}}, nil, "lies in a folder inside"},
+		"extra below the folder":  {[]atomicfile.File{{Path: filepath.Join(dir, "sub", "x.yaml")}}, nil, "lies in a folder inside"},
 	} {
 		r := testResult(t, nil, tc.extras...)
 		if _, err := Write(dir, r, WriteOptions{Inputs: tc.inputs}); err == nil || !strings.Contains(err.Error(), tc.want) {

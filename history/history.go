@@ -7,8 +7,10 @@
 // wait for each other, and a writer killed mid-append leaves the file as
 // it was before that append.
 //
-// Errors wrap the database's error with %w and name the store. The two
+// Errors wrap the database's error with %w and name the store. The
 // problems the package finds itself have sentinels for errors.Is:
+// ErrNotStore (a file that is not a riskaudit history store, which is
+// never written to), ErrDuplicate (a second record of the same audit),
 // ErrNoAudits (a store without records) and ErrIntegrity (a store that
 // fails SQLite's integrity check). Their texts are part of the messages
 // ("history h.sqlite: no audits recorded").
@@ -18,8 +20,13 @@ import (
 	"database/sql"
 	"errors"
 	"fmt"
+	"io"
+	"io/fs"
 	"math"
 	"net/url"
+	"os"
+	"path/filepath"
+	"strings"
 	"time"
 
 	_ "modernc.org/sqlite" // registers the "sqlite" driver
@@ -33,7 +40,76 @@ var (
 	// ErrIntegrity is a store that fails SQLite's integrity check; the
 	// message goes on with what the check found.
 	ErrIntegrity = errors.New("integrity check")
+	// ErrNotStore is a file that exists and is not a riskaudit history
+	// store (empty, not SQLite, or an SQLite database of other tables);
+	// it is left untouched.
+	ErrNotStore = errors.New("not a riskaudit history store")
+	// ErrDuplicate is a record of an audit the store already holds: the
+	// same model (name and SHA-256), cohort (SHA-256) and audit date.
+	ErrDuplicate = errors.New("already recorded")
 )
+
+// sqliteMagic opens every SQLite database file.
+const sqliteMagic = "SQLite format 3\x00"
+
+// checkFile refuses a path that exists and cannot be a store, before
+// SQLite opens it (which would write a header into an empty file). It
+// reports whether the file exists.
+func checkFile(path string) (bool, error) {
+	st, err := os.Stat(path)
+	if errors.Is(err, fs.ErrNotExist) {
+		return false, nil
+	}
+	if err != nil {
+		return false, fmt.Errorf("history %s: %w", path, err)
+	}
+	if !st.Mode().IsRegular() {
+		return true, fmt.Errorf("%s: %w (it is not a regular file)", path, ErrNotStore)
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return true, fmt.Errorf("history %s: %w", path, err)
+	}
+	defer f.Close()
+	head := make([]byte, len(sqliteMagic))
+	if n, _ := io.ReadFull(f, head); n < len(head) || string(head) != sqliteMagic {
+		what := "it is not an SQLite database"
+		if st.Size() == 0 {
+			what = "it is empty"
+		}
+		return true, fmt.Errorf("%s: %w (%s)", path, ErrNotStore, what)
+	}
+	return true, nil
+}
+
+// CheckStore refuses a path that exists and is not a riskaudit history
+// store (kind ErrNotStore), without writing to it; a path that does not
+// exist is fine (a store is made there on the first append).
+func CheckStore(path string) error {
+	exists, err := checkFile(path)
+	if err != nil || !exists {
+		return err
+	}
+	db, err := connect(path, true)
+	if err != nil {
+		return err
+	}
+	return db.Close()
+}
+
+// checkTables refuses an SQLite database that holds tables but not the
+// store's.
+func checkTables(db *sql.DB, path string) error {
+	var tables, ours int
+	err := db.QueryRow(`SELECT COUNT(*), COALESCE(SUM(name = 'audits'), 0) FROM sqlite_master WHERE type = 'table' AND name NOT LIKE 'sqlite_%'`).Scan(&tables, &ours)
+	if err != nil {
+		return fmt.Errorf("%s: %w (%v)", path, ErrNotStore, err)
+	}
+	if tables > 0 && ours == 0 {
+		return fmt.Errorf("%s: %w (an SQLite database of other tables)", path, ErrNotStore)
+	}
+	return nil
+}
 
 // Record is the summary of one audit.
 type Record struct {
@@ -82,17 +158,78 @@ const schema = `CREATE TABLE IF NOT EXISTS audits (
 // open opens the store with a busy timeout, write-ahead logging and
 // immediate write transactions.
 func open(path string) (*sql.DB, error) {
+	return openStore(path, true)
+}
+
+// openStore opens the store at path after checking that an existing
+// file is one; without create, a store that does not exist is an error.
+func openStore(path string, create bool) (*sql.DB, error) {
+	exists, err := checkFile(path)
+	if err != nil {
+		return nil, err
+	}
+	if !exists && !create {
+		return nil, fmt.Errorf("history %s: %w", path, fs.ErrNotExist)
+	}
+	if !exists {
+		if err := initStore(path); err != nil {
+			return nil, err
+		}
+	}
+	return connect(path, true)
+}
+
+// initStore creates an empty store at path, whole: it is made under a
+// temporary name beside path and linked into place only when complete,
+// so that no one ever sees a half-made store (an empty file would be
+// refused as not a store). A store another writer created meanwhile
+// wins.
+func initStore(path string) error {
+	tmp := filepath.Join(filepath.Dir(path), fmt.Sprintf(".%s.riskaudit-tmp-%d-%d", filepath.Base(path), os.Getpid(), time.Now().UnixNano()))
+	defer os.Remove(tmp)
+	db, err := connect(tmp, false)
+	if err != nil {
+		return err
+	}
+	_, err = db.Exec(schema)
+	if cerr := db.Close(); err == nil {
+		err = cerr
+	}
+	if err != nil {
+		return fmt.Errorf("history %s: creating the store: %w", path, err)
+	}
+	if err := os.Link(tmp, path); err != nil && !errors.Is(err, fs.ErrExist) {
+		return fmt.Errorf("history %s: creating the store: %w", path, err)
+	}
+	return nil
+}
+
+// connect opens the SQLite file at path (with checks of its tables when
+// check is set).
+func connect(path string, check bool) (*sql.DB, error) {
 	q := url.Values{}
 	q.Add("_pragma", "busy_timeout(30000)")
 	q.Add("_pragma", "journal_mode(WAL)")
 	q.Add("_pragma", "synchronous(FULL)")
 	q.Add("_txlock", "immediate")
-	db, err := sql.Open("sqlite", "file:"+path+"?"+q.Encode())
+	db, err := sql.Open("sqlite", "file:"+uriPath(path)+"?"+q.Encode())
 	if err != nil {
 		return nil, fmt.Errorf("history %s: %w", path, err)
 	}
 	db.SetMaxOpenConns(1)
+	if check {
+		if err := checkTables(db, path); err != nil {
+			db.Close()
+			return nil, err
+		}
+	}
 	return db, nil
+}
+
+// uriPath escapes the characters an SQLite URI filename gives a meaning
+// (%, ?, #), so that any path names its own file.
+func uriPath(path string) string {
+	return strings.NewReplacer("%", "%25", "?", "%3f", "#", "%23").Replace(path)
 }
 
 // Append adds a record to the store at path, creating it if needed, in
@@ -106,6 +243,22 @@ func Append(path string, r Record) error {
 	return appendTx(db, r, nil)
 }
 
+// DuplicateError is a record of an audit the store already holds (kind
+// ErrDuplicate): the same model, cohort and audit date.
+type DuplicateError struct {
+	ID                       int64
+	RecordedAt               string
+	Model, Cohort, AuditDate string
+}
+
+// Error names the earlier record.
+func (e *DuplicateError) Error() string {
+	return fmt.Sprintf("the store already holds the audit of %s on %s for %s (record %d, recorded %s)", e.Model, e.Cohort, e.AuditDate, e.ID, e.RecordedAt)
+}
+
+// Is reports whether target is ErrDuplicate.
+func (e *DuplicateError) Is(target error) bool { return target == ErrDuplicate }
+
 // Pending is a record inserted in an open transaction, holding the
 // store's write lock until Commit or Rollback, so that a caller can put
 // other outputs in place between the insert and the commit.
@@ -115,13 +268,15 @@ type Pending struct {
 }
 
 // Begin inserts r into the store at path (created if needed) in a
-// transaction left open.
-func Begin(path string, r Record) (*Pending, error) {
+// transaction left open. A record of the same audit (model, cohort and
+// date) already in the store is an error of kind ErrDuplicate, unless
+// replace is set: then it is removed in the same transaction.
+func Begin(path string, r Record, replace bool) (*Pending, error) {
 	db, err := open(path)
 	if err != nil {
 		return nil, err
 	}
-	tx, err := insert(db, r)
+	tx, err := insert(db, r, replace)
 	if err != nil {
 		db.Close()
 		return nil, err
@@ -196,7 +351,7 @@ func migrate(db interface {
 // appendTx appends in one transaction; beforeCommit (for tests) runs
 // after the insert and before the commit.
 func appendTx(db *sql.DB, r Record, beforeCommit func()) error {
-	tx, err := insert(db, r)
+	tx, err := insert(db, r, false)
 	if err != nil {
 		return err
 	}
@@ -211,8 +366,9 @@ func appendTx(db *sql.DB, r Record, beforeCommit func()) error {
 }
 
 // insert begins a transaction (taking the write lock), creates or
-// migrates the table and inserts r; the caller commits or rolls back.
-func insert(db *sql.DB, r Record) (*sql.Tx, error) {
+// migrates the table, refuses (or, with replace, removes) a record of
+// the same audit, and inserts r; the caller commits or rolls back.
+func insert(db *sql.DB, r Record, replace bool) (*sql.Tx, error) {
 	tx, err := db.Begin()
 	if err != nil {
 		return nil, fmt.Errorf("history: %w", err)
@@ -220,6 +376,23 @@ func insert(db *sql.DB, r Record) (*sql.Tx, error) {
 	if err := migrate(tx); err != nil {
 		tx.Rollback()
 		return nil, err
+	}
+	same := `FROM audits WHERE model = ? AND model_sha256 = ? AND cohort_sha256 = ? AND audit_date = ?`
+	args := []any{r.Model, r.ModelSHA, r.CohortSHA, r.AuditDate}
+	var id int64
+	var at string
+	switch err := tx.QueryRow(`SELECT id, recorded_at `+same+` ORDER BY id LIMIT 1`, args...).Scan(&id, &at); {
+	case err == nil && !replace:
+		tx.Rollback()
+		return nil, &DuplicateError{ID: id, RecordedAt: at, Model: r.Model, Cohort: r.Cohort, AuditDate: r.AuditDate}
+	case err == nil:
+		if _, err := tx.Exec(`DELETE `+same, args...); err != nil {
+			tx.Rollback()
+			return nil, fmt.Errorf("history: replacing record %d: %w", id, err)
+		}
+	case !errors.Is(err, sql.ErrNoRows):
+		tx.Rollback()
+		return nil, fmt.Errorf("history: %w", err)
 	}
 	if r.RecordedAt == "" {
 		r.RecordedAt = time.Now().UTC().Format(time.RFC3339)
@@ -241,7 +414,7 @@ func insert(db *sql.DB, r Record) (*sql.Tx, error) {
 // Read returns every record of the store at path, by audit date and then
 // by the order they were recorded.
 func Read(path string) ([]Record, error) {
-	db, err := open(path)
+	db, err := openStore(path, false)
 	if err != nil {
 		return nil, err
 	}
@@ -287,7 +460,7 @@ func Read(path string) ([]Record, error) {
 
 // Check runs SQLite's integrity check on the store.
 func Check(path string) error {
-	db, err := open(path)
+	db, err := openStore(path, false)
 	if err != nil {
 		return err
 	}
@@ -303,3 +476,33 @@ func Check(path string) error {
 }
 
 func nan() float64 { return math.NaN() }
+
+// Remove deletes the record with the given ID from the store at path
+// and returns it; an ID the store does not hold is an error.
+func Remove(path string, id int64) (Record, error) {
+	db, err := openStore(path, false)
+	if err != nil {
+		return Record{}, err
+	}
+	defer db.Close()
+	tx, err := db.Begin()
+	if err != nil {
+		return Record{}, fmt.Errorf("history %s: %w", path, err)
+	}
+	defer tx.Rollback()
+	var r Record
+	err = tx.QueryRow(`SELECT id, audit_date, recorded_at, model, cohort FROM audits WHERE id = ?`, id).Scan(&r.ID, &r.AuditDate, &r.RecordedAt, &r.Model, &r.Cohort)
+	if errors.Is(err, sql.ErrNoRows) {
+		return Record{}, fmt.Errorf("history %s: no record %d", path, id)
+	}
+	if err != nil {
+		return Record{}, fmt.Errorf("history %s: %w", path, err)
+	}
+	if _, err := tx.Exec(`DELETE FROM audits WHERE id = ?`, id); err != nil {
+		return Record{}, fmt.Errorf("history %s: removing record %d: %w", path, id, err)
+	}
+	if err := tx.Commit(); err != nil {
+		return Record{}, fmt.Errorf("history %s: removing record %d: %w", path, id, err)
+	}
+	return r, nil
+}

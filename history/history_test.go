@@ -1,6 +1,7 @@
 package history
 
 import (
+	"bytes"
 	"errors"
 	"fmt"
 	"os"
@@ -13,7 +14,7 @@ import (
 )
 
 func rec(i int) Record {
-	return Record{AuditDate: fmt.Sprintf("2026-%02d-01", 1+i%12), Model: "m", ModelSHA: "a", Cohort: "c", CohortSHA: "b",
+	return Record{AuditDate: fmt.Sprintf("2026-%02d-01", 1+i%12), Model: "m", ModelSHA: "a", Cohort: "c", CohortSHA: fmt.Sprint("b", i),
 		Rows: 100 + i, Used: 90, Events: 10, Expected: 9.5, AUC: [3]float64{0.7, 0.65, 0.75}, OE: [3]float64{1.05, 0.6, 1.8},
 		Slope: [3]float64{1, 0.8, 1.2}, CITL: [3]float64{0.05, -0.4, 0.5}, ICI: 0.01, Brier: 0.08, Verdict: "pass", JSON: "{}"}
 }
@@ -106,6 +107,9 @@ func TestErrorKinds(t *testing.T) {
 	// A store with an index whose declared order no longer matches its
 	// entries.
 	damaged := filepath.Join(dir, "damaged.sqlite")
+	if err := Append(damaged, rec(0)); err != nil { // a store, with its table
+		t.Fatal(err)
+	}
 	execAll(t, damaged, "CREATE TABLE t(a INTEGER)", "CREATE INDEX ti ON t(a)", "INSERT INTO t VALUES (1), (2), (3)",
 		"PRAGMA writable_schema=ON", "UPDATE sqlite_master SET sql = 'CREATE INDEX ti ON t(a DESC)' WHERE name = 'ti'")
 	for _, tc := range []struct {
@@ -157,13 +161,13 @@ func TestPending(t *testing.T) {
 	}
 	r := rec(1)
 	r.Token = "abandoned"
-	p, err := Begin(path, r)
+	p, err := Begin(path, r, false)
 	if err != nil {
 		t.Fatal(err)
 	}
 	p.Rollback()
 	r.Token = "kept"
-	if p, err = Begin(path, r); err != nil {
+	if p, err = Begin(path, r, false); err != nil {
 		t.Fatal(err)
 	}
 	if err := p.Commit(); err != nil {
@@ -200,6 +204,7 @@ func TestMigratesStoreWithoutToken(t *testing.T) {
 		t.Fatal(err)
 	}
 	db.Close()
+	r = rec(3)
 	r.Token = "new"
 	if err := Append(path, r); err != nil {
 		t.Fatal(err)
@@ -209,5 +214,55 @@ func TestMigratesStoreWithoutToken(t *testing.T) {
 	}
 	if ok, err := HasToken(path, "new"); !ok || err != nil {
 		t.Errorf("HasToken after migration: %v, %v", ok, err)
+	}
+}
+
+// TestNotAStore: an empty file, a text file, a folder and an SQLite
+// database of other tables are refused as not a store (ErrNotStore) by
+// every entry point, and left byte for byte as they were.
+func TestNotAStore(t *testing.T) {
+	dir := t.TempDir()
+	empty := filepath.Join(dir, "empty.sqlite")
+	text := filepath.Join(dir, "notes.txt")
+	other := filepath.Join(dir, "other.sqlite")
+	os.WriteFile(empty, nil, 0o644)
+	os.WriteFile(text, []byte("my notes\n"), 0o644)
+	db, err := connect(other, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := db.Exec("CREATE TABLE patients(id INTEGER)"); err != nil {
+		t.Fatal(err)
+	}
+	db.Close()
+	before := map[string][]byte{}
+	for _, p := range []string{empty, text, other} {
+		before[p], _ = os.ReadFile(p)
+	}
+	for _, p := range []string{empty, text, other, dir} {
+		for name, err := range map[string]error{
+			"CheckStore": CheckStore(p),
+			"Append":     Append(p, rec(0)),
+			"Read":       func() error { _, err := Read(p); return err }(),
+			"Remove":     func() error { _, err := Remove(p, 1); return err }(),
+		} {
+			if !errors.Is(err, ErrNotStore) {
+				t.Errorf("%s(%s): %v, want ErrNotStore", name, filepath.Base(p), err)
+			}
+		}
+	}
+	for p, b := range before {
+		if now, _ := os.ReadFile(p); !bytes.Equal(now, b) {
+			t.Errorf("%s was changed", filepath.Base(p))
+		}
+	}
+	// A path with characters an SQLite URI gives a meaning names its own
+	// file.
+	odd := filepath.Join(dir, "h?mode=ro#x%20.sqlite")
+	if err := Append(odd, rec(1)); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := os.Stat(odd); err != nil {
+		t.Errorf("the store was not made at %s: %v", odd, err)
 	}
 }

@@ -20,13 +20,14 @@ type auditOptions struct {
 	// predicted, outcome, event and nonEvent make cfg.Predicted.
 	predicted, outcome, event, nonEvent string
 	// thresholds and delta are read into cfg.Measures.
-	thresholds string
-	delta      float64
-	out        string
-	quiet      bool
-	planFile   string
-	history    string
-	auditDate  string
+	thresholds    string
+	delta         float64
+	out           string
+	quiet         bool
+	planFile      string
+	history       string
+	auditDate     string
+	replaceRecord bool
 }
 
 const auditLong = `Measure how a model performs on a cohort with observed outcomes and write
@@ -148,6 +149,7 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.StringVar(&o.planFile, "plan", "", "audit plan (YAML): model, data, renames, subgroups, criteria, outputs; flags override it")
 	f.StringVar(&o.history, "history", "", "append the audit's summary to this history store (SQLite)")
 	f.StringVar(&o.auditDate, "audit-date", "", "the date the cohort describes, YYYY-MM-DD (default: today, UTC)")
+	f.BoolVar(&o.replaceRecord, "replace-record", false, "replace the history's record of the same audit (model, cohort and date) instead of refusing a duplicate")
 	f.StringSliceVar(&o.cfg.Subgroups, "subgroups", nil, "categorical columns of the cohort to measure the model in, subgroup by subgroup")
 	f.IntVar(&o.cfg.MinSubgroupEvents, "min-subgroup-events", 20, "subgroups with fewer events are reported as too small (common practice)")
 	f.StringVar(&o.cfg.Update, "update", "", "update the model on the cohort by closed testing and write the chosen model here")
@@ -178,7 +180,7 @@ func runAudit(ctx context.Context, o *auditOptions, s *streams) error {
 	if err != nil {
 		return err
 	}
-	wopt := audit.WriteOptions{History: o.history, AuditDate: o.auditDate, Inputs: []string{o.planFile}}
+	wopt := audit.WriteOptions{History: o.history, AuditDate: o.auditDate, ReplaceRecord: o.replaceRecord, Inputs: []string{o.planFile}}
 	if err := audit.CheckWrite(o.out, &cfg, wopt); err != nil {
 		return err
 	}

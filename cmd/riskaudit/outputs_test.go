@@ -60,7 +60,7 @@ func TestKilledAuditsStayConsistent(t *testing.T) {
 	store := filepath.Join(dir, "h.sqlite")
 	args := []string{"audit", "--model", filepath.Join(d, "frozen.yaml"), "--dev", filepath.Join(d, "development.csv"),
 		"--cohort", filepath.Join(d, "later.csv"), "--bootstrap", "20", "--update", filepath.Join(dir, "updated.yaml"),
-		"--update-bootstrap", "10", "--out", filepath.Join(dir, "audit"), "--history", store, "-q"}
+		"--update-bootstrap", "10", "--out", filepath.Join(dir, "audit"), "--history", store, "--replace-record", "-q"}
 	r := rand.New(rand.NewPCG(7, 11))
 	start := time.Now()
 	if err := exec.Command(bin, args...).Run(); err != nil && !isExit(err, 1) {

@@ -138,7 +138,7 @@ func newRootCmd(s *streams) *cobra.Command {
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		return &usageError{err.Error() + " (see '" + c.CommandPath() + " --help')"}
 	})
-	root.AddCommand(newAuditCmd(s), newFitCmd(s), newScoreCmd(s), newDemoCmd(s), newPlanCmd(s), newTrendCmd(s), newCompareCmd(s), newSampleSizeCmd(s))
+	root.AddCommand(newAuditCmd(s), newFitCmd(s), newScoreCmd(s), newDemoCmd(s), newPlanCmd(s), newTrendCmd(s), newCompareCmd(s), newSampleSizeCmd(s), newHistoryCmd(s))
 	return root
 }
 

@@ -1,0 +1,78 @@
+package main
+
+import (
+	"fmt"
+	"math"
+	"text/tabwriter"
+
+	"github.com/spf13/cobra"
+
+	"github.com/riskaudit/riskaudit/audit"
+	"github.com/riskaudit/riskaudit/history"
+)
+
+func newHistoryCmd(s *streams) *cobra.Command {
+	var store string
+	c := &cobra.Command{
+		Use:   "history",
+		Short: "List and remove the records of a history store",
+		Long: `A history store (audit --history FILE) keeps one record per audit: its
+date, model, cohort, headline measures and the whole audit.json. 'list'
+shows the records; 'remove' deletes one by its number, saying which.`,
+	}
+	c.PersistentFlags().StringVar(&store, "history", "", "the history store (SQLite) that audits append to")
+	_ = c.MarkPersistentFlagRequired("history")
+	list := &cobra.Command{
+		Use:     "list --history FILE",
+		Short:   "List every record, by audit date",
+		Example: `  riskaudit history list --history audits.sqlite`,
+		Args:    cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error {
+			recs, err := history.Read(store)
+			if err != nil {
+				return storeError(store, err)
+			}
+			w := tabwriter.NewWriter(s.out, 2, 4, 2, ' ', 0)
+			fmt.Fprintln(w, "record\taudit date\trecorded at\tmodel\tcohort\tpatients\tevents\tAUC\tO/E\tverdict")
+			for _, r := range recs {
+				fmt.Fprintf(w, "%d\t%s\t%s\t%s\t%s\t%d\t%d\t%s\t%s\t%s\n", r.ID, r.AuditDate, r.RecordedAt, r.Model, r.Cohort,
+					r.Used, r.Events, measure(r.AUC[0]), measure(r.OE[0]), r.Verdict)
+			}
+			return w.Flush()
+		},
+	}
+	var id int64
+	remove := &cobra.Command{
+		Use:     "remove --history FILE --record N",
+		Short:   "Remove one record",
+		Example: `  riskaudit history remove --history audits.sqlite --record 12`,
+		Args:    cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error {
+			r, err := history.Remove(store, id)
+			if err != nil {
+				return storeError(store, err)
+			}
+			fmt.Fprintf(s.out, "Removed record %d (the audit of %s on %s for %s, recorded %s) from %s\n", r.ID, r.Model, r.Cohort, r.AuditDate, r.RecordedAt, store)
+			return nil
+		},
+	}
+	remove.Flags().Int64Var(&id, "record", 0, "the record's number, as 'history list' shows it")
+	_ = remove.MarkFlagRequired("record")
+	c.AddCommand(list, remove)
+	return c
+}
+
+// storeError is a history store that cannot be read or changed: bad
+// input (exit status 3), one line.
+func storeError(path string, err error) error {
+	return &audit.HistoryError{Path: path, Err: err}
+}
+
+// measure writes a headline measure with three decimals, or "—" when the
+// audit could not estimate it.
+func measure(v float64) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return "—"
+	}
+	return fmt.Sprintf("%.3f", v)
+}
