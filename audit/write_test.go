@@ -1,6 +1,7 @@
 package audit
 
 import (
+	"database/sql"
 	"errors"
 	"os"
 	"path/filepath"
@@ -147,12 +148,22 @@ func TestWriteHistoryFailureLeavesNothing(t *testing.T) {
 		t.Fatal(err)
 	}
 	before := names(t, dir)
-	notAStore := filepath.Join(top, "store")
-	if err := os.Mkdir(notAStore, 0o755); err != nil {
+	// A store whose table the record does not fit: the insert fails
+	// after the outputs are staged.
+	store := filepath.Join(top, "store")
+	if err := history.Append(store, history.Record{AuditDate: "2026-01-01", Model: "m", JSON: "{}", Verdict: "pass"}); err != nil {
 		t.Fatal(err)
 	}
-	_, err := Write(dir, testResult(t, nil, atomicfile.File{Path: extra, Data: []byte("second")}), WriteOptions{History: notAStore})
-	if err == nil || !strings.Contains(err.Error(), "recording the audit in") {
+	db, err := sql.Open("sqlite", store)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := db.Exec(`CREATE TRIGGER refuse BEFORE INSERT ON audits BEGIN SELECT RAISE(ABORT, 'the store refuses new records'); END`); err != nil {
+		t.Fatal(err)
+	}
+	db.Close()
+	_, err = Write(dir, testResult(t, nil, atomicfile.File{Path: extra, Data: []byte("second")}), WriteOptions{History: store})
+	if err == nil || !strings.Contains(err.Error(), "the store refuses new records") {
 		t.Fatalf("error %v", err)
 	}
 	if got := names(t, dir); !reflect.DeepEqual(got, before) {
@@ -161,7 +172,7 @@ func TestWriteHistoryFailureLeavesNothing(t *testing.T) {
 	if b, _ := os.ReadFile(extra); string(b) != "first" {
 		t.Errorf("the extra file changed to %q", b)
 	}
-	if got := names(t, top); !reflect.DeepEqual(got, []string{"audit", "shrunk.yaml", "store"}) {
+	if got := names(t, top); !reflect.DeepEqual(got, []string{"audit", "shrunk.yaml", "store"}) && !reflect.DeepEqual(got, []string{"audit", "shrunk.yaml", "store", "store-shm", "store-wal"}) {
 		t.Errorf("left beside the outputs: %v", got)
 	}
 }
