@@ -277,6 +277,10 @@ func openArrow(path string) (r *ipc.FileReader, close func(), err error) {
 	if err != nil {
 		return nil, nil, &Error{File: path, Msg: "cannot read file: " + err.Error(), Kind: ErrRead, Err: err}
 	}
+	if err := checkArrowFooter(path); err != nil {
+		f.Close()
+		return nil, nil, formatError(path, "Arrow IPC", err)
+	}
 	r, err = ipc.NewFileReader(f, ipc.WithAllocator(newLimitedAllocator(path)))
 	if err != nil {
 		f.Close()
