@@ -26,7 +26,6 @@ package cohort
 
 import (
 	"errors"
-	"fmt"
 	"strconv"
 	"strings"
 )
@@ -104,6 +103,9 @@ type Error struct {
 // Error formats the problem as one line:
 //
 //	dev.csv: line 12, column "age": value "abc": not a number
+//
+// A column name or value longer than EchoChars characters is cut, with
+// its length stated (see Quote); Msg is written as it is.
 func (e *Error) Error() string {
 	var b strings.Builder
 	b.WriteString(e.File)
@@ -120,10 +122,12 @@ func (e *Error) Error() string {
 	}
 	if e.Column != "" {
 		b.WriteString(sep)
-		fmt.Fprintf(&b, "column %q", e.Column)
+		b.WriteString("column ")
+		b.WriteString(Quote(e.Column))
 	}
 	if e.HasValue {
-		fmt.Fprintf(&b, ": value %q", e.Value)
+		b.WriteString(": value ")
+		b.WriteString(Quote(e.Value))
 	}
 	b.WriteString(": ")
 	b.WriteString(e.Msg)

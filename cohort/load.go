@@ -345,13 +345,9 @@ func planColumns(name string, header []string, reqs []Request) ([]int, error) {
 func missingColumnMsg(want string, header []string) string {
 	msg := "no such column"
 	if s := Closest(want, header); s != "" {
-		msg += fmt.Sprintf(" (did you mean %q?)", s)
+		msg += " (did you mean " + Quote(s) + "?)"
 	}
-	quoted := make([]string, len(header))
-	for i, h := range header {
-		quoted[i] = fmt.Sprintf("%q", h)
-	}
-	return msg + "; columns present: " + strings.Join(quoted, ", ")
+	return msg + "; columns present: " + QuoteList(header)
 }
 
 func syntaxError(name string, err error) error {

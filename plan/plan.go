@@ -196,9 +196,9 @@ func (p *parser) fields(n *yaml.Node, what string, allowed []string, f func(key 
 			ok = ok || a == k.Value
 		}
 		if !ok {
-			msg := fmt.Sprintf("unknown key %q in %s", k.Value, what)
+			msg := fmt.Sprintf("unknown key %s in %s", cohort.Quote(k.Value), what)
 			if c := cohort.Closest(k.Value, allowed); c != "" {
-				msg += fmt.Sprintf(" (did you mean %q?)", c)
+				msg += fmt.Sprintf(" (did you mean %s?)", cohort.Quote(c))
 			}
 			return p.errf(ErrUnknownKey, k, "%s; allowed keys: %s", msg, strings.Join(allowed, ", "))
 		}
@@ -223,7 +223,7 @@ func (p *parser) num(v *yaml.Node, key string) (float64, error) {
 	}
 	x, err := strconv.ParseFloat(s, 64)
 	if err != nil {
-		return 0, p.wrapf(ErrValue, err, v, "%s must be a number, not %q", key, s)
+		return 0, p.wrapf(ErrValue, err, v, "%s must be a number, not %s", key, cohort.Quote(s))
 	}
 	return x, nil
 }
@@ -235,7 +235,7 @@ func (p *parser) whole(v *yaml.Node, key string) (int, error) {
 	}
 	x, err := strconv.Atoi(s)
 	if err != nil || x < 0 {
-		return 0, p.wrapf(ErrValue, err, v, "%s must be a whole number, not %q", key, s)
+		return 0, p.wrapf(ErrValue, err, v, "%s must be a whole number, not %s", key, cohort.Quote(s))
 	}
 	return x, nil
 }
@@ -295,7 +295,7 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 			for i, s := range parts {
 				x, perr := strconv.ParseFloat(s, 64)
 				if perr != nil {
-					return p.wrapf(ErrValue, perr, v.Content[i], "classify_at: %q is not a number", s)
+					return p.wrapf(ErrValue, perr, v.Content[i], "classify_at: %s is not a number", cohort.Quote(s))
 				}
 				pl.ClassifyAt = append(pl.ClassifyAt, x)
 			}
@@ -494,7 +494,12 @@ func (p *parser) criterion(n *yaml.Node) (validate.Criterion, error) {
 	if err != nil {
 		return c, err
 	}
-	if err := c.Check(); err != nil {
+	// validate's message repeats the measure and the severity: check a
+	// copy with both cut to what a message may echo. No measure name or
+	// severity is that long, so the copy passes exactly when c does.
+	short := c
+	short.Measure, short.Severity = cohort.Clip(c.Measure), cohort.Clip(c.Severity)
+	if err := short.Check(); err != nil {
 		return c, p.wrapf(ErrCriterion, err, n, "%v", err)
 	}
 	return c, nil
