@@ -212,6 +212,9 @@ func Parse(name string, data []byte, reqs []Request, opt Options) (*Frame, error
 }
 
 func parse(ctx context.Context, name string, data []byte, reqs []Request, opt Options) (*Frame, error) {
+	if msg := notText(data); msg != "" {
+		return nil, &Error{File: name, Msg: msg, Kind: ErrFormat}
+	}
 	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
 	if len(bytes.TrimSpace(data)) == 0 {
 		return nil, &Error{File: name, Msg: "file is empty", Kind: ErrEmpty}
