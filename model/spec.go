@@ -242,13 +242,17 @@ func ParseSpec(name string, data []byte) (*Spec, error) {
 	if len(bytes.TrimSpace(data)) == 0 {
 		return nil, &SpecError{File: name, Msg: "file is empty", Kind: ErrSpecSyntax}
 	}
-	var doc yaml.Node
-	if err := yaml.Unmarshal(data, &doc); err != nil {
-		return nil, &SpecError{File: name, Msg: "not valid YAML: " + strings.TrimPrefix(err.Error(), "yaml: "), Kind: ErrSpecSyntax, Err: err}
+	doc, prob := ReadYAML(data)
+	if prob != nil {
+		kind := ErrSpecSyntax
+		if prob.Kind == YAMLKey {
+			kind = ErrUnknownKey
+		}
+		return nil, &SpecError{File: name, Line: prob.Line, Msg: prob.Msg, Kind: kind, Err: prob.Err}
 	}
 	p := &specParser{file: name}
 	if len(doc.Content) != 1 || doc.Content[0].Kind != yaml.MappingNode {
-		return nil, p.errf(ErrSpecSyntax, &doc, "the spec must be a mapping of keys such as name, outcome and predictors")
+		return nil, p.errf(ErrSpecSyntax, doc, "the spec must be a mapping of keys such as name, outcome and predictors")
 	}
 	s, err := p.spec(doc.Content[0])
 	if err != nil {
@@ -282,14 +286,14 @@ func (p *specParser) fields(n *yaml.Node, what string, allowed []string, f func(
 	if n.Kind != yaml.MappingNode {
 		return p.errf(ErrSpecValue, n, "%s must be a mapping", what)
 	}
-	seen := map[string]bool{}
+	seen := map[string]*yaml.Node{}
 	for i := 0; i+1 < len(n.Content); i += 2 {
 		k, v := n.Content[i], n.Content[i+1]
 		key := k.Value
-		if seen[key] {
-			return p.errf(ErrDuplicateKey, k, "key %q appears twice in %s", key, what)
+		if first, ok := seen[key]; ok {
+			return p.errf(ErrDuplicateKey, k, "key %s appears twice in %s (first on line %d)", cohort.Quote(key), what, first.Line)
 		}
-		seen[key] = true
+		seen[key] = k
 		ok := false
 		for _, a := range allowed {
 			ok = ok || a == key
@@ -540,13 +544,13 @@ func (p *specParser) coefMap(v *yaml.Node, key string) ([]Coef, error) {
 		return nil, p.errf(ErrSpecValue, v, "%s must map each term to its coefficient", key)
 	}
 	var out []Coef
-	seen := map[string]bool{}
+	seen := map[string]*yaml.Node{}
 	for i := 0; i+1 < len(v.Content); i += 2 {
 		k, val := v.Content[i], v.Content[i+1]
-		if seen[k.Value] {
-			return nil, p.errf(ErrDuplicateKey, k, "%q appears twice in %s", k.Value, key)
+		if first, ok := seen[k.Value]; ok {
+			return nil, p.errf(ErrDuplicateKey, k, "%s appears twice in %s (first on line %d)", cohort.Quote(k.Value), key, first.Line)
 		}
-		seen[k.Value] = true
+		seen[k.Value] = k
 		f, err := p.number(val, fmt.Sprintf("%s of %s", key, cohort.Quote(k.Value)))
 		if err != nil {
 			return nil, err

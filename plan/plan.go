@@ -26,6 +26,7 @@ import (
 	"go.yaml.in/yaml/v3"
 
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/model"
 	"github.com/riskaudit/riskaudit/samplesize"
 	"github.com/riskaudit/riskaudit/validate"
 )
@@ -140,12 +141,16 @@ func Parse(name string, data []byte) (*Plan, error) {
 	if len(bytes.TrimSpace(data)) == 0 {
 		return nil, p.errf(ErrSyntax, nil, "file is empty")
 	}
-	var doc yaml.Node
-	if err := yaml.Unmarshal(data, &doc); err != nil {
-		return nil, p.wrapf(ErrSyntax, err, nil, "not valid YAML: %s", strings.TrimPrefix(err.Error(), "yaml: "))
+	doc, prob := model.ReadYAML(data)
+	if prob != nil {
+		kind := ErrSyntax
+		if prob.Kind == model.YAMLKey {
+			kind = ErrUnknownKey
+		}
+		return nil, &Error{File: name, Line: prob.Line, Msg: prob.Msg, Kind: kind, Err: prob.Err}
 	}
 	if len(doc.Content) != 1 || doc.Content[0].Kind != yaml.MappingNode {
-		return nil, p.errf(ErrSyntax, &doc, "a plan must be a mapping of keys such as model, cohort and criteria")
+		return nil, p.errf(ErrSyntax, doc, "a plan must be a mapping of keys such as model, cohort and criteria")
 	}
 	pl := &Plan{File: name, Set: map[string]bool{}}
 	root := doc.Content[0]
@@ -184,13 +189,13 @@ func (p *parser) fields(n *yaml.Node, what string, allowed []string, f func(key 
 	if n.Kind != yaml.MappingNode {
 		return p.errf(ErrValue, n, "%s must be a mapping", what)
 	}
-	seen := map[string]bool{}
+	seen := map[string]*yaml.Node{}
 	for i := 0; i+1 < len(n.Content); i += 2 {
 		k, v := n.Content[i], n.Content[i+1]
-		if seen[k.Value] {
-			return p.errf(ErrDuplicateKey, k, "key %q appears twice in %s", k.Value, what)
+		if first, ok := seen[k.Value]; ok {
+			return p.errf(ErrDuplicateKey, k, "key %s appears twice in %s (first on line %d)", cohort.Quote(k.Value), what, first.Line)
 		}
-		seen[k.Value] = true
+		seen[k.Value] = k
 		ok := false
 		for _, a := range allowed {
 			ok = ok || a == k.Value
