@@ -22,6 +22,7 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+	"time"
 
 	"go.yaml.in/yaml/v3"
 
@@ -245,6 +246,65 @@ func (p *parser) whole(v *yaml.Node, key string) (int, error) {
 	return x, nil
 }
 
+// date reads a calendar date written YYYY-MM-DD: 2026-02-30 and
+// 2026-13-01 are refused, as --audit-date refuses them.
+func (p *parser) date(v *yaml.Node, key string) (string, error) {
+	s, err := p.str(v, key)
+	if err != nil {
+		return "", err
+	}
+	if t, perr := time.Parse(time.DateOnly, s); perr != nil || t.Format(time.DateOnly) != s {
+		return "", p.wrapf(ErrValue, perr, v, "%s must be a calendar date written YYYY-MM-DD, not %s", key, cohort.Quote(s))
+	}
+	return s, nil
+}
+
+// rename reads the mapping of column names in the extract to the names
+// the model uses: every name a non-empty single value, no name renamed
+// twice and no two names renamed to one.
+func (p *parser) rename(v *yaml.Node) (map[string]string, error) {
+	if v.Kind != yaml.MappingNode {
+		return nil, p.errf(ErrValue, v, "rename must map each column name in the extract to the name the model uses")
+	}
+	out := map[string]string{}
+	from := map[string]*yaml.Node{}
+	to := map[string]*yaml.Node{}
+	for i := 0; i+1 < len(v.Content); i += 2 {
+		k, n := v.Content[i], v.Content[i+1]
+		if k.Value == "" || k.ShortTag() == "!!null" {
+			return nil, p.errf(ErrValue, k, "rename: a column name to rename is empty")
+		}
+		if first, ok := from[k.Value]; ok {
+			return nil, p.errf(ErrDuplicateKey, k, "rename: %s appears twice (first on line %d)", cohort.Quote(k.Value), first.Line)
+		}
+		from[k.Value] = k
+		if n.Kind != yaml.ScalarNode {
+			return nil, p.errf(ErrValue, n, "rename: the new name of %s must be a single column name, not a %s", cohort.Quote(k.Value), nodeKind(n))
+		}
+		if n.Value == "" || n.ShortTag() == "!!null" {
+			return nil, p.errf(ErrValue, n, "rename: the new name of %s is empty", cohort.Quote(k.Value))
+		}
+		if first, ok := to[n.Value]; ok {
+			return nil, p.errf(ErrValue, n, "rename: %s and %s are both renamed to %s (lines %d and %d)",
+				cohort.Quote(first.Value), cohort.Quote(k.Value), cohort.Quote(n.Value), first.Line, k.Line)
+		}
+		to[n.Value] = k
+		out[k.Value] = n.Value
+	}
+	return out, nil
+}
+
+// nodeKind names a YAML node's kind for a message.
+func nodeKind(n *yaml.Node) string {
+	switch n.Kind {
+	case yaml.MappingNode:
+		return "mapping"
+	case yaml.SequenceNode:
+		return "list"
+	}
+	return "value"
+}
+
 func (p *parser) strs(v *yaml.Node, key string) ([]string, error) {
 	if v.Kind != yaml.SequenceNode {
 		return nil, p.errf(ErrValue, v, "%s must be a list", key)
@@ -284,7 +344,7 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 	case "history":
 		pl.History, err = p.str(v, key)
 	case "audit_date":
-		pl.AuditDate, err = p.str(v, key)
+		pl.AuditDate, err = p.date(v, key)
 	case "thresholds":
 		if v.Kind == yaml.SequenceNode {
 			var parts []string
@@ -306,13 +366,7 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 			}
 		}
 	case "rename":
-		pl.Rename = map[string]string{}
-		if v.Kind != yaml.MappingNode {
-			return p.errf(ErrValue, v, "rename must map each column name in the extract to the name the model uses")
-		}
-		for i := 0; i+1 < len(v.Content); i += 2 {
-			pl.Rename[v.Content[i].Value] = v.Content[i+1].Value
-		}
+		pl.Rename, err = p.rename(v)
 	case "subgroups":
 		pl.Subgroups, err = p.strs(v, key)
 	case "min_subgroup_events":
