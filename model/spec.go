@@ -617,7 +617,7 @@ func (p *specParser) provenance(n *yaml.Node, pv *Provenance) error {
 		switch key {
 		case "rows_used", "events":
 			n, err := strconv.Atoi(s)
-			if err != nil {
+			if err != nil || n < 0 {
 				return p.wrapf(ErrSpecValue, err, v, "%s must be a whole number", key)
 			}
 			if key == "rows_used" {
