@@ -41,8 +41,10 @@ var (
 	// quoted field that never ends or is followed by other text, a
 	// record with more or fewer fields than the header, a Parquet or
 	// Arrow file its reader refuses (Err holds the reader's error), a
-	// nested column, a columnar file where text rows are needed, or a
-	// columnar file that cannot be written back with scored columns.
+	// nested column, a columnar file where text rows are needed, a
+	// columnar file that cannot be written back with scored columns, or
+	// a file read as delimited text that is recognisably something else
+	// (a spreadsheet, an archive, an image, UTF-16 text, binary bytes).
 	ErrFormat = errors.New("cohort: malformed file")
 	// ErrEmpty is a file without data rows: empty, blank or a header
 	// alone.

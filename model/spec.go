@@ -46,9 +46,12 @@ var (
 	// operating system's error.
 	ErrSpecRead = errors.New("model: cannot read the spec file")
 	// ErrSpecSyntax is a spec file that is empty, is not valid YAML (Err
-	// holds the parser's error) or is not a mapping of keys.
+	// holds the parser's error), holds a second document, has an alias
+	// inside its own value or aliases that expand it too far, or is not
+	// a mapping of keys.
 	ErrSpecSyntax = errors.New("model: not a YAML spec")
-	// ErrUnknownKey is a key the schema does not have where it stands.
+	// ErrUnknownKey is a key the schema does not have where it stands,
+	// a merge key (<<) or a key that is a mapping or a list.
 	ErrUnknownKey = errors.New("model: unknown key")
 	// ErrDuplicateKey is a key (or a term of a coefficient map) given
 	// twice.

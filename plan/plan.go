@@ -39,15 +39,20 @@ var (
 	// operating system's error.
 	ErrRead = errors.New("plan: cannot read the plan file")
 	// ErrSyntax is a plan file that is empty, is not valid YAML (Err
-	// holds the parser's error) or is not a mapping of keys.
+	// holds the parser's error), holds a second document, has an alias
+	// inside its own value or aliases that expand it too far, or is not
+	// a mapping of keys.
 	ErrSyntax = errors.New("plan: not a YAML plan")
 	// ErrUnknownKey is a key the plan's schema does not have where it
-	// stands.
+	// stands, a merge key (<<) or a key that is a mapping or a list.
 	ErrUnknownKey = errors.New("plan: unknown key")
-	// ErrDuplicateKey is a key given twice in one mapping.
+	// ErrDuplicateKey is a key given twice in one mapping (a column
+	// renamed twice included).
 	ErrDuplicateKey = errors.New("plan: duplicate key")
 	// ErrValue is a value of the wrong type or outside its range, such as
-	// a number that does not read as one (Err holds strconv's error).
+	// a number that does not read as one (Err holds strconv's error), an
+	// audit_date that is not a calendar date (Err holds time's error) or
+	// a rename to an empty name or of two names to one.
 	ErrValue = errors.New("plan: bad value")
 	// ErrConflict is keys or values that do not go together in
 	// sample_size.anticipated, such as an event proportion and a
