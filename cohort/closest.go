@@ -1,6 +1,9 @@
 package cohort
 
-import "strings"
+import (
+	"strings"
+	"unicode/utf8"
+)
 
 // Closest returns the name in names nearest to want by edit distance,
 // ignoring case, or "" when none is near enough to be a likely typo (more
@@ -8,13 +11,21 @@ import "strings"
 func Closest(want string, names []string) string {
 	best, bestD := "", -1
 	w := strings.ToLower(want)
+	limit := max(2, utf8.RuneCountInString(want)/3)
+	nw := utf8.RuneCountInString(w)
 	for _, n := range names {
-		d := editDistance(w, strings.ToLower(n))
+		// The distance is at least the difference in length: a name
+		// too long or too short to be near is not measured (a binary
+		// file's "header" may be megabytes long).
+		l := strings.ToLower(n)
+		if nn := utf8.RuneCountInString(l); nn > nw+limit || nn < nw-limit {
+			continue
+		}
+		d := editDistance(w, l)
 		if bestD < 0 || d < bestD {
 			best, bestD = n, d
 		}
 	}
-	limit := max(2, len([]rune(want))/3)
 	if bestD < 0 || bestD > limit {
 		return ""
 	}

@@ -26,7 +26,6 @@ package cohort
 
 import (
 	"errors"
-	"fmt"
 	"strconv"
 	"strings"
 )
@@ -42,8 +41,10 @@ var (
 	// quoted field that never ends or is followed by other text, a
 	// record with more or fewer fields than the header, a Parquet or
 	// Arrow file its reader refuses (Err holds the reader's error), a
-	// nested column, a columnar file where text rows are needed, or a
-	// columnar file that cannot be written back with scored columns.
+	// nested column, a columnar file where text rows are needed, a
+	// columnar file that cannot be written back with scored columns, or
+	// a file read as delimited text that is recognisably something else
+	// (a spreadsheet, an archive, an image, UTF-16 text, binary bytes).
 	ErrFormat = errors.New("cohort: malformed file")
 	// ErrEmpty is a file without data rows: empty, blank or a header
 	// alone.
@@ -104,6 +105,9 @@ type Error struct {
 // Error formats the problem as one line:
 //
 //	dev.csv: line 12, column "age": value "abc": not a number
+//
+// A column name or value longer than EchoChars characters is cut, with
+// its length stated (see Quote); Msg is written as it is.
 func (e *Error) Error() string {
 	var b strings.Builder
 	b.WriteString(e.File)
@@ -120,10 +124,12 @@ func (e *Error) Error() string {
 	}
 	if e.Column != "" {
 		b.WriteString(sep)
-		fmt.Fprintf(&b, "column %q", e.Column)
+		b.WriteString("column ")
+		b.WriteString(Quote(e.Column))
 	}
 	if e.HasValue {
-		fmt.Fprintf(&b, ": value %q", e.Value)
+		b.WriteString(": value ")
+		b.WriteString(Quote(e.Value))
 	}
 	b.WriteString(": ")
 	b.WriteString(e.Msg)

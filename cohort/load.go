@@ -212,6 +212,9 @@ func Parse(name string, data []byte, reqs []Request, opt Options) (*Frame, error
 }
 
 func parse(ctx context.Context, name string, data []byte, reqs []Request, opt Options) (*Frame, error) {
+	if msg := notText(data); msg != "" {
+		return nil, &Error{File: name, Msg: msg, Kind: ErrFormat}
+	}
 	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
 	if len(bytes.TrimSpace(data)) == 0 {
 		return nil, &Error{File: name, Msg: "file is empty", Kind: ErrEmpty}
@@ -345,13 +348,9 @@ func planColumns(name string, header []string, reqs []Request) ([]int, error) {
 func missingColumnMsg(want string, header []string) string {
 	msg := "no such column"
 	if s := Closest(want, header); s != "" {
-		msg += fmt.Sprintf(" (did you mean %q?)", s)
+		msg += " (did you mean " + Quote(s) + "?)"
 	}
-	quoted := make([]string, len(header))
-	for i, h := range header {
-		quoted[i] = fmt.Sprintf("%q", h)
-	}
-	return msg + "; columns present: " + strings.Join(quoted, ", ")
+	return msg + "; columns present: " + QuoteList(header)
 }
 
 func syntaxError(name string, err error) error {

@@ -438,7 +438,7 @@ func (d *Design) bindCategorical(e *entry, used []bool) error {
 				found = found || l == pr.Reference
 			}
 			if !found {
-				return &SpecError{File: d.Spec.File, Line: pr.Line, Msg: fmt.Sprintf("predictor %q: the reference level %q does not occur in the data (levels: %s)", pr.Column, pr.Reference, strings.Join(levels, ", ")), Kind: ErrSpecData}
+				return &SpecError{File: d.Spec.File, Line: pr.Line, Msg: fmt.Sprintf("predictor %s: the reference level %s does not occur in the data (levels: %s)", cohort.Quote(pr.Column), cohort.Quote(pr.Reference), cohort.ClipList(levels)), Kind: ErrSpecData}
 			}
 		}
 		for _, l := range levels {
@@ -464,7 +464,7 @@ func (d *Design) bindCategorical(e *entry, used []bool) error {
 			e.codeTerm[code] = -2
 			if present[code] {
 				return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Row: d.frame.RowNumbered, Column: pr.Column, Value: l, HasValue: true,
-					Msg: fmt.Sprintf("a level the model does not know (it knows %s)", strings.Join(append([]string{e.reference}, e.levels...), ", ")), Kind: cohort.ErrLevel}
+					Msg: fmt.Sprintf("a level the model does not know (it knows %s)", cohort.ClipList(append([]string{e.reference}, e.levels...))), Kind: cohort.ErrLevel}
 			}
 		}
 	}
@@ -522,38 +522,24 @@ func (d *Design) mapOutcome(used []bool) error {
 	seen := func() string {
 		var vals []string
 		for code, l := range c.Levels {
-			if present[code] > 0 && len(vals) < 10 {
-				vals = append(vals, strconv.Quote(l))
+			if present[code] > 0 {
+				vals = append(vals, l)
 			}
 		}
-		more := ""
-		if n := countPresent(present); n > 10 {
-			more = fmt.Sprintf(" and %d more", n-10)
-		}
-		return strings.Join(vals, ", ") + more
+		return cohort.QuoteList(vals)
 	}
 	if len(bad) > 0 {
 		code := bad[0]
 		return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Row: d.frame.RowNumbered, Column: c.Name, Value: c.Levels[code], HasValue: true,
-			Msg: fmt.Sprintf("neither the event %q nor the non-event %q; values seen: %s", o.Event.Text, o.NonEvent.Text, seen()), Kind: cohort.ErrOutcome}
+			Msg: fmt.Sprintf("neither the event %s nor the non-event %s; values seen: %s", cohort.Quote(o.Event.Text), cohort.Quote(o.NonEvent.Text), seen()), Kind: cohort.ErrOutcome}
 	}
 	if events == 0 {
-		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no events (no row equals the event value %q); values seen: %s", o.Event.Text, seen()), Kind: cohort.ErrOutcome}
+		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no events (no row equals the event value %s); values seen: %s", cohort.Quote(o.Event.Text), seen()), Kind: cohort.ErrOutcome}
 	}
 	if nonEvents == 0 {
-		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no non-events (every row equals the event value %q)", o.Event.Text), Kind: cohort.ErrOutcome}
+		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no non-events (every row equals the event value %s)", cohort.Quote(o.Event.Text)), Kind: cohort.ErrOutcome}
 	}
 	return nil
-}
-
-func countPresent(present []int) int {
-	n := 0
-	for _, p := range present {
-		if p > 0 {
-			n++
-		}
-	}
-	return n
 }
 
 // row writes the terms of frame row i into out (len(d.Terms) values,

@@ -170,8 +170,8 @@ func (s *Spec) MarshalYAML() ([]byte, error) {
 		add(p, "method", str(pv.Method))
 		add(p, "data_file", str(pv.DataFile))
 		add(p, "data_sha256", str(pv.DataSHA256))
-		add(p, "rows_used", num(float64(pv.RowsUsed)))
-		add(p, "events", num(float64(pv.Events)))
+		add(p, "rows_used", whole(pv.RowsUsed))
+		add(p, "events", whole(pv.Events))
 		add(p, "fitted_at", str(pv.FittedAt))
 		add(p, "tool_version", str(pv.ToolVersion))
 		if pv.RecipeFile != "" {
@@ -289,6 +289,12 @@ func num(v float64) *yaml.Node {
 		s = strconv.FormatFloat(v, 'f', -1, 64)
 	}
 	return &yaml.Node{Kind: yaml.ScalarNode, Value: s}
+}
+
+// whole writes a count in decimal digits, which num would round beyond
+// 2^53.
+func whole(n int) *yaml.Node {
+	return &yaml.Node{Kind: yaml.ScalarNode, Value: strconv.Itoa(n)}
 }
 
 func nums(vs []float64) *yaml.Node {

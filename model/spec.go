@@ -46,9 +46,12 @@ var (
 	// operating system's error.
 	ErrSpecRead = errors.New("model: cannot read the spec file")
 	// ErrSpecSyntax is a spec file that is empty, is not valid YAML (Err
-	// holds the parser's error) or is not a mapping of keys.
+	// holds the parser's error), holds a second document, has an alias
+	// inside its own value or aliases that expand it too far, or is not
+	// a mapping of keys.
 	ErrSpecSyntax = errors.New("model: not a YAML spec")
-	// ErrUnknownKey is a key the schema does not have where it stands.
+	// ErrUnknownKey is a key the schema does not have where it stands,
+	// a merge key (<<) or a key that is a mapping or a list.
 	ErrUnknownKey = errors.New("model: unknown key")
 	// ErrDuplicateKey is a key (or a term of a coefficient map) given
 	// twice.
@@ -242,13 +245,17 @@ func ParseSpec(name string, data []byte) (*Spec, error) {
 	if len(bytes.TrimSpace(data)) == 0 {
 		return nil, &SpecError{File: name, Msg: "file is empty", Kind: ErrSpecSyntax}
 	}
-	var doc yaml.Node
-	if err := yaml.Unmarshal(data, &doc); err != nil {
-		return nil, &SpecError{File: name, Msg: "not valid YAML: " + strings.TrimPrefix(err.Error(), "yaml: "), Kind: ErrSpecSyntax, Err: err}
+	doc, prob := ReadYAML(data)
+	if prob != nil {
+		kind := ErrSpecSyntax
+		if prob.Kind == YAMLKey {
+			kind = ErrUnknownKey
+		}
+		return nil, &SpecError{File: name, Line: prob.Line, Msg: prob.Msg, Kind: kind, Err: prob.Err}
 	}
 	p := &specParser{file: name}
 	if len(doc.Content) != 1 || doc.Content[0].Kind != yaml.MappingNode {
-		return nil, p.errf(ErrSpecSyntax, &doc, "the spec must be a mapping of keys such as name, outcome and predictors")
+		return nil, p.errf(ErrSpecSyntax, doc, "the spec must be a mapping of keys such as name, outcome and predictors")
 	}
 	s, err := p.spec(doc.Content[0])
 	if err != nil {
@@ -282,22 +289,22 @@ func (p *specParser) fields(n *yaml.Node, what string, allowed []string, f func(
 	if n.Kind != yaml.MappingNode {
 		return p.errf(ErrSpecValue, n, "%s must be a mapping", what)
 	}
-	seen := map[string]bool{}
+	seen := map[string]*yaml.Node{}
 	for i := 0; i+1 < len(n.Content); i += 2 {
 		k, v := n.Content[i], n.Content[i+1]
 		key := k.Value
-		if seen[key] {
-			return p.errf(ErrDuplicateKey, k, "key %q appears twice in %s", key, what)
+		if first, ok := seen[key]; ok {
+			return p.errf(ErrDuplicateKey, k, "key %s appears twice in %s (first on line %d)", cohort.Quote(key), what, first.Line)
 		}
-		seen[key] = true
+		seen[key] = k
 		ok := false
 		for _, a := range allowed {
 			ok = ok || a == key
 		}
 		if !ok {
-			msg := fmt.Sprintf("unknown key %q in %s", key, what)
+			msg := fmt.Sprintf("unknown key %s in %s", cohort.Quote(key), what)
 			if c := cohort.Closest(key, allowed); c != "" {
-				msg += fmt.Sprintf(" (did you mean %q?)", c)
+				msg += fmt.Sprintf(" (did you mean %s?)", cohort.Quote(c))
 			}
 			return p.errf(ErrUnknownKey, k, "%s; allowed keys: %s", msg, strings.Join(allowed, ", "))
 		}
@@ -322,7 +329,7 @@ func (p *specParser) number(v *yaml.Node, key string) (float64, error) {
 	}
 	f, perr := strconv.ParseFloat(s, 64)
 	if perr != nil || math.IsInf(f, 0) || math.IsNaN(f) {
-		return 0, p.wrapf(ErrSpecValue, perr, v, "%s must be a finite number, not %q", key, s)
+		return 0, p.wrapf(ErrSpecValue, perr, v, "%s must be a finite number, not %s", key, cohort.Quote(s))
 	}
 	return f, nil
 }
@@ -338,7 +345,7 @@ func (p *specParser) boolean(v *yaml.Node, key string) (bool, error) {
 	case "false":
 		return false, nil
 	}
-	return false, p.errf(ErrSpecValue, v, "%s must be true or false, not %q", key, s)
+	return false, p.errf(ErrSpecValue, v, "%s must be true or false, not %s", key, cohort.Quote(s))
 }
 
 func (p *specParser) value(v *yaml.Node, key string) (Value, error) {
@@ -426,7 +433,7 @@ func (p *specParser) outcome(n *yaml.Node, o *Outcome) error {
 		return p.errf(ErrMissingKey, n, "outcome needs an event value")
 	}
 	if o.NonEvent != nil && o.NonEvent.Text == o.Event.Text {
-		return p.errf(ErrConflict, n, "outcome event and non_event are the same value %q", o.Event.Text)
+		return p.errf(ErrConflict, n, "outcome event and non_event are the same value %s", cohort.Quote(o.Event.Text))
 	}
 	return nil
 }
@@ -501,12 +508,12 @@ func (p *specParser) checkPredictor(n *yaml.Node, pr *Predictor) error {
 	}
 	if pr.Categorical {
 		if pr.Log || pr.Powers != nil || pr.Spline != nil || pr.Center != 0 || pr.Scale != 1 || pr.HasCoef || pr.Coefs != nil {
-			return p.errf(ErrConflict, n, "categorical predictor %q takes only reference and levels", pr.Column)
+			return p.errf(ErrConflict, n, "categorical predictor %s takes only reference and levels", cohort.Quote(pr.Column))
 		}
 		return nil
 	}
 	if pr.HasReference || pr.Levels != nil {
-		return p.errf(ErrConflict, n, "predictor %q has reference or levels but is not categorical (add categorical: true)", pr.Column)
+		return p.errf(ErrConflict, n, "predictor %s has reference or levels but is not categorical (add categorical: true)", cohort.Quote(pr.Column))
 	}
 	ways := 0
 	for _, b := range []bool{pr.Log, pr.Powers != nil, pr.Spline != nil} {
@@ -515,7 +522,7 @@ func (p *specParser) checkPredictor(n *yaml.Node, pr *Predictor) error {
 		}
 	}
 	if ways > 1 {
-		return p.errf(ErrConflict, n, "predictor %q: choose one of log, powers and spline", pr.Column)
+		return p.errf(ErrConflict, n, "predictor %s: choose one of log, powers and spline", cohort.Quote(pr.Column))
 	}
 	return nil
 }
@@ -540,14 +547,14 @@ func (p *specParser) coefMap(v *yaml.Node, key string) ([]Coef, error) {
 		return nil, p.errf(ErrSpecValue, v, "%s must map each term to its coefficient", key)
 	}
 	var out []Coef
-	seen := map[string]bool{}
+	seen := map[string]*yaml.Node{}
 	for i := 0; i+1 < len(v.Content); i += 2 {
 		k, val := v.Content[i], v.Content[i+1]
-		if seen[k.Value] {
-			return nil, p.errf(ErrDuplicateKey, k, "%q appears twice in %s", k.Value, key)
+		if first, ok := seen[k.Value]; ok {
+			return nil, p.errf(ErrDuplicateKey, k, "%s appears twice in %s (first on line %d)", cohort.Quote(k.Value), key, first.Line)
 		}
-		seen[k.Value] = true
-		f, err := p.number(val, fmt.Sprintf("%s of %q", key, k.Value))
+		seen[k.Value] = k
+		f, err := p.number(val, fmt.Sprintf("%s of %s", key, cohort.Quote(k.Value)))
 		if err != nil {
 			return nil, err
 		}
@@ -564,7 +571,7 @@ func (p *specParser) spline(n *yaml.Node) (*Spline, error) {
 			if v.Kind == yaml.ScalarNode {
 				c, err := strconv.Atoi(v.Value)
 				if err != nil || c < 3 || c > 7 {
-					return p.wrapf(ErrSpecValue, err, v, "knots must be a list of positions or a count from 3 to 7, not %q", v.Value)
+					return p.wrapf(ErrSpecValue, err, v, "knots must be a list of positions or a count from 3 to 7, not %s", cohort.Quote(v.Value))
 				}
 				sp.Count = c
 				return nil
@@ -588,7 +595,7 @@ func (p *specParser) spline(n *yaml.Node) (*Spline, error) {
 				return err
 			}
 			if s != "outer-range" && s != "none" {
-				return p.errf(ErrSpecValue, v, "normalise must be outer-range or none, not %q", s)
+				return p.errf(ErrSpecValue, v, "normalise must be outer-range or none, not %s", cohort.Quote(s))
 			}
 			sp.Normalise = s
 		}
@@ -613,7 +620,7 @@ func (p *specParser) provenance(n *yaml.Node, pv *Provenance) error {
 		switch key {
 		case "rows_used", "events":
 			n, err := strconv.Atoi(s)
-			if err != nil {
+			if err != nil || n < 0 {
 				return p.wrapf(ErrSpecValue, err, v, "%s must be a whole number", key)
 			}
 			if key == "rows_used" {
@@ -647,11 +654,11 @@ func (s *Spec) check(p *specParser) error {
 	for i := range s.Predictors {
 		pr := &s.Predictors[i]
 		if pr.Column == s.Outcome.Column && pr.Column != "" {
-			return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("the outcome column %q cannot be a predictor", pr.Column), Kind: ErrConflict}
+			return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("the outcome column %s cannot be a predictor", cohort.Quote(pr.Column)), Kind: ErrConflict}
 		}
 		if pr.Column != "" {
 			if cat, ok := kinds[pr.Column]; ok && cat != pr.Categorical {
-				return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("column %q is both categorical and numeric", pr.Column), Kind: ErrConflict}
+				return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("column %s is both categorical and numeric", cohort.Quote(pr.Column)), Kind: ErrConflict}
 			}
 			kinds[pr.Column] = pr.Categorical
 			if _, ok := seen[pr.Column]; !ok {
@@ -664,7 +671,7 @@ func (s *Spec) check(p *specParser) error {
 		for _, c := range pr.Product {
 			j, ok := seen[c]
 			if !ok {
-				return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("product names %q, which is not a predictor of the spec", c), Kind: ErrConflict}
+				return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("product names %s, which is not a predictor of the spec", cohort.Quote(c)), Kind: ErrConflict}
 			}
 			if s.Predictors[j].Product != nil {
 				return &SpecError{File: p.file, Line: pr.Line, Msg: "a product cannot contain a product", Kind: ErrConflict}
@@ -684,10 +691,10 @@ func (s *Spec) check(p *specParser) error {
 	}
 	for _, pr := range s.Predictors {
 		if pr.Spline != nil && pr.Spline.Knots == nil {
-			return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("frozen predictor %q needs its spline knot positions", pr.Column), Kind: ErrMissingKey}
+			return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("frozen predictor %s needs its spline knot positions", cohort.Quote(pr.Column)), Kind: ErrMissingKey}
 		}
 		if pr.Categorical && !pr.HasReference {
-			return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("frozen categorical predictor %q needs its reference level", pr.Column), Kind: ErrMissingKey}
+			return &SpecError{File: p.file, Line: pr.Line, Msg: fmt.Sprintf("frozen categorical predictor %s needs its reference level", cohort.Quote(pr.Column)), Kind: ErrMissingKey}
 		}
 	}
 	return nil

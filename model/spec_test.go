@@ -31,6 +31,7 @@ func TestSpecErrors(t *testing.T) {
 		{"mixed kinds", "outcome: {column: y, event: 1}\npredictors:\n  - column: a\n  - column: a\n    categorical: true\n", `column "a" is both categorical and numeric`},
 		{"negative scale", "outcome: {column: y, event: 1}\npredictors:\n  - column: a\n    scale: -2\n", "line 4: scale must be positive"},
 		{"provenance typo", "outcome: {column: y, event: 1}\npredictors: []\nprovenance: {rows: 3}\n", `unknown key "rows" in provenance`},
+		{"negative count", "outcome: {column: y, event: 1}\npredictors: []\nprovenance: {rows_used: -3}\n", "line 3: rows_used must be a whole number"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {

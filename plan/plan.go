@@ -22,10 +22,12 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+	"time"
 
 	"go.yaml.in/yaml/v3"
 
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/model"
 	"github.com/riskaudit/riskaudit/samplesize"
 	"github.com/riskaudit/riskaudit/validate"
 )
@@ -37,15 +39,20 @@ var (
 	// operating system's error.
 	ErrRead = errors.New("plan: cannot read the plan file")
 	// ErrSyntax is a plan file that is empty, is not valid YAML (Err
-	// holds the parser's error) or is not a mapping of keys.
+	// holds the parser's error), holds a second document, has an alias
+	// inside its own value or aliases that expand it too far, or is not
+	// a mapping of keys.
 	ErrSyntax = errors.New("plan: not a YAML plan")
 	// ErrUnknownKey is a key the plan's schema does not have where it
-	// stands.
+	// stands, a merge key (<<) or a key that is a mapping or a list.
 	ErrUnknownKey = errors.New("plan: unknown key")
-	// ErrDuplicateKey is a key given twice in one mapping.
+	// ErrDuplicateKey is a key given twice in one mapping (a column
+	// renamed twice included).
 	ErrDuplicateKey = errors.New("plan: duplicate key")
 	// ErrValue is a value of the wrong type or outside its range, such as
-	// a number that does not read as one (Err holds strconv's error).
+	// a number that does not read as one (Err holds strconv's error), an
+	// audit_date that is not a calendar date (Err holds time's error) or
+	// a rename to an empty name or of two names to one.
 	ErrValue = errors.New("plan: bad value")
 	// ErrConflict is keys or values that do not go together in
 	// sample_size.anticipated, such as an event proportion and a
@@ -140,12 +147,16 @@ func Parse(name string, data []byte) (*Plan, error) {
 	if len(bytes.TrimSpace(data)) == 0 {
 		return nil, p.errf(ErrSyntax, nil, "file is empty")
 	}
-	var doc yaml.Node
-	if err := yaml.Unmarshal(data, &doc); err != nil {
-		return nil, p.wrapf(ErrSyntax, err, nil, "not valid YAML: %s", strings.TrimPrefix(err.Error(), "yaml: "))
+	doc, prob := model.ReadYAML(data)
+	if prob != nil {
+		kind := ErrSyntax
+		if prob.Kind == model.YAMLKey {
+			kind = ErrUnknownKey
+		}
+		return nil, &Error{File: name, Line: prob.Line, Msg: prob.Msg, Kind: kind, Err: prob.Err}
 	}
 	if len(doc.Content) != 1 || doc.Content[0].Kind != yaml.MappingNode {
-		return nil, p.errf(ErrSyntax, &doc, "a plan must be a mapping of keys such as model, cohort and criteria")
+		return nil, p.errf(ErrSyntax, doc, "a plan must be a mapping of keys such as model, cohort and criteria")
 	}
 	pl := &Plan{File: name, Set: map[string]bool{}}
 	root := doc.Content[0]
@@ -184,21 +195,21 @@ func (p *parser) fields(n *yaml.Node, what string, allowed []string, f func(key 
 	if n.Kind != yaml.MappingNode {
 		return p.errf(ErrValue, n, "%s must be a mapping", what)
 	}
-	seen := map[string]bool{}
+	seen := map[string]*yaml.Node{}
 	for i := 0; i+1 < len(n.Content); i += 2 {
 		k, v := n.Content[i], n.Content[i+1]
-		if seen[k.Value] {
-			return p.errf(ErrDuplicateKey, k, "key %q appears twice in %s", k.Value, what)
+		if first, ok := seen[k.Value]; ok {
+			return p.errf(ErrDuplicateKey, k, "key %s appears twice in %s (first on line %d)", cohort.Quote(k.Value), what, first.Line)
 		}
-		seen[k.Value] = true
+		seen[k.Value] = k
 		ok := false
 		for _, a := range allowed {
 			ok = ok || a == k.Value
 		}
 		if !ok {
-			msg := fmt.Sprintf("unknown key %q in %s", k.Value, what)
+			msg := fmt.Sprintf("unknown key %s in %s", cohort.Quote(k.Value), what)
 			if c := cohort.Closest(k.Value, allowed); c != "" {
-				msg += fmt.Sprintf(" (did you mean %q?)", c)
+				msg += fmt.Sprintf(" (did you mean %s?)", cohort.Quote(c))
 			}
 			return p.errf(ErrUnknownKey, k, "%s; allowed keys: %s", msg, strings.Join(allowed, ", "))
 		}
@@ -223,7 +234,7 @@ func (p *parser) num(v *yaml.Node, key string) (float64, error) {
 	}
 	x, err := strconv.ParseFloat(s, 64)
 	if err != nil {
-		return 0, p.wrapf(ErrValue, err, v, "%s must be a number, not %q", key, s)
+		return 0, p.wrapf(ErrValue, err, v, "%s must be a number, not %s", key, cohort.Quote(s))
 	}
 	return x, nil
 }
@@ -235,9 +246,68 @@ func (p *parser) whole(v *yaml.Node, key string) (int, error) {
 	}
 	x, err := strconv.Atoi(s)
 	if err != nil || x < 0 {
-		return 0, p.wrapf(ErrValue, err, v, "%s must be a whole number, not %q", key, s)
+		return 0, p.wrapf(ErrValue, err, v, "%s must be a whole number, not %s", key, cohort.Quote(s))
 	}
 	return x, nil
+}
+
+// date reads a calendar date written YYYY-MM-DD: 2026-02-30 and
+// 2026-13-01 are refused, as --audit-date refuses them.
+func (p *parser) date(v *yaml.Node, key string) (string, error) {
+	s, err := p.str(v, key)
+	if err != nil {
+		return "", err
+	}
+	if t, perr := time.Parse(time.DateOnly, s); perr != nil || t.Format(time.DateOnly) != s {
+		return "", p.wrapf(ErrValue, perr, v, "%s must be a calendar date written YYYY-MM-DD, not %s", key, cohort.Quote(s))
+	}
+	return s, nil
+}
+
+// rename reads the mapping of column names in the extract to the names
+// the model uses: every name a non-empty single value, no name renamed
+// twice and no two names renamed to one.
+func (p *parser) rename(v *yaml.Node) (map[string]string, error) {
+	if v.Kind != yaml.MappingNode {
+		return nil, p.errf(ErrValue, v, "rename must map each column name in the extract to the name the model uses")
+	}
+	out := map[string]string{}
+	from := map[string]*yaml.Node{}
+	to := map[string]*yaml.Node{}
+	for i := 0; i+1 < len(v.Content); i += 2 {
+		k, n := v.Content[i], v.Content[i+1]
+		if k.Value == "" || k.ShortTag() == "!!null" {
+			return nil, p.errf(ErrValue, k, "rename: a column name to rename is empty")
+		}
+		if first, ok := from[k.Value]; ok {
+			return nil, p.errf(ErrDuplicateKey, k, "rename: %s appears twice (first on line %d)", cohort.Quote(k.Value), first.Line)
+		}
+		from[k.Value] = k
+		if n.Kind != yaml.ScalarNode {
+			return nil, p.errf(ErrValue, n, "rename: the new name of %s must be a single column name, not a %s", cohort.Quote(k.Value), nodeKind(n))
+		}
+		if n.Value == "" || n.ShortTag() == "!!null" {
+			return nil, p.errf(ErrValue, n, "rename: the new name of %s is empty", cohort.Quote(k.Value))
+		}
+		if first, ok := to[n.Value]; ok {
+			return nil, p.errf(ErrValue, n, "rename: %s and %s are both renamed to %s (lines %d and %d)",
+				cohort.Quote(first.Value), cohort.Quote(k.Value), cohort.Quote(n.Value), first.Line, k.Line)
+		}
+		to[n.Value] = k
+		out[k.Value] = n.Value
+	}
+	return out, nil
+}
+
+// nodeKind names a YAML node's kind for a message.
+func nodeKind(n *yaml.Node) string {
+	switch n.Kind {
+	case yaml.MappingNode:
+		return "mapping"
+	case yaml.SequenceNode:
+		return "list"
+	}
+	return "value"
 }
 
 func (p *parser) strs(v *yaml.Node, key string) ([]string, error) {
@@ -279,7 +349,7 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 	case "history":
 		pl.History, err = p.str(v, key)
 	case "audit_date":
-		pl.AuditDate, err = p.str(v, key)
+		pl.AuditDate, err = p.date(v, key)
 	case "thresholds":
 		if v.Kind == yaml.SequenceNode {
 			var parts []string
@@ -295,19 +365,13 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 			for i, s := range parts {
 				x, perr := strconv.ParseFloat(s, 64)
 				if perr != nil {
-					return p.wrapf(ErrValue, perr, v.Content[i], "classify_at: %q is not a number", s)
+					return p.wrapf(ErrValue, perr, v.Content[i], "classify_at: %s is not a number", cohort.Quote(s))
 				}
 				pl.ClassifyAt = append(pl.ClassifyAt, x)
 			}
 		}
 	case "rename":
-		pl.Rename = map[string]string{}
-		if v.Kind != yaml.MappingNode {
-			return p.errf(ErrValue, v, "rename must map each column name in the extract to the name the model uses")
-		}
-		for i := 0; i+1 < len(v.Content); i += 2 {
-			pl.Rename[v.Content[i].Value] = v.Content[i+1].Value
-		}
+		pl.Rename, err = p.rename(v)
 	case "subgroups":
 		pl.Subgroups, err = p.strs(v, key)
 	case "min_subgroup_events":
@@ -494,7 +558,12 @@ func (p *parser) criterion(n *yaml.Node) (validate.Criterion, error) {
 	if err != nil {
 		return c, err
 	}
-	if err := c.Check(); err != nil {
+	// validate's message repeats the measure and the severity: check a
+	// copy with both cut to what a message may echo. No measure name or
+	// severity is that long, so the copy passes exactly when c does.
+	short := c
+	short.Measure, short.Severity = cohort.Clip(c.Measure), cohort.Clip(c.Severity)
+	if err := short.Check(); err != nil {
 		return c, p.wrapf(ErrCriterion, err, n, "%v", err)
 	}
 	return c, nil
