@@ -429,19 +429,39 @@ func (r *renderer) sampleSize() {
 	r.p("## Was the cohort large enough?\n\n")
 	r.p("The minimum sample size for precise estimates, criterion by criterion (after Riley et al. 2021), with the anticipated values taken from %s:\n\n", ss.Basis)
 	t := table{head: []string{"criterion", "target", "patients needed", "events needed", "this cohort"}}
+	var missing []string
 	for _, c := range ss.Criteria {
+		if c.N == nil || c.Events == nil || c.Met == nil {
+			t.add(c.Measure, c.Target, "cannot be computed: "+c.NotComputable, "", "cannot be judged")
+			missing = append(missing, c.Measure)
+			continue
+		}
 		met := "enough"
-		if !c.Met {
+		if !*c.Met {
 			met = "**too few**"
 		}
-		t.add(c.Measure, c.Target, fmt.Sprint(c.N), fmt.Sprint(c.Events), met)
+		t.add(c.Measure, c.Target, fmt.Sprint(*c.N), fmt.Sprint(*c.Events), met)
 	}
 	t.write(r.w)
-	if ss.Short {
-		r.p("**Caution: the cohort's %d patients fall short of the %d the %s criterion needs; the intervals above are wider than the targets, and the audit's conclusions are correspondingly less certain.**\n\n", ss.Have, ss.Required, ss.Driver)
-	} else {
-		r.p("The cohort's %d patients meet every criterion (the largest need is %d, for the %s).\n\n", ss.Have, ss.Required, ss.Driver)
+	switch {
+	case ss.Short != nil && *ss.Short:
+		r.p("**Caution: the cohort's %d patients fall short of the %d the %s criterion needs; the intervals above are wider than the targets, and the audit's conclusions are correspondingly less certain.**\n\n", ss.Have, *ss.Required, ss.Driver)
+	case ss.Short != nil:
+		r.p("The cohort's %d patients meet every criterion (the largest need is %d, for the %s).\n\n", ss.Have, *ss.Required, ss.Driver)
+	case ss.Required != nil:
+		r.p("The cohort's %d patients meet the criteria that could be computed (the largest need is %d, for the %s); whether they are enough for the %s cannot be judged, since %s could not be computed.\n\n",
+			ss.Have, *ss.Required, ss.Driver, strings.Join(missing, " and "), plural(len(missing), "its size", "their sizes"))
+	default:
+		r.p("No criterion's size could be computed, so whether the cohort's %d patients are enough cannot be judged.\n\n", ss.Have)
 	}
+}
+
+// plural picks the singular or plural form for n things.
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
 }
 
 func (r *renderer) caseMix() {

@@ -346,22 +346,33 @@ type UpdateTest struct {
 
 // SampleSize compares the cohort's size with the minimum sample size of
 // Riley et al. (2021), with the anticipated values taken from the cohort
-// itself or from the audit plan, as Basis says.
+// itself or from the audit plan, as Basis says. A criterion whose size
+// cannot be computed (samplesize.Criterion.NotComputable) is listed with
+// its reason and judges nothing.
 type SampleSize struct {
 	Criteria []SizeCriterion `json:"criteria"`
-	Required int             `json:"required_n"`
-	Driver   string          `json:"driven_by"`
-	Have     int             `json:"have_n"`
-	Short    bool            `json:"short"`
-	Basis    string          `json:"anticipated_from"`
+	// Required and Driver are the largest need among the criteria that
+	// could be computed and its criterion; Required is nil when none
+	// could.
+	Required *int   `json:"required_n"`
+	Driver   string `json:"driven_by"`
+	Have     int    `json:"have_n"`
+	// Short is true when the cohort falls short of a criterion that
+	// could be computed, false when it meets every criterion, and nil
+	// when it meets those that could be computed but some could not:
+	// then whether it was large enough cannot be judged.
+	Short *bool  `json:"short"`
+	Basis string `json:"anticipated_from"`
 }
 
-// SizeCriterion is one criterion's requirement.
+// SizeCriterion is one criterion's requirement. N, Events and Met are
+// nil when the size cannot be computed, and NotComputable says why.
 type SizeCriterion struct {
-	Measure string  `json:"measure"`
-	Target  string  `json:"target"`
-	SE      float64 `json:"target_se"`
-	N       int     `json:"n"`
-	Events  int     `json:"events"`
-	Met     bool    `json:"met"`
+	Measure       string  `json:"measure"`
+	Target        string  `json:"target"`
+	SE            float64 `json:"target_se"`
+	N             *int    `json:"n"`
+	Events        *int    `json:"events"`
+	Met           *bool   `json:"met"`
+	NotComputable string  `json:"not_computable,omitempty"`
 }
