@@ -558,7 +558,7 @@ func (r *renderer) methods() {
 		"Calibration-in-the-large: the intercept of a logistic regression of the outcome with logit(risk) as offset; calibration slope: the coefficient of logit(risk) with a free intercept (Cox 1958; Van Calster et al. 2016). Wald intervals.",
 		"O/E: observed over expected events, 95% CI exp(ln(O/E) ± 1.96·√((1 − O/n)/O)).",
 		fmt.Sprintf("Hosmer–Lemeshow test (Hosmer & Lemeshow 1980): %d groups of predicted risk, ties kept together, df = %d.", c.HL.Groups, c.HL.DF),
-		fmt.Sprintf("Flexible calibration curve: LOWESS (Cleveland 1979), span %.2f, local linear, tricube weights, no robustness iterations; ICI, E50, E90 and Emax from it (Austin & Steyerberg 2019).", c.Span),
+		fmt.Sprintf("Flexible calibration curve: LOWESS (Cleveland 1979), span %.2f, local linear, tricube weights, no robustness iterations; ICI, E50, E90 and Emax from it (Austin & Steyerberg 2019). Where a neighbourhood has no spread of predicted risk to fit a line to — its nearest patients all tied with the point, or a weighted variance of the risks at most 1e-10 of their weighted mean square distance from it — the local fit is the local weighted mean of the outcomes (over every patient tied with the point, when the nearest all tie), with the same band formula; when every risk is the same, the curve is the event rate.", c.Span),
 		"Brier score (Brier 1950) and scaled Brier score (Steyerberg et al. 2010).",
 		"Net benefit (Vickers & Elkin 2006), treating when the predicted risk is at or above the threshold.",
 		"Proportions with exact Clopper–Pearson intervals (Clopper & Pearson 1934).",
