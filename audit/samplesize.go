@@ -70,12 +70,38 @@ func sampleSizeOf(sc *scored, perf *validate.Performance, classifyAt []float64, 
 	if err != nil {
 		return nil
 	}
-	out := &validate.SampleSize{Required: res.N, Driver: res.Driver, Have: perf.Cohort.Used,
-		Basis: strings.Join(basis, ", ")}
-	for _, c := range res.Criteria {
-		out.Criteria = append(out.Criteria, validate.SizeCriterion{Measure: c.Measure, Target: c.Target, SE: c.SE, N: c.N, Events: c.Events, Met: perf.Cohort.Used >= c.N})
+	if size.CalSlope == nil && size.LPSD == 0 && math.IsNaN(perf.Calibration.Slope) {
+		for i, c := range res.Criteria {
+			if c.NotComputable == samplesize.UnknownCalibration {
+				res.Criteria[i].NotComputable = "this cohort's calibration slope could not be estimated, so its true risks cannot be anticipated (the plan's sample_size.anticipated can give them)"
+			}
+		}
 	}
-	out.Short = perf.Cohort.Used < res.N
+	return sizeCheck(res, perf.Cohort.Used, strings.Join(basis, ", "))
+}
+
+// sizeCheck sets a cohort of have patients beside each criterion of res.
+func sizeCheck(res *samplesize.Result, have int, basis string) *validate.SampleSize {
+	out := &validate.SampleSize{Driver: res.Driver, Have: have, Basis: basis}
+	short, judged := false, true
+	for _, c := range res.Criteria {
+		sc := validate.SizeCriterion{Measure: c.Measure, Target: c.Target, SE: c.SE, NotComputable: c.NotComputable}
+		if c.Computable() {
+			n, e, met := c.N, c.Events, have >= c.N
+			sc.N, sc.Events, sc.Met = &n, &e, &met
+			short = short || !met
+		} else {
+			judged = false
+		}
+		out.Criteria = append(out.Criteria, sc)
+	}
+	if res.Driver != "" {
+		n := res.N
+		out.Required = &n
+	}
+	if short || judged {
+		out.Short = &short
+	}
 	return out
 }
 
@@ -123,8 +149,10 @@ type SizePlan struct {
 }
 
 // PlanSize computes the minimum sample size of cfg, criterion by
-// criterion (samplesize.Compute). Values that samplesize cannot use are a
-// *ConfigError.
+// criterion (samplesize.Compute). Values that samplesize cannot use, and
+// a criterion whose size cannot be computed from them (such as the slope
+// of a linear predictor that does not vary), are a *ConfigError: a plan
+// is refused rather than given without one of its criteria.
 func PlanSize(ctx context.Context, cfg SizeConfig) (*SizePlan, error) {
 	if cfg.CalSlope == 0 {
 		cfg.CalSlope = 1
@@ -153,6 +181,11 @@ func PlanSize(ctx context.Context, cfg SizeConfig) (*SizePlan, error) {
 	res, err := samplesize.Compute(samplesize.Anticipated{LP: lp, C: c, Threshold: cfg.Threshold, CalIntercept: cfg.CalIntercept, CalSlope: cfg.CalSlope}, t)
 	if err != nil {
 		return nil, &ConfigError{Msg: err.Error()}
+	}
+	for _, cr := range res.Criteria {
+		if !cr.Computable() {
+			return nil, &ConfigError{Msg: fmt.Sprintf("the %s criterion cannot be computed: %s", cr.Measure, cr.NotComputable)}
+		}
 	}
 	return &SizePlan{Schema: SizeSchema, LinearPredictor: about, CalIntercept: cfg.CalIntercept, CalSlope: cfg.CalSlope,
 		Threshold: cfg.Threshold, Result: res, Tool: cfg.Tool, CommandLine: cfg.CommandLine}, nil

@@ -15,7 +15,7 @@ type AUCResult struct {
 	CI [2]float64 `json:"auc_ci"`
 	// LogitCI is the interval made on the logit scale,
 	// expit(logit(AUC) ± 1.96·SE / (AUC(1 − AUC))), which stays inside
-	// (0, 1) without clipping.
+	// (0, 1) without clipping; NaN when SE is.
 	LogitCI [2]float64 `json:"auc_logit_ci"`
 	// Events and NonEvents count the rows of each outcome.
 	Events    int `json:"events"`
@@ -47,8 +47,14 @@ type DeLongComponents struct {
 // and among non-events. The components are returned in risk order.
 //
 // AUC, SE and both intervals are NaN when there are no events or no
-// non-events (an empty s included); SE and the intervals are NaN, the
-// AUC not, when there is only one event or one non-event.
+// non-events (an empty s included). SE and the intervals are NaN, the
+// AUC not, when they cannot be estimated: with only one event or one
+// non-event (a component's sample variance needs two), and when every
+// component of each kind is the same, which makes DeLong's variance 0
+// (every event above every non-event, AUC 1; every event below, AUC 0;
+// or every event tied with every non-event, as when all risks are
+// equal): a variance of 0 there is no estimate of the AUC's uncertainty,
+// and a zero-width interval would present the AUC as known.
 func AUC(s Sorted) (AUCResult, DeLongComponents) {
 	y, p := s.y, s.p
 	var r AUCResult
@@ -102,11 +108,9 @@ func AUC(s Sorted) (AUCResult, DeLongComponents) {
 		i = e
 	}
 	r.AUC = mean(v10)
-	var se float64
-	if m > 1 && n > 1 {
+	se := math.NaN()
+	if m > 1 && n > 1 && !(constant(v10) && constant(v01)) {
 		se = math.Sqrt(variance(v10)/float64(m) + variance(v01)/float64(n))
-	} else {
-		se = math.NaN()
 	}
 	r.SE = se
 	r.CI = [2]float64{math.Max(0, r.AUC-z975*se), math.Min(1, r.AUC+z975*se)}
@@ -114,11 +118,23 @@ func AUC(s Sorted) (AUCResult, DeLongComponents) {
 	return r, DeLongComponents{V10: v10, V01: v01}
 }
 
+// constant reports whether every value of v is the same.
+func constant(v []float64) bool {
+	for _, x := range v {
+		if x != v[0] {
+			return false
+		}
+	}
+	return true
+}
+
 // logitCI is expit(logit(a) ± 1.96·se/(a(1 − a))), the delta-method
-// interval on the logit scale; at a = 0 or 1 it degenerates to [a, a].
+// interval on the logit scale. It is NaN when se is NaN or a is not
+// inside (0, 1), where the logit scale has no interval to give.
 func logitCI(a, se float64) [2]float64 {
-	if a <= 0 || a >= 1 || math.IsNaN(se) {
-		return [2]float64{a, a}
+	if !(a > 0 && a < 1) || math.IsNaN(se) {
+		nan := math.NaN()
+		return [2]float64{nan, nan}
 	}
 	l := logistic.Logit(a)
 	h := z975 * se / (a * (1 - a))

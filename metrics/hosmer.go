@@ -37,8 +37,9 @@ type HosmerLemeshowTest struct {
 // degrees of freedom are groups − 2 when development is true (the model
 // was fitted to these rows) and groups otherwise; P is the chi-squared
 // upper tail, NaN when the degrees of freedom are below 1 (an empty s has
-// no groups). A group whose risks are all 0, or all 1, adds NaN or ±Inf
-// to the statistic.
+// no groups). A group whose risks are all 0, or all 1, has no binomial
+// variance to divide by: the statistic and P are then NaN (undefined),
+// not an infinite or arbitrary number.
 //
 // HosmerLemeshow panics if g < 1.
 func HosmerLemeshow(s Sorted, g int, development bool) HosmerLemeshowTest {
@@ -60,6 +61,7 @@ func HosmerLemeshow(s Sorted, g int, development bool) HosmerLemeshowTest {
 	}
 	starts = append(starts, n)
 	var t HosmerLemeshowTest
+	undefined := false
 	for k := 0; k+1 < len(starts); k++ {
 		lo, hi := starts[k], starts[k+1]
 		if lo >= hi {
@@ -72,7 +74,14 @@ func HosmerLemeshow(s Sorted, g int, development bool) HosmerLemeshowTest {
 		}
 		t.Table = append(t.Table, grp)
 		d := grp.Observed - grp.Expected
-		t.Statistic += d * d / (grp.Expected * (1 - grp.Expected/float64(grp.N)))
+		v := grp.Expected * (1 - grp.Expected/float64(grp.N))
+		if !(v > 0) {
+			undefined = true
+		}
+		t.Statistic += d * d / v
+	}
+	if undefined {
+		t.Statistic = math.NaN()
 	}
 	t.Groups = len(t.Table)
 	t.DF = t.Groups
@@ -80,7 +89,7 @@ func HosmerLemeshow(s Sorted, g int, development bool) HosmerLemeshowTest {
 		t.DF -= 2
 	}
 	t.P = math.NaN()
-	if t.DF >= 1 {
+	if t.DF >= 1 && !undefined {
 		t.P = distuv.ChiSquared{K: float64(t.DF)}.Survival(t.Statistic)
 	}
 	return t

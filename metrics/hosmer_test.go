@@ -162,3 +162,24 @@ func thresholdCountsUnsorted(y, p []float64, ts []float64) []Counts {
 	}
 	return out
 }
+
+// TestHosmerLemeshowUndefinedGroup: a risk group whose risks are all 0
+// or all 1 has no binomial variance, so the statistic and its p-value do
+// not exist (before, an event in a group of risks 0 gave an infinite
+// statistic and p = 0).
+func TestHosmerLemeshowUndefinedGroup(t *testing.T) {
+	y := []float64{1, 0, 0, 0, 0, 1, 0, 1, 1, 1}
+	for _, c := range []struct {
+		name string
+		p    []float64
+	}{
+		{"an event among risks of 0", []float64{0, 0, 0, 0, 0, 0.6, 0.5, 0.7, 0.8, 0.9}},
+		{"a non-event among risks of 1", []float64{0.1, 0.2, 0.3, 0.2, 0.1, 1, 1, 1, 1, 1}},
+		{"risks of 0 and 1 only, all right", []float64{1, 0, 0, 0, 0, 1, 0, 1, 1, 1}},
+	} {
+		h := HosmerLemeshow(SortByRisk(y, c.p), 2, false)
+		if !math.IsNaN(h.Statistic) || !math.IsNaN(h.P) || h.Groups != 2 {
+			t.Errorf("%s: statistic %g, p %g, %d groups; want NaN, NaN, 2", c.name, h.Statistic, h.P, h.Groups)
+		}
+	}
+}

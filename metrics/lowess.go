@@ -44,6 +44,23 @@ type LowessCurve struct {
 // the data allow. A point whose window has fewer than two weights above
 // 1e-12 keeps its own y.
 //
+// Where the line is not identified the local fit is the local weighted
+// mean Σw·y/Σw instead, with smoother weights l_j = w_j/Σw:
+//   - when the k nearest points all tie with x₀ (h = 0), the
+//     neighbourhood is every point tied with x₀, each of weight 1, and
+//     the fit is their mean (so it does not depend on which of the tied
+//     rows a window of k would hold);
+//   - when the weighted variance of x over the neighbourhood is zero or
+//     negligible, at most 1e-10 of the weighted mean square of x − x₀
+//     (as when every point of positive weight ties with x₀ and the
+//     others lie at distance h). Since x₀ itself has weight 1, a true
+//     variance is at least that mean square over Σw, so below 1e-10 it
+//     is zero up to rounding for any neighbourhood of fewer than 10¹⁰
+//     points.
+//
+// When every x is the same the curve is therefore the mean of y at every
+// point.
+//
 // With Delta > 0, points are skipped as in Cleveland's algorithm: after a
 // fit at x_i, the next fit is at the last point within Delta of x_i (at
 // least the next point), points tied with a fitted x take its value, and
@@ -51,7 +68,8 @@ type LowessCurve struct {
 //
 // SE is the pointwise standard error of the local linear estimate,
 // √(ŝ(1 − ŝ) Σ_j l_j²), where l_j are the weights of the linear smoother
-// at x₀ (ŝ = Σ l_j y_j) and ŝ(1 − ŝ), clipped to [0, ¼], is the binomial
+// at x₀ (ŝ = Σ l_j y_j; for the local mean l_j = w_j/Σw, so Σ l_j² =
+// Σw²/(Σw)², 1/m for m tied points) and ŝ(1 − ŝ), clipped to [0, ¼], is the binomial
 // variance at the fitted value, taken as constant over the window
 // (Cleveland & Devlin 1988, Journal of the American Statistical
 // Association 83:596–610, §3). It is interpolated like the fit.
@@ -108,7 +126,7 @@ func lowess(x, y []float64, opt LowessOptions) LowessCurve {
 }
 
 // fitPoint is one local regression: at x[i], over the window [l, r) of
-// radius h.
+// radius h. When h is 0, [l, r) is every point tied with x[i].
 type fitPoint struct {
 	i, l, r int
 	h       float64
@@ -139,7 +157,18 @@ func planFits(x []float64, k int, delta float64) fitPlan {
 			r++
 		}
 		h := math.Max(x0-x[l], x[r-1]-x0)
-		p.fits = append(p.fits, fitPoint{i: i, l: l, r: r, h: h})
+		fp := fitPoint{i: i, l: l, r: r, h: h}
+		if h == 0 {
+			// The k nearest all tie with x0: take every point tied
+			// with it.
+			for fp.l > 0 && x[fp.l-1] == x0 {
+				fp.l--
+			}
+			for fp.r < n && x[fp.r] == x0 {
+				fp.r++
+			}
+		}
+		p.fits = append(p.fits, fp)
 		// The next fit is at the last point within delta (at least one
 		// step on); points tied with the last fitted x copy its value.
 		last := i
@@ -205,6 +234,13 @@ const lowessBlock = 1024
 // the eight weighted sums are then taken with gonum's vectorised dot
 // products.
 func localLinear(x, y []float64, fp fitPoint) (float64, float64) {
+	if fp.h == 0 {
+		// Every point of the neighbourhood ties with x0: their mean,
+		// each of weight 1.
+		m := float64(fp.r - fp.l)
+		fit := sum(y[fp.l:fp.r]) / m
+		return fit, localMeanSE(fit, 1/m)
+	}
 	x0 := x[fp.i]
 	var sw, swu, swu2, swy, swuy, sw2, sw2u, sw2u2 float64
 	nonzero := 0
@@ -233,12 +269,16 @@ func localLinear(x, y []float64, fp fitPoint) (float64, float64) {
 		sw2u += floats.Dot(w, wu)
 		sw2u2 += floats.Dot(wu, wu)
 	}
-	if nonzero < 2 || fp.h == 0 {
+	if nonzero < 2 {
 		return y[fp.i], 0
 	}
 	ubar := swu / sw
 	ybar := swy / sw
-	s := math.Max(swu2/sw-ubar*ubar, 1e-12)
+	s := swu2/sw - ubar*ubar
+	if !(s > 1e-10*swu2/sw) {
+		// No spread of x to fit a line to: the local weighted mean.
+		return ybar, localMeanSE(ybar, sw2/(sw*sw))
+	}
 	cxy := swuy/sw - ubar*ybar
 	fit := ybar - ubar*cxy/s
 	// Σ l² with l_j = W_j (a − b u_j), a = 1 + ū²/S, b = ū/S, W = w/Σw.
@@ -246,6 +286,12 @@ func localLinear(x, y []float64, fp fitPoint) (float64, float64) {
 	sl2 := (a*a*sw2 - 2*a*b*sw2u + b*b*sw2u2) / (sw * sw)
 	v := math.Min(math.Max(fit*(1-fit), 0), 0.25)
 	return fit, math.Sqrt(v * math.Max(sl2, 0))
+}
+
+// localMeanSE is the standard error √(ŝ(1 − ŝ)·Σl²) of a local mean ŝ
+// whose smoother weights have squared sum sl2.
+func localMeanSE(fit, sl2 float64) float64 {
+	return math.Sqrt(math.Min(math.Max(fit*(1-fit), 0), 0.25) * sl2)
 }
 
 // CalibrationCurve is the flexible calibration curve of risks p against
@@ -266,7 +312,10 @@ type CalibrationCurve struct {
 // calibration by its mean (ICI), median (E50), 90th percentile (E90) and
 // maximum (Emax) over the rows (Austin & Steyerberg 2019). Tied risks
 // are smoothed in the order s keeps them, row order, so the result is
-// reproducible. ICI, E50, E90 and Emax are NaN when s is empty.
+// reproducible. Where the local line is not identified the smooth is the
+// local weighted mean (see Lowess): when every risk is the same, the
+// curve is the event rate and ICI = E50 = E90 = Emax = |p − ȳ|. ICI,
+// E50, E90 and Emax are NaN when s is empty.
 func FlexibleCalibration(s Sorted, opt LowessOptions) CalibrationCurve {
 	xs := s.p
 	cc := CalibrationCurve{Curve: lowess(xs, s.y, opt)}

@@ -61,16 +61,20 @@ type NetBenefit struct {
 // ThresholdCounts counts them). Thresholds must lie in (0, 1); at 1 the
 // odds are infinite and the values meaningless. Every value is NaN when s
 // is empty.
+//
+// Both are computed from counts by the same expression, so a model that
+// treats every row has exactly the net benefit of treating everyone, not
+// one that differs from it by rounding.
 func NetBenefits(s Sorted, ts []float64) []NetBenefit {
 	n := float64(s.Len())
-	prev := sum(s.y) / n
+	events := sum(s.y)
 	out := make([]NetBenefit, len(ts))
 	for i, c := range ThresholdCounts(s, ts) {
 		odds := c.Threshold / (1 - c.Threshold)
 		out[i] = NetBenefit{
 			Threshold: c.Threshold,
 			Model:     float64(c.TP)/n - float64(c.FP)/n*odds,
-			TreatAll:  prev - (1-prev)*odds,
+			TreatAll:  events/n - (n-events)/n*odds,
 		}
 	}
 	return out

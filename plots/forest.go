@@ -38,10 +38,14 @@ func Forest(groups []validate.Subgroup, overall *validate.Performance) (Figure, 
 	labels := make(rowTicks, len(groups))
 	for i, g := range groups {
 		lab := fmt.Sprintf("%s = %s (n %d, events %d)", g.Column, g.Level, g.N, g.Events)
-		if g.TooSmall {
-			lab += ": too small"
+		suffix := ""
+		switch {
+		case g.TooSmall:
+			suffix = ": too small"
+		case g.AUCCI != nil && (!finite(g.AUCCI[0]) || !finite(g.AUCCI[1])):
+			suffix = ": AUC CI not estimable" // drawn as a hollow square
 		}
-		labels[i] = shorten(lab, 48)
+		labels[i] = shorten(lab, 48-len([]rune(suffix))) + suffix
 	}
 	left, err := forestPanel("AUC by subgroup", "AUC (95% CI)", groups, labels, overall.Discrimination.AUC,
 		func(g validate.Subgroup) (float64, [2]float64, bool) {
@@ -90,7 +94,7 @@ func forestPanel(title, xlab string, groups []validate.Subgroup, labels rowTicks
 	lo, hi := ref, ref
 	for i, g := range groups {
 		v, ci, ok := get(g)
-		if !ok {
+		if !ok || !finite(v) {
 			continue
 		}
 		y := float64(n - 1 - i)
@@ -98,17 +102,26 @@ func forestPanel(title, xlab string, groups []validate.Subgroup, labels rowTicks
 		if len(g.Failed) > 0 {
 			col = vermillion
 		}
-		seg, err := line(plotter.XYs{{X: ci[0], Y: y}, {X: ci[1], Y: y}}, col, 1.5)
-		if err != nil {
-			return nil, err
+		// A subgroup whose interval is not estimable keeps its point,
+		// drawn hollow, without an interval.
+		shape := draw.GlyphDrawer(draw.BoxGlyph{})
+		if finite(ci[0]) && finite(ci[1]) {
+			seg, err := line(plotter.XYs{{X: ci[0], Y: y}, {X: ci[1], Y: y}}, col, 1.5)
+			if err != nil {
+				return nil, err
+			}
+			p.Add(seg)
+			lo, hi = math.Min(lo, ci[0]), math.Max(hi, ci[1])
+		} else {
+			shape = draw.SquareGlyph{}
 		}
 		pt, err := plotter.NewScatter(plotter.XYs{{X: v, Y: y}})
 		if err != nil {
 			return nil, err
 		}
-		pt.GlyphStyle.Shape, pt.GlyphStyle.Color, pt.GlyphStyle.Radius = draw.BoxGlyph{}, col, vg.Points(3.5)
-		p.Add(seg, pt)
-		lo, hi = math.Min(lo, ci[0]), math.Max(hi, ci[1])
+		pt.GlyphStyle.Shape, pt.GlyphStyle.Color, pt.GlyphStyle.Radius = shape, col, vg.Points(3.5)
+		p.Add(pt)
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
 	}
 	pad := 0.08 * math.Max(hi-lo, 0.05)
 	p.X.Min, p.X.Max = lo-pad, hi+pad

@@ -185,7 +185,8 @@ func Calibration(perf *validate.Performance, label string) ([]byte, error) {
 		xTop = math.Max(xTop, g.MaxRisk)
 		yTop = math.Max(yTop, g.Observed.CI[1])
 	}
-	xTop = math.Max(10, math.Min(100, math.Ceil(xTop*10)*10))
+	// A risk on or just below a multiple of 10% keeps room to its right.
+	xTop = math.Max(10, math.Min(100, math.Ceil(xTop*10+0.02)*10))
 	yTop = math.Max(xTop, math.Min(100, math.Ceil(yTop*10)*10))
 	strip := 0.22 * yTop // height of the distribution strip below zero
 	p := newPlot(caption("Calibration", label), "Predicted risk (%)", "Observed events (%)")
@@ -200,7 +201,29 @@ func Calibration(perf *validate.Performance, label string) ([]byte, error) {
 	}
 	p.Add(ideal)
 	p.Legend.Add("ideal agreement", ideal)
-	if len(curve) > 1 {
+	if len(curve) > 0 && curve[0].Predicted == curve[len(curve)-1].Predicted {
+		// Every risk is the same: the curve is one point, the event
+		// rate, with its band as an interval.
+		c := curve[0]
+		pt := plotter.XYs{{X: 100 * c.Predicted, Y: 100 * c.Observed}}
+		sc, err := plotter.NewScatter(pt)
+		if err != nil {
+			return nil, err
+		}
+		// A ring, so that a risk group's mark at the same place shows
+		// inside it.
+		sc.GlyphStyle.Shape, sc.GlyphStyle.Color, sc.GlyphStyle.Radius = draw.RingGlyph{}, blue, vg.Points(6)
+		eb, err := plotter.NewYErrorBars(struct {
+			plotter.XYs
+			plotter.YErrors
+		}{pt, plotter.YErrors{{Low: 100 * (c.Observed - c.Lower), High: 100 * (c.Upper - c.Observed)}}})
+		if err != nil {
+			return nil, err
+		}
+		eb.LineStyle.Color, eb.LineStyle.Width = blue, vg.Points(2)
+		p.Add(eb, sc)
+		p.Legend.Add("flexible curve: one point (every risk the same), 95% band", sc)
+	} else if len(curve) > 1 {
 		band := make(plotter.XYs, 0, 2*len(curve))
 		for _, c := range curve {
 			band = append(band, plotter.XY{X: 100 * c.Predicted, Y: 100 * c.Upper})
@@ -251,7 +274,11 @@ func Calibration(perf *validate.Performance, label string) ([]byte, error) {
 		eb.LineStyle.Color = vermillion
 		eb.LineStyle.Width = vg.Points(1)
 		p.Add(eb, sc)
-		p.Legend.Add(fmt.Sprintf("%d risk groups, observed with 95%% CI", len(groups)), sc)
+		what := "risk groups"
+		if len(groups) == 1 {
+			what = "risk group"
+		}
+		p.Legend.Add(fmt.Sprintf("%d %s, observed with 95%% CI", len(groups), what), sc)
 	}
 	p.Legend.Add("risk distribution below 0: with the event (up)", &plotter.Line{LineStyle: draw.LineStyle{Color: vermillion, Width: vg.Points(6)}})
 	p.Legend.Add("and without (down)", &plotter.Line{LineStyle: draw.LineStyle{Color: blue, Width: vg.Points(6)}})
@@ -334,9 +361,36 @@ func ROC(perf *validate.Performance, label string) ([]byte, error) {
 		return nil, err
 	}
 	p.Add(diag, l)
-	p.Legend.Add(fmt.Sprintf("model: AUC %.3f (95%% CI %.3f–%.3f)", d.AUC, d.CI[0], d.CI[1]), l)
+	p.Legend.Add("model: AUC "+aucLabel(d.AUC, d.CI), l)
 	p.Legend.Add("no discrimination", diag)
 	return render(p, 5.5*vg.Inch, 5.5*vg.Inch)
+}
+
+// aucLabel writes an AUC with its interval for a legend, "not
+// estimable" where the interval (or the AUC) does not exist.
+func aucLabel(auc float64, ci [2]float64) string {
+	switch {
+	case !finite(auc):
+		return "not estimable"
+	case !finite(ci[0]) || !finite(ci[1]):
+		return fmt.Sprintf("%.3f (95%% CI not estimable)", auc)
+	}
+	return fmt.Sprintf("%.3f (95%% CI %.3f–%.3f)", auc, ci[0], ci[1])
+}
+
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+
+// finitePoints keeps the points whose coordinates are both finite:
+// gonum/plot refuses NaN, and a measure that does not exist has no place
+// on a chart.
+func finitePoints(xys plotter.XYs) plotter.XYs {
+	out := make(plotter.XYs, 0, len(xys))
+	for _, v := range xys {
+		if finite(v.X) && finite(v.Y) {
+			out = append(out, v)
+		}
+	}
+	return out
 }
 
 // DecisionCurve draws net benefit against the risk threshold for the

@@ -53,12 +53,22 @@ func Trend(tr *trend.Trend) ([]Figure, error) {
 		p := newPlot(s.title, "Audit date", s.ylab)
 		p.X.Tick.Marker = dates
 		p.X.Min, p.X.Max = -0.5, float64(len(dates))-0.5
-		pts := make(plotter.XYs, len(tr.Points))
-		errs := make(plotter.YErrors, len(tr.Points))
+		// An audit whose measure or interval is not estimable (null in
+		// the history) has no point, or no bar.
+		every := make(plotter.XYs, len(tr.Points))
+		var pts, barPts plotter.XYs
+		var errs plotter.YErrors
 		for i, pt := range tr.Points {
 			v := s.get(pt)
-			pts[i] = plotter.XY{X: float64(i), Y: v[0]}
-			errs[i].Low, errs[i].High = v[0]-v[1], v[2]-v[0]
+			every[i] = plotter.XY{X: float64(i), Y: v[0]}
+			if !finite(v[0]) {
+				continue
+			}
+			pts = append(pts, every[i])
+			if finite(v[1]) && finite(v[2]) {
+				barPts = append(barPts, every[i])
+				errs = append(errs, struct{ Low, High float64 }{v[0] - v[1], v[2] - v[0]})
+			}
 		}
 		if !math.IsNaN(s.ideal) {
 			ideal, err := line(plotter.XYs{{X: p.X.Min, Y: s.ideal}, {X: p.X.Max, Y: s.ideal}}, grey, 1, vg.Points(4), vg.Points(3))
@@ -72,27 +82,51 @@ func Trend(tr *trend.Trend) ([]Figure, error) {
 				return nil, err
 			}
 		}
-		l, err := line(pts, blue, 1.2)
-		if err != nil {
-			return nil, err
+		// The line joins consecutive audits only, broken where one has
+		// no point.
+		var run plotter.XYs
+		for i := 0; i <= len(every); i++ {
+			if i < len(every) && finite(every[i].Y) {
+				run = append(run, every[i])
+				continue
+			}
+			if len(run) > 1 {
+				l, err := line(run, blue, 1.2)
+				if err != nil {
+					return nil, err
+				}
+				p.Add(l)
+			}
+			run = nil
 		}
-		eb, err := plotter.NewYErrorBars(struct {
-			plotter.XYs
-			plotter.YErrors
-		}{pts, errs})
-		if err != nil {
-			return nil, err
+		if len(barPts) > 0 {
+			eb, err := plotter.NewYErrorBars(struct {
+				plotter.XYs
+				plotter.YErrors
+			}{barPts, errs})
+			if err != nil {
+				return nil, err
+			}
+			eb.LineStyle.Color = blue
+			p.Add(eb)
 		}
-		eb.LineStyle.Color = blue
-		sc, err := plotter.NewScatter(pts)
-		if err != nil {
-			return nil, err
+		if len(pts) > 0 {
+			sc, err := plotter.NewScatter(pts)
+			if err != nil {
+				return nil, err
+			}
+			sc.GlyphStyle.Shape, sc.GlyphStyle.Color, sc.GlyphStyle.Radius = draw.CircleGlyph{}, blue, vg.Points(3)
+			p.Add(sc)
+			p.Legend.Add("audit, with 95% CI", sc)
 		}
-		sc.GlyphStyle.Shape, sc.GlyphStyle.Color, sc.GlyphStyle.Radius = draw.CircleGlyph{}, blue, vg.Points(3)
-		p.Add(l, eb, sc)
-		p.Legend.Add("audit, with 95% CI", sc)
-		if s.name == "trend_oe.svg" && tr.FirstOutside >= 0 {
-			fl, err := plotter.NewScatter(plotter.XYs{pts[tr.FirstOutside]})
+		if missing := len(tr.Points) - len(pts); missing > 0 {
+			p.Legend.Add(fmt.Sprintf("%d %s not estimable: no point", missing, audits(missing)))
+		}
+		if noBar := len(pts) - len(barPts); noBar > 0 {
+			p.Legend.Add(fmt.Sprintf("%d %s with an interval not estimable: no bar", noBar, audits(noBar)))
+		}
+		if s.name == "trend_oe.svg" && tr.FirstOutside >= 0 && finite(every[tr.FirstOutside].Y) {
+			fl, err := plotter.NewScatter(plotter.XYs{every[tr.FirstOutside]})
 			if err != nil {
 				return nil, err
 			}
@@ -141,4 +175,12 @@ func addLimits(p *plot.Plot, tr *trend.Trend) error {
 		p.Legend.Add(lim.label, a)
 	}
 	return nil
+}
+
+// audits is "audit" or "audits" for n of them.
+func audits(n int) string {
+	if n == 1 {
+		return "audit"
+	}
+	return "audits"
 }

@@ -19,21 +19,24 @@ func WriteComparison(w io.Writer, c *validate.Comparison, figure string) error {
 	if d.Difference < 0 {
 		better = "b"
 	}
-	verdict := fmt.Sprintf("The AUCs differ by %.4f (a − b; 95%% CI %.4f to %.4f; z = %.2f, p %s): ", d.Difference, d.DifferenceCI[0], d.DifferenceCI[1], d.Z, FormatP(d.P))
-	if d.DifferenceCI[0] > 0 || d.DifferenceCI[1] < 0 {
+	verdict := fmt.Sprintf("The AUCs differ by %s (a − b; 95%% CI %s; z = %s, p %s): ", f4(d.Difference), Interval(d.DifferenceCI, "%.4f", ""), num(d.Z, "%.2f"), FormatP(d.P))
+	switch {
+	case !finite(d.DifferenceCI[0]) || !finite(d.DifferenceCI[1]):
+		verdict += "the difference's interval is not estimable, so whether either discriminates better cannot be judged."
+	case d.DifferenceCI[0] > 0 || d.DifferenceCI[1] < 0:
 		verdict += fmt.Sprintf("model %s discriminates better, beyond chance.", better)
-	} else {
+	default:
 		verdict += "no evidence that either discriminates better."
 	}
 	p("## Discrimination\n\n%s\n\n", verdict)
-	p("| | AUC |\n|---|---|\n| a: %s | %.4f |\n| b: %s | %.4f |\n\n", Escape(c.ModelA), d.AUCA, Escape(c.ModelB), d.AUCB)
-	p("Paired DeLong test (DeLong, DeLong & Clarke-Pearson 1988): the variance of the difference uses the covariance of the two models' structural components over the same patients (correlation of the two AUCs %.3f).\n\n", d.Correlation)
+	p("| | AUC |\n|---|---|\n| a: %s | %s |\n| b: %s | %s |\n\n", Escape(c.ModelA), f4(d.AUCA), Escape(c.ModelB), f4(d.AUCB))
+	p("Paired DeLong test (DeLong, DeLong & Clarke-Pearson 1988): the variance of the difference uses the covariance of the two models' structural components over the same patients (correlation of the two AUCs %s).\n\n", f3(d.Correlation))
 	b := c.Brier
-	p("## Overall accuracy\n\nBrier score a %.4f, b %.4f; difference a − b %.4f, 95%% bootstrap percentile interval %.4f to %.4f (%d replicates, seed %d). A negative difference favours a.\n\n",
-		b.A, b.B, b.Difference, b.DifferenceCI[0], b.DifferenceCI[1], b.Replicates, b.Seed)
+	p("## Overall accuracy\n\nBrier score a %s, b %s; difference a − b %s, 95%% bootstrap percentile interval %s (%d replicates, seed %d). A negative difference favours a.\n\n",
+		f4(b.A), f4(b.B), f4(b.Difference), Interval(b.DifferenceCI, "%.4f", ""), b.Replicates, b.Seed)
 	p("## Clinical usefulness\n\n| threshold | net benefit a | net benefit b | treat everyone |\n|---|---|---|---|\n")
 	for _, nb := range c.NetBenefit {
-		p("| %.1f%% | %.4f | %.4f | %.4f |\n", 100*nb.Threshold, nb.A, nb.B, nb.TreatAll)
+		p("| %.1f%% | %s | %s | %s |\n", 100*nb.Threshold, f4(nb.A), f4(nb.B), f4(nb.TreatAll))
 	}
 	p("\n![Decision curves of both models](%s)\n\n## Caution\n\n%s\n", figure, c.Caution)
 	return ew.err

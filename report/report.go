@@ -130,8 +130,8 @@ func (r *renderer) fit() {
 	}
 	t := table{head: []string{"term", "coefficient", "SE", "z", "p", "odds ratio", "95% CI"}}
 	for _, term := range st.Terms {
-		t.add(code(term.Term), fmt.Sprintf("%.4f", term.Coef), fmt.Sprintf("%.4f", term.SE), fmt.Sprintf("%.2f", term.Z), FormatP(term.P),
-			fmt.Sprintf("%.3f", term.OddsRatio), fmt.Sprintf("%.3f to %.3f", term.ORCI[0], term.ORCI[1]))
+		t.add(code(term.Term), num(term.Coef, "%.4f"), num(term.SE, "%.4f"), num(term.Z, "%.2f"), FormatP(term.P),
+			num(term.OddsRatio, "%.3f"), ci3(term.ORCI))
 	}
 	t.write(r.w)
 	if st.PMethod == model.PPenalisedLR {
@@ -139,11 +139,11 @@ func (r *renderer) fit() {
 	}
 	t = table{head: []string{"statistic", "value"}}
 	t.add("rows used (events)", fmt.Sprintf("%d (%d)", st.N, st.Events))
-	t.add("−2 log-likelihood", fmt.Sprintf("%.3f (intercept only %.3f)", st.Neg2LL, st.NullNeg2LL))
-	t.add("likelihood-ratio χ²", fmt.Sprintf("%.3f on %d df, p %s", st.LRChi2, st.LRDF, FormatP(st.LRP)))
-	t.add("AIC / BIC", fmt.Sprintf("%.3f / %.3f", st.AIC, st.BIC))
-	t.add("Nagelkerke R²", fmt.Sprintf("%.4f", st.NagelkerkeR2))
-	t.add("Hosmer–Lemeshow", fmt.Sprintf("%.3f on %d df, p %s (%d groups)", st.HL.Statistic, st.HL.DF, FormatP(st.HL.P), st.HL.Groups))
+	t.add("−2 log-likelihood", fmt.Sprintf("%s (intercept only %s)", num(st.Neg2LL, "%.3f"), num(st.NullNeg2LL, "%.3f")))
+	t.add("likelihood-ratio χ²", fmt.Sprintf("%s on %d df, p %s", num(st.LRChi2, "%.3f"), st.LRDF, FormatP(st.LRP)))
+	t.add("AIC / BIC", fmt.Sprintf("%s / %s", num(st.AIC, "%.3f"), num(st.BIC, "%.3f")))
+	t.add("Nagelkerke R²", num(st.NagelkerkeR2, "%.4f"))
+	t.add("Hosmer–Lemeshow", hlText(st.HL, 3))
 	t.write(r.w)
 }
 
@@ -169,7 +169,7 @@ func (r *renderer) internal() {
 	m := in.Metrics
 	t := table{head: []string{"measure", "apparent", "optimism", "corrected", "what the corrected figure means"}}
 	add := func(name string, c validate.Corrected, meaning string) {
-		t.add(name, fmt.Sprintf("%.4f", c.Apparent), fmt.Sprintf("%+.4f", c.Optimism), fmt.Sprintf("%.4f", c.Corrected), meaning)
+		t.add(name, num(c.Apparent, "%.4f"), num(c.Optimism, "%+.4f"), num(c.Corrected, "%.4f"), meaning)
 	}
 	add("AUC", m.AUC, "discrimination to expect in new patients from the same population")
 	add("calibration slope", m.Slope, "the uniform shrinkage factor")
@@ -179,7 +179,7 @@ func (r *renderer) internal() {
 	add("Nagelkerke R²", m.R2, "")
 	add("ICI", m.ICI, fmt.Sprintf("LOWESS with δ = %g of the risk range, here and in every replicate", in.ICIDelta))
 	t.write(r.w)
-	r.p("The shrinkage factor %.3f multiplies every coefficient of a shrunken model, whose intercept is then re-estimated (Van Houwelingen & le Cessie 1990)", in.Shrinkage)
+	r.p("The shrinkage factor %s multiplies every coefficient of a shrunken model, whose intercept is then re-estimated (Van Houwelingen & le Cessie 1990)", num(in.Shrinkage, "%.3f"))
 	if in.ShrunkenModel != "" {
 		r.p("; it was written to %s", code(in.ShrunkenModel))
 	}
@@ -217,12 +217,15 @@ func (r *renderer) verdict() {
 	r.p("**Verdict: %s** (%d of %d criteria not met).\n\n", word, failed, len(v.Criteria))
 	t := table{head: []string{"criterion", "bound", "value", "result", "severity"}}
 	for _, c := range v.Criteria {
-		val := fmt.Sprintf("%.4g", c.Value)
+		val := num(c.Value, "%.4g")
 		if c.Interval != nil {
-			val = fmt.Sprintf("%.4g to %.4g", c.Interval[0], c.Interval[1])
+			val = Interval(*c.Interval, "%.4g", "")
 		}
 		res := "met"
-		if !c.Passed {
+		switch {
+		case c.Note != "":
+			res = "**not met** (cannot be judged: not estimable)"
+		case !c.Passed:
 			res = "**not met**"
 		}
 		t.add(code(c.Measure), c.Bound, val, res, c.Severity)
@@ -274,10 +277,14 @@ func (r *renderer) discrimination() {
 	d := r.a.Discrimination
 	r.p("## Discrimination\n\n")
 	t := table{head: []string{"measure", "value", "95% CI", "what it means"}}
-	t.add("AUC (c-statistic)", f3(d.AUC), ci3(d.CI), fmt.Sprintf("the chance that a patient with the event has a higher predicted risk than one without (%d events, %d non-events)", d.Events, d.NonEvents))
-	t.add("AUC, logit-scale interval", f3(d.AUC), ci3(d.LogitCI), "the same interval made on the logit scale, which cannot leave (0, 1)")
+	why := r.a.AUCCIReason()
+	t.add("AUC (c-statistic)", f3(d.AUC), Interval(d.CI, "%.3f", why), fmt.Sprintf("the chance that a patient with the event has a higher predicted risk than one without (%d events, %d non-events)", d.Events, d.NonEvents))
+	t.add("AUC, logit-scale interval", f3(d.AUC), Interval(d.LogitCI, "%.3f", why), "the same interval made on the logit scale, which cannot leave (0, 1)")
 	t.add("DeLong standard error", f4(d.SE), "", "")
 	t.write(r.w)
+	for _, n := range d.Notes {
+		r.p("Note: %s.\n\n", n)
+	}
 	r.figure("roc.svg")
 }
 
@@ -288,14 +295,13 @@ func (r *renderer) calibration() {
 	t.add("calibration-in-the-large", f3(c.CITL), ci3(c.CITLCI), "0", citlMeaning(c))
 	t.add("calibration slope", f3(c.Slope), ci3(c.SlopeCI), "1", slopeMeaning(c))
 	t.add("observed / expected (O/E)", f3(c.OE), ci3(c.OECI), "1", fmt.Sprintf("%.0f events observed, %.1f expected", c.Observed, c.Expected))
-	t.add("Hosmer–Lemeshow χ²", fmt.Sprintf("%.2f", c.HL.Statistic), "", "", fmt.Sprintf("%d groups, %d df, p %s", c.HL.Groups, c.HL.DF, FormatP(c.HL.P)))
+	t.add("Hosmer–Lemeshow χ²", num(c.HL.Statistic, "%.2f"), "", "", fmt.Sprintf("%d %s, %d df, p %s", c.HL.Groups, plural(c.HL.Groups, "group", "groups"), c.HL.DF, FormatP(c.HL.P)))
 	bci := r.a.BootstrapCI
 	pctCI := func(get func(*validate.PercentileCIs) [2]float64) string {
 		if bci == nil {
 			return ""
 		}
-		ci := get(bci)
-		return fmt.Sprintf("%.1f%% to %.1f%%*", 100*ci[0], 100*ci[1])
+		return pctInterval(get(bci), " to ") + "*"
 	}
 	t.add("ICI", pct(c.ICI), pctCI(func(b *validate.PercentileCIs) [2]float64 { return b.ICI }), "0", "mean distance between predicted and smoothed observed risk")
 	t.add("E50", pct(c.E50), pctCI(func(b *validate.PercentileCIs) [2]float64 { return b.E50 }), "0", "median of that distance")
@@ -319,7 +325,7 @@ func (r *renderer) calibration() {
 		t := table{head: []string{"risk group", "patients", "predicted risk", "mean predicted", "observed", "95% CI"}}
 		for i, grp := range g {
 			t.add(fmt.Sprint(i+1), fmt.Sprint(grp.N), fmt.Sprintf("%.1f–%.1f%%", 100*grp.MinRisk, 100*grp.MaxRisk),
-				pct(grp.MeanRisk), pct(grp.Observed.Value), fmt.Sprintf("%.1f–%.1f%%", 100*grp.Observed.CI[0], 100*grp.Observed.CI[1]))
+				pct(grp.MeanRisk), pct(grp.Observed.Value), pctInterval(grp.Observed.CI, "–"))
 		}
 		r.p("Observed events by group of predicted risk (exact Clopper–Pearson intervals):\n\n")
 		t.write(r.w)
@@ -357,7 +363,7 @@ func (r *renderer) overall() {
 	t.add("Brier score", f4(o.Brier), "", "mean squared difference between predicted risk and outcome (0 is perfect)")
 	sbCI := ""
 	if b := r.a.BootstrapCI; b != nil {
-		sbCI = fmt.Sprintf("%.3f to %.3f (bootstrap percentile)", b.ScaledBrier[0], b.ScaledBrier[1])
+		sbCI = Interval(b.ScaledBrier, "%.3f", "") + " (bootstrap percentile)"
 	}
 	t.add("scaled Brier score", f3(o.ScaledBrier), sbCI, "share of the error of predicting the event rate for everyone that the model removes (1 is perfect, 0 no better)")
 	t.write(r.w)
@@ -376,9 +382,9 @@ func (r *renderer) usefulness() {
 		gain := nb.Model - math.Max(nb.TreatAll, 0)
 		cells := []string{pct(nb.Threshold), f4(nb.Model)}
 		if b != nil && i < len(b.NetBenefit) {
-			cells = append(cells, fmt.Sprintf("%.4f to %.4f", b.NetBenefit[i].CI[0], b.NetBenefit[i].CI[1]))
+			cells = append(cells, Interval(b.NetBenefit[i].CI, "%.4f", ""))
 		}
-		cells = append(cells, f4(nb.TreatAll), "0", fmt.Sprintf("%+.4f (%+.1f true positives per 1000 patients)", gain, 1000*gain))
+		cells = append(cells, f4(nb.TreatAll), "0", gainText(gain))
 		t.add(cells...)
 	}
 	t.write(r.w)
@@ -402,14 +408,18 @@ func (r *renderer) subgroups() {
 	r.p("## Subgroups\n\n")
 	r.p("The model's performance in each subgroup, with 95%% intervals. A subgroup with fewer than %d events or non-events is reported as too small: its measures would be too imprecise to act on (common practice). Criteria on AUC, O/E, calibration-in-the-large and slope are checked in every measured subgroup.\n\n", r.a.MinSubgroupEvents)
 	t := table{head: []string{"subgroup", "patients", "events", "AUC (95% CI)", "O/E (95% CI)", "CITL (95% CI)", "slope (95% CI)", "criteria not met"}}
+	var g validate.Subgroup
 	iv := func(v *float64, ci *[2]float64, digits int) string {
-		if v == nil {
+		switch {
+		case v == nil && g.TooSmall:
 			return "—"
+		case v == nil:
+			return NotEstimable
 		}
-		f := fmt.Sprintf("%%.%df (%%.%df to %%.%df)", digits, digits, digits)
-		return fmt.Sprintf(f, *v, ci[0], ci[1])
+		f := fmt.Sprintf("%%.%df", digits)
+		return fmt.Sprintf("%s (%s)", num(*v, f), Interval(*ci, f, ""))
 	}
-	for _, g := range gs {
+	for _, g = range gs {
 		failed := strings.Join(g.Failed, "; ")
 		if g.TooSmall {
 			failed = "too small to measure"
@@ -429,19 +439,57 @@ func (r *renderer) sampleSize() {
 	r.p("## Was the cohort large enough?\n\n")
 	r.p("The minimum sample size for precise estimates, criterion by criterion (after Riley et al. 2021), with the anticipated values taken from %s:\n\n", ss.Basis)
 	t := table{head: []string{"criterion", "target", "patients needed", "events needed", "this cohort"}}
+	var missing []string
 	for _, c := range ss.Criteria {
+		if c.N == nil || c.Events == nil || c.Met == nil {
+			t.add(c.Measure, c.Target, "cannot be computed: "+c.NotComputable, "", "cannot be judged")
+			missing = append(missing, c.Measure)
+			continue
+		}
 		met := "enough"
-		if !c.Met {
+		if !*c.Met {
 			met = "**too few**"
 		}
-		t.add(c.Measure, c.Target, fmt.Sprint(c.N), fmt.Sprint(c.Events), met)
+		t.add(c.Measure, c.Target, fmt.Sprint(*c.N), fmt.Sprint(*c.Events), met)
 	}
 	t.write(r.w)
-	if ss.Short {
-		r.p("**Caution: the cohort's %d patients fall short of the %d the %s criterion needs; the intervals above are wider than the targets, and the audit's conclusions are correspondingly less certain.**\n\n", ss.Have, ss.Required, ss.Driver)
-	} else {
-		r.p("The cohort's %d patients meet every criterion (the largest need is %d, for the %s).\n\n", ss.Have, ss.Required, ss.Driver)
+	switch {
+	case ss.Short != nil && *ss.Short:
+		r.p("**Caution: the cohort's %d patients fall short of the %d the %s criterion needs; the intervals above are wider than the targets, and the audit's conclusions are correspondingly less certain.**\n\n", ss.Have, *ss.Required, ss.Driver)
+	case ss.Short != nil:
+		r.p("The cohort's %d patients meet every criterion (the largest need is %d, for the %s).\n\n", ss.Have, *ss.Required, ss.Driver)
+	case ss.Required != nil:
+		r.p("The cohort's %d patients meet the criteria that could be computed (the largest need is %d, for the %s); whether they are enough for the %s cannot be judged, since %s could not be computed.\n\n",
+			ss.Have, *ss.Required, ss.Driver, strings.Join(missing, " and "), plural(len(missing), "its size", "their sizes"))
+	default:
+		r.p("No criterion's size could be computed, so whether the cohort's %d patients are enough cannot be judged.\n\n", ss.Have)
 	}
+}
+
+// hlText writes a Hosmer–Lemeshow test: statistic, df, p and groups, or
+// that it could not be computed.
+func hlText(h metrics.HosmerLemeshowTest, digits int) string {
+	if !finite(h.Statistic) {
+		return fmt.Sprintf("not computable (%d %s; a group's risks are all 0 or all 1)", h.Groups, plural(h.Groups, "group", "groups"))
+	}
+	return fmt.Sprintf("%.*f on %d df, p %s (%d %s)", digits, h.Statistic, h.DF, FormatP(h.P), h.Groups, plural(h.Groups, "group", "groups"))
+}
+
+// gainText is the net benefit gained over the better default, also per
+// 1000 patients.
+func gainText(gain float64) string {
+	if !finite(gain) {
+		return NotEstimable
+	}
+	return fmt.Sprintf("%+.4f (%+.1f true positives per 1000 patients)", gain, 1000*gain)
+}
+
+// plural picks the singular or plural form for n things.
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
 }
 
 func (r *renderer) caseMix() {
@@ -481,7 +529,7 @@ func (r *renderer) update() {
 	r.p("The model was updated on this cohort in increasing order of change — recalibration in the large (intercept, with the linear predictor as offset), logistic recalibration (intercept and slope), model revision (every coefficient, with the original linear predictor as offset) — and the closed testing procedure of Vergouwe et al. (2017) chose among them: the revision is tested against the original model, then each simpler update against the revision, keeping the first not rejected at α = %g.\n\n", u.Alpha)
 	t := table{head: []string{"model", "parameters estimated", "−2 log-likelihood", "AIC"}}
 	for _, s := range u.Steps {
-		t.add(s.Method, fmt.Sprint(s.Params), fmt.Sprintf("%.3f", s.Neg2LL), fmt.Sprintf("%.3f", s.AIC))
+		t.add(s.Method, fmt.Sprint(s.Params), num(s.Neg2LL, "%.3f"), num(s.AIC, "%.3f"))
 	}
 	t.write(r.w)
 	t = table{head: []string{"test against the revision", "likelihood ratio χ²", "df", "p", "result"}}
@@ -490,13 +538,13 @@ func (r *renderer) update() {
 		if ts.Rejected {
 			res = "rejected"
 		}
-		t.add(ts.Simpler, fmt.Sprintf("%.3f", ts.LRChi2), fmt.Sprint(ts.DF), FormatP(ts.P), res)
+		t.add(ts.Simpler, num(ts.LRChi2, "%.3f"), fmt.Sprint(ts.DF), FormatP(ts.P), res)
 	}
 	t.write(r.w)
 	r.p("**Chosen: %s**, written as a frozen model to %s with its provenance (the parent model's and the cohort's SHA-256, the method).\n\n", u.Chosen, code(u.ModelFile))
 	if e := u.Expected; e != nil {
-		r.p("Its performance expected in new patients from this cohort's population, by %d bootstrap replicates of the updating (seed %d, %d failed): AUC %.3f (apparent %.3f), calibration slope %.3f, calibration-in-the-large %.3f, Brier score %.4f.\n\n",
-			u.Bootstrap, u.Seed, u.Failed, e.AUC.Corrected, e.AUC.Apparent, e.Slope.Corrected, e.CITL.Corrected, e.Brier.Corrected)
+		r.p("Its performance expected in new patients from this cohort's population, by %d bootstrap replicates of the updating (seed %d, %d failed): AUC %s (apparent %s), calibration slope %s, calibration-in-the-large %s, Brier score %s.\n\n",
+			u.Bootstrap, u.Seed, u.Failed, f3(e.AUC.Corrected), f3(e.AUC.Apparent), f3(e.Slope.Corrected), f3(e.CITL.Corrected), f4(e.Brier.Corrected))
 	}
 	r.p("**An updated model is a new model: it needs its own validation, on patients it was not updated on, before it is used.**\n\n")
 }
@@ -516,7 +564,11 @@ func (r *renderer) development() {
 	t := table{head: []string{"measure", "development", "this cohort", "change"}}
 	row := func(name string, dev, now float64, digits int) {
 		f := fmt.Sprintf("%%.%df", digits)
-		t.add(name, fmt.Sprintf(f, dev), fmt.Sprintf(f, now), fmt.Sprintf("%+."+fmt.Sprint(digits)+"f", now-dev))
+		change := "—"
+		if finite(dev) && finite(now) {
+			change = fmt.Sprintf("%+."+fmt.Sprint(digits)+"f", now-dev)
+		}
+		t.add(name, num(dev, f), num(now, f), change)
 	}
 	row("AUC", dm.Discrimination.AUC, r.a.Discrimination.AUC, 3)
 	row("calibration-in-the-large", dm.Calibration.CITL, r.a.Calibration.CITL, 3)
@@ -538,7 +590,7 @@ func (r *renderer) methods() {
 		"Calibration-in-the-large: the intercept of a logistic regression of the outcome with logit(risk) as offset; calibration slope: the coefficient of logit(risk) with a free intercept (Cox 1958; Van Calster et al. 2016). Wald intervals.",
 		"O/E: observed over expected events, 95% CI exp(ln(O/E) ± 1.96·√((1 − O/n)/O)).",
 		fmt.Sprintf("Hosmer–Lemeshow test (Hosmer & Lemeshow 1980): %d groups of predicted risk, ties kept together, df = %d.", c.HL.Groups, c.HL.DF),
-		fmt.Sprintf("Flexible calibration curve: LOWESS (Cleveland 1979), span %.2f, local linear, tricube weights, no robustness iterations; ICI, E50, E90 and Emax from it (Austin & Steyerberg 2019).", c.Span),
+		fmt.Sprintf("Flexible calibration curve: LOWESS (Cleveland 1979), span %.2f, local linear, tricube weights, no robustness iterations; ICI, E50, E90 and Emax from it (Austin & Steyerberg 2019). Where a neighbourhood has no spread of predicted risk to fit a line to — its nearest patients all tied with the point, or a weighted variance of the risks at most 1e-10 of their weighted mean square distance from it — the local fit is the local weighted mean of the outcomes (over every patient tied with the point, when the nearest all tie), with the same band formula; when every risk is the same, the curve is the event rate.", c.Span),
 		"Brier score (Brier 1950) and scaled Brier score (Steyerberg et al. 2010).",
 		"Net benefit (Vickers & Elkin 2006), treating when the predicted risk is at or above the threshold.",
 		"Proportions with exact Clopper–Pearson intervals (Clopper & Pearson 1934).",
@@ -633,31 +685,68 @@ func (t *table) write(w io.Writer) {
 func f3(v float64) string { return num(v, "%.3f") }
 func f4(v float64) string { return num(v, "%.4f") }
 
-// num formats v, or "n/a" for a measure that could not be estimated.
+// NotEstimable is how the report and the summary write a value that
+// does not exist for the data (NaN).
+const NotEstimable = "not estimable"
+
+// num formats v with format, NotEstimable when v is NaN and ∞ or −∞
+// when it is infinite, so that no "NaN" or "Inf" reaches the text.
 func num(v float64, format string) string {
-	if math.IsNaN(v) {
-		return "n/a"
+	switch {
+	case math.IsNaN(v):
+		return NotEstimable
+	case math.IsInf(v, 1):
+		return "∞"
+	case math.IsInf(v, -1):
+		return "−∞"
 	}
 	return fmt.Sprintf(format, v)
 }
+
+// pct writes a share as a percentage with one decimal.
 func pct(v float64) string {
-	if math.IsNaN(v) {
-		return "n/a"
+	if !finite(v) {
+		return num(v, "")
 	}
 	return fmt.Sprintf("%.1f%%", 100*v)
 }
-func ci3(ci [2]float64) string {
-	if math.IsNaN(ci[0]) || math.IsNaN(ci[1]) {
-		return "n/a"
+
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+
+// interval writes an interval's ends in format joined by sep, or
+// "not estimable (why)" (without the parenthesis when why is empty) when
+// an end is NaN or infinite.
+func interval(ci [2]float64, format, sep, why string) string {
+	if !finite(ci[0]) || !finite(ci[1]) {
+		if why == "" {
+			return NotEstimable
+		}
+		return NotEstimable + " (" + why + ")"
 	}
-	return fmt.Sprintf("%.3f to %.3f", ci[0], ci[1])
+	return fmt.Sprintf(format+sep+format, ci[0], ci[1])
+}
+
+// Interval writes a 95% interval as "a to b" with format, or "not
+// estimable (why)" when an end is NaN or infinite; the report and the
+// command line's summaries write every interval through it.
+func Interval(ci [2]float64, format, why string) string { return interval(ci, format, " to ", why) }
+
+// Value writes a measure with format, "not estimable" when it is NaN
+// and ∞ or −∞ when it is infinite.
+func Value(v float64, format string) string { return num(v, format) }
+
+func ci3(ci [2]float64) string { return Interval(ci, "%.3f", "") }
+
+// pctInterval writes an interval of shares as percentages, "a% to b%".
+func pctInterval(ci [2]float64, sep string) string {
+	return interval([2]float64{100 * ci[0], 100 * ci[1]}, "%.1f%%", sep, "")
 }
 
 func prop(p metrics.Proportion) string {
-	if math.IsNaN(p.Value) {
+	if !finite(p.Value) {
 		return "n/a"
 	}
-	return fmt.Sprintf("%.1f%% (%.1f–%.1f)", 100*p.Value, 100*p.CI[0], 100*p.CI[1])
+	return fmt.Sprintf("%.1f%% (%s)", 100*p.Value, interval([2]float64{100 * p.CI[0], 100 * p.CI[1]}, "%.1f", "–", ""))
 }
 
 // FormatP writes a p-value with four decimals, as "< 0.0001" below

@@ -97,3 +97,51 @@ func TestFailureReasonsInOrder(t *testing.T) {
 		}
 	}
 }
+
+// TestSampleSizeNotComputable: a criterion whose size cannot be computed
+// reads "cannot be computed: …" and judges nothing, and the report never
+// says the cohort meets every criterion when one could not be computed.
+func TestSampleSizeNotComputable(t *testing.T) {
+	perf, err := validate.Assess([]float64{0, 1, 0, 1, 1, 0}, []float64{0.1, 0.8, 0.3, 0.6, 0.9, 0.2}, validate.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	n, e, yes, no := 120, 30, true, false
+	ok := validate.SizeCriterion{Measure: "O/E", Target: "95% CI width 0.2", N: &n, Events: &e, Met: &no}
+	okMet := ok
+	okMet.Met = &yes
+	slope := validate.SizeCriterion{Measure: "calibration slope", Target: "95% CI width 0.2", NotComputable: "the linear predictor does not vary"}
+	for _, c := range []struct {
+		name      string
+		ss        validate.SampleSize
+		want, not []string
+	}{
+		{"short of one, another not computable", validate.SampleSize{Criteria: []validate.SizeCriterion{ok, slope}, Required: &n, Driver: "O/E", Have: 6, Short: &yes},
+			[]string{"cannot be computed: the linear predictor does not vary", "cannot be judged", "**too few**", "fall short of the 120"}, []string{"meet every criterion"}},
+		{"meets those computable", validate.SampleSize{Criteria: []validate.SizeCriterion{okMet, slope}, Required: &n, Driver: "O/E", Have: 600},
+			[]string{"meet the criteria that could be computed", "whether they are enough for the calibration slope cannot be judged", "enough"}, []string{"meet every criterion", "fall short"}},
+		{"none computable", validate.SampleSize{Criteria: []validate.SizeCriterion{slope}, Have: 6},
+			[]string{"No criterion's size could be computed"}, []string{"meet every criterion", "fall short", "largest need"}},
+		{"every criterion met", validate.SampleSize{Criteria: []validate.SizeCriterion{okMet}, Required: &n, Driver: "O/E", Have: 600, Short: &no},
+			[]string{"meet every criterion (the largest need is 120, for the O/E)"}, []string{"cannot"}},
+	} {
+		a := validate.NewAudit(validate.ModelInfo{Name: "m"}, validate.Provenance{}, perf, nil, "")
+		a.SampleSize = &c.ss
+		var b bytes.Buffer
+		if err := Write(&b, a, nil); err != nil {
+			t.Fatal(err)
+		}
+		md := b.String()
+		sec := md[strings.Index(md, "## Was the cohort large enough?"):strings.Index(md, "## Methods")]
+		for _, w := range c.want {
+			if !strings.Contains(sec, w) {
+				t.Errorf("%s: the section lacks %q:\n%s", c.name, w, sec)
+			}
+		}
+		for _, w := range c.not {
+			if strings.Contains(sec, w) {
+				t.Errorf("%s: the section says %q:\n%s", c.name, w, sec)
+			}
+		}
+	}
+}

@@ -19,8 +19,8 @@ func WriteTrend(w io.Writer, tr *trend.Trend, source string, figures []plots.Fig
 	r.p("%d audits recorded in %s, from %s to %s.\n\n", len(tr.Points), code(source), tr.Points[0].Date, tr.Points[len(tr.Points)-1].Date)
 	if tr.FirstOutside >= 0 {
 		p := tr.Points[tr.FirstOutside]
-		r.p("**The audit of %s is the first whose O/E (%.3f) lies outside its 99.8%% control limits (%.3f to %.3f)**: the drift in calibration is larger than chance explains at that audit's size.\n\n",
-			p.Date, p.Record.OE[0], p.Limit998[0], p.Limit998[1])
+		r.p("**The audit of %s is the first whose O/E (%s) lies outside its 99.8%% control limits (%s)**: the drift in calibration is larger than chance explains at that audit's size.\n\n",
+			p.Date, f3(p.Record.OE[0]), Interval(p.Limit998, "%.3f", ""))
 	} else {
 		r.p("Every audit's O/E lies within its 99.8%% control limits: no calibration drift beyond chance.\n\n")
 	}
@@ -35,11 +35,11 @@ func WriteTrend(w io.Writer, tr *trend.Trend, source string, figures []plots.Fig
 		if i == tr.FirstOutside {
 			flag = " **first outside**"
 		}
-		t.add(rec.AuditDate, code(rec.Cohort), fmt.Sprint(rec.Used), fmt.Sprint(rec.Events), fmt.Sprintf("%.1f", rec.Expected),
-			fmt.Sprintf("%.3f (%.3f–%.3f)", rec.AUC[0], rec.AUC[1], rec.AUC[2]),
-			fmt.Sprintf("%.3f (%.3f–%.3f)%s", rec.OE[0], rec.OE[1], rec.OE[2], flag),
-			fmt.Sprintf("%.3f–%.3f", p.Limit998[0], p.Limit998[1]),
-			fmt.Sprintf("%.3f", rec.Slope[0]), fmt.Sprintf("%.3f", rec.CITL[0]), rec.Verdict)
+		t.add(rec.AuditDate, code(rec.Cohort), fmt.Sprint(rec.Used), fmt.Sprint(rec.Events), num(rec.Expected, "%.1f"),
+			fmt.Sprintf("%s (%s)", f3(rec.AUC[0]), interval([2]float64{rec.AUC[1], rec.AUC[2]}, "%.3f", "–", "")),
+			fmt.Sprintf("%s (%s)%s", f3(rec.OE[0]), interval([2]float64{rec.OE[1], rec.OE[2]}, "%.3f", "–", ""), flag),
+			interval(p.Limit998, "%.3f", "–", ""),
+			f3(rec.Slope[0]), f3(rec.CITL[0]), rec.Verdict)
 	}
 	t.write(r.w)
 	for _, f := range figures {

@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"os"
+	"strings"
 	"testing"
 
 	"github.com/riskaudit/riskaudit/metrics"
@@ -289,5 +290,87 @@ func TestNetBenefitVarianceBySensitivity(t *testing.T) {
 		if got := snbVariance(p1, p2, p3, w); math.Abs(got/want-1) > 1e-12 {
 			t.Errorf("%+v: %g, by sensitivity and specificity %g", c, got, want)
 		}
+	}
+}
+
+// TestDegenerateInputsAreNotComputable: inputs from which a criterion's
+// size cannot be computed give that criterion a reason and N = 0, never
+// a number from an infinite or undefined target (before, a linear
+// predictor that does not vary gave −9223372036854775808 patients); the
+// criteria that can be computed still are, and equal the formula
+// transcribed directly.
+func TestDegenerateInputsAreNotComputable(t *testing.T) {
+	constant := make([]float64, 200)
+	for i := range constant {
+		constant[i] = math.Log(0.2 / 0.8) // every risk 20%
+	}
+	nan := math.NaN()
+	// The O/E criterion of a calibrated model with every risk 0.2,
+	// transcribed from Riley et al. (2021): n = (1 − φ)/(φ·SE²) with
+	// SE = asinh(width/(2·O/E))/z.
+	seOE := math.Asinh(0.2/2) / 1.959963984540054
+	oeTied := int(math.Ceil(0.8 / (0.2 * seOE * seOE)))
+	for _, c := range []struct {
+		name string
+		a    Anticipated
+		// not lists the measures that must not be computable; n, when
+		// not 0, is the O/E criterion's expected size.
+		not   []string
+		oeN   int
+		reach string
+	}{
+		{"every risk tied", Anticipated{LP: constant, Threshold: 0.1}, []string{"calibration slope"}, oeTied, "does not vary"},
+		{"calibration unknown", Anticipated{LP: Normal(-2, 1, 1000), CalIntercept: nan, CalSlope: nan, Threshold: 0.1},
+			[]string{"O/E", "calibration slope", "C-statistic", "standardised net benefit at 0.1"}, 0, "calibration intercept or slope is unknown"},
+		{"infinite slope", Anticipated{LP: Normal(-2, 1, 1000), CalSlope: math.Inf(1)},
+			[]string{"O/E", "calibration slope", "C-statistic"}, 0, "unknown"},
+		{"C-statistic 1", Anticipated{LP: Normal(-2, 1, 1000), C: 1}, []string{"C-statistic"}, 0, "no sampling variance"},
+		{"threshold above every risk", Anticipated{LP: constant, Threshold: 0.5},
+			[]string{"calibration slope", "standardised net benefit at 0.5"}, oeTied, "nobody would be treated"},
+		{"a need above MaxN", Anticipated{LP: Normal(0, 2e-5, 1000)}, []string{"calibration slope"}, 0, "more than 10¹²"},
+	} {
+		r, err := Compute(c.a, DefaultTargets())
+		if err != nil {
+			t.Fatalf("%s: %v", c.name, err)
+		}
+		not := map[string]bool{}
+		for _, m := range c.not {
+			not[m] = true
+		}
+		found := false
+		for _, cr := range r.Criteria {
+			switch {
+			case cr.N < 0 || cr.Events < 0:
+				t.Errorf("%s: %s needs %d patients (%d events)", c.name, cr.Measure, cr.N, cr.Events)
+			case not[cr.Measure] && (cr.Computable() || cr.N != 0 || cr.Events != 0):
+				t.Errorf("%s: %s should not be computable, got n %d, reason %q", c.name, cr.Measure, cr.N, cr.NotComputable)
+			case !not[cr.Measure] && (!cr.Computable() || cr.N <= 0):
+				t.Errorf("%s: %s should be computable, got n %d, reason %q", c.name, cr.Measure, cr.N, cr.NotComputable)
+			}
+			if strings.Contains(cr.NotComputable, c.reach) {
+				found = true
+			}
+			if strings.Contains(cr.NotComputable, "NaN") || strings.Contains(cr.NotComputable, "Inf") {
+				t.Errorf("%s: reason %q shows a non-number", c.name, cr.NotComputable)
+			}
+			if cr.Measure == "O/E" && c.oeN != 0 && cr.N != c.oeN {
+				t.Errorf("%s: O/E needs %d, the formula %d", c.name, cr.N, c.oeN)
+			}
+			if cr.Computable() && cr.N > r.N {
+				t.Errorf("%s: the largest need %d is below %s's %d", c.name, r.N, cr.Measure, cr.N)
+			}
+		}
+		if !found {
+			t.Errorf("%s: no reason mentions %q", c.name, c.reach)
+		}
+		if r.Complete() {
+			t.Errorf("%s: reported complete", c.name)
+		}
+		if len(c.not) == len(r.Criteria) && (r.N != 0 || r.Driver != "") {
+			t.Errorf("%s: nothing computable, yet n %d driven by %q", c.name, r.N, r.Driver)
+		}
+	}
+	if _, err := Compute(Anticipated{LP: append(Normal(-2, 1, 20), nan)}, DefaultTargets()); err == nil {
+		t.Error("a NaN linear predictor was accepted")
 	}
 }

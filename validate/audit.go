@@ -184,8 +184,14 @@ func NewAudit(m ModelInfo, prov Provenance, perf *Performance, dev *Performance,
 func (a *Audit) SetInternal(in *Internal) {
 	a.Internal = in
 	m := in.Metrics
-	text := fmt.Sprintf("By %d bootstrap replicates the apparent AUC %.3f shrinks to %.3f once corrected for optimism; the calibration slope expected in new patients from the same population (the shrinkage factor) is %.3f.",
-		in.Bootstrap-in.Failed, m.AUC.Apparent, m.AUC.Corrected, in.Shrinkage)
+	var text string
+	if !finite(m.AUC.Apparent) || !finite(m.AUC.Corrected) || !finite(in.Shrinkage) {
+		text = fmt.Sprintf("The optimism of the apparent AUC and calibration slope could not be estimated from the %d bootstrap replicates that fitted (of %d).",
+			in.Bootstrap-in.Failed, in.Bootstrap)
+	} else {
+		text = fmt.Sprintf("By %d bootstrap replicates the apparent AUC %.3f shrinks to %.3f once corrected for optimism; the calibration slope expected in new patients from the same population (the shrinkage factor) is %.3f.",
+			in.Bootstrap-in.Failed, m.AUC.Apparent, m.AUC.Corrected, in.Shrinkage)
+	}
 	if in.Shrinkage < 0.9 {
 		text += " A factor below 0.9 means the model is noticeably overfitted: its risks will be too extreme in new patients."
 	}
@@ -206,29 +212,57 @@ func ApparentOf(p *Performance) Apparent {
 // The wording for the AUC follows the common rule of thumb of Hosmer,
 // Lemeshow & Sturdivant (Applied Logistic Regression, 3rd ed., 2013,
 // §5.2.4; recalled from memory): below 0.7 poor, 0.7–0.8 acceptable,
-// 0.8–0.9 excellent, 0.9 and above outstanding.
+// 0.8–0.9 excellent, 0.9 and above outstanding. A measure or interval
+// that could not be estimated is said to be so, with the reason, never
+// written as a number.
 func Findings(p *Performance, dev *Performance) []Finding {
 	var out []Finding
 	d := p.Discrimination
-	text := fmt.Sprintf("AUC %.3f (95%% CI %.3f to %.3f), %s discrimination: in about %d of 100 pairs of one patient with the event and one without, the patient with the event was given the higher risk.",
-		d.AUC, d.CI[0], d.CI[1], aucWord(d.AUC), int(math.Round(100*d.AUC)))
-	if dev != nil {
+	tied := p.Cohort.MinRisk == p.Cohort.MaxRisk && p.Cohort.Used > 0
+	var text string
+	switch {
+	case math.IsNaN(d.AUC):
+		text = "The AUC could not be estimated: it needs patients with and without the event."
+	case tied:
+		text = fmt.Sprintf("AUC %.3f (95%% CI %s): every patient was given the same predicted risk, so the model does not tell patients with the event from those without.",
+			d.AUC, ciText(d.CI, "%.3f", p.AUCCIReason()))
+	default:
+		text = fmt.Sprintf("AUC %.3f (95%% CI %s), %s discrimination: in about %d of 100 pairs of one patient with the event and one without, the patient with the event was given the higher risk.",
+			d.AUC, ciText(d.CI, "%.3f", p.AUCCIReason()), aucWord(d.AUC), int(math.Round(100*d.AUC)))
+	}
+	if dev != nil && !math.IsNaN(dev.Discrimination.AUC) {
 		text += fmt.Sprintf(" In the development data it was %.3f.", dev.Discrimination.AUC)
 	}
 	out = append(out, Finding{"discrimination", text})
 	c := p.Calibration
 	out = append(out, Finding{"calibration in the large", oeSentence(c)})
-	out = append(out, Finding{"calibration slope", slopeSentence(c)})
-	out = append(out, Finding{"flexible calibration", fmt.Sprintf(
-		"Across patients the predicted risk differs from the smoothed observed risk by %.1f percentage points on average (ICI), by at most %.1f for half of them (E50) and %.1f for nine in ten (E90).",
-		100*c.ICI, 100*c.E50, 100*c.E90)})
+	out = append(out, Finding{"calibration slope", slopeSentence(c, tied)})
+	out = append(out, Finding{"flexible calibration", flexibleSentence(c, p.Cohort, tied)})
 	o := p.Overall
-	out = append(out, Finding{"overall accuracy", fmt.Sprintf(
-		"Brier score %.4f; scaled Brier %.3f: the model removes %s of the squared error of giving every patient the observed event rate.",
-		o.Brier, o.ScaledBrier, percentWord(o.ScaledBrier))})
+	if math.IsNaN(o.Brier) || math.IsNaN(o.ScaledBrier) || math.IsInf(o.ScaledBrier, 0) {
+		out = append(out, Finding{"overall accuracy", "The Brier score could not be compared with that of giving every patient the observed event rate."})
+	} else {
+		out = append(out, Finding{"overall accuracy", fmt.Sprintf(
+			"Brier score %.4f; scaled Brier %.3f: the model removes %s of the squared error of giving every patient the observed event rate.",
+			o.Brier, o.ScaledBrier, percentWord(o.ScaledBrier))})
+	}
 	out = append(out, Finding{"clinical usefulness", netBenefitSentence(p)})
 	return out
 }
+
+// ciText writes an interval's two ends in format, joined by "to", or
+// "not estimable (why)" when either end is not a finite number.
+func ciText(ci [2]float64, format, why string) string {
+	if !finite(ci[0]) || !finite(ci[1]) {
+		if why == "" {
+			return "not estimable"
+		}
+		return "not estimable (" + why + ")"
+	}
+	return fmt.Sprintf(format+" to "+format, ci[0], ci[1])
+}
+
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
 func aucWord(a float64) string {
 	switch {
@@ -243,9 +277,18 @@ func aucWord(a float64) string {
 }
 
 func oeSentence(c Calibration) string {
-	s := fmt.Sprintf("Observed events were %.0f against %.1f predicted (O/E %.2f, 95%% CI %.2f to %.2f; calibration-in-the-large %.3f, CI %.3f to %.3f)",
-		c.Observed, c.Expected, c.OE, c.OECI[0], c.OECI[1], c.CITL, c.CITLCI[0], c.CITLCI[1])
+	if !finite(c.OE) {
+		return fmt.Sprintf("Observed events were %.0f against %.1f predicted: O/E could not be estimated.", c.Observed, c.Expected)
+	}
+	citl := "calibration-in-the-large could not be estimated"
+	if finite(c.CITL) {
+		citl = fmt.Sprintf("calibration-in-the-large %.3f, CI %s", c.CITL, ciText(c.CITLCI, "%.3f", ""))
+	}
+	s := fmt.Sprintf("Observed events were %.0f against %.1f predicted (O/E %.2f, 95%% CI %s; %s)",
+		c.Observed, c.Expected, c.OE, ciText(c.OECI, "%.2f", ""), citl)
 	switch {
+	case !finite(c.OECI[0]) || !finite(c.OECI[1]):
+		return s + "."
 	case c.OECI[0] > 1:
 		return s + fmt.Sprintf(": the model under-predicts risk; events happened %s more often than it predicted.", fractionWord(c.OE-1))
 	case c.OECI[1] < 1:
@@ -254,18 +297,35 @@ func oeSentence(c Calibration) string {
 	return s + ": consistent with the model predicting the right number of events overall."
 }
 
-func slopeSentence(c Calibration) string {
-	if math.IsNaN(c.Slope) {
-		return "The calibration slope could not be estimated on this cohort (for example, every predicted risk is the same, or the cohort is too small): the spread of the risks cannot be judged."
-	}
-	s := fmt.Sprintf("Calibration slope %.2f (95%% CI %.2f to %.2f)", c.Slope, c.SlopeCI[0], c.SlopeCI[1])
+func slopeSentence(c Calibration, tied bool) string {
 	switch {
+	case tied && !finite(c.Slope):
+		return "The calibration slope could not be estimated: every patient was given the same predicted risk, so there is no spread of risk to judge."
+	case !finite(c.Slope):
+		return "The calibration slope could not be estimated on this cohort (for example, the risks separate the events from the non-events completely, or the cohort is too small): the spread of the risks cannot be judged."
+	}
+	s := fmt.Sprintf("Calibration slope %.2f (95%% CI %s)", c.Slope, ciText(c.SlopeCI, "%.2f", ""))
+	switch {
+	case !finite(c.SlopeCI[0]) || !finite(c.SlopeCI[1]):
+		return s + "."
 	case c.SlopeCI[1] < 1:
 		return s + ": the predicted risks are too extreme — high risks too high and low risks too low — as when a model is overfitted or its predictors matter less in this cohort."
 	case c.SlopeCI[0] > 1:
 		return s + ": the predicted risks are too moderate — they spread less than the observed risks — as when predictors matter more in this cohort."
 	}
 	return s + ": consistent with the ideal slope of 1, so the spread of the predicted risks fits the cohort."
+}
+
+func flexibleSentence(c Calibration, co CohortSummary, tied bool) string {
+	switch {
+	case !finite(c.ICI) || !finite(c.E50) || !finite(c.E90):
+		return "The flexible calibration curve could not be estimated."
+	case tied:
+		return fmt.Sprintf("Every patient was given the same risk, %s; the smoothed observed risk is then the event rate, %s, so every patient's predicted risk is %.1f percentage points from it (ICI, E50, E90 and Emax alike).",
+			percent(co.MinRisk), percent(co.EventRate), 100*c.ICI)
+	}
+	return fmt.Sprintf("Across patients the predicted risk differs from the smoothed observed risk by %.1f percentage points on average (ICI), by at most %.1f for half of them (E50) and %.1f for nine in ten (E90).",
+		100*c.ICI, 100*c.E50, 100*c.E90)
 }
 
 func netBenefitSentence(p *Performance) string {
@@ -346,22 +406,33 @@ type UpdateTest struct {
 
 // SampleSize compares the cohort's size with the minimum sample size of
 // Riley et al. (2021), with the anticipated values taken from the cohort
-// itself or from the audit plan, as Basis says.
+// itself or from the audit plan, as Basis says. A criterion whose size
+// cannot be computed (samplesize.Criterion.NotComputable) is listed with
+// its reason and judges nothing.
 type SampleSize struct {
 	Criteria []SizeCriterion `json:"criteria"`
-	Required int             `json:"required_n"`
-	Driver   string          `json:"driven_by"`
-	Have     int             `json:"have_n"`
-	Short    bool            `json:"short"`
-	Basis    string          `json:"anticipated_from"`
+	// Required and Driver are the largest need among the criteria that
+	// could be computed and its criterion; Required is nil when none
+	// could.
+	Required *int   `json:"required_n"`
+	Driver   string `json:"driven_by"`
+	Have     int    `json:"have_n"`
+	// Short is true when the cohort falls short of a criterion that
+	// could be computed, false when it meets every criterion, and nil
+	// when it meets those that could be computed but some could not:
+	// then whether it was large enough cannot be judged.
+	Short *bool  `json:"short"`
+	Basis string `json:"anticipated_from"`
 }
 
-// SizeCriterion is one criterion's requirement.
+// SizeCriterion is one criterion's requirement. N, Events and Met are
+// nil when the size cannot be computed, and NotComputable says why.
 type SizeCriterion struct {
-	Measure string  `json:"measure"`
-	Target  string  `json:"target"`
-	SE      float64 `json:"target_se"`
-	N       int     `json:"n"`
-	Events  int     `json:"events"`
-	Met     bool    `json:"met"`
+	Measure       string  `json:"measure"`
+	Target        string  `json:"target"`
+	SE            float64 `json:"target_se"`
+	N             *int    `json:"n"`
+	Events        *int    `json:"events"`
+	Met           *bool   `json:"met"`
+	NotComputable string  `json:"not_computable,omitempty"`
 }

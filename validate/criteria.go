@@ -49,7 +49,14 @@ type CriterionResult struct {
 	Passed   bool        `json:"passed"`
 	Severity string      `json:"severity"`
 	Source   string      `json:"source,omitempty"`
+	// Note says why the criterion could not be judged: its measure was
+	// not estimable (NaN), so it is not met.
+	Note string `json:"note,omitempty"`
 }
+
+// NotEstimable is the Note of a criterion whose measure could not be
+// estimated.
+const NotEstimable = "the measure could not be estimated on this cohort, so the criterion cannot be shown to be met"
 
 // Verdict is the outcome of the criteria: pass when every criterion
 // passes, review when only review criteria fail, fail otherwise.
@@ -153,7 +160,10 @@ func (c Criterion) Check() error {
 	return nil
 }
 
-// Judge applies the criteria to a performance.
+// Judge applies the criteria to a performance. A criterion whose measure
+// (or either end of its interval) is NaN or infinite is not met, with
+// Note NotEstimable: what cannot be estimated cannot be shown to meet a
+// bound.
 func Judge(p *Performance, criteria []Criterion) (*Verdict, error) {
 	v := &Verdict{Status: "pass"}
 	for _, c := range criteria {
@@ -166,6 +176,8 @@ func Judge(p *Performance, criteria []Criterion) (*Verdict, error) {
 			r.Severity = "fail"
 		}
 		switch {
+		case iv == nil && !finite(val), iv != nil && (!finite(iv[0]) || !finite(iv[1])):
+			r.Passed, r.Note = false, NotEstimable
 		case c.AtLeast != nil:
 			r.Passed = val >= *c.AtLeast
 		case c.AtMost != nil:

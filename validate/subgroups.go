@@ -94,7 +94,7 @@ func measureSubgroup(col, level string, idx []int, y, p, lp []float64, minEvents
 	}
 	auc, _ := metrics.AUC(metrics.SortByRisk(ys, ps))
 	oe, oeci, _, _ := metrics.OE(ys, ps)
-	perf := &Performance{Discrimination: Discrimination{auc}}
+	perf := &Performance{Discrimination: Discrimination{AUCResult: auc}}
 	perf.Calibration.OE, perf.Calibration.OECI = oe, oeci
 	g.AUC, g.AUCCI, g.OE, g.OECI = &auc.AUC, &auc.CI, &perf.Calibration.OE, &perf.Calibration.OECI
 	nan := math.NaN()

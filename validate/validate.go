@@ -6,10 +6,12 @@
 package validate
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"sync"
 
+	"github.com/riskaudit/riskaudit/logistic"
 	"github.com/riskaudit/riskaudit/metrics"
 )
 
@@ -91,6 +93,53 @@ func (o *Options) defaults() {
 // Discrimination is the AUC with its DeLong SE and intervals.
 type Discrimination struct {
 	metrics.AUCResult
+	// Notes say why the SE and intervals could not be estimated, when
+	// they are NaN.
+	Notes []string `json:"notes,omitempty"`
+}
+
+// CIReason says in a few words why the AUC's standard error and
+// intervals are NaN ("1 event", "AUC 1: every event ranked above every
+// non-event", …), or "" when they exist.
+func (d Discrimination) CIReason() string {
+	switch {
+	case !math.IsNaN(d.SE):
+		return ""
+	case d.Events == 0 || d.NonEvents == 0:
+		return "no events or no non-events"
+	case d.Events == 1:
+		return "1 event"
+	case d.NonEvents == 1:
+		return "1 non-event"
+	case d.AUC == 1:
+		return "AUC 1: every event ranked above every non-event"
+	case d.AUC == 0:
+		return "AUC 0: every event ranked below every non-event"
+	}
+	return "every event's risk tied with every non-event's"
+}
+
+// AUCCIReason is Discrimination.CIReason, except that it says "every
+// predicted risk the same" when that is why.
+func (p *Performance) AUCCIReason() string {
+	why := p.Discrimination.CIReason()
+	if why != "" && p.Cohort.Used > 0 && p.Cohort.MinRisk == p.Cohort.MaxRisk && p.Cohort.Events > 1 && p.Cohort.Used-p.Cohort.Events > 1 {
+		return "every predicted risk the same"
+	}
+	return why
+}
+
+// ciNote is the note of an AUC whose intervals cannot be estimated.
+func ciNote(p *Performance) string {
+	d := p.Discrimination
+	why := p.AUCCIReason()
+	switch {
+	case why == "":
+		return ""
+	case d.Events < 2 || d.NonEvents < 2:
+		return "the AUC's standard error and intervals are not estimable (" + why + "): DeLong's variance needs at least two events and two non-events"
+	}
+	return "the AUC's standard error and intervals are not estimable (" + why + "): DeLong's variance is then 0, which is no measure of the AUC's uncertainty"
 }
 
 // Calibration holds every calibration measure. The JSON keys are a
@@ -135,6 +184,10 @@ type CohortSummary struct {
 	Events    int     `json:"events"`
 	EventRate float64 `json:"event_rate"`
 	MeanRisk  float64 `json:"mean_risk"`
+	// MinRisk and MaxRisk are the lowest and highest predicted risk;
+	// they are equal when every risk is the same.
+	MinRisk float64 `json:"min_risk"`
+	MaxRisk float64 `json:"max_risk"`
 	// Clamped counts the risks outside [Epsilon, 1 − Epsilon] (such as
 	// risks of exactly 0 or 1) clamped to that range for the logit.
 	Clamped int     `json:"clamped"`
@@ -258,8 +311,17 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	}()
 	flex := metrics.FlexibleCalibration(sorted, metrics.LowessOptions{Span: opt.Span, Delta: delta, Workers: opt.Workers})
 	auc, _ := metrics.AUC(sorted)
-	perf.Discrimination = Discrimination{auc}
+	perf.Discrimination = Discrimination{AUCResult: auc}
+	c.MinRisk, c.MaxRisk = lo, hi
+	if n := ciNote(perf); n != "" {
+		perf.Discrimination.Notes = []string{n}
+	}
 	wg.Wait()
+	if c.Clamped == c.Used {
+		// Every logit is ±logit(1 − ε): the fits would measure ε, not
+		// the data.
+		errCITL, errSlope = errAllClamped, errAllClamped
+	}
 	// A calibration model that cannot be fitted (risks that are all the
 	// same, separation in a tiny cohort) leaves its measure undefined, not
 	// the audit impossible.
@@ -267,12 +329,16 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	nan := math.NaN()
 	if errCITL != nil {
 		citl = metrics.Estimate{Value: nan, SE: nan, CI: [2]float64{nan, nan}}
-		notes = append(notes, "calibration-in-the-large could not be estimated: "+errCITL.Error())
+		notes = append(notes, "calibration-in-the-large could not be estimated: "+fitFailure(errCITL, lo == hi))
 	}
 	if errSlope != nil {
 		slope = metrics.Estimate{Value: nan, SE: nan, CI: [2]float64{nan, nan}}
 		slopeIcpt = metrics.Estimate{Value: nan, SE: nan, CI: [2]float64{nan, nan}}
-		notes = append(notes, "the calibration slope could not be estimated: "+errSlope.Error())
+		notes = append(notes, "the calibration slope could not be estimated: "+fitFailure(errSlope, lo == hi))
+	}
+	if lo == hi {
+		notes = append(notes, fmt.Sprintf("every predicted risk is the same (%s): the flexible calibration curve is then the observed event rate (%s), so ICI, E50, E90 and Emax are each the distance between the two",
+			percent(lo), percent(c.EventRate)))
 	}
 	oe, oeci, obs, exp := metrics.OE(y, p)
 	c.MeanRisk = exp / float64(len(p))
@@ -286,6 +352,9 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 		Span: opt.Span, Delta: delta, FitPoints: flex.Curve.FitPoints, Band: BandMethod, Notes: notes,
 	}
 	cal.HL.Table = nil
+	if math.IsNaN(cal.HL.Statistic) && cal.HL.Groups > 0 {
+		cal.Notes = append(cal.Notes, "the Hosmer–Lemeshow test could not be computed: a risk group's predicted risks are all 0 or all 1, so the group has no binomial variance to divide by")
+	}
 	perf.Overall.Brier, perf.Overall.ScaledBrier = metrics.Brier(y, p)
 	perf.NetBenefit = metrics.NetBenefits(sorted, opt.Thresholds)
 	perf.Classification = metrics.Classify(sorted, opt.ClassifyAt)
@@ -297,6 +366,27 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	}
 	return perf, nil
 }
+
+// errAllClamped is why the calibration fits are not estimated when every
+// risk had to be clamped for the logit.
+var errAllClamped = errors.New("every predicted risk is 0 or 1 (within the clamping ε), so its value would depend on ε alone, not on the data")
+
+// fitFailure says in plain words why a calibration model could not be
+// fitted: risks that are all the same, separation, or the fit's error.
+func fitFailure(err error, tied bool) string {
+	switch {
+	case err == errAllClamped:
+		return err.Error()
+	case tied:
+		return "every predicted risk is the same, so there is no spread of risk to fit it to"
+	case errors.Is(err, logistic.ErrSeparation):
+		return "the predicted risks separate the events from the non-events completely, so its maximum-likelihood estimate is infinite (Albert & Anderson 1984)"
+	}
+	return err.Error()
+}
+
+// percent writes a share as a percentage with one decimal.
+func percent(v float64) string { return fmt.Sprintf("%.1f%%", 100*v) }
 
 // clampLogits bounds linear predictors to ±logit(1 − eps), the logits of
 // the clamped risks, copying only when a value must change.

@@ -9,6 +9,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/riskaudit/riskaudit/audit"
+	"github.com/riskaudit/riskaudit/report"
 	"github.com/riskaudit/riskaudit/validate"
 )
 
@@ -308,28 +309,5 @@ func countFailed(v *validate.Verdict) int {
 }
 
 func writeAuditSummary(s *streams, a *validate.Audit, dir string, nfig int) {
-	w := s.out
-	d, c, ov := a.Discrimination, a.Calibration, a.Overall
-	cohortFile := ""
-	for _, in := range a.Provenance.Inputs {
-		if in.Role == "cohort" {
-			cohortFile = in.Path
-		}
-	}
-	fmt.Fprintf(w, "Audit of %s on %s\n", a.Model.Name, cohortFile)
-	fmt.Fprintf(w, "  patients    %d used of %d, %d events (%.1f%%)\n", a.Cohort.Used, a.Cohort.Rows, a.Cohort.Events, 100*a.Cohort.EventRate)
-	fmt.Fprintf(w, "  AUC         %.3f (95%% CI %.3f to %.3f)\n", d.AUC, d.CI[0], d.CI[1])
-	fmt.Fprintf(w, "  O/E         %.3f (95%% CI %.3f to %.3f)\n", c.OE, c.OECI[0], c.OECI[1])
-	fmt.Fprintf(w, "  CITL        %.3f (95%% CI %.3f to %.3f)\n", c.CITL, c.CITLCI[0], c.CITLCI[1])
-	fmt.Fprintf(w, "  slope       %.3f (95%% CI %.3f to %.3f)\n", c.Slope, c.SlopeCI[0], c.SlopeCI[1])
-	fmt.Fprintf(w, "  ICI         %.4f   E90 %.4f\n", c.ICI, c.E90)
-	fmt.Fprintf(w, "  Brier       %.4f   scaled %.3f\n", ov.Brier, ov.ScaledBrier)
-	if a.Development != nil {
-		ap := a.Development.Apparent
-		fmt.Fprintf(w, "  development AUC %.3f, O/E %.3f, slope %.3f\n", ap.AUC, ap.OE, ap.Slope)
-	}
-	if v := a.Verdict; v != nil {
-		fmt.Fprintf(w, "  verdict     %s (%d of %d criteria not met)\n", v.Status, countFailed(v), len(v.Criteria))
-	}
-	fmt.Fprintf(w, "Wrote %s, %s and %d figures\n", filepath.Join(dir, "report.md"), filepath.Join(dir, "audit.json"), nfig)
+	_ = report.WriteSummary(s.out, a, dir, nfig)
 }

@@ -1,0 +1,59 @@
+package report
+
+import (
+	"fmt"
+	"io"
+	"path/filepath"
+
+	"github.com/riskaudit/riskaudit/validate"
+)
+
+// WriteSummary writes the plain-text summary of an audit that the audit
+// command prints on stdout: the cohort, each headline measure with its
+// 95% interval, the development data's figures, the verdict, and the
+// files written to dir (nfig figures). A value or interval that does not
+// exist reads "not estimable", with the reason where there is one, as in
+// the report.
+func WriteSummary(w io.Writer, a *validate.Audit, dir string, nfig int) error {
+	ew := &errWriter{w: w}
+	p := func(format string, args ...any) { fmt.Fprintf(ew, format, args...) }
+	d, c, ov := a.Discrimination, a.Calibration, a.Overall
+	cohortFile := ""
+	for _, in := range a.Provenance.Inputs {
+		if in.Role == "cohort" {
+			cohortFile = in.Path
+		}
+	}
+	p("Audit of %s on %s\n", a.Model.Name, cohortFile)
+	p("  patients    %d used of %d, %d %s (%s)\n", a.Cohort.Used, a.Cohort.Rows, a.Cohort.Events, plural(a.Cohort.Events, "event", "events"), pct(a.Cohort.EventRate))
+	p("  AUC         %s\n", withCI(d.AUC, d.CI, a.AUCCIReason()))
+	p("  O/E         %s\n", withCI(c.OE, c.OECI, ""))
+	p("  CITL        %s\n", withCI(c.CITL, c.CITLCI, ""))
+	p("  slope       %s\n", withCI(c.Slope, c.SlopeCI, ""))
+	p("  ICI         %s   E90 %s\n", f4(c.ICI), f4(c.E90))
+	p("  Brier       %s   scaled %s\n", f4(ov.Brier), f3(ov.ScaledBrier))
+	if a.Development != nil {
+		ap := a.Development.Apparent
+		p("  development AUC %s, O/E %s, slope %s\n", f3(ap.AUC), f3(ap.OE), f3(ap.Slope))
+	}
+	if v := a.Verdict; v != nil {
+		failed := 0
+		for _, cr := range v.Criteria {
+			if !cr.Passed {
+				failed++
+			}
+		}
+		p("  verdict     %s (%d of %d criteria not met)\n", v.Status, failed, len(v.Criteria))
+	}
+	p("Wrote %s, %s and %d figures\n", filepath.Join(dir, "report.md"), filepath.Join(dir, "audit.json"), nfig)
+	return ew.err
+}
+
+// withCI writes a measure with three decimals and its 95% interval, or
+// "not estimable" alone when the measure itself is not.
+func withCI(v float64, ci [2]float64, why string) string {
+	if !finite(v) {
+		return num(v, "%.3f")
+	}
+	return fmt.Sprintf("%.3f (95%% CI %s)", v, Interval(ci, "%.3f", why))
+}
