@@ -134,7 +134,7 @@ func TestDegenerateCohortsEndToEnd(t *testing.T) {
 			continue
 		}
 		out := filepath.Join(dir, "audit")
-		if err := audit.Write(out, res); err != nil {
+		if _, err := audit.Write(out, res, audit.WriteOptions{}); err != nil {
 			t.Errorf("%s: %v", c.name, err)
 			continue
 		}
