@@ -178,7 +178,7 @@ func TestFirthHessianMatchesDifferences(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			j, err := ev.firthHessian(tc.beta, st)
+			j, err := ev.firthHessian(st)
 			if err != nil {
 				t.Fatal(err)
 			}

@@ -211,7 +211,7 @@ func Fit(d Data, opt Options) (*Result, error) {
 		var solver string
 		newton := false
 		if opt.Firth {
-			if j, err := ev.firthHessian(beta, st); err == nil {
+			if j, err := ev.firthHessian(st); err == nil {
 				step, newton = newtonStep(j, st.score, opt.Fixed, p)
 				solver = "cholesky"
 			}
@@ -556,6 +556,9 @@ type state struct {
 	info     []float64
 	score    []float64
 	inv      []float64 // info⁻¹, for Firth
+	// mu and q hold, for Firth, each row's fitted risk and x'I⁻¹x (for
+	// the Hessian, which would otherwise recompute them).
+	mu, q []float64
 }
 
 type evaluator struct {
@@ -584,7 +587,11 @@ type chunk struct {
 // second pass with the inverse information.
 func (e *evaluator) eval(beta []float64, firth, withDerivs bool) (*state, error) {
 	p := e.d.P
-	parts := e.run(func(lo, hi int, c *chunk) { e.pass(beta, lo, hi, c, withDerivs) })
+	var mu []float64
+	if firth && withDerivs {
+		mu = make([]float64, e.d.N)
+	}
+	parts := e.run(func(lo, hi int, c *chunk) { e.pass(beta, lo, hi, c, withDerivs, mu) })
 	st := &state{info: make([]float64, p*p), score: make([]float64, p)}
 	for _, c := range parts {
 		st.deviance += c.dev
@@ -620,7 +627,8 @@ func (e *evaluator) eval(beta []float64, firth, withDerivs bool) (*state, error)
 		st.inv = inv
 		st.objective += hld
 		st.rounding += float64(p) * cond * epsilon / 2
-		adj := e.run(func(lo, hi int, c *chunk) { e.firthPass(beta, inv, lo, hi, c) })
+		st.mu, st.q = mu, make([]float64, e.d.N)
+		adj := e.run(func(lo, hi int, c *chunk) { e.firthPass(mu, inv, st.q, lo, hi, c) })
 		for _, c := range adj {
 			for j := range st.score {
 				st.score[j] += c.score[j]
@@ -683,11 +691,11 @@ const block = 256
 
 // pass accumulates the deviance and, if asked, the upper triangle of X'WX
 // and the score X'(w(y − μ)) over rows [lo, hi).
-func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool) {
+func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool, muOut []float64) {
 	d := e.d
 	p := d.P
 	if derivs && p <= 3 {
-		e.passSmall(beta, lo, hi, c)
+		e.passSmall(beta, lo, hi, c, muOut)
 		return
 	}
 	var xc, wx, rv []float64
@@ -741,6 +749,9 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool) {
 			continue
 		}
 		mu := expitFrom(z, eta)
+		if muOut != nil {
+			muOut[i] = mu
+		}
 		v := wt * mu * (1 - mu)
 		rv[nb] = wt * (y - mu)
 		for j, xj := range x {
@@ -760,7 +771,7 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool) {
 
 // passSmall is pass with derivatives for at most three columns, where
 // adding each row's products directly beats gathering blocks.
-func (e *evaluator) passSmall(beta []float64, lo, hi int, c *chunk) {
+func (e *evaluator) passSmall(beta []float64, lo, hi int, c *chunk, muOut []float64) {
 	d := e.d
 	p := d.P
 	var info [9]float64
@@ -795,6 +806,9 @@ func (e *evaluator) passSmall(beta []float64, lo, hi int, c *chunk) {
 			acc.addWeighted(wt, eta, y, z)
 		}
 		mu := expitFrom(z, eta)
+		if muOut != nil {
+			muOut[i] = mu
+		}
 		v := wt * mu * (1 - mu)
 		r := wt * (y - mu)
 		for j, xj := range x {
@@ -858,8 +872,9 @@ func expitFrom(z, eta float64) float64 {
 func (a *devSum) total() float64 { return 2 * (a.lin + math.Log(a.prod)) }
 
 // firthPass adds Firth's adjustment Σ w·h·(½ − μ)·x to the score, where
-// h = μ(1 − μ)·x' I⁻¹ x is the hat value of the row.
-func (e *evaluator) firthPass(beta, inv []float64, lo, hi int, c *chunk) {
+// h = μ(1 − μ)·q is the hat value of the row and q = x' I⁻¹ x, which it
+// writes into qOut; mu holds the rows' fitted risks, from pass.
+func (e *evaluator) firthPass(mu, inv, qOut []float64, lo, hi int, c *chunk) {
 	d := e.d
 	p := d.P
 	for i := lo; i < hi; i++ {
@@ -871,14 +886,6 @@ func (e *evaluator) firthPass(beta, inv []float64, lo, hi int, c *chunk) {
 			}
 		}
 		x := d.X[i*p : i*p+p]
-		eta := 0.0
-		if d.Offset != nil {
-			eta = d.Offset[i]
-		}
-		for j, b := range beta {
-			eta += x[j] * b
-		}
-		mu := Expit(eta)
 		q := 0.0
 		for j := 0; j < p; j++ {
 			s := 0.0
@@ -888,8 +895,9 @@ func (e *evaluator) firthPass(beta, inv []float64, lo, hi int, c *chunk) {
 			}
 			q += x[j] * s
 		}
-		h := mu * (1 - mu) * q
-		a := wt * h * (0.5 - mu)
+		qOut[i] = q
+		m := mu[i]
+		a := wt * m * (1 - m) * q * (0.5 - m)
 		for j := 0; j < p; j++ {
 			c.score[j] += a * x[j]
 		}
@@ -899,20 +907,20 @@ func (e *evaluator) firthPass(beta, inv []float64, lo, hi int, c *chunk) {
 // firthHessian returns J = −∇²ℓ*(β), the negated Hessian of Firth's
 // penalised log-likelihood ℓ* = ℓ + ½ log det I at the state st of beta
 // (which holds I = X'WX and I⁻¹), P×P row after row. With m the row's
-// weight, w = μ(1 − μ), w' = dw/dη = w(1 − 2μ), w” = d²w/dη² =
+// weight, w = μ(1 − μ), w' = dw/dη = w(1 − 2μ), w″ = d²w/dη² =
 // w(1 − 6w), q = x'I⁻¹x and M_r = Σ m·w'·x_r·xx' (= ∂I/∂β_r),
 //
-//	J = I − ½ Σ m·w''·q·xx' + ½ [tr(I⁻¹M_r I⁻¹M_s)]_rs,
+//	J = I − ½ Σ m·w″·q·xx' + ½ [tr(I⁻¹M_r I⁻¹M_s)]_rs,
 //
 // from ∂² ½ log det I = ½ tr(I⁻¹ ∂²I) − ½ tr(I⁻¹ ∂I I⁻¹ ∂I) (Magnus &
 // Neudecker 1999, Matrix Differential Calculus, ch. 8). It costs about
 // P³/6 multiply-adds per row, against P² for I.
-func (e *evaluator) firthHessian(beta []float64, st *state) ([]float64, error) {
-	if st.inv == nil {
-		return nil, errors.New("logistic: no inverse information for the Hessian")
+func (e *evaluator) firthHessian(st *state) ([]float64, error) {
+	if st.inv == nil || st.mu == nil {
+		return nil, errors.New("logistic: no Firth state for the Hessian")
 	}
 	p := e.d.P
-	parts := e.run(func(lo, hi int, c *chunk) { e.firthHessPass(beta, st.inv, lo, hi, c) })
+	parts := e.run(func(lo, hi int, c *chunk) { e.firthHessPass(st.mu, st.q, lo, hi, c) })
 	s2 := make([]float64, p*p)
 	t := make([]float64, p*p*p)
 	for _, c := range parts {
@@ -989,18 +997,19 @@ func sort3(a, b, c int) (int, int, int) {
 }
 
 // firthHessPass accumulates, over rows [lo, hi), the upper triangle of
-// Σ m·w”·q·xx' into c.s2 and Σ m·w'·x_r·x_a·x_b for r ≤ a ≤ b into
-// c.t (see firthHessian), gathering rows in blocks as pass does.
-func (e *evaluator) firthHessPass(beta, inv []float64, lo, hi int, c *chunk) {
+// Σ m·w″·q·xx' into c.s2 and Σ m·w'·x_r·x_a·x_b for r ≤ a ≤ b into
+// c.t (see firthHessian), gathering rows in blocks as pass does; mu and
+// q are the rows' fitted risks and x'I⁻¹x, from eval.
+func (e *evaluator) firthHessPass(mu, q []float64, lo, hi int, c *chunk) {
 	d := e.d
 	p := d.P
 	c.s2 = make([]float64, p*p)
 	c.t = make([]float64, p*p*p)
 	xc := make([]float64, p*block) // the block's X, column after column
 	w1 := make([]float64, block)   // m·w'
-	w2 := make([]float64, block)   // m·w''·q
+	w2 := make([]float64, block)   // m·w″·q
 	u1 := make([]float64, block)   // m·w'·x_r
-	u2 := make([]float64, block)   // m·w''·q·x_r
+	u2 := make([]float64, block)   // m·w″·q·x_r
 	u3 := make([]float64, block)   // m·w'·x_r·x_a
 	nb := 0
 	flush := func() {
@@ -1031,22 +1040,10 @@ func (e *evaluator) firthHessPass(beta, inv []float64, lo, hi int, c *chunk) {
 			}
 		}
 		x := d.X[i*p : i*p+p]
-		eta := 0.0
-		if d.Offset != nil {
-			eta = d.Offset[i]
-		}
-		for j, b := range beta {
-			eta += x[j] * b
-		}
-		mu := Expit(eta)
-		w := mu * (1 - mu)
-		q := 0.0
-		for j := 0; j < p; j++ {
-			row := inv[j*p : j*p+p]
-			q += x[j] * floats.Dot(row, x)
-		}
-		w1[nb] = wt * w * (1 - 2*mu)
-		w2[nb] = wt * w * (1 - 6*w) * q
+		m := mu[i]
+		w := m * (1 - m)
+		w1[nb] = wt * w * (1 - 2*m)
+		w2[nb] = wt * w * (1 - 6*w) * q[i]
 		for j, xj := range x {
 			xc[j*block+nb] = xj
 		}
