@@ -1,6 +1,8 @@
 package audit
 
 import (
+	"fmt"
+
 	"github.com/riskaudit/riskaudit/model"
 	"github.com/riskaudit/riskaudit/validate"
 )
@@ -19,7 +21,7 @@ func (c *Config) caseMix(spec *model.Spec, devSc, curSc *scored, devPerf, perf *
 		if err != nil {
 			return validate.MixInput{}, err
 		}
-		return validate.MixInput{Frame: fr, Rows: m.Rows, X: m.X, P: m.P, Y: m.Y, LP: lp}, nil
+		return validate.MixInput{Frame: fr, Rows: m.Rows, X: m.X, P: m.P, Y: m.Y, LP: lp, Terms: m.Terms}, nil
 	}
 	dev, err := side(devSc)
 	if err != nil {
@@ -33,9 +35,12 @@ func (c *Config) caseMix(spec *model.Spec, devSc, curSc *scored, devPerf, perf *
 	for _, r := range spec.Columns(false) {
 		cols = append(cols, r.Name)
 	}
+	// A membership model that cannot be fitted is reported inside the
+	// comparison (MembershipNote), never as an error: the case-mix step
+	// is optional evidence and does not stop the audit.
 	cm, err := validate.CompareCaseMix(dev, cur, cols, devPerf, perf)
 	if err != nil {
-		return nil, &model.FitError{Msg: err.Error(), Err: err}
+		return nil, fmt.Errorf("comparing case-mix: %w", err)
 	}
 	return cm, nil
 }

@@ -17,18 +17,30 @@ import (
 var Z975 = distuv.UnitNormal.Quantile(0.975)
 
 // TermStat is the fitted coefficient of one term with its Wald statistics
-// (for a Firth fit, P is the penalised likelihood-ratio test's).
+// (for a Firth fit, P is the penalised likelihood-ratio test's and the
+// intervals are profile penalised-likelihood intervals).
 type TermStat struct {
-	Term      string     `json:"term"`
-	Coef      float64    `json:"coef"`
-	SE        float64    `json:"se"`
-	Z         float64    `json:"z"`
-	P         float64    `json:"p"`
-	OddsRatio float64    `json:"odds_ratio"`
-	ORCI      [2]float64 `json:"or_ci"`
+	Term string  `json:"term"`
+	Coef float64 `json:"coef"`
+	SE   float64 `json:"se"`
+	Z    float64 `json:"z"`
+	P    float64 `json:"p"`
+	// OddsRatio is exp(Coef); it is +Inf (null in JSON) when Coef
+	// exceeds ln(MaxFloat64) ≈ 709.78, and then Notes says so.
+	OddsRatio float64 `json:"odds_ratio"`
+	// CoefCI is the 95% interval of Coef (the log odds ratio); ORCI is
+	// exp of it, whose ends can overflow where CoefCI's do not.
+	CoefCI [2]float64 `json:"coef_ci"`
+	ORCI   [2]float64 `json:"or_ci"`
 	// PLRChi2 is the penalised likelihood-ratio statistic of a Firth fit,
 	// whose P it gives.
 	PLRChi2 float64 `json:"plr_chi2,omitempty"`
+	// Notes say, for each value of this term that is NaN or infinite
+	// (null in JSON), which it is and why: a refit that failed, an
+	// interval end that could not be found, an odds ratio beyond the
+	// floating-point range. Each note starts with the JSON key it
+	// explains ("p: ", "or_ci: ", …).
+	Notes []string `json:"notes,omitempty"`
 }
 
 // FitStats are the statistics of a fitted model. The JSON keys are a
@@ -58,6 +70,12 @@ type FitStats struct {
 	// CIMethod names how the odds ratios' intervals were computed: CIWald,
 	// or CIProfilePenalised for a Firth fit.
 	CIMethod string `json:"ci_method"`
+	// Convergence states the criteria the iterations met.
+	Convergence string `json:"convergence"`
+	// Notes say which fit-level statistics could not be computed (NaN, or
+	// null in JSON) and why, such as a Hosmer–Lemeshow test on too few
+	// distinct risks. Each note starts with the JSON key it explains.
+	Notes []string `json:"notes,omitempty"`
 }
 
 // FitSchema names the layout of a FitReport.
@@ -150,7 +168,30 @@ func Fit(d *Design, m *Matrix, opt FitOptions) (*Fitted, error) {
 	if opt.Firth && m.N <= ProfileRows {
 		penalisedLRTests(m, res, opt, &f.Stats)
 	}
+	noteOverflow(&f.Stats)
 	return f, nil
+}
+
+// Convergence is the rule every fit's iterations met (logistic.Options'
+// defaults), as FitStats.Convergence states it.
+const Convergence = "|ΔD|/(|D| + 0.1) < 1e-11 and max|Δβ| < 1e-7 on the last step, D the deviance (for Firth: the penalised deviance −2ℓ*)"
+
+// noteOverflow notes the odds ratios and interval ends that exp turned
+// into +Inf or 0 although they are finite on the log scale (coefficients
+// beyond ±709.78).
+func noteOverflow(st *FitStats) {
+	for j := range st.Terms {
+		t := &st.Terms[j]
+		if math.IsInf(t.OddsRatio, 1) && !math.IsInf(t.Coef, 0) {
+			t.Notes = append(t.Notes, fmt.Sprintf("odds_ratio: exp(%.6g) exceeds the largest float64 (about 1.8e308); the coefficient is the log odds ratio", t.Coef))
+		}
+		for k, side := range []string{"lower", "upper"} {
+			c := t.CoefCI[k]
+			if !math.IsNaN(c) && !math.IsInf(c, 0) && (math.IsInf(t.ORCI[k], 1) || t.ORCI[k] == 0) {
+				t.Notes = append(t.Notes, fmt.Sprintf("or_ci: the %s end, exp(%.6g), is beyond the float64 range; coef_ci holds it on the log scale", side, c))
+			}
+		}
+	}
 }
 
 // ProfileRows is the most rows for which a Firth fit gets penalised
@@ -179,109 +220,232 @@ const (
 // Firth's method with that coefficient held at 0 (the penalty still using
 // the information of every column) and 2·(ℓ*(β̂) − ℓ*(β̂₀)) is referred to
 // χ² on 1 df. Wald p-values are unreliable exactly where Firth's method
-// is used, when the data nearly separate. A refit that fails leaves NaN.
+// is used, when the data nearly separate. The refit starts from the
+// estimate and from the intercept-only start, keeping the higher maximum;
+// a test whose refit fails both ways is NaN with a note giving the
+// error, and so is an interval end that profileBound cannot find.
 func penalisedLRTests(m *Matrix, res *logistic.Result, opt FitOptions, st *FitStats) {
 	st.PMethod = PPenalisedLR
 	data := logistic.Data{X: m.X, N: m.N, P: m.P, Y: m.Y}
 	for j := range st.Terms {
+		t := &st.Terms[j]
 		start := append([]float64(nil), res.Coef...)
 		start[j] = 0
 		fixed := make([]bool, m.P)
 		fixed[j] = true
-		r, err := logistic.Fit(data, logistic.Options{Firth: true, Start: start, Fixed: fixed, Workers: opt.Workers})
+		// From the estimate and from the intercept-only start (nil), the
+		// higher maximum (see profileBound).
+		r, err := bestFixedFit(data, fixed, opt.Workers, start, nil)
 		if err != nil {
-			st.Terms[j].P, st.Terms[j].PLRChi2 = math.NaN(), math.NaN()
+			t.P, t.PLRChi2 = math.NaN(), math.NaN()
+			t.Notes = append(t.Notes, fmt.Sprintf("p, plr_chi2: not computed: the refit with %s held at 0 failed (%v)", t.Term, err))
 			continue
 		}
 		chi2 := math.Max(0, 2*(res.PenalizedLogLik-r.PenalizedLogLik))
-		st.Terms[j].PLRChi2 = chi2
-		st.Terms[j].P = ChiSquareP(chi2, 1)
+		t.PLRChi2 = chi2
+		t.P = ChiSquareP(chi2, 1)
 	}
 	st.CIMethod = CIProfilePenalised
 	for j := range st.Terms {
-		lo := profileBound(data, res, j, -1, opt.Workers)
-		hi := profileBound(data, res, j, +1, opt.Workers)
-		st.Terms[j].ORCI = [2]float64{math.Exp(lo), math.Exp(hi)}
+		t := &st.Terms[j]
+		var why [2]string
+		t.CoefCI[0], why[0] = profileBound(data, res, j, -1, opt.Workers)
+		t.CoefCI[1], why[1] = profileBound(data, res, j, +1, opt.Workers)
+		t.ORCI = [2]float64{math.Exp(t.CoefCI[0]), math.Exp(t.CoefCI[1])}
+		for k, side := range []string{"lower", "upper"} {
+			switch {
+			case why[k] == "":
+			case math.IsNaN(t.CoefCI[k]) || math.IsInf(t.CoefCI[k], 0):
+				t.Notes = append(t.Notes, fmt.Sprintf("coef_ci, or_ci: the %s end was not found: %s", side, why[k]))
+			default:
+				t.Notes = append(t.Notes, fmt.Sprintf("coef_ci, or_ci: the %s end %s", side, why[k]))
+			}
+		}
 	}
+}
+
+// profileMaxIter bounds the iterations of each refit behind a penalised
+// likelihood-ratio test or a profile interval: far from the estimate the
+// penalised likelihood need not be concave, and the fallback steps there
+// converge linearly (our choice).
+const profileMaxIter = 200
+
+// bestFixedFit refits data by Firth's method with the coefficients marked
+// in fixed held at their values in each start (the fixed values must
+// agree; a nil start is the default one, all zero but the intercept), and
+// returns the fit with the highest penalised log-likelihood, or the
+// first error when every start fails.
+func bestFixedFit(data logistic.Data, fixed []bool, workers int, starts ...[]float64) (*logistic.Result, error) {
+	var best *logistic.Result
+	var first error
+	for _, s := range starts {
+		r, err := logistic.Fit(data, logistic.Options{Firth: true, Start: s, Fixed: fixed, MaxIter: profileMaxIter, Workers: workers})
+		if err != nil {
+			if first == nil {
+				first = err
+			}
+			continue
+		}
+		if best == nil || r.PenalizedLogLik > best.PenalizedLogLik {
+			best = r
+		}
+	}
+	if best == nil {
+		return nil, first
+	}
+	return best, nil
+}
+
+// profilePoint is a constrained maximum of the penalised likelihood, with
+// coefficient j held at b.
+type profilePoint struct {
+	b, pl float64
+	coef  []float64
 }
 
 // profileBound is one end of the 95% profile penalised-likelihood
 // interval of coefficient j (Heinze & Schemper 2002): the value b on side
 // dir of the estimate where 2·(ℓ*(β̂) − max ℓ* with β_j = b) reaches
-// χ²₁(0.95). It brackets the crossing by steps of one SE, doubling, then
-// narrows the bracket by the Illinois method to 1e-9 of the SE. A side that never crosses within 2⁴⁰ SEs (or
-// a refit that fails) gives ±Inf or NaN.
-func profileBound(data logistic.Data, res *logistic.Result, j int, dir float64, workers int) float64 {
+// χ²₁(0.95). With β_j held far out the penalised likelihood need not be
+// concave and can have several local maxima in the other coefficients
+// (on sixty invented rows completely separated by three of six terms,
+// two of the fourteen interval ends meet another local maximum above the
+// threshold), so the end follows one well-defined branch of constrained
+// maxima, the one through the estimate, followed outward in steps of a
+// quarter SE that grow by a quarter each time (steps of one SE, doubling,
+// jumped between branches on those rows); each refit starts on the
+// straight line through the two nearest constrained maxima already found
+// (under separation the other coefficients grow in proportion). The
+// crossing is bracketed by the last step and the bracket narrowed by the
+// Illinois method to 1e-9 of the SE. A
+// refit that fails halves the outward step, up to 30 times. When the
+// crossing cannot be found the end is ±Inf (no crossing within 2⁴⁰ SEs)
+// or NaN (refits failed); the second result gives the reason, or says
+// that refits from the estimate's other coefficients, moved or scaled to
+// the end, reach a higher local maximum above the threshold there, so
+// that the interval may reach further.
+func profileBound(data logistic.Data, res *logistic.Result, j int, dir float64, workers int) (float64, string) {
 	target := res.PenalizedLogLik - chiSquare95/2
 	fixed := make([]bool, data.P)
 	fixed[j] = true
-	start := append([]float64(nil), res.Coef...)
-	pl := func(b float64) (float64, bool) {
-		start[j] = b
-		r, err := logistic.Fit(data, logistic.Options{Firth: true, Start: start, Fixed: fixed, Workers: workers})
-		if err != nil {
-			return 0, false
+	// refit maximises ℓ* with β_j = b from a start on the line through a
+	// and c (at c when a is nil), or failing that at c.
+	refit := func(b float64, a, c *profilePoint) (*profilePoint, error) {
+		line := make([]float64, data.P)
+		for k := range line {
+			line[k] = c.coef[k]
+			if a != nil && a.b != c.b {
+				line[k] += (c.coef[k] - a.coef[k]) * (b - c.b) / (c.b - a.b)
+			}
 		}
-		copy(start, r.Coef) // a warm start for the next value
-		return r.PenalizedLogLik, true
+		line[j] = b
+		at := append([]float64(nil), c.coef...)
+		at[j] = b
+		starts := [][]float64{line, at}
+		if a == nil {
+			starts = starts[1:]
+		}
+		var r *logistic.Result
+		var err error
+		for _, start := range starts {
+			if r, err = logistic.Fit(data, logistic.Options{Firth: true, Start: start, Fixed: fixed, MaxIter: profileMaxIter, Workers: workers}); err == nil {
+				break
+			}
+		}
+		if err != nil {
+			return nil, err
+		}
+		return &profilePoint{b: b, pl: r.PenalizedLogLik, coef: r.Coef}, nil
 	}
 	b0, se := res.Coef[j], res.SE[j]
-	if !(se > 0) {
-		return math.NaN()
+	if !(se > 0) || math.IsInf(se, 0) {
+		return math.NaN(), fmt.Sprintf("the Wald SE that scales the search is %g", se)
 	}
-	inside, outside := b0, b0
-	for k := 0; ; k++ {
-		if k == 40 {
-			return dir * math.Inf(1)
+	est := &profilePoint{b: b0, pl: res.PenalizedLogLik, coef: res.Coef}
+	var prev *profilePoint
+	in, out := est, (*profilePoint)(nil)
+	step := se / 4
+	failures := 0
+	var lastErr error
+	for out == nil {
+		if math.Abs(in.b+dir*step-b0) > math.Ldexp(se, 40) {
+			return dir * math.Inf(1), fmt.Sprintf("the penalised log-likelihood does not fall by χ²₁(0.95)/2 within 2⁴⁰ SEs of the estimate (%.6g)", in.b)
 		}
-		outside = b0 + dir*se*math.Ldexp(1, k)
-		v, ok := pl(outside)
-		if !ok {
-			return math.NaN()
+		pt, err := refit(in.b+dir*step, prev, in)
+		if err != nil {
+			if failures++; failures > 30 {
+				return math.NaN(), fmt.Sprintf("the refits with the coefficient held beyond %.6g failed (%v)", in.b, lastErr)
+			}
+			lastErr = err
+			step /= 2
+			continue
 		}
-		if v < target {
+		if pt.pl < target {
+			out = pt
 			break
 		}
-		inside = outside
+		prev, in = in, pt
+		step *= 1.25
 	}
 	// The Illinois variant of regula falsi on g(b) = ℓ*(b) − target,
 	// positive inside and negative outside.
-	gIn, ok := pl(inside)
-	if !ok {
-		return math.NaN()
-	}
-	gIn -= target
-	gOut, _ := pl(outside)
-	gOut -= target
+	gIn, gOut := in.pl-target, out.pl-target
 	side := 0
-	for it := 0; it < 200 && math.Abs(outside-inside) > 1e-9*se; it++ {
-		b := outside - gOut*(outside-inside)/(gOut-gIn)
-		if !(math.Min(inside, outside) < b && b < math.Max(inside, outside)) {
-			b = (inside + outside) / 2
+	for it := 0; it < 200 && math.Abs(out.b-in.b) > 1e-9*se; it++ {
+		b := out.b - gOut*(out.b-in.b)/(gOut-gIn)
+		if !(math.Min(in.b, out.b) < b && b < math.Max(in.b, out.b)) {
+			b = (in.b + out.b) / 2
 		}
-		v, ok := pl(b)
-		if !ok {
-			return math.NaN()
+		pt, err := refit(b, in, out)
+		if err != nil {
+			return math.NaN(), fmt.Sprintf("the refit with the coefficient held at %.6g failed (%v)", b, err)
 		}
-		v -= target
+		v := pt.pl - target
 		if v == 0 {
-			return b
+			return b, otherMaximum(data, res, j, b, target, fixed, workers)
 		}
 		if v < 0 {
-			outside, gOut = b, v
+			out, gOut = pt, v
 			if side == -1 {
 				gIn /= 2
 			}
 			side = -1
 		} else {
-			inside, gIn = b, v
+			in, gIn = pt, v
 			if side == +1 {
 				gOut /= 2
 			}
 			side = +1
 		}
 	}
-	return (inside + outside) / 2
+	b := (in.b + out.b) / 2
+	return b, otherMaximum(data, res, j, b, target, fixed, workers)
+}
+
+// otherMaximum refits with β_j held at the interval end b from the
+// estimate's other coefficients as they are, scaled by b/β̂_j and at 0, and
+// returns a note when either reaches a local maximum above target (by
+// more than 1e-6 relative), where the branch through the estimate has
+// already fallen to it; otherwise "".
+func otherMaximum(data logistic.Data, res *logistic.Result, j int, b, target float64, fixed []bool, workers int) string {
+	moved := append([]float64(nil), res.Coef...)
+	moved[j] = b
+	zero := make([]float64, data.P)
+	zero[j] = b
+	starts := [][]float64{moved, zero}
+	if bj := res.Coef[j]; bj != 0 {
+		scaled := append([]float64(nil), res.Coef...)
+		for k := range scaled {
+			scaled[k] *= b / bj
+		}
+		scaled[j] = b
+		starts = append(starts, scaled)
+	}
+	r, err := bestFixedFit(data, fixed, workers, starts...)
+	if err != nil || r.PenalizedLogLik <= target+1e-6*(1+math.Abs(target)) {
+		return ""
+	}
+	return fmt.Sprintf("is where the branch of constrained maxima through the estimate reaches the threshold; with the coefficient held at %.6g the penalised likelihood has another local maximum above it (%.4g higher), so the profile interval may reach further", b, r.PenalizedLogLik-target)
 }
 
 // chiSquare95 is the 0.95 quantile of χ² on 1 df, 1.959963984540054².
@@ -333,13 +497,15 @@ func stats(m *Matrix, res *logistic.Result, opt FitOptions) FitStats {
 		method = "Firth penalised likelihood"
 	}
 	st := FitStats{Method: method, PMethod: PWald, CIMethod: CIWald, N: m.N, Events: m.Events(), Neg2LL: res.Deviance,
-		Iterations: res.Iterations, RowsRead: m.Total, Excluded: m.Excluded, ByColumn: m.ByColumn, Solver: res.Solver}
+		Iterations: res.Iterations, RowsRead: m.Total, Excluded: m.Excluded, ByColumn: m.ByColumn, Solver: res.Solver,
+		Convergence: Convergence}
 	for j, t := range m.Terms {
 		b, se := res.Coef[j], res.SE[j]
 		z := b / se
+		ci := [2]float64{b - Z975*se, b + Z975*se}
 		st.Terms = append(st.Terms, TermStat{
 			Term: t, Coef: b, SE: se, Z: z, P: TwoSidedP(z),
-			OddsRatio: math.Exp(b), ORCI: [2]float64{math.Exp(b - Z975*se), math.Exp(b + Z975*se)},
+			OddsRatio: math.Exp(b), CoefCI: ci, ORCI: [2]float64{math.Exp(ci[0]), math.Exp(ci[1])},
 		})
 	}
 	st.NullNeg2LL = NullDeviance(m.Y, nil)
@@ -358,7 +524,33 @@ func stats(m *Matrix, res *logistic.Result, opt FitOptions) FitStats {
 	}
 	p := Predict(m, res.Coef, nil)
 	st.HL = metrics.HosmerLemeshow(metrics.SortByRisk(m.Y, p), groups, true)
+	if note := hlNote(st.HL); note != "" {
+		st.Notes = append(st.Notes, note)
+	}
 	return st
+}
+
+// hlNote says why a Hosmer–Lemeshow test on the fitting data has no
+// statistic or no p-value, or is "" when it has both: too few groups of
+// distinct risks for a degree of freedom (groups − 2 < 1), or groups
+// whose risks are all 0 or all 1 to double precision, where the group's
+// variance E(1 − E/n) is 0 and its term 0/0 or x/0.
+func hlNote(hl metrics.HosmerLemeshowTest) string {
+	degenerate := 0
+	for _, g := range hl.Table {
+		if g.Expected == 0 || g.Expected == float64(g.N) {
+			degenerate++
+		}
+	}
+	switch {
+	case degenerate > 0 && (math.IsNaN(hl.Statistic) || math.IsInf(hl.Statistic, 0)):
+		return fmt.Sprintf("hosmer_lemeshow: not computed: in %d of the %d risk groups every predicted risk is 0 or 1 to double precision (the fit nearly separates the outcome), so the group's variance is 0", degenerate, hl.Groups)
+	case hl.DF < 1:
+		return fmt.Sprintf("hosmer_lemeshow: not computed: the predicted risks have too few distinct values for more than %d risk groups, which leave %d degrees of freedom", hl.Groups, hl.DF)
+	case math.IsNaN(hl.Statistic) || math.IsNaN(hl.P):
+		return "hosmer_lemeshow: not computed: the statistic is not a number"
+	}
+	return ""
 }
 
 // Predict returns the predicted risks expit(Xβ) of the matrix rows, into

@@ -2,6 +2,7 @@ package model
 
 import (
 	"bytes"
+	"errors"
 	"fmt"
 	"math"
 	"strconv"
@@ -14,13 +15,132 @@ import (
 
 // FrozenLinearPredictors returns the linear predictor of every matrix
 // row under the frozen spec's coefficients (Coefficients, then
-// LinearPredictors).
+// LinearPredictors). A linear predictor that is not finite — a
+// coefficient times a value beyond ±MaxFloat64, a sum of such products
+// that overflows, or infinite products of opposite signs (∞ − ∞) — is
+// the model's doing, not the data's: it is a *SpecError of kind
+// ErrLPOverflow naming the term and the first such row, with an
+// *LPOverflowError as Err. A finite linear predictor, however large, is
+// kept (its risk rounds to 0 or 1, which the calibration fits clamp).
 func (d *Design) FrozenLinearPredictors(m *Matrix) ([]float64, error) {
 	beta, err := d.Coefficients()
 	if err != nil {
 		return nil, err
 	}
-	return d.LinearPredictors(m, beta)
+	lp, err := d.LinearPredictors(m, beta)
+	if err != nil {
+		return nil, err
+	}
+	for r, v := range lp {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, d.overflow(m, beta, r, v)
+		}
+	}
+	return lp, nil
+}
+
+// ErrLPOverflow is the kind of the *SpecError for a frozen model whose
+// linear predictor is not finite for some row (FrozenLinearPredictors).
+var ErrLPOverflow = errors.New("model: the linear predictor overflows")
+
+// LPOverflowError says why the frozen model's linear predictor of one
+// data row is not a finite number.
+type LPOverflowError struct {
+	// Data is the data file; Line its line holding the row (a row number
+	// when Row is set, for a columnar file).
+	Data string
+	Line int
+	Row  bool
+	// Term is the term responsible: the first whose coefficient times
+	// value is infinite, or, when every product is finite, the one of
+	// largest magnitude; Coef and Value are its coefficient and value,
+	// Product their product.
+	Term                 string
+	Coef, Value, Product float64
+	// Column and Raw are the data column and its value in the row when
+	// the term is a transform (center, scale, log, powers, spline) of a
+	// single numeric column whose value differs from Value; Column is ""
+	// otherwise.
+	Column string
+	Raw    float64
+	// Opposite, when not "", is a term whose product is infinite with the
+	// opposite sign, so that the sum is ∞ − ∞ (NaN).
+	Opposite string
+	// LP is the linear predictor: ±Inf or NaN.
+	LP float64
+}
+
+// Error says which term made the row's linear predictor overflow.
+func (e *LPOverflowError) Error() string {
+	where := fmt.Sprintf("line %d", e.Line)
+	if e.Row {
+		where = fmt.Sprintf("row %d", e.Line)
+	}
+	value := fmt.Sprintf("%g", e.Value)
+	if e.Column != "" {
+		value += fmt.Sprintf(" (from %s = %g in the data)", e.Column, e.Raw)
+	}
+	s := fmt.Sprintf("the model's linear predictor overflowed on %s of %s: term %s, coefficient %g × value %s = %g", where, e.Data, e.Term, e.Coef, value, e.Product)
+	switch {
+	case e.Opposite != "":
+		s += fmt.Sprintf(", against an infinite product of the opposite sign from term %s, gives ∞ − ∞", e.Opposite)
+	case !math.IsInf(e.Product, 0):
+		s += fmt.Sprintf(", the largest of the products whose sum, %g, exceeds the floating-point range", e.LP)
+	default:
+		s += fmt.Sprintf(" makes the linear predictor %g", e.LP)
+	}
+	return s + "; the model's coefficients cannot be applied to this value (check their scale, or the predictor's center and scale)"
+}
+
+// overflow explains the non-finite linear predictor lp of matrix row r.
+func (d *Design) overflow(m *Matrix, beta []float64, r int, lp float64) error {
+	x := make([]float64, m.P)
+	i := m.Rows[r]
+	if m.X != nil {
+		copy(x, m.X[r*m.P:(r+1)*m.P])
+	} else if err := d.row(i, x); err != nil {
+		return err
+	}
+	e := &LPOverflowError{Data: d.frame.File, Line: d.frame.Line(i), Row: d.frame.RowNumbered, LP: lp}
+	worst, first := -1, -1
+	for j, b := range beta {
+		v := b * x[j]
+		if math.IsInf(v, 0) {
+			if first < 0 {
+				first = j
+			} else if e.Opposite == "" && math.Signbit(v) != math.Signbit(beta[first]*x[first]) {
+				e.Opposite = d.Terms[j]
+			}
+		}
+		if worst < 0 || math.Abs(v) > math.Abs(beta[worst]*x[worst]) {
+			worst = j
+		}
+	}
+	k := worst
+	if first >= 0 {
+		k = first
+	}
+	e.Term, e.Coef, e.Value, e.Product = d.Terms[k], beta[k], x[k], beta[k]*x[k]
+	line := 0
+	if en := d.termEntry(k); en != nil {
+		line = en.pred.Line
+		if en.kind != categorical && en.kind != product && en.col != nil && en.col.Num[i] != x[k] {
+			e.Column, e.Raw = en.col.Name, en.col.Num[i]
+		}
+	}
+	return &SpecError{File: d.Spec.File, Line: line, Msg: e.Error(), Kind: ErrLPOverflow, Err: e}
+}
+
+// termEntry returns the entry that holds term k (nil for the
+// intercept).
+func (d *Design) termEntry(k int) *entry {
+	for i := range d.entries {
+		e := &d.entries[i]
+		if k >= e.offset && k < e.offset+len(e.labels) {
+			return e
+		}
+	}
+	return nil
 }
 
 // Coefficients returns the frozen spec's coefficients in the design's term

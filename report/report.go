@@ -497,13 +497,23 @@ func (r *renderer) caseMix() {
 	if cm == nil {
 		return
 	}
-	r.p("## Case-mix: development data against this cohort\n\n%s\n\n", cm.Interpretation)
+	r.p("## Case-mix: development data against this cohort\n\n%s\n\n", Escape(cm.Interpretation))
+	diff := func(v float64) string {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return "not defined"
+		}
+		return fmt.Sprintf("%+.2f", v)
+	}
 	t := table{head: []string{"predictor", "development", "this cohort", "standardised difference", "missing (dev / new)"}}
+	var notes []string
 	for _, pm := range cm.Predictors {
+		if pm.Note != "" {
+			notes = append(notes, code(pm.Column)+": "+Escape(pm.Note)+".")
+		}
 		miss := fmt.Sprintf("%.1f%% / %.1f%%", 100*pm.DevMissing, 100*pm.NewMissing)
 		if pm.Kind == "numeric" {
 			t.add(code(pm.Column), fmt.Sprintf("%.3g (SD %.3g)", pm.Dev[0], pm.Dev[1]), fmt.Sprintf("%.3g (SD %.3g)", pm.New[0], pm.New[1]),
-				fmt.Sprintf("%+.2f", pm.StdDiff[0]), miss)
+				diff(pm.StdDiff[0]), miss)
 			continue
 		}
 		for j, l := range pm.Levels {
@@ -511,11 +521,33 @@ func (r *renderer) caseMix() {
 			if j == 0 {
 				m = miss
 			}
-			t.add(code(pm.Column)+" = "+code(l), pct(pm.Dev[j]), pct(pm.New[j]), fmt.Sprintf("%+.2f", pm.StdDiff[j]), m)
+			t.add(code(pm.Column)+" = "+code(l), pct(pm.Dev[j]), pct(pm.New[j]), diff(pm.StdDiff[j]), m)
 		}
 	}
 	t.write(r.w)
-	r.p("Standardised differences (Austin 2009) of 0.1 or more in absolute value are commonly taken as a meaningful imbalance. The membership model (Debray et al. 2015) is a logistic regression of cohort membership on the model's terms and the outcome; its c-statistic, %.3f, summarises how different the two populations are.\n\n", cm.MembershipC)
+	for _, n := range notes {
+		r.p("- %s\n", n)
+	}
+	if len(notes) > 0 {
+		r.p("\n")
+	}
+	r.p("Standardised differences (Austin 2009) of 0.1 or more in absolute value are commonly taken as a meaningful imbalance. The membership model (Debray et al. 2015) is a logistic regression of cohort membership on the model's terms and the outcome; ")
+	if math.IsNaN(cm.MembershipC) {
+		r.p("here it could not be fitted (%s), so its c-statistic is not available.\n\n", Escape(cm.MembershipNote))
+	} else {
+		r.p("its c-statistic, %.3f, summarises how different the two populations are.", cm.MembershipC)
+		if cm.MembershipNote != "" {
+			r.p(" Here %s.", Escape(cm.MembershipNote))
+		}
+		r.p("\n\n")
+	}
+	if len(cm.MembershipDropped) > 0 {
+		r.p("Terms left out of the membership model, which could not estimate them beside the others:\n\n")
+		for _, d := range cm.MembershipDropped {
+			r.p("- %s: %s.\n", code(d.Term), Escape(d.Reason))
+		}
+		r.p("\n")
+	}
 	r.figure("casemix_lp.svg")
 	r.figure("casemix_differences.svg")
 }

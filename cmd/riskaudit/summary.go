@@ -50,7 +50,8 @@ func writeFitSummary(w io.Writer, r *audit.FitResult, o *fitOptions) {
 	if st.Iterations == 1 {
 		steps = "step"
 	}
-	fmt.Fprintf(w, "  method      %s, %d Newton %s\n\n", st.Method, st.Iterations, steps)
+	fmt.Fprintf(w, "  method      %s, %d Newton %s\n", st.Method, st.Iterations, steps)
+	fmt.Fprintf(w, "  converged   %s\n\n", st.Convergence)
 
 	width := len("term")
 	for _, t := range st.Terms {
@@ -59,8 +60,13 @@ func writeFitSummary(w io.Writer, r *audit.FitResult, o *fitOptions) {
 	fmt.Fprintf(w, "  %-*s  %10s  %9s  %7s  %8s  %10s  %s\n", width, "term", "coef", "SE", "z", "p", "odds ratio", "95% CI")
 	for _, t := range st.Terms {
 		pad := width - len([]rune(t.Term)) + len(t.Term)
-		fmt.Fprintf(w, "  %-*s  %10s  %9s  %7.2f  %8s  %10s  %s – %s\n", pad, t.Term, fmtG(t.Coef), fmtG(t.SE), t.Z, report.FormatP(t.P),
-			fmtG(t.OddsRatio), fmtG(t.ORCI[0]), fmtG(t.ORCI[1]))
+		fmt.Fprintf(w, "  %-*s  %10s  %9s  %7.2f  %8s  %10s  %s – %s\n", pad, t.Term, fmtG(t.Coef), fmtG(t.SE), t.Z, fmtFitP(t.P),
+			fmtOR(t.OddsRatio, t.Coef), fmtOREnd(t.ORCI[0], t.CoefCI[0]), fmtOREnd(t.ORCI[1], t.CoefCI[1]))
+	}
+	for _, t := range st.Terms {
+		for _, n := range t.Notes {
+			fmt.Fprintf(w, "  note: %s: %s\n", t.Term, n)
+		}
 	}
 	if st.PMethod == model.PPenalisedLR {
 		fmt.Fprintf(w, "  p: %s tests; intervals: %s; SE and z are Wald\n", model.PPenalisedLR, model.CIProfilePenalised)
@@ -69,7 +75,14 @@ func writeFitSummary(w io.Writer, r *audit.FitResult, o *fitOptions) {
 	fmt.Fprintf(w, "  −2 log-likelihood   %.3f (intercept only %.3f)\n", st.Neg2LL, st.NullNeg2LL)
 	fmt.Fprintf(w, "  likelihood ratio    χ² %.3f on %d df, p %s\n", st.LRChi2, st.LRDF, report.FormatP(st.LRP))
 	fmt.Fprintf(w, "  AIC %.3f   BIC %.3f   Nagelkerke R² %.4f\n", st.AIC, st.BIC, st.NagelkerkeR2)
-	fmt.Fprintf(w, "  Hosmer–Lemeshow     %.3f on %d df, p %s (%d risk groups)\n", st.HL.Statistic, st.HL.DF, report.FormatP(st.HL.P), st.HL.Groups)
+	if math.IsNaN(st.HL.Statistic) || math.IsInf(st.HL.Statistic, 0) || math.IsNaN(st.HL.P) {
+		fmt.Fprintf(w, "  Hosmer–Lemeshow     not computed (%d risk groups)\n", st.HL.Groups)
+	} else {
+		fmt.Fprintf(w, "  Hosmer–Lemeshow     %.3f on %d df, p %s (%d risk groups)\n", st.HL.Statistic, st.HL.DF, report.FormatP(st.HL.P), st.HL.Groups)
+	}
+	for _, n := range st.Notes {
+		fmt.Fprintf(w, "  note: %s\n", n)
+	}
 	if n := r.Report.Nested; n != nil {
 		fmt.Fprintf(w, "\n  Nested comparison with %s, on the same %d rows\n", o.reduced, n.Rows)
 		fmt.Fprintf(w, "    added terms        %s\n", strings.Join(n.Added, ", "))
@@ -81,6 +94,37 @@ func writeFitSummary(w io.Writer, r *audit.FitResult, o *fitOptions) {
 		fmt.Fprintf(w, " and %s", o.jsonOut)
 	}
 	fmt.Fprintln(w)
+}
+
+// fmtFitP is a fit's p-value, or "not computed" when there is none (a
+// note says why).
+func fmtFitP(p float64) string {
+	if math.IsNaN(p) {
+		return "not computed"
+	}
+	return report.FormatP(p)
+}
+
+// fmtOR is an odds ratio exp(coef), written as exp(coef) when it is
+// beyond the float64 range.
+func fmtOR(or, coef float64) string {
+	if (math.IsInf(or, 1) || or == 0) && !math.IsInf(coef, 0) && !math.IsNaN(coef) {
+		return fmt.Sprintf("exp(%.5g)", coef)
+	}
+	return fmtG(or)
+}
+
+// fmtOREnd is one end of an odds ratio's interval: exp(c) beyond the
+// float64 range, "unbounded" when the end is infinite on the log scale
+// too, "not found" when it could not be computed (a note says why).
+func fmtOREnd(or, c float64) string {
+	switch {
+	case math.IsNaN(c):
+		return "not found"
+	case math.IsInf(c, 0):
+		return "unbounded"
+	}
+	return fmtOR(or, c)
 }
 
 // describeExclusions lists the columns behind left-out rows.

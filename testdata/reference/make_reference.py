@@ -67,6 +67,12 @@ def load_csv(name):
     return rows
 
 
+def load_rows(path):
+    import csv
+    with open(path) as f:
+        return list(csv.DictReader(f))
+
+
 def rcs(x, knots, norm=True):
     """Restricted cubic spline basis (Durrleman & Simon 1989), written out
     from the paper's truncated-power formula; columns x, x', x'', ..."""
@@ -135,14 +141,36 @@ def fit(name, X, y, terms):
     return out, res
 
 
-def firth_fit(X, y, fixed=None):
+def firth_fit(X, y, fixed=None, starts=None):
     """Maximises Firth's penalised log-likelihood ll + 1/2 log det X'WX
     over the coefficients not in fixed, a map from index to the value it is
     held at (the penalty still uses every column). Returns the estimate and
-    the penalised log-likelihood."""
+    the penalised log-likelihood. The penalised likelihood need not be
+    concave, and with a coefficient held far from its estimate it can have
+    two local maxima in the others, so the maximisation runs from each of
+    starts (full coefficient vectors; default: zero) and keeps the
+    highest (a start from which the information matrix becomes singular
+    is passed over)."""
+    p = X.shape[1]
+    best = None
+    for start in (starts if starts is not None else [np.zeros(p)]):
+        try:
+            b, pl = firth_fit_from(X, y, fixed or {}, np.asarray(start, float))
+        except np.linalg.LinAlgError:
+            continue  # a start from which the information became singular
+        if np.isfinite(pl) and (best is None or pl > best[1]):
+            best = (b, pl)
+    return best
+
+
+def firth_fit_from(X, y, fixed, start, climb_only=False):
+    """firth_fit from one start: the better of two local searches, BFGS
+    then modified-score steps, and modified-score steps alone, which with
+    their step halving climb monotonically to the maximum whose basin
+    holds the start (BFGS's line search can leave it); with climb_only,
+    the climb alone."""
     import scipy.optimize
     p = X.shape[1]
-    fixed = fixed or {}
     free = [j for j in range(p) if j not in fixed]
 
     def negpen(b):
@@ -159,30 +187,53 @@ def firth_fit(X, y, fixed=None):
         b[free] = bf
         return b
 
-    bf = np.zeros(len(free))
+    def polish(b):
+        # Modified-score steps I^-1 X'(y - mu + h(1/2 - mu)) (Firth 1993,
+        # eq. 8 for logistic models; Heinze & Schemper 2002), restricted to
+        # the free coefficients and halved while the penalised
+        # log-likelihood falls. After BFGS, which stops within about 1e-6
+        # of the optimum at a point that depends on the numpy build, they
+        # take it to machine precision so that the reference is the same
+        # on every machine. Under separation they converge only linearly,
+        # so they may take many more than the few a well-posed fit needs;
+        # they stop when the step is below 1e-15 of the coefficients'
+        # size, or does not shrink any more (rounding).
+        last = np.inf
+        f = negpen(b)
+        for _ in range(5000):
+            eta = X @ b
+            mu = 1 / (1 + np.exp(-eta))
+            w = mu * (1 - mu)
+            info = X.T @ (X * w[:, None])
+            h = np.einsum("ij,jk,ik->i", X * w[:, None], np.linalg.inv(info), X)
+            score = X.T @ (y - mu + h * (0.5 - mu))
+            step = np.zeros(p)
+            step[free] = np.linalg.solve(info[np.ix_(free, free)], score[free])
+            for _ in range(30):
+                fn = negpen(b + step)
+                if np.isfinite(fn) and fn <= f + 1e-13 * (1 + abs(f)):
+                    break
+                step = step / 2
+            b, f = b + step, fn
+            size = np.max(np.abs(step)) / max(1.0, np.max(np.abs(b)))
+            if size < 1e-15 or (size < 1e-13 and size >= last):
+                break
+            last = size
+        return b
+
+    if climb_only:
+        b = polish(full(start[free]))
+        return b, -negpen(b)
+    bf = start[free].copy()
     for _ in range(3):  # restart from the optimum to polish it
         bf = scipy.optimize.minimize(lambda v: negpen(full(v)), bf, method="BFGS",
                                      options={"gtol": 1e-11, "maxiter": 10000}).x
-    b = full(bf)
-    # BFGS stops within about 1e-6 of the optimum, and where it stops
-    # depends on the numpy build; Newton steps on the gradient of the
-    # penalised log-likelihood, X'(y - mu + h(1/2 - mu)) (Firth 1993,
-    # eq. 8 for logistic models), restricted to the free coefficients, take
-    # it to machine precision so that the reference is the same on every
-    # machine.
-    for _ in range(50):
-        eta = X @ b
-        mu = 1 / (1 + np.exp(-eta))
-        w = mu * (1 - mu)
-        info = X.T @ (X * w[:, None])
-        h = np.einsum("ij,jk,ik->i", X * w[:, None], np.linalg.inv(info), X)
-        score = X.T @ (y - mu + h * (0.5 - mu))
-        step = np.zeros(p)
-        step[free] = np.linalg.solve(info[np.ix_(free, free)], score[free])
-        b = b + step
-        if np.max(np.abs(step)) < 1e-15:
-            break
-    return b, -negpen(b)
+    best = None
+    for b in (polish(full(bf)), polish(full(start[free]))):
+        pl = -negpen(b)
+        if np.isfinite(pl) and (best is None or pl > best[1]):
+            best = (b, pl)
+    return best
 
 
 def firth(X, y, terms):
@@ -199,22 +250,62 @@ def firth(X, y, terms):
     import scipy.optimize
     target = pl - scipy.stats.chi2.ppf(0.95, 1) / 2
     out = []
+    def moved(j, v):
+        """The estimate with coefficient j moved to v."""
+        m = b.copy()
+        m[j] = v
+        return m
+
+    def zero(j, v):
+        """Zero but coefficient j, at v."""
+        z = np.zeros(len(b))
+        z[j] = v
+        return z
+
+    def scaled(j, v):
+        """The estimate scaled so that coefficient j is v (under
+        separation the coefficients grow together)."""
+        return b * (v / b[j]) if b[j] != 0 else moved(j, v)
+
     for j, (t, c, s) in enumerate(zip(terms, b, se)):
-        _, pl0 = firth_fit(X, y, fixed={j: 0.0})
+        _, pl0 = firth_fit(X, y, fixed={j: 0.0}, starts=[moved(j, 0.0), zero(j, 0.0)])
         chi2 = max(0.0, 2 * (pl - pl0))
         # The profile interval: where the constrained maximum falls to
-        # target, bracketed by doubling steps of one SE, then brentq.
-        ends = []
+        # target. With a coefficient held far out the penalised likelihood
+        # can have several local maxima in the others, so the interval
+        # follows one well-defined branch of constrained maxima, the one
+        # through the estimate: outward in steps of a twentieth of an SE
+        # growing by a tenth each time (small enough that no step jumps to
+        # another branch on these data; quarter-SE steps did), each maximum
+        # climbed to (modified-score
+        # steps with halving) from the one found at the nearest value,
+        # until it falls below target; brentq then finds the crossing in
+        # the last step. At the crossing a search from zero, from the
+        # estimate with the coefficient moved and from the estimate scaled
+        # to it (BFGS and the climb) says whether another local maximum
+        # lies above target there: profile_multimodal.
+        ends, multi = [], []
         for side in (-1, 1):
-            g = lambda v: firth_fit(X, y, fixed={j: v})[1] - target
-            k = 0
-            while g(c + side * s * 2 ** k) > 0:
-                k += 1
-            inner = c if k == 0 else c + side * s * 2 ** (k - 1)
-            ends.append(scipy.optimize.brentq(g, min(inner, c + side * s * 2 ** k),
-                                              max(inner, c + side * s * 2 ** k), xtol=1e-12))
+            found = {c: b}
+
+            def g(v):
+                near = found[min(found, key=lambda u: abs(u - v))].copy()
+                near[j] = v
+                bv, plv = firth_fit_from(X, y, {j: v}, near, climb_only=True)
+                found[v] = bv
+                return plv - target
+
+            inner, step = c, s / 20
+            while g(inner + side * step) > 0:
+                inner, step = inner + side * step, step * 1.1
+            outer = inner + side * step
+            end = scipy.optimize.brentq(g, min(inner, outer), max(inner, outer), xtol=1e-12)
+            ends.append(end)
+            _, other = firth_fit(X, y, fixed={j: end}, starts=[zero(j, end), moved(j, end), scaled(j, end)])
+            multi.append(bool(other > target + 1e-6 * (1 + abs(target))))
         out.append({"term": t, "coef": r12(c), "se": r12(s), "plr_chi2": r12(chi2),
-                    "plr_p": r12(scipy.stats.chi2.sf(chi2, 1)), "profile_ci": r12(ends)})
+                    "plr_p": r12(scipy.stats.chi2.sf(chi2, 1)), "profile_ci": r12(ends),
+                    "profile_multimodal": multi})
     return {"terms": out, "penalized_loglik": r12(pl)}
 
 
@@ -276,6 +367,21 @@ def main():
     X = np.array([[1.0, s, 1.0 if w == "B" else 0.0, 1.0 if w == "C" else 0.0] for s, w, _ in sep])
     y = np.array([e for _, _, e in sep])
     ref["firth_separated"] = firth(X, y, ["intercept", "score", "ward=B", "ward=C"])
+
+    # Complete separation, where maximum-likelihood estimates do not exist
+    # and Firth's do (Heinze & Schemper 2002): invented data with six terms
+    # (four numbers and a three-level category; the outcome is 1 exactly
+    # when a + b/2 - 3c/10 > 0), and with one term (the outcome is 1
+    # exactly when x > 0).
+    rows = load_rows(os.path.join(HERE, "separated6.csv"))
+    X = np.array([[1.0, float(r["a"]), float(r["b"]), float(r["c"]), float(r["d"]),
+                   1.0 if r["ward"] == "B" else 0.0, 1.0 if r["ward"] == "C" else 0.0] for r in rows])
+    y = np.array([float(r["event"]) for r in rows])
+    ref["firth_separated6"] = firth(X, y, ["intercept", "a", "b", "c", "d", "ward=B", "ward=C"])
+    rows = load_rows(os.path.join(HERE, "separated1.csv"))
+    X = np.array([[1.0, float(r["x"])] for r in rows])
+    y = np.array([float(r["event"]) for r in rows])
+    ref["firth_separated1"] = firth(X, y, ["intercept", "x"])
 
     with open(os.path.join(HERE, "fits.json"), "w") as f:
         json.dump(ref, f, indent=1, sort_keys=True)
