@@ -27,16 +27,17 @@ func (e allocationError) Error() string {
 	return fmt.Sprintf("the file asks for %d bytes at once, beyond the %d its size allows", e.size, e.limit)
 }
 
-// newLimitedAllocator sets the limits from the file's size: a buffer
-// may decompress to 64 times the whole file, and at least 256 MiB; all
-// buffers together to 256 times the file, and at least 4 GiB. A file
-// whose size cannot be read gets the minimums.
+// newLimitedAllocator sets the limits from the file's size: one buffer
+// may hold 64 times the whole file, and at least 16 MiB (the readers
+// decode 65,536 rows at a time, so a buffer of a sound file is a small
+// fraction of that); all buffers together 256 times the file, and at
+// least 256 MiB. A file whose size cannot be read gets the minimums.
 func newLimitedAllocator(path string) *limitedAllocator {
 	var size int64
 	if st, err := os.Stat(path); err == nil {
 		size = st.Size()
 	}
-	return &limitedAllocator{perCall: max(256<<20, 64*size), total: max(4<<30, 256*size)}
+	return &limitedAllocator{perCall: max(16<<20, 64*size), total: max(256<<20, 256*size)}
 }
 
 func (a *limitedAllocator) check(size int) {

@@ -1,11 +1,14 @@
 package cohort
 
 import (
+	"encoding/base64"
 	"encoding/binary"
 	"errors"
 	"fmt"
 	"io"
 	"os"
+
+	"github.com/apache/arrow-go/v18/parquet/metadata"
 )
 
 // checkArrowFooter checks the footer of an Arrow IPC file before the
@@ -69,13 +72,65 @@ func checkArrowFooter(path string) error {
 	if err != nil || !ok {
 		return err
 	}
-	if err := fb.vector(schema, 3, 8); err != nil { // features
+	return fb.schema(schema)
+}
+
+// checkStoredSchema checks the Arrow schema a Parquet file may carry in
+// its metadata (key "ARROW:schema", an IPC schema message in base64),
+// which the Parquet reader decodes with the same Arrow library code as
+// an IPC footer. A value that is not base64 is left to the reader.
+func checkStoredSchema(meta metadata.KeyValueMetadata) error {
+	v := meta.FindValue("ARROW:schema")
+	if v == nil {
+		return nil
+	}
+	msg, err := base64.StdEncoding.DecodeString(*v)
+	if err != nil {
+		if msg, err = base64.RawStdEncoding.DecodeString(*v); err != nil {
+			return nil
+		}
+	}
+	// An IPC message: an optional continuation marker (0xFFFFFFFF), the
+	// length of the flatbuffer, the flatbuffer Message {version,
+	// header_type, header, bodyLength, custom_metadata}.
+	if len(msg) >= 4 && binary.LittleEndian.Uint32(msg) == 0xFFFFFFFF {
+		msg = msg[4:]
+	}
+	if len(msg) < 4 {
+		return errors.New("the Arrow schema stored in the file is damaged")
+	}
+	n := int64(int32(binary.LittleEndian.Uint32(msg)))
+	if n <= 0 || n > int64(len(msg))-4 {
+		return fmt.Errorf("the Arrow schema stored in the file says %d bytes in %d", n, len(msg)-4)
+	}
+	fb := flatbuf{b: msg[4 : 4+n], budget: 1 << 20}
+	m, err := fb.root()
+	if err != nil {
+		return fmt.Errorf("the Arrow schema stored in the file: %w", err)
+	}
+	if err := fb.tables(m, 4, fb.keyValue); err != nil {
+		return fmt.Errorf("the Arrow schema stored in the file: %w", err)
+	}
+	schema, ok, err := fb.table(m, 2)
+	if err == nil && ok {
+		err = fb.schema(schema)
+	}
+	if err != nil {
+		return fmt.Errorf("the Arrow schema stored in the file: %w", err)
+	}
+	return nil
+}
+
+// schema checks a Schema table: its fields (and theirs, nested), its
+// custom metadata and its features.
+func (fb *flatbuf) schema(t int64) error {
+	if err := fb.vector(t, 3, 8); err != nil { // features: longs
 		return err
 	}
-	if err := fb.tables(schema, 2, fb.keyValue); err != nil {
+	if err := fb.tables(t, 2, fb.keyValue); err != nil {
 		return err
 	}
-	return fb.tables(schema, 1, fb.field(0))
+	return fb.tables(t, 1, fb.field(0))
 }
 
 // flatbuf reads just enough of a flatbuffer to check its extents.
@@ -121,13 +176,16 @@ func (fb *flatbuf) checkTable(t int64) error {
 	return nil
 }
 
-// slot returns where field i of table t lies, or 0 when it is absent.
+// slot returns where field i of table t lies, or 0 when it is absent,
+// reading the layout exactly as the flatbuffers library does (a field
+// is present when its layout entry starts before the layout's stated
+// size, even a damaged odd size).
 func (fb *flatbuf) slot(t int64, i int) int64 {
 	so, _ := fb.u32(t)
 	vt := t - int64(int32(so))
 	vsize := int64(binary.LittleEndian.Uint16(fb.b[vt:]))
 	at := int64(4 + 2*i)
-	if at+2 > vsize {
+	if at >= vsize || vt+at+2 > int64(len(fb.b)) {
 		return 0
 	}
 	o := int64(binary.LittleEndian.Uint16(fb.b[vt+at:]))

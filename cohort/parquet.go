@@ -215,7 +215,11 @@ func openParquet(path string, props pqarrow.ArrowReadProperties) (fr *pqarrow.Fi
 		}
 		return nil, nil, formatError(path, "Parquet", err)
 	}
-	if err := checkFooter(path, pf); err != nil {
+	err = checkFooter(path, pf)
+	if err == nil {
+		err = checkStoredSchema(pf.MetaData().KeyValueMetadata())
+	}
+	if err != nil {
 		pf.Close()
 		return nil, nil, formatError(path, "Parquet", err)
 	}
