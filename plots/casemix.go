@@ -54,8 +54,16 @@ func CaseMix(cm *validate.CaseMix) ([]Figure, error) {
 	q.Y.Min, q.Y.Max = -0.7, float64(n)-0.3
 	q.Y.Tick.Marker = labels
 	lim := 0.25
+	missing := 0
 	for i, v := range vals {
 		y := float64(n - 1 - i)
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			// A predictor constant at different values in the two cohorts
+			// has no standardised difference: no bar, a mark on the label.
+			labels[i] += " (none)"
+			missing++
+			continue
+		}
 		col := blue
 		if math.Abs(v) >= 0.1 {
 			col = vermillion
@@ -76,6 +84,9 @@ func CaseMix(cm *validate.CaseMix) ([]Figure, error) {
 		q.Add(ref)
 	}
 	q.Legend.Add("|difference| ≥ 0.1 (common practice)", &plotter.Line{LineStyle: draw.LineStyle{Color: vermillion, Width: vg.Points(5)}})
+	if missing > 0 {
+		q.Legend.Add(fmt.Sprintf("(none): %d without a difference (constant in each cohort)", missing), &plotter.Line{})
+	}
 	sd, err := render(q, 6.5*vg.Inch, vg.Length(1.4+0.28*float64(n))*vg.Inch)
 	if err != nil {
 		return nil, err

@@ -92,3 +92,23 @@ func TestDegenerateFigures(t *testing.T) {
 		}
 	}
 }
+
+// TestCaseMixWithoutDifferences: a predictor whose standardised
+// difference does not exist (constant at different values in the two
+// cohorts) is drawn without a bar, marked, and does not fail the figure.
+func TestCaseMixWithoutDifferences(t *testing.T) {
+	nan := math.NaN()
+	cm := &validate.CaseMix{LPEdges: []float64{-3, -2, -1}, LPDev: []float64{0.5, 0.5}, LPNew: []float64{0.4, 0.6},
+		Predictors: []validate.PredictorMix{
+			{Column: "age", Kind: "numeric", StdDiff: []float64{0.2}},
+			{Column: "site", Kind: "numeric", StdDiff: []float64{nan}},
+		}}
+	figs, err := CaseMix(cm)
+	if err != nil {
+		t.Fatal(err)
+	}
+	svg := string(figs[1].SVG)
+	if strings.Contains(svg, "NaN") || !strings.Contains(svg, "site (none)") {
+		t.Errorf("the figure draws NaN or does not mark the predictor without a difference")
+	}
+}

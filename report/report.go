@@ -130,8 +130,10 @@ func (r *renderer) fit() {
 	}
 	t := table{head: []string{"term", "coefficient", "SE", "z", "p", "odds ratio", "95% CI"}}
 	for _, term := range st.Terms {
-		t.add(code(term.Term), num(term.Coef, "%.4f"), num(term.SE, "%.4f"), num(term.Z, "%.2f"), FormatP(term.P),
-			num(term.OddsRatio, "%.3f"), ci3(term.ORCI))
+		f3 := func(v float64) string { return num(v, "%.3f") }
+		t.add(code(term.Term), num(term.Coef, "%.4f"), num(term.SE, "%.4f"), num(term.Z, "%.2f"), FormatFitP(term.P),
+			OddsRatio(term.OddsRatio, term.Coef, f3),
+			OddsRatioEnd(term.ORCI[0], term.CoefCI[0], f3)+" to "+OddsRatioEnd(term.ORCI[1], term.CoefCI[1], f3))
 	}
 	t.write(r.w)
 	if st.PMethod == model.PPenalisedLR {
@@ -792,4 +794,35 @@ func FormatP(p float64) string {
 		return "< 0.0001"
 	}
 	return fmt.Sprintf("%.4f", p)
+}
+
+// OddsRatio writes exp(coef), the odds ratio or, with plain when it is a
+// float64 and as "exp(coef)" when it overflows (or underflows to 0).
+func OddsRatio(or, coef float64, plain func(float64) string) string {
+	if (math.IsInf(or, 1) || or == 0) && finite(coef) {
+		return fmt.Sprintf("exp(%.5g)", coef)
+	}
+	return plain(or)
+}
+
+// OddsRatioEnd writes one end of an odds ratio's interval, whose log is
+// c: as OddsRatio, "unbounded" when c is infinite, "not found" when it
+// could not be computed (a note of the fit says why).
+func OddsRatioEnd(or, c float64, plain func(float64) string) string {
+	switch {
+	case math.IsNaN(c):
+		return "not found"
+	case math.IsInf(c, 0):
+		return "unbounded"
+	}
+	return OddsRatio(or, c, plain)
+}
+
+// FormatFitP is a fit's p-value as FormatP writes it, or "not computed"
+// when there is none (the fit's notes say why).
+func FormatFitP(p float64) string {
+	if math.IsNaN(p) {
+		return "not computed"
+	}
+	return FormatP(p)
 }

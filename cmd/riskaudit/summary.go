@@ -60,8 +60,8 @@ func writeFitSummary(w io.Writer, r *audit.FitResult, o *fitOptions) {
 	fmt.Fprintf(w, "  %-*s  %10s  %9s  %7s  %8s  %10s  %s\n", width, "term", "coef", "SE", "z", "p", "odds ratio", "95% CI")
 	for _, t := range st.Terms {
 		pad := width - len([]rune(t.Term)) + len(t.Term)
-		fmt.Fprintf(w, "  %-*s  %10s  %9s  %7.2f  %8s  %10s  %s – %s\n", pad, t.Term, fmtG(t.Coef), fmtG(t.SE), t.Z, fmtFitP(t.P),
-			fmtOR(t.OddsRatio, t.Coef), fmtOREnd(t.ORCI[0], t.CoefCI[0]), fmtOREnd(t.ORCI[1], t.CoefCI[1]))
+		fmt.Fprintf(w, "  %-*s  %10s  %9s  %7.2f  %8s  %10s  %s – %s\n", pad, t.Term, fmtG(t.Coef), fmtG(t.SE), t.Z, report.FormatFitP(t.P),
+			report.OddsRatio(t.OddsRatio, t.Coef, fmtG), report.OddsRatioEnd(t.ORCI[0], t.CoefCI[0], fmtG), report.OddsRatioEnd(t.ORCI[1], t.CoefCI[1], fmtG))
 	}
 	for _, t := range st.Terms {
 		for _, n := range t.Notes {
@@ -94,37 +94,6 @@ func writeFitSummary(w io.Writer, r *audit.FitResult, o *fitOptions) {
 		fmt.Fprintf(w, " and %s", o.jsonOut)
 	}
 	fmt.Fprintln(w)
-}
-
-// fmtFitP is a fit's p-value, or "not computed" when there is none (a
-// note says why).
-func fmtFitP(p float64) string {
-	if math.IsNaN(p) {
-		return "not computed"
-	}
-	return report.FormatP(p)
-}
-
-// fmtOR is an odds ratio exp(coef), written as exp(coef) when it is
-// beyond the float64 range.
-func fmtOR(or, coef float64) string {
-	if (math.IsInf(or, 1) || or == 0) && !math.IsInf(coef, 0) && !math.IsNaN(coef) {
-		return fmt.Sprintf("exp(%.5g)", coef)
-	}
-	return fmtG(or)
-}
-
-// fmtOREnd is one end of an odds ratio's interval: exp(c) beyond the
-// float64 range, "unbounded" when the end is infinite on the log scale
-// too, "not found" when it could not be computed (a note says why).
-func fmtOREnd(or, c float64) string {
-	switch {
-	case math.IsNaN(c):
-		return "not found"
-	case math.IsInf(c, 0):
-		return "unbounded"
-	}
-	return fmtOR(or, c)
 }
 
 // describeExclusions lists the columns behind left-out rows.
