@@ -87,6 +87,11 @@ type Config struct {
 	// Criteria judge the audit; nil means validate.DefaultCriteria.
 	Criteria []validate.Criterion
 
+	// MissingCaution is the share of rows left out for missing values
+	// above which the summary cautions that the complete-case analysis
+	// may be biased (0: validate.DefaultMissingCaution, 5%).
+	MissingCaution float64
+
 	// SampleSize holds the sample-size check's target widths, threshold
 	// and anticipated values; zero widths take samplesize's defaults.
 	SampleSize samplesize.Request

@@ -67,7 +67,7 @@ func degenerateCohorts() []degenerateCohort {
 		}
 		cs = append(cs, c)
 	}
-	add("every risk tied", []string{"cannot be computed:", "not estimable (every predicted risk the same)", "ICI | 8.5%"},
+	add("every risk tied", []string{"cannot be computed:", "not estimable (every predicted risk the same)", "ICI | 0.0850"},
 		func(i int) (float64, bool) { return 0.2, i < 57 }, 200)
 	add("AUC 1", []string{"not estimable (AUC 1: every event ranked above every non-event)"},
 		func(i int) (float64, bool) {

@@ -265,6 +265,7 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 		a.Subgroups = validate.Subgroups(r.cur.y, r.cur.p, r.cur.lp, r.cur.groups, min, criteria, c.Measures.Epsilon)
 		a.MinSubgroupEvents = min
 	}
+	a.AddLimitations(c.MissingCaution)
 	return nil
 }
 
@@ -296,6 +297,7 @@ func percentileCIs(ci *resample.CIResult, b int, seed uint64, ts []float64) *val
 		ICI: ci.ICI, E50: ci.E50, E90: ci.E90, ScaledBrier: ci.ScaledBrier}
 	for j, t := range ts {
 		out.NetBenefit = append(out.NetBenefit, validate.ThresholdCI{Threshold: t, CI: ci.NetBenefit[j]})
+		out.NetBenefitGain = append(out.NetBenefitGain, validate.ThresholdCI{Threshold: t, CI: ci.NetBenefitGain[j]})
 	}
 	return out
 }

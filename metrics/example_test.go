@@ -95,7 +95,7 @@ func ExampleFlexibleCalibration() {
 	cc := metrics.FlexibleCalibration(s, metrics.LowessOptions{Span: 0.75})
 	fmt.Printf("ICI %.4f, E50 %.4f, E90 %.4f, Emax %.4f (%d local fits)\n", cc.ICI, cc.E50, cc.E90, cc.Emax, cc.Curve.FitPoints)
 	// Output:
-	// ICI 0.0975, E50 0.0561, E90 0.2543, Emax 0.3744 (15 local fits)
+	// ICI 0.0888, E50 0.0561, E90 0.2114, Emax 0.2936 (15 local fits)
 }
 
 func ExampleAUCValue() {

@@ -304,13 +304,37 @@ type CalibrationCurve struct {
 	// its median, 90th percentile (Hyndman & Fan definition 7) and
 	// maximum.
 	ICI, E50, E90, Emax float64
+	// Clipped counts the rows where the local linear fit fell outside
+	// [0, 1] and was clipped to it.
+	Clipped int
+}
+
+// ClipRisks clips every value of fit to [0, 1] in place and returns how
+// many it changed. The local linear fit of a 0/1 outcome is not bound to
+// [0, 1] (it strays outside where the risks crowd at one end), but an
+// observed risk is: the flexible calibration curve is the fit clipped to
+// [0, 1], and its distances from the diagonal (ICI, E50, E90, Emax) are
+// taken from the clipped curve. NaN values are left as they are.
+func ClipRisks(fit []float64) int {
+	n := 0
+	for i, v := range fit {
+		switch {
+		case v < 0:
+			fit[i], n = 0, n+1
+		case v > 1:
+			fit[i], n = 1, n+1
+		}
+	}
+	return n
 }
 
 // FlexibleCalibration smooths the outcomes of s on their risks by Lowess
 // with opt (at every row, in risk order; Curve.X is s.P() itself, not a
 // copy) and summarises the distance |p − ŝ(p)| from the line of ideal
 // calibration by its mean (ICI), median (E50), 90th percentile (E90) and
-// maximum (Emax) over the rows (Austin & Steyerberg 2019). Tied risks
+// maximum (Emax) over the rows (Austin & Steyerberg 2019). The smooth is
+// clipped to [0, 1] first (see ClipRisks; Curve.SE is the local linear
+// fit's own). Tied risks
 // are smoothed in the order s keeps them, row order, so the result is
 // reproducible. Where the local line is not identified the smooth is the
 // local weighted mean (see Lowess): when every risk is the same, the
@@ -319,6 +343,7 @@ type CalibrationCurve struct {
 func FlexibleCalibration(s Sorted, opt LowessOptions) CalibrationCurve {
 	xs := s.p
 	cc := CalibrationCurve{Curve: lowess(xs, s.y, opt)}
+	cc.Clipped = ClipRisks(cc.Curve.Fit)
 	diff := make([]float64, len(xs))
 	for i, v := range xs {
 		diff[i] = math.Abs(v - cc.Curve.Fit[i])

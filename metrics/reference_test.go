@@ -52,6 +52,8 @@ type refLowess struct {
 	E50   float64   `json:"e50"`
 	E90   float64   `json:"e90"`
 	Emax  float64   `json:"emax"`
+	// Clipped counts the points where statsmodels' fit leaves [0, 1].
+	Clipped int `json:"clipped_points"`
 }
 
 func loadAuditRef(t *testing.T) (auditRef, []float64, []float64) {
@@ -132,7 +134,8 @@ func TestAuditMeasuresMatchReferences(t *testing.T) {
 }
 
 // TestLowessMatchesStatsmodels compares the curve point by point with
-// statsmodels' lowess(frac=0.75, it=0), exact and with δ = 0.02.
+// statsmodels' lowess(frac=0.75, it=0), exact and with δ = 0.02, clipped
+// to [0, 1] (numpy.clip), and ICI, E50, E90 and Emax taken from it.
 func TestLowessMatchesStatsmodels(t *testing.T) {
 	ref, y, p := loadAuditRef(t)
 	for _, rl := range []refLowess{ref.WDBC.LowessExact, ref.WDBC.LowessDelta} {
@@ -145,10 +148,15 @@ func TestLowessMatchesStatsmodels(t *testing.T) {
 			if cc.Curve.X[i] != rl.X[i] && math.Abs(cc.Curve.X[i]-rl.X[i]) > 1e-11 {
 				t.Fatalf("x[%d] = %v, reference %v", i, cc.Curve.X[i], rl.X[i])
 			}
-			worst = math.Max(worst, math.Abs(cc.Curve.Fit[i]-rl.Fit[i]))
+			// The curve is statsmodels' local linear fit clipped to [0, 1].
+			want := math.Min(1, math.Max(0, rl.Fit[i]))
+			worst = math.Max(worst, math.Abs(cc.Curve.Fit[i]-want))
 		}
 		if worst > 1e-8 {
 			t.Errorf("δ=%g: largest difference from statsmodels %g", rl.Delta, worst)
+		}
+		if cc.Clipped != rl.Clipped || rl.Clipped == 0 {
+			t.Errorf("δ=%g: %d points clipped, statsmodels' fit leaves [0, 1] at %d (the check needs some)", rl.Delta, cc.Clipped, rl.Clipped)
 		}
 		near(t, "ICI", cc.ICI, rl.ICI, 1e-6)
 		near(t, "E50", cc.E50, rl.E50, 1e-6)

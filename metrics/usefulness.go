@@ -56,6 +56,12 @@ type NetBenefit struct {
 	TreatNone float64 `json:"treat_none"`
 }
 
+// Gain is the model's net benefit over the better of the two default
+// strategies at the threshold: Model − max(TreatAll, TreatNone), with
+// TreatNone = 0. It is positive only where acting on the model does more
+// good than both treating everyone and treating no one.
+func (nb NetBenefit) Gain() float64 { return nb.Model - math.Max(nb.TreatAll, nb.TreatNone) }
+
 // NetBenefits returns the net benefit of the rows of s at every threshold
 // t in ts, in the order of ts, treating the rows with risk ≥ t (as
 // ThresholdCounts counts them). Thresholds must lie in (0, 1); at 1 the

@@ -14,7 +14,7 @@ func TestPlanEchoesLittle(t *testing.T) {
 		line       int
 		want       string
 	}{
-		{"long number", "classify_at: [" + long + "]\n", ErrValue, 1, `classify_at: "` + long[:60] + `…" (5000 characters) is not a number`},
+		{"long number", "classify_at: [" + long + "]\n", ErrValue, 1, `classify_at: "` + long[:60] + `…" (5000 characters) is not a risk`},
 		{"long whole number", "ci_bootstrap: " + long + "\n", ErrValue, 1, `ci_bootstrap must be a whole number, not "` + long[:60] + `…" (5000 characters)`},
 		{"long key", long[:1000] + ": 1\n", ErrUnknownKey, 1, `unknown key "` + long[:60] + `…" (1000 characters) in the plan`},
 		{"long measure", "criteria:\n  - measure: " + long + "\n    at_least: 1\n", ErrCriterion, 2, `unknown measure "` + long[:60] + `… (5000 characters)"`},

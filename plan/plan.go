@@ -115,7 +115,8 @@ type Plan struct {
 	Seed                                       uint64
 	CIBootstrap                                int
 	Thresholds                                 string
-	ClassifyAt                                 []float64
+	ClassifyAt                                 string
+	NetBenefitMinGain                          float64
 	Data                                       Data
 	// SampleSize is the sample_size section.
 	SampleSize samplesize.Request
@@ -126,7 +127,7 @@ type Plan struct {
 
 var topKeys = []string{"name", "model", "predicted", "outcome", "event", "non_event", "dev", "cohort", "out", "history",
 	"audit_date", "rename", "subgroups", "min_subgroup_events", "criteria", "bootstrap", "ci_bootstrap",
-	"thresholds", "classify_at", "data", "sample_size"}
+	"thresholds", "classify_at", "net_benefit_min_gain", "data", "sample_size"}
 
 // Load reads the plan at path.
 func Load(path string) (*Plan, error) {
@@ -361,14 +362,31 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 		}
 	case "classify_at":
 		var parts []string
-		if parts, err = p.strs(v, key); err == nil {
-			for i, s := range parts {
-				x, perr := strconv.ParseFloat(s, 64)
-				if perr != nil {
-					return p.wrapf(ErrValue, perr, v.Content[i], "classify_at: %s is not a number", cohort.Quote(s))
-				}
-				pl.ClassifyAt = append(pl.ClassifyAt, x)
+		if v.Kind != yaml.SequenceNode {
+			parts = []string{v.Value}
+		} else if parts, err = p.strs(v, key); err != nil {
+			break
+		}
+		for i, s := range parts {
+			node := v
+			if v.Kind == yaml.SequenceNode {
+				node = v.Content[i]
 			}
+			for _, one := range strings.Split(s, ",") {
+				x, perr := validate.ParseRisk(one)
+				if perr != nil {
+					return p.wrapf(ErrValue, perr, node, "classify_at: %s is not a risk (a proportion such as 0.1 or a percentage such as 10%%)", cohort.Quote(one))
+				}
+				if !(x > 0 && x < 1) {
+					return p.errf(ErrValue, node, "classify_at: %s is not strictly between 0 and 1", cohort.Quote(one))
+				}
+			}
+		}
+		pl.ClassifyAt = strings.Join(parts, ",")
+	case "net_benefit_min_gain":
+		pl.NetBenefitMinGain, err = p.num(v, key)
+		if err == nil && (pl.NetBenefitMinGain < 0 || pl.NetBenefitMinGain >= 1) {
+			return p.errf(ErrValue, v, "net_benefit_min_gain: %g: give a net benefit from 0 (any gain) to below 1", pl.NetBenefitMinGain)
 		}
 	case "rename":
 		pl.Rename, err = p.rename(v)

@@ -170,16 +170,17 @@ func (r *renderer) internal() {
 	}
 	m := in.Metrics
 	t := table{head: []string{"measure", "apparent", "optimism", "corrected", "what the corrected figure means"}}
-	add := func(name string, c validate.Corrected, meaning string) {
-		t.add(name, num(c.Apparent, "%.4f"), num(c.Optimism, "%+.4f"), num(c.Corrected, "%.4f"), meaning)
+	add := func(name, key string, c validate.Corrected, meaning string) {
+		f := validate.MeasureFormat(key)
+		t.add(name, num(c.Apparent, f), signed(c.Optimism, "%+"+f[1:]), num(c.Corrected, f), meaning)
 	}
-	add("AUC", m.AUC, "discrimination to expect in new patients from the same population")
-	add("calibration slope", m.Slope, "the uniform shrinkage factor")
-	add("calibration-in-the-large", m.CITL, "average miscalibration to expect")
-	add("Brier score", m.Brier, "")
-	add("scaled Brier score", m.ScaledBrier, "")
-	add("Nagelkerke R²", m.R2, "")
-	add("ICI", m.ICI, fmt.Sprintf("LOWESS with δ = %g of the risk range, here and in every replicate", in.ICIDelta))
+	add("AUC", "auc", m.AUC, "discrimination to expect in new patients from the same population")
+	add("calibration slope", "slope", m.Slope, "the uniform shrinkage factor")
+	add("calibration-in-the-large", "citl", m.CITL, "average miscalibration to expect")
+	add("Brier score", "brier", m.Brier, "")
+	add("scaled Brier score", "scaled_brier", m.ScaledBrier, "")
+	add("Nagelkerke R²", "nagelkerke_r2", m.R2, "")
+	add("ICI", "ici", m.ICI, fmt.Sprintf("LOWESS with δ = %g of the risk range, here and in every replicate", in.ICIDelta))
 	t.write(r.w)
 	r.p("The shrinkage factor %s multiplies every coefficient of a shrunken model, whose intercept is then re-estimated (Van Houwelingen & le Cessie 1990)", num(in.Shrinkage, "%.3f"))
 	if in.ShrunkenModel != "" {
@@ -219,9 +220,9 @@ func (r *renderer) verdict() {
 	r.p("**Verdict: %s** (%d of %d criteria not met).\n\n", word, failed, len(v.Criteria))
 	t := table{head: []string{"criterion", "bound", "value", "result", "severity"}}
 	for _, c := range v.Criteria {
-		val := num(c.Value, "%.4g")
+		val := validate.FormatMeasure(c.Measure, c.Value)
 		if c.Interval != nil {
-			val = Interval(*c.Interval, "%.4g", "")
+			val = measureInterval(c.Measure, *c.Interval)
 		}
 		res := "met"
 		switch {
@@ -299,16 +300,16 @@ func (r *renderer) calibration() {
 	t.add("observed / expected (O/E)", f3(c.OE), ci3(c.OECI), "1", fmt.Sprintf("%.0f events observed, %.1f expected", c.Observed, c.Expected))
 	t.add("Hosmer–Lemeshow χ²", num(c.HL.Statistic, "%.2f"), "", "", fmt.Sprintf("%d %s, %d df, p %s", c.HL.Groups, plural(c.HL.Groups, "group", "groups"), c.HL.DF, FormatP(c.HL.P)))
 	bci := r.a.BootstrapCI
-	pctCI := func(get func(*validate.PercentileCIs) [2]float64) string {
+	bootCI := func(get func(*validate.PercentileCIs) [2]float64) string {
 		if bci == nil {
 			return ""
 		}
-		return pctInterval(get(bci), " to ") + "*"
+		return Interval(get(bci), "%.4f", "") + "*"
 	}
-	t.add("ICI", pct(c.ICI), pctCI(func(b *validate.PercentileCIs) [2]float64 { return b.ICI }), "0", "mean distance between predicted and smoothed observed risk")
-	t.add("E50", pct(c.E50), pctCI(func(b *validate.PercentileCIs) [2]float64 { return b.E50 }), "0", "median of that distance")
-	t.add("E90", pct(c.E90), pctCI(func(b *validate.PercentileCIs) [2]float64 { return b.E90 }), "0", "90th percentile of that distance")
-	t.add("Emax", pct(c.Emax), "", "0", "largest distance")
+	t.add("ICI", f4(c.ICI), bootCI(func(b *validate.PercentileCIs) [2]float64 { return b.ICI }), "0", "mean distance between predicted and smoothed observed risk, on the risk scale")
+	t.add("E50", f4(c.E50), bootCI(func(b *validate.PercentileCIs) [2]float64 { return b.E50 }), "0", "median of that distance")
+	t.add("E90", f4(c.E90), bootCI(func(b *validate.PercentileCIs) [2]float64 { return b.E90 }), "0", "90th percentile of that distance")
+	t.add("Emax", f4(c.Emax), "", "0", "largest distance")
 	t.write(r.w)
 	if bci != nil {
 		r.p("\\* Bootstrap percentile intervals from %d resamples of the cohort (seed %d; the model fixed; the curve in each resample with δ = %g of the risk range).\n\n", bci.Replicates, bci.Seed, bci.ICIDelta)
@@ -377,19 +378,27 @@ func (r *renderer) usefulness() {
 	head := []string{"risk threshold", "model", "treat everyone", "treat no one", "model gains over the better default"}
 	b := r.a.BootstrapCI
 	if b != nil {
-		head = append(head[:2], append([]string{"95% CI (bootstrap)"}, head[2:]...)...)
+		head = []string{"risk threshold", "model", "95% CI (bootstrap)", "treat everyone", "treat no one", "model gains over the better default", "gain 95% CI (bootstrap)"}
 	}
 	t := table{head: head}
 	for i, nb := range r.a.NetBenefit {
-		gain := nb.Model - math.Max(nb.TreatAll, 0)
 		cells := []string{pct(nb.Threshold), f4(nb.Model)}
 		if b != nil && i < len(b.NetBenefit) {
 			cells = append(cells, Interval(b.NetBenefit[i].CI, "%.4f", ""))
 		}
-		cells = append(cells, f4(nb.TreatAll), "0", gainText(gain))
+		cells = append(cells, f4(nb.TreatAll), "0", gainText(nb.Gain(), r.a.NetBenefitMinGain))
+		if b != nil && i < len(b.NetBenefitGain) {
+			cells = append(cells, Interval(b.NetBenefitGain[i].CI, "%.4f", ""))
+		}
 		t.add(cells...)
 	}
 	t.write(r.w)
+	r.p("A gain is claimed only where it reaches %s (a gain of %g in net benefit), a minimum of common practice rather than a published threshold: below it the model's advantage is within the rounding of the table and of no practical weight.",
+		validate.MinGainText(r.a.NetBenefitMinGain), r.a.NetBenefitMinGain)
+	if b != nil {
+		r.p(" The gain's interval is the 2.5th to 97.5th percentile of the gain over the better default strategy in each bootstrap replicate, both strategies recomputed on the replicate.")
+	}
+	r.p("\n\n")
 	r.figure("decision_curve.svg")
 	if len(r.a.Classification) > 0 {
 		r.p("Classifying patients at or above a risk threshold as high risk (exact Clopper–Pearson intervals):\n\n")
@@ -479,11 +488,17 @@ func hlText(h metrics.HosmerLemeshowTest, digits int) string {
 
 // gainText is the net benefit gained over the better default, also per
 // 1000 patients.
-func gainText(gain float64) string {
+// gainText writes a net-benefit gain with its meaning per 1000 patients,
+// and says "no gain" where it falls short of min.
+func gainText(gain, min float64) string {
 	if !finite(gain) {
 		return NotEstimable
 	}
-	return fmt.Sprintf("%+.4f (%+.1f true positives per 1000 patients)", gain, 1000*gain)
+	s := fmt.Sprintf("%s (%s net true positives per 1000 patients)", signed(gain, "%+.4f"), signed(1000*gain, "%+.1f"))
+	if !validate.GainReaches(gain, min) {
+		s += "; no gain"
+	}
+	return s
 }
 
 // plural picks the singular or plural form for n things.
@@ -596,23 +611,25 @@ func (r *renderer) development() {
 	}
 	r.p("\n\n")
 	t := table{head: []string{"measure", "development", "this cohort", "change"}}
-	row := func(name string, dev, now float64, digits int) {
-		f := fmt.Sprintf("%%.%df", digits)
+	row := func(name, key string, dev, now float64) {
 		change := "—"
 		if finite(dev) && finite(now) {
-			change = fmt.Sprintf("%+."+fmt.Sprint(digits)+"f", now-dev)
+			change = signed(now-dev, "%+"+validate.MeasureFormat(key)[1:])
+			if validate.PercentMeasure(key) {
+				change = signed(100*(now-dev), "%+.1f") + " points"
+			}
 		}
-		t.add(name, num(dev, f), num(now, f), change)
+		t.add(name, validate.FormatMeasure(key, dev), validate.FormatMeasure(key, now), change)
 	}
-	row("AUC", dm.Discrimination.AUC, r.a.Discrimination.AUC, 3)
-	row("calibration-in-the-large", dm.Calibration.CITL, r.a.Calibration.CITL, 3)
-	row("calibration slope", dm.Calibration.Slope, r.a.Calibration.Slope, 3)
-	row("O/E", dm.Calibration.OE, r.a.Calibration.OE, 3)
-	row("ICI", dm.Calibration.ICI, r.a.Calibration.ICI, 4)
-	row("Brier score", dm.Overall.Brier, r.a.Overall.Brier, 4)
-	row("scaled Brier score", dm.Overall.ScaledBrier, r.a.Overall.ScaledBrier, 3)
-	row("event rate", dm.Cohort.EventRate, r.a.Cohort.EventRate, 3)
-	row("mean predicted risk", dm.Cohort.MeanRisk, r.a.Cohort.MeanRisk, 3)
+	row("AUC", "auc", dm.Discrimination.AUC, r.a.Discrimination.AUC)
+	row("calibration-in-the-large", "citl", dm.Calibration.CITL, r.a.Calibration.CITL)
+	row("calibration slope", "slope", dm.Calibration.Slope, r.a.Calibration.Slope)
+	row("O/E", "oe", dm.Calibration.OE, r.a.Calibration.OE)
+	row("ICI", "ici", dm.Calibration.ICI, r.a.Calibration.ICI)
+	row("Brier score", "brier", dm.Overall.Brier, r.a.Overall.Brier)
+	row("scaled Brier score", "scaled_brier", dm.Overall.ScaledBrier, r.a.Overall.ScaledBrier)
+	row("event rate", "event_rate", dm.Cohort.EventRate, r.a.Cohort.EventRate)
+	row("mean predicted risk", "mean_risk", dm.Cohort.MeanRisk, r.a.Cohort.MeanRisk)
 	t.write(r.w)
 }
 
@@ -624,7 +641,7 @@ func (r *renderer) methods() {
 		"Calibration-in-the-large: the intercept of a logistic regression of the outcome with logit(risk) as offset; calibration slope: the coefficient of logit(risk) with a free intercept (Cox 1958; Van Calster et al. 2016). Wald intervals.",
 		"O/E: observed over expected events, 95% CI exp(ln(O/E) ± 1.96·√((1 − O/n)/O)).",
 		fmt.Sprintf("Hosmer–Lemeshow test (Hosmer & Lemeshow 1980): %d groups of predicted risk, ties kept together, df = %d.", c.HL.Groups, c.HL.DF),
-		fmt.Sprintf("Flexible calibration curve: LOWESS (Cleveland 1979), span %.2f, local linear, tricube weights, no robustness iterations; ICI, E50, E90 and Emax from it (Austin & Steyerberg 2019). Where a neighbourhood has no spread of predicted risk to fit a line to — its nearest patients all tied with the point, or a weighted variance of the risks at most 1e-10 of their weighted mean square distance from it — the local fit is the local weighted mean of the outcomes (over every patient tied with the point, when the nearest all tie), with the same band formula; when every risk is the same, the curve is the event rate.", c.Span),
+		fmt.Sprintf("Flexible calibration curve: LOWESS (Cleveland 1979), span %.2f, local linear, tricube weights, no robustness iterations, the local linear fit clipped to [0, 1] wherever it strays outside (an observed risk cannot), with its pointwise band the clipped fit ± 1.96·SE, each end clipped to [0, 1] too; ICI, E50, E90 and Emax are the distances of the predicted risks from the clipped curve (Austin & Steyerberg 2019). Where a neighbourhood has no spread of predicted risk to fit a line to — its nearest patients all tied with the point, or a weighted variance of the risks at most 1e-10 of their weighted mean square distance from it — the local fit is the local weighted mean of the outcomes (over every patient tied with the point, when the nearest all tie), with the same band formula; when every risk is the same, the curve is the event rate.", c.Span),
 		"Brier score (Brier 1950) and scaled Brier score (Steyerberg et al. 2010).",
 		"Net benefit (Vickers & Elkin 2006), treating when the predicted risk is at or above the threshold.",
 		"Proportions with exact Clopper–Pearson intervals (Clopper & Pearson 1934).",
@@ -770,6 +787,28 @@ func Interval(ci [2]float64, format, why string) string { return interval(ci, fo
 func Value(v float64, format string) string { return num(v, format) }
 
 func ci3(ci [2]float64) string { return Interval(ci, "%.3f", "") }
+
+// measureInterval writes an interval of the named measure in the
+// measure's format (validate.MeasureFormat).
+func measureInterval(name string, ci [2]float64) string {
+	if validate.PercentMeasure(name) {
+		ci = [2]float64{100 * ci[0], 100 * ci[1]}
+	}
+	return Interval(ci, validate.MeasureFormat(name), "")
+}
+
+// signed writes v with a sign in format (such as "%+.3f"), but a value
+// that rounds to zero without a sign: "0.000", never "-0.000".
+func signed(v float64, format string) string {
+	s := num(v, format)
+	if !finite(v) {
+		return s
+	}
+	if t := strings.TrimLeft(s, "+-"); strings.Trim(t, "0.") == "" {
+		return t
+	}
+	return s
+}
 
 // pctInterval writes an interval of shares as percentages, "a% to b%".
 func pctInterval(ci [2]float64, sep string) string {

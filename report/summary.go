@@ -45,6 +45,12 @@ func WriteSummary(w io.Writer, a *validate.Audit, dir string, nfig int) error {
 		}
 		p("  verdict     %s (%d of %d criteria not met)\n", v.Status, failed, len(v.Criteria))
 	}
+	if s := a.SampleSize; s != nil && s.Short != nil && *s.Short && s.Required != nil {
+		p("  size        short: the %s criterion needs %d patients, %d analysed\n", s.Driver, *s.Required, s.Have)
+	}
+	if co := a.Cohort; co.Excluded > 0 && co.Rows > 0 {
+		p("  missing     %d of %d rows (%.1f%%) left out: complete cases only\n", co.Excluded, co.Rows, 100*float64(co.Excluded)/float64(co.Rows))
+	}
 	p("Wrote %s, %s and %d figures\n", filepath.Join(dir, "report.md"), filepath.Join(dir, "audit.json"), nfig)
 	return ew.err
 }

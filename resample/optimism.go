@@ -376,10 +376,12 @@ func (ws *workspace) measures(pr Problem, lp []float64, order []int, w []float64
 }
 
 // ici is the ICI of risks ps (sorted) against outcomes ys, with LOWESS at
-// span 0.75 and δ = delta × the range of ps, on one goroutine.
+// span 0.75 and δ = delta × the range of ps, on one goroutine, from the
+// smooth clipped to [0, 1] as in metrics.FlexibleCalibration.
 func ici(ys, ps []float64, delta float64) float64 {
 	d := delta * (ps[len(ps)-1] - ps[0])
 	c := metrics.Lowess(ps, ys, metrics.LowessOptions{Span: 0.75, Delta: d, Workers: 1})
+	metrics.ClipRisks(c.Fit)
 	s := 0.0
 	for i, v := range ps {
 		s += math.Abs(v - c.Fit[i])

@@ -7,6 +7,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"os"
+	"sort"
 	"testing"
 
 	"github.com/riskaudit/riskaudit/cohort"
@@ -250,5 +251,71 @@ func TestFailedReplicatesAreCounted(t *testing.T) {
 	}
 	if res.FailedShare() <= 0.10 {
 		t.Logf("failed share %.2f", res.FailedShare())
+	}
+}
+
+// TestPercentileGainRecomputed draws every replicate again from its
+// stream, computes the net benefit of the model and of treating everyone
+// straight from their definition (Vickers & Elkin 2006: TP/n − FP/n ·
+// t/(1 − t), treating risks ≥ t) by a plain loop over the drawn rows,
+// and takes the 2.5th and 97.5th percentiles (Hyndman & Fan definition
+// 7, as numpy.quantile's default) of the gain over the better default
+// strategy: the intervals must be the same.
+func TestPercentileGainRecomputed(t *testing.T) {
+	r := rand.New(rand.NewPCG(8, 9))
+	n := 800
+	y, p := make([]float64, n), make([]float64, n)
+	for i := range p {
+		p[i] = 0.01 + 0.5*r.Float64()
+		if r.Float64() < p[i] {
+			y[i] = 1
+		}
+	}
+	ts := []float64{0.05, 0.15, 0.3}
+	const B, seed = 200, 11
+	got, err := PercentileIntervals(context.Background(), y, p, CIOptions{B: B, Seed: seed, Workers: 2, Thresholds: ts})
+	if err != nil {
+		t.Fatal(err)
+	}
+	order := metrics.SortedOrder(p)
+	for j, th := range ts {
+		var gains, nbs []float64
+		for b := 0; b < B; b++ {
+			s := Stream(seed, b)
+			counts := make([]int, n)
+			for k := 0; k < n; k++ {
+				counts[s.IntN(n)]++
+			}
+			var tp, fp, events float64
+			for _, i := range order {
+				c := float64(counts[i])
+				events += c * y[i]
+				if p[i] >= th {
+					tp += c * y[i]
+					fp += c * (1 - y[i])
+				}
+			}
+			odds := th / (1 - th)
+			model := tp/float64(n) - fp/float64(n)*odds
+			all := events/float64(n) - (float64(n)-events)/float64(n)*odds
+			nbs = append(nbs, model)
+			gains = append(gains, model-math.Max(all, 0))
+		}
+		q := func(v []float64, at float64) float64 {
+			sort.Float64s(v)
+			h := at * float64(len(v)-1)
+			lo := math.Floor(h)
+			if int(lo)+1 >= len(v) {
+				return v[len(v)-1]
+			}
+			return v[int(lo)] + (h-lo)*(v[int(lo)+1]-v[int(lo)])
+		}
+		wantNB := [2]float64{q(nbs, 0.025), q(nbs, 0.975)}
+		wantGain := [2]float64{q(gains, 0.025), q(gains, 0.975)}
+		for k := 0; k < 2; k++ {
+			if math.Abs(got.NetBenefit[j][k]-wantNB[k]) > 1e-12 || math.Abs(got.NetBenefitGain[j][k]-wantGain[k]) > 1e-12 {
+				t.Errorf("threshold %g: net benefit %v gain %v, recomputed %v and %v", th, got.NetBenefit[j], got.NetBenefitGain[j], wantNB, wantGain)
+			}
+		}
 	}
 }

@@ -31,11 +31,16 @@ type CIResult struct {
 	ICI, E50, E90, ScaledBrier [2]float64
 	// NetBenefit holds one interval per threshold.
 	NetBenefit [][2]float64
+	// NetBenefitGain holds, per threshold, the interval of the model's
+	// gain over the better default strategy, Model − max(TreatAll, 0),
+	// both taken on the same replicate.
+	NetBenefitGain [][2]float64
 }
 
 // PercentileIntervals gives bootstrap percentile intervals (Efron &
 // Tibshirani 1993, An Introduction to the Bootstrap, ch. 13) for the ICI,
-// E50, E90, the scaled Brier score and the net benefit of fixed risks p
+// E50, E90 (of the smooth clipped to [0, 1]), the scaled Brier score, the
+// net benefit and its gain over the better default strategy of fixed risks p
 // for outcomes y: the rows are drawn with replacement B times, each
 // measure is computed on every sample, and the interval runs from the
 // 2.5th to the 97.5th percentile (Hyndman & Fan definition 7) of the
@@ -55,7 +60,7 @@ func PercentileIntervals(ctx context.Context, y, p []float64, opt CIOptions) (*C
 	order := metrics.SortedOrder(p)
 	type rep struct {
 		ici, e50, e90, sb float64
-		nb                []float64
+		nb, gain          []float64
 	}
 	reps := make([]rep, opt.B)
 	next := feed(ctx, opt.B)
@@ -83,6 +88,7 @@ func PercentileIntervals(ctx context.Context, y, p []float64, opt CIOptions) (*C
 				}
 				d := opt.ICIDelta * (ps[n-1] - ps[0])
 				c := metrics.Lowess(ps, ys, metrics.LowessOptions{Span: 0.75, Delta: d, Workers: 1})
+				metrics.ClipRisks(c.Fit)
 				diff := make([]float64, n)
 				s := 0.0
 				for i, v := range ps {
@@ -92,10 +98,11 @@ func PercentileIntervals(ctx context.Context, y, p []float64, opt CIOptions) (*C
 				e50, e90 := metrics.Quantiles(diff, 0.5, 0.9)
 				_, sb := metrics.Brier(ys, ps)
 				nb := make([]float64, len(opt.Thresholds))
+				gain := make([]float64, len(opt.Thresholds))
 				for j, v := range metrics.NetBenefits(metrics.AsSorted(ys, ps), opt.Thresholds) {
-					nb[j] = v.Model
+					nb[j], gain[j] = v.Model, v.Gain()
 				}
-				reps[b] = rep{ici: s / float64(n), e50: e50, e90: e90, sb: sb, nb: nb}
+				reps[b] = rep{ici: s / float64(n), e50: e50, e90: e90, sb: sb, nb: nb, gain: gain}
 			}
 		}()
 	}
@@ -124,6 +131,7 @@ func PercentileIntervals(ctx context.Context, y, p []float64, opt CIOptions) (*C
 	}
 	for j := range opt.Thresholds {
 		res.NetBenefit = append(res.NetBenefit, interval(func(r rep) float64 { return r.nb[j] }))
+		res.NetBenefitGain = append(res.NetBenefitGain, interval(func(r rep) float64 { return r.gain[j] }))
 	}
 	return res, nil
 }

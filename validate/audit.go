@@ -124,6 +124,9 @@ type PercentileCIs struct {
 	E90         [2]float64    `json:"e90"`
 	ScaledBrier [2]float64    `json:"scaled_brier"`
 	NetBenefit  []ThresholdCI `json:"net_benefit"`
+	// NetBenefitGain is, per threshold, the interval of the model's gain
+	// over the better default strategy (metrics.NetBenefit.Gain).
+	NetBenefitGain []ThresholdCI `json:"net_benefit_gain"`
 }
 
 // ThresholdCI is an interval at one risk threshold.
@@ -284,8 +287,8 @@ func oeSentence(c Calibration) string {
 	if finite(c.CITL) {
 		citl = fmt.Sprintf("calibration-in-the-large %.3f, CI %s", c.CITL, ciText(c.CITLCI, "%.3f", ""))
 	}
-	s := fmt.Sprintf("Observed events were %.0f against %.1f predicted (O/E %.2f, 95%% CI %s; %s)",
-		c.Observed, c.Expected, c.OE, ciText(c.OECI, "%.2f", ""), citl)
+	s := fmt.Sprintf("Observed events were %.0f against %.1f predicted (O/E %.3f, 95%% CI %s; %s)",
+		c.Observed, c.Expected, c.OE, ciText(c.OECI, "%.3f", ""), citl)
 	switch {
 	case !finite(c.OECI[0]) || !finite(c.OECI[1]):
 		return s + "."
@@ -304,7 +307,7 @@ func slopeSentence(c Calibration, tied bool) string {
 	case !finite(c.Slope):
 		return "The calibration slope could not be estimated on this cohort (for example, the risks separate the events from the non-events completely, or the cohort is too small): the spread of the risks cannot be judged."
 	}
-	s := fmt.Sprintf("Calibration slope %.2f (95%% CI %s)", c.Slope, ciText(c.SlopeCI, "%.2f", ""))
+	s := fmt.Sprintf("Calibration slope %.3f (95%% CI %s)", c.Slope, ciText(c.SlopeCI, "%.3f", ""))
 	switch {
 	case !finite(c.SlopeCI[0]) || !finite(c.SlopeCI[1]):
 		return s + "."
@@ -321,27 +324,51 @@ func flexibleSentence(c Calibration, co CohortSummary, tied bool) string {
 	case !finite(c.ICI) || !finite(c.E50) || !finite(c.E90):
 		return "The flexible calibration curve could not be estimated."
 	case tied:
-		return fmt.Sprintf("Every patient was given the same risk, %s; the smoothed observed risk is then the event rate, %s, so every patient's predicted risk is %.1f percentage points from it (ICI, E50, E90 and Emax alike).",
-			percent(co.MinRisk), percent(co.EventRate), 100*c.ICI)
+		return fmt.Sprintf("Every patient was given the same risk, %s; the smoothed observed risk is then the event rate, %s, so every patient's predicted risk is %.4f from it on the risk scale (ICI, E50, E90 and Emax alike).",
+			percent(co.MinRisk), percent(co.EventRate), c.ICI)
 	}
-	return fmt.Sprintf("Across patients the predicted risk differs from the smoothed observed risk by %.1f percentage points on average (ICI), by at most %.1f for half of them (E50) and %.1f for nine in ten (E90).",
-		100*c.ICI, 100*c.E50, 100*c.E90)
+	return fmt.Sprintf("Across patients the predicted risk differs from the smoothed observed risk by %.4f on average on the risk scale (ICI; %.2f percentage points), by at most %.4f for half of them (E50) and %.4f for nine in ten (E90).",
+		c.ICI, 100*c.ICI, c.E50, c.E90)
 }
 
 func netBenefitSentence(p *Performance) string {
 	var better []string
 	for _, nb := range p.NetBenefit {
-		if nb.Model > nb.TreatAll && nb.Model > 0 {
+		if GainReaches(nb.Gain(), p.NetBenefitMinGain) {
 			better = append(better, fmt.Sprintf("%g%%", math.Round(nb.Threshold*1000)/10))
 		}
 	}
-	if len(better) == 0 {
-		return "At none of the risk thresholds examined does acting on the model do more good than treating everyone or no one (net benefit, Vickers & Elkin 2006)."
+	by := "by at least " + MinGainText(p.NetBenefitMinGain)
+	if p.NetBenefitMinGain <= 0 {
+		by = "by any margin"
 	}
-	if len(better) == len(p.NetBenefit) {
-		return fmt.Sprintf("At every risk threshold examined (%s to %s) acting on the model gives a higher net benefit than treating everyone or no one (Vickers & Elkin 2006).", better[0], better[len(better)-1])
+	switch {
+	case len(better) == 0:
+		return fmt.Sprintf("At none of the risk thresholds examined does acting on the model do more good than both treating everyone and treating no one, %s (net benefit, Vickers & Elkin 2006).", by)
+	case len(better) == len(p.NetBenefit):
+		return fmt.Sprintf("At every risk threshold examined (%s to %s) acting on the model gives a higher net benefit than both treating everyone and treating no one, %s (Vickers & Elkin 2006).", better[0], better[len(better)-1], by)
 	}
-	return fmt.Sprintf("Acting on the model gives a higher net benefit than treating everyone or no one at the thresholds %s (Vickers & Elkin 2006); at the others it does not.", strings.Join(better, ", "))
+	return fmt.Sprintf("Acting on the model gives a higher net benefit than both treating everyone and treating no one, %s, at the thresholds %s (Vickers & Elkin 2006); at the others it does not.", by, strings.Join(better, ", "))
+}
+
+// GainReaches reports whether a net-benefit gain is a gain the summary
+// claims: positive and at least min, allowing 1e-12 for the rounding of
+// a difference of two net benefits (0.08 − 0.07 is 0.00999…98 in
+// float64, and reaches a minimum of 0.01).
+func GainReaches(gain, min float64) bool { return gain > 0 && gain >= min-1e-12 }
+
+// MinGainText writes the smallest net-benefit gain the summary claims, as
+// "1 net true positive per 1000 patients" for 0.001.
+func MinGainText(min float64) string {
+	if min <= 0 {
+		return "any positive gain"
+	}
+	n := 1000 * min
+	unit := "net true positives"
+	if n == 1 {
+		unit = "net true positive"
+	}
+	return fmt.Sprintf("%g %s per 1000 patients", n, unit)
 }
 
 // fractionWord says a positive share in words: "about a fifth" for 0.2,
@@ -364,7 +391,7 @@ func percentWord(f float64) string {
 	if f < 0 {
 		return "none (it does worse than that)"
 	}
-	return fmt.Sprintf("%.0f%%", 100*f)
+	return fmt.Sprintf("%.1f%%", 100*f)
 }
 
 // Update records the updating of the model on the cohort by the closed
@@ -435,4 +462,66 @@ type SizeCriterion struct {
 	Events        *int    `json:"events"`
 	Met           *bool   `json:"met"`
 	NotComputable string  `json:"not_computable,omitempty"`
+}
+
+// DefaultMissingCaution is the share of rows left out for missing values
+// above which the summary cautions that the complete-case analysis may
+// be biased: 5%, a rule of thumb of common practice (a few percent of
+// incomplete rows is usually taken to matter little; recalled from
+// memory, not from a single published source).
+const DefaultMissingCaution = 0.05
+
+// AddLimitations appends to the summary what most limits its
+// conclusions: a cohort smaller than a sample-size criterion asks
+// (SampleSize must be set first), and rows left out of the complete-case
+// analysis, with a caution when they exceed the share caution (0 means
+// DefaultMissingCaution). It adds nothing when neither applies.
+func (a *Audit) AddLimitations(caution float64) {
+	if caution <= 0 {
+		caution = DefaultMissingCaution
+	}
+	if s := sampleSizeSentence(a.SampleSize); s != "" {
+		a.Summary = append(a.Summary, Finding{"sample size", s})
+	}
+	if s := missingSentence(a.Cohort, caution); s != "" {
+		a.Summary = append(a.Summary, Finding{"missing data", s})
+	}
+}
+
+func sampleSizeSentence(s *SampleSize) string {
+	if s == nil {
+		return ""
+	}
+	var short []string
+	for _, c := range s.Criteria {
+		if c.Met != nil && !*c.Met {
+			short = append(short, fmt.Sprintf("the %s criterion (%s) needs %d patients", c.Measure, c.Target, *c.N))
+		}
+	}
+	switch {
+	case len(short) > 0:
+		return fmt.Sprintf("The cohort is smaller than the precision criteria ask (Riley et al. 2021): %s, and %d were analysed. The intervals above are wider than the targets, so a miscalibration or a loss of discrimination may be missed, or overstated, by chance.",
+			strings.Join(short, "; "), s.Have)
+	case s.Short == nil:
+		return fmt.Sprintf("Whether the cohort of %d patients is large enough could not be fully judged: some sample-size criteria could not be computed (see Sample size).", s.Have)
+	}
+	return ""
+}
+
+func missingSentence(c CohortSummary, caution float64) string {
+	if c.Excluded == 0 || c.Rows == 0 {
+		return ""
+	}
+	share := float64(c.Excluded) / float64(c.Rows)
+	var cols []string
+	for _, e := range c.ExcludedByColumn {
+		cols = append(cols, fmt.Sprintf("%s %d", e.Column, e.Rows))
+	}
+	s := fmt.Sprintf("The analysis used complete cases: %d of %d rows (%.1f%%) were left out for a missing value (missing values by column: %s).",
+		c.Excluded, c.Rows, 100*share, strings.Join(cols, ", "))
+	if share > caution {
+		s += fmt.Sprintf(" That is more than %g%% of the rows: unless the values are missing completely at random, the patients analysed may differ from the cohort and every measure may be biased. Multiple imputation of the missing predictors, with the outcome in the imputation model and the measures pooled across imputations by Rubin's rules, would use every patient and remove that bias when the values are missing at random given the data; it cannot when they are missing for reasons the data do not record.",
+			100*caution)
+	}
+	return s
 }

@@ -25,17 +25,20 @@ type Criterion struct {
 	Source string
 }
 
-// Bound describes the criterion's bound in words, such as "≥ 0.7".
+// Bound describes the criterion's bound in words, such as "≥ 0.7", in
+// the measure's unit (a share of patients as a percentage) with every
+// digit the bound was given.
 func (c Criterion) Bound() string {
+	b := func(v float64) string { return formatBound(c.Measure, v) }
 	switch {
 	case c.AtLeast != nil:
-		return fmt.Sprintf("≥ %g", *c.AtLeast)
+		return "≥ " + b(*c.AtLeast)
 	case c.AtMost != nil:
-		return fmt.Sprintf("≤ %g", *c.AtMost)
+		return "≤ " + b(*c.AtMost)
 	case c.Between != nil:
-		return fmt.Sprintf("between %g and %g", c.Between[0], c.Between[1])
+		return "between " + b(c.Between[0]) + " and " + b(c.Between[1])
 	case c.Contains != nil:
-		return fmt.Sprintf("interval contains %g", *c.Contains)
+		return "interval contains " + b(*c.Contains)
 	}
 	return "?"
 }

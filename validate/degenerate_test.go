@@ -27,7 +27,7 @@ func TestDegenerateCohortsAreLabelled(t *testing.T) {
 	}{
 		{"every risk tied", tiedY, tiedP,
 			[]string{"not estimable (every predicted risk the same)", "every predicted risk is the same, so there is no spread of risk", "the observed event rate (28.5%)"},
-			[]string{"95% CI not estimable (every predicted risk the same)", "does not tell patients with the event from those without", "8.5 percentage points", "At none of the risk thresholds"},
+			[]string{"95% CI not estimable (every predicted risk the same)", "does not tell patients with the event from those without", "0.0850 from it", "At none of the risk thresholds"},
 			[]string{"auc_ci.lower", "slope"}},
 		{"one event", []float64{0, 0, 0, 0, 0, 0, 0, 1, 0, 0}, []float64{0.05, 0.08, 0.11, 0.14, 0.17, 0.2, 0.23, 0.26, 0.29, 0.32},
 			[]string{"not estimable (1 event): DeLong's variance needs at least two events and two non-events"},

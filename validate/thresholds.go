@@ -9,8 +9,9 @@ import (
 
 // ParseThresholds reads risk thresholds written FROM:TO:STEP (such as
 // 0.05:0.50:0.05, TO included, each rounded to 9 decimals) or as a
-// comma-separated list; every threshold must lie strictly between 0 and
-// 1. An error quotes s and says what is wrong.
+// comma-separated list; each number may be a proportion (0.2) or a
+// percentage (20%), see ParseRisk. Every threshold must lie strictly
+// between 0 and 1. An error quotes s and says what is wrong.
 func ParseThresholds(s string) ([]float64, error) {
 	var out []float64
 	if strings.Contains(s, ":") {
@@ -20,7 +21,7 @@ func ParseThresholds(s string) ([]float64, error) {
 		}
 		var v [3]float64
 		for i, p := range parts {
-			f, err := strconv.ParseFloat(strings.TrimSpace(p), 64)
+			f, err := ParseRisk(p)
 			if err != nil {
 				return nil, fmt.Errorf("%q: %q is not a number", s, p)
 			}
@@ -38,7 +39,7 @@ func ParseThresholds(s string) ([]float64, error) {
 		}
 	} else {
 		for _, p := range strings.Split(s, ",") {
-			f, err := strconv.ParseFloat(strings.TrimSpace(p), 64)
+			f, err := ParseRisk(p)
 			if err != nil {
 				return nil, fmt.Errorf("%q: %q is not a number", s, p)
 			}
@@ -51,4 +52,19 @@ func ParseThresholds(s string) ([]float64, error) {
 		}
 	}
 	return out, nil
+}
+
+// ParseRisk reads one risk written as a proportion (0.2) or as a
+// percentage (20%, divided by 100 and rounded to 12 decimals, so that
+// 20% is exactly 0.2), with spaces around it ignored.
+func ParseRisk(s string) (float64, error) {
+	s = strings.TrimSpace(s)
+	if num, ok := strings.CutSuffix(s, "%"); ok {
+		f, err := strconv.ParseFloat(strings.TrimSpace(num), 64)
+		if err != nil {
+			return 0, err
+		}
+		return math.Round(f/100*1e12) / 1e12, nil
+	}
+	return strconv.ParseFloat(s, 64)
 }

@@ -50,7 +50,18 @@ type Options struct {
 	Development bool
 	// Workers bounds the goroutines (default GOMAXPROCS).
 	Workers int
+	// MinGain is the smallest gain in net benefit over the better default
+	// strategy that the summary calls a gain (default DefaultMinGain); a
+	// negative value asks for any positive gain.
+	MinGain float64
 }
+
+// DefaultMinGain is the smallest net-benefit gain over treating everyone
+// or no one that the summary claims as a gain: 0.001, one net true
+// positive per 1000 patients. A smaller gain is within the rounding of
+// the table and of no clinical weight; the figure is common practice, not
+// a published threshold.
+const DefaultMinGain = 0.001
 
 // AutoDelta asks for the default LOWESS δ (metrics.DefaultDelta); it is
 // the zero value, so that options left unset never ask for an exact
@@ -87,6 +98,12 @@ func (o *Options) defaults() {
 	}
 	if o.Epsilon <= 0 {
 		o.Epsilon = DefaultEpsilon
+	}
+	switch {
+	case o.MinGain == 0:
+		o.MinGain = DefaultMinGain
+	case o.MinGain < 0:
+		o.MinGain = 0
 	}
 }
 
@@ -167,7 +184,10 @@ type Calibration struct {
 	Span           float64                    `json:"lowess_span"`
 	Delta          float64                    `json:"lowess_delta"`
 	FitPoints      int                        `json:"lowess_fit_points"`
-	Band           string                     `json:"band_method"`
+	// Clipped counts the rows where the local linear fit left [0, 1] and
+	// was clipped to it.
+	Clipped int    `json:"lowess_clipped_rows"`
+	Band    string `json:"band_method"`
 }
 
 // Overall is the overall accuracy.
@@ -203,9 +223,9 @@ type ColumnCount struct {
 }
 
 // CurvePoint is one point of the flexible calibration curve: the smoothed
-// observed risk at a predicted risk (as smoothed: a local linear fit can
-// stray a little outside [0, 1]), with its pointwise 95% band clipped to
-// [0, 1].
+// observed risk at a predicted risk, the local linear fit clipped to
+// [0, 1] (metrics.ClipRisks), with its pointwise 95% band, the clipped
+// fit ± 1.96·SE, each end clipped to [0, 1].
 type CurvePoint struct {
 	Predicted float64 `json:"predicted"`
 	Observed  float64 `json:"observed"`
@@ -223,13 +243,16 @@ type Curves struct {
 
 // Performance is everything measured on one cohort.
 type Performance struct {
-	Cohort         CohortSummary            `json:"cohort"`
-	Discrimination Discrimination           `json:"discrimination"`
-	Calibration    Calibration              `json:"calibration"`
-	Overall        Overall                  `json:"overall"`
-	NetBenefit     []metrics.NetBenefit     `json:"net_benefit"`
-	Classification []metrics.Classification `json:"classification"`
-	Curves         Curves                   `json:"curves"`
+	Cohort         CohortSummary        `json:"cohort"`
+	Discrimination Discrimination       `json:"discrimination"`
+	Calibration    Calibration          `json:"calibration"`
+	Overall        Overall              `json:"overall"`
+	NetBenefit     []metrics.NetBenefit `json:"net_benefit"`
+	// NetBenefitMinGain is the smallest gain over the better default
+	// strategy (metrics.NetBenefit.Gain) that the summary claims.
+	NetBenefitMinGain float64                  `json:"net_benefit_min_gain"`
+	Classification    []metrics.Classification `json:"classification"`
+	Curves            Curves                   `json:"curves"`
 }
 
 // RiskError reports a predicted risk that is not a probability.
@@ -349,14 +372,14 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 		OE: oe, OECI: oeci, Observed: obs, Expected: exp,
 		HL:  metrics.HosmerLemeshow(sorted, opt.HLGroups, opt.Development),
 		ICI: flex.ICI, E50: flex.E50, E90: flex.E90, Emax: flex.Emax,
-		Span: opt.Span, Delta: delta, FitPoints: flex.Curve.FitPoints, Band: BandMethod, Notes: notes,
+		Span: opt.Span, Delta: delta, FitPoints: flex.Curve.FitPoints, Clipped: flex.Clipped, Band: BandMethod, Notes: notes,
 	}
-	cal.HL.Table = nil
 	if math.IsNaN(cal.HL.Statistic) && cal.HL.Groups > 0 {
 		cal.Notes = append(cal.Notes, "the Hosmer–Lemeshow test could not be computed: a risk group's predicted risks are all 0 or all 1, so the group has no binomial variance to divide by")
 	}
 	perf.Overall.Brier, perf.Overall.ScaledBrier = metrics.Brier(y, p)
 	perf.NetBenefit = metrics.NetBenefits(sorted, opt.Thresholds)
+	perf.NetBenefitMinGain = opt.MinGain
 	perf.Classification = metrics.Classify(sorted, opt.ClassifyAt)
 	perf.Curves = Curves{
 		ROC:       metrics.ROC(sorted, 500),
@@ -427,9 +450,7 @@ func thinCurve(c metrics.LowessCurve, n int) []CurvePoint {
 	return out
 }
 
-// clamp01 keeps a band end within [0, 1]; a smooth a little outside
-// [0, 1] (LOWESS does not know its values are risks) keeps its band
-// ends in order.
+// clamp01 keeps a band end within [0, 1].
 func clamp01(v float64) float64 { return math.Min(1, math.Max(0, v)) }
 
 func curvePoint(c metrics.LowessCurve, i int) CurvePoint {

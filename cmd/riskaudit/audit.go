@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -21,7 +22,10 @@ type auditOptions struct {
 	// predicted, outcome, event and nonEvent make cfg.Predicted.
 	predicted, outcome, event, nonEvent string
 	// thresholds and delta are read into cfg.Measures.
-	thresholds    string
+	thresholds string
+	// classifyAt and minGain are read into cfg.Measures too.
+	classifyAt    string
+	minGain       float64
 	delta         float64
 	out           string
 	quiet         bool
@@ -134,7 +138,8 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.StringVar(&o.cfg.Dev.Path, "dev", "", "the development data, measured the same way for comparison")
 	f.StringVar(&o.out, "out", "", "folder for the report, audit.json and figures (created if absent)")
 	f.StringVar(&o.thresholds, "thresholds", "0.05:0.50:0.05", "decision-curve risk thresholds: FROM:TO:STEP or a comma-separated list")
-	f.Float64SliceVar(&o.cfg.Measures.ClassifyAt, "classify-at", []float64{0.10, 0.20}, "risk thresholds for sensitivity, specificity, PPV and NPV")
+	f.StringVar(&o.classifyAt, "classify-at", "0.1,0.2", "risk thresholds for sensitivity, specificity, PPV and NPV: a comma-separated list of proportions or percentages (10%)")
+	f.Float64Var(&o.minGain, "nb-min-gain", validate.DefaultMinGain, "smallest net-benefit gain over treating everyone or no one that the summary claims (0.001: one net true positive per 1000 patients; 0: any gain)")
 	f.IntVar(&o.cfg.Measures.Groups, "groups", 10, "risk groups of the calibration plot (10: deciles)")
 	f.IntVar(&o.cfg.Measures.HLGroups, "hl-groups", 10, "Hosmer–Lemeshow groups")
 	f.Float64Var(&o.cfg.Measures.Span, "lowess-span", 0.75, "span of the LOWESS calibration curve")
@@ -165,6 +170,19 @@ func newAuditCmd(s *streams) *cobra.Command {
 	_ = c.MarkFlagFilename("dev", "csv", "tsv", "txt", "parquet", "arrow", "feather")
 	_ = c.MarkFlagDirname("out")
 	return c
+}
+
+// parseClassifyAt reads --classify-at: a comma-separated list of risks,
+// each a proportion or a percentage.
+func parseClassifyAt(s string) ([]float64, error) {
+	if strings.Contains(s, ":") {
+		return nil, usagef("--classify-at %q: give a comma-separated list, such as 0.1,0.2 or 10%%,20%%", s)
+	}
+	ts, err := validate.ParseThresholds(s)
+	if err != nil {
+		return nil, usagef("--classify-at %v", err)
+	}
+	return ts, nil
 }
 
 // parseThresholds reads --thresholds (validate.ParseThresholds).
@@ -226,6 +244,17 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 		return cfg, usagef("--outcome, --event and --non-event go with --predicted; a model names its own outcome")
 	}
 	var err error
+	if cfg.Measures.ClassifyAt, err = parseClassifyAt(o.classifyAt); err != nil {
+		return cfg, err
+	}
+	switch {
+	case o.minGain < 0 || o.minGain >= 1:
+		return cfg, usagef("--nb-min-gain %g: give a net benefit from 0 (any gain) to below 1", o.minGain)
+	case o.minGain == 0:
+		cfg.Measures.MinGain = -1
+	default:
+		cfg.Measures.MinGain = o.minGain
+	}
 	if cfg.Measures.Thresholds, err = parseThresholds(o.thresholds); err != nil {
 		return cfg, err
 	}
@@ -260,11 +289,6 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 // error).
 func (o *auditOptions) checkValues() error {
 	m := o.cfg.Measures
-	for _, t := range m.ClassifyAt {
-		if !(t > 0 && t < 1) {
-			return usagef("--classify-at: %g is not strictly between 0 and 1", t)
-		}
-	}
 	if m.Groups < 2 || m.HLGroups < 3 {
 		return usagef("--groups needs at least 2 and --hl-groups at least 3")
 	}

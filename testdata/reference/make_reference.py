@@ -462,8 +462,13 @@ def audit_measures(y, p, lowess_delta):
     assert len(np.unique(p)) == len(p), "lowess reference needs untied risks"
     for name, delta in [("lowess_exact", 0.0), ("lowess_delta", lowess_delta)]:
         fit = lowess(y, p, frac=0.75, it=0, delta=delta, return_sorted=True)
-        out[name] = {"delta": r12(delta), "x": r12(fit[:, 0]), "fit": r12(fit[:, 1])}
-        diff = np.abs(fit[:, 0] - fit[:, 1])
+        # The flexible calibration curve is the local linear fit clipped
+        # to [0, 1] (a risk cannot be observed outside it); the distances
+        # behind ICI, E50, E90 and Emax are taken from the clipped smooth.
+        clipped = np.clip(fit[:, 1], 0, 1)
+        out[name] = {"delta": r12(delta), "x": r12(fit[:, 0]), "fit": r12(fit[:, 1]),
+                     "clipped_points": int(np.sum(clipped != fit[:, 1]))}
+        diff = np.abs(fit[:, 0] - clipped)
         out[name]["ici"] = r12(diff.mean())
         out[name]["e50"] = r12(np.quantile(diff, 0.5))
         out[name]["e90"] = r12(np.quantile(diff, 0.9))
@@ -534,7 +539,7 @@ def boot_measures(X, y, beta, llf, delta_share):
     cs = 1 - np.exp(2 * (llnull - llf) / n)
     r2 = cs / (1 - np.exp(2 * llnull / n))
     fit = lowess(y, p, frac=0.75, it=0, delta=delta_share * (p.max() - p.min()), return_sorted=True)
-    ici = np.mean(np.abs(fit[:, 0] - fit[:, 1]))
+    ici = np.mean(np.abs(fit[:, 0] - np.clip(fit[:, 1], 0, 1)))
     return {"auc": roc_auc_score(y, p), "slope": slope, "citl": citl, "brier": brier,
             "scaled_brier": 1 - brier / (ybar * (1 - ybar)), "nagelkerke_r2": r2, "ici": ici}
 
