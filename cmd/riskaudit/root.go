@@ -148,7 +148,7 @@ func run(ctx context.Context, args []string, s *streams) int {
 	s.args = args
 	root := newRootCmd(s)
 	root.SetArgs(args)
-	err := root.ExecuteContext(ctx)
+	cmd, err := root.ExecuteContextC(ctx)
 	if err != nil && ctx.Err() != nil {
 		err = context.Cause(ctx)
 	}
@@ -161,7 +161,12 @@ func run(ctx context.Context, args []string, s *streams) int {
 	code := exitCode(err)
 	msg := err.Error()
 	if code == exitUsage && !strings.Contains(msg, "--help") {
-		msg += " (see 'riskaudit --help')"
+		// Point to the help of the command that was run.
+		path := "riskaudit"
+		if cmd != nil {
+			path = cmd.CommandPath()
+		}
+		msg += " (see '" + path + " --help')"
 	}
 	fmt.Fprintf(s.err, "riskaudit: %s\n", msg)
 	return code
