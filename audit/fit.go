@@ -220,8 +220,9 @@ func Score(ctx context.Context, cfg ScoreConfig) (*Scores, error) {
 	return &Scores{Frame: fr, LP: lp, Scored: m.N, Excluded: m.Excluded, ByColumn: m.ByColumn}, nil
 }
 
-// WriteFit writes the frozen model (YAML) to path and, when jsonPath is
-// set, the fit statistics as JSON, all or nothing.
+// WriteFit writes the frozen model (YAML) to path and the fit statistics
+// as JSON to jsonPath, all or nothing; an empty path skips that file, so
+// with both empty it writes nothing.
 func WriteFit(path, jsonPath string, r *FitResult) error {
 	yml, err := r.Frozen.MarshalYAML()
 	if err != nil {
@@ -235,7 +236,13 @@ func WriteFit(path, jsonPath string, r *FitResult) error {
 		}
 		files = append(files, atomicfile.File{Path: jsonPath, Data: b})
 	}
-	return atomicfile.WriteAll("", append(files, atomicfile.File{Path: path, Data: yml}))
+	if path != "" {
+		files = append(files, atomicfile.File{Path: path, Data: yml})
+	}
+	if len(files) == 0 {
+		return nil
+	}
+	return atomicfile.WriteAll("", files)
 }
 
 // The columns a scored file gains.

@@ -667,7 +667,9 @@ var defaultKnotQuantiles = map[int][]float64{
 // DefaultKnots places k knots at the default quantiles of z, with the
 // quantile of linear interpolation between order statistics
 // (definition 7 of Hyndman & Fan 1996, The American Statistician
-// 50:361–365).
+// 50:361–365), each rounded to 12 significant digits: an interpolated
+// quantile such as 27.1 + 0.45·0.1 is 27.145000000000003 in float64, and
+// the knot the fit uses is the one the frozen model writes (27.145).
 func DefaultKnots(z []float64, k int) ([]float64, error) {
 	qs, ok := defaultKnotQuantiles[k]
 	if !ok {
@@ -677,7 +679,7 @@ func DefaultKnots(z []float64, k int) ([]float64, error) {
 	sort.Float64s(s)
 	out := make([]float64, k)
 	for i, q := range qs {
-		out[i] = metrics.Quantile7(s, q)
+		out[i] = roundSignificant(metrics.Quantile7(s, q), 12)
 	}
 	for i := 1; i < k; i++ {
 		if out[i] <= out[i-1] {
@@ -685,6 +687,18 @@ func DefaultKnots(z []float64, k int) ([]float64, error) {
 		}
 	}
 	return out, nil
+}
+
+// roundSignificant rounds v to digits significant digits.
+func roundSignificant(v float64, digits int) float64 {
+	if v == 0 || math.IsNaN(v) || math.IsInf(v, 0) {
+		return v
+	}
+	r, err := strconv.ParseFloat(strconv.FormatFloat(v, 'g', digits, 64), 64)
+	if err != nil {
+		return v
+	}
+	return r
 }
 
 func fmtNum(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }

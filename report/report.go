@@ -131,11 +131,15 @@ func (r *renderer) fit() {
 	t := table{head: []string{"term", "coefficient", "SE", "z", "p", "odds ratio", "95% CI"}}
 	for _, term := range st.Terms {
 		f3 := func(v float64) string { return num(v, "%.3f") }
-		t.add(code(term.Term), num(term.Coef, "%.4f"), num(term.SE, "%.4f"), num(term.Z, "%.2f"), FormatFitP(term.P),
-			OddsRatio(term.OddsRatio, term.Coef, f3),
-			OddsRatioEnd(term.ORCI[0], term.CoefCI[0], f3)+" to "+OddsRatioEnd(term.ORCI[1], term.CoefCI[1], f3))
+		or, ci := OddsRatio(term.OddsRatio, term.Coef, f3),
+			OddsRatioEnd(term.ORCI[0], term.CoefCI[0], f3)+" to "+OddsRatioEnd(term.ORCI[1], term.CoefCI[1], f3)
+		if term.Term == model.InterceptTerm {
+			or, ci = "—", "—"
+		}
+		t.add(code(term.Term), num(term.Coef, "%.4f"), num(term.SE, "%.4f"), num(term.Z, "%.2f"), FormatFitP(term.P), or, ci)
 	}
 	t.write(r.w)
+	r.p("%s\n\n", InterceptNote)
 	if st.PMethod == model.PPenalisedLR {
 		r.p("The p-values are %s tests, each refitting the model with that coefficient held at 0, and the intervals are %s; SE and z are Wald.\n\n", model.PPenalisedLR, model.CIProfilePenalised)
 	}
@@ -735,6 +739,10 @@ func (t *table) write(w io.Writer) {
 
 func f3(v float64) string { return num(v, "%.3f") }
 func f4(v float64) string { return num(v, "%.4f") }
+
+// InterceptNote says why the intercept has no odds ratio in the fit
+// tables.
+const InterceptNote = "The intercept is the log odds of the event for a patient at every predictor's reference (centred predictors at their centre, categorical ones at their reference level, spline terms at 0); its exponential is those odds, not an odds ratio, so the table leaves its odds-ratio cells empty."
 
 // NotEstimable is how the report and the summary write a value that
 // does not exist for the data (NaN).

@@ -23,6 +23,9 @@ type fitOptions struct {
 const fitExample = `  # Fit a recipe on a development extract and freeze it
   riskaudit fit --model recipe.yaml --data dev.csv --out frozen.yaml
 
+  # Look at a fit without writing anything
+  riskaudit fit --model recipe.yaml --data dev.csv
+
   # The same, with the statistics as JSON for other tools
   riskaudit fit --model recipe.yaml --data dev.csv --out frozen.yaml --json fit.json
 
@@ -36,7 +39,7 @@ const fitExample = `  # Fit a recipe on a development extract and freeze it
 func newFitCmd(s *streams) *cobra.Command {
 	o := &fitOptions{}
 	c := &cobra.Command{
-		Use:   "fit --model RECIPE --data FILE --out FROZEN",
+		Use:   "fit --model RECIPE --data FILE [--out FROZEN]",
 		Short: "Fit a model recipe on development data and write the frozen model",
 		Long: `Fit a logistic-regression recipe by maximum likelihood (Newton–Raphson with
 step halving) on the complete cases of a development extract, print the
@@ -56,14 +59,14 @@ terms involved, and --firth fits Firth's penalised likelihood instead.`,
 	f := c.Flags()
 	f.StringVar(&o.model, "model", "", "model recipe (YAML)")
 	f.StringVar(&o.dataFile, "data", "", "development data (CSV or TSV with a header row, Parquet, or Arrow IPC)")
-	f.StringVar(&o.out, "out", "", "where to write the frozen model (YAML)")
+	f.StringVar(&o.out, "out", "", "where to write the frozen model (YAML); without it the fit is printed and nothing written")
 	f.StringVar(&o.jsonOut, "json", "", "also write the fit statistics as JSON to this file")
 	f.StringVar(&o.reduced, "reduced", "", "a recipe nested in --model: compare the two by likelihood ratio and AIC")
 	f.BoolVar(&o.firth, "firth", false, "fit by Firth's penalised likelihood (finite estimates under separation)")
 	f.IntVar(&o.hlGroups, "hl-groups", 10, "number of Hosmer–Lemeshow risk groups")
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
 	o.data.register(f)
-	for _, name := range []string{"model", "data", "out"} {
+	for _, name := range []string{"model", "data"} {
 		_ = c.MarkFlagRequired(name)
 	}
 	_ = c.MarkFlagFilename("model", "yaml", "yml")

@@ -60,9 +60,13 @@ func writeFitSummary(w io.Writer, r *audit.FitResult, o *fitOptions) {
 	fmt.Fprintf(w, "  %-*s  %10s  %9s  %7s  %8s  %10s  %s\n", width, "term", "coef", "SE", "z", "p", "odds ratio", "95% CI")
 	for _, t := range st.Terms {
 		pad := width - len([]rune(t.Term)) + len(t.Term)
-		fmt.Fprintf(w, "  %-*s  %10s  %9s  %7.2f  %8s  %10s  %s – %s\n", pad, t.Term, fmtG(t.Coef), fmtG(t.SE), t.Z, report.FormatFitP(t.P),
-			report.OddsRatio(t.OddsRatio, t.Coef, fmtG), report.OddsRatioEnd(t.ORCI[0], t.CoefCI[0], fmtG), report.OddsRatioEnd(t.ORCI[1], t.CoefCI[1], fmtG))
+		or, ci := report.OddsRatio(t.OddsRatio, t.Coef, fmtG), report.OddsRatioEnd(t.ORCI[0], t.CoefCI[0], fmtG)+" – "+report.OddsRatioEnd(t.ORCI[1], t.CoefCI[1], fmtG)
+		if t.Term == model.InterceptTerm {
+			or, ci = "—", "—"
+		}
+		fmt.Fprintf(w, "  %-*s  %10s  %9s  %7.2f  %8s  %10s  %s\n", pad, t.Term, fmtG(t.Coef), fmtG(t.SE), t.Z, report.FormatFitP(t.P), or, ci)
 	}
+	fmt.Fprintf(w, "  (the intercept's odds-ratio cells are empty: exp of it is the odds at the reference values, not a ratio)\n")
 	for _, t := range st.Terms {
 		for _, n := range t.Notes {
 			fmt.Fprintf(w, "  note: %s: %s\n", t.Term, n)
@@ -89,11 +93,16 @@ func writeFitSummary(w io.Writer, r *audit.FitResult, o *fitOptions) {
 		fmt.Fprintf(w, "    likelihood ratio   χ² %.3f on %d df, p %s\n", n.LRChi2, n.DF, report.FormatP(n.P))
 		fmt.Fprintf(w, "    AIC difference     %.3f (full − reduced; negative favours the full model)\n", n.AICDifference)
 	}
-	fmt.Fprintf(w, "\nWrote %s", o.out)
-	if o.jsonOut != "" {
-		fmt.Fprintf(w, " and %s", o.jsonOut)
+	switch {
+	case o.out != "" && o.jsonOut != "":
+		fmt.Fprintf(w, "\nWrote %s and %s\n", o.out, o.jsonOut)
+	case o.out != "":
+		fmt.Fprintf(w, "\nWrote %s\n", o.out)
+	case o.jsonOut != "":
+		fmt.Fprintf(w, "\nWrote %s; no frozen model written (give --out to write it)\n", o.jsonOut)
+	default:
+		fmt.Fprintf(w, "\nNothing written: give --out to write the frozen model\n")
 	}
-	fmt.Fprintln(w)
 }
 
 // describeExclusions lists the columns behind left-out rows.
