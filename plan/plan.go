@@ -121,8 +121,50 @@ type Plan struct {
 	// SampleSize is the sample_size section.
 	SampleSize samplesize.Request
 
-	// Set records the keys the plan gave, by their plan name.
-	Set map[string]bool
+	// Set records the keys the plan gave, by their plan name, and Lines
+	// the line of each top-level key.
+	Set   map[string]bool
+	Lines map[string]int
+}
+
+// FileKeys are the plan's keys that name a file read by the audit.
+var FileKeys = []string{"model", "dev", "cohort"}
+
+// CheckFile checks that the file the plan names under key (one of
+// FileKeys, or history: a store that may not exist yet but whose folder
+// must) can be read, and says which key and line named it when it
+// cannot. A key the plan does not set is not checked.
+func (pl *Plan) CheckFile(key string) error {
+	path := map[string]string{"model": pl.Model, "dev": pl.Dev, "cohort": pl.Cohort, "history": pl.History}[key]
+	if !pl.Set[key] || path == "" {
+		return nil
+	}
+	fail := func(kind error, format string, args ...any) error {
+		return &Error{File: pl.File, Line: pl.Lines[key], Msg: key + ": " + fmt.Sprintf(format, args...), Kind: kind}
+	}
+	if key == "history" {
+		dir := filepath.Dir(path)
+		if fi, err := os.Stat(dir); err != nil || !fi.IsDir() {
+			return fail(ErrRead, "%s: the folder %s does not exist", path, dir)
+		}
+		return nil
+	}
+	fi, err := os.Stat(path)
+	switch {
+	case err != nil:
+		msg := err.Error()
+		if pe, ok := err.(*os.PathError); ok {
+			msg = pe.Err.Error()
+		}
+		return fail(ErrRead, "%s: %s", path, msg)
+	case fi.IsDir():
+		return fail(ErrRead, "%s is a folder, not a file", path)
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return fail(ErrRead, "%s: cannot be read: %v", path, errors.Unwrap(err))
+	}
+	return f.Close()
 }
 
 var topKeys = []string{"name", "model", "predicted", "outcome", "event", "non_event", "dev", "cohort", "out", "history",
@@ -159,10 +201,11 @@ func Parse(name string, data []byte) (*Plan, error) {
 	if len(doc.Content) != 1 || doc.Content[0].Kind != yaml.MappingNode {
 		return nil, p.errf(ErrSyntax, doc, "a plan must be a mapping of keys such as model, cohort and criteria")
 	}
-	pl := &Plan{File: name, Set: map[string]bool{}}
+	pl := &Plan{File: name, Set: map[string]bool{}, Lines: map[string]int{}}
 	root := doc.Content[0]
 	if err := p.fields(root, "the plan", topKeys, func(key string, v *yaml.Node) error {
 		pl.Set[key] = true
+		pl.Lines[key] = v.Line
 		return p.top(pl, key, v)
 	}); err != nil {
 		return nil, err

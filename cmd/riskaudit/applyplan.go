@@ -57,6 +57,15 @@ func applyPlan(cmd *cobra.Command, o *auditOptions) error {
 			f.apply()
 		}
 	}
+	// A file the plan names (and no flag overrides) that cannot be read
+	// is reported with the plan's key and line.
+	for _, f := range []struct{ flag, key string }{{"model", "model"}, {"dev", "dev"}, {"cohort", "cohort"}} {
+		if !cmd.Flags().Changed(f.flag) {
+			if err := pl.CheckFile(f.key); err != nil {
+				return err
+			}
+		}
+	}
 	// The sample-size threshold and anticipated values, which only a plan
 	// gives; the criteria; the renames.
 	ss.Targets = c.SampleSize.Targets

@@ -45,14 +45,20 @@ on the command line override it.`,
 	initCmd.Flags().BoolVar(&force, "force", false, "overwrite an existing file")
 	checkCmd := &cobra.Command{
 		Use:     "check PLAN",
-		Short:   "Read a plan and report its first problem, if any",
+		Short:   "Read a plan, check the files it names, and report its first problem, if any",
 		Example: `  riskaudit plan check monthly-audit.yaml`,
 		Args:    cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			if _, err := plan.Load(args[0]); err != nil {
+			pl, err := plan.Load(args[0])
+			if err != nil {
 				return err
 			}
-			fmt.Fprintf(s.out, "%s: no problems found\n", args[0])
+			for _, key := range append(plan.FileKeys, "history") {
+				if err := pl.CheckFile(key); err != nil {
+					return err
+				}
+			}
+			fmt.Fprintf(s.out, "%s: no problems found (its keys and values are valid, and the files it names can be read)\n", args[0])
 			return nil
 		},
 	}
