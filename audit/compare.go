@@ -24,6 +24,8 @@ type CompareConfig struct {
 	// names the column of the other model's risks.
 	Models    []string
 	Predicted string
+	// PredictedPercent says that Predicted holds risks in percent.
+	PredictedPercent bool
 	// Cohort is the data; Read and FailOnMissing say how to read it, as
 	// in Config.
 	Cohort        Input
@@ -139,7 +141,7 @@ func scoreBoth(fr *cohort.Frame, specs []*model.Spec, reqs []cohort.Request, cfg
 		if y == nil {
 			y = m.Y
 			if cfg.Predicted != "" {
-				q, err := predictedRisks(fr, cfg.Predicted, m.Rows)
+				q, err := predictedRisks(fr, cfg.Predicted, m.Rows, cfg.PredictedPercent)
 				if err != nil {
 					return nil, nil, err
 				}

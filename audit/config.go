@@ -36,6 +36,9 @@ type Predicted struct {
 	// Outcome is the outcome column and Event the value that is an
 	// event; with NonEvent, any value other than the two is an error.
 	Outcome, Event, NonEvent string
+	// Percent says that the column holds risks in percent (0 to 100),
+	// which are divided by 100; without it a risk above 1 is an error.
+	Percent bool
 }
 
 // Config names everything one audit needs. The zero values of the

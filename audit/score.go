@@ -125,7 +125,7 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input) (*scored
 		sc.groups = append(sc.groups, groupColumn(fr.Column(g), m.Rows, m.N))
 	}
 	if c.Predicted != nil {
-		if sc.p, err = predictedRisks(fr, c.Predicted.Column, m.Rows); err != nil {
+		if sc.p, err = predictedRisks(fr, c.Predicted.Column, m.Rows, c.Predicted.Percent); err != nil {
 			return nil, err
 		}
 	} else {
@@ -163,15 +163,26 @@ func groupColumn(col *cohort.Column, rows []int, n int) validate.GroupColumn {
 }
 
 // predictedRisks returns the risks in column name of the given frame
-// rows, refusing any outside [0, 1] with its line.
-func predictedRisks(fr *cohort.Frame, name string, rows []int) ([]float64, error) {
+// rows, refusing any outside [0, 1] (or, in percent, [0, 100]) with its
+// line. Risks in percent are divided by 100.
+func predictedRisks(fr *cohort.Frame, name string, rows []int, percent bool) ([]float64, error) {
 	col := fr.Column(name)
 	p := make([]float64, len(rows))
+	top, msg := 1.0, "a predicted risk must lie between 0 and 1"
+	if percent {
+		top, msg = 100, "a predicted risk in percent must lie between 0 and 100"
+	}
 	for r, i := range rows {
 		v := col.Num[i]
-		if !(v >= 0 && v <= 1) {
+		if !(v >= 0 && v <= top) {
+			if !percent && v > 1 && v <= 100 {
+				msg += " (if the column holds percentages, say so with --predicted-percent)"
+			}
 			return nil, &cohort.Error{File: fr.File, Line: fr.Line(i), Row: fr.RowNumbered, Column: name,
-				Value: strconv.FormatFloat(v, 'g', -1, 64), HasValue: true, Msg: "a predicted risk must lie between 0 and 1", Kind: cohort.ErrDomain}
+				Value: strconv.FormatFloat(v, 'g', -1, 64), HasValue: true, Msg: msg, Kind: cohort.ErrDomain}
+		}
+		if percent {
+			v /= 100
 		}
 		p[r] = v
 	}

@@ -106,6 +106,7 @@ type Plan struct {
 	File string
 
 	Model, Predicted, Outcome, Event, NonEvent string
+	PredictedPercent                           bool
 	Dev, Cohort, Out, History, AuditDate       string
 	Rename                                     map[string]string
 	Subgroups                                  []string
@@ -167,7 +168,7 @@ func (pl *Plan) CheckFile(key string) error {
 	return f.Close()
 }
 
-var topKeys = []string{"name", "model", "predicted", "outcome", "event", "non_event", "dev", "cohort", "out", "history",
+var topKeys = []string{"name", "model", "predicted", "predicted_percent", "outcome", "event", "non_event", "dev", "cohort", "out", "history",
 	"audit_date", "rename", "subgroups", "min_subgroup_events", "criteria", "bootstrap", "ci_bootstrap",
 	"thresholds", "classify_at", "net_benefit_min_gain", "data", "sample_size"}
 
@@ -283,6 +284,18 @@ func (p *parser) num(v *yaml.Node, key string) (float64, error) {
 	return x, nil
 }
 
+// boolean reads true or false.
+func (p *parser) boolean(v *yaml.Node, key string) (bool, error) {
+	s, err := p.str(v, key)
+	if err != nil {
+		return false, err
+	}
+	if s != "true" && s != "false" {
+		return false, p.errf(ErrValue, v, "%s must be true or false", key)
+	}
+	return s == "true", nil
+}
+
 func (p *parser) whole(v *yaml.Node, key string) (int, error) {
 	s, err := p.str(v, key)
 	if err != nil {
@@ -376,6 +389,8 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 		_, err = p.str(v, key)
 	case "model":
 		pl.Model, err = p.str(v, key)
+	case "predicted_percent":
+		pl.PredictedPercent, err = p.boolean(v, key)
 	case "predicted":
 		pl.Predicted, err = p.str(v, key)
 	case "outcome":
@@ -477,13 +492,7 @@ func (p *parser) data(d *Data, v *yaml.Node, set map[string]bool) error {
 		case "delimiter":
 			d.Delimiter, err = p.str(c, k)
 		case "decimal_comma":
-			var s string
-			if s, err = p.str(c, k); err == nil {
-				if s != "true" && s != "false" {
-					return p.errf(ErrValue, c, "decimal_comma must be true or false")
-				}
-				d.DecimalComma = s == "true"
-			}
+			d.DecimalComma, err = p.boolean(c, k)
 		case "missing":
 			d.Missing, err = p.str(c, k)
 		case "na_values":

@@ -28,6 +28,7 @@ func applyPlan(cmd *cobra.Command, o *auditOptions) error {
 	}{
 		{"model", "model", func() { c.Model = pl.Model }},
 		{"predicted", "predicted", func() { o.predicted = pl.Predicted }},
+		{"predicted-percent", "predicted_percent", func() { o.predictedPercent = pl.PredictedPercent }},
 		{"outcome", "outcome", func() { o.outcome = pl.Outcome }},
 		{"event", "event", func() { o.event = pl.Event }},
 		{"non-event", "non_event", func() { o.nonEvent = pl.NonEvent }},

@@ -21,6 +21,7 @@ type auditOptions struct {
 	data dataFlags
 	// predicted, outcome, event and nonEvent make cfg.Predicted.
 	predicted, outcome, event, nonEvent string
+	predictedPercent                    bool
 	// thresholds and delta are read into cfg.Measures.
 	thresholds string
 	// classifyAt and minGain are read into cfg.Measures too.
@@ -131,6 +132,7 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f := c.Flags()
 	f.StringVar(&o.cfg.Model, "model", "", "frozen model (YAML) that scores the cohort, or a recipe to fit on --dev")
 	f.StringVar(&o.predicted, "predicted", "", "column of predicted risks (0 to 1) to audit instead of a model")
+	f.BoolVar(&o.predictedPercent, "predicted-percent", false, "the --predicted column holds risks in percent (0 to 100), divided by 100")
 	f.StringVar(&o.outcome, "outcome", "", "with --predicted: the outcome column")
 	f.StringVar(&o.event, "event", "", "with --predicted: the outcome value that is an event")
 	f.StringVar(&o.nonEvent, "non-event", "", "with --predicted: the value that is a non-event (then any other value is an error)")
@@ -275,7 +277,7 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 		cfg.Measures.Delta = o.delta
 	}
 	if o.predicted != "" {
-		cfg.Predicted = &audit.Predicted{Column: o.predicted, Outcome: o.outcome, Event: o.event, NonEvent: o.nonEvent}
+		cfg.Predicted = &audit.Predicted{Column: o.predicted, Outcome: o.outcome, Event: o.event, NonEvent: o.nonEvent, Percent: o.predictedPercent}
 	}
 	cfg.Tool, cfg.CommandLine, cfg.Clock = "riskaudit "+toolVersion(), s.commandLine(), now
 	if os.Getenv("GOGC") == "" {

@@ -13,15 +13,16 @@ import (
 )
 
 type compareOptions struct {
-	data        dataFlags
-	models      []string
-	predicted   string
-	cohortFile  string
-	out         string
-	thresholds  string
-	ciBootstrap int
-	seed        uint64
-	quiet       bool
+	data             dataFlags
+	models           []string
+	predicted        string
+	predictedPercent bool
+	cohortFile       string
+	out              string
+	thresholds       string
+	ciBootstrap      int
+	seed             uint64
+	quiet            bool
 }
 
 func newCompareCmd(s *streams) *cobra.Command {
@@ -52,6 +53,7 @@ Writes DIR/compare.md, DIR/compare.json and DIR/decision_curves.svg with:
 	f := c.Flags()
 	f.StringArrayVar(&o.models, "model", nil, "a frozen model (give twice, or once with --predicted)")
 	f.StringVar(&o.predicted, "predicted", "", "a column of predicted risks to compare with the model")
+	f.BoolVar(&o.predictedPercent, "predicted-percent", false, "the --predicted column holds risks in percent (0 to 100)")
 	f.StringVar(&o.cohortFile, "cohort", "", "the cohort (CSV or TSV with a header row, Parquet, or Arrow IPC)")
 	f.StringVar(&o.out, "out", "", "output folder")
 	f.StringVar(&o.thresholds, "thresholds", "0.05:0.50:0.05", "decision-curve thresholds: FROM:TO:STEP or a list")
@@ -82,7 +84,7 @@ func runCompare(ctx context.Context, o *compareOptions, s *streams) error {
 		return err
 	}
 	res, err := audit.Compare(ctx, audit.CompareConfig{
-		Models: o.models, Predicted: o.predicted, Cohort: audit.Input{Path: o.cohortFile}, Read: copt, FailOnMissing: fail,
+		Models: o.models, Predicted: o.predicted, PredictedPercent: o.predictedPercent, Cohort: audit.Input{Path: o.cohortFile}, Read: copt, FailOnMissing: fail,
 		Measures: validate.CompareOptions{Thresholds: ts, Replicates: o.ciBootstrap, Seed: o.seed},
 		Tool:     "riskaudit " + toolVersion(), CommandLine: s.commandLine(), Clock: now,
 	})
