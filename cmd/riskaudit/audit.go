@@ -145,7 +145,7 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.IntVar(&o.cfg.Measures.Groups, "groups", 10, "risk groups of the calibration plot (10: deciles)")
 	f.IntVar(&o.cfg.Measures.HLGroups, "hl-groups", 10, "Hosmer–Lemeshow groups")
 	f.Float64Var(&o.cfg.Measures.Span, "lowess-span", 0.75, "span of the LOWESS calibration curve")
-	f.Float64Var(&o.delta, "lowess-delta", -1, "LOWESS δ; negative chooses 0 up to 10,000 rows and 1% of the risk range beyond")
+	f.Float64Var(&o.delta, "lowess-delta", -1, "LOWESS δ; negative chooses 0 up to 10,000 rows, 1% of the risk range up to 100,000 rows and 2% beyond")
 	f.Float64Var(&o.cfg.Measures.Epsilon, "clamp", validate.DefaultEpsilon, "risks of exactly 0 or 1 are clamped to [clamp, 1 − clamp] for the logit")
 	f.IntVar(&o.cfg.Bootstrap, "bootstrap", 0, "internal validation: bootstrap replicates of the development data (refitting the recipe each time)")
 	f.Uint64Var(&o.cfg.Seed, "seed", 1, "seed of the bootstrap draws (the same seed gives the same numbers whatever --workers)")
