@@ -86,7 +86,7 @@ func DefaultCriteria() []Criterion {
 		{Measure: "slope", Between: &[2]float64{0.8, 1.2}, Severity: "fail",
 			Source: "weak calibration, slope near 1 (Van Calster et al. 2016); the 0.8–1.2 band is common practice"},
 		{Measure: "ici", AtMost: f(0.03), Severity: "review",
-			Source: "ICI (Austin & Steyerberg 2019) of at most 3 percentage points: common practice, no published threshold; a review rather than a failure"},
+			Source: "ICI (Austin & Steyerberg 2019) of at most 0.03 on the risk scale (3 percentage points): common practice, no published threshold; a review rather than a failure"},
 	}
 }
 
