@@ -230,25 +230,30 @@ type expectations struct {
 // risks expit(a + b·LP) and treatment at LP ≥ cut (nb).
 func sampleExpectations(lp []float64, a, b, cut float64, nb bool) expectations {
 	k := float64(len(lp))
-	p := make([]float64, len(lp))
+	p, r := make([]float64, len(lp)), make([]float64, len(lp))
+	calibrated := a == 0 && b == 1
 	var e expectations
 	mean := 0.0
 	for i, v := range lp {
-		eta := a + b*v
-		p[i] = expit(eta)
+		p[i], r[i] = expit2(a + b*v)
 		e.phi += p[i]
-		e.q += expit(-eta)
-		e.pred += expit(v)
+		e.q += r[i]
+		if !calibrated {
+			e.pred += expit(v)
+		}
 		mean += v
 	}
 	e.phi, e.q, e.pred, mean = e.phi/k, e.q/k, e.pred/k, mean/k
+	if calibrated {
+		e.pred = e.phi
+	}
 	// The calibration slope's information about the LP's mean: I_aa,
 	// and I_ab and I_bb of the centred LP, whose determinant
 	// I_aa·I_bb − I_ab² is that of the LP itself without the
 	// cancellation of large uncentred sums.
 	var iaa, iab, ibb, raw float64
 	for i, v := range lp {
-		w := p[i] * expit(-(a + b*v))
+		w := p[i] * r[i]
 		d := v - mean
 		iaa += w
 		iab += w * d
@@ -264,7 +269,7 @@ func sampleExpectations(lp []float64, a, b, cut float64, nb bool) expectations {
 		for i, v := range lp {
 			if v >= cut { // expit(v) ≥ t exactly when v ≥ logit(t)
 				e.tp += p[i]
-				e.fp += 1 - p[i]
+				e.fp += r[i]
 				treated++
 			} else {
 				e.fn += p[i]
