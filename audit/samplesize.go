@@ -26,7 +26,7 @@ func sampleSizeOf(sc *scored, perf *validate.Performance, classifyAt []float64, 
 	}
 	var basis []string
 	if size.LPSD > 0 {
-		ant.LP = samplesize.Normal(size.LPMean, size.LPSD, 20000)
+		ant.Normal = &samplesize.NormalLP{Mean: size.LPMean, SD: size.LPSD}
 		if size.FromEventRate {
 			basis = append(basis, fmt.Sprintf("the plan: a normal linear predictor (mean %.3f, SD %.3f) giving event proportion %g and C-statistic %g", size.LPMean, size.LPSD, size.EventRate, size.CStatistic))
 		} else {
@@ -159,6 +159,7 @@ func PlanSize(ctx context.Context, cfg SizeConfig) (*SizePlan, error) {
 	}
 	t := withDefaultTargets(cfg.Targets)
 	var lp []float64
+	var normal *samplesize.NormalLP
 	var about string
 	c := cfg.CStatistic
 	switch {
@@ -170,15 +171,15 @@ func PlanSize(ctx context.Context, cfg SizeConfig) (*SizePlan, error) {
 	case cfg.EventRate > 0:
 		var err error
 		if cfg.LPMean, cfg.LPSD, err = samplesize.NormalFor(cfg.EventRate, cfg.CStatistic); err != nil {
-			return nil, &ConfigError{Msg: err.Error()}
+			return nil, &ConfigError{Msg: strings.TrimPrefix(err.Error(), "samplesize: ")}
 		}
 		c = 0
 		fallthrough
 	default:
-		lp = samplesize.Normal(cfg.LPMean, cfg.LPSD, 20000)
+		normal = &samplesize.NormalLP{Mean: cfg.LPMean, SD: cfg.LPSD}
 		about = fmt.Sprintf("Linear predictor Normal(mean %.3f, SD %.3f)", cfg.LPMean, cfg.LPSD)
 	}
-	res, err := samplesize.Compute(samplesize.Anticipated{LP: lp, C: c, Threshold: cfg.Threshold, CalIntercept: cfg.CalIntercept, CalSlope: cfg.CalSlope}, t)
+	res, err := samplesize.Compute(samplesize.Anticipated{LP: lp, Normal: normal, C: c, Threshold: cfg.Threshold, CalIntercept: cfg.CalIntercept, CalSlope: cfg.CalSlope}, t)
 	if err != nil {
 		return nil, &ConfigError{Msg: err.Error()}
 	}

@@ -5,6 +5,13 @@
 // standard error gives the target 95% confidence interval width, given the
 // anticipated event proportion, calibration and distribution of the
 // linear predictor. The recommended size is the largest of them.
+//
+// A normal linear predictor (NormalLP) is integrated over by adaptive
+// Gauss–Legendre quadrature to 1e-13 relative, and NormalFor finds the
+// normal linear predictor of a given event proportion and C-statistic
+// to the same accuracy; a linear predictor given as a sample (a cohort's)
+// is averaged over. Needs and their events are rounded up with a
+// relative tolerance of 1e-12 (ceilTol).
 package samplesize
 
 import (
@@ -64,9 +71,13 @@ type Request struct {
 
 // Anticipated describes the validation population.
 type Anticipated struct {
-	// LP is the distribution of the model's linear predictor, as a sample
-	// (from a cohort, or from Normal).
+	// LP is the distribution of the model's linear predictor as a sample
+	// (from a cohort, or from Normal), when Normal is nil.
 	LP []float64
+	// Normal, when not nil, is the linear predictor's distribution
+	// itself (LP must then be empty): every expectation over it is an
+	// integral, computed to 1e-13 relative by adaptive quadrature.
+	Normal *NormalLP
 	// CalIntercept and CalSlope give the true risks expit(a + b·LP); 0 and
 	// 1 for a calibrated model.
 	CalIntercept, CalSlope float64
@@ -138,7 +149,10 @@ func (r *Result) Complete() bool {
 }
 
 // Normal returns k points spread over a normal distribution (its
-// quantiles at (i − ½)/k), a deterministic sample for the formulas.
+// quantiles at (i − ½)/k), a deterministic sample for the formulas. Its
+// expectations differ from the distribution's by about 1e-5 relative at
+// k = 20,000; give Anticipated.Normal to integrate over the distribution
+// itself.
 func Normal(mean, sd float64, k int) []float64 {
 	out := make([]float64, k)
 	for i := range out {
@@ -155,8 +169,25 @@ func expit(x float64) float64 {
 	return e / (1 + e)
 }
 
-// Compute returns the sample size each criterion needs.
+// ceilTol is the relative tolerance of every rounding up of a count of
+// patients or events: a need x becomes ⌈x·(1 − ceilTol)⌉. A need that
+// is a whole number k in exact arithmetic but computed a few units in
+// the last place above it (the events n·φ of 820 patients at φ = 0.1
+// can come out 82.00000000000001) is then k, not k + 1. The needs are
+// computed to about 1e-13 relative (the quadrature's tolerance and a few
+// roundings), within ceilTol; a need above k by less than ceilTol·k (a
+// millionth of a patient at a million patients) is taken as k.
+const ceilTol = 1e-12
+
+// ceilNeed rounds a positive need up to a whole count, within ceilTol.
+func ceilNeed(x float64) int { return int(math.Ceil(x * (1 - ceilTol))) }
+
+// Compute returns the sample size each criterion needs, each need and
+// its events rounded up to whole numbers with a relative tolerance of
+// 1e-12 (a need within 1e-12 of a whole number above it is that number;
+// see ceilTol).
 //
+// The linear predictor is a.Normal, integrated over, or the sample a.LP.
 // A criterion whose size cannot be computed keeps its place in the
 // result with N = 0 and the reason in NotComputable, never a number that
 // means nothing: an anticipated calibration intercept or slope that is
@@ -167,14 +198,121 @@ func expit(x float64) float64 {
 // (the C-statistic); a threshold that no anticipated risk reaches, so
 // that nobody would be treated and the net benefit is 0 at every size
 // (net benefit); and any need above MaxN. Compute returns an error when
-// a.LP holds fewer than 10 values or one that is not finite.
+// a.LP holds fewer than 10 values or one that is not finite, when
+// a.Normal's mean is not finite or its SD not positive and finite, and
+// when both are given.
 func Compute(a Anticipated, t Targets) (*Result, error) {
-	if len(a.LP) < 10 {
-		return nil, errors.New("samplesize: the linear predictor's distribution needs at least 10 values")
+	r, _, err := compute(a, t)
+	return r, err
+}
+
+// expectations are the anticipated quantities every criterion is
+// computed from, over the linear predictor's distribution.
+type expectations struct {
+	// phi and q are the event proportion and 1 − phi (each computed,
+	// not by subtraction); pred is the mean predicted risk expit(LP).
+	phi, q, pred float64
+	// iaa and det are the Fisher information of the intercept and the
+	// determinant of the calibration model's information (LP units);
+	// varies is false when det is at most 1e-10 of iaa·E[w·LP²].
+	iaa, det float64
+	varies   bool
+	// c is the implied C-statistic.
+	c float64
+	// tp, fp and fn are the shares of true positives, false positives
+	// and false negatives at the threshold; treated is false when no
+	// risk reaches it.
+	tp, fp, fn float64
+	treated    bool
+}
+
+// sampleExpectations are the expectations over the sample lp, with true
+// risks expit(a + b·LP) and treatment at LP ≥ cut (nb).
+func sampleExpectations(lp []float64, a, b, cut float64, nb bool) expectations {
+	k := float64(len(lp))
+	p, r := make([]float64, len(lp)), make([]float64, len(lp))
+	calibrated := a == 0 && b == 1
+	var e expectations
+	mean := 0.0
+	for i, v := range lp {
+		p[i], r[i] = expit2(a + b*v)
+		e.phi += p[i]
+		e.q += r[i]
+		if !calibrated {
+			e.pred += expit(v)
+		}
+		mean += v
 	}
-	for _, v := range a.LP {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, fmt.Errorf("samplesize: a linear predictor of %v: give finite values", v)
+	e.phi, e.q, e.pred, mean = e.phi/k, e.q/k, e.pred/k, mean/k
+	if calibrated {
+		e.pred = e.phi
+	}
+	// The calibration slope's information about the LP's mean: I_aa,
+	// and I_ab and I_bb of the centred LP, whose determinant
+	// I_aa·I_bb − I_ab² is that of the LP itself without the
+	// cancellation of large uncentred sums.
+	var iaa, iab, ibb, raw float64
+	for i, v := range lp {
+		w := p[i] * r[i]
+		d := v - mean
+		iaa += w
+		iab += w * d
+		ibb += w * d * d
+		raw += w * v * v
+	}
+	iaa, iab, ibb, raw = iaa/k, iab/k, ibb/k, raw/k
+	e.iaa, e.det = iaa, iaa*ibb-iab*iab
+	e.varies = e.det > 1e-10*iaa*raw
+	e.c = impliedC(lp, p)
+	if nb {
+		treated := 0
+		for i, v := range lp {
+			if v >= cut { // expit(v) ≥ t exactly when v ≥ logit(t)
+				e.tp += p[i]
+				e.fp += r[i]
+				treated++
+			} else {
+				e.fn += p[i]
+			}
+		}
+		e.tp, e.fp, e.fn, e.treated = e.tp/k, e.fp/k, e.fn/k, treated > 0
+	}
+	return e
+}
+
+// normalExpectations are the expectations over Normal(nd), integrated.
+func normalExpectations(nd NormalLP, a, b, cut float64, nb bool) (expectations, error) {
+	m := momentsOf(newIntegrator(), nd, a, b, cut, nb)
+	if !m.ok {
+		return expectations{}, fmt.Errorf("samplesize: the integrals over Normal(%g, %g) did not reach their tolerance", nd.Mean, nd.SD)
+	}
+	e := expectations{phi: m.phi, q: m.q, pred: m.pred, iaa: m.w0, c: m.cStatistic(),
+		tp: m.tp, fp: m.fp, fn: m.fn, treated: m.treated > 0}
+	sd := nd.SD
+	e.det = sd * sd * (m.w0*m.w2 - m.w1*m.w1)
+	raw := nd.Mean*nd.Mean*m.w0 + 2*nd.Mean*sd*m.w1 + sd*sd*m.w2 // E[w·LP²]
+	e.varies = e.det > 1e-10*m.w0*raw
+	return e, nil
+}
+
+// compute is Compute that also returns each criterion's need before
+// rounding (NaN where it cannot be computed), for tests.
+func compute(a Anticipated, t Targets) (*Result, []float64, error) {
+	if a.Normal != nil {
+		switch nd := *a.Normal; {
+		case len(a.LP) > 0:
+			return nil, nil, errors.New("samplesize: give the linear predictor as a sample or as a normal distribution, not both")
+		case !finite(nd.Mean) || !(nd.SD > 0) || math.IsInf(nd.SD, 1):
+			return nil, nil, fmt.Errorf("samplesize: a normal linear predictor with mean %v and SD %v: give a finite mean and a positive, finite SD", nd.Mean, nd.SD)
+		}
+	} else {
+		if len(a.LP) < 10 {
+			return nil, nil, errors.New("samplesize: the linear predictor's distribution needs at least 10 values")
+		}
+		for _, v := range a.LP {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, nil, fmt.Errorf("samplesize: a linear predictor of %v: give finite values", v)
+			}
 		}
 	}
 	if a.CalSlope == 0 {
@@ -193,33 +331,37 @@ func Compute(a Anticipated, t Targets) (*Result, error) {
 	if t.NBWidth <= 0 {
 		t.NBWidth = def.NBWidth
 	}
-	k := float64(len(a.LP))
-	p := make([]float64, len(a.LP))
-	phi := 0.0
-	for i, v := range a.LP {
-		p[i] = expit(a.CalIntercept + a.CalSlope*v)
-		phi += p[i]
-	}
-	phi /= k
+	nb := a.Threshold > 0 && a.Threshold < 1
+	w := a.Threshold / (1 - a.Threshold)
+	cut := math.Log(w)
 	// every is a reason that no criterion can be computed.
 	every := ""
+	var e expectations
 	switch {
 	case !finite(a.CalIntercept) || !finite(a.CalSlope):
 		every = UnknownCalibration
-		phi = math.NaN()
-	case !(phi > 0 && phi < 1):
+		e.phi, e.q = math.NaN(), math.NaN()
+	case a.Normal != nil:
+		var err error
+		if e, err = normalExpectations(*a.Normal, a.CalIntercept, a.CalSlope, cut, nb); err != nil {
+			return nil, nil, err
+		}
+	default:
+		e = sampleExpectations(a.LP, a.CalIntercept, a.CalSlope, cut, nb)
+	}
+	phi := e.phi
+	if every == "" && !(phi > 0 && phi < 1) {
 		every = fmt.Sprintf("the anticipated event proportion is %g, so outcomes would not vary", phi)
 	}
 	if a.OE <= 0 && every == "" {
-		e := 0.0
-		for _, v := range a.LP {
-			e += expit(v)
+		a.OE = phi / e.pred
+		if a.CalIntercept == 0 && a.CalSlope == 1 {
+			a.OE = 1
 		}
-		a.OE = phi / (e / k)
 	}
 	c := a.C
 	if c <= 0 && every == "" {
-		c = impliedC(a.LP, p)
+		c = e.c
 	}
 	if every != "" {
 		a.OE, c = math.NaN(), math.NaN()
@@ -228,6 +370,7 @@ func Compute(a Anticipated, t Targets) (*Result, error) {
 		}
 	}
 	r := &Result{EventRate: phi, C: c, OE: a.OE}
+	var needs []float64
 	// add appends a criterion needing n patients (a real number, rounded
 	// up), or not computable for the reason why (or every).
 	add := func(cr Criterion, n float64, why string) {
@@ -242,9 +385,11 @@ func Compute(a Anticipated, t Targets) (*Result, error) {
 		}
 		if why != "" {
 			cr.NotComputable = why
+			needs = append(needs, math.NaN())
 		} else {
-			cr.N = int(math.Ceil(n))
-			cr.Events = int(math.Ceil(float64(cr.N) * phi))
+			cr.N = ceilNeed(n)
+			cr.Events = ceilNeed(float64(cr.N) * phi)
+			needs = append(needs, n)
 		}
 		r.Criteria = append(r.Criteria, cr)
 		if cr.Computable() && cr.N > r.N {
@@ -260,66 +405,43 @@ func Compute(a Anticipated, t Targets) (*Result, error) {
 		why = "the anticipated O/E is not a positive number"
 	}
 	add(Criterion{Measure: "O/E", Target: fmt.Sprintf("95%% CI width %g", t.OEWidth), SE: se,
-		Formula: "var(ln O/E) = (1 − φ)/(nφ)"}, (1-phi)/(phi*se*se), why)
+		Formula: "var(ln O/E) = (1 − φ)/(nφ)"}, e.q/(phi*se*se), why)
 	// Calibration slope: the inverse Fisher information of (a, b) in
 	// logit P(y) = a + b·LP, averaged over the LP distribution:
 	// var(b̂) = I_aa / (n (I_aa I_bb − I_ab²)). The determinant over
 	// I_aa·I_bb is the weighted variance of LP over its weighted mean
 	// square: zero when LP does not vary, and then only rounding.
-	var iaa, iab, ibb float64
-	for i, v := range a.LP {
-		w := p[i] * (1 - p[i])
-		iaa += w
-		iab += w * v
-		ibb += w * v * v
-	}
-	iaa, iab, ibb = iaa/k, iab/k, ibb/k
-	det := iaa*ibb - iab*iab
 	se = t.SlopeWidth / (2 * z)
 	why = ""
-	if !(det > 1e-10*iaa*ibb) {
+	if every == "" && !e.varies {
 		why = "the anticipated linear predictor does not vary (every predicted risk is the same), so no sample size estimates a calibration slope"
 	}
 	add(Criterion{Measure: "calibration slope", Target: fmt.Sprintf("95%% CI width %g", t.SlopeWidth), SE: se,
-		Formula: "inverse Fisher information of the calibration model over the LP distribution"}, iaa/(se*se*det), why)
+		Formula: "inverse Fisher information of the calibration model over the LP distribution"}, e.iaa/(se*se*e.det), why)
 	// C-statistic: the variance of Newcombe (2006, Statistics in Medicine
 	// 25:543–557) as used by Riley et al. (2021; the formula recalled from
 	// memory), var(C) = C(1 − C)[1 + (n/2 − 1)(1 − C)/(2 − C)
-	// + (n/2 − 1)C/(1 + C)] / (n² φ(1 − φ)), solved for n by bisection.
+	// + (n/2 − 1)C/(1 + C)] / (n² φ(1 − φ)), solved for n exactly
+	// (newcombeN).
 	se = t.CWidth / (2 * z)
 	why, n := "", math.NaN()
 	if !(c > 0 && c < 1) {
 		why = fmt.Sprintf("an anticipated C-statistic of %g has no sampling variance in Newcombe's formula, at any size", c)
 	} else if every == "" {
-		n = float64(solve(func(n float64) float64 { return math.Sqrt(newcombeVar(c, phi, n)) }, se))
-		if n < 0 {
-			n = math.Inf(1)
-		}
+		n = newcombeN(c, phi, e.q, se)
 	}
 	add(Criterion{Measure: "C-statistic", Target: fmt.Sprintf("95%% CI width %g", t.CWidth), SE: se,
 		Formula: "Newcombe (2006) variance"}, n, why)
-	if a.Threshold > 0 && a.Threshold < 1 {
+	if nb {
 		// Standardised net benefit at threshold t, w = t/(1 − t): the
 		// cells of true positives, false positives and false negatives
 		// over the LP distribution, then snbVariance.
-		w := a.Threshold / (1 - a.Threshold)
-		cut := math.Log(w) // expit(v) ≥ t exactly when v ≥ logit(t)
-		var tp, fp, fn float64
-		treated := 0
-		for i, v := range a.LP {
-			if v >= cut {
-				tp += p[i]
-				fp += 1 - p[i]
-				treated++
-			} else {
-				fn += p[i]
-			}
-		}
-		v1 := snbVariance(tp/k, fp/k, fn/k, w)
+		v1 := snbVariance(e.tp, e.fp, e.fn, w)
 		se = t.NBWidth / (2 * z)
 		why = ""
 		switch {
-		case treated == 0:
+		case every != "":
+		case !e.treated:
 			why = fmt.Sprintf("no anticipated risk reaches the threshold %g, so nobody would be treated and the net benefit is 0 at any size", a.Threshold)
 		case !(v1 > 0):
 			why = "the standardised net benefit's anticipated variance is 0"
@@ -327,7 +449,7 @@ func Compute(a Anticipated, t Targets) (*Result, error) {
 		add(Criterion{Measure: fmt.Sprintf("standardised net benefit at %g", a.Threshold), Target: fmt.Sprintf("95%% CI width %g", t.NBWidth), SE: se,
 			Formula: "delta-method variance of NB/φ over the multinomial cells"}, v1/(se*se), why)
 	}
-	return r, nil
+	return r, needs, nil
 }
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
@@ -349,24 +471,17 @@ func newcombeVar(c, phi, n float64) float64 {
 	return c * (1 - c) * (1 + h*(1-c)/(2-c) + h*c/(1+c)) / (n * n * phi * (1 - phi))
 }
 
-// solve finds the smallest whole n with se(n) ≤ target, se decreasing.
-func solve(se func(float64) float64, target float64) int {
-	lo, hi := 4.0, 8.0
-	for se(hi) > target {
-		lo, hi = hi, hi*2
-		if hi > MaxN {
-			return -1
-		}
-	}
-	for hi-lo > 0.5 {
-		mid := (lo + hi) / 2
-		if se(mid) > target {
-			lo = mid
-		} else {
-			hi = mid
-		}
-	}
-	return int(math.Ceil(hi))
+// newcombeN is the n at which Newcombe's standard error of the
+// C-statistic c equals se, with event proportion phi and q = 1 − phi.
+// With K = c(1 − c)/(φ(1 − φ)) and S = (1 − c)/(2 − c) + c/(1 + c),
+// var(C)·n² = K(1 − S) + (KS/2)·n, so se²n² − (KS/2)n − K(1 − S) = 0,
+// whose one positive root is taken (0 < S < 1, so both terms under the
+// root are positive and nothing cancels).
+func newcombeN(c, phi, q, se float64) float64 {
+	k := c * (1 - c) / (phi * q)
+	s := (1-c)/(2-c) + c/(1+c)
+	h := k * s / 2
+	return (h + math.Sqrt(h*h+4*se*se*k*(1-s))) / (2 * se * se)
 }
 
 // impliedC is the C-statistic of risks p over the LP sample: the
@@ -394,54 +509,4 @@ func impliedC(lp, p []float64) float64 {
 		s = e
 	}
 	return total / (e1 * e0)
-}
-
-// NormalFor finds the normal distribution of the linear predictor of a
-// calibrated model with event proportion phi and C-statistic c: the
-// spread σ gives the C-statistic and the mean μ the event proportion,
-// each found by bisection over the deterministic sample of Normal.
-func NormalFor(phi, c float64) (mu, sd float64, err error) {
-	if !(phi > 0 && phi < 1) || !(c > 0.5 && c < 1) {
-		return 0, 0, errors.New("samplesize: give an event proportion in (0, 1) and a C-statistic in (0.5, 1)")
-	}
-	const k = 4000
-	meanFor := func(sd float64) float64 {
-		lo, hi := -30.0, 30.0
-		for it := 0; it < 80; it++ {
-			mid := (lo + hi) / 2
-			s := 0.0
-			for _, v := range Normal(mid, sd, k) {
-				s += expit(v)
-			}
-			if s/k < phi {
-				lo = mid
-			} else {
-				hi = mid
-			}
-		}
-		return (lo + hi) / 2
-	}
-	cFor := func(sd float64) float64 {
-		m := meanFor(sd)
-		lp := Normal(m, sd, k)
-		p := make([]float64, k)
-		for i, v := range lp {
-			p[i] = expit(v)
-		}
-		return impliedC(lp, p)
-	}
-	lo, hi := 1e-3, 10.0
-	if cFor(hi) < c {
-		return 0, 0, fmt.Errorf("samplesize: a C-statistic of %g is out of reach", c)
-	}
-	for it := 0; it < 50; it++ {
-		mid := (lo + hi) / 2
-		if cFor(mid) < c {
-			lo = mid
-		} else {
-			hi = mid
-		}
-	}
-	sd = (lo + hi) / 2
-	return meanFor(sd), sd, nil
 }

@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"strings"
 
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
@@ -39,14 +40,20 @@ as a pilot extract of the target population (--model, --data), whose
 linear predictors are taken as they are. An anticipated miscalibration
 (--calibration-intercept a, --calibration-slope b) makes the true risks
 expit(a + b·LP); --c-statistic otherwise replaces the C-statistic the
-distribution implies. The recommended size is the largest requirement.`,
+distribution implies. The recommended size is the largest requirement.
+
+A normal linear predictor is integrated over (to 1e-13 relative), not
+sampled; each need is rounded up to whole patients and events, a need
+within 1e-12 relative above a whole number counting as that number.`,
 		Example: `  riskaudit samplesize --event-rate 0.1 --c-statistic 0.75 --threshold 0.1
   riskaudit samplesize --lp-mean -2.5 --lp-sd 1.2 --slope-width 0.3 --json size.json
   riskaudit samplesize --lp-mean -3 --lp-sd 1 --calibration-intercept 0.3 --calibration-slope 0.8
   riskaudit samplesize --model frozen.yaml --data pilot-extract.csv --calibration-intercept 0.2`,
-		Args: cobra.NoArgs,
+		Args: func(cmd *cobra.Command, args []string) error {
+			return pointToHelp(cmd, cobra.NoArgs(cmd, args))
+		},
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			return runSampleSize(cmd, o, s)
+			return pointToHelp(cmd, runSampleSize(cmd, o, s))
 		},
 	}
 	f := cmd.Flags()
@@ -65,6 +72,17 @@ distribution implies. The recommended size is the largest requirement.`,
 	_ = cmd.MarkFlagFilename("model", "yaml", "yml")
 	_ = cmd.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather")
 	return cmd
+}
+
+// pointToHelp adds "(see 'riskaudit samplesize --help')" to an error
+// of usage (exit status 2) that names no help yet, which would otherwise
+// point to the top-level help; the error is wrapped, so its type and
+// exit status are kept.
+func pointToHelp(cmd *cobra.Command, err error) error {
+	if err == nil || exitCode(err) != exitUsage || strings.Contains(err.Error(), "--help") {
+		return err
+	}
+	return fmt.Errorf("%w (see '%s --help')", err, cmd.CommandPath())
 }
 
 // widthFlags registers the target 95% CI widths of the sample-size
@@ -112,6 +130,9 @@ func runSampleSize(cmd *cobra.Command, o *sizeOptions, s *streams) error {
 	}
 	if fl.Changed("c-statistic") && !(o.c > 0.5 && o.c < 1) {
 		return usagef("--c-statistic %g: give a C-statistic in (0.5, 1)", o.c)
+	}
+	if err := checkWidths(o.widths); err != nil {
+		return err
 	}
 	if err := checkOutputs([]string{o.jsonOut}, o.model, o.dataFile); err != nil {
 		return err

@@ -8,8 +8,10 @@ testdata/reference/fits.json, from general-purpose libraries:
                           Hosmer-Lemeshow tests
   numpy                   the design matrices, built here independently of
                           riskaudit from the formulas of the cited papers
-  scipy (integrate)       the sample-size criteria over the exact normal
-                          density (samplesize.json)
+  scipy (integrate,       the sample-size criteria over the exact normal
+         optimize)        density, and the normal linear predictor of a
+                          given event proportion and C-statistic
+                          (samplesize.json)
 
 Run it with Debian's python3 (python3-statsmodels, python3-sklearn); .ci/run
 regenerates every file and fails on any difference from the committed copy.
@@ -647,60 +649,146 @@ def write_casemix_reference(bc):
 def write_samplesize_reference():
     """The criteria of the external-validation sample size (Riley et al.
     2021) for a normal linear predictor, by scipy quadrature over the exact
-    normal density rather than riskaudit's sample of normal quantiles, and
-    with the C-statistic implied by the distribution computed as a double
-    integral. The variance formulas are the ones riskaudit's samplesize
-    package states; this checks their evaluation, not their derivation."""
-    from scipy import integrate, optimize
-    from scipy.special import expit
-    z = scipy.stats.norm.ppf(0.975)
-    scenarios = [
-        {"name": "calibrated", "mu": -2.2, "sd": 0.9, "a": 0.0, "b": 1.0, "oe": 1.0, "threshold": 0.1,
-         "widths": {"oe": 0.2, "slope": 0.2, "c": 0.1, "nb": 0.2}},
-        {"name": "miscalibrated", "mu": -4.0, "sd": 1.5, "a": 0.3, "b": 0.8, "oe": 1.2, "threshold": 0.05,
-         "widths": {"oe": 0.4, "slope": 0.3, "c": 0.08, "nb": 0.3}},
-        {"name": "rare", "mu": -5.5, "sd": 1.2, "a": 0.0, "b": 1.0, "oe": 1.0, "threshold": 0.02,
-         "widths": {"oe": 1.0, "slope": 0.2, "c": 0.1, "nb": 0.2}},
-    ]
-    out = []
-    for sc in scenarios:
-        mu, sd, a, b, t = sc["mu"], sc["sd"], sc["a"], sc["b"], sc["threshold"]
-        lo, hi = mu - 12 * sd, mu + 12 * sd
-        dens = scipy.stats.norm(mu, sd).pdf
-        risk = lambda x: expit(a + b * x)
+    normal density (scipy.integrate.quad, QUADPACK's adaptive Gauss-Kronrod
+    rule, at 1e-13 relative), a different method from riskaudit's adaptive
+    Gauss-Legendre rule, with the C-statistic implied by the distribution
+    computed from its definition as a double integral, P(LP of an event >
+    LP of a non-event). The variance formulas are the ones riskaudit's
+    samplesize package states; this checks their evaluation, not their
+    derivation.
 
-        def expect(g, lo=lo, hi=hi):
-            return integrate.quad(lambda x: g(x) * dens(x), lo, hi, limit=400, epsabs=0, epsrel=1e-12)[0]
-        phi = expect(risk)
-        # C: P(LP of an event > LP of a non-event) = int f1(x) F0(x) dx.
-        f0_cdf = lambda x: integrate.quad(lambda u: (1 - risk(u)) * dens(u), lo, x, limit=400, epsabs=0, epsrel=1e-11)[0]
-        cstat = integrate.quad(lambda x: risk(x) * dens(x) * f0_cdf(x), lo, hi, limit=400, epsabs=0, epsrel=1e-10)[0] / (phi * (1 - phi))
+    `solves` find the normal linear predictor of a calibrated model with a
+    given event proportion and C-statistic by nested scipy.optimize.brentq
+    (the mean for the event proportion inside, the SD for the C-statistic
+    outside, the C-statistic there by the one-dimensional form of the
+    double integral, P(X1 > X0) = (E[p Phi(T)] - phi^2/2) / (phi (1 - phi))),
+    then check the double integral at the solution.
+
+    Sizes are the needs rounded up as riskaudit documents it (samplesize's
+    ceilTol): ceil(x (1 - 1e-12)), events ceil(n phi (1 - 1e-12))."""
+    import math
+    from scipy import integrate, optimize
+    from scipy.special import expit, ndtr
+    z = scipy.stats.norm.ppf(0.975)
+    ceil_tol = 1e-12
+    eps = 1e-13
+    need = lambda x: int(math.ceil(x * (1 - ceil_tol)))
+    # The standard normal density, written out (scipy.stats' per-call
+    # overhead would make the double integrals take minutes).
+    pdf = lambda t: math.exp(-t * t / 2) / math.sqrt(2 * math.pi)
+
+    def expect(g, mu, sd, lo=-40.0, hi=40.0, cut=None):
+        """E[g(X)] over X = mu + sd T restricted to T in [lo, hi], by quad
+        in T with breakpoints over the bulk of the density."""
+        pts = [p for p in (-12, -8, -4, -2, -1, 0, 1, 2, 4, 8, 12) if lo < p < hi]
+        if cut is not None and lo < cut < hi:
+            pts.append(cut)
+        return integrate.quad(lambda t: g(mu + sd * t) * pdf(t), lo, hi, points=sorted(pts),
+                              limit=2000, epsabs=0, epsrel=eps)[0]
+
+    def c_double(mu, sd, risk, phi):
+        """P(X1 > X0) = int p f(x) F0(x) dx / (phi (1 - phi)), with F0 the
+        non-events' share below x, itself an integral."""
+        f0 = lambda t: integrate.quad(lambda u: (1 - risk(mu + sd * u)) * pdf(u), -40, t,
+                                      points=[p for p in (-8, -4, -2, 0, 2, 4) if p < t] or None,
+                                      limit=2000, epsabs=0, epsrel=eps)[0]
+        num = integrate.quad(lambda t: risk(mu + sd * t) * pdf(t) * f0(t), -40, 40,
+                             points=[-8, -4, -2, -1, 0, 1, 2, 4, 8], limit=2000, epsabs=0, epsrel=1e-12)[0]
+        return num / (phi * (1 - phi))
+
+    def criteria(sc):
+        mu, sd, a, b, t = sc["mu"], sc["sd"], sc["a"], sc["b"], sc["threshold"]
+        risk = lambda x: expit(a + b * x)
+        phi = expect(risk, mu, sd)
+        pred = expect(expit, mu, sd)
+        oe = sc["oe"] if sc["oe"] > 0 else phi / pred
+        cstat = c_double(mu, sd, risk, phi)
         w = sc["widths"]
-        se_oe = np.arcsinh(w["oe"] / (2 * sc["oe"])) / z
+        se_oe = np.arcsinh(w["oe"] / (2 * oe)) / z
         n_oe = (1 - phi) / (phi * se_oe ** 2)
         v = lambda x: risk(x) * (1 - risk(x))
-        iaa, iab, ibb = expect(v), expect(lambda x: v(x) * x), expect(lambda x: v(x) * x * x)
+        # The Fisher information in T = (LP - mu)/sd; its determinant in
+        # LP units is sd^2 times that in T (shifting LP changes nothing).
+        e_w = expect(v, mu, sd)
+        e_wt = expect(lambda x: v(x) * (x - mu) / sd, mu, sd)
+        e_wt2 = expect(lambda x: v(x) * ((x - mu) / sd) ** 2, mu, sd)
         se_slope = w["slope"] / (2 * z)
-        n_slope = iaa / (se_slope ** 2 * (iaa * ibb - iab ** 2))
+        n_slope = e_w / (se_slope ** 2 * sd ** 2 * (e_w * e_wt2 - e_wt ** 2))
         se_c = w["c"] / (2 * z)
 
         def newcombe_se(n):
             h = n / 2 - 1
             return np.sqrt(cstat * (1 - cstat) * (1 + h * (1 - cstat) / (2 - cstat) + h * cstat / (1 + cstat)) / (n * n * phi * (1 - phi)))
-        n_c = optimize.brentq(lambda n: newcombe_se(n) - se_c, 4, 1e9, xtol=1e-9)
-        cut = np.log(t / (1 - t))
-        p1 = expect(risk, cut, hi)
-        p2 = expect(lambda x: 1 - risk(x), cut, hi)
-        p3 = expect(risk, lo, cut)
-        f, wt = p1 + p3, t / (1 - t)
-        g = np.array([(p3 + wt * p2) / f ** 2, -wt / f, -(p1 - wt * p2) / f ** 2])
-        pi = np.array([p1, p2, p3])
-        var1 = np.sum(g * g * pi) - np.sum(g * pi) ** 2
-        n_nb = var1 / (w["nb"] / (2 * z)) ** 2
-        out.append(dict(sc, event_rate=r12(phi), c_statistic=r12(cstat),
-                        n={"oe": r12(n_oe), "slope": r12(n_slope), "c": r12(n_c), "nb": r12(n_nb)}))
+        n_c = optimize.brentq(lambda n: newcombe_se(n) - se_c, 4, 1e9, xtol=1e-12, rtol=1e-15)
+        n = {"oe": n_oe, "slope": n_slope, "c": n_c}
+        integrals = {"e_p": phi, "e_expit": pred, "e_w": e_w, "e_wt": e_wt, "e_wt2": e_wt2}
+        order = ["oe", "slope", "c"]
+        if t > 0:
+            tc = (np.log(t / (1 - t)) - mu) / sd
+            p1 = expect(risk, mu, sd, tc, 40.0)
+            p2 = expect(lambda x: 1 - risk(x), mu, sd, tc, 40.0)
+            p3 = expect(risk, mu, sd, -40.0, tc)
+            f, wt = p1 + p3, t / (1 - t)
+            g = np.array([(p3 + wt * p2) / f ** 2, -wt / f, -(p1 - wt * p2) / f ** 2])
+            pi = np.array([p1, p2, p3])
+            var1 = np.sum(g * g * pi) - np.sum(g * pi) ** 2
+            n["nb"] = var1 / (w["nb"] / (2 * z)) ** 2
+            integrals.update(tp=p1, fp=p2, fn=p3)
+            order.append("nb")
+        sizes = {k: need(v) for k, v in n.items()}
+        events = {k: need(s * phi) for k, s in sizes.items()}
+        driver = max(order, key=lambda k: (sizes[k], -order.index(k)))
+        return dict(sc, event_rate=r12(phi), c_statistic=r12(cstat), oe_anticipated=r12(oe),
+                    integrals={k: r12(v) for k, v in integrals.items()},
+                    n={k: r12(v) for k, v in n.items()}, sizes=sizes, events=events,
+                    required=sizes[driver], required_events=events[driver], driven_by=driver)
+
+    default = {"oe": 0.2, "slope": 0.2, "c": 0.1, "nb": 0.2}
+    scenarios = [
+        {"name": "calibrated", "mu": -2.2, "sd": 0.9, "a": 0.0, "b": 1.0, "oe": 1.0, "threshold": 0.1,
+         "widths": default},
+        {"name": "miscalibrated", "mu": -4.0, "sd": 1.5, "a": 0.3, "b": 0.8, "oe": 1.2, "threshold": 0.05,
+         "widths": {"oe": 0.4, "slope": 0.3, "c": 0.08, "nb": 0.3}},
+        {"name": "rare", "mu": -5.5, "sd": 1.2, "a": 0.0, "b": 1.0, "oe": 1.0, "threshold": 0.02,
+         "widths": {"oe": 1.0, "slope": 0.2, "c": 0.1, "nb": 0.2}},
+        {"name": "N(-2.5, 1.2)", "mu": -2.5, "sd": 1.2, "a": 0.0, "b": 1.0, "oe": 0.0, "threshold": 0.1,
+         "widths": default},
+        {"name": "implied O/E", "mu": -3.0, "sd": 1.0, "a": 0.3, "b": 0.8, "oe": 0.0, "threshold": 0.1,
+         "widths": default},
+        {"name": "wide", "mu": -1.0, "sd": 3.0, "a": -0.2, "b": 1.1, "oe": 0.0, "threshold": 0.3,
+         "widths": {"oe": 0.1, "slope": 0.1, "c": 0.05, "nb": 0.1}},
+        # A steep rise of the risks in T (b·sd = 8) and a rare event whose
+        # mass lies in the normal's upper tail (exp(b·sd·T)·phi(T) peaks at
+        # T = 2.5): the hard cases for quadrature.
+        {"name": "steep", "mu": -6.0, "sd": 8.0, "a": 0.0, "b": 1.0, "oe": 0.0, "threshold": 0.2,
+         "widths": default},
+        {"name": "very rare", "mu": -12.0, "sd": 2.5, "a": 0.0, "b": 1.0, "oe": 0.0, "threshold": 0.01,
+         "widths": {"oe": 1.0, "slope": 0.5, "c": 0.1, "nb": 0.5}},
+    ]
+    out = [criteria(sc) for sc in scenarios]
+
+    # The (event proportion, C-statistic) -> (mean, SD) solve.
+
+    def mean_for(phi, sd):
+        return optimize.brentq(lambda m: expect(expit, m, sd) - phi, -800, 800, xtol=1e-15, rtol=1e-15)
+
+    def c_single(mu, sd):
+        phi = expect(expit, mu, sd)
+        return (expect(lambda x: expit(x) * ndtr((x - mu) / sd), mu, sd) - phi ** 2 / 2) / (phi * (1 - phi))
+
+    solves = []
+    for phi, c, t in [(0.1, 0.75, 0.1), (0.05, 0.8, 0.05), (0.6, 0.85, 0.5)]:
+        sd = optimize.brentq(lambda s: c_single(mean_for(phi, s), s) - c, 0.05, 10, xtol=1e-15, rtol=1e-15)
+        mu = mean_for(phi, sd)
+        sc = {"name": f"event proportion {phi}, C-statistic {c}", "a": 0.0, "b": 1.0, "oe": 0.0,
+              "threshold": t, "widths": default}
+        row = criteria(dict(sc, mu=mu, sd=sd))  # C there by the double integral
+        if abs(row["event_rate"] / phi - 1) > 1e-11 or abs(row["c_statistic"] / c - 1) > 1e-11:
+            raise SystemExit(f"samplesize solve ({phi}, {c}): event proportion {row['event_rate']!r}, C {row['c_statistic']!r}")
+        row.update(mu=r12(mu), sd=r12(sd), target_event_rate=phi, target_c_statistic=c)
+        solves.append(row)
     ref = {"_source": "testdata/reference/make_reference.py (scipy.integrate.quad, scipy.optimize.brentq)",
-           "scenarios": out}
+           "scenarios": out, "solves": solves}
     with open(os.path.join(HERE, "samplesize.json"), "w") as f:
         json.dump(ref, f, indent=1, sort_keys=True)
         f.write("\n")
