@@ -270,6 +270,15 @@ func (s *Spec) MarshalYAML() ([]byte, error) {
 	if s.Name != "" {
 		add(root, "name", str(s.Name))
 	}
+	if !s.Purpose.IsZero() {
+		pu := mapping()
+		for _, k := range PurposeKeys {
+			if v := s.Purpose.Get(k); v != "" {
+				add(pu, k, str(v))
+			}
+		}
+		add(root, "purpose", pu)
+	}
 	o := mapping()
 	add(o, "column", str(s.Outcome.Column))
 	add(o, "event", val(s.Outcome.Event))

@@ -210,8 +210,11 @@ type Provenance struct {
 
 // Spec is a recipe or a frozen model.
 type Spec struct {
-	File         string
-	Name         string
+	File string
+	Name string
+	// Purpose is the model's stated purpose (the spec's optional purpose
+	// section).
+	Purpose      Purpose
 	Outcome      Outcome
 	Intercept    float64
 	HasIntercept bool
@@ -365,11 +368,13 @@ func (p *specParser) value(v *yaml.Node, key string) (Value, error) {
 func (p *specParser) spec(n *yaml.Node) (*Spec, error) {
 	s := &Spec{}
 	sawOutcome, sawPreds := false, false
-	err := p.fields(n, "the spec", []string{"name", "outcome", "intercept", "predictors", "provenance"}, func(key string, k, v *yaml.Node) error {
+	err := p.fields(n, "the spec", []string{"name", "purpose", "outcome", "intercept", "predictors", "provenance"}, func(key string, k, v *yaml.Node) error {
 		var err error
 		switch key {
 		case "name":
 			s.Name, err = p.scalar(v, "name")
+		case "purpose":
+			err = p.purpose(v, &s.Purpose)
 		case "outcome":
 			sawOutcome = true
 			err = p.outcome(v, &s.Outcome)
@@ -404,6 +409,22 @@ func (p *specParser) spec(n *yaml.Node) (*Spec, error) {
 		return nil, p.errf(ErrMissingKey, n, "the spec has no predictors (write predictors: [] for an intercept-only model)")
 	}
 	return s, nil
+}
+
+// purpose reads the purpose section: any of PurposeKeys, each a
+// single non-empty text.
+func (p *specParser) purpose(n *yaml.Node, pu *Purpose) error {
+	return p.fields(n, "purpose", PurposeKeys, func(key string, k, v *yaml.Node) error {
+		s, err := p.scalar(v, "purpose."+key)
+		if err != nil {
+			return err
+		}
+		if strings.TrimSpace(s) == "" || v.ShortTag() == "!!null" {
+			return p.errf(ErrSpecValue, v, "purpose.%s is empty: state it, or leave the key out", key)
+		}
+		pu.Set(key, s)
+		return nil
+	})
 }
 
 func (p *specParser) outcome(n *yaml.Node, o *Outcome) error {
