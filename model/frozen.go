@@ -309,6 +309,9 @@ func (s *Spec) MarshalYAML() ([]byte, error) {
 		if pv.ParentSHA256 != "" {
 			add(p, "parent_model_sha256", str(pv.ParentSHA256))
 		}
+		if pv.ParentFile != "" {
+			add(p, "parent_model_file", str(pv.ParentFile))
+		}
 		add(root, "provenance", p)
 	}
 	doc := &yaml.Node{Kind: yaml.DocumentNode, Content: []*yaml.Node{root}}

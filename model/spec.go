@@ -204,8 +204,10 @@ type Provenance struct {
 	ToolVersion string `yaml:"tool_version"`
 	Method      string `yaml:"method"`
 	RecipeFile  string `yaml:"recipe_file,omitempty"`
-	// ParentSHA256 is the SHA-256 of the frozen model this one updates.
+	// ParentSHA256 is the SHA-256 of the frozen model this one updates,
+	// and ParentFile that model's file.
 	ParentSHA256 string `yaml:"parent_model_sha256,omitempty"`
+	ParentFile   string `yaml:"parent_model_file,omitempty"`
 }
 
 // Spec is a recipe or a frozen model.
@@ -632,7 +634,7 @@ func (p *specParser) spline(n *yaml.Node) (*Spline, error) {
 }
 
 func (p *specParser) provenance(n *yaml.Node, pv *Provenance) error {
-	keys := []string{"data_file", "data_sha256", "rows_used", "events", "fitted_at", "tool_version", "method", "recipe_file", "parent_model_sha256"}
+	keys := []string{"data_file", "data_sha256", "rows_used", "events", "fitted_at", "tool_version", "method", "recipe_file", "parent_model_sha256", "parent_model_file"}
 	return p.fields(n, "provenance", keys, func(key string, k, v *yaml.Node) error {
 		s, err := p.scalar(v, key)
 		if err != nil {
@@ -663,6 +665,8 @@ func (p *specParser) provenance(n *yaml.Node, pv *Provenance) error {
 			pv.RecipeFile = s
 		case "parent_model_sha256":
 			pv.ParentSHA256 = s
+		case "parent_model_file":
+			pv.ParentFile = s
 		}
 		return nil
 	})

@@ -29,6 +29,10 @@ type auditOptions struct {
 	history       string
 	auditDate     string
 	replaceRecord bool
+	// dateFromPlan says that auditDate is the plan's; planRenames are the
+	// plan's renames, to which --rename adds.
+	dateFromPlan bool
+	planRenames  map[string]string
 }
 
 const auditLong = `Measure how a model performs on a cohort with observed outcomes and write
@@ -232,11 +236,19 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 	if err := o.checkValues(); err != nil {
 		return cfg, err
 	}
-	rename := cfg.Read.Rename
 	if cfg.Read, cfg.FailOnMissing, err = o.data.options(); err != nil {
 		return cfg, err
 	}
-	cfg.Read.Rename = rename
+	if cfg.Read.Rename, cfg.RenameSources, err = mergeRenames(o.planRenames, cfg.Read.Rename); err != nil {
+		return cfg, err
+	}
+	if cfg.AuditDate = o.auditDate; o.auditDate != "" {
+		cfg.AuditDateSource = validate.DateFromFlag
+		if o.dateFromPlan {
+			cfg.AuditDateSource = validate.DateFromPlan
+		}
+	}
+	cfg.OutDir = o.out
 	switch {
 	case o.delta < 0:
 		cfg.Measures.Delta = validate.AutoDelta
