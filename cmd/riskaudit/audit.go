@@ -82,6 +82,14 @@ standardised net benefit (Riley et al. 2021), from target 95% CI widths
 anticipated values taken from the cohort or from the plan's sample_size
 section.
 
+Provenance: the report and audit.json record the audit date and where it
+came from (--audit-date, the plan, or today), the plan with its SHA-256,
+every column rename (--rename or the plan's), the tool and the command line
+(passwords masked), and every input's SHA-256; the model's stated purpose
+(the spec's or the plan's purpose section) heads the report, and an
+appendix maps the report to the TRIPOD+AI checklist. A recipe fitted
+inside the audit is written into DIR as fitted_model.yaml.
+
 Outputs are written to temporary files and renamed into place only when
 everything has succeeded.`
 
@@ -104,6 +112,9 @@ const auditExample = `  # Audit a frozen model on a fresh extract
 
   # A scheduled audit from a plan (flags override it)
   riskaudit audit --plan monthly-audit.yaml --cohort extracts/2026-12.parquet
+
+  # An extract whose columns were renamed: read age_years as age, bmi_kg_m2 as bmi
+  riskaudit audit --model frozen.yaml --cohort new.csv --rename age_years=age --rename bmi_kg_m2=bmi --out audit
 
   # Percentile intervals for ICI, E50, E90, scaled Brier and net benefit
   riskaudit audit --model frozen.yaml --cohort new.csv --ci-bootstrap 500 --out audit
