@@ -38,6 +38,10 @@ type CompareConfig struct {
 	// gives the time (nil: now, UTC).
 	Tool, CommandLine string
 	Clock             func() time.Time
+	// AuditDate, AuditDateSource and RenameSources are recorded in the
+	// provenance as Config's are.
+	AuditDate, AuditDateSource string
+	RenameSources              map[string]string
 }
 
 // CompareResult is a finished comparison and its figure.
@@ -59,12 +63,24 @@ func Compare(ctx context.Context, cfg CompareConfig) (*CompareResult, error) {
 	if !(len(cfg.Models) == 2 && cfg.Predicted == "" || len(cfg.Models) == 1 && cfg.Predicted != "") {
 		return nil, configErrorf("give --model twice, or --model once and --predicted")
 	}
+	if cfg.AuditDate != "" {
+		if err := CheckAuditDate(cfg.AuditDate); err != nil {
+			return nil, err
+		}
+	}
+	made := now(cfg.Clock)
 	var specs []*model.Spec
-	for _, m := range cfg.Models {
+	var inputs []validate.InputFile
+	for i, m := range cfg.Models {
 		sp, err := model.LoadSpec(m)
 		if err != nil {
 			return nil, err
 		}
+		sum, err := fileSHA256(m)
+		if err != nil {
+			return nil, err
+		}
+		inputs = append(inputs, validate.InputFile{Role: "model " + string(rune('a'+i)), Path: m, SHA256: sum})
 		if !sp.Frozen() {
 			return nil, &model.SpecError{File: m, Msg: "compare needs frozen models; fit this recipe first", Kind: model.ErrNotFrozen}
 		}
@@ -90,11 +106,11 @@ func Compare(ctx context.Context, cfg CompareConfig) (*CompareResult, error) {
 	if err != nil {
 		return nil, err
 	}
-	y, risks, err := scoreBoth(fr, specs, reqs, cfg)
+	y, risks, lps, err := scoreBoth(fr, specs, reqs, cfg)
 	if err != nil {
 		return nil, err
 	}
-	cmp, err := validate.Compare(ctx, y, risks[0], risks[1], cfg.Measures)
+	cmp, err := validate.CompareLogits(ctx, y, risks[0], risks[1], lps[0], lps[1], cfg.Measures)
 	if err != nil {
 		if errors.Is(err, validate.ErrOneOutcome) {
 			return nil, &cohort.Error{File: cfg.Cohort.Path, Msg: "the complete rows have only one outcome; both are needed", Kind: cohort.ErrOutcome, Err: err}
@@ -112,44 +128,50 @@ func Compare(ctx context.Context, cfg CompareConfig) (*CompareResult, error) {
 	}
 	cmp.ModelA, cmp.ModelB, cmp.Cohort, cmp.CohortSHA, cmp.Rows = nameOf(0), nameOf(1), cfg.Cohort.Path, hash, fr.Rows
 	cmp.Tool, cmp.Command = cfg.Tool, cfg.CommandLine
+	pv := validate.Provenance{Tool: cfg.Tool, CommandLine: cfg.CommandLine, StartedAt: made.Format(timeFormat),
+		Inputs: append(inputs, validate.InputFile{Role: "cohort", Path: cfg.Cohort.Path, SHA256: hash})}
+	pv.AuditDate, pv.AuditDateSource = auditDate(cfg.AuditDate, cfg.AuditDateSource, made)
+	pv.Renames = renames(cfg.Read.Rename, cfg.RenameSources, []readFile{{"cohort", fr.Renamed}})
+	cmp.Provenance = pv
 	fig, err := plots.CompareDecision(cmp)
 	if err != nil {
 		return nil, err
 	}
-	return &CompareResult{Comparison: cmp, Figure: fig, Inputs: append(slices.Clone(cfg.Models), cfg.Cohort.Path), Made: now(cfg.Clock)}, nil
+	return &CompareResult{Comparison: cmp, Figure: fig, Inputs: append(slices.Clone(cfg.Models), cfg.Cohort.Path), Made: made}, nil
 }
 
-// scoreBoth returns the outcomes and both models' risks on the rows
-// complete for every column either needs.
-func scoreBoth(fr *cohort.Frame, specs []*model.Spec, reqs []cohort.Request, cfg CompareConfig) ([]float64, [][]float64, error) {
+// scoreBoth returns the outcomes and both models' risks and linear
+// predictors (nil for a column of risks) on the rows complete for every
+// column either needs.
+func scoreBoth(fr *cohort.Frame, specs []*model.Spec, reqs []cohort.Request, cfg CompareConfig) ([]float64, [][]float64, [][]float64, error) {
 	var also []string
 	for _, q := range reqs {
 		also = append(also, q.Name)
 	}
-	var risks [][]float64
+	var risks, lps [][]float64
 	var y []float64
 	for _, sp := range specs {
 		d, m, err := model.Build(sp, fr, model.Options{Outcome: true, FailOnMissing: cfg.FailOnMissing, Also: also, NoMatrix: true})
 		if err != nil {
-			return nil, nil, err
+			return nil, nil, nil, err
 		}
 		lp, err := d.FrozenLinearPredictors(m)
 		if err != nil {
-			return nil, nil, err
+			return nil, nil, nil, err
 		}
-		risks = append(risks, model.Risks(lp))
+		risks, lps = append(risks, model.Risks(lp)), append(lps, lp)
 		if y == nil {
 			y = m.Y
 			if cfg.Predicted != "" {
 				q, err := predictedRisks(fr, cfg.Predicted, m.Rows, cfg.PredictedPercent)
 				if err != nil {
-					return nil, nil, err
+					return nil, nil, nil, err
 				}
-				risks = append(risks, q)
+				risks, lps = append(risks, q), append(lps, nil)
 			}
 		}
 	}
-	return y, risks, nil
+	return y, risks, lps, nil
 }
 
 // WriteComparison writes compare.md, compare.json and the decision

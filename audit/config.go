@@ -114,11 +114,32 @@ type Config struct {
 	UpdateBootstrap int
 
 	// Tool names the program and its version for the provenance, and
-	// CommandLine how it was called; Clock gives the time (nil: the
-	// current time in UTC).
+	// CommandLine how it was called (the caller masks any secret in it);
+	// Clock gives the time (nil: the current time in UTC).
 	Tool        string
 	CommandLine string
 	Clock       func() time.Time
+
+	// AuditDate is the date the cohort describes, YYYY-MM-DD (empty: the
+	// day the audit started, by Clock), and AuditDateSource where it came
+	// from, for the provenance: validate.DateFromFlag or DateFromPlan
+	// (empty: validate.DateFromConfig).
+	AuditDate, AuditDateSource string
+	// Plan is the audit plan the Config was made from, recorded in the
+	// provenance (nil: none).
+	Plan *validate.PlanFile
+	// Purpose is the model's purpose as the plan states it: each field it
+	// gives replaces the spec's in the audit (validate.NewPurpose).
+	Purpose model.Purpose
+	// RenameSources says where each rename of Read.Rename came from
+	// ("flag" or "plan"), by the column name in the file, for the
+	// provenance; a rename without an entry is recorded as "config".
+	RenameSources map[string]string
+	// OutDir is the folder the result is to be written to (Write's dir),
+	// used to name the files the audit puts into it (the model fitted
+	// from a recipe) in the provenance and in an updated model's; empty:
+	// they are named by their file name alone.
+	OutDir string
 
 	// GCPercent, when positive, is the garbage collector's target while a
 	// cohort of LargeCohort rows or more is measured (the process-wide
@@ -181,6 +202,11 @@ func (c *Config) check() error {
 		return configErrorf("--predicted needs --cohort")
 	case c.Update != "" && (c.Predicted != nil || !c.Cohort.given()):
 		return configErrorf("--update updates a model on the cohort: give --model and --cohort")
+	}
+	if c.AuditDate != "" {
+		if err := CheckAuditDate(c.AuditDate); err != nil {
+			return err
+		}
 	}
 	for _, out := range []string{c.Shrunken, c.ResampleLog, c.Update} {
 		if err := CheckNotInput(out, c.Model, c.Cohort.Path, c.Dev.Path); err != nil {

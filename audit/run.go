@@ -2,12 +2,17 @@ package audit
 
 import (
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
 	"fmt"
+	"maps"
 	"path/filepath"
 	"runtime/debug"
+	"slices"
 	"strconv"
 	"time"
 
+	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/model"
 	"github.com/riskaudit/riskaudit/plots"
@@ -25,6 +30,9 @@ type Result struct {
 	// Files are the further outputs asked for (the resample log, the
 	// shrunken model, the updated model), at the paths the Config gave.
 	Files []atomicfile.File
+	// Folder are further files of the audit folder, named relative to
+	// it: the frozen model fitted from a recipe (FittedModelName).
+	Folder []atomicfile.File
 	// Started is when the audit started, by the Config's clock.
 	Started time.Time
 }
@@ -69,7 +77,14 @@ type run struct {
 	perf      *validate.Performance
 	inside    *FitResult
 	files     []atomicfile.File
+	// fitted is the frozen model fitted from the recipe given, as the
+	// audit folder holds it (nil when the model given was frozen).
+	fitted *atomicfile.File
 }
+
+// FittedModelName is the file in an audit folder that holds the frozen
+// model the audit fitted from the recipe it was given.
+const FittedModelName = "fitted_model.yaml"
 
 func (r *run) audit(ctx context.Context) (*Result, error) {
 	c := r.cfg
@@ -89,6 +104,11 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 			}
 			if !r.spec.Frozen() {
 				r.spec = r.inside.Frozen
+				y, err := r.spec.MarshalYAML()
+				if err != nil {
+					return nil, fmt.Errorf("writing the fitted model: %w", err)
+				}
+				r.fitted = &atomicfile.File{Path: FittedModelName, Data: y}
 			}
 			if c.Bootstrap > 0 {
 				var files []atomicfile.File
@@ -131,7 +151,21 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 	if ctx.Err() != nil {
 		return nil, context.Cause(ctx)
 	}
-	return &Result{Audit: a, Figures: figs, Files: r.files, Started: r.started}, nil
+	res := &Result{Audit: a, Figures: figs, Files: r.files, Started: r.started}
+	if r.fitted != nil {
+		res.Folder = append(res.Folder, *r.fitted)
+	}
+	return res, nil
+}
+
+// fittedFile is the fitted model's path as the provenance names it (the
+// output folder joined with its name) and its SHA-256.
+func (r *run) fittedFile() *validate.OutputFile {
+	if r.fitted == nil {
+		return nil
+	}
+	sum := sha256.Sum256(r.fitted.Data)
+	return &validate.OutputFile{Path: filepath.Join(r.cfg.OutDir, r.fitted.Path), SHA256: hex.EncodeToString(sum[:])}
 }
 
 // loadModel reads the model (or makes the spec of a column of risks) and
@@ -246,10 +280,13 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 	}
 	if c.Update != "" {
 		r.prog.Step("updating the model on " + c.Cohort.Path)
-		if r.modelErr != nil {
+		parent := validate.ParentModel{Path: c.Model, SHA256: r.modelHash}
+		if fm := r.fittedFile(); fm != nil {
+			parent = validate.ParentModel{Path: fm.Path, SHA256: fm.SHA256, FittedInAudit: true}
+		} else if r.modelErr != nil {
 			return r.modelErr
 		}
-		u, f, err := c.updateModel(ctx, r.spec, r.modelHash, r.cur)
+		u, f, err := c.updateModel(ctx, r.spec, parent, r.cur)
 		if err != nil {
 			return err
 		}
@@ -322,24 +359,70 @@ func (r *run) modelInfo() validate.ModelInfo {
 	m := validate.ModelInfo{Name: spec.Name, Outcome: spec.Outcome.Column, Event: spec.Outcome.Event.Text}
 	if c.Predicted != nil {
 		m.Source, m.Column = "predicted risks", c.Predicted.Column
+		m.Purpose = validate.NewPurpose(model.Purpose{}, c.Purpose)
 		return m
 	}
 	m.Source, m.Spec, m.Terms = "frozen model", c.Model, r.cur.terms
 	if m.Name == "" {
 		m.Name = filepath.Base(c.Model)
 	}
+	m.Purpose = validate.NewPurpose(spec.Purpose, c.Purpose)
+	m.FittedModel = r.fittedFile()
 	return m
 }
 
 func (r *run) provenance() validate.Provenance {
 	c := r.cfg
-	pv := validate.Provenance{Tool: c.Tool, CommandLine: c.CommandLine, StartedAt: r.started.Format(timeFormat)}
+	pv := validate.Provenance{Tool: c.Tool, CommandLine: c.CommandLine, StartedAt: r.started.Format(timeFormat), Plan: c.Plan}
+	pv.AuditDate, pv.AuditDateSource = auditDate(c.AuditDate, c.AuditDateSource, r.started)
 	if c.Model != "" && r.modelErr == nil {
 		pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "model", Path: c.Model, SHA256: r.modelHash})
 	}
 	pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "cohort", Path: r.cur.file, SHA256: r.cur.hash})
+	read := []readFile{{"cohort", r.cur.renamed}}
 	if c.Cohort.given() && r.dev != nil {
 		pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "development", Path: r.dev.file, SHA256: r.dev.hash})
+		read = append(read, readFile{"development", r.dev.renamed})
 	}
+	pv.Renames = renames(c.Read.Rename, c.RenameSources, read)
 	return pv
+}
+
+// auditDate is the audit's date and where it came from: the date given
+// (from its source, by default a Go caller's Config), else the day the
+// run started.
+func auditDate(date, source string, started time.Time) (string, string) {
+	switch {
+	case date == "":
+		return started.Format(time.DateOnly), validate.DateToday
+	case source == "":
+		return date, validate.DateFromConfig
+	}
+	return date, source
+}
+
+// readFile is a file the run read, by its role in the provenance, with
+// the renames that applied to it.
+type readFile struct {
+	role    string
+	renamed []cohort.RenamedColumn
+}
+
+// renames lists every rename asked for, in order of the name in the
+// file, with its source and the files it applied to.
+func renames(asked, sources map[string]string, files []readFile) []validate.Rename {
+	out := []validate.Rename{}
+	for _, from := range slices.Sorted(maps.Keys(asked)) {
+		rn := validate.Rename{From: from, To: asked[from], Source: sources[from], AppliedTo: []string{}}
+		if rn.Source == "" {
+			rn.Source = "config"
+		}
+		for _, f := range files {
+			if slices.ContainsFunc(f.renamed, func(c cohort.RenamedColumn) bool { return c.From == from }) {
+				rn.AppliedTo = append(rn.AppliedTo, f.role)
+			}
+		}
+		out = append(out, rn)
+	}
+	return out
 }

@@ -28,6 +28,8 @@ type scored struct {
 	hash     string
 	terms    []string
 	isDevFit bool // the frozen model was fitted to these data
+	// renamed are the renames that applied to the file.
+	renamed []cohort.RenamedColumn
 }
 
 // requests are the columns an audit reads: the model's (with the
@@ -117,7 +119,7 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input) (*scored
 	if err != nil {
 		return nil, err
 	}
-	sc := &scored{y: m.Y, file: in.Path, hash: hash, terms: m.Terms}
+	sc := &scored{y: m.Y, file: in.Path, hash: hash, terms: m.Terms, renamed: fr.Renamed}
 	if c.Update != "" || c.Dev.given() {
 		sc.frame = fr // the case-mix comparison or the update reads it again
 	}

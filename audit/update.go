@@ -15,7 +15,7 @@ import (
 // chosen updated model as a file and estimates its performance by
 // bootstrap. It reuses the cohort as read for the audit and builds its
 // design matrix.
-func (c *Config) updateModel(ctx context.Context, spec *model.Spec, modelHash string, cur *scored) (*validate.Update, atomicfile.File, error) {
+func (c *Config) updateModel(ctx context.Context, spec *model.Spec, parent validate.ParentModel, cur *scored) (*validate.Update, atomicfile.File, error) {
 	var none atomicfile.File
 	d, m, err := model.Build(spec, cur.frame, model.Options{Outcome: true, FailOnMissing: c.FailOnMissing})
 	if err != nil {
@@ -33,7 +33,7 @@ func (c *Config) updateModel(ctx context.Context, spec *model.Spec, modelHash st
 	if err != nil {
 		return nil, none, &model.FitError{Msg: "updating the model: " + err.Error(), Err: err}
 	}
-	u := &validate.Update{Alpha: res.Alpha, Chosen: res.Chosen, ModelFile: c.Update}
+	u := &validate.Update{Alpha: res.Alpha, Chosen: res.Chosen, ModelFile: c.Update, Parent: parent}
 	for _, s := range res.Steps {
 		u.Steps = append(u.Steps, validate.UpdateStep{Method: s.Method, Params: s.Params, Neg2LL: s.Neg2LL, AIC: s.AIC})
 	}
@@ -54,10 +54,14 @@ func (c *Config) updateModel(ctx context.Context, spec *model.Spec, modelHash st
 		u.Expected = &m
 		u.Bootstrap, u.Seed, u.Failed = br.B, br.Seed, br.Failed
 	}
+	of := "the model in " + parent.Path
+	if parent.FittedInAudit {
+		of = fmt.Sprintf("the model fitted from %s in the same audit (%s)", c.Model, parent.Path)
+	}
 	frozen := model.FreezeWith(d, res.Coef, model.Provenance{
-		Method:   fmt.Sprintf("%s of the model in %s on %s (closed testing, Vergouwe et al. 2017, α = %g)", res.Chosen, c.Model, cur.file, res.Alpha),
+		Method:   fmt.Sprintf("%s of %s on %s (closed testing, Vergouwe et al. 2017, α = %g)", res.Chosen, of, cur.file, res.Alpha),
 		DataFile: cur.file, DataSHA256: cur.hash, RowsUsed: m.N, Events: m.Events(),
-		FittedAt: now(c.Clock).Format(timeFormat), ToolVersion: c.Tool, ParentSHA256: modelHash,
+		FittedAt: now(c.Clock).Format(timeFormat), ToolVersion: c.Tool, ParentSHA256: parent.SHA256, ParentFile: parent.Path,
 	})
 	y, err := frozen.MarshalYAML()
 	if err != nil {

@@ -26,7 +26,7 @@ type WriteOptions struct {
 	// History, when set, is the history store the audit is appended to
 	// in the same step: the folder and the store's record land together,
 	// or neither does. AuditDate is the record's date (see
-	// RecordHistory).
+	// RecordHistory; empty: the audit's own).
 	History   string
 	AuditDate string
 	// ReplaceRecord replaces a record of the same audit (model, cohort
@@ -49,7 +49,7 @@ type Written struct {
 // The names of every file an audit folder may hold (its figures are
 // plots' names), for recognising folders written before the manifest.
 var auditNames = []string{"report.md", "audit.json", "calibration.svg", "roc.svg", "decision_curve.svg",
-	"risk_histogram.svg", "subgroups.svg", "casemix_lp.svg", "casemix_differences.svg"}
+	"risk_histogram.svg", "subgroups.svg", "casemix_lp.svg", "casemix_differences.svg", FittedModelName}
 
 // CheckOutputDir refuses an output folder path that exists and is not a
 // folder, or is a symbolic link, with a *ConfigError.
@@ -129,6 +129,7 @@ func Write(dir string, r *Result, opt WriteOptions) (*Written, error) {
 	for _, f := range r.Figures {
 		files = append(files, atomicfile.File{Path: f.Name, Data: f.SVG})
 	}
+	files = append(files, r.Folder...)
 	inputs := append(r.inputs(), opt.History)
 	inputs = append(inputs, opt.Inputs...)
 	var rec *history.Record
@@ -567,8 +568,8 @@ func CheckAuditDate(date string) error {
 
 // RecordHistory appends the audit's summary, and its whole audit.json,
 // to the history store at path, as the audit of the cohort of date
-// (YYYY-MM-DD; empty: the day the audit started), recorded at the time
-// the audit started. (Write with WriteOptions.History does the same in
+// (YYYY-MM-DD; empty: the audit's own date, provenance.audit_date, else
+// the day the audit started), recorded at the time the audit started. (Write with WriteOptions.History does the same in
 // one step with the audit folder.)
 func RecordHistory(path, date string, r *Result) error {
 	rec, err := historyRecord(date, r)
@@ -584,6 +585,9 @@ func RecordHistory(path, date string, r *Result) error {
 // historyRecord is the history store's record of the audit.
 func historyRecord(date string, r *Result) (history.Record, error) {
 	a, started := r.Audit, r.Started
+	if date == "" {
+		date = a.Provenance.AuditDate
+	}
 	if date == "" {
 		date = started.Format(time.DateOnly)
 	}

@@ -106,10 +106,35 @@ type Frame struct {
 	RowNumbered bool
 	// Columns are the requested columns, in request order.
 	Columns []*Column
+	// Renamed lists the renames of Options.Rename that applied, in the
+	// file's column order (a rename of a name not in the file is not
+	// among them).
+	Renamed []RenamedColumn
 
 	lines   []int32
 	data    []byte
 	records []int64
+}
+
+// RenamedColumn is one column of a file read under another name.
+type RenamedColumn struct {
+	// From is the name in the file, To the name it was read as.
+	From, To string
+}
+
+// RenameHeader renames the names of header found in rename (a name in
+// the file → the name to read it as), in place, and returns the renames
+// that applied in header order. Every reader applies Options.Rename
+// through it, so that Frame.Renamed says what was done.
+func RenameHeader(header []string, rename map[string]string) []RenamedColumn {
+	var done []RenamedColumn
+	for i, h := range header {
+		if to, ok := rename[h]; ok {
+			header[i] = to
+			done = append(done, RenamedColumn{From: h, To: to})
+		}
+	}
+	return done
 }
 
 // Column returns the column named name, or nil.
@@ -231,14 +256,12 @@ func parse(ctx context.Context, name string, data []byte, reqs []Request, opt Op
 	header := make([]string, len(sc.fields))
 	for i, f := range sc.fields {
 		header[i] = strings.TrimSpace(string(f))
-		if to, ok := opt.Rename[header[i]]; ok {
-			header[i] = to
-		}
 	}
+	renamed := RenameHeader(header, opt.Rename)
 	if err := checkHeader(name, hline, header); err != nil {
 		return nil, err
 	}
-	fr := &Frame{File: name, Header: header, Delimiter: delim}
+	fr := &Frame{File: name, Header: header, Delimiter: delim, Renamed: renamed}
 	plan, err := planColumns(name, header, reqs)
 	if err != nil {
 		return nil, err

@@ -8,6 +8,7 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"reflect"
 	"strconv"
 	"strings"
 	"testing"
@@ -329,6 +330,10 @@ func TestRename(t *testing.T) {
 	}
 	if fr.Column("age").Num[0] != 60 || fr.Header[0] != "age" {
 		t.Errorf("rename not applied: %v", fr.Header)
+	}
+	// Only the rename of a name in the file is listed as applied.
+	if want := []RenamedColumn{{From: "age_years", To: "age"}}; !reflect.DeepEqual(fr.Renamed, want) {
+		t.Errorf("Renamed = %v, want %v", fr.Renamed, want)
 	}
 	_, err = Parse("t.csv", []byte("age_years,age\n60,61\n"), []Request{{Name: "age", Kind: Numeric}},
 		Options{Rename: map[string]string{"age_years": "age"}})

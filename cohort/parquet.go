@@ -330,6 +330,7 @@ type layout struct {
 	path    string
 	format  string
 	header  []string
+	renamed []RenamedColumn
 	plan    []int // request index by file column, −1 for none
 	idx     []int // the file columns read
 	cols    []*Column
@@ -344,10 +345,8 @@ func newLayout(path, format string, schema *arrow.Schema, reqs []Request, opt Op
 	l := &layout{path: path, format: format, header: make([]string, schema.NumFields()), missing: opt.Missing, dec: '.'}
 	for i, f := range schema.Fields() {
 		l.header[i] = f.Name
-		if to, ok := opt.Rename[f.Name]; ok {
-			l.header[i] = to
-		}
 	}
+	l.renamed = RenameHeader(l.header, opt.Rename)
 	if err := checkHeader(path, 0, l.header); err != nil {
 		return nil, err
 	}
@@ -408,7 +407,7 @@ func (l *layout) frame(rows int, reqs []Request) (*Frame, error) {
 	if rows == 0 {
 		return nil, &Error{File: l.path, Msg: "the file has no rows", Kind: ErrEmpty}
 	}
-	out := &Frame{File: l.path, Header: l.header, Rows: rows, RowNumbered: true, lines: make([]int32, rows)}
+	out := &Frame{File: l.path, Header: l.header, Renamed: l.renamed, Rows: rows, RowNumbered: true, lines: make([]int32, rows)}
 	for i := range out.lines {
 		out.lines[i] = int32(i + 1)
 	}

@@ -4,6 +4,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"reflect"
 	"strings"
 	"testing"
 
@@ -120,6 +121,22 @@ func TestParquetMatchesCSV(t *testing.T) {
 	}
 	if _, err := Load(pq, reqs, Options{Format: "csv"}); err == nil {
 		t.Error("forcing csv on a Parquet file should fail")
+	}
+	// A rename applies to a Parquet file's columns as to a CSV header,
+	// and both say so.
+	opt := Options{Rename: map[string]string{"g": "group", "absent": "y"}}
+	reqs[2].Name = "group"
+	a, err = Load(csv, reqs, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err = Load(pq, reqs, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []RenamedColumn{{From: "g", To: "group"}}
+	if !reflect.DeepEqual(a.Renamed, want) || !reflect.DeepEqual(b.Renamed, want) {
+		t.Errorf("Renamed: CSV %v, Parquet %v, want %v", a.Renamed, b.Renamed, want)
 	}
 }
 

@@ -270,6 +270,15 @@ func (s *Spec) MarshalYAML() ([]byte, error) {
 	if s.Name != "" {
 		add(root, "name", str(s.Name))
 	}
+	if !s.Purpose.IsZero() {
+		pu := mapping()
+		for _, k := range PurposeKeys {
+			if v := s.Purpose.Get(k); v != "" {
+				add(pu, k, str(v))
+			}
+		}
+		add(root, "purpose", pu)
+	}
 	o := mapping()
 	add(o, "column", str(s.Outcome.Column))
 	add(o, "event", val(s.Outcome.Event))
@@ -299,6 +308,9 @@ func (s *Spec) MarshalYAML() ([]byte, error) {
 		}
 		if pv.ParentSHA256 != "" {
 			add(p, "parent_model_sha256", str(pv.ParentSHA256))
+		}
+		if pv.ParentFile != "" {
+			add(p, "parent_model_file", str(pv.ParentFile))
 		}
 		add(root, "provenance", p)
 	}

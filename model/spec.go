@@ -204,14 +204,19 @@ type Provenance struct {
 	ToolVersion string `yaml:"tool_version"`
 	Method      string `yaml:"method"`
 	RecipeFile  string `yaml:"recipe_file,omitempty"`
-	// ParentSHA256 is the SHA-256 of the frozen model this one updates.
+	// ParentSHA256 is the SHA-256 of the frozen model this one updates,
+	// and ParentFile that model's file.
 	ParentSHA256 string `yaml:"parent_model_sha256,omitempty"`
+	ParentFile   string `yaml:"parent_model_file,omitempty"`
 }
 
 // Spec is a recipe or a frozen model.
 type Spec struct {
-	File         string
-	Name         string
+	File string
+	Name string
+	// Purpose is the model's stated purpose (the spec's optional purpose
+	// section).
+	Purpose      Purpose
 	Outcome      Outcome
 	Intercept    float64
 	HasIntercept bool
@@ -365,11 +370,13 @@ func (p *specParser) value(v *yaml.Node, key string) (Value, error) {
 func (p *specParser) spec(n *yaml.Node) (*Spec, error) {
 	s := &Spec{}
 	sawOutcome, sawPreds := false, false
-	err := p.fields(n, "the spec", []string{"name", "outcome", "intercept", "predictors", "provenance"}, func(key string, k, v *yaml.Node) error {
+	err := p.fields(n, "the spec", []string{"name", "purpose", "outcome", "intercept", "predictors", "provenance"}, func(key string, k, v *yaml.Node) error {
 		var err error
 		switch key {
 		case "name":
 			s.Name, err = p.scalar(v, "name")
+		case "purpose":
+			err = p.purpose(v, &s.Purpose)
 		case "outcome":
 			sawOutcome = true
 			err = p.outcome(v, &s.Outcome)
@@ -404,6 +411,22 @@ func (p *specParser) spec(n *yaml.Node) (*Spec, error) {
 		return nil, p.errf(ErrMissingKey, n, "the spec has no predictors (write predictors: [] for an intercept-only model)")
 	}
 	return s, nil
+}
+
+// purpose reads the purpose section: any of PurposeKeys, each a
+// single non-empty text.
+func (p *specParser) purpose(n *yaml.Node, pu *Purpose) error {
+	return p.fields(n, "purpose", PurposeKeys, func(key string, k, v *yaml.Node) error {
+		s, err := p.scalar(v, "purpose."+key)
+		if err != nil {
+			return err
+		}
+		if strings.TrimSpace(s) == "" || v.ShortTag() == "!!null" {
+			return p.errf(ErrSpecValue, v, "purpose.%s is empty: state it, or leave the key out", key)
+		}
+		pu.Set(key, s)
+		return nil
+	})
 }
 
 func (p *specParser) outcome(n *yaml.Node, o *Outcome) error {
@@ -611,7 +634,7 @@ func (p *specParser) spline(n *yaml.Node) (*Spline, error) {
 }
 
 func (p *specParser) provenance(n *yaml.Node, pv *Provenance) error {
-	keys := []string{"data_file", "data_sha256", "rows_used", "events", "fitted_at", "tool_version", "method", "recipe_file", "parent_model_sha256"}
+	keys := []string{"data_file", "data_sha256", "rows_used", "events", "fitted_at", "tool_version", "method", "recipe_file", "parent_model_sha256", "parent_model_file"}
 	return p.fields(n, "provenance", keys, func(key string, k, v *yaml.Node) error {
 		s, err := p.scalar(v, key)
 		if err != nil {
@@ -642,6 +665,8 @@ func (p *specParser) provenance(n *yaml.Node, pv *Provenance) error {
 			pv.RecipeFile = s
 		case "parent_model_sha256":
 			pv.ParentSHA256 = s
+		case "parent_model_file":
+			pv.ParentFile = s
 		}
 		return nil
 	})

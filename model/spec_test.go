@@ -32,6 +32,10 @@ func TestSpecErrors(t *testing.T) {
 		{"negative scale", "outcome: {column: y, event: 1}\npredictors:\n  - column: a\n    scale: -2\n", "line 4: scale must be positive"},
 		{"provenance typo", "outcome: {column: y, event: 1}\npredictors: []\nprovenance: {rows: 3}\n", `unknown key "rows" in provenance`},
 		{"negative count", "outcome: {column: y, event: 1}\npredictors: []\nprovenance: {rows_used: -3}\n", "line 3: rows_used must be a whole number"},
+		{"purpose typo", "purpose:\n  setting: ward\n  horizon: 30 days\noutcome: {column: y, event: 1}\npredictors: []\n", `line 3: unknown key "horizon" in purpose`},
+		{"purpose empty", "purpose:\n  setting:\noutcome: {column: y, event: 1}\npredictors: []\n", "line 2: purpose.setting is empty"},
+		{"purpose list", "purpose:\n  setting: [a, b]\noutcome: {column: y, event: 1}\npredictors: []\n", "line 2: purpose.setting must be a single value"},
+		{"purpose not a mapping", "purpose: elective surgery\noutcome: {column: y, event: 1}\npredictors: []\n", "line 1: purpose must be a mapping"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
@@ -212,5 +216,58 @@ func TestDefaultKnots(t *testing.T) {
 	}
 	if _, err := DefaultKnots([]float64{1, 1, 1, 2}, 5); err == nil {
 		t.Error("too few distinct values should fail")
+	}
+}
+
+// TestPurposeRoundTrip: a recipe's purpose survives fitting and freezing
+// (the frozen spec written and read back states it as the recipe did),
+// and a spec without one writes none.
+func TestPurposeRoundTrip(t *testing.T) {
+	recipe := mustSpec(t, `name: test model
+purpose:
+  intended_use: "flag patients for review: yes or no"
+  target_population: adults before elective surgery
+  setting: pre-operative clinic
+  outcome_definition: |
+    a complication within
+    the horizon
+  prediction_horizon: 30
+outcome: {column: y, event: 1}
+predictors:
+  - column: a
+`)
+	want := Purpose{IntendedUse: "flag patients for review: yes or no", TargetPopulation: "adults before elective surgery",
+		Setting: "pre-operative clinic", OutcomeDefinition: "a complication within\nthe horizon\n", PredictionHorizon: "30"}
+	if recipe.Purpose != want {
+		t.Fatalf("read %+v, want %+v", recipe.Purpose, want)
+	}
+	csv := "y,a\n1,3\n0,1\n1,2\n0,2\n1,4\n0,0\n0,3\n1,1\n"
+	d, m, err := Build(recipe, frame(t, csv, recipe, true), Options{Outcome: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, err := Fit(d, m, FitOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, frozen := range []*Spec{f.Freeze(Provenance{}), FreezeWith(d, f.Result.Coef, Provenance{}), recipe.AsRecipe()} {
+		text, err := frozen.MarshalYAML()
+		if err != nil {
+			t.Fatal(err)
+		}
+		back, err := ParseSpec("frozen.yaml", text)
+		if err != nil {
+			t.Fatalf("%v\n%s", err, text)
+		}
+		if back.Purpose != want {
+			t.Errorf("after the round trip %+v, want %+v\n%s", back.Purpose, want, text)
+		}
+	}
+	text, err := mustSpec(t, "outcome: {column: y, event: 1}\npredictors: []\n").MarshalYAML()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(string(text), "purpose") {
+		t.Errorf("a spec without a purpose wrote one:\n%s", text)
 	}
 }

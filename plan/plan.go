@@ -16,6 +16,8 @@ package plan
 
 import (
 	"bytes"
+	"crypto/sha256"
+	"encoding/hex"
 	"errors"
 	"fmt"
 	"os"
@@ -104,6 +106,13 @@ type Data struct {
 // when Set[key] is true.
 type Plan struct {
 	File string
+	// Name is the plan's name (its name key), and SHA256 the hex SHA-256
+	// of the bytes it was read from, for the audit's provenance.
+	Name, SHA256 string
+	// Purpose is the purpose the plan states for the audited model (its
+	// purpose section); the audit lets each field it gives replace the
+	// model spec's.
+	Purpose model.Purpose
 
 	Model, Predicted, Outcome, Event, NonEvent string
 	PredictedPercent                           bool
@@ -170,7 +179,7 @@ func (pl *Plan) CheckFile(key string) error {
 
 var topKeys = []string{"name", "model", "predicted", "predicted_percent", "outcome", "event", "non_event", "dev", "cohort", "out", "history",
 	"audit_date", "rename", "subgroups", "min_subgroup_events", "criteria", "bootstrap", "ci_bootstrap",
-	"thresholds", "classify_at", "net_benefit_min_gain", "data", "sample_size"}
+	"thresholds", "classify_at", "net_benefit_min_gain", "data", "sample_size", "purpose"}
 
 // Load reads the plan at path.
 func Load(path string) (*Plan, error) {
@@ -202,7 +211,8 @@ func Parse(name string, data []byte) (*Plan, error) {
 	if len(doc.Content) != 1 || doc.Content[0].Kind != yaml.MappingNode {
 		return nil, p.errf(ErrSyntax, doc, "a plan must be a mapping of keys such as model, cohort and criteria")
 	}
-	pl := &Plan{File: name, Set: map[string]bool{}, Lines: map[string]int{}}
+	sum := sha256.Sum256(data)
+	pl := &Plan{File: name, SHA256: hex.EncodeToString(sum[:]), Set: map[string]bool{}, Lines: map[string]int{}}
 	root := doc.Content[0]
 	if err := p.fields(root, "the plan", topKeys, func(key string, v *yaml.Node) error {
 		pl.Set[key] = true
@@ -386,7 +396,9 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 	var err error
 	switch key {
 	case "name":
-		_, err = p.str(v, key)
+		pl.Name, err = p.str(v, key)
+	case "purpose":
+		err = p.purpose(&pl.Purpose, v)
 	case "model":
 		pl.Model, err = p.str(v, key)
 	case "predicted_percent":
@@ -482,6 +494,22 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 		}
 	}
 	return err
+}
+
+// purpose reads the purpose section, with the keys and rules of a model
+// spec's: any of model.PurposeKeys, each a single non-empty text.
+func (p *parser) purpose(pu *model.Purpose, v *yaml.Node) error {
+	return p.fields(v, "purpose", model.PurposeKeys, func(k string, c *yaml.Node) error {
+		s, err := p.str(c, "purpose."+k)
+		if err != nil {
+			return err
+		}
+		if strings.TrimSpace(s) == "" || c.ShortTag() == "!!null" {
+			return p.errf(ErrValue, c, "purpose.%s is empty: state it, or leave the key out", k)
+		}
+		pu.Set(k, s)
+		return nil
+	})
 }
 
 func (p *parser) data(d *Data, v *yaml.Node, set map[string]bool) error {
@@ -697,4 +725,14 @@ sample_size:
   #   lp_sd: 1.0
   #   calibration_intercept: 0
   #   calibration_slope: 1
+
+# The model's stated purpose, shown at the top of the report. Each key
+# given here replaces the model spec's own (a spec may state the same
+# keys in its purpose section); leave out what the spec already says.
+# purpose:
+#   intended_use: flag patients for a pre-operative respiratory review
+#   target_population: adults listed for elective surgery
+#   setting: pre-operative assessment clinics
+#   outcome_definition: a pulmonary complication recorded in the notes
+#   prediction_horizon: 30 days after surgery
 `

@@ -1,6 +1,8 @@
 package plan
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -40,6 +42,9 @@ func TestPlanErrors(t *testing.T) {
 		{"sample_size:\n  anticipated: {lp_mean: -2, lp_sd: 1, event_rate: 0.1, c_statistic: 0.7}\n", "not both"},
 		{"sample_size:\n  anticipated: {event_rate: 0.1, c_statistic: 0.4}\n", "c_statistic must be strictly between 0.5 and 1, not 0.4"},
 		{"sample_size:\n  anticipated: {calibration_slope: 0}\n", "calibration_slope must be above 0, not 0"},
+		{"purpose:\n  settng: ward\n", `line 2: unknown key "settng" in purpose (did you mean "setting"?)`},
+		{"purpose:\n  setting: \"  \"\n", "line 2: purpose.setting is empty"},
+		{"purpose: [a]\n", "line 1: purpose must be a mapping"},
 	} {
 		_, err := Parse("p.yaml", []byte(tt.yaml))
 		if err == nil || !strings.Contains(err.Error(), tt.want) {
@@ -71,5 +76,30 @@ func TestSampleSizeSection(t *testing.T) {
 	}
 	if ss.CalSlope == nil || *ss.CalSlope != 0.9 || ss.CalIntercept != nil {
 		t.Errorf("calibration read wrongly: %+v", ss)
+	}
+}
+
+// TestPlanNameHashAndPurpose: a plan keeps its name, the SHA-256 of the
+// bytes it was read from (computed here again with crypto/sha256) and
+// its purpose section.
+func TestPlanNameHashAndPurpose(t *testing.T) {
+	text := []byte("name: monthly audit\nmodel: m.yaml\npurpose:\n  setting: day-surgery units\n  prediction_horizon: 30 days\n")
+	p, err := Parse("p.yaml", text)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sum := sha256.Sum256(text)
+	if p.SHA256 != hex.EncodeToString(sum[:]) || p.Name != "monthly audit" {
+		t.Errorf("name %q, SHA-256 %s", p.Name, p.SHA256)
+	}
+	if p.Purpose.Setting != "day-surgery units" || p.Purpose.PredictionHorizon != "30 days" || p.Purpose.IntendedUse != "" || !p.Set["purpose"] {
+		t.Errorf("purpose read as %+v", p.Purpose)
+	}
+	other, err := Parse("p.yaml", append(text, '\n'))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if other.SHA256 == p.SHA256 {
+		t.Error("a plan one byte longer has the same SHA-256")
 	}
 }

@@ -45,6 +45,7 @@ func Write(w io.Writer, a *validate.Audit, figures []plots.Figure) error {
 		r.figs[f.Name] = f
 	}
 	r.header()
+	r.purpose()
 	r.verdict()
 	r.summary()
 	r.cohort()
@@ -62,6 +63,7 @@ func Write(w io.Writer, a *validate.Audit, figures []plots.Figure) error {
 	r.methods()
 	r.provenance()
 	r.caution()
+	r.tripod()
 	return ew.err
 }
 
@@ -80,7 +82,7 @@ func (e *errWriter) Write(p []byte) (int, error) {
 }
 
 type renderer struct {
-	w    io.Writer
+	w    *errWriter
 	a    *validate.Audit
 	figs map[string]plots.Figure
 }
@@ -106,8 +108,8 @@ func (r *renderer) header() {
 			cohortFile = in.Path
 		}
 	}
-	r.p("Audit of %s on the cohort %s, outcome %s = %s. Made %s by %s.\n\n",
-		what, code(cohortFile), code(a.Model.Outcome), code(a.Model.Event), a.Provenance.StartedAt, Escape(a.Provenance.Tool))
+	r.p("Audit of %s on the cohort %s, outcome %s = %s. Made %s by %s. %s\n\n",
+		what, code(cohortFile), code(a.Model.Outcome), code(a.Model.Event), a.Provenance.StartedAt, Escape(a.Provenance.Tool), auditDateLine(a.Provenance))
 	if a.CohortIsDevelopment {
 		r.p("No new cohort was given: the measures below are the model's apparent performance on its development data, and the internal validation says how optimistic they are.\n\n")
 	}
@@ -594,7 +596,12 @@ func (r *renderer) update() {
 		t.add(ts.Simpler, num(ts.LRChi2, "%.3f"), fmt.Sprint(ts.DF), FormatP(ts.P), res)
 	}
 	t.write(r.w)
-	r.p("**Chosen: %s**, written as a frozen model to %s with its provenance (the parent model's and the cohort's SHA-256, the method).\n\n", u.Chosen, code(u.ModelFile))
+	r.p("**Chosen: %s**, written as a frozen model to %s with its provenance (the parent model's file and SHA-256, the cohort's SHA-256, the method).\n\n", u.Chosen, code(u.ModelFile))
+	if u.Parent.FittedInAudit {
+		r.p("The parent model is the frozen model this audit fitted from the recipe, %s (SHA-256 %s), written into the audit folder.\n\n", code(u.Parent.Path), code(u.Parent.SHA256))
+	} else {
+		r.p("The parent model is %s (SHA-256 %s).\n\n", code(u.Parent.Path), code(u.Parent.SHA256))
+	}
 	if e := u.Expected; e != nil {
 		r.p("Its performance expected in new patients from this cohort's population, by %d bootstrap replicates of the updating (seed %d, %d failed): AUC %s (apparent %s), calibration slope %s, calibration-in-the-large %s, Brier score %s.\n\n",
 			u.Bootstrap, u.Seed, u.Failed, f3(e.AUC.Corrected), f3(e.AUC.Apparent), f3(e.Slope.Corrected), f3(e.CITL.Corrected), f4(e.Brier.Corrected))
@@ -669,22 +676,6 @@ func (r *renderer) methods() {
 		r.p("- %s\n", it)
 	}
 	r.p("\n")
-}
-
-func (r *renderer) provenance() {
-	pv := r.a.Provenance
-	r.p("## Provenance\n\n")
-	t := table{head: []string{"input", "file", "SHA-256"}}
-	for _, in := range pv.Inputs {
-		t.add(in.Role, code(in.Path), code(in.SHA256))
-	}
-	t.write(r.w)
-	r.p("Tool: %s. Started: %s. Command line:\n\n", Escape(pv.Tool), pv.StartedAt)
-	fence := "```"
-	for strings.Contains(pv.CommandLine, fence) {
-		fence += "`"
-	}
-	r.p("%s\n%s\n%s\n\n", fence, pv.CommandLine, fence)
 }
 
 func (r *renderer) caution() {

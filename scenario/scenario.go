@@ -19,6 +19,12 @@ const Recipe = `# Ostbrook Valley Health (a fictional organisation): post-operat
 # pulmonary complication within 30 days of elective abdominal surgery.
 # Invented for the riskaudit demo; not based on any published model.
 name: OVH post-operative pulmonary complication model (demo)
+purpose:
+  intended_use: flag patients at high risk for a pre-operative respiratory review
+  target_population: adults listed for elective abdominal surgery
+  setting: pre-operative assessment clinics (invented)
+  outcome_definition: a post-operative pulmonary complication recorded in the notes
+  prediction_horizon: 30 days after surgery
 outcome:
   column: ppc_30d
   event: "yes"

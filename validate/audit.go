@@ -23,12 +23,121 @@ type InputFile struct {
 	SHA256 string `json:"sha256"`
 }
 
-// Provenance records how the audit was made.
+// Provenance records how the audit (or comparison) was made: by which
+// tool, from which command line and plan, when, for which date, on
+// which files, with which columns renamed.
 type Provenance struct {
-	Tool        string      `json:"tool"`
-	CommandLine string      `json:"command_line"`
-	StartedAt   string      `json:"started_at"`
-	Inputs      []InputFile `json:"inputs"`
+	Tool string `json:"tool"`
+	// CommandLine is the command as run, with any password masked
+	// (package internal/redact).
+	CommandLine string `json:"command_line"`
+	StartedAt   string `json:"started_at"`
+	// AuditDate is the date the audited cohort describes (YYYY-MM-DD),
+	// and AuditDateSource where it came from: one of the DateFrom…
+	// constants.
+	AuditDate       string `json:"audit_date"`
+	AuditDateSource string `json:"audit_date_source"`
+	// Plan is the audit plan the run was made from, or nil.
+	Plan *PlanFile `json:"plan"`
+	// Renames are the column renames asked for (none: empty), each with
+	// the files it was applied to.
+	Renames []Rename    `json:"renames"`
+	Inputs  []InputFile `json:"inputs"`
+}
+
+// Where an audit date came from (Provenance.AuditDateSource).
+const (
+	// DateFromFlag is a date given by --audit-date.
+	DateFromFlag = "flag"
+	// DateFromPlan is the plan's audit_date.
+	DateFromPlan = "plan"
+	// DateToday is the day the run started (UTC, or SOURCE_DATE_EPOCH's).
+	DateToday = "today"
+	// DateFromConfig is a date a Go caller set in the Config.
+	DateFromConfig = "config"
+)
+
+// PlanFile is the audit plan a run was made from.
+type PlanFile struct {
+	Path string `json:"path"`
+	// Name is the plan's name key ("" when it has none).
+	Name   string `json:"name"`
+	SHA256 string `json:"sha256"`
+}
+
+// Rename is one column rename asked for: the column From of the files
+// read as To.
+type Rename struct {
+	From string `json:"from"`
+	To   string `json:"to"`
+	// Source is "flag" (--rename), "plan" (the plan's rename) or
+	// "config" (a Go caller's Config).
+	Source string `json:"source"`
+	// AppliedTo lists the roles of the files that had a column From
+	// ("cohort", "development"); empty when none had it.
+	AppliedTo []string `json:"applied_to"`
+}
+
+// OutputFile is a file the run wrote, with its SHA-256.
+type OutputFile struct {
+	// Path is the file's path as written: inside an audit folder, the
+	// folder joined with the file's name.
+	Path   string `json:"path"`
+	SHA256 string `json:"sha256"`
+}
+
+// Purpose is the audited model's stated purpose: the spec's purpose
+// section, each field that the audit plan's purpose gives replacing the
+// spec's.
+type Purpose struct {
+	IntendedUse       string `json:"intended_use,omitempty"`
+	TargetPopulation  string `json:"target_population,omitempty"`
+	Setting           string `json:"setting,omitempty"`
+	OutcomeDefinition string `json:"outcome_definition,omitempty"`
+	PredictionHorizon string `json:"prediction_horizon,omitempty"`
+	// From says, for each field stated, where it came from: "model" (the
+	// spec) or "plan".
+	From map[string]string `json:"from"`
+	// Missing lists the fields neither states, by key.
+	Missing []string `json:"missing"`
+	// ReplacedFromModel holds the spec's own text of each field the plan
+	// replaced with a different one.
+	ReplacedFromModel map[string]string `json:"replaced_from_model,omitempty"`
+}
+
+// NewPurpose combines the spec's purpose with the plan's: each field the
+// plan states replaces the spec's.
+func NewPurpose(spec, plan model.Purpose) *Purpose {
+	out := &Purpose{From: map[string]string{}, Missing: []string{}}
+	var merged model.Purpose
+	for _, k := range model.PurposeKeys {
+		sv, pv := spec.Get(k), plan.Get(k)
+		switch {
+		case pv != "":
+			merged.Set(k, pv)
+			out.From[k] = "plan"
+			if sv != "" && sv != pv {
+				if out.ReplacedFromModel == nil {
+					out.ReplacedFromModel = map[string]string{}
+				}
+				out.ReplacedFromModel[k] = sv
+			}
+		case sv != "":
+			merged.Set(k, sv)
+			out.From[k] = "model"
+		default:
+			out.Missing = append(out.Missing, k)
+		}
+	}
+	out.IntendedUse, out.TargetPopulation, out.Setting = merged.IntendedUse, merged.TargetPopulation, merged.Setting
+	out.OutcomeDefinition, out.PredictionHorizon = merged.OutcomeDefinition, merged.PredictionHorizon
+	return out
+}
+
+// Get returns the stated field of key, one of model.PurposeKeys.
+func (p *Purpose) Get(key string) string {
+	return model.Purpose{IntendedUse: p.IntendedUse, TargetPopulation: p.TargetPopulation, Setting: p.Setting,
+		OutcomeDefinition: p.OutcomeDefinition, PredictionHorizon: p.PredictionHorizon}.Get(key)
 }
 
 // ModelInfo describes what was audited.
@@ -43,6 +152,11 @@ type ModelInfo struct {
 	Terms   []string `json:"terms,omitempty"`
 	Outcome string   `json:"outcome"`
 	Event   string   `json:"event"`
+	// Purpose is the model's stated purpose, with the fields not stated.
+	Purpose *Purpose `json:"purpose"`
+	// FittedModel is the frozen model that the audit fitted from the
+	// recipe given and wrote into the audit folder: the model audited.
+	FittedModel *OutputFile `json:"fitted_model,omitempty"`
 }
 
 // Apparent is the model's performance on its development data, in the
@@ -403,6 +517,11 @@ type Update struct {
 	Chosen string       `json:"chosen"`
 	// ModelFile is where the updated frozen model was written.
 	ModelFile string `json:"model_file"`
+	// Parent is the frozen model that was updated, as a file that
+	// exists: the model given, or the model the audit fitted from the
+	// recipe given (in the audit folder). Its SHA-256 is the updated
+	// model's provenance.parent_model_sha256.
+	Parent ParentModel `json:"parent_model"`
 	// Expected is the updated model's performance expected in new patients
 	// of this cohort's population, by the optimism bootstrap of the
 	// updating (absent when no update was chosen).
@@ -411,6 +530,15 @@ type Update struct {
 	Bootstrap int    `json:"bootstrap,omitempty"`
 	Seed      uint64 `json:"seed,omitempty"`
 	Failed    int    `json:"failed,omitempty"`
+}
+
+// ParentModel is the model an update started from.
+type ParentModel struct {
+	Path   string `json:"path"`
+	SHA256 string `json:"sha256"`
+	// FittedInAudit says that the parent is the model this audit fitted
+	// from a recipe and wrote into its folder.
+	FittedInAudit bool `json:"fitted_in_this_audit"`
 }
 
 // UpdateStep is one candidate update with its fit.

@@ -3,6 +3,7 @@ package validate
 import (
 	"context"
 	"fmt"
+	"strings"
 
 	"github.com/riskaudit/riskaudit/metrics"
 	"github.com/riskaudit/riskaudit/resample"
@@ -33,10 +34,49 @@ type Comparison struct {
 	DeLong     metrics.PairedDeLong `json:"delong"`
 	Brier      BrierComparison      `json:"brier"`
 	NetBenefit []NetBenefitPair     `json:"net_benefit"`
-	// Tool and Command record how the comparison was made.
+	// Calibration is both models' calibration on the same patients.
+	Calibration CalibrationPair `json:"calibration"`
+	// Tool and Command record how the comparison was made (kept beside
+	// Provenance, which holds them too).
 	Tool    string `json:"tool"`
 	Command string `json:"command_line"`
-	Caution string `json:"caution"`
+	// Provenance records the comparison as an audit's provenance does:
+	// tool, command line, when, the date, and every model file and the
+	// cohort with their SHA-256.
+	Provenance Provenance `json:"provenance"`
+	Caution    string     `json:"caution"`
+}
+
+// CalibrationPair is the calibration of both models, measured as an
+// audit measures one model (the same functions and defaults, so each
+// equals the single model's audit of the same rows).
+type CalibrationPair struct {
+	A ModelCalibration `json:"a"`
+	B ModelCalibration `json:"b"`
+	// Replicates and Seed drive the ICI's bootstrap percentile interval
+	// (those of the Brier difference), in which the smooth uses LOWESS δ
+	// = ICIDelta of the risk range, as an audit's --ci-bootstrap does.
+	Replicates int     `json:"ici_replicates"`
+	Seed       uint64  `json:"seed"`
+	ICIDelta   float64 `json:"ici_delta_share"`
+}
+
+// ModelCalibration is one model's calibration: calibration-in-the-large
+// and slope with Wald intervals, O/E with its interval, and the ICI with
+// a bootstrap percentile interval.
+type ModelCalibration struct {
+	CITL     float64    `json:"citl"`
+	CITLCI   [2]float64 `json:"citl_ci"`
+	Slope    float64    `json:"slope"`
+	SlopeCI  [2]float64 `json:"slope_ci"`
+	OE       float64    `json:"oe"`
+	OECI     [2]float64 `json:"oe_ci"`
+	Observed float64    `json:"observed_events"`
+	Expected float64    `json:"expected_events"`
+	ICI      float64    `json:"ici"`
+	ICICI    [2]float64 `json:"ici_ci"`
+	// Notes say which measures could not be estimated, and why.
+	Notes []string `json:"notes,omitempty"`
 }
 
 // BrierComparison is both models' Brier scores and the difference a − b
@@ -74,12 +114,22 @@ type CompareOptions struct {
 // outcomes y (1 event, 0 non-event): the paired DeLong test of
 // AUC(a) − AUC(b) (DeLong, DeLong & Clarke-Pearson 1988, Biometrics
 // 44:837–845), the Brier scores with the 95% bootstrap percentile
-// interval of their difference, and the net benefit of both at every
-// threshold (Vickers & Elkin 2006). Only the measures are filled in; the
-// caller names the models, the data and the tool. Both outcomes must
-// occur. A cancelled ctx stops the bootstrap and returns ctx's error.
+// interval of their difference, the net benefit of both at every
+// threshold (Vickers & Elkin 2006), and both models' calibration as
+// AssessLogits measures it, with the ICI's bootstrap percentile interval
+// (resample.PercentileIntervals, the same replicates and seed). Only the
+// measures are filled in; the caller names the models, the data and the
+// tool. Both outcomes must occur. A cancelled ctx stops the bootstrap
+// and returns ctx's error.
 func Compare(ctx context.Context, y, pa, pb []float64, opt CompareOptions) (*Comparison, error) {
-	if len(y) != len(pa) || len(y) != len(pb) {
+	return CompareLogits(ctx, y, pa, pb, nil, nil, opt)
+}
+
+// CompareLogits is Compare for risks that come with their linear
+// predictors (la for pa, lb for pb; either may be nil), which the
+// calibration fits then use directly, as AssessLogits does.
+func CompareLogits(ctx context.Context, y, pa, pb, la, lb []float64, opt CompareOptions) (*Comparison, error) {
+	if len(y) != len(pa) || len(y) != len(pb) || la != nil && len(la) != len(y) || lb != nil && len(lb) != len(y) {
 		return nil, fmt.Errorf("validate: %d outcomes but %d and %d risks", len(y), len(pa), len(pb))
 	}
 	if opt.Thresholds == nil {
@@ -110,5 +160,39 @@ func Compare(ctx context.Context, y, pa, pb []float64, opt CompareOptions) (*Com
 	for i := range na {
 		c.NetBenefit = append(c.NetBenefit, NetBenefitPair{Threshold: na[i].Threshold, A: na[i].Model, B: nb[i].Model, TreatAll: na[i].TreatAll})
 	}
+	c.Calibration = CalibrationPair{Replicates: opt.Replicates, Seed: opt.Seed, ICIDelta: ciDelta}
+	if c.Calibration.A, err = modelCalibration(ctx, y, pa, la, opt); err != nil {
+		return nil, err
+	}
+	if c.Calibration.B, err = modelCalibration(ctx, y, pb, lb, opt); err != nil {
+		return nil, err
+	}
 	return c, nil
+}
+
+// ciDelta is the LOWESS δ share of the ICI's percentile interval
+// (resample.CIOptions' default, as in an audit's --ci-bootstrap).
+const ciDelta = 0.1
+
+// modelCalibration measures one model's calibration as an audit with
+// the default options does, and the ICI's percentile interval as an
+// audit's --ci-bootstrap does.
+func modelCalibration(ctx context.Context, y, p, lp []float64, opt CompareOptions) (ModelCalibration, error) {
+	perf, err := AssessLogits(y, p, lp, Options{Thresholds: opt.Thresholds})
+	if err != nil {
+		return ModelCalibration{}, err
+	}
+	ci, err := resample.PercentileIntervals(ctx, y, p, resample.CIOptions{B: opt.Replicates, Seed: opt.Seed, ICIDelta: ciDelta, Thresholds: opt.Thresholds})
+	if err != nil {
+		return ModelCalibration{}, err
+	}
+	k := perf.Calibration
+	mc := ModelCalibration{CITL: k.CITL, CITLCI: k.CITLCI, Slope: k.Slope, SlopeCI: k.SlopeCI, OE: k.OE, OECI: k.OECI,
+		Observed: k.Observed, Expected: k.Expected, ICI: k.ICI, ICICI: ci.ICI}
+	for _, n := range k.Notes {
+		if !strings.Contains(n, "Hosmer") { // a test the comparison does not report
+			mc.Notes = append(mc.Notes, n)
+		}
+	}
+	return mc, nil
 }

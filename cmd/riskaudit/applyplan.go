@@ -6,6 +6,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/riskaudit/riskaudit/plan"
+	"github.com/riskaudit/riskaudit/validate"
 )
 
 func exists(path string) bool {
@@ -74,7 +75,10 @@ func applyPlan(cmd *cobra.Command, o *auditOptions) error {
 	if pl.Set["criteria"] {
 		c.Criteria = pl.Criteria
 	}
-	c.Read.Rename = pl.Rename
+	o.planRenames = pl.Rename
+	o.dateFromPlan = pl.Set["audit_date"] && !cmd.Flags().Changed("audit-date")
+	c.Plan = &validate.PlanFile{Path: o.planFile, Name: pl.Name, SHA256: pl.SHA256}
+	c.Purpose = pl.Purpose
 	if o.out == "" {
 		return usagef("the plan %s names no out folder and --out is not given", o.planFile)
 	}

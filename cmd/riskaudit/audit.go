@@ -34,6 +34,10 @@ type auditOptions struct {
 	history       string
 	auditDate     string
 	replaceRecord bool
+	// dateFromPlan says that auditDate is the plan's; planRenames are the
+	// plan's renames, to which --rename adds.
+	dateFromPlan bool
+	planRenames  map[string]string
 }
 
 const auditLong = `Measure how a model performs on a cohort with observed outcomes and write
@@ -83,6 +87,14 @@ standardised net benefit (Riley et al. 2021), from target 95% CI widths
 anticipated values taken from the cohort or from the plan's sample_size
 section.
 
+Provenance: the report and audit.json record the audit date and where it
+came from (--audit-date, the plan, or today), the plan with its SHA-256,
+every column rename (--rename or the plan's), the tool and the command line
+(passwords masked), and every input's SHA-256; the model's stated purpose
+(the spec's or the plan's purpose section) heads the report, and an
+appendix maps the report to the TRIPOD+AI checklist. A recipe fitted
+inside the audit is written into DIR as fitted_model.yaml.
+
 Outputs are written to temporary files and renamed into place only when
 everything has succeeded.`
 
@@ -105,6 +117,9 @@ const auditExample = `  # Audit a frozen model on a fresh extract
 
   # A scheduled audit from a plan (flags override it)
   riskaudit audit --plan monthly-audit.yaml --cohort extracts/2026-12.parquet
+
+  # An extract whose columns were renamed: read age_years as age, bmi_kg_m2 as bmi
+  riskaudit audit --model frozen.yaml --cohort new.csv --rename age_years=age --rename bmi_kg_m2=bmi --out audit
 
   # Percentile intervals for ICI, E50, E90, scaled Brier and net benefit
   riskaudit audit --model frozen.yaml --cohort new.csv --ci-bootstrap 500 --out audit
@@ -263,11 +278,19 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 	if err := o.checkValues(); err != nil {
 		return cfg, err
 	}
-	rename := cfg.Read.Rename
 	if cfg.Read, cfg.FailOnMissing, err = o.data.options(); err != nil {
 		return cfg, err
 	}
-	cfg.Read.Rename = rename
+	if cfg.Read.Rename, cfg.RenameSources, err = mergeRenames(o.planRenames, cfg.Read.Rename); err != nil {
+		return cfg, err
+	}
+	if cfg.AuditDate = o.auditDate; o.auditDate != "" {
+		cfg.AuditDateSource = validate.DateFromFlag
+		if o.dateFromPlan {
+			cfg.AuditDateSource = validate.DateFromPlan
+		}
+	}
+	cfg.OutDir = o.out
 	switch {
 	case o.delta < 0:
 		cfg.Measures.Delta = validate.AutoDelta

@@ -23,6 +23,7 @@ type compareOptions struct {
 	ciBootstrap      int
 	seed             uint64
 	quiet            bool
+	auditDate        string
 }
 
 func newCompareCmd(s *streams) *cobra.Command {
@@ -38,7 +39,12 @@ Writes DIR/compare.md, DIR/compare.json and DIR/decision_curves.svg with:
   Clarke-Pearson 1988): difference a − b, its SE, 95% CI, z and p;
   the Brier score difference with a bootstrap percentile interval
   (--ci-bootstrap replicates);
-  both decision curves, with treat-everyone and treat-no-one.`,
+  both models' calibration side by side: calibration-in-the-large and
+  slope with Wald intervals, O/E with its interval, ICI with a bootstrap
+  percentile interval (the same replicates), each as 'audit' measures it;
+  both decision curves, with treat-everyone and treat-no-one;
+  the provenance: the date, the tool, the command line, and the SHA-256
+  of both models and the cohort.`,
 		Example: `  riskaudit compare --model current.yaml --model proposed.yaml --cohort new.csv --out compare
   riskaudit compare --model current.yaml --predicted vendor_risk --cohort new.csv --out compare
   riskaudit compare --model current.yaml --model proposed.yaml --cohort new.csv --ci-bootstrap 2000 --seed 7 --out compare`,
@@ -61,6 +67,7 @@ Writes DIR/compare.md, DIR/compare.json and DIR/decision_curves.svg with:
 	f.IntVar(&o.ciBootstrap, "bootstrap", 1000, "the former name of --ci-bootstrap")
 	_ = f.MarkHidden("bootstrap")
 	f.Uint64Var(&o.seed, "seed", 1, "seed of the bootstrap")
+	f.StringVar(&o.auditDate, "audit-date", "", "the date the cohort describes, YYYY-MM-DD, for the provenance (default: today, UTC)")
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
 	o.data.register(f)
 	_ = c.MarkFlagRequired("cohort")
@@ -83,11 +90,18 @@ func runCompare(ctx context.Context, o *compareOptions, s *streams) error {
 	if err != nil {
 		return err
 	}
-	res, err := audit.Compare(ctx, audit.CompareConfig{
+	cfg := audit.CompareConfig{
 		Models: o.models, Predicted: o.predicted, PredictedPercent: o.predictedPercent, Cohort: audit.Input{Path: o.cohortFile}, Read: copt, FailOnMissing: fail,
 		Measures: validate.CompareOptions{Thresholds: ts, Replicates: o.ciBootstrap, Seed: o.seed},
-		Tool:     "riskaudit " + toolVersion(), CommandLine: s.commandLine(), Clock: now,
-	})
+		Tool:     "riskaudit " + toolVersion(), CommandLine: s.commandLine(), Clock: now, AuditDate: o.auditDate,
+	}
+	if o.auditDate != "" {
+		cfg.AuditDateSource = validate.DateFromFlag
+	}
+	if _, cfg.RenameSources, err = mergeRenames(nil, copt.Rename); err != nil {
+		return err
+	}
+	res, err := audit.Compare(ctx, cfg)
 	if err != nil {
 		return err
 	}

@@ -20,6 +20,7 @@ type dataFlags struct {
 	missing      string
 	naValues     []string
 	format       string
+	rename       []string
 }
 
 func (f *dataFlags) register(fs *pflag.FlagSet) {
@@ -28,6 +29,7 @@ func (f *dataFlags) register(fs *pflag.FlagSet) {
 	fs.StringVar(&f.missing, "missing", "complete-case", "missing-value policy: complete-case (leave out rows missing a model column) or fail")
 	fs.StringSliceVar(&f.naValues, "na-values", nil, "field values that mean missing, comma-separated (default: empty, NA, ., NaN)")
 	fs.StringVar(&f.format, "format", "auto", "cohort file format: csv (delimited text), parquet, arrow (Arrow IPC file), or auto (columnar files are recognised by their first bytes)")
+	fs.StringArrayVar(&f.rename, "rename", nil, "read the file's column OLD as NEW, written OLD=NEW (repeat for each column; added to a plan's renames)")
 }
 
 // options returns how to read the files and whether a missing value is
@@ -48,6 +50,9 @@ func (f *dataFlags) options() (o cohort.Options, fail bool, err error) {
 	}
 	if f.naValues != nil {
 		o.Missing = append([]string{}, f.naValues...)
+	}
+	if o.Rename, err = parseRenames(f.rename); err != nil {
+		return o, false, err
 	}
 	switch f.missing {
 	case "complete-case":

@@ -46,7 +46,17 @@ func TestJSONKeysDocumented(t *testing.T) {
 	if err := os.WriteFile(reduced, recipe[:cut], 0o644); err != nil {
 		t.Fatal(err)
 	}
+	// An audit from a plan that renames a column and states a purpose of
+	// its own, for the provenance's plan and renames and the purpose's
+	// replaced fields.
+	planFile := filepath.Join(dir, "plan.yaml")
+	planText := "name: keys\nmodel: demo/frozen.yaml\ncohort: demo/later.csv\nout: planned\naudit_date: 2026-03-31\n" +
+		"rename: {age_in_years: age}\npurpose: {setting: a setting of the plan's own}\n"
+	if err := os.WriteFile(planFile, []byte(planText), 0o644); err != nil {
+		t.Fatal(err)
+	}
 	for _, args := range [][]string{
+		{"audit", "--plan", planFile, "--rename", "bmi_value=bmi", "-q"},
 		{"fit", "--model", filepath.Join(demo, "recipe.yaml"), "--reduced", reduced, "--data", filepath.Join(demo, "development.csv"),
 			"--out", filepath.Join(dir, "refit.yaml"), "--json", filepath.Join(dir, "fit.json"), "-q"},
 		{"compare", "--model", filepath.Join(demo, "frozen.yaml"), "--model", filepath.Join(dir, "updated.yaml"),
@@ -54,12 +64,12 @@ func TestJSONKeysDocumented(t *testing.T) {
 		{"samplesize", "--model", filepath.Join(demo, "frozen.yaml"), "--data", filepath.Join(demo, "later.csv"),
 			"--threshold", "0.1", "--json", filepath.Join(dir, "size.json")},
 	} {
-		if code := run(ctx, args, s); code != 0 {
+		if code := run(ctx, args, s); code != 0 && !(args[0] == "audit" && code == exitCriterion) {
 			t.Fatalf("riskaudit %s: exit status %d", args[0], code)
 		}
 	}
 	paths := map[string]bool{}
-	for _, f := range []string{filepath.Join(dir, "audit", "audit.json"), filepath.Join(dir, "fit.json"), filepath.Join(dir, "cmp", "compare.json"), filepath.Join(dir, "size.json")} {
+	for _, f := range []string{filepath.Join(dir, "audit", "audit.json"), filepath.Join(dir, "planned", "audit.json"), filepath.Join(dir, "fit.json"), filepath.Join(dir, "cmp", "compare.json"), filepath.Join(dir, "size.json")} {
 		raw, err := os.ReadFile(f)
 		if err != nil {
 			t.Fatal(err)
@@ -84,7 +94,8 @@ func TestJSONKeysDocumented(t *testing.T) {
 		}
 	}
 	sort.Strings(missing)
-	for _, p := range []string{"nested.lr_chi2", "delong.difference_se", "update.chosen", "internal.shrinkage_factor", "bootstrap_ci.ici", "criteria[].formula"} {
+	for _, p := range []string{"nested.lr_chi2", "delong.difference_se", "update.chosen", "internal.shrinkage_factor", "bootstrap_ci.ici", "criteria[].formula",
+		"provenance.plan.sha256", "provenance.renames[].applied_to", "model.purpose.replaced_from_model.setting", "model.fitted_model.sha256", "calibration.b.ici_ci"} {
 		if !paths[p] {
 			t.Errorf("%s not written: an analysis did not run", p)
 		}

@@ -6,6 +6,7 @@ import (
 	"time"
 
 	"github.com/riskaudit/riskaudit/audit"
+	"github.com/riskaudit/riskaudit/internal/redact"
 )
 
 // progress reports the steps of a long command on one line of stderr,
@@ -63,10 +64,11 @@ func (p *progress) show(line string) {
 }
 
 // commandLine is the command as typed, each argument quoted for a POSIX
-// shell when it needs it.
+// shell when it needs it, with any password in it masked (package
+// redact), since it is recorded in the outputs.
 func (s *streams) commandLine() string {
 	parts := []string{"riskaudit"}
-	for _, a := range s.args {
+	for _, a := range redact.Args(s.args) {
 		parts = append(parts, shellQuote(a))
 	}
 	return strings.Join(parts, " ")
