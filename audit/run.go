@@ -27,6 +27,9 @@ type Result struct {
 	Files []atomicfile.File
 	// Started is when the audit started, by the Config's clock.
 	Started time.Time
+	// Criteria are the acceptance criteria the verdict applied (the
+	// Config's, or validate.DefaultCriteria), kept with a history record.
+	Criteria []validate.Criterion
 }
 
 // Passed reports whether every criterion was met.
@@ -69,6 +72,7 @@ type run struct {
 	perf      *validate.Performance
 	inside    *FitResult
 	files     []atomicfile.File
+	criteria  []validate.Criterion
 }
 
 func (r *run) audit(ctx context.Context) (*Result, error) {
@@ -131,7 +135,7 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 	if ctx.Err() != nil {
 		return nil, context.Cause(ctx)
 	}
-	return &Result{Audit: a, Figures: figs, Files: r.files, Started: r.started}, nil
+	return &Result{Audit: a, Figures: figs, Files: r.files, Started: r.started, Criteria: r.criteria}, nil
 }
 
 // loadModel reads the model (or makes the spec of a column of risks) and
@@ -233,6 +237,7 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 	if criteria == nil {
 		criteria = validate.DefaultCriteria()
 	}
+	r.criteria = criteria
 	var err error
 	if a.Verdict, err = validate.Judge(r.perf, criteria); err != nil {
 		return &ConfigError{Msg: err.Error()}
@@ -323,6 +328,9 @@ func (r *run) modelInfo() validate.ModelInfo {
 		return m
 	}
 	m.Source, m.Spec, m.Terms = "frozen model", c.Model, r.cur.terms
+	if pv := spec.Provenance; pv != nil {
+		m.ParentSHA256 = pv.ParentSHA256
+	}
 	if m.Name == "" {
 		m.Name = filepath.Base(c.Model)
 	}

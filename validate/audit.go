@@ -43,6 +43,10 @@ type ModelInfo struct {
 	Terms   []string `json:"terms,omitempty"`
 	Outcome string   `json:"outcome"`
 	Event   string   `json:"event"`
+	// ParentSHA256 is the SHA-256 of the model this one updates, from
+	// the frozen model's provenance (parent_model_sha256), when it
+	// updates one.
+	ParentSHA256 string `json:"parent_sha256,omitempty"`
 }
 
 // Apparent is the model's performance on its development data, in the
