@@ -259,6 +259,11 @@ func Trend(tr *trend.Trend) ([]Figure, error) {
 		if err := addCriteria(p, tr, xs, criterionReach*(hi-lo), ch.measures, add); err != nil {
 			return nil, err
 		}
+		// The marks go under the audits, so that a label never hides a
+		// point or an interval.
+		for k, c := range tr.Changes {
+			p.Add(&changeMark{x: Day(tr.Points[c.Point].Time), label: fmt.Sprintf("model %d", c.Series+1), row: k})
+		}
 		missing, noBar := 0, 0
 		for si := range tr.Series {
 			m, nb, err := addSeries(p, tr, si, xs, ch, add)
@@ -268,11 +273,9 @@ func Trend(tr *trend.Trend) ([]Figure, error) {
 			missing, noBar = missing+m, noBar+nb
 		}
 		if len(tr.Changes) > 0 {
-			for k, c := range tr.Changes {
-				p.Add(&changeMark{x: Day(tr.Points[c.Point].Time), label: fmt.Sprintf("model %d", c.Series+1), row: k})
-			}
 			add(fmt.Sprintf("first audit of a new model (%s)", changeDates(tr)), &changeMark{})
 		}
+		add("bars: each audit's 95% confidence interval")
 		if missing > 0 {
 			add(fmt.Sprintf("%d %s not estimable: no point", missing, audits(missing)))
 		}

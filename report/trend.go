@@ -29,7 +29,7 @@ func WriteTrend(w io.Writer, tr *trend.Trend, source string, figures []plots.Fig
 		len(tr.Series), plural(len(tr.Series), "model", "models"), code(source), first, last)
 
 	r.p("## Models\n\n")
-	r.p("Each model is a series of its own, known by its name and the SHA-256 of its file (a model updated by recalibration keeps its name but not its file, so it is a new series); no line joins the audits of two models, and a control limit or drift flag of one model never carries over to another.\n\n")
+	r.p("Each model is a series of its own, known by its name and the SHA-256 of its file (a model updated by recalibration or revision keeps its name but not its file, so it is a new series); no line joins the audits of two models, and a control limit or drift flag of one model never carries over to another.\n\n")
 	t := table{head: []string{"model", "name", "SHA-256", "updates", "audits", "first audit", "last audit"}}
 	for i, s := range tr.Series {
 		t.add(fmt.Sprint(i+1), Escape(s.Model.Name), sha(s.Model.SHA256), parentText(tr, s), fmt.Sprint(len(s.Points)),
@@ -57,7 +57,7 @@ func WriteTrend(w io.Writer, tr *trend.Trend, source string, figures []plots.Fig
 		r.p("\n")
 	}
 	if len(tr.Changes) > 0 {
-		r.p("The charts mark each of these dates with a dashed vertical line.\n\n")
+		r.p("The charts mark %s with a dashed vertical line.\n\n", plural(len(tr.Changes), "this date", "each of these dates"))
 	}
 
 	r.p("## Calibration drift\n\n")
@@ -95,7 +95,7 @@ func WriteTrend(w io.Writer, tr *trend.Trend, source string, figures []plots.Fig
 		if i == tr.Series[p.Series].FirstOutside {
 			flag = " **first outside**"
 		}
-		at.add(fmt.Sprint(rec.ID), rec.AuditDate, fmt.Sprintf("%d (%s)", p.Series+1, trend.ShortSHA(rec.ModelSHA)), Escape(rec.Cohort),
+		at.add(fmt.Sprint(rec.ID), rec.AuditDate, modelCell(p.Series, rec.ModelSHA), Escape(rec.Cohort),
 			fmt.Sprint(rec.Used), fmt.Sprint(rec.Events), num(rec.Expected, "%.1f"),
 			fmt.Sprintf("%s (%s)", f3(rec.AUC[0]), interval([2]float64{rec.AUC[1], rec.AUC[2]}, "%.3f", "–", "")),
 			fmt.Sprintf("%s (%s)%s", f3(rec.OE[0]), interval([2]float64{rec.OE[1], rec.OE[2]}, "%.3f", "–", ""), flag),
@@ -134,7 +134,7 @@ func (r *renderer) criteria(tr *trend.Trend) {
 		}
 	}
 	if len(seen) > 0 {
-		r.p("The charts draw, as dark (fail) or grey (review) dash-dotted lines, the acceptance criteria on AUC, O/E, slope and calibration-in-the-large that each audit was judged by, as recorded with it, over the audits judged by each: %s. A bound on an interval (such as `auc_ci.lower`) is drawn on the measure's chart; the interval must reach it.\n\n", strings.Join(seen, "; "))
+		r.p("The charts draw, as dark (fail) or grey (review) dash-dotted lines, the acceptance criteria on AUC, O/E, slope and calibration-in-the-large that each audit was judged by, as recorded with it, over the audits judged by each: %s. A bound on an end of the 95%% interval (such as `auc_ci.lower`) is drawn on the measure's chart, where that end of each audit's bar must lie on its permitted side.\n\n", strings.Join(seen, "; "))
 	} else if unknown < len(tr.Points) {
 		r.p("The audits were judged by no criterion on AUC, O/E, slope or calibration-in-the-large, so no bounds are drawn.\n\n")
 	}
@@ -152,6 +152,14 @@ func charted(measure string) bool {
 		return true
 	}
 	return false
+}
+
+// modelCell is the audits table's model: its number and short hash.
+func modelCell(series int, sha string) string {
+	if sha == "" {
+		return fmt.Sprint(series + 1)
+	}
+	return fmt.Sprintf("%d (%s)", series+1, trend.ShortSHA(sha))
 }
 
 // modelWords names a model in a sentence: its name and short hash.
