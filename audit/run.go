@@ -35,6 +35,9 @@ type Result struct {
 	Folder []atomicfile.File
 	// Started is when the audit started, by the Config's clock.
 	Started time.Time
+	// Criteria are the acceptance criteria the verdict applied (the
+	// Config's, or validate.DefaultCriteria), kept with a history record.
+	Criteria []validate.Criterion
 }
 
 // Passed reports whether every criterion was met.
@@ -79,7 +82,8 @@ type run struct {
 	files     []atomicfile.File
 	// fitted is the frozen model fitted from the recipe given, as the
 	// audit folder holds it (nil when the model given was frozen).
-	fitted *atomicfile.File
+	fitted   *atomicfile.File
+	criteria []validate.Criterion
 }
 
 // FittedModelName is the file in an audit folder that holds the frozen
@@ -151,7 +155,7 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 	if ctx.Err() != nil {
 		return nil, context.Cause(ctx)
 	}
-	res := &Result{Audit: a, Figures: figs, Files: r.files, Started: r.started}
+	res := &Result{Audit: a, Figures: figs, Files: r.files, Started: r.started, Criteria: r.criteria}
 	if r.fitted != nil {
 		res.Folder = append(res.Folder, *r.fitted)
 	}
@@ -267,6 +271,7 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 	if criteria == nil {
 		criteria = validate.DefaultCriteria()
 	}
+	r.criteria = criteria
 	var err error
 	if a.Verdict, err = validate.Judge(r.perf, criteria); err != nil {
 		return &ConfigError{Msg: err.Error()}
@@ -363,6 +368,9 @@ func (r *run) modelInfo() validate.ModelInfo {
 		return m
 	}
 	m.Source, m.Spec, m.Terms = "frozen model", c.Model, r.cur.terms
+	if pv := spec.Provenance; pv != nil {
+		m.ParentSHA256 = pv.ParentSHA256
+	}
 	if m.Name == "" {
 		m.Name = filepath.Base(c.Model)
 	}

@@ -44,6 +44,10 @@ type Written struct {
 	// ReplacedAt (empty when unknown).
 	Replaced   bool
 	ReplacedAt string
+	// Record is the number of the history record written (0: none), and
+	// RecordDate the audit date it is stored under.
+	Record     int64
+	RecordDate string
 }
 
 // The names of every file an audit folder may hold (its figures are
@@ -281,6 +285,7 @@ func (fw *folderWrite) write() (*Written, error) {
 			}
 			return nil, fmt.Errorf("recording the audit in %s: %w; nothing was written", histPath, err)
 		}
+		w.Record, w.RecordDate = pending.ID, rec.AuditDate
 	}
 	if fw.stopAt == "recorded" {
 		return w, errStopped
@@ -433,7 +438,7 @@ func namesOf(kind string) []string {
 	case "comparison":
 		return []string{"compare.md", "compare.json", "decision_curves.svg"}
 	case "trend":
-		return []string{"trend.md", "trend_auc.svg", "trend_oe.svg", "trend_slope.svg", "trend_citl.svg"}
+		return []string{"trend.md", "trend.json", "trend_auc.svg", "trend_oe.svg", "trend_slope.svg", "trend_citl.svg"}
 	}
 	return auditNames
 }
@@ -604,7 +609,16 @@ func historyRecord(date string, r *Result) (history.Record, error) {
 		OE:    [3]float64{a.Calibration.OE, a.Calibration.OECI[0], a.Calibration.OECI[1]},
 		Slope: [3]float64{a.Calibration.Slope, a.Calibration.SlopeCI[0], a.Calibration.SlopeCI[1]},
 		CITL:  [3]float64{a.Calibration.CITL, a.Calibration.CITLCI[0], a.Calibration.CITLCI[1]},
-		ICI:   a.Calibration.ICI, Brier: a.Overall.Brier, Verdict: a.Verdict.Status, JSON: string(js)}
+		ICI:   a.Calibration.ICI, Brier: a.Overall.Brier, Verdict: a.Verdict.Status, JSON: string(js),
+		ParentSHA: a.Model.ParentSHA256, Criteria: []history.Criterion{}}
+	for _, c := range r.Criteria {
+		sev := c.Severity
+		if sev == "" {
+			sev = "fail"
+		}
+		rec.Criteria = append(rec.Criteria, history.Criterion{Measure: c.Measure, AtLeast: c.AtLeast, AtMost: c.AtMost,
+			Between: c.Between, Contains: c.Contains, Severity: sev})
+	}
 	for _, in := range a.Provenance.Inputs {
 		switch in.Role {
 		case "model":

@@ -18,6 +18,7 @@ package history
 
 import (
 	"database/sql"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
@@ -137,6 +138,102 @@ type Record struct {
 	// that a run stopped between writing its audit folder and committing
 	// the record can be recognised (HasToken).
 	Token string
+	// ParentSHA is the SHA-256 of the model that the audited model
+	// updates, from its provenance (empty when it updates none, and in
+	// records made before stores kept it).
+	ParentSHA string
+	// Criteria are the acceptance criteria the audit was judged by. Read
+	// takes them from the record's own column or, in records made before
+	// stores kept it, from the verdict in the record's audit.json; nil
+	// when neither gives them.
+	Criteria []Criterion
+}
+
+// Criterion is one acceptance criterion an audit was judged by: a bound
+// on a measure, named as in plans (auc, oe_ci.lower, slope, oe_ci, …).
+// Exactly one of AtLeast, AtMost, Between and Contains is set.
+type Criterion struct {
+	Measure  string      `json:"measure"`
+	AtLeast  *float64    `json:"at_least,omitempty"`
+	AtMost   *float64    `json:"at_most,omitempty"`
+	Between  *[2]float64 `json:"between,omitempty"`
+	Contains *float64    `json:"contains,omitempty"`
+	// Severity is "fail" or "review".
+	Severity string `json:"severity"`
+}
+
+// Bound writes the criterion's bound as audit.json's verdict does
+// ("≥ 0.7", "≤ 0.03", "between 0.8 and 1.2", "interval contains 1").
+func (c Criterion) Bound() string {
+	switch {
+	case c.AtLeast != nil:
+		return fmt.Sprintf("≥ %g", *c.AtLeast)
+	case c.AtMost != nil:
+		return fmt.Sprintf("≤ %g", *c.AtMost)
+	case c.Between != nil:
+		return fmt.Sprintf("between %g and %g", c.Between[0], c.Between[1])
+	case c.Contains != nil:
+		return fmt.Sprintf("interval contains %g", *c.Contains)
+	}
+	return "?"
+}
+
+// parseBound reads a bound as Bound writes it (and as audit.json's
+// verdict has always written it), exactly: a text that Bound would not
+// write back the same is refused.
+func parseBound(measure, bound, severity string) (Criterion, bool) {
+	c := Criterion{Measure: measure, Severity: severity}
+	var a, b float64
+	switch {
+	case strings.HasPrefix(bound, "≥ "):
+		if _, err := fmt.Sscanf(bound, "≥ %g", &a); err != nil {
+			return c, false
+		}
+		c.AtLeast = &a
+	case strings.HasPrefix(bound, "≤ "):
+		if _, err := fmt.Sscanf(bound, "≤ %g", &a); err != nil {
+			return c, false
+		}
+		c.AtMost = &a
+	case strings.HasPrefix(bound, "between "):
+		if _, err := fmt.Sscanf(bound, "between %g and %g", &a, &b); err != nil {
+			return c, false
+		}
+		c.Between = &[2]float64{a, b}
+	case strings.HasPrefix(bound, "interval contains "):
+		if _, err := fmt.Sscanf(bound, "interval contains %g", &a); err != nil {
+			return c, false
+		}
+		c.Contains = &a
+	default:
+		return c, false
+	}
+	return c, c.Bound() == bound
+}
+
+// criteriaOf reads the criteria column (a JSON array of Criterion), or,
+// when it is empty, the verdict's criteria in the record's audit.json
+// (verdict, an array of {measure, bound, severity}). Criteria that
+// cannot be read are left out; nil means none could be.
+func criteriaOf(column, verdict string) []Criterion {
+	if column != "" {
+		var cs []Criterion
+		if json.Unmarshal([]byte(column), &cs) == nil {
+			return cs
+		}
+		return nil
+	}
+	var vs []struct{ Measure, Bound, Severity string }
+	if verdict == "" || json.Unmarshal([]byte(verdict), &vs) != nil {
+		return nil
+	}
+	var cs []Criterion
+	for _, v := range vs {
+		if c, ok := parseBound(v.Measure, v.Bound, v.Severity); ok {
+			cs = append(cs, c)
+		}
+	}
+	return cs
 }
 
 const schema = `CREATE TABLE IF NOT EXISTS audits (
@@ -265,6 +362,8 @@ func (e *DuplicateError) Is(target error) bool { return target == ErrDuplicate }
 type Pending struct {
 	db *sql.DB
 	tx *sql.Tx
+	// ID is the number the record gets once committed.
+	ID int64
 }
 
 // Begin inserts r into the store at path (created if needed) in a
@@ -276,12 +375,12 @@ func Begin(path string, r Record, replace bool) (*Pending, error) {
 	if err != nil {
 		return nil, err
 	}
-	tx, err := insert(db, r, replace)
+	tx, id, err := insert(db, r, replace)
 	if err != nil {
 		db.Close()
 		return nil, err
 	}
-	return &Pending{db: db, tx: tx}, nil
+	return &Pending{db: db, tx: tx, ID: id}, nil
 }
 
 // Commit commits the record.
@@ -317,8 +416,40 @@ func HasToken(path, token string) (bool, error) {
 	return n > 0, nil
 }
 
-// migrate creates the table, and adds the token column to a store made
-// before it existed.
+// added are the columns added to the table after its first version, in
+// the order they were added; migrate adds those a store lacks.
+var added = []struct{ name, def string }{
+	{"token", "TEXT NOT NULL DEFAULT ''"},
+	{"model_parent_sha256", "TEXT NOT NULL DEFAULT ''"},
+	{"criteria", "TEXT NOT NULL DEFAULT ''"},
+}
+
+// columns lists the columns of the store's table.
+func columns(db interface {
+	Query(string, ...any) (*sql.Rows, error)
+}) (map[string]bool, error) {
+	rows, err := db.Query(`SELECT name FROM pragma_table_info('audits')`)
+	if err != nil {
+		return nil, fmt.Errorf("history: %w", err)
+	}
+	defer rows.Close()
+	have := map[string]bool{}
+	for rows.Next() {
+		var name string
+		if err := rows.Scan(&name); err != nil {
+			return nil, fmt.Errorf("history: %w", err)
+		}
+		have[name] = true
+	}
+	if err := rows.Err(); err != nil {
+		return nil, fmt.Errorf("history: %w", err)
+	}
+	return have, nil
+}
+
+// migrate creates the table, and adds to a store made by an earlier
+// version the columns it lacks (their defaults mark what such records
+// do not know: no token, no parent model, no criteria).
 func migrate(db interface {
 	Exec(string, ...any) (sql.Result, error)
 	Query(string, ...any) (*sql.Rows, error)
@@ -326,23 +457,16 @@ func migrate(db interface {
 	if _, err := db.Exec(schema); err != nil {
 		return fmt.Errorf("history: creating the table: %w", err)
 	}
-	rows, err := db.Query(`SELECT name FROM pragma_table_info('audits')`)
+	have, err := columns(db)
 	if err != nil {
-		return fmt.Errorf("history: %w", err)
+		return err
 	}
-	has := false
-	for rows.Next() {
-		var name string
-		if err := rows.Scan(&name); err != nil {
-			rows.Close()
-			return fmt.Errorf("history: %w", err)
+	for _, c := range added {
+		if have[c.name] {
+			continue
 		}
-		has = has || name == "token"
-	}
-	rows.Close()
-	if !has {
-		if _, err := db.Exec(`ALTER TABLE audits ADD COLUMN token TEXT NOT NULL DEFAULT ''`); err != nil {
-			return fmt.Errorf("history: adding the token column: %w", err)
+		if _, err := db.Exec(`ALTER TABLE audits ADD COLUMN ` + c.name + ` ` + c.def); err != nil {
+			return fmt.Errorf("history: adding the %s column: %w", c.name, err)
 		}
 	}
 	return nil
@@ -351,7 +475,7 @@ func migrate(db interface {
 // appendTx appends in one transaction; beforeCommit (for tests) runs
 // after the insert and before the commit.
 func appendTx(db *sql.DB, r Record, beforeCommit func()) error {
-	tx, err := insert(db, r, false)
+	tx, _, err := insert(db, r, false)
 	if err != nil {
 		return err
 	}
@@ -367,15 +491,16 @@ func appendTx(db *sql.DB, r Record, beforeCommit func()) error {
 
 // insert begins a transaction (taking the write lock), creates or
 // migrates the table, refuses (or, with replace, removes) a record of
-// the same audit, and inserts r; the caller commits or rolls back.
-func insert(db *sql.DB, r Record, replace bool) (*sql.Tx, error) {
+// the same audit, and inserts r; the caller commits or rolls back. It
+// returns the new record's ID.
+func insert(db *sql.DB, r Record, replace bool) (*sql.Tx, int64, error) {
 	tx, err := db.Begin()
 	if err != nil {
-		return nil, fmt.Errorf("history: %w", err)
+		return nil, 0, fmt.Errorf("history: %w", err)
 	}
 	if err := migrate(tx); err != nil {
 		tx.Rollback()
-		return nil, err
+		return nil, 0, err
 	}
 	same := `FROM audits WHERE model = ? AND model_sha256 = ? AND cohort_sha256 = ? AND audit_date = ?`
 	args := []any{r.Model, r.ModelSHA, r.CohortSHA, r.AuditDate}
@@ -384,44 +509,77 @@ func insert(db *sql.DB, r Record, replace bool) (*sql.Tx, error) {
 	switch err := tx.QueryRow(`SELECT id, recorded_at `+same+` ORDER BY id LIMIT 1`, args...).Scan(&id, &at); {
 	case err == nil && !replace:
 		tx.Rollback()
-		return nil, &DuplicateError{ID: id, RecordedAt: at, Model: r.Model, Cohort: r.Cohort, AuditDate: r.AuditDate}
+		return nil, 0, &DuplicateError{ID: id, RecordedAt: at, Model: r.Model, Cohort: r.Cohort, AuditDate: r.AuditDate}
 	case err == nil:
 		if _, err := tx.Exec(`DELETE `+same, args...); err != nil {
 			tx.Rollback()
-			return nil, fmt.Errorf("history: replacing record %d: %w", id, err)
+			return nil, 0, fmt.Errorf("history: replacing record %d: %w", id, err)
 		}
 	case !errors.Is(err, sql.ErrNoRows):
 		tx.Rollback()
-		return nil, fmt.Errorf("history: %w", err)
+		return nil, 0, fmt.Errorf("history: %w", err)
 	}
 	if r.RecordedAt == "" {
 		r.RecordedAt = time.Now().UTC().Format(time.RFC3339)
 	}
-	_, err = tx.Exec(`INSERT INTO audits (audit_date, recorded_at, model, model_sha256, cohort, cohort_sha256,
+	criteria := ""
+	if r.Criteria != nil {
+		b, err := json.Marshal(r.Criteria)
+		if err != nil {
+			tx.Rollback()
+			return nil, 0, fmt.Errorf("history: the record's criteria: %w", err)
+		}
+		criteria = string(b)
+	}
+	res, err := tx.Exec(`INSERT INTO audits (audit_date, recorded_at, model, model_sha256, cohort, cohort_sha256,
 		rows_read, rows_used, events, expected, auc, auc_lower, auc_upper, oe, oe_lower, oe_upper,
-		slope, slope_lower, slope_upper, citl, citl_lower, citl_upper, ici, brier, verdict, audit_json, token)
-		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		slope, slope_lower, slope_upper, citl, citl_lower, citl_upper, ici, brier, verdict, audit_json, token,
+		model_parent_sha256, criteria)
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
 		r.AuditDate, r.RecordedAt, r.Model, r.ModelSHA, r.Cohort, r.CohortSHA, r.Rows, r.Used, r.Events, r.Expected,
 		r.AUC[0], r.AUC[1], r.AUC[2], r.OE[0], r.OE[1], r.OE[2], r.Slope[0], r.Slope[1], r.Slope[2],
-		r.CITL[0], r.CITL[1], r.CITL[2], r.ICI, r.Brier, r.Verdict, r.JSON, r.Token)
+		r.CITL[0], r.CITL[1], r.CITL[2], r.ICI, r.Brier, r.Verdict, r.JSON, r.Token, r.ParentSHA, criteria)
 	if err != nil {
 		tx.Rollback()
-		return nil, fmt.Errorf("history: appending: %w", err)
+		return nil, 0, fmt.Errorf("history: appending: %w", err)
 	}
-	return tx, nil
+	id, err = res.LastInsertId()
+	if err != nil {
+		tx.Rollback()
+		return nil, 0, fmt.Errorf("history: appending: %w", err)
+	}
+	return tx, id, nil
 }
 
 // Read returns every record of the store at path, by audit date and then
-// by the order they were recorded.
+// by the order they were recorded. It never writes to the store: columns
+// that a store made by an earlier version lacks read as their defaults.
 func Read(path string) ([]Record, error) {
 	db, err := openStore(path, false)
 	if err != nil {
 		return nil, err
 	}
 	defer db.Close()
+	have, err := columns(db)
+	if err != nil {
+		return nil, fmt.Errorf("history %s: %w", path, err)
+	}
+	opt := func(name string) string {
+		if have[name] {
+			return name
+		}
+		return "''"
+	}
+	// The verdict of audit.json is read only for records without the
+	// criteria column's value (made before stores kept it).
+	verdict := `CASE WHEN json_valid(audit_json) THEN json_extract(audit_json, '$.verdict.criteria') END`
+	if have["criteria"] {
+		verdict = `CASE WHEN criteria = '' AND json_valid(audit_json) THEN json_extract(audit_json, '$.verdict.criteria') END`
+	}
 	rows, err := db.Query(`SELECT id, audit_date, recorded_at, model, model_sha256, cohort, cohort_sha256,
 		rows_read, rows_used, events, expected, auc, auc_lower, auc_upper, oe, oe_lower, oe_upper,
-		slope, slope_lower, slope_upper, citl, citl_lower, citl_upper, ici, brier, verdict
+		slope, slope_lower, slope_upper, citl, citl_lower, citl_upper, ici, brier, verdict, ` +
+		opt("model_parent_sha256") + `, ` + opt("criteria") + `, ` + verdict + `
 		FROM audits ORDER BY audit_date, id`)
 	if err != nil {
 		return nil, fmt.Errorf("history %s: %w", path, err)
@@ -431,9 +589,12 @@ func Read(path string) ([]Record, error) {
 	for rows.Next() {
 		var r Record
 		var vals [14]sql.NullFloat64
+		var criteria string
+		var fromJSON sql.NullString
 		if err := rows.Scan(&r.ID, &r.AuditDate, &r.RecordedAt, &r.Model, &r.ModelSHA, &r.Cohort, &r.CohortSHA,
 			&r.Rows, &r.Used, &r.Events, &r.Expected, &vals[0], &vals[1], &vals[2], &vals[3], &vals[4], &vals[5],
-			&vals[6], &vals[7], &vals[8], &vals[9], &vals[10], &vals[11], &vals[12], &vals[13], &r.Verdict); err != nil {
+			&vals[6], &vals[7], &vals[8], &vals[9], &vals[10], &vals[11], &vals[12], &vals[13], &r.Verdict,
+			&r.ParentSHA, &criteria, &fromJSON); err != nil {
 			return nil, fmt.Errorf("history %s: %w", path, err)
 		}
 		f := func(i int) float64 {
@@ -447,6 +608,7 @@ func Read(path string) ([]Record, error) {
 		r.Slope = [3]float64{f(6), f(7), f(8)}
 		r.CITL = [3]float64{f(9), f(10), f(11)}
 		r.ICI, r.Brier = f(12), f(13)
+		r.Criteria = criteriaOf(criteria, fromJSON.String)
 		out = append(out, r)
 	}
 	if err := rows.Err(); err != nil {
@@ -477,32 +639,38 @@ func Check(path string) error {
 
 func nan() float64 { return math.NaN() }
 
-// Remove deletes the record with the given ID from the store at path
-// and returns it; an ID the store does not hold is an error.
-func Remove(path string, id int64) (Record, error) {
+// Remove deletes the record with the given ID from the store at path,
+// in one transaction, and returns it with the number of records left;
+// an ID the store does not hold is an error.
+func Remove(path string, id int64) (Record, int, error) {
 	db, err := openStore(path, false)
 	if err != nil {
-		return Record{}, err
+		return Record{}, 0, err
 	}
 	defer db.Close()
 	tx, err := db.Begin()
 	if err != nil {
-		return Record{}, fmt.Errorf("history %s: %w", path, err)
+		return Record{}, 0, fmt.Errorf("history %s: %w", path, err)
 	}
 	defer tx.Rollback()
 	var r Record
-	err = tx.QueryRow(`SELECT id, audit_date, recorded_at, model, cohort FROM audits WHERE id = ?`, id).Scan(&r.ID, &r.AuditDate, &r.RecordedAt, &r.Model, &r.Cohort)
+	err = tx.QueryRow(`SELECT id, audit_date, recorded_at, model, model_sha256, cohort, cohort_sha256 FROM audits WHERE id = ?`, id).Scan(
+		&r.ID, &r.AuditDate, &r.RecordedAt, &r.Model, &r.ModelSHA, &r.Cohort, &r.CohortSHA)
 	if errors.Is(err, sql.ErrNoRows) {
-		return Record{}, fmt.Errorf("history %s: no record %d", path, id)
+		return Record{}, 0, fmt.Errorf("history %s: no record %d", path, id)
 	}
 	if err != nil {
-		return Record{}, fmt.Errorf("history %s: %w", path, err)
+		return Record{}, 0, fmt.Errorf("history %s: %w", path, err)
 	}
 	if _, err := tx.Exec(`DELETE FROM audits WHERE id = ?`, id); err != nil {
-		return Record{}, fmt.Errorf("history %s: removing record %d: %w", path, id, err)
+		return Record{}, 0, fmt.Errorf("history %s: removing record %d: %w", path, id, err)
+	}
+	var left int
+	if err := tx.QueryRow(`SELECT COUNT(*) FROM audits`).Scan(&left); err != nil {
+		return Record{}, 0, fmt.Errorf("history %s: removing record %d: %w", path, id, err)
 	}
 	if err := tx.Commit(); err != nil {
-		return Record{}, fmt.Errorf("history %s: removing record %d: %w", path, id, err)
+		return Record{}, 0, fmt.Errorf("history %s: removing record %d: %w", path, id, err)
 	}
-	return r, nil
+	return r, left, nil
 }

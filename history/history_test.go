@@ -7,6 +7,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"reflect"
 	"strings"
 	"sync"
 	"syscall"
@@ -244,7 +245,7 @@ func TestNotAStore(t *testing.T) {
 			"CheckStore": CheckStore(p),
 			"Append":     Append(p, rec(0)),
 			"Read":       func() error { _, err := Read(p); return err }(),
-			"Remove":     func() error { _, err := Remove(p, 1); return err }(),
+			"Remove":     func() error { _, _, err := Remove(p, 1); return err }(),
 		} {
 			if !errors.Is(err, ErrNotStore) {
 				t.Errorf("%s(%s): %v, want ErrNotStore", name, filepath.Base(p), err)
@@ -264,5 +265,131 @@ func TestNotAStore(t *testing.T) {
 	}
 	if _, err := os.Stat(odd); err != nil {
 		t.Errorf("the store was not made at %s: %v", odd, err)
+	}
+}
+
+// TestCriteriaAndParentKept: a record's parent model and criteria come
+// back as written; a record judged by no criterion keeps an empty list,
+// and one without criteria (nil) reads back as nil; the pending
+// record's ID is the one the store gives it.
+func TestCriteriaAndParentKept(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "h.sqlite")
+	f := func(v float64) *float64 { return &v }
+	want := []Criterion{
+		{Measure: "auc_ci.lower", AtLeast: f(0.7), Severity: "fail"},
+		{Measure: "ici", AtMost: f(0.03), Severity: "review"},
+		{Measure: "slope", Between: &[2]float64{0.8, 1.2}, Severity: "fail"},
+		{Measure: "oe_ci", Contains: f(1), Severity: "fail"},
+	}
+	r := rec(1)
+	r.ParentSHA, r.Criteria = "parent-sha", want
+	p, err := Begin(path, r, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := p.Commit(); err != nil {
+		t.Fatal(err)
+	}
+	none := rec(2)
+	none.Criteria = []Criterion{}
+	if err := Append(path, none); err != nil {
+		t.Fatal(err)
+	}
+	if err := Append(path, rec(3)); err != nil {
+		t.Fatal(err)
+	}
+	recs, err := Read(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p.ID != recs[0].ID || recs[0].ParentSHA != "parent-sha" || !reflect.DeepEqual(recs[0].Criteria, want) {
+		t.Errorf("record %d (pending ID %d): parent %q, criteria %v", recs[0].ID, p.ID, recs[0].ParentSHA, recs[0].Criteria)
+	}
+	for i, c := range recs[0].Criteria {
+		if c.Bound() != []string{"≥ 0.7", "≤ 0.03", "between 0.8 and 1.2", "interval contains 1"}[i] {
+			t.Errorf("criterion %d reads %q", i, c.Bound())
+		}
+	}
+	if recs[1].Criteria == nil || len(recs[1].Criteria) != 0 || recs[2].Criteria != nil {
+		t.Errorf("no criteria read as %#v, unknown criteria as %#v", recs[1].Criteria, recs[2].Criteria)
+	}
+}
+
+// TestOldStoreReadsWithoutChange: a store made before the parent and
+// criteria columns is read without being written to; its records have
+// no parent, and their criteria are read from the verdict in their
+// audit.json, exactly as it wrote the bounds (a bound it could not have
+// written is left out).
+func TestOldStoreReadsWithoutChange(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "old.sqlite")
+	db, err := connect(path, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The first version's table, as the oldest stores hold it.
+	if _, err := db.Exec(schema); err != nil {
+		t.Fatal(err)
+	}
+	verdict := `{"schema": "riskaudit.audit/1", "verdict": {"status": "fail", "criteria": [
+		{"measure": "auc_ci.lower", "bound": "≥ 0.7", "value": 0.71, "passed": true, "severity": "fail"},
+		{"measure": "slope", "bound": "between 0.8 and 1.2", "value": 1.3, "passed": false, "severity": "fail"},
+		{"measure": "oe_ci", "bound": "interval contains 1", "value": 1.1, "passed": true, "severity": "fail"},
+		{"measure": "ici", "bound": "≤ 0.03", "value": 0.01, "passed": true, "severity": "review"},
+		{"measure": "brier", "bound": "≤ 0.250", "value": 0.1, "passed": true, "severity": "fail"},
+		{"measure": "auc", "bound": "at least 0.7", "value": 0.7, "passed": true, "severity": "fail"}]}}`
+	for i, js := range []string{verdict, "not json", "{}"} {
+		r := rec(i)
+		if _, err := db.Exec(`INSERT INTO audits (audit_date, recorded_at, model, model_sha256, cohort, cohort_sha256,
+			rows_read, rows_used, events, expected, verdict, audit_json) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+			r.AuditDate, "2026-01-01T00:00:00Z", r.Model, r.ModelSHA, r.Cohort, r.CohortSHA, r.Rows, r.Used, r.Events, r.Expected, r.Verdict, js); err != nil {
+			t.Fatal(err)
+		}
+	}
+	db.Close()
+	before, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	recs, err := Read(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if after, _ := os.ReadFile(path); !bytes.Equal(before, after) {
+		t.Error("reading the old store changed it")
+	}
+	var got []string
+	for _, c := range recs[0].Criteria {
+		got = append(got, c.Measure+" "+c.Bound()+" "+c.Severity)
+	}
+	want := "[auc_ci.lower ≥ 0.7 fail slope between 0.8 and 1.2 fail oe_ci interval contains 1 fail ici ≤ 0.03 review]"
+	if fmt.Sprint(got) != want || recs[0].ParentSHA != "" {
+		t.Errorf("criteria from audit.json: %v, want %s; parent %q", got, want, recs[0].ParentSHA)
+	}
+	if recs[1].Criteria != nil || recs[2].Criteria != nil {
+		t.Errorf("criteria of records whose audit.json has none: %v, %v", recs[1].Criteria, recs[2].Criteria)
+	}
+	// The next append migrates the store and keeps what it holds.
+	r := rec(5)
+	r.ParentSHA = "p"
+	if err := Append(path, r); err != nil {
+		t.Fatal(err)
+	}
+	if recs, err = Read(path); err != nil || len(recs) != 4 || len(recs[0].Criteria) != 4 {
+		t.Fatalf("after migration: %d records, %v", len(recs), err)
+	}
+}
+
+// TestRemoveSaysWhatIsLeft: Remove returns the record removed and the
+// number left.
+func TestRemoveSaysWhatIsLeft(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "h.sqlite")
+	for i := 0; i < 3; i++ {
+		if err := Append(path, rec(i)); err != nil {
+			t.Fatal(err)
+		}
+	}
+	r, left, err := Remove(path, 2)
+	if err != nil || r.ID != 2 || left != 2 || r.ModelSHA != "a" || r.CohortSHA != "b1" {
+		t.Errorf("Remove: %+v, %d left, %v", r, left, err)
 	}
 }

@@ -677,7 +677,10 @@ dev: development.csv        # development data, measured beside the cohort
 cohort: extracts/2026-11.csv
 out: audits/2026-11         # report.md, audit.json and figures go here
 history: audit-history.sqlite
-audit_date: 2026-11-30      # the date the extract describes (default: today)
+# audit_date: 2026-11-30    # the date the extract describes, which the history
+                            # stores the audit under. Leave it out of a plan
+                            # run on every new extract: the date is then
+                            # --audit-date, or the day the audit runs (UTC).
 
 # Registry extracts rename columns between releases: map the name in the
 # extract to the name the model uses.

@@ -79,8 +79,11 @@ func TestDegenerateFigures(t *testing.T) {
 		return history.Record{AuditDate: date, Used: 500, Events: 60, Expected: 55, AUC: [3]float64{0.72, 0.66, 0.78},
 			OE: [3]float64{1.09, 0.85, 1.4}, Slope: slope, CITL: [3]float64{0.1, -0.15, 0.35}}
 	}
-	tr := trend.Build([]history.Record{rec("2026-01-31", [3]float64{1, 0.8, 1.2}), rec("2026-02-28", [3]float64{nan, nan, nan}),
+	tr, err := trend.Build([]history.Record{rec("2026-01-31", [3]float64{1, 0.8, 1.2}), rec("2026-02-28", [3]float64{nan, nan, nan}),
 		rec("2026-03-31", [3]float64{0.9, nan, nan})})
+	if err != nil {
+		t.Fatal(err)
+	}
 	figs, err := Trend(tr)
 	if err != nil {
 		t.Fatalf("a trend with NaN measures: %v", err)

@@ -96,8 +96,11 @@ func TestNoNonNumbersInText(t *testing.T) {
 	}
 	noNonNumbers(t, "compare.md", b.String())
 
-	tr := trend.Build([]history.Record{{AuditDate: "2026-01-31", Expected: 50, AUC: [3]float64{nan, nan, nan}, OE: [3]float64{1, nan, nan},
+	tr, err := trend.Build([]history.Record{{AuditDate: "2026-01-31", Expected: 50, AUC: [3]float64{nan, nan, nan}, OE: [3]float64{1, nan, nan},
 		Slope: [3]float64{nan, nan, nan}, CITL: [3]float64{nan, nan, nan}}})
+	if err != nil {
+		t.Fatal(err)
+	}
 	b.Reset()
 	if err := WriteTrend(&b, tr, "h.sqlite", nil); err != nil {
 		t.Fatal(err)

@@ -157,6 +157,10 @@ type ModelInfo struct {
 	// FittedModel is the frozen model that the audit fitted from the
 	// recipe given and wrote into the audit folder: the model audited.
 	FittedModel *OutputFile `json:"fitted_model,omitempty"`
+	// ParentSHA256 is the SHA-256 of the model this one updates, from
+	// the frozen model's provenance (parent_model_sha256), when it
+	// updates one.
+	ParentSHA256 string `json:"parent_sha256,omitempty"`
 }
 
 // Apparent is the model's performance on its development data, in the

@@ -241,7 +241,7 @@ func runAudit(ctx context.Context, o *auditOptions, s *streams) error {
 		writeAuditSummary(s, res.Audit, o.out, len(res.Figures))
 		replacedNote(s, o.out, "audit", w)
 		if o.history != "" {
-			fmt.Fprintf(s.out, "Recorded in %s\n", o.history)
+			writeRecordedNote(s, o.history, o.auditDate, w)
 		}
 	}
 	if !res.Passed() {
@@ -355,6 +355,17 @@ func countFailed(v *validate.Verdict) int {
 		}
 	}
 	return n
+}
+
+// writeRecordedNote says where the audit was recorded and under which
+// audit date, and, when the date defaulted to the day the audit ran,
+// that it did.
+func writeRecordedNote(s *streams, store, given string, w *audit.Written) {
+	fmt.Fprintf(s.out, "Recorded in %s as record %d, under audit date %s", store, w.Record, w.RecordDate)
+	if given == "" {
+		fmt.Fprint(s.out, " (the day the audit ran, UTC: neither --audit-date nor the plan's audit_date gave one)")
+	}
+	fmt.Fprintln(s.out)
 }
 
 func writeAuditSummary(s *streams, a *validate.Audit, dir string, nfig int) {

@@ -14,8 +14,8 @@ import (
 // TestJSONKeysDocumented runs an audit with every analysis switched on
 // (a recipe fitted on the development data, internal validation,
 // percentile intervals, subgroups, updating), a fit with a nested
-// comparison, a comparison of two models and a sample-size plan, and
-// checks that every key
+// comparison, a comparison of two models, a sample-size plan, and the
+// trend of the audit and of its updated model, and checks that every key
 // path they write is listed in docs/json.md, so the machine-readable
 // outputs never grow an undocumented key.
 func TestJSONKeysDocumented(t *testing.T) {
@@ -29,7 +29,8 @@ func TestJSONKeysDocumented(t *testing.T) {
 	args := []string{"audit", "--model", filepath.Join(demo, "recipe.yaml"), "--cohort", filepath.Join(demo, "later.csv"),
 		"--dev", filepath.Join(demo, "development.csv"), "--out", filepath.Join(dir, "audit"), "--bootstrap", "20", "--seed", "1",
 		"--ci-bootstrap", "20", "--subgroups", "sex,smoker", "--min-subgroup-events", "20",
-		"--update", filepath.Join(dir, "updated.yaml"), "--update-alpha", "0.05", "--update-bootstrap", "20", "-q"}
+		"--update", filepath.Join(dir, "updated.yaml"), "--update-alpha", "0.05", "--update-bootstrap", "20",
+		"--history", filepath.Join(dir, "h.sqlite"), "--audit-date", "2026-01-31", "-q"}
 	if code := run(ctx, args, s); code != exitOK && code != exitCriterion {
 		t.Fatalf("riskaudit audit: exit status %d", code)
 	}
@@ -63,13 +64,19 @@ func TestJSONKeysDocumented(t *testing.T) {
 			"--cohort", filepath.Join(demo, "later.csv"), "--out", filepath.Join(dir, "cmp"), "--bootstrap", "100", "-q"},
 		{"samplesize", "--model", filepath.Join(demo, "frozen.yaml"), "--data", filepath.Join(demo, "later.csv"),
 			"--threshold", "0.1", "--json", filepath.Join(dir, "size.json")},
+		// The updated model, audited into the same history (its
+		// audit.json names its parent), and the trend of both.
+		{"audit", "--model", filepath.Join(dir, "updated.yaml"), "--cohort", filepath.Join(demo, "later.csv"), "--out", filepath.Join(dir, "audit2"),
+			"--history", filepath.Join(dir, "h.sqlite"), "--audit-date", "2026-02-28", "-q"},
+		{"trend", "--history", filepath.Join(dir, "h.sqlite"), "--out", filepath.Join(dir, "trend")},
 	} {
-		if code := run(ctx, args, s); code != 0 && !(args[0] == "audit" && code == exitCriterion) {
+		if code := run(ctx, args, s); code != 0 && (args[0] != "audit" || code != exitCriterion) {
 			t.Fatalf("riskaudit %s: exit status %d", args[0], code)
 		}
 	}
 	paths := map[string]bool{}
-	for _, f := range []string{filepath.Join(dir, "audit", "audit.json"), filepath.Join(dir, "planned", "audit.json"), filepath.Join(dir, "fit.json"), filepath.Join(dir, "cmp", "compare.json"), filepath.Join(dir, "size.json")} {
+	for _, f := range []string{filepath.Join(dir, "audit", "audit.json"), filepath.Join(dir, "planned", "audit.json"), filepath.Join(dir, "fit.json"), filepath.Join(dir, "cmp", "compare.json"), filepath.Join(dir, "size.json"),
+		filepath.Join(dir, "audit2", "audit.json"), filepath.Join(dir, "trend", "trend.json")} {
 		raw, err := os.ReadFile(f)
 		if err != nil {
 			t.Fatal(err)
@@ -95,7 +102,8 @@ func TestJSONKeysDocumented(t *testing.T) {
 	}
 	sort.Strings(missing)
 	for _, p := range []string{"nested.lr_chi2", "delong.difference_se", "update.chosen", "internal.shrinkage_factor", "bootstrap_ci.ici", "criteria[].formula",
-		"provenance.plan.sha256", "provenance.renames[].applied_to", "model.purpose.replaced_from_model.setting", "model.fitted_model.sha256", "calibration.b.ici_ci"} {
+		"provenance.plan.sha256", "provenance.renames[].applied_to", "model.purpose.replaced_from_model.setting", "model.fitted_model.sha256", "calibration.b.ici_ci",
+		"model.parent_sha256", "models[].parent_series", "model_changes[].series_before", "audits[].criteria[].between"} {
 		if !paths[p] {
 			t.Errorf("%s not written: an analysis did not run", p)
 		}

@@ -1,7 +1,10 @@
 package main
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
 	"errors"
+	"os"
 	"os/exec"
 	"strconv"
 	"testing"
@@ -27,7 +30,8 @@ func TestScripts(t *testing.T) {
 			return nil
 		},
 		Cmds: map[string]func(ts *testscript.TestScript, neg bool, args []string){
-			"exits": exits,
+			"exits":     exits,
+			"sha256env": sha256env,
 		},
 	})
 }
@@ -53,4 +57,18 @@ func exits(ts *testscript.TestScript, neg bool, args []string) {
 	if got != want {
 		ts.Fatalf("exit status %d, want %d", got, want)
 	}
+}
+
+// sha256env VAR FILE sets VAR to the first eight hex digits of FILE's
+// SHA-256, as 'history list' shows a model.
+func sha256env(ts *testscript.TestScript, neg bool, args []string) {
+	if neg || len(args) != 2 {
+		ts.Fatalf("usage: sha256env VAR FILE")
+	}
+	b, err := os.ReadFile(ts.MkAbs(args[1]))
+	if err != nil {
+		ts.Fatalf("sha256env: %v", err)
+	}
+	sum := sha256.Sum256(b)
+	ts.Setenv(args[0], hex.EncodeToString(sum[:])[:8])
 }
