@@ -43,7 +43,7 @@ func WriteSummary(w io.Writer, a *validate.Audit, dir string, nfig int) error {
 				failed++
 			}
 		}
-		p("  verdict     %s (%d of %d criteria not met)\n", v.Status, failed, len(v.Criteria))
+		p("  verdict     %s (%d of %d criteria not met%s)\n", v.Status, failed, len(v.Criteria), subgroupCounts(v, "; "))
 	}
 	p("Wrote %s, %s and %d figures\n", filepath.Join(dir, "report.md"), filepath.Join(dir, "audit.json"), nfig)
 	return ew.err
@@ -56,4 +56,22 @@ func withCI(v float64, ci [2]float64, why string) string {
 		return num(v, "%.3f")
 	}
 	return fmt.Sprintf("%.3f (95%% CI %s)", v, Interval(ci, "%.3f", why))
+}
+
+// subgroupCounts says how many subgroup checks of the verdict were not
+// met and how many subgroups were not judged, after sep; "" when no
+// subgroup was checked.
+func subgroupCounts(v *validate.Verdict, sep string) string {
+	n := v.CountSubgroups()
+	if n.Checks == 0 {
+		return ""
+	}
+	s := fmt.Sprintf("%s%d of %d subgroup checks not met", sep, n.Failed, n.Judged)
+	if v.SubgroupCriteria == validate.SubgroupIgnore && n.Failed > 0 {
+		s += " (not counted)"
+	}
+	if n.NotJudged > 0 {
+		s += fmt.Sprintf(", %d subgroup%s not judged (too few events)", n.NotJudged, map[bool]string{true: "", false: "s"}[n.NotJudged == 1])
+	}
+	return s
 }

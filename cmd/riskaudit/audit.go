@@ -9,6 +9,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/riskaudit/riskaudit/audit"
+	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/report"
 	"github.com/riskaudit/riskaudit/validate"
 )
@@ -29,6 +30,9 @@ type auditOptions struct {
 	history       string
 	auditDate     string
 	replaceRecord bool
+	// subgroups are the values of --subgroups as typed (parseSubgroups
+	// reads them into cfg.Subgroups and cfg.Bands).
+	subgroups []string
 }
 
 const auditLong = `Measure how a model performs on a cohort with observed outcomes and write
@@ -78,6 +82,15 @@ standardised net benefit (Riley et al. 2021), from target 95% CI widths
 anticipated values taken from the cohort or from the plan's sample_size
 section.
 
+Subgroups: --subgroups measures AUC, O/E, calibration-in-the-large and
+slope in every level of categorical columns (sex,site) and in bands of
+numeric ones: age:65,75 cuts age into <65, 65-<75 and >=75 (each band
+[lower, upper): 65 itself is in 65-<75), age:q4 into quartiles of the
+audited cohort. Rows without a value form a (missing) band. The criteria
+on those measures are checked in every subgroup with at least
+--min-subgroup-events events and non-events (smaller ones are listed as
+not judged) and count in the verdict as --subgroup-criteria says.
+
 Outputs are written to temporary files and renamed into place only when
 everything has succeeded.`
 
@@ -103,6 +116,11 @@ const auditExample = `  # Audit a frozen model on a fresh extract
 
   # Percentile intervals for ICI, E50, E90, scaled Brier and net benefit
   riskaudit audit --model frozen.yaml --cohort new.csv --ci-bootstrap 500 --out audit
+
+  # Subgroups: sex, age cut at 65 and 75, BMI by quartiles; a subgroup's
+  # missed criterion fails the audit as the criterion itself would
+  riskaudit audit --model frozen.yaml --cohort new.csv --subgroups sex,age:65,75,bmi:q4 \
+    --subgroup-criteria fail --out audit
 
   # Decision-curve thresholds from 2% to 30% by 2%, classification at 10% and 25%
   riskaudit audit --model frozen.yaml --cohort new.csv --thresholds 0.02:0.30:0.02 --classify-at 0.1,0.25 --out audit`
@@ -151,8 +169,9 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.StringVar(&o.history, "history", "", "append the audit's summary to this history store (SQLite)")
 	f.StringVar(&o.auditDate, "audit-date", "", "the date the cohort describes, YYYY-MM-DD (default: today, UTC)")
 	f.BoolVar(&o.replaceRecord, "replace-record", false, "replace the history's record of the same audit (model, cohort and date) instead of refusing a duplicate")
-	f.StringSliceVar(&o.cfg.Subgroups, "subgroups", nil, "categorical columns of the cohort to measure the model in, subgroup by subgroup")
-	f.IntVar(&o.cfg.MinSubgroupEvents, "min-subgroup-events", 20, "subgroups with fewer events are reported as too small (common practice)")
+	f.Var(subgroupsFlag{&o.subgroups}, "subgroups", "columns of the cohort to measure the model in, subgroup by subgroup: categorical ones by name (sex,site), numeric ones cut at points (age:65,75 gives <65, 65-<75, >=75) or into quantile bands (age:q4)")
+	f.IntVar(&o.cfg.MinSubgroupEvents, "min-subgroup-events", 20, "subgroups with fewer events are reported as too small and not judged (common practice)")
+	f.StringVar(&o.cfg.SubgroupCriteria, "subgroup-criteria", validate.SubgroupReview, "how a subgroup that misses a criterion counts in the verdict: review (makes a pass review), fail (as the criterion's own severity) or ignore")
 	f.StringVar(&o.cfg.Update, "update", "", "update the model on the cohort by closed testing and write the chosen model here")
 	f.Float64Var(&o.cfg.UpdateAlpha, "update-alpha", 0.05, "significance level of the closed testing procedure")
 	f.IntVar(&o.cfg.UpdateBootstrap, "update-bootstrap", 200, "bootstrap replicates for the updated model's expected performance (0: none)")
@@ -211,7 +230,7 @@ func runAudit(ctx context.Context, o *auditOptions, s *streams) error {
 	}
 	if !res.Passed() {
 		v := res.Audit.Verdict
-		return &criterionError{status: v.Status, failed: countFailed(v), total: len(v.Criteria), report: filepath.Join(o.out, "report.md")}
+		return &criterionError{status: v.Status, failed: countFailed(v), total: len(v.Criteria), sub: v.CountSubgroups(), report: filepath.Join(o.out, "report.md")}
 	}
 	return nil
 }
@@ -228,6 +247,11 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 	var err error
 	if cfg.Measures.Thresholds, err = parseThresholds(o.thresholds); err != nil {
 		return cfg, err
+	}
+	if len(o.subgroups) > 0 {
+		if cfg.Subgroups, cfg.Bands, err = parseSubgroups(o.subgroups); err != nil {
+			return cfg, err
+		}
 	}
 	if err := o.checkValues(); err != nil {
 		return cfg, err
@@ -277,8 +301,11 @@ func (o *auditOptions) checkValues() error {
 	if !(m.Epsilon > 0 && m.Epsilon < 0.01) {
 		return usagef("--clamp %g: give a small positive value below 0.01", m.Epsilon)
 	}
-	if len(o.cfg.Subgroups) > 0 && o.cfg.MinSubgroupEvents < 1 {
+	if (len(o.cfg.Subgroups) > 0 || len(o.cfg.Bands) > 0 || len(o.subgroups) > 0) && o.cfg.MinSubgroupEvents < 1 {
 		return usagef("--min-subgroup-events %d: give at least 1", o.cfg.MinSubgroupEvents)
+	}
+	if err := validate.CheckSubgroupMode(o.cfg.SubgroupCriteria); err != nil || o.cfg.SubgroupCriteria == "" {
+		return usagef("--subgroup-criteria %s: give review (the default), fail or ignore", cohort.Quote(o.cfg.SubgroupCriteria))
 	}
 	if o.cfg.Update != "" && !(o.cfg.UpdateAlpha > 0 && o.cfg.UpdateAlpha < 1) {
 		return usagef("--update-alpha %g: give a level strictly between 0 and 1", o.cfg.UpdateAlpha)
@@ -291,11 +318,19 @@ func (o *auditOptions) checkValues() error {
 type criterionError struct {
 	status        string
 	failed, total int
+	sub           validate.SubgroupCounts
 	report        string
 }
 
 func (e *criterionError) Error() string {
-	return fmt.Sprintf("verdict %s: %d of %d criteria not met (see %s)", e.status, e.failed, e.total, e.report)
+	sub := ""
+	if n := e.sub; n.Checks > 0 {
+		sub = fmt.Sprintf(", %d of %d subgroup checks not met", n.Failed, n.Judged)
+		if n.NotJudged > 0 {
+			sub += fmt.Sprintf(", %d subgroups not judged", n.NotJudged)
+		}
+	}
+	return fmt.Sprintf("verdict %s: %d of %d criteria not met%s (see %s)", e.status, e.failed, e.total, sub, e.report)
 }
 
 func countFailed(v *validate.Verdict) int {
