@@ -888,11 +888,8 @@ func (r *renderer) subgroupVerdictNote() {
 	if n.Checks == 0 {
 		return
 	}
-	r.p("The table lists every subgroup check not met and every subgroup too small to judge (the Subgroups section has them all): %d of %d checks not met", n.Failed, n.Judged)
-	if n.NotJudged > 0 {
-		r.p(", %d subgroup%s not judged", n.NotJudged, map[bool]string{true: "", false: "s"}[n.NotJudged == 1])
-	}
-	r.p(". Subgroup checks %s.\n\n", strings.TrimPrefix(subgroupCountsAs(v), ", where they "))
+	r.p("The table lists every subgroup check not met and every subgroup too small to judge (the Subgroups section has them all): %s. Subgroup checks %s.\n\n",
+		n, strings.TrimPrefix(subgroupCountsAs(v), ", where they "))
 }
 
 // subgroupCountsAs says how the subgroup checks count in the verdict, as

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"path/filepath"
+	"strings"
 
 	"github.com/riskaudit/riskaudit/validate"
 )
@@ -66,12 +67,9 @@ func subgroupCounts(v *validate.Verdict, sep string) string {
 	if n.Checks == 0 {
 		return ""
 	}
-	s := fmt.Sprintf("%s%d of %d subgroup checks not met", sep, n.Failed, n.Judged)
+	s := n.String()
 	if v.SubgroupCriteria == validate.SubgroupIgnore && n.Failed > 0 {
-		s += " (not counted)"
+		s = strings.Replace(s, "not met", "not met (not counted)", 1)
 	}
-	if n.NotJudged > 0 {
-		s += fmt.Sprintf(", %d subgroup%s not judged (too few events)", n.NotJudged, map[bool]string{true: "", false: "s"}[n.NotJudged == 1])
-	}
-	return s
+	return sep + s
 }

@@ -254,6 +254,20 @@ type SubgroupCounts struct {
 	Checks, Judged, Failed, NotJudged int
 }
 
+// String says how many judged checks were not met and how many
+// subgroups were not judged, such as "3 of 12 subgroup checks not met, 1
+// subgroup not judged (too few events)".
+func (n SubgroupCounts) String() string {
+	var parts []string
+	if n.Judged > 0 {
+		parts = append(parts, fmt.Sprintf("%d of %d subgroup checks not met", n.Failed, n.Judged))
+	}
+	if n.NotJudged > 0 {
+		parts = append(parts, plural(n.NotJudged, "subgroup")+" not judged (too few events)")
+	}
+	return strings.Join(parts, ", ")
+}
+
 // CountSubgroups counts the verdict's subgroup checks.
 func (v *Verdict) CountSubgroups() SubgroupCounts {
 	var n SubgroupCounts

@@ -324,11 +324,8 @@ type criterionError struct {
 
 func (e *criterionError) Error() string {
 	sub := ""
-	if n := e.sub; n.Checks > 0 {
-		sub = fmt.Sprintf(", %d of %d subgroup checks not met", n.Failed, n.Judged)
-		if n.NotJudged > 0 {
-			sub += fmt.Sprintf(", %d subgroups not judged", n.NotJudged)
-		}
+	if e.sub.Checks > 0 {
+		sub = ", " + e.sub.String()
 	}
 	return fmt.Sprintf("verdict %s: %d of %d criteria not met%s (see %s)", e.status, e.failed, e.total, sub, e.report)
 }

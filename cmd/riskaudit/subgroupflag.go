@@ -40,6 +40,7 @@ func parseSubgroups(values []string) (cats []string, bands []validate.Banding, e
 		for _, tok := range strings.Split(value, ",") {
 			tok = strings.TrimSpace(tok)
 			name, spec, banded := strings.Cut(tok, ":")
+			name, spec = strings.TrimSpace(name), strings.TrimSpace(spec)
 			switch {
 			case tok == "":
 				return nil, nil, bad("a column name is empty")
