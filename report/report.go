@@ -219,7 +219,7 @@ func (r *renderer) verdict() {
 	if n := v.CountSubgroups(); n.Checks > 0 {
 		word = map[string]string{"pass": "PASS — every criterion is met, overall and in every subgroup judged",
 			"review": "REVIEW — only review criteria, or subgroup checks counted as review, are not met",
-			"fail": "FAIL — at least one criterion is not met"}[v.Status]
+			"fail":   "FAIL — at least one criterion is not met"}[v.Status]
 	}
 	r.p("**Verdict: %s** (%d of %d criteria not met%s).\n\n", word, failed, len(v.Criteria), subgroupCounts(v, "; "))
 	t := table{head: []string{"criterion", "bound", "value", "result", "severity"}}
