@@ -220,6 +220,9 @@ func (r *renderer) verdict() {
 		word = map[string]string{"pass": "PASS — every criterion is met, overall and in every subgroup judged",
 			"review": "REVIEW — only review criteria, or subgroup checks counted as review, are not met",
 			"fail":   "FAIL — at least one criterion is not met"}[v.Status]
+		if v.Status == "pass" && n.Failed > 0 {
+			word = "PASS — every criterion is met overall; the subgroup checks not met are not counted (subgroup criteria: ignore)"
+		}
 	}
 	r.p("**Verdict: %s** (%d of %d criteria not met%s).\n\n", word, failed, len(v.Criteria), subgroupCounts(v, "; "))
 	t := table{head: []string{"criterion", "bound", "value", "result", "severity"}}
