@@ -658,7 +658,7 @@ func (r *renderer) methods() {
 		items = append(items, "Updating: recalibration in the large, logistic recalibration and model revision chosen by closed testing (Vergouwe et al. 2017).")
 	}
 	if len(r.a.Subgroups) > 0 {
-		items = append(items, "Subgroups: the measures above within each level of the named columns, with their intervals.")
+		items = append(items, "Subgroups: the measures above within each level of the named columns (numeric columns in half-open bands [lower, upper)), with their intervals; the criteria on AUC, O/E, calibration-in-the-large and slope checked in each subgroup large enough to judge.")
 	}
 	for _, it := range items {
 		r.p("- %s\n", it)
