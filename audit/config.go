@@ -104,6 +104,13 @@ type Config struct {
 	// non-events is reported as too small (0: the default of 20).
 	Subgroups         []string
 	MinSubgroupEvents int
+	// Bands are numeric columns cut into subgroups at given points or at
+	// the cohort's quantiles (validate.Banding), measured after the
+	// categorical Subgroups, in the order given.
+	Bands []validate.Banding
+	// SubgroupCriteria says how subgroup checks count in the verdict:
+	// validate.SubgroupReview (also ""), SubgroupFail or SubgroupIgnore.
+	SubgroupCriteria string
 
 	// Update, when set, updates the model on the cohort by closed testing
 	// at level UpdateAlpha (0: 0.05) and offers the chosen model at this
@@ -206,6 +213,14 @@ func (c *Config) check() error {
 	if c.AuditDate != "" {
 		if err := CheckAuditDate(c.AuditDate); err != nil {
 			return err
+		}
+	}
+	if err := validate.CheckSubgroupMode(c.SubgroupCriteria); err != nil {
+		return configErrorf("--subgroup-criteria: %v", err)
+	}
+	for _, b := range c.Bands {
+		if err := b.Check(); err != nil {
+			return configErrorf("--subgroups %s: %v", cohort.Quote(b.String()), err)
 		}
 	}
 	for _, out := range []string{c.Shrunken, c.ResampleLog, c.Update} {

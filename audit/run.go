@@ -298,14 +298,41 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 		a.Update = u
 		r.files = append(r.files, f)
 	}
-	if len(c.Subgroups) > 0 {
-		r.prog.Step("measuring subgroups")
-		min := c.MinSubgroupEvents
-		if min == 0 {
-			min = validate.DefaultMinSubgroupEvents
+	if len(c.Subgroups) > 0 || len(c.Bands) > 0 {
+		if err := r.subgroups(a, criteria); err != nil {
+			return err
 		}
-		a.Subgroups = validate.Subgroups(r.cur.y, r.cur.p, r.cur.lp, r.cur.groups, min, criteria, c.Measures.Epsilon)
-		a.MinSubgroupEvents = min
+	}
+	return nil
+}
+
+// subgroups measures the model in every subgroup, bands the numeric
+// subgroup columns on the audited cohort, and counts the subgroup checks
+// in the verdict as the Config says.
+func (r *run) subgroups(a *validate.Audit, criteria []validate.Criterion) error {
+	c := r.cfg
+	r.prog.Step("measuring subgroups")
+	min := c.MinSubgroupEvents
+	if min == 0 {
+		min = validate.DefaultMinSubgroupEvents
+	}
+	groups := r.cur.groups
+	for k, b := range c.Bands {
+		gc, info, err := validate.BandColumn(r.cur.bandValues[k], b)
+		if err != nil {
+			msg := fmt.Sprintf("no value in the audited rows, so the quantile bands of --subgroups %s cannot be found", b)
+			return &cohort.Error{File: r.cur.file, Column: b.Column, Msg: msg, Kind: cohort.ErrMissing, Err: err}
+		}
+		groups = append(groups, gc)
+		a.SubgroupBands = append(a.SubgroupBands, info)
+	}
+	a.Subgroups = validate.Subgroups(r.cur.y, r.cur.p, r.cur.lp, groups, min, criteria, c.Measures.Epsilon)
+	a.MinSubgroupEvents = min
+	if err := a.Verdict.AddSubgroups(a.Subgroups, c.SubgroupCriteria); err != nil {
+		return &ConfigError{Msg: "--subgroup-criteria: " + err.Error()}
+	}
+	if f, ok := a.Verdict.SubgroupFinding(); ok {
+		a.Summary = append(a.Summary, f)
 	}
 	a.AddLimitations(c.MissingCaution)
 	return nil

@@ -20,6 +20,10 @@ import (
 type scored struct {
 	y, p, lp []float64
 	groups   []validate.GroupColumn
+	// bandValues are the values of each Config.Bands column in the used
+	// rows (NaN where missing), cut into bands for the audited cohort
+	// only, since the quantiles are the audited cohort's.
+	bandValues [][]float64
 	// frame is the data as read, kept so that later analyses (case-mix,
 	// updating) need not read it again.
 	frame    *cohort.Frame
@@ -42,10 +46,18 @@ func (c *Config) requests(spec *model.Spec) ([]cohort.Request, error) {
 	for _, g := range c.Subgroups {
 		for _, q := range reqs {
 			if q.Name == g && q.Kind != cohort.Categorical {
-				return nil, configErrorf("subgroup column %q is a numeric predictor; give a categorical column (such as an age band)", g)
+				return nil, configErrorf("subgroup column %q is a numeric predictor; cut it into bands with cut points or quantiles, such as --subgroups %s:65,75 or %s:q4", g, g, g)
 			}
 		}
 		reqs = append(reqs, cohort.Request{Name: g, Kind: cohort.Categorical})
+	}
+	for _, b := range c.Bands {
+		for _, q := range reqs {
+			if q.Name == b.Column && q.Kind != cohort.Numeric {
+				return nil, configErrorf("subgroup column %q is categorical; only a numeric column can be cut into bands (give it without cut points)", b.Column)
+			}
+		}
+		reqs = append(reqs, cohort.Request{Name: b.Column, Kind: cohort.Numeric})
 	}
 	return reqs, nil
 }
@@ -125,6 +137,13 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input) (*scored
 	}
 	for _, g := range c.Subgroups {
 		sc.groups = append(sc.groups, groupColumn(fr.Column(g), m.Rows, m.N))
+	}
+	for _, b := range c.Bands {
+		col, x := fr.Column(b.Column), make([]float64, m.N)
+		for r, i := range m.Rows {
+			x[r] = col.Num[i]
+		}
+		sc.bandValues = append(sc.bandValues, x)
 	}
 	if c.Predicted != nil {
 		if sc.p, err = predictedRisks(fr, c.Predicted.Column, m.Rows, c.Predicted.Percent); err != nil {

@@ -20,6 +20,7 @@ import (
 	"encoding/hex"
 	"errors"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -120,14 +121,19 @@ type Plan struct {
 	Rename                                     map[string]string
 	Subgroups                                  []string
 	MinSubgroupEvents                          int
-	Criteria                                   []validate.Criterion
-	Bootstrap                                  int
-	Seed                                       uint64
-	CIBootstrap                                int
-	Thresholds                                 string
-	ClassifyAt                                 string
-	NetBenefitMinGain                          float64
-	Data                                       Data
+	// Bands are the numeric subgroup columns of subgroups, each cut at
+	// given points or at quantiles; SubgroupCriteria how subgroup checks
+	// count in the verdict (review, fail or ignore).
+	Bands             []validate.Banding
+	SubgroupCriteria  string
+	Criteria          []validate.Criterion
+	Bootstrap         int
+	Seed              uint64
+	CIBootstrap       int
+	Thresholds        string
+	ClassifyAt        string
+	NetBenefitMinGain float64
+	Data              Data
 	// SampleSize is the sample_size section.
 	SampleSize samplesize.Request
 
@@ -178,7 +184,7 @@ func (pl *Plan) CheckFile(key string) error {
 }
 
 var topKeys = []string{"name", "model", "predicted", "predicted_percent", "outcome", "event", "non_event", "dev", "cohort", "out", "history",
-	"audit_date", "rename", "subgroups", "min_subgroup_events", "criteria", "bootstrap", "ci_bootstrap",
+	"audit_date", "rename", "subgroups", "min_subgroup_events", "subgroup_criteria", "criteria", "bootstrap", "ci_bootstrap",
 	"thresholds", "classify_at", "net_benefit_min_gain", "data", "sample_size", "purpose"}
 
 // Load reads the plan at path.
@@ -461,7 +467,13 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 	case "rename":
 		pl.Rename, err = p.rename(v)
 	case "subgroups":
-		pl.Subgroups, err = p.strs(v, key)
+		pl.Subgroups, pl.Bands, err = p.subgroups(v)
+	case "subgroup_criteria":
+		if pl.SubgroupCriteria, err = p.str(v, key); err == nil {
+			if verr := validate.CheckSubgroupMode(pl.SubgroupCriteria); verr != nil {
+				return p.wrapf(ErrValue, verr, v, "subgroup_criteria must be review (the default), fail or ignore, not %s", cohort.Quote(pl.SubgroupCriteria))
+			}
+		}
 	case "min_subgroup_events":
 		pl.MinSubgroupEvents, err = p.whole(v, key)
 	case "ci_bootstrap":
@@ -510,6 +522,64 @@ func (p *parser) purpose(pu *model.Purpose, v *yaml.Node) error {
 		pu.Set(k, s)
 		return nil
 	})
+}
+
+// subgroups reads the subgroup list: a categorical column by its name,
+// a numeric one as a mapping of column and cuts (a list of increasing
+// numbers) or quantiles (the number of bands).
+func (p *parser) subgroups(v *yaml.Node) ([]string, []validate.Banding, error) {
+	if v.Kind != yaml.SequenceNode {
+		return nil, nil, p.errf(ErrValue, v, "subgroups must be a list of columns (a numeric one as {column: age, cuts: [65, 75]} or {column: age, quantiles: 4})")
+	}
+	var cats []string
+	var bands []validate.Banding
+	for _, n := range v.Content {
+		if n.Kind == yaml.ScalarNode {
+			cats = append(cats, n.Value)
+			continue
+		}
+		if n.Kind != yaml.MappingNode {
+			return nil, nil, p.errf(ErrValue, n, "subgroups: each item is a column name or a mapping such as {column: age, cuts: [65, 75]}")
+		}
+		var b validate.Banding
+		err := p.fields(n, "a banded subgroup", []string{"column", "cuts", "quantiles"}, func(k string, c *yaml.Node) error {
+			var err error
+			switch k {
+			case "column":
+				b.Column, err = p.str(c, k)
+			case "cuts":
+				if c.Kind != yaml.SequenceNode || len(c.Content) == 0 {
+					return p.errf(ErrValue, c, "cuts must be a list of increasing numbers, such as [65, 75]")
+				}
+				for _, e := range c.Content {
+					x, err := p.num(e, "a cut point")
+					if err != nil {
+						return err
+					}
+					if math.IsNaN(x) || math.IsInf(x, 0) {
+						return p.errf(ErrValue, e, "a cut point must be a finite number, not %s", cohort.Quote(e.Value))
+					}
+					if len(b.Cuts) > 0 && !(x > b.Cuts[len(b.Cuts)-1]) {
+						return p.errf(ErrValue, e, "cuts must increase, but %s follows %g", cohort.Quote(e.Value), b.Cuts[len(b.Cuts)-1])
+					}
+					b.Cuts = append(b.Cuts, x)
+				}
+			case "quantiles":
+				if b.Quantiles, err = p.whole(c, k); err == nil && (b.Quantiles < 2 || b.Quantiles > validate.MaxQuantileBands) {
+					return p.errf(ErrValue, c, "quantiles is the number of bands, 2 to %d, not %d", validate.MaxQuantileBands, b.Quantiles)
+				}
+			}
+			return err
+		})
+		if err != nil {
+			return nil, nil, err
+		}
+		if err := b.Check(); err != nil {
+			return nil, nil, p.wrapf(ErrValue, err, n, "subgroups: %v", err)
+		}
+		bands = append(bands, b)
+	}
+	return cats, bands, nil
 }
 
 func (p *parser) data(d *Data, v *yaml.Node, set map[string]bool) error {
@@ -618,7 +688,7 @@ func (p *parser) anticipated(ss *samplesize.Request, v *yaml.Node) error {
 
 func (p *parser) criterion(n *yaml.Node) (validate.Criterion, error) {
 	var c validate.Criterion
-	err := p.fields(n, "a criterion", []string{"measure", "at_least", "at_most", "between", "contains", "severity", "source"}, func(k string, v *yaml.Node) error {
+	err := p.fields(n, "a criterion", []string{"measure", "at_least", "at_most", "between", "contains", "over", "severity", "source"}, func(k string, v *yaml.Node) error {
 		var err error
 		switch k {
 		case "measure":
@@ -635,8 +705,11 @@ func (p *parser) criterion(n *yaml.Node) (validate.Criterion, error) {
 			var x float64
 			x, err = p.num(v, k)
 			c.Contains = &x
-		case "between":
+		case "between", "over":
 			if v.Kind != yaml.SequenceNode || len(v.Content) != 2 {
+				if k == "over" {
+					return p.errf(ErrValue, v, "over takes two risk thresholds: [from, to]")
+				}
 				return p.errf(ErrValue, v, "between takes two numbers: [low, high]")
 			}
 			var b [2]float64
@@ -645,7 +718,11 @@ func (p *parser) criterion(n *yaml.Node) (validate.Criterion, error) {
 					return err
 				}
 			}
-			c.Between = &b
+			if k == "over" {
+				c.Over = &b
+			} else {
+				c.Between = &b
+			}
 		case "severity":
 			c.Severity, err = p.str(v, k)
 		case "source":
@@ -687,9 +764,16 @@ history: audit-history.sqlite
 rename:
   age_years: age
 
-# Measures by patient subgroup (categorical columns of the cohort).
-subgroups: [sex]
-min_subgroup_events: 20     # fewer events: reported as too small
+# Measures by patient subgroup: categorical columns by name, numeric ones
+# cut into bands at given points (here <65, 65-<75, >=75) or at the
+# cohort's quantiles (quantiles: 4 for quartiles).
+subgroups:
+  - sex
+  - column: age
+    cuts: [65, 75]
+min_subgroup_events: 20     # fewer events: reported as too small, not judged
+subgroup_criteria: review   # a subgroup's miss makes the verdict review;
+                            # fail: counts as the criterion's severity; ignore
 
 # Acceptance criteria. Without any, the documented defaults apply.
 criteria:
@@ -704,6 +788,10 @@ criteria:
   - measure: ici
     at_most: 0.03
     severity: review        # a miss gives "review", not "fail"
+  - measure: net_benefit_gain   # net benefit above treating all and none
+    at_least: 0.001             # by 1 net true positive per 1000 patients
+    over: [0.05, 0.20]          # at every decision-curve threshold in range
+    severity: review
 
 bootstrap:
   replicates: 0             # internal validation on dev (e.g. 200)

@@ -16,8 +16,14 @@ func TestParseStarterAndPaths(t *testing.T) {
 	if p.Model != filepath.Join("plans", "frozen.yaml") || p.Out != filepath.Join("plans", "audits", "2026-11") {
 		t.Errorf("paths not taken from the plan's folder: %q %q", p.Model, p.Out)
 	}
-	if len(p.Criteria) != 5 || p.Criteria[4].Severity != "review" || p.Rename["age_years"] != "age" {
+	if len(p.Criteria) != 6 || p.Criteria[4].Severity != "review" || p.Rename["age_years"] != "age" {
 		t.Errorf("plan read wrongly: %+v", p)
+	}
+	if nb := p.Criteria[5]; nb.Measure != "net_benefit_gain" || nb.Over == nil || *nb.Over != [2]float64{0.05, 0.20} || *nb.AtLeast != 0.001 {
+		t.Errorf("net-benefit criterion read wrongly: %+v", nb)
+	}
+	if len(p.Subgroups) != 1 || len(p.Bands) != 1 || p.Bands[0].String() != "age:65,75" || p.SubgroupCriteria != "review" {
+		t.Errorf("subgroups read wrongly: %v %v %q", p.Subgroups, p.Bands, p.SubgroupCriteria)
 	}
 	if !p.Set["bootstrap.seed"] || p.Seed != 1 {
 		t.Errorf("bootstrap seed %v %d", p.Set, p.Seed)
@@ -45,6 +51,28 @@ func TestPlanErrors(t *testing.T) {
 		{"purpose:\n  settng: ward\n", `line 2: unknown key "settng" in purpose (did you mean "setting"?)`},
 		{"purpose:\n  setting: \"  \"\n", "line 2: purpose.setting is empty"},
 		{"purpose: [a]\n", "line 1: purpose must be a mapping"},
+		// Subgroups, numeric bands and how subgroup checks count.
+		{"subgroups: sex\n", "line 1: subgroups must be a list of columns"},
+		{"subgroups:\n  - [sex]\n", "line 2: subgroups: each item is a column name or a mapping"},
+		{"subgroups:\n  - column: age\n    cuts: [65, x]\n", `line 3: a cut point must be a number, not "x"`},
+		{"subgroups:\n  - column: age\n    cuts: [75, 65]\n", `line 3: cuts must increase, but "65" follows 75`},
+		{"subgroups:\n  - column: age\n    cuts: [65, 65]\n", `cuts must increase, but "65" follows 65`},
+		{"subgroups:\n  - column: age\n    cuts: [inf]\n", `a cut point must be a finite number, not "inf"`},
+		{"subgroups:\n  - column: age\n    cuts: []\n", "line 3: cuts must be a list of increasing numbers"},
+		{"subgroups:\n  - column: age\n    quantiles: 1\n", "line 3: quantiles is the number of bands, 2 to 20, not 1"},
+		{"subgroups:\n  - column: age\n    quantiles: four\n", `quantiles must be a whole number, not "four"`},
+		{"subgroups:\n  - column: age\n    cuts: [65]\n    quantiles: 4\n", "line 2: subgroups: subgroup column \"age\": give cut points or a number of quantile bands, not both"},
+		{"subgroups:\n  - column: age\n", "give cut points (such as 65,75) or a number of quantile bands"},
+		{"subgroups:\n  - cuts: [65]\n", "a banded subgroup needs a column"},
+		{"subgroups:\n  - column: age\n    cut: [65]\n", `line 3: unknown key "cut" in a banded subgroup (did you mean "cuts"?)`},
+		{"subgroup_criteria: warn\n", `line 1: subgroup_criteria must be review (the default), fail or ignore, not "warn"`},
+		// The net-benefit criterion.
+		{"criteria:\n  - measure: net_benefit_gain\n    at_least: 0.001\n", "needs over: [from, to]"},
+		{"criteria:\n  - measure: net_benefit_gain\n    at_least: 0.001\n    over: [0.2, 0.05]\n", "over needs the lower threshold first"},
+		{"criteria:\n  - measure: net_benefit_gain\n    at_least: 0.001\n    over: [0, 0.2]\n", "strictly between 0 and 1"},
+		{"criteria:\n  - measure: net_benefit_gain\n    at_least: 0.001\n    over: 0.1\n", "line 4: over takes two risk thresholds: [from, to]"},
+		{"criteria:\n  - measure: net_benefit_gain\n    at_most: 0.001\n    over: [0.05, 0.2]\n", "takes at_least"},
+		{"criteria:\n  - measure: auc\n    at_least: 0.7\n    over: [0.05, 0.2]\n", "over goes only with net_benefit_gain"},
 	} {
 		_, err := Parse("p.yaml", []byte(tt.yaml))
 		if err == nil || !strings.Contains(err.Error(), tt.want) {

@@ -223,15 +223,28 @@ func (r *renderer) verdict() {
 	}
 	word := map[string]string{"pass": "PASS — every criterion is met", "review": "REVIEW — only review criteria are not met",
 		"fail": "FAIL — at least one criterion is not met"}[v.Status]
-	r.p("**Verdict: %s** (%d of %d criteria not met).\n\n", word, failed, len(v.Criteria))
+	if n := v.CountSubgroups(); n.Checks > 0 {
+		word = map[string]string{"pass": "PASS — every criterion is met, overall and in every subgroup judged",
+			"review": "REVIEW — only review criteria, or subgroup checks counted as review, are not met",
+			"fail":   "FAIL — at least one criterion is not met"}[v.Status]
+		if v.Status == "pass" && n.Failed > 0 {
+			word = "PASS — every criterion is met overall; the subgroup checks not met are not counted (subgroup criteria: ignore)"
+		}
+	}
+	r.p("**Verdict: %s** (%d of %d criteria not met%s).\n\n", word, failed, len(v.Criteria), subgroupCounts(v, "; "))
 	t := table{head: []string{"criterion", "bound", "value", "result", "severity"}}
 	for _, c := range v.Criteria {
 		val := validate.FormatMeasure(c.Measure, c.Value)
 		if c.Interval != nil {
 			val = measureInterval(c.Measure, *c.Interval)
 		}
+		if c.AtThreshold != nil && c.Note == "" {
+			val += fmt.Sprintf(" (least, at threshold %g)", *c.AtThreshold)
+		}
 		res := "met"
 		switch {
+		case c.Note == validate.NoThresholdInRange:
+			res = "**not met** (cannot be judged: no decision-curve threshold in the range)"
 		case c.Note != "":
 			res = "**not met** (cannot be judged: not estimable)"
 		case !c.Passed:
@@ -239,7 +252,9 @@ func (r *renderer) verdict() {
 		}
 		t.add(code(c.Measure), c.Bound, val, res, c.Severity)
 	}
+	r.subgroupVerdictRows(&t)
 	t.write(r.w)
+	r.subgroupVerdictNote()
 	r.p("Sources of the bounds:\n\n")
 	for _, c := range v.Criteria {
 		if c.Source != "" {
@@ -423,7 +438,8 @@ func (r *renderer) subgroups() {
 		return
 	}
 	r.p("## Subgroups\n\n")
-	r.p("The model's performance in each subgroup, with 95%% intervals. A subgroup with fewer than %d events or non-events is reported as too small: its measures would be too imprecise to act on (common practice). Criteria on AUC, O/E, calibration-in-the-large and slope are checked in every measured subgroup.\n\n", r.a.MinSubgroupEvents)
+	r.p("The model's performance in each subgroup, with 95%% intervals. A subgroup with fewer than %d events or non-events is reported as too small: its measures would be too imprecise to act on (common practice), so it is not judged against the criteria. Criteria on AUC, O/E, calibration-in-the-large and slope are checked in every measured subgroup%s.\n\n", r.a.MinSubgroupEvents, subgroupCountsAs(r.a.Verdict))
+	r.bands()
 	t := table{head: []string{"subgroup", "patients", "events", "AUC (95% CI)", "O/E (95% CI)", "CITL (95% CI)", "slope (95% CI)", "criteria not met"}}
 	var g validate.Subgroup
 	iv := func(v *float64, ci *[2]float64, digits int) string {
@@ -439,9 +455,9 @@ func (r *renderer) subgroups() {
 	for _, g = range gs {
 		failed := strings.Join(g.Failed, "; ")
 		if g.TooSmall {
-			failed = "too small to measure"
+			failed = "too small to measure: not judged"
 		}
-		t.add(code(g.Column)+" = "+code(g.Level), fmt.Sprint(g.N), fmt.Sprint(g.Events),
+		t.add(code(g.Column)+" = "+code(g.Level)+bandInterval(g.Band), fmt.Sprint(g.N), fmt.Sprint(g.Events),
 			iv(g.AUC, g.AUCCI, 3), iv(g.OE, g.OECI, 2), iv(g.CITL, g.CITLCI, 2), iv(g.Slope, g.SlopeCI, 2), failed)
 	}
 	t.write(r.w)
@@ -670,7 +686,7 @@ func (r *renderer) methods() {
 		items = append(items, "Updating: recalibration in the large, logistic recalibration and model revision chosen by closed testing (Vergouwe et al. 2017).")
 	}
 	if len(r.a.Subgroups) > 0 {
-		items = append(items, "Subgroups: the measures above within each level of the named columns, with their intervals.")
+		items = append(items, "Subgroups: the measures above within each level of the named columns (numeric columns in half-open bands [lower, upper)), with their intervals; the criteria on AUC, O/E, calibration-in-the-large and slope checked in each subgroup large enough to judge.")
 	}
 	for _, it := range items {
 		r.p("- %s\n", it)
@@ -863,4 +879,126 @@ func FormatFitP(p float64) string {
 		return "not computed"
 	}
 	return FormatP(p)
+}
+
+// subgroupVerdictRows adds to the verdict table every subgroup check that
+// was judged and not met, and one row for each subgroup too small to
+// judge.
+func (r *renderer) subgroupVerdictRows(t *table) {
+	v := r.a.Verdict
+	size := map[[2]string]validate.Subgroup{}
+	for _, g := range r.a.Subgroups {
+		size[[2]string{g.Column, g.Level}] = g
+	}
+	listed := map[[2]string]bool{}
+	for _, c := range v.SubgroupChecks {
+		where := code(c.Column) + " = " + code(c.Level)
+		switch {
+		case !c.Judged:
+			k := [2]string{c.Column, c.Level}
+			if listed[k] {
+				continue
+			}
+			listed[k] = true
+			g := size[k]
+			t.add("every subgroup criterion in "+where, "—", fmt.Sprintf("%d events, %d non-events", g.Events, g.N-g.Events),
+				fmt.Sprintf("not judged: fewer than %d events or non-events", r.a.MinSubgroupEvents), "—")
+		case !c.Passed:
+			val := num(c.Value, "%.4g")
+			if c.Interval != nil {
+				val = Interval(*c.Interval, "%.4g", "")
+			}
+			res := "**not met**"
+			if c.Note != "" {
+				res += " (cannot be judged: not estimable)"
+			}
+			sev := c.CountsAs + " (subgroup)"
+			if c.CountsAs == "none" {
+				res, sev = "not met (not counted)", "not counted"
+			}
+			t.add(code(c.Measure)+" in "+where, c.Bound, val, res, sev)
+		}
+	}
+}
+
+// subgroupVerdictNote says below the verdict table how the subgroup
+// checks count.
+func (r *renderer) subgroupVerdictNote() {
+	v := r.a.Verdict
+	n := v.CountSubgroups()
+	if n.Checks == 0 {
+		return
+	}
+	r.p("The table lists every subgroup check not met and every subgroup too small to judge (the Subgroups section has them all): %s. Subgroup checks %s.\n\n",
+		n, strings.TrimPrefix(subgroupCountsAs(v), ", where they "))
+}
+
+// subgroupCountsAs says how the subgroup checks count in the verdict, as
+// a clause beginning ", where they".
+func subgroupCountsAs(v *validate.Verdict) string {
+	if v == nil {
+		return ""
+	}
+	switch v.SubgroupCriteria {
+	case validate.SubgroupFail:
+		return ", where they count with the criterion's own severity, as the overall measure's would (subgroup criteria: fail)"
+	case validate.SubgroupIgnore:
+		return ", where they are listed but not counted in the verdict (subgroup criteria: ignore)"
+	case validate.SubgroupReview:
+		return ", where they count as review: a subgroup that misses one makes a passing verdict review, never fail (subgroup criteria: review, the default)"
+	}
+	return ""
+}
+
+// bands says how each numeric subgroup column was cut into bands.
+func (r *renderer) bands() {
+	for _, b := range r.a.SubgroupBands {
+		cuts := make([]string, len(b.Cuts))
+		for i, c := range b.Cuts {
+			cuts[i] = validate.FormatCut(c)
+		}
+		if b.Quantiles > 0 {
+			r.p("%s is cut at its %s in the audited cohort, %s (quantiles of %s).", code(b.Column), quantileWord(b.Quantiles), andList(cuts), validate.QuantileDefinition)
+			if b.Note != "" {
+				r.p(" As %s.", Escape(b.Note))
+			}
+		} else {
+			r.p("%s is cut at %s.", code(b.Column), andList(cuts))
+		}
+		r.p(" Each band is the half-open interval [lower, upper): a value exactly on a cut belongs to the band above it.")
+		if b.Missing > 0 {
+			r.p(" %d audited rows without a value form the band %s.", b.Missing, code(validate.MissingLevel))
+		}
+		r.p("\n\n")
+	}
+}
+
+// quantileWord names q quantile bands.
+func quantileWord(q int) string {
+	if w, ok := map[int]string{2: "median", 3: "tertiles", 4: "quartiles", 5: "quintiles", 10: "deciles"}[q]; ok {
+		return w
+	}
+	return fmt.Sprintf("%d-quantiles", q)
+}
+
+// bandInterval writes a banded subgroup's interval, such as " [65, 75)";
+// "" for a level of a categorical column.
+func bandInterval(b *validate.Band) string {
+	if b == nil {
+		return ""
+	}
+	end := func(v float64) string {
+		switch {
+		case math.IsInf(v, -1):
+			return "−∞"
+		case math.IsInf(v, 1):
+			return "∞"
+		}
+		return validate.FormatCut(v)
+	}
+	open := "["
+	if math.IsInf(b.Lower, -1) {
+		open = "("
+	}
+	return " " + Escape(fmt.Sprintf("%s%s, %s)", open, end(b.Lower), end(b.Upper)))
 }

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"path/filepath"
+	"strings"
 
 	"github.com/riskaudit/riskaudit/validate"
 )
@@ -43,7 +44,7 @@ func WriteSummary(w io.Writer, a *validate.Audit, dir string, nfig int) error {
 				failed++
 			}
 		}
-		p("  verdict     %s (%d of %d criteria not met)\n", v.Status, failed, len(v.Criteria))
+		p("  verdict     %s (%d of %d criteria not met%s)\n", v.Status, failed, len(v.Criteria), subgroupCounts(v, "; "))
 	}
 	if s := a.SampleSize; s != nil && s.Short != nil && *s.Short && s.Required != nil {
 		p("  size        short: the %s criterion needs %d patients, %d analysed\n", s.Driver, *s.Required, s.Have)
@@ -62,4 +63,19 @@ func withCI(v float64, ci [2]float64, why string) string {
 		return num(v, "%.3f")
 	}
 	return fmt.Sprintf("%.3f (95%% CI %s)", v, Interval(ci, "%.3f", why))
+}
+
+// subgroupCounts says how many subgroup checks of the verdict were not
+// met and how many subgroups were not judged, after sep; "" when no
+// subgroup was checked.
+func subgroupCounts(v *validate.Verdict, sep string) string {
+	n := v.CountSubgroups()
+	if n.Checks == 0 {
+		return ""
+	}
+	s := n.String()
+	if v.SubgroupCriteria == validate.SubgroupIgnore && n.Failed > 0 {
+		s = strings.Replace(s, "not met", "not met (not counted)", 1)
+	}
+	return sep + s
 }

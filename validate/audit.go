@@ -281,6 +281,8 @@ type Audit struct {
 	Subgroups []Subgroup `json:"subgroups,omitempty"`
 	// MinSubgroupEvents is the fewest events a subgroup was measured with.
 	MinSubgroupEvents int `json:"min_subgroup_events,omitempty"`
+	// SubgroupBands say how each numeric subgroup column was banded.
+	SubgroupBands []BandInfo `json:"subgroup_bands,omitempty"`
 	// BootstrapCI holds percentile intervals on the cohort when asked.
 	BootstrapCI *PercentileCIs `json:"bootstrap_ci,omitempty"`
 	// CohortIsDevelopment says that no new cohort was given, so the

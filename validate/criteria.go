@@ -18,6 +18,11 @@ type Criterion struct {
 	AtMost   *float64
 	Between  *[2]float64
 	Contains *float64
+	// Over is the range of risk thresholds [from, to] of a criterion on
+	// net_benefit_gain, which it needs (and no other measure takes): the
+	// gain is judged at every threshold of the decision curve that lies in
+	// the range (see NetBenefitGainName).
+	Over *[2]float64
 	// Severity is "fail" (the default) or "review": a failed review
 	// criterion makes the verdict review rather than fail.
 	Severity string
@@ -55,6 +60,11 @@ type CriterionResult struct {
 	// Note says why the criterion could not be judged: its measure was
 	// not estimable (NaN), so it is not met.
 	Note string `json:"note,omitempty"`
+	// Thresholds are, for a criterion on net_benefit_gain, the
+	// decision-curve thresholds it was judged at, and AtThreshold the one
+	// of them with the smallest gain (the Value).
+	Thresholds  []float64 `json:"thresholds,omitempty"`
+	AtThreshold *float64  `json:"at_threshold,omitempty"`
 }
 
 // NotEstimable is the Note of a criterion whose measure could not be
@@ -62,10 +72,17 @@ type CriterionResult struct {
 const NotEstimable = "the measure could not be estimated on this cohort, so the criterion cannot be shown to be met"
 
 // Verdict is the outcome of the criteria: pass when every criterion
-// passes, review when only review criteria fail, fail otherwise.
+// passes, review when only review criteria fail, fail otherwise; the
+// subgroup checks count as AddSubgroups says.
 type Verdict struct {
 	Status   string            `json:"status"`
 	Criteria []CriterionResult `json:"criteria"`
+	// SubgroupCriteria says how the subgroup checks count (SubgroupReview,
+	// SubgroupFail or SubgroupIgnore), and SubgroupChecks are every
+	// criterion checked in every subgroup (AddSubgroups); both are empty
+	// when no subgroups were measured.
+	SubgroupCriteria string          `json:"subgroup_criteria,omitempty"`
+	SubgroupChecks   []SubgroupCheck `json:"subgroup_checks,omitempty"`
 }
 
 // Passed reports whether every criterion passed.
@@ -86,8 +103,61 @@ func DefaultCriteria() []Criterion {
 		{Measure: "slope", Between: &[2]float64{0.8, 1.2}, Severity: "fail",
 			Source: "weak calibration, slope near 1 (Van Calster et al. 2016); the 0.8–1.2 band is common practice"},
 		{Measure: "ici", AtMost: f(0.03), Severity: "review",
-			Source: "ICI (Austin & Steyerberg 2019) of at most 0.03 on the risk scale (3 percentage points): common practice, no published threshold; a review rather than a failure"},
+			Source: "ICI (Austin & Steyerberg 2019) of at most 3 percentage points: common practice, no published threshold; a review rather than a failure"},
+		{Measure: NetBenefitGainName, AtLeast: f(0.001), Over: &[2]float64{0.05, 0.20}, Severity: "review",
+			Source: "clinical usefulness by decision curve (Vickers & Elkin 2006): acting on the model beats both treating everyone and treating no one at every threshold from 5% to 20%; the least gain of 0.001 (one net true positive per 1000 patients) and the range are common practice, no published threshold; a review rather than a failure, since the thresholds that matter are a local clinical choice"},
 	}
+}
+
+// NetBenefitGainName is the measure of a net-benefit criterion: at a risk
+// threshold t, the model's net benefit less that of the better default
+// strategy, NB_model(t) − max(NB_treat all(t), 0), treating no one having
+// net benefit 0 (Vickers & Elkin 2006, Medical Decision Making
+// 26:565–574). The criterion's Over range [from, to] picks the thresholds
+// of the decision curve (Options.Thresholds) with from − 1e-9 ≤ t ≤
+// to + 1e-9 (the tolerance absorbs the rounding of a FROM:TO:STEP grid),
+// and its value is the smallest gain among them, so that at_least g
+// holds when the gain is at least g at every one of them. The net
+// benefits are the decision curve's own (metrics.NetBenefits): a patient
+// whose risk equals t exactly is treated. Only at_least goes with it.
+const NetBenefitGainName = "net_benefit_gain"
+
+// NoThresholdInRange is the Note of a net-benefit criterion whose range
+// holds none of the decision curve's thresholds.
+const NoThresholdInRange = "no decision-curve threshold lies in the range, so the criterion cannot be shown to be met; add thresholds inside it (--thresholds or the plan's thresholds)"
+
+// overText describes a net-benefit criterion's range, such as " at
+// every decision-curve threshold in [0.05, 0.2]"; "" for other criteria.
+func (c Criterion) overText() string {
+	if c.Over == nil {
+		return ""
+	}
+	return fmt.Sprintf(" at every decision-curve threshold in [%g, %g]", c.Over[0], c.Over[1])
+}
+
+// netBenefitGain is the smallest gain over the better default strategy
+// at the decision-curve thresholds of p within over, the threshold where
+// it falls and every threshold judged; NaN and no thresholds when none
+// lies in the range.
+func netBenefitGain(p *Performance, over [2]float64) (float64, *float64, []float64) {
+	const tol = 1e-9
+	var ts []float64
+	worst, at := math.NaN(), -1
+	for _, nb := range p.NetBenefit {
+		t := nb.Threshold
+		if t < over[0]-tol || t > over[1]+tol {
+			continue
+		}
+		ts = append(ts, t)
+		gain := nb.Model - math.Max(nb.TreatAll, 0)
+		if at < 0 || gain < worst || math.IsNaN(gain) {
+			worst, at = gain, len(ts)-1
+		}
+	}
+	if at < 0 {
+		return math.NaN(), nil, nil
+	}
+	return worst, &ts[at], ts
 }
 
 // measureValue returns the named value of a performance and, for
@@ -124,7 +194,7 @@ func measureValue(p *Performance, name string) (float64, *[2]float64, error) {
 // MeasureNames lists the measures a criterion can name.
 func MeasureNames() []string {
 	names := []string{"auc", "auc_se", "citl", "citl_se", "slope", "slope_se", "oe", "ici", "e50", "e90", "emax",
-		"brier", "scaled_brier", "hosmer_lemeshow.p", "hosmer_lemeshow.statistic", "event_rate"}
+		"brier", "scaled_brier", "hosmer_lemeshow.p", "hosmer_lemeshow.statistic", "event_rate", NetBenefitGainName}
 	for _, iv := range []string{"auc_ci", "auc_logit_ci", "citl_ci", "slope_ci", "oe_ci"} {
 		names = append(names, iv, iv+".lower", iv+".upper")
 	}
@@ -150,6 +220,22 @@ func (c Criterion) Check() error {
 	if c.Between != nil && c.Between[0] > c.Between[1] {
 		return fmt.Errorf("criterion on %q: between needs the lower bound first", c.Measure)
 	}
+	if c.Measure == NetBenefitGainName {
+		switch {
+		case c.Over == nil:
+			return fmt.Errorf("criterion on %q needs over: [from, to], the range of risk thresholds where the gain is judged", c.Measure)
+		case !(c.Over[0] > 0 && c.Over[1] < 1):
+			return fmt.Errorf("criterion on %q: over needs risk thresholds strictly between 0 and 1, not [%g, %g]", c.Measure, c.Over[0], c.Over[1])
+		case c.Over[0] > c.Over[1]:
+			return fmt.Errorf("criterion on %q: over needs the lower threshold first, not [%g, %g]", c.Measure, c.Over[0], c.Over[1])
+		case c.AtLeast == nil:
+			return fmt.Errorf("criterion on %q takes at_least (the least gain at every threshold in the range)", c.Measure)
+		}
+		return nil
+	}
+	if c.Over != nil {
+		return fmt.Errorf("criterion on %q: over goes only with %s", c.Measure, NetBenefitGainName)
+	}
 	_, iv, err := measureValue(&Performance{}, c.Measure)
 	if err != nil {
 		return err
@@ -173,12 +259,21 @@ func Judge(p *Performance, criteria []Criterion) (*Verdict, error) {
 		if err := c.Check(); err != nil {
 			return nil, err
 		}
-		val, iv, _ := measureValue(p, c.Measure)
-		r := CriterionResult{Measure: c.Measure, Bound: c.Bound(), Value: val, Interval: iv, Severity: c.Severity, Source: c.Source}
+		var val float64
+		var iv *[2]float64
+		r := CriterionResult{Measure: c.Measure, Bound: c.Bound() + c.overText(), Severity: c.Severity, Source: c.Source}
+		if c.Measure == NetBenefitGainName {
+			val, r.AtThreshold, r.Thresholds = netBenefitGain(p, *c.Over)
+		} else {
+			val, iv, _ = measureValue(p, c.Measure)
+		}
+		r.Value, r.Interval = val, iv
 		if r.Severity == "" {
 			r.Severity = "fail"
 		}
 		switch {
+		case c.Measure == NetBenefitGainName && len(r.Thresholds) == 0:
+			r.Passed, r.Note = false, NoThresholdInRange
 		case iv == nil && !finite(val), iv != nil && (!finite(iv[0]) || !finite(iv[1])):
 			r.Passed, r.Note = false, NotEstimable
 		case c.AtLeast != nil:

@@ -10,6 +10,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/riskaudit/riskaudit/audit"
+	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/report"
 	"github.com/riskaudit/riskaudit/validate"
 )
@@ -38,6 +39,9 @@ type auditOptions struct {
 	// plan's renames, to which --rename adds.
 	dateFromPlan bool
 	planRenames  map[string]string
+	// subgroups are the values of --subgroups as typed (parseSubgroups
+	// reads them into cfg.Subgroups and cfg.Bands).
+	subgroups []string
 }
 
 const auditLong = `Measure how a model performs on a cohort with observed outcomes and write
@@ -94,6 +98,14 @@ every column rename (--rename or the plan's), the tool and the command line
 (the spec's or the plan's purpose section) heads the report, and an
 appendix maps the report to the TRIPOD+AI checklist. A recipe fitted
 inside the audit is written into DIR as fitted_model.yaml.
+Subgroups: --subgroups measures AUC, O/E, calibration-in-the-large and
+slope in every level of categorical columns (sex,site) and in bands of
+numeric ones: age:65,75 cuts age into <65, 65-<75 and >=75 (each band
+[lower, upper): 65 itself is in 65-<75), age:q4 into quartiles of the
+audited cohort. Rows without a value form a (missing) band. The criteria
+on those measures are checked in every subgroup with at least
+--min-subgroup-events events and non-events (smaller ones are listed as
+not judged) and count in the verdict as --subgroup-criteria says.
 
 Outputs are written to temporary files and renamed into place only when
 everything has succeeded.`
@@ -123,6 +135,11 @@ const auditExample = `  # Audit a frozen model on a fresh extract
 
   # Percentile intervals for ICI, E50, E90, scaled Brier and net benefit
   riskaudit audit --model frozen.yaml --cohort new.csv --ci-bootstrap 500 --out audit
+
+  # Subgroups: sex, age cut at 65 and 75, BMI by quartiles; a subgroup's
+  # missed criterion fails the audit as the criterion itself would
+  riskaudit audit --model frozen.yaml --cohort new.csv --subgroups sex,age:65,75,bmi:q4 \
+    --subgroup-criteria fail --out audit
 
   # Decision-curve thresholds from 2% to 30% by 2%, classification at 10% and 25%
   riskaudit audit --model frozen.yaml --cohort new.csv --thresholds 0.02:0.30:0.02 --classify-at 0.1,0.25 --out audit`
@@ -173,8 +190,9 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.StringVar(&o.history, "history", "", "append the audit's summary to this history store (SQLite)")
 	f.StringVar(&o.auditDate, "audit-date", "", "the date the cohort describes, YYYY-MM-DD (default: today, UTC)")
 	f.BoolVar(&o.replaceRecord, "replace-record", false, "replace the history's record of the same audit (model, cohort and date) instead of refusing a duplicate")
-	f.StringSliceVar(&o.cfg.Subgroups, "subgroups", nil, "categorical columns of the cohort to measure the model in, subgroup by subgroup")
-	f.IntVar(&o.cfg.MinSubgroupEvents, "min-subgroup-events", 20, "subgroups with fewer events are reported as too small (common practice)")
+	f.Var(subgroupsFlag{&o.subgroups}, "subgroups", "columns of the cohort to measure the model in, subgroup by subgroup: categorical ones by name (sex,site), numeric ones cut at points (age:65,75 gives <65, 65-<75, >=75) or into quantile bands (age:q4)")
+	f.IntVar(&o.cfg.MinSubgroupEvents, "min-subgroup-events", 20, "subgroups with fewer events are reported as too small and not judged (common practice)")
+	f.StringVar(&o.cfg.SubgroupCriteria, "subgroup-criteria", validate.SubgroupReview, "how a subgroup that misses a criterion counts in the verdict: review (makes a pass review), fail (as the criterion's own severity) or ignore")
 	f.StringVar(&o.cfg.Update, "update", "", "update the model on the cohort by closed testing and write the chosen model here")
 	f.Float64Var(&o.cfg.UpdateAlpha, "update-alpha", 0.05, "significance level of the closed testing procedure")
 	f.IntVar(&o.cfg.UpdateBootstrap, "update-bootstrap", 200, "bootstrap replicates for the updated model's expected performance (0: none)")
@@ -246,7 +264,7 @@ func runAudit(ctx context.Context, o *auditOptions, s *streams) error {
 	}
 	if !res.Passed() {
 		v := res.Audit.Verdict
-		return &criterionError{status: v.Status, failed: countFailed(v), total: len(v.Criteria), report: filepath.Join(o.out, "report.md")}
+		return &criterionError{status: v.Status, failed: countFailed(v), total: len(v.Criteria), sub: v.CountSubgroups(), report: filepath.Join(o.out, "report.md")}
 	}
 	return nil
 }
@@ -274,6 +292,11 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 	}
 	if cfg.Measures.Thresholds, err = parseThresholds(o.thresholds); err != nil {
 		return cfg, err
+	}
+	if len(o.subgroups) > 0 {
+		if cfg.Subgroups, cfg.Bands, err = parseSubgroups(o.subgroups); err != nil {
+			return cfg, err
+		}
 	}
 	if err := o.checkValues(); err != nil {
 		return cfg, err
@@ -326,8 +349,11 @@ func (o *auditOptions) checkValues() error {
 	if !(m.Epsilon > 0 && m.Epsilon < 0.01) {
 		return usagef("--clamp %g: give a small positive value below 0.01", m.Epsilon)
 	}
-	if len(o.cfg.Subgroups) > 0 && o.cfg.MinSubgroupEvents < 1 {
+	if (len(o.cfg.Subgroups) > 0 || len(o.cfg.Bands) > 0 || len(o.subgroups) > 0) && o.cfg.MinSubgroupEvents < 1 {
 		return usagef("--min-subgroup-events %d: give at least 1", o.cfg.MinSubgroupEvents)
+	}
+	if err := validate.CheckSubgroupMode(o.cfg.SubgroupCriteria); err != nil || o.cfg.SubgroupCriteria == "" {
+		return usagef("--subgroup-criteria %s: give review (the default), fail or ignore", cohort.Quote(o.cfg.SubgroupCriteria))
 	}
 	if o.cfg.Update != "" && !(o.cfg.UpdateAlpha > 0 && o.cfg.UpdateAlpha < 1) {
 		return usagef("--update-alpha %g: give a level strictly between 0 and 1", o.cfg.UpdateAlpha)
@@ -340,11 +366,16 @@ func (o *auditOptions) checkValues() error {
 type criterionError struct {
 	status        string
 	failed, total int
+	sub           validate.SubgroupCounts
 	report        string
 }
 
 func (e *criterionError) Error() string {
-	return fmt.Sprintf("verdict %s: %d of %d criteria not met (see %s)", e.status, e.failed, e.total, e.report)
+	sub := ""
+	if e.sub.Checks > 0 {
+		sub = ", " + e.sub.String()
+	}
+	return fmt.Sprintf("verdict %s: %d of %d criteria not met%s (see %s)", e.status, e.failed, e.total, sub, e.report)
 }
 
 func countFailed(v *validate.Verdict) int {

@@ -28,7 +28,7 @@ func TestJSONKeysDocumented(t *testing.T) {
 	}
 	args := []string{"audit", "--model", filepath.Join(demo, "recipe.yaml"), "--cohort", filepath.Join(demo, "later.csv"),
 		"--dev", filepath.Join(demo, "development.csv"), "--out", filepath.Join(dir, "audit"), "--bootstrap", "20", "--seed", "1",
-		"--ci-bootstrap", "20", "--subgroups", "sex,smoker", "--min-subgroup-events", "20",
+		"--ci-bootstrap", "20", "--subgroups", "sex,smoker,age:65,75,bmi:q4", "--min-subgroup-events", "20",
 		"--update", filepath.Join(dir, "updated.yaml"), "--update-alpha", "0.05", "--update-bootstrap", "20",
 		"--history", filepath.Join(dir, "h.sqlite"), "--audit-date", "2026-01-31", "-q"}
 	if code := run(ctx, args, s); code != exitOK && code != exitCriterion {

@@ -394,6 +394,7 @@ def main():
     write_update_reference(bc)
     write_casemix_reference(bc)
     write_samplesize_reference()
+    write_subgroups_reference(bc)
 
 
 def delong_quadratic(y, p):
@@ -790,6 +791,58 @@ def write_samplesize_reference():
     ref = {"_source": "testdata/reference/make_reference.py (scipy.integrate.quad, scipy.optimize.brentq)",
            "scenarios": out, "solves": solves}
     with open(os.path.join(HERE, "samplesize.json"), "w") as f:
+        json.dump(ref, f, indent=1, sort_keys=True)
+        f.write("\n")
+
+
+def write_subgroups_reference(bc):
+    """Numeric subgroups and the net-benefit criterion on the invented audit
+    of the Wisconsin data (audit_predictions.csv): the k/q quantiles of
+    mean_radius, of mean_texture and of mean_radius rounded and capped at
+    12 (many ties) by numpy.quantile's default method (type 7, 'linear');
+    the bands of mean_radius at the cut points 12 and 15 and at its
+    quartiles rounded to 6 significant digits, a value on a cut going to
+    the band above (np.searchsorted, side='right'), and in each band n,
+    events, AUC (scikit-learn roc_auc_score), O/E and calibration-in-the-
+    large and slope (statsmodels GLM); and, at the thresholds 0.05, 0.1,
+    0.15 and 0.2, the net benefit's gain over the better of treating all
+    and treating none (Vickers & Elkin 2006, transcribed), with its
+    smallest value."""
+    from sklearn.metrics import roc_auc_score
+    rows = load_rows(os.path.join(HERE, "audit_predictions.csv"))
+    y = np.array([1.0 if r["diagnosis"] == "M" else 0.0 for r in rows])
+    p = np.array([float(r["risk"]) for r in rows])
+    lp = np.log(p) - np.log1p(-p)
+    radius = np.array([float(r["mean_radius"]) for r in bc])
+    texture = np.array([float(r["mean_texture"]) for r in bc])
+    capped = np.minimum(np.round(radius), 12.0)
+    ref = {"_source": "testdata/reference/make_reference.py (numpy.quantile, scikit-learn, statsmodels)", "quantiles": {}}
+    for name, x in [("mean_radius", radius), ("mean_texture", texture), ("radius_capped", capped)]:
+        ref["quantiles"][name] = {str(q): r12(np.quantile(x, [k / q for k in range(1, q)])) for q in [2, 3, 4, 5, 10]}
+    fam = sm.families.Binomial()
+
+    def bands(cuts):
+        code = np.searchsorted(np.array(cuts), radius, side="right")
+        out = []
+        for k in range(len(cuts) + 1):
+            m = code == k
+            yk, pk, lk = y[m], p[m], lp[m]
+            citl = sm.GLM(yk, np.ones((len(yk), 1)), family=fam, offset=lk).fit(tol=1e-12, maxiter=100)
+            slope = sm.GLM(yk, sm.add_constant(lk), family=fam).fit(tol=1e-12, maxiter=100)
+            out.append({"n": int(m.sum()), "events": int(yk.sum()), "auc": r12(roc_auc_score(yk, pk)),
+                        "oe": r12(yk.sum() / pk.sum()), "citl": r12(citl.params[0]), "slope": r12(slope.params[1])})
+        return out
+
+    quartiles = [float(f"{v:.6g}") for v in np.quantile(radius, [0.25, 0.5, 0.75])]
+    ref["bands_cuts"] = {"cuts": [12.0, 15.0], "bands": bands([12.0, 15.0])}
+    ref["bands_quartiles"] = {"cuts": quartiles, "bands": bands(quartiles)}
+    gains = []
+    for t in [0.05, 0.1, 0.15, 0.2]:
+        nb, ta = net_benefit(y, p, t)
+        gains.append(nb - max(ta, 0.0))
+    ref["net_benefit_gain"] = {"thresholds": [0.05, 0.1, 0.15, 0.2], "gains": r12(gains), "least": r12(min(gains)),
+                               "at": [0.05, 0.1, 0.15, 0.2][int(np.argmin(gains))]}
+    with open(os.path.join(HERE, "subgroups.json"), "w") as f:
         json.dump(ref, f, indent=1, sort_keys=True)
         f.write("\n")
 
