@@ -170,7 +170,7 @@ func predictedRisks(fr *cohort.Frame, name string, rows []int) ([]float64, error
 	for r, i := range rows {
 		v := col.Num[i]
 		if !(v >= 0 && v <= 1) {
-			return nil, &cohort.Error{File: fr.File, Line: fr.Line(i), Row: fr.RowNumbered, Column: name,
+			return nil, &cohort.Error{File: fr.File, Line: fr.Line(i), Row: fr.RowNumbered, Cell: fr.CellRef(fr.Line(i), name), Column: name,
 				Value: strconv.FormatFloat(v, 'g', -1, 64), HasValue: true, Msg: "a predicted risk must lie between 0 and 1", Kind: cohort.ErrDomain}
 		}
 		p[r] = v

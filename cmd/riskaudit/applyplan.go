@@ -41,6 +41,7 @@ func applyPlan(cmd *cobra.Command, o *auditOptions) error {
 		{"missing", "data.missing", func() { o.data.missing = pl.Data.Missing }},
 		{"decimal-comma", "data.decimal_comma", func() { o.data.decimalComma = pl.Data.DecimalComma }},
 		{"na-values", "data.na_values", func() { o.data.naValues = pl.Data.NAValues }},
+		{"sheet", "data.sheet", func() { o.data.sheet = pl.Data.Sheet }},
 		{"classify-at", "classify_at", func() { c.Measures.ClassifyAt = pl.ClassifyAt }},
 		{"subgroups", "subgroups", func() { c.Subgroups = pl.Subgroups }},
 		{"min-subgroup-events", "min_subgroup_events", func() { c.MinSubgroupEvents = pl.MinSubgroupEvents }},

@@ -63,7 +63,7 @@ distribution implies. The recommended size is the largest requirement.`,
 	f.StringVar(&o.jsonOut, "json", "", "also write the result as JSON")
 	o.data.register(f)
 	_ = cmd.MarkFlagFilename("model", "yaml", "yml")
-	_ = cmd.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather")
+	_ = cmd.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
 	return cmd
 }
 
