@@ -225,6 +225,9 @@ func otherPackage(zr *zip.ReadCloser, names []string) string {
 	if !slices.ContainsFunc(names, func(n string) bool { return strings.HasPrefix(n, "xl/") }) {
 		return "is an Office file that is not a workbook (a Word document or a presentation)"
 	}
+	if slices.ContainsFunc(names, func(n string) bool { return strings.HasSuffix(n, "vbaProject.bin") }) {
+		return "is a macro-enabled Excel workbook (.xlsm)" + read
+	}
 	for _, e := range zr.File {
 		if e.Name != "[Content_Types].xml" || e.UncompressedSize64 > 1<<20 {
 			continue
@@ -233,10 +236,21 @@ func otherPackage(zr *zip.ReadCloser, names []string) string {
 		if err != nil {
 			return ""
 		}
-		b, _ := io.ReadAll(io.LimitReader(r, 1<<20))
+		var types struct {
+			Overrides []struct {
+				PartName    string `xml:"PartName,attr"`
+				ContentType string `xml:"ContentType,attr"`
+			} `xml:"Override"`
+		}
+		err = xml.NewDecoder(io.LimitReader(r, 1<<20)).Decode(&types)
 		r.Close()
-		if bytes.Contains(b, []byte("macroEnabled")) || bytes.Contains(b, []byte("vbaProject")) {
-			return "is a macro-enabled Excel workbook (.xlsm)" + read
+		if err != nil {
+			return ""
+		}
+		for _, o := range types.Overrides {
+			if strings.HasSuffix(o.ContentType, ".main+xml") && strings.Contains(o.ContentType, "macroEnabled") {
+				return "is a macro-enabled Excel workbook (.xlsm)" + read
+			}
 		}
 	}
 	return ""

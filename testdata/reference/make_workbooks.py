@@ -131,7 +131,7 @@ def write_types(out):
     ws.append([None] + names)  # column A empty: the header starts at B2
     d0 = dt.date(2023, 12, 30)
     ages = [54, "67", " 71 ", None, "NA", 80.5, 49, 62]
-    sbps = [120.5, 1e-7, 123456789012.0, 99.25, 140, 0.1 + 0.2, 135, 118]
+    sbps = [120.5, 1e-7, 123456789012.0, 99.25, 140, 2.675, 135, 118]
     sexes = ["F", "M", " F ", "M", "F", "NA", "M", "F"]
     smokers = [True, False, True, False, None, True, False, False]
     codes = [1, 2, 3, 2, 1, 3.5, 2, 1]
