@@ -94,7 +94,7 @@ type Error struct {
 	// ("Sheet1!D17", "'Visit data'!B4"), or empty; when set, the message
 	// names it in place of Line.
 	Cell string
-	Msg string
+	Msg  string
 	// Kind is the kind of problem, one of the sentinel errors of this
 	// package (ErrNotNumber, ErrNoColumn, ...), or nil for an error of no
 	// listed kind. errors.Is(err, Kind) holds.

@@ -117,8 +117,8 @@ type Frame struct {
 	firstCol  int // the sheet column of the header's first name (1 is A)
 	headerRow int
 	lines     []int32
-	data    []byte
-	records []int64
+	data      []byte
+	records   []int64
 }
 
 // Column returns the column named name, or nil.
