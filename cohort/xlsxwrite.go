@@ -5,6 +5,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 
 	"github.com/xuri/excelize/v2"
@@ -13,7 +14,8 @@ import (
 // AppendWorkbook returns the workbook the frame was read from with
 // columns added to the sheet read, right of the header's last column:
 // names[k] in the header row and values[k] on each data row's sheet
-// row, empty where a value is NaN. Every other sheet and cell is kept as
+// row as a number (the shortest decimal that reads back exactly, as
+// AppendCSV writes it), empty where a value is NaN. Every other sheet and cell is kept as
 // excelize writes it back (values, formulas, styles, merged cells). The
 // file is read again, never written; the caller writes the result.
 func (f *Frame) AppendWorkbook(names []string, values [][]float64) (out []byte, err error) {
@@ -41,7 +43,9 @@ func (f *Frame) AppendWorkbook(names []string, values [][]float64) (out []byte, 
 				continue
 			}
 			ref, _ := excelize.CoordinatesToCellName(col, f.Line(i))
-			if err := wb.f.SetCellFloat(f.Sheet, ref, v, -1, 64); err != nil {
+			// SetCellFloat would round to Excel's 15 significant digits;
+			// the shortest decimal that reads back exactly is stored.
+			if err := wb.f.SetCellDefault(f.Sheet, ref, strconv.FormatFloat(v, 'g', -1, 64)); err != nil {
 				return nil, workbookError(f.File, err)
 			}
 		}
