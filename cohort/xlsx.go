@@ -143,6 +143,9 @@ func openWorkbook(file string) (*workbook, error) {
 		if f != nil {
 			f.Close()
 		}
+		if errors.Is(err, io.EOF) {
+			err = fmt.Errorf("a part it needs (the workbook, its relationships or styles) is empty or cut short (%w)", err)
+		}
 		return nil, workbookError(file, err)
 	}
 	wb := &workbook{path: file, f: f, styles: map[int]dateKind{}}
