@@ -252,20 +252,38 @@ const (
 )
 
 // File returns the scored data as a file of the input's format
-// ("csv", "parquet" or "arrow", as cohort.Format names it): every row
-// and column as read, followed by LPColumn and RiskColumn, empty (or
-// null) where a row was not scored. A delimited-text input must have
+// ("csv", "parquet", "arrow" or "xlsx", as cohort.Format names it):
+// every row and column as read, followed by LPColumn and RiskColumn,
+// empty (or null) where a row was not scored; a workbook keeps every
+// sheet and cell and gains the two columns on the sheet read. A delimited-text input must have
 // been read with Options.KeepRecords; a columnar one is read again from
 // path. A file that already has either column is refused.
 func (s *Scores) File(path, format string, decimalComma bool) ([]byte, error) {
 	for _, name := range []string{LPColumn, RiskColumn} {
 		if slices.Contains(s.Frame.Header, name) {
-			return nil, &cohort.Error{File: path, Line: 1, Column: name, Msg: "the file already has this column, which score would append; rename it or score the original extract", Kind: cohort.ErrDuplicateColumn}
+			return nil, &cohort.Error{File: path, Line: s.Frame.HeaderRow(), Cell: s.Frame.CellRef(s.Frame.HeaderRow(), name), Column: name, Msg: "the file already has this column, which score would append; rename it or score the original extract", Kind: cohort.ErrDuplicateColumn}
 		}
 	}
 	names, values := []string{LPColumn, RiskColumn}, [][]float64{s.LP, model.Risks(s.LP)}
-	if format == "csv" {
+	switch format {
+	case "csv":
 		return s.Frame.AppendCSV(names, values, decimalComma), nil
+	case "xlsx":
+		return s.Frame.AppendWorkbook(names, values)
 	}
 	return cohort.AppendColumns(path, format, names, values)
+}
+
+// WorkbookText returns the scored sheet of a workbook as delimited text
+// (delim a comma or a tab): the header and every row read, each cell as
+// text, followed by LPColumn and RiskColumn (see
+// cohort.Frame.WorkbookCSV). A sheet that already has either column is
+// refused.
+func (s *Scores) WorkbookText(delim byte) ([]byte, error) {
+	for _, name := range []string{LPColumn, RiskColumn} {
+		if slices.Contains(s.Frame.Header, name) {
+			return nil, &cohort.Error{File: s.Frame.File, Cell: s.Frame.CellRef(s.Frame.HeaderRow(), name), Column: name, Msg: "the file already has this column, which score would append; rename it or score the original extract", Kind: cohort.ErrDuplicateColumn}
+		}
+	}
+	return s.Frame.WorkbookCSV([]string{LPColumn, RiskColumn}, [][]float64{s.LP, model.Risks(s.LP)}, delim)
 }

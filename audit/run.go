@@ -413,10 +413,10 @@ func (r *run) provenance() validate.Provenance {
 	if c.Model != "" && r.modelErr == nil {
 		pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "model", Path: c.Model, SHA256: r.modelHash})
 	}
-	pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "cohort", Path: r.cur.file, SHA256: r.cur.hash})
+	pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "cohort", Path: r.cur.file, Sheet: r.cur.sheet, SHA256: r.cur.hash})
 	read := []readFile{{"cohort", r.cur.renamed}}
 	if c.Cohort.given() && r.dev != nil {
-		pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "development", Path: r.dev.file, SHA256: r.dev.hash})
+		pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "development", Path: r.dev.file, Sheet: r.dev.sheet, SHA256: r.dev.hash})
 		read = append(read, readFile{"development", r.dev.renamed})
 	}
 	pv.Renames = renames(c.Read.Rename, c.RenameSources, read)

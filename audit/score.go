@@ -34,6 +34,8 @@ type scored struct {
 	isDevFit bool // the frozen model was fitted to these data
 	// renamed are the renames that applied to the file.
 	renamed []cohort.RenamedColumn
+	// sheet is the worksheet read, for a workbook.
+	sheet string
 }
 
 // requests are the columns an audit reads: the model's (with the
@@ -131,7 +133,7 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input) (*scored
 	if err != nil {
 		return nil, err
 	}
-	sc := &scored{y: m.Y, file: in.Path, hash: hash, terms: m.Terms, renamed: fr.Renamed}
+	sc := &scored{y: m.Y, file: in.Path, hash: hash, terms: m.Terms, renamed: fr.Renamed, sheet: fr.Sheet}
 	if c.Update != "" || c.Dev.given() {
 		sc.frame = fr // the case-mix comparison or the update reads it again
 	}
@@ -199,7 +201,7 @@ func predictedRisks(fr *cohort.Frame, name string, rows []int, percent bool) ([]
 			if !percent && v > 1 && v <= 100 {
 				msg += " (if the column holds percentages, say so with --predicted-percent)"
 			}
-			return nil, &cohort.Error{File: fr.File, Line: fr.Line(i), Row: fr.RowNumbered, Column: name,
+			return nil, &cohort.Error{File: fr.File, Line: fr.Line(i), Row: fr.RowNumbered, Cell: fr.CellRef(fr.Line(i), name), Column: name,
 				Value: strconv.FormatFloat(v, 'g', -1, 64), HasValue: true, Msg: msg, Kind: cohort.ErrDomain}
 		}
 		if percent {

@@ -16,11 +16,11 @@ import (
 )
 
 // Format names the format of the file at path: the forced format when it
-// is csv, parquet or arrow, otherwise the one its first bytes show
-// (Parquet, Arrow IPC, or delimited text).
+// is csv, parquet, arrow or xlsx, otherwise the one its first bytes show
+// (Parquet, Arrow IPC, an Excel workbook, or delimited text).
 func Format(path, forced string) string {
 	switch forced {
-	case "csv", "parquet", "arrow":
+	case "csv", "parquet", "arrow", "xlsx":
 		return forced
 	}
 	switch {
@@ -28,6 +28,8 @@ func Format(path, forced string) string {
 		return "parquet"
 	case isArrow(path):
 		return "arrow"
+	case isWorkbook(path):
+		return "xlsx"
 	}
 	return "csv"
 }

@@ -90,7 +90,11 @@ type Error struct {
 	// Row says that Line counts data rows (1-based), as in a columnar
 	// file, rather than text lines.
 	Row bool
-	Msg string
+	// Cell is the workbook cell of the problem, with its sheet
+	// ("Sheet1!D17", "'Visit data'!B4"), or empty; when set, the message
+	// names it in place of Line.
+	Cell string
+	Msg  string
 	// Kind is the kind of problem, one of the sentinel errors of this
 	// package (ErrNotNumber, ErrNoColumn, ...), or nil for an error of no
 	// listed kind. errors.Is(err, Kind) holds.
@@ -105,6 +109,7 @@ type Error struct {
 // Error formats the problem as one line:
 //
 //	dev.csv: line 12, column "age": value "abc": not a number
+//	dev.xlsx: cell Sheet1!D12, column "age": value "abc": not a number
 //
 // A column name or value longer than EchoChars characters is cut, with
 // its length stated (see Quote); Msg is written as it is.
@@ -112,7 +117,12 @@ func (e *Error) Error() string {
 	var b strings.Builder
 	b.WriteString(e.File)
 	sep := ": "
-	if e.Line > 0 {
+	if e.Cell != "" {
+		b.WriteString(sep)
+		b.WriteString("cell ")
+		b.WriteString(e.Cell)
+		sep = ", "
+	} else if e.Line > 0 {
 		b.WriteString(sep)
 		if e.Row {
 			b.WriteString("row ")

@@ -59,9 +59,13 @@ type Options struct {
 	// the file is left alone.
 	Rename map[string]string
 	// Format is "csv" (delimited text), "parquet", "arrow" (the Arrow IPC
-	// file format), or "" to choose by the file's first bytes (PAR1 for
-	// Parquet, ARROW1 for Arrow).
+	// file format), "xlsx" (an Excel workbook), or "" to choose by the
+	// file's first bytes (PAR1 for Parquet, ARROW1 for Arrow, a zip with
+	// the parts of a workbook for xlsx).
 	Format string
+	// Sheet names the worksheet of a workbook to read; "" reads the first
+	// worksheet in tab order. Other formats ignore it.
+	Sheet string
 }
 
 // Column is one column read from a file.
@@ -110,10 +114,15 @@ type Frame struct {
 	// file's column order (a rename of a name not in the file is not
 	// among them).
 	Renamed []RenamedColumn
+	// Sheet is the worksheet read, for a workbook; then Line gives the
+	// sheet's row numbers and CellRef locates a value.
+	Sheet string
 
-	lines   []int32
-	data    []byte
-	records []int64
+	firstCol  int // the sheet column of the header's first name (1 is A)
+	headerRow int
+	lines     []int32
+	data      []byte
+	records   []int64
 }
 
 // RenamedColumn is one column of a file read under another name.
@@ -147,8 +156,27 @@ func (f *Frame) Column(name string) *Column {
 	return nil
 }
 
-// Line returns the file line on which data row i starts.
+// Line returns the file line on which data row i starts (for a
+// columnar file its row number, for a workbook its sheet's row number).
 func (f *Frame) Line(i int) int { return int(f.lines[i]) }
+
+// CellRef returns the cell of a workbook that holds the value of column
+// on the sheet's row line (a Line or LevelLine of the frame), as
+// Error.Cell writes it ("Sheet1!D17"), or "" for a frame that is not
+// from a workbook or a column it does not have.
+func (f *Frame) CellRef(line int, column string) string {
+	if f.Sheet == "" || line <= 0 {
+		return ""
+	}
+	i := index(f.Header, column)
+	if i < 0 {
+		return ""
+	}
+	return cellRef(f.Sheet, f.firstCol+i, line)
+}
+
+// HeaderRow returns the sheet row of a workbook's header, or 1.
+func (f *Frame) HeaderRow() int { return max(f.headerRow, 1) }
 
 // Record returns the raw text of data row i, without its line end, when
 // the frame was read with Options.KeepRecords; otherwise nil.
@@ -195,10 +223,15 @@ func load(ctx context.Context, path string, reqs []Request, opt Options) (*Frame
 		return loadParquet(ctx, path, reqs, opt)
 	case "arrow":
 		return loadArrow(ctx, path, reqs, opt)
+	case "xlsx":
+		return loadXLSX(ctx, path, reqs, opt)
 	case "", "auto":
 		pq, ar := isParquet(path), isArrow(path)
 		if (pq || ar) && opt.KeepRecords {
 			return nil, &Error{File: path, Msg: "a columnar file has no text rows to copy; give a CSV or TSV file", Kind: ErrFormat}
+		}
+		if isWorkbook(path) {
+			return loadXLSX(ctx, path, reqs, opt)
 		}
 		if pq {
 			return loadParquet(ctx, path, reqs, opt)

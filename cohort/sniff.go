@@ -79,8 +79,11 @@ func signature(d []byte) (kind, hint string) {
 		// The compound file's directory names its streams in UTF-16; a
 		// legacy workbook has one called Workbook (or Book, before
 		// Excel 97).
+		if bytes.Contains(d, []byte("E\x00n\x00c\x00r\x00y\x00p\x00t\x00e\x00d\x00P\x00a\x00c\x00k\x00a\x00g\x00e\x00")) {
+			return "a password-protected (encrypted) Office file", "; save it without a password"
+		}
 		if bytes.Contains(d, []byte("W\x00o\x00r\x00k\x00b\x00o\x00o\x00k\x00")) || bytes.Contains(d, []byte("B\x00o\x00o\x00k\x00\x00\x00")) {
-			return "an Excel workbook (the legacy .xls format)", sheet
+			return "an Excel workbook (the legacy .xls format)", "; save it as an Excel workbook (.xlsx), which is read, or export the sheet as CSV"
 		}
 		return "a legacy Microsoft Office file (such as .xls, .doc or .msg)", ""
 	case has(0, "PAR1"):
@@ -166,7 +169,7 @@ func zipKind(d []byte) (kind, hint string) {
 		for _, n := range names {
 			switch {
 			case strings.HasPrefix(n, "xl/"):
-				return "an Excel workbook", sheet
+				return "an Excel workbook", " (it was read as text because the format was set to csv)"
 			case strings.HasPrefix(n, "word/"):
 				return "a Word document", ""
 			case strings.HasPrefix(n, "ppt/"):

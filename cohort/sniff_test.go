@@ -106,7 +106,7 @@ func TestNotText(t *testing.T) {
 		data []byte
 		want string // "" when the data must read as text
 	}{
-		{"xlsx", xlsx, "looks like an Excel workbook, not delimited text; export the sheet as CSV"},
+		{"xlsx", xlsx, "looks like an Excel workbook, not delimited text (it was read as text because the format was set to csv)"},
 		{"xlsx cut short", xlsx[:60], "looks like an Excel workbook or another zip archive, not delimited text; export the sheet as CSV"},
 		{"docx", zipOf(t, "", "[Content_Types].xml", "word/document.xml"), "looks like a Word document, not delimited text"},
 		{"pptx", zipOf(t, "", "[Content_Types].xml", "ppt/presentation.xml"), "looks like a PowerPoint presentation, not delimited text"},
@@ -114,7 +114,7 @@ func TestNotText(t *testing.T) {
 		{"odt", zipOf(t, "application/vnd.oasis.opendocument.text", "content.xml"), "looks like an OpenDocument file, not delimited text"},
 		{"zip", zipOf(t, "", "later.csv"), "looks like a zip archive, not delimited text; extract the file from it first"},
 		{"zip cut short", zipOf(t, "", "later.csv")[:40], "looks like a zip archive (perhaps an Excel workbook), not delimited text; extract the file from it, or export the sheet as CSV"},
-		{"xls", xls, "looks like an Excel workbook (the legacy .xls format), not delimited text; export the sheet as CSV"},
+		{"xls", xls, "looks like an Excel workbook (the legacy .xls format), not delimited text; save it as an Excel workbook (.xlsx), which is read, or export the sheet as CSV"},
 		{"other OLE2", ole, "looks like a legacy Microsoft Office file (such as .xls, .doc or .msg), not delimited text"},
 		{"gzip", gz.Bytes(), "looks like a gzip-compressed file, not delimited text; decompress it first"},
 		{"bzip2", []byte("BZh91AY&SY\x00\x01\x02"), "looks like a bzip2-compressed file, not delimited text; decompress it first"},
@@ -171,19 +171,26 @@ func TestNotText(t *testing.T) {
 	}
 }
 
-// TestNotTextLoad: Load refuses a workbook by its content, whatever its
-// name, and still reads Parquet and Arrow files by their first bytes.
+// TestNotTextLoad: Load takes a workbook for one by its content,
+// whatever its name, and still reads Parquet and Arrow files by their
+// first bytes.
 func TestNotTextLoad(t *testing.T) {
 	dir := t.TempDir()
 	path := filepath.Join(dir, "extract.csv")
 	if err := os.WriteFile(path, zipOf(t, "", "[Content_Types].xml", "xl/workbook.xml"), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	for _, opt := range []Options{{}, {Format: "csv"}, {KeepRecords: true}} {
+	// Read as a workbook, which this one is not inside; read as text, it
+	// is refused by its entries.
+	for _, opt := range []Options{{}, {KeepRecords: true}} {
 		_, err := Load(path, num("age"), opt)
-		if want := path + ": looks like an Excel workbook, not delimited text; export the sheet as CSV"; err == nil || err.Error() != want {
-			t.Errorf("%+v: got %v, want %s", opt, err, want)
+		if want := path + ": not a readable Excel workbook (.xlsx): "; err == nil || !strings.HasPrefix(err.Error(), want) || !errors.Is(err, ErrFormat) {
+			t.Errorf("%+v: got %v, want %s…", opt, err, want)
 		}
+	}
+	_, err := Load(path, num("age"), Options{Format: "csv"})
+	if want := path + ": looks like an Excel workbook, not delimited text (it was read as text because the format was set to csv)"; err == nil || err.Error() != want {
+		t.Errorf("as csv: got %v, want %s", err, want)
 	}
 	for _, p := range []string{"small.parquet", "small.arrow"} {
 		if _, err := Load(filepath.Join(seedDir, p), fuzzReqs, Options{}); err != nil {

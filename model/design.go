@@ -262,7 +262,7 @@ func (d *Design) completeCases(opt Options) ([]bool, *Matrix, error) {
 			}
 		}
 		if col != nil {
-			return nil, nil, &cohort.Error{File: fr.File, Line: fr.Line(row), Row: fr.RowNumbered, Column: col.Name,
+			return nil, nil, &cohort.Error{File: fr.File, Line: fr.Line(row), Row: fr.RowNumbered, Cell: fr.CellRef(fr.Line(row), col.Name), Column: col.Name,
 				Msg: "missing value (the missing-value policy is fail)", Kind: cohort.ErrMissing}
 		}
 	}
@@ -463,7 +463,7 @@ func (d *Design) bindCategorical(e *entry, used []bool) error {
 		default:
 			e.codeTerm[code] = -2
 			if present[code] {
-				return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Row: d.frame.RowNumbered, Column: pr.Column, Value: l, HasValue: true,
+				return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Row: d.frame.RowNumbered, Cell: d.frame.CellRef(c.LevelLine[code], pr.Column), Column: pr.Column, Value: l, HasValue: true,
 					Msg: fmt.Sprintf("a level the model does not know (it knows %s)", cohort.ClipList(append([]string{e.reference}, e.levels...))), Kind: cohort.ErrLevel}
 			}
 		}
@@ -530,7 +530,7 @@ func (d *Design) mapOutcome(used []bool) error {
 	}
 	if len(bad) > 0 {
 		code := bad[0]
-		return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Row: d.frame.RowNumbered, Column: c.Name, Value: c.Levels[code], HasValue: true,
+		return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Row: d.frame.RowNumbered, Cell: d.frame.CellRef(c.LevelLine[code], c.Name), Column: c.Name, Value: c.Levels[code], HasValue: true,
 			Msg: fmt.Sprintf("neither the event %s nor the non-event %s; values seen: %s", cohort.Quote(o.Event.Text), cohort.Quote(o.NonEvent.Text), seen()), Kind: cohort.ErrOutcome}
 	}
 	if events == 0 {
@@ -567,7 +567,7 @@ func (d *Design) row(i int, out []float64) error {
 				t[j] = 1
 			} else if j == -2 {
 				c := e.col
-				return &cohort.Error{File: d.frame.File, Line: d.frame.Line(i), Row: d.frame.RowNumbered, Column: c.Name, Value: c.Levels[c.Codes[i]], HasValue: true, Msg: "a level the model does not know", Kind: cohort.ErrLevel}
+				return &cohort.Error{File: d.frame.File, Line: d.frame.Line(i), Row: d.frame.RowNumbered, Cell: d.frame.CellRef(d.frame.Line(i), c.Name), Column: c.Name, Value: c.Levels[c.Codes[i]], HasValue: true, Msg: "a level the model does not know", Kind: cohort.ErrLevel}
 			}
 		default:
 			if err := d.numericTerms(e, i, t); err != nil {
@@ -591,7 +591,7 @@ func (d *Design) numericTerms(e *entry, i int, t []float64) error {
 			if e.kind == powers {
 				what = "fractional-polynomial powers need"
 			}
-			return &cohort.Error{File: d.frame.File, Line: d.frame.Line(i), Row: d.frame.RowNumbered, Column: pr.Column, Value: fmtNum(x), HasValue: true,
+			return &cohort.Error{File: d.frame.File, Line: d.frame.Line(i), Row: d.frame.RowNumbered, Cell: d.frame.CellRef(d.frame.Line(i), pr.Column), Column: pr.Column, Value: fmtNum(x), HasValue: true,
 				Msg: fmt.Sprintf("%s positive values of (x − center)/scale", what), Kind: cohort.ErrDomain}
 		}
 		if e.kind == logTerm {

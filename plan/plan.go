@@ -100,6 +100,8 @@ type Data struct {
 	Missing      string
 	NAValues     []string
 	HasNAValues  bool
+	// Sheet is the worksheet read from Excel workbooks (data.sheet).
+	Sheet string
 }
 
 // Plan is an audit plan. Paths are absolute or relative to the working
@@ -583,7 +585,7 @@ func (p *parser) subgroups(v *yaml.Node) ([]string, []validate.Banding, error) {
 }
 
 func (p *parser) data(d *Data, v *yaml.Node, set map[string]bool) error {
-	return p.fields(v, "data", []string{"delimiter", "decimal_comma", "missing", "na_values"}, func(k string, c *yaml.Node) error {
+	return p.fields(v, "data", []string{"delimiter", "decimal_comma", "missing", "na_values", "sheet"}, func(k string, c *yaml.Node) error {
 		set["data."+k] = true
 		var err error
 		switch k {
@@ -596,6 +598,10 @@ func (p *parser) data(d *Data, v *yaml.Node, set map[string]bool) error {
 		case "na_values":
 			d.NAValues, err = p.strs(c, k)
 			d.HasNAValues = true
+		case "sheet":
+			if d.Sheet, err = p.str(c, k); err == nil && d.Sheet == "" {
+				return p.errf(ErrValue, c, "sheet must name a worksheet")
+			}
 		}
 		return err
 	})
@@ -799,6 +805,7 @@ bootstrap:
 
 data:
   missing: complete-case    # or fail
+  # sheet: Extract          # the worksheet of an Excel workbook (default: the first)
 
 # Was the cohort large enough? Target 95% CI widths of the sample-size
 # criteria (Riley et al. 2021; these are the defaults) and, optionally,

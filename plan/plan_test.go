@@ -39,6 +39,7 @@ func TestPlanErrors(t *testing.T) {
 		{"criteria:\n  - measure: oe\n    contains: 1\n", "contains needs an interval"},
 		{"criteria:\n  - measure: auc\n    at_least: high\n", `line 3: at_least must be a number, not "high"`},
 		{"data: {missing: fail, decimal_comma: maybe}\n", "decimal_comma must be true or false"},
+		{"data: {sheet: \"\"}\n", "line 1: sheet must name a worksheet"},
 		{"sample_size:\n  c_width: 1.5\n", "line 2: c_width must be strictly between 0 and 1, not 1.5"},
 		{"sample_size:\n  oe_width: -1\n", "line 2: oe_width must be above 0, not -1"},
 		{"sample_size: {threshold: 1}\n", "threshold must be strictly between 0 and 1, not 1"},

@@ -80,7 +80,7 @@ func writeCompareProvenance(w *errWriter, pv validate.Provenance) {
 	fmt.Fprint(w, "## Provenance\n\n")
 	t := table{head: []string{"input", "file", "SHA-256"}}
 	for _, in := range pv.Inputs {
-		t.add(in.Role, code(in.Path), code(in.SHA256))
+		t.add(in.Role, code(in.FileText()), code(in.SHA256))
 	}
 	t.write(w)
 	writeRenames(w, pv.Renames)

@@ -89,7 +89,7 @@ func (r *renderer) provenance() {
 	r.p("## Provenance\n\n")
 	t := table{head: []string{"input", "file", "SHA-256"}}
 	for _, in := range pv.Inputs {
-		t.add(in.Role, code(in.Path), code(in.SHA256))
+		t.add(in.Role, code(in.FileText()), code(in.SHA256))
 	}
 	if pl := pv.Plan; pl != nil {
 		name := code(pl.Path)

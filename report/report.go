@@ -105,7 +105,7 @@ func (r *renderer) header() {
 	cohortFile := ""
 	for _, in := range a.Provenance.Inputs {
 		if in.Role == "cohort" {
-			cohortFile = in.Path
+			cohortFile = in.FileText()
 		}
 	}
 	r.p("Audit of %s on the cohort %s, outcome %s = %s. Made %s by %s. %s\n\n",

@@ -22,7 +22,7 @@ func WriteSummary(w io.Writer, a *validate.Audit, dir string, nfig int) error {
 	cohortFile := ""
 	for _, in := range a.Provenance.Inputs {
 		if in.Role == "cohort" {
-			cohortFile = in.Path
+			cohortFile = in.FileText()
 		}
 	}
 	p("Audit of %s on %s\n", a.Model.Name, cohortFile)

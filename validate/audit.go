@@ -18,9 +18,20 @@ const Caution = "This audit is statistical evidence about the model's performanc
 
 // InputFile is one input of the audit with its SHA-256.
 type InputFile struct {
-	Role   string `json:"role"`
-	Path   string `json:"path"`
+	Role string `json:"role"`
+	Path string `json:"path"`
+	// Sheet is the worksheet read, when the file is an Excel workbook.
+	Sheet  string `json:"sheet,omitempty"`
 	SHA256 string `json:"sha256"`
+}
+
+// FileText is the input as the report names it: the file, and the
+// worksheet of a workbook.
+func (in InputFile) FileText() string {
+	if in.Sheet == "" {
+		return in.Path
+	}
+	return in.Path + ", sheet " + in.Sheet
 }
 
 // Provenance records how the audit (or comparison) was made: by which

@@ -43,6 +43,7 @@ func applyPlan(cmd *cobra.Command, o *auditOptions) error {
 		{"missing", "data.missing", func() { o.data.missing = pl.Data.Missing }},
 		{"decimal-comma", "data.decimal_comma", func() { o.data.decimalComma = pl.Data.DecimalComma }},
 		{"na-values", "data.na_values", func() { o.data.naValues = pl.Data.NAValues }},
+		{"sheet", "data.sheet", func() { o.data.sheet = pl.Data.Sheet }},
 		{"classify-at", "classify_at", func() { o.classifyAt = pl.ClassifyAt }},
 		{"nb-min-gain", "net_benefit_min_gain", func() { o.minGain = pl.NetBenefitMinGain }},
 		{"subgroups", "subgroups", func() { c.Subgroups, c.Bands = pl.Subgroups, pl.Bands }},

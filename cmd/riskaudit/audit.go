@@ -119,6 +119,9 @@ const auditExample = `  # Audit a frozen model on a fresh extract
   # Audit the risks a vendor's system wrote into a column
   riskaudit audit --predicted vendor_risk --outcome died_30d --event yes --cohort new.csv --out audit
 
+  # The sheet "Extract" of an Excel workbook, by clinic and by visit date
+  riskaudit audit --model frozen.yaml --cohort new.xlsx --sheet Extract --subgroups clinic,visit_date --out audit
+
   # Fit a recipe on the development data, validate it by 500 bootstrap
   # replicates, keep the draws and a shrunken model, and audit a new cohort
   riskaudit audit --model recipe.yaml --dev dev.csv --bootstrap 500 --seed 1 \
@@ -168,7 +171,7 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.StringVar(&o.outcome, "outcome", "", "with --predicted: the outcome column")
 	f.StringVar(&o.event, "event", "", "with --predicted: the outcome value that is an event")
 	f.StringVar(&o.nonEvent, "non-event", "", "with --predicted: the value that is a non-event (then any other value is an error)")
-	f.StringVar(&o.cfg.Cohort.Path, "cohort", "", "the cohort to audit (CSV or TSV with a header row, Parquet, or Arrow IPC)")
+	f.StringVar(&o.cfg.Cohort.Path, "cohort", "", "the cohort to audit (CSV or TSV with a header row, Parquet, Arrow IPC, or an Excel workbook)")
 	f.StringVar(&o.cfg.Dev.Path, "dev", "", "the development data, measured the same way for comparison")
 	f.StringVar(&o.out, "out", "", "folder for the report, audit.json and figures (created if absent)")
 	f.StringVar(&o.thresholds, "thresholds", "0.05:0.50:0.05", "decision-curve risk thresholds: FROM:TO:STEP or a comma-separated list")
@@ -201,8 +204,8 @@ func newAuditCmd(s *streams) *cobra.Command {
 	o.data.register(f)
 	_ = c.MarkFlagFilename("model", "yaml", "yml")
 	_ = c.MarkFlagFilename("plan", "yaml", "yml")
-	_ = c.MarkFlagFilename("cohort", "csv", "tsv", "txt", "parquet", "arrow", "feather")
-	_ = c.MarkFlagFilename("dev", "csv", "tsv", "txt", "parquet", "arrow", "feather")
+	_ = c.MarkFlagFilename("cohort", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
+	_ = c.MarkFlagFilename("dev", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
 	_ = c.MarkFlagDirname("out")
 	return c
 }

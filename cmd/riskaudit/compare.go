@@ -60,7 +60,7 @@ Writes DIR/compare.md, DIR/compare.json and DIR/decision_curves.svg with:
 	f.StringArrayVar(&o.models, "model", nil, "a frozen model (give twice, or once with --predicted)")
 	f.StringVar(&o.predicted, "predicted", "", "a column of predicted risks to compare with the model")
 	f.BoolVar(&o.predictedPercent, "predicted-percent", false, "the --predicted column holds risks in percent (0 to 100)")
-	f.StringVar(&o.cohortFile, "cohort", "", "the cohort (CSV or TSV with a header row, Parquet, or Arrow IPC)")
+	f.StringVar(&o.cohortFile, "cohort", "", "the cohort (CSV or TSV with a header row, Parquet, Arrow IPC, or an Excel workbook)")
 	f.StringVar(&o.out, "out", "", "output folder")
 	f.StringVar(&o.thresholds, "thresholds", "0.05:0.50:0.05", "decision-curve thresholds: FROM:TO:STEP or a list")
 	f.IntVar(&o.ciBootstrap, "ci-bootstrap", 1000, "replicates of the bootstrap percentile interval of the Brier difference")

@@ -21,6 +21,7 @@ type dataFlags struct {
 	naValues     []string
 	format       string
 	rename       []string
+	sheet        string
 }
 
 func (f *dataFlags) register(fs *pflag.FlagSet) {
@@ -28,7 +29,8 @@ func (f *dataFlags) register(fs *pflag.FlagSet) {
 	fs.BoolVar(&f.decimalComma, "decimal-comma", false, "read numbers written with a decimal comma, such as 27,5")
 	fs.StringVar(&f.missing, "missing", "complete-case", "missing-value policy: complete-case (leave out rows missing a model column) or fail")
 	fs.StringSliceVar(&f.naValues, "na-values", nil, "field values that mean missing, comma-separated (default: empty, NA, ., NaN)")
-	fs.StringVar(&f.format, "format", "auto", "cohort file format: csv (delimited text), parquet, arrow (Arrow IPC file), or auto (columnar files are recognised by their first bytes)")
+	fs.StringVar(&f.format, "format", "auto", "cohort file format: csv (delimited text), parquet, arrow (Arrow IPC file), xlsx (Excel workbook), or auto (columnar files and workbooks are recognised by their first bytes)")
+	fs.StringVar(&f.sheet, "sheet", "", "worksheet to read from an Excel workbook, by name (default: the first worksheet); other formats ignore it")
 	fs.StringArrayVar(&f.rename, "rename", nil, "read the file's column OLD as NEW, written OLD=NEW (repeat for each column; added to a plan's renames)")
 }
 
@@ -40,11 +42,12 @@ func (f *dataFlags) options() (o cohort.Options, fail bool, err error) {
 	}
 	switch f.format {
 	case "auto", "":
-	case "csv", "parquet", "arrow":
+	case "csv", "parquet", "arrow", "xlsx":
 		o.Format = f.format
 	default:
-		return o, false, usagef("--format %q: give csv, parquet, arrow or auto", f.format)
+		return o, false, usagef("--format %q: give csv, parquet, arrow, xlsx or auto", f.format)
 	}
+	o.Sheet = f.sheet
 	if o.DecimalComma = f.decimalComma; o.DecimalComma && o.Delimiter == ',' {
 		return o, false, usagef("--decimal-comma needs a delimiter other than a comma")
 	}

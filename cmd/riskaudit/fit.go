@@ -58,7 +58,7 @@ terms involved, and --firth fits Firth's penalised likelihood instead.`,
 	}
 	f := c.Flags()
 	f.StringVar(&o.model, "model", "", "model recipe (YAML)")
-	f.StringVar(&o.dataFile, "data", "", "development data (CSV or TSV with a header row, Parquet, or Arrow IPC)")
+	f.StringVar(&o.dataFile, "data", "", "development data (CSV or TSV with a header row, Parquet, Arrow IPC, or an Excel workbook)")
 	f.StringVar(&o.out, "out", "", "where to write the frozen model (YAML); without it the fit is printed and nothing written")
 	f.StringVar(&o.jsonOut, "json", "", "also write the fit statistics as JSON to this file")
 	f.StringVar(&o.reduced, "reduced", "", "a recipe nested in --model: compare the two by likelihood ratio and AIC")
@@ -71,7 +71,7 @@ terms involved, and --firth fits Firth's penalised likelihood instead.`,
 	}
 	_ = c.MarkFlagFilename("model", "yaml", "yml")
 	_ = c.MarkFlagFilename("reduced", "yaml", "yml")
-	_ = c.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather")
+	_ = c.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
 	return c
 }
 

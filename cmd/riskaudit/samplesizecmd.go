@@ -70,7 +70,7 @@ within 1e-12 relative above a whole number counting as that number.`,
 	f.StringVar(&o.jsonOut, "json", "", "also write the result as JSON")
 	o.data.register(f)
 	_ = cmd.MarkFlagFilename("model", "yaml", "yml")
-	_ = cmd.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather")
+	_ = cmd.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
 	return cmd
 }
 

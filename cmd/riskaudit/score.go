@@ -35,7 +35,10 @@ stops the run). The outcome column is not needed.
 
 A Parquet or Arrow IPC cohort gives a file of the same format: every
 column with its type, then the two columns as float64, null where a row
-was not scored.`,
+was not scored. An Excel workbook gives a workbook with every sheet and
+cell kept and the two columns added to the sheet read, right of its
+header; or, when --out ends in .csv or .tsv, that sheet as delimited
+text (each cell as text, dates as ISO 8601) followed by the two columns.`,
 		Example: `  # Score a new extract with the frozen model
   riskaudit score --model frozen.yaml --data new.csv --out scored.csv
 
@@ -43,13 +46,17 @@ was not scored.`,
   riskaudit score --model frozen.yaml --data new.tsv --na-values=-99 --out scored.tsv
 
   # A Parquet extract gives a Parquet file
-  riskaudit score --model frozen.yaml --data new.parquet --out scored.parquet`,
+  riskaudit score --model frozen.yaml --data new.parquet --out scored.parquet
+
+  # The sheet "Extract" of a workbook, scored as a workbook and as CSV
+  riskaudit score --model frozen.yaml --data new.xlsx --sheet Extract --out scored.xlsx
+  riskaudit score --model frozen.yaml --data new.xlsx --sheet Extract --out scored.csv`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error { return runScore(cmd.Context(), o, s) },
 	}
 	f := c.Flags()
 	f.StringVar(&o.model, "model", "", "frozen model (YAML with an intercept and every coefficient)")
-	f.StringVar(&o.dataFile, "data", "", "cohort to score (CSV or TSV with a header row, Parquet, or Arrow IPC)")
+	f.StringVar(&o.dataFile, "data", "", "cohort to score (CSV or TSV with a header row, Parquet, Arrow IPC, or an Excel workbook)")
 	f.StringVar(&o.out, "out", "", "where to write the scored rows")
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
 	o.data.register(f)
@@ -57,7 +64,7 @@ was not scored.`,
 		_ = c.MarkFlagRequired(name)
 	}
 	_ = c.MarkFlagFilename("model", "yaml", "yml")
-	_ = c.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather")
+	_ = c.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
 	return c
 }
 
@@ -82,7 +89,12 @@ func runScore(ctx context.Context, o *scoreOptions, s *streams) error {
 	if err != nil {
 		return err
 	}
-	out, err := sc.File(o.dataFile, format, copt.DecimalComma)
+	var out []byte
+	if delim, text := workbookAsText(o.out, format); text {
+		out, err = sc.WorkbookText(delim)
+	} else {
+		out, err = sc.File(o.dataFile, format, copt.DecimalComma)
+	}
 	if err != nil {
 		return err
 	}
@@ -111,12 +123,30 @@ func checkScoredName(out, format string) error {
 		want = "parquet"
 	case ".arrow", ".feather", ".ipc":
 		want = "arrow"
+	case ".xlsx":
+		want = "xlsx"
 	default:
 		return nil
 	}
-	if want != format {
-		names := map[string]string{"csv": "delimited text", "parquet": "Parquet", "arrow": "Arrow IPC"}
+	if want != format && !(format == "xlsx" && want == "csv") {
+		names := map[string]string{"csv": "delimited text", "parquet": "Parquet", "arrow": "Arrow IPC", "xlsx": "an Excel workbook, or CSV"}
 		return usagef("--out %s: the scored file keeps the input's format (%s); give it a matching name", out, names[format])
 	}
 	return nil
+}
+
+// workbookAsText reports whether the scored copy of a workbook is to be
+// delimited text, as the output's extension says (.csv, .txt: commas;
+// .tsv: tabs), and its delimiter.
+func workbookAsText(out, format string) (byte, bool) {
+	if format != "xlsx" {
+		return 0, false
+	}
+	switch strings.ToLower(filepath.Ext(out)) {
+	case ".csv", ".txt":
+		return ',', true
+	case ".tsv":
+		return '\t', true
+	}
+	return 0, false
 }

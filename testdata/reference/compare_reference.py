@@ -10,8 +10,11 @@ on the BLAS build and the processor's vector instructions (seen: the 12th
 significant digit of a Wisconsin fit differed between two machines with
 the same Debian packages); every Go test compares at 1e-6 or coarser, so
 a tolerance of 1e-9 still catches any change of method or data. JSON
-files are compared as JSON, CSV files field by field, every other file
-byte for byte."""
+files are compared as JSON, CSV files field by field, Excel workbooks
+(.xlsx) by their content as openpyxl reads it (sheets in order, every
+cell's value, type and number format, formulas and their stored values,
+merged ranges; the zip's bytes differ with the zlib build), every other
+file byte for byte."""
 import csv
 import json
 import math
@@ -61,10 +64,32 @@ def compare(path_a, path_b, name, out):
         with open(path_a, newline="") as fa, open(path_b, newline="") as fb:
             ra, rb = list(csv.reader(fa)), list(csv.reader(fb))
         walk([[number(c) for c in r] for r in ra], [[number(c) for c in r] for r in rb], name, out)
+    elif name.endswith(".xlsx"):
+        walk(workbook(path_a), workbook(path_b), name, out)
     else:
         with open(path_a, "rb") as fa, open(path_b, "rb") as fb:
             if fa.read() != fb.read():
                 out.append(f"{name}: differs")
+
+
+def workbook(path):
+    """A workbook's content: per sheet, its merged ranges and every cell
+    with a value (formula and stored value, type, number format)."""
+    import openpyxl
+    content = []
+    formulas = openpyxl.load_workbook(path)
+    stored = openpyxl.load_workbook(path, data_only=True)
+    for ws, wv in zip(formulas.worksheets, stored.worksheets):
+        cells = []
+        for row, vrow in zip(ws.iter_rows(), wv.iter_rows()):
+            for c, v in zip(row, vrow):
+                if c.value is not None or v.value is not None:
+                    cells.append([c.coordinate, str(c.value) if not isinstance(c.value, (int, float)) else c.value,
+                                  str(v.value) if not isinstance(v.value, (int, float)) else v.value,
+                                  c.data_type, c.number_format])
+        content.append({"title": ws.title, "merged": sorted(str(m) for m in ws.merged_cells.ranges), "cells": cells})
+    content.append({"epoch": str(formulas.epoch)})
+    return content
 
 
 def files(top):

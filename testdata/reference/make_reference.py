@@ -12,8 +12,10 @@ testdata/reference/fits.json, from general-purpose libraries:
          optimize)        density, and the normal linear predictor of a
                           given event proportion and C-statistic
                           (samplesize.json)
+  openpyxl                the Excel workbooks of xlsx/ (make_workbooks.py)
 
-Run it with Debian's python3 (python3-statsmodels, python3-sklearn); .ci/run
+Run it with Debian's python3 (python3-statsmodels, python3-sklearn,
+python3-openpyxl); .ci/run
 regenerates every file and fails on any difference from the committed copy.
 Numbers are rounded to 12 significant digits so that the last bits of a
 BLAS build cannot make the files differ.
@@ -395,6 +397,9 @@ def main():
     write_casemix_reference(bc)
     write_samplesize_reference()
     write_subgroups_reference(bc)
+    # Excel workbooks written by openpyxl, and the values in them
+    from make_workbooks import write_workbooks
+    write_workbooks(bc)
 
 
 def delong_quadratic(y, p):

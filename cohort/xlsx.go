@@ -1,0 +1,507 @@
+package cohort
+
+import (
+	"archive/zip"
+	"bytes"
+	"context"
+	"encoding/xml"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"os"
+	"path"
+	"path/filepath"
+	"slices"
+	"strconv"
+	"strings"
+
+	"github.com/xuri/excelize/v2"
+)
+
+// Workbooks (Office Open XML, .xlsx) are read in two layers. The
+// excelize library opens the package: it unzips the parts within a size
+// limit, parses the workbook, its styles and number formats and its date
+// system. excelize's row iterator, though, gives each cell's value as
+// text without its type or style, and those decide what a cell means (a
+// date is a number with a date style; a formula without a cached value
+// looks like an empty cell), while excelize's cell-by-cell functions hold
+// the whole sheet in memory, about twenty times its XML. So the one
+// sheet read is streamed here, cell by cell, with encoding/xml, from the
+// part excelize unzipped, and only the requested columns are kept.
+
+// xlsxFormat names the format in messages.
+const xlsxFormat = "Excel workbook (.xlsx)"
+
+// workbookLimit is how many bytes the parts of a workbook of size bytes
+// may unpack to, together: 100 times the file, and at least 256 MiB.
+// Worksheet XML compresses 5 to 15 times; a zip bomb, far more.
+func workbookLimit(size int64) int64 { return max(256<<20, 100*size) }
+
+// isWorkbook reports whether the file at path is an Office Open XML
+// workbook by its entries (a [Content_Types].xml and a part under xl/),
+// or, when its zip directory cannot be read, by the name's extension
+// .xlsx, so that a damaged workbook is refused as one.
+func isWorkbook(path string) bool {
+	f, err := os.Open(path)
+	if err != nil {
+		return false
+	}
+	defer f.Close()
+	var b [4]byte
+	if _, err := io.ReadFull(f, b[:]); err != nil || string(b[:2]) != "PK" {
+		return false
+	}
+	st, err := f.Stat()
+	if err != nil {
+		return false
+	}
+	zr, err := zip.NewReader(f, st.Size())
+	if err != nil {
+		return strings.EqualFold(filepath.Ext(path), ".xlsx")
+	}
+	types, xl := false, false
+	for _, e := range zr.File {
+		types = types || e.Name == "[Content_Types].xml"
+		xl = xl || strings.HasPrefix(e.Name, "xl/")
+	}
+	return types && xl
+}
+
+// LoadXLSX reads the requested columns of one sheet of an Excel
+// workbook (.xlsx): the sheet named by Options.Sheet, or the first
+// worksheet in tab order. The header is the sheet's first row with a
+// value, and its columns run from its first to its last value; every
+// later row with a value in those columns is a data row (rows without
+// one are skipped, as empty lines of text are).
+//
+// Cells are read by their type. Numbers are numbers; text is read as a
+// CSV field is (spaces trimmed, the missing-value markers, numbers
+// written as text); a number with a date or time style is its ISO 8601
+// date ("2024-03-01"), date and time ("2024-03-01T08:30:00") or time
+// ("08:30:00") as text, in the workbook's date system; TRUE and FALSE
+// are 1 and 0 for a numeric request and "TRUE" and "FALSE" for a
+// categorical one; a formula is read by the value the workbook stored
+// for it when last calculated. An empty cell is a missing value. A date
+// in a numeric column, an error value such as #N/A (unless it is a
+// missing-value marker), a formula without a stored value and a value
+// outside the header's columns are errors. Every error names the cell
+// ("cell Sheet1!D17") with its column and value.
+//
+// A damaged workbook (its zip directory, a compressed part, a checksum
+// or its XML), one whose parts unpack to more than 100 times its size
+// (at least 256 MiB), a legacy .xls, a macro-enabled or binary workbook
+// and an OpenDocument spreadsheet are an *Error of kind ErrFormat, never
+// a panic.
+func LoadXLSX(path string, reqs []Request, opt Options) (*Frame, error) {
+	return loadXLSX(context.Background(), path, reqs, opt)
+}
+
+func loadXLSX(ctx context.Context, path string, reqs []Request, opt Options) (out *Frame, err error) {
+	defer recoverWorkbook(path, &err)
+	wb, err := openWorkbook(path)
+	if err != nil {
+		return nil, err
+	}
+	defer wb.close()
+	sh, err := wb.sheet(opt.Sheet)
+	if err != nil {
+		return nil, err
+	}
+	return wb.read(ctx, sh, reqs, opt)
+}
+
+// workbook is an open workbook: the excelize file, the shared strings,
+// the date system and the date kind of each style met so far.
+type workbook struct {
+	path     string
+	f        *excelize.File
+	rels     map[string]string // relationship id → part name, of the workbook part
+	sst      []string
+	date1904 bool
+	styles   map[int]dateKind
+}
+
+// sheetRef is a worksheet chosen to be read.
+type sheetRef struct{ name, part string }
+
+// openWorkbook checks the package and opens it.
+func openWorkbook(file string) (*workbook, error) {
+	st, err := os.Stat(file)
+	if err != nil {
+		return nil, &Error{File: file, Msg: "cannot read file: " + pathErrMsg(err), Kind: ErrRead, Err: err}
+	}
+	if st.IsDir() {
+		return nil, &Error{File: file, Msg: "cannot read file: is a directory", Kind: ErrRead}
+	}
+	if err := checkPackage(file, st.Size()); err != nil {
+		return nil, err
+	}
+	limit := workbookLimit(st.Size())
+	f, err := excelize.OpenFile(file, excelize.Options{UnzipSizeLimit: limit, UnzipXMLSizeLimit: limit})
+	if err != nil {
+		if f != nil {
+			f.Close()
+		}
+		if errors.Is(err, io.EOF) {
+			err = fmt.Errorf("a part it needs (the workbook, its relationships or styles) is empty or cut short (%w)", err)
+		}
+		return nil, workbookError(file, err)
+	}
+	wb := &workbook{path: file, f: f, styles: map[int]dateKind{}}
+	if props, err := f.GetWorkbookProps(); err == nil && props.Date1904 != nil {
+		wb.date1904 = *props.Date1904
+	}
+	wbPart := officeDocument(pkgPart(f, "_rels/.rels"))
+	wb.rels = relationships(pkgPart(f, relsOf(wbPart)), path.Dir(wbPart))
+	return wb, nil
+}
+
+func (wb *workbook) close() { wb.f.Close() }
+
+// checkPackage refuses what is not an .xlsx workbook, with what it is
+// and what is read instead, and a zip whose parts are damaged (every
+// part is unpacked once, which checks its compressed data and
+// checksum) or unpack to more than the limit. excelize does not check
+// a part's checksum, and reads a part cut short as a shorter part.
+func checkPackage(path string, size int64) error {
+	head := make([]byte, 512)
+	fh, err := os.Open(path)
+	if err != nil {
+		return &Error{File: path, Msg: "cannot read file: " + pathErrMsg(err), Kind: ErrRead, Err: err}
+	}
+	n, _ := io.ReadFull(fh, head)
+	fh.Close()
+	head = head[:n]
+	if !bytes.HasPrefix(head, []byte("PK")) {
+		what := "not an " + xlsxFormat
+		if kind, _ := signature(head); kind != "" {
+			what = "looks like " + kind + ", not an " + xlsxFormat
+		}
+		return &Error{File: path, Msg: what + notXLSXHint(head), Kind: ErrFormat}
+	}
+	zr, err := zip.OpenReader(path)
+	if err != nil {
+		return workbookError(path, err)
+	}
+	defer zr.Close()
+	names := make([]string, len(zr.File))
+	var total uint64
+	limit := uint64(workbookLimit(size))
+	for i, e := range zr.File {
+		names[i] = e.Name
+		total += e.UncompressedSize64
+		if total > limit {
+			return &Error{File: path, Msg: fmt.Sprintf("not read: its parts unpack to more than %d bytes, over 100 times the file's size (a damaged file or a zip bomb)", limit), Kind: ErrFormat}
+		}
+	}
+	if msg := otherPackage(zr, names); msg != "" {
+		return &Error{File: path, Msg: msg, Kind: ErrFormat}
+	}
+	for _, e := range zr.File {
+		r, err := e.Open()
+		if err == nil {
+			_, err = io.Copy(io.Discard, r)
+			r.Close()
+		}
+		if err != nil {
+			return workbookError(path, fmt.Errorf("part %s: %w", e.Name, err))
+		}
+	}
+	return nil
+}
+
+// otherPackage names a zip that is not an .xlsx workbook: an
+// OpenDocument spreadsheet, a macro-enabled or binary workbook, another
+// Office file or another archive.
+func otherPackage(zr *zip.ReadCloser, names []string) string {
+	const read = ", which is not read: save it as an Excel workbook (.xlsx) or export the sheet as CSV"
+	if len(names) > 0 && names[0] == "mimetype" {
+		return "is an OpenDocument file (such as .ods)" + read
+	}
+	if !slices.Contains(names, "[Content_Types].xml") {
+		return "is a zip archive, not an " + xlsxFormat + "; extract the file from it first"
+	}
+	if slices.Contains(names, "xl/workbook.bin") {
+		return "is an Excel binary workbook (.xlsb)" + read
+	}
+	if !slices.ContainsFunc(names, func(n string) bool { return strings.HasPrefix(n, "xl/") }) {
+		return "is an Office file that is not a workbook (a Word document or a presentation)"
+	}
+	if slices.ContainsFunc(names, func(n string) bool { return strings.HasSuffix(n, "vbaProject.bin") }) {
+		return "is a macro-enabled Excel workbook (.xlsm)" + read
+	}
+	for _, e := range zr.File {
+		if e.Name != "[Content_Types].xml" || e.UncompressedSize64 > 1<<20 {
+			continue
+		}
+		r, err := e.Open()
+		if err != nil {
+			return ""
+		}
+		var types struct {
+			Overrides []struct {
+				PartName    string `xml:"PartName,attr"`
+				ContentType string `xml:"ContentType,attr"`
+			} `xml:"Override"`
+		}
+		err = xml.NewDecoder(io.LimitReader(r, 1<<20)).Decode(&types)
+		r.Close()
+		if err != nil {
+			return ""
+		}
+		for _, o := range types.Overrides {
+			if strings.HasSuffix(o.ContentType, ".main+xml") && strings.Contains(o.ContentType, "macroEnabled") {
+				return "is a macro-enabled Excel workbook (.xlsm)" + read
+			}
+		}
+	}
+	return ""
+}
+
+// notXLSXHint says what to give instead of a file that is not a zip.
+func notXLSXHint(head []byte) string {
+	switch kind, _ := signature(head); {
+	case strings.Contains(kind, "password"):
+		return "; save it without a password"
+	case strings.Contains(kind, "Excel") || strings.Contains(kind, "legacy"):
+		return ", which is not read: save it as an Excel workbook (.xlsx) or export the sheet as CSV"
+	}
+	return "; give an .xlsx workbook, or a CSV, Parquet or Arrow file with --format to match"
+}
+
+// workbookError is a workbook that cannot be read as one: kind
+// ErrFormat, unless it already is an *Error.
+func workbookError(path string, err error) error {
+	if errors.As(err, new(*Error)) {
+		return err
+	}
+	var pe *fs.PathError
+	if errors.As(err, &pe) && !errors.Is(err, zip.ErrFormat) {
+		return &Error{File: path, Msg: "cannot read file: " + pe.Err.Error(), Kind: ErrRead, Err: err}
+	}
+	return &Error{File: path, Msg: "not a readable " + xlsxFormat + ": " + firstLine(err.Error()), Kind: ErrFormat, Err: err}
+}
+
+// recoverWorkbook turns a panic in excelize (or in this package's
+// reading of what it parsed) into an *Error of kind ErrFormat.
+func recoverWorkbook(path string, err *error) {
+	if p := recover(); p != nil {
+		*err = &Error{File: path, Msg: fmt.Sprintf("not a readable %s: the reader failed (%v)", xlsxFormat, firstLine(fmt.Sprint(p))), Kind: ErrFormat,
+			Err: fmt.Errorf("panic while reading a workbook: %v", p)}
+	}
+}
+
+func pathErrMsg(err error) string {
+	var pe *fs.PathError
+	if errors.As(err, &pe) {
+		return pe.Err.Error()
+	}
+	return err.Error()
+}
+
+// pkgPart returns the bytes of a part of the package excelize unzipped.
+func pkgPart(f *excelize.File, name string) []byte {
+	if v, ok := f.Pkg.Load(name); ok {
+		if b, ok := v.([]byte); ok {
+			return b
+		}
+	}
+	return nil
+}
+
+type xmlRelationships struct {
+	Rels []struct {
+		ID     string `xml:"Id,attr"`
+		Type   string `xml:"Type,attr"`
+		Target string `xml:"Target,attr"`
+	} `xml:"Relationship"`
+}
+
+// officeDocument is the workbook's part name, from the package's
+// relationships (xl/workbook.xml when they do not say).
+func officeDocument(rels []byte) string {
+	var r xmlRelationships
+	if xml.Unmarshal(rels, &r) == nil {
+		for _, x := range r.Rels {
+			if strings.HasSuffix(x.Type, "/officeDocument") {
+				return strings.TrimPrefix(path.Clean("/"+x.Target), "/")
+			}
+		}
+	}
+	return "xl/workbook.xml"
+}
+
+// relsOf is the relationships part of a part.
+func relsOf(p string) string { return path.Join(path.Dir(p), "_rels", path.Base(p)+".rels") }
+
+// relationships maps the ids of a part's relationships to the part
+// names they target, relative to dir.
+func relationships(b []byte, dir string) map[string]string {
+	m := map[string]string{}
+	var r xmlRelationships
+	if xml.Unmarshal(b, &r) != nil {
+		return m
+	}
+	for _, x := range r.Rels {
+		t := x.Target
+		if strings.HasPrefix(t, "/") {
+			t = path.Clean(t)[1:]
+		} else {
+			t = path.Join(dir, t)
+		}
+		m[x.ID] = t
+		if strings.HasSuffix(x.Type, "/sharedStrings") {
+			m["\x00sst"] = t
+		}
+	}
+	return m
+}
+
+// sheet chooses the worksheet to read: the one named (exactly, else
+// ignoring case, as Excel compares sheet names), or the first worksheet
+// in tab order.
+func (wb *workbook) sheet(name string) (sheetRef, error) {
+	list := wb.f.GetSheetList()
+	var ids []string
+	if wb.f.WorkBook != nil {
+		for _, s := range wb.f.WorkBook.Sheets.Sheet {
+			ids = append(ids, s.ID)
+		}
+	}
+	partOf := func(i int) string {
+		if i < len(ids) {
+			return wb.rels[ids[i]]
+		}
+		return ""
+	}
+	isWorksheet := func(p string) bool {
+		return p != "" && pkgPart(wb.f, p) != nil && !strings.Contains(p, "chartsheets/") && !strings.Contains(p, "dialogsheets/") && !strings.Contains(p, "macrosheets/")
+	}
+	if name == "" {
+		for i, s := range list {
+			if p := partOf(i); isWorksheet(p) {
+				return sheetRef{s, p}, nil
+			}
+		}
+		return sheetRef{}, &Error{File: wb.path, Msg: "the workbook has no worksheet", Kind: ErrEmpty}
+	}
+	at := slices.Index(list, name)
+	if at < 0 {
+		at = slices.IndexFunc(list, func(s string) bool { return strings.EqualFold(s, name) })
+	}
+	if at < 0 {
+		msg := "no sheet " + Quote(name)
+		if s := Closest(name, list); s != "" {
+			msg += " (did you mean " + Quote(s) + "?)"
+		}
+		return sheetRef{}, &Error{File: wb.path, Msg: msg + "; sheets present: " + QuoteList(list), Kind: ErrNoColumn}
+	}
+	p := partOf(at)
+	if !isWorksheet(p) {
+		return sheetRef{}, &Error{File: wb.path, Msg: "sheet " + Quote(list[at]) + " is not a worksheet (a chart or dialog sheet holds no cells)", Kind: ErrFormat}
+	}
+	return sheetRef{list[at], p}, nil
+}
+
+// sharedStrings reads the workbook's shared string table: the text of
+// each item, its runs joined, without phonetic guides.
+func (wb *workbook) sharedStrings() error {
+	name := wb.rels["\x00sst"]
+	if name == "" {
+		name = "xl/sharedStrings.xml"
+	}
+	b := pkgPart(wb.f, name)
+	if b == nil {
+		return nil
+	}
+	d := xml.NewDecoder(bytes.NewReader(b))
+	var text []byte
+	depth, inSI, inPh := 0, false, 0
+	for {
+		tok, err := d.Token()
+		if err == io.EOF {
+			if depth != 0 {
+				return workbookError(wb.path, fmt.Errorf("part %s ends inside an element", name))
+			}
+			return nil
+		}
+		if err != nil {
+			return workbookError(wb.path, fmt.Errorf("part %s: %w", name, err))
+		}
+		switch t := tok.(type) {
+		case xml.StartElement:
+			depth++
+			switch t.Name.Local {
+			case "si":
+				inSI, text = true, text[:0]
+			case "rPh":
+				inPh++
+			case "t":
+				if inSI && inPh == 0 {
+					s, err := elementText(d, nil)
+					if err != nil {
+						return workbookError(wb.path, fmt.Errorf("part %s: %w", name, err))
+					}
+					text = append(text, s...)
+					depth--
+				}
+			}
+		case xml.EndElement:
+			depth--
+			switch t.Name.Local {
+			case "si":
+				wb.sst = append(wb.sst, string(text))
+				inSI = false
+			case "rPh":
+				inPh--
+			}
+		}
+	}
+}
+
+// elementText reads the text of the element just opened, up to its
+// end, appended to buf; child elements are skipped.
+func elementText(d *xml.Decoder, buf []byte) ([]byte, error) {
+	for {
+		tok, err := d.Token()
+		if err != nil {
+			return buf, err
+		}
+		switch t := tok.(type) {
+		case xml.CharData:
+			buf = append(buf, t...)
+		case xml.StartElement:
+			if err := d.Skip(); err != nil {
+				return buf, err
+			}
+		case xml.EndElement:
+			return buf, nil
+		}
+	}
+}
+
+// quoteSheet writes a sheet name as a cell reference needs it: as it is
+// when it is letters, digits and underscores (not starting with a
+// digit), otherwise in single quotes with quotes doubled.
+func quoteSheet(name string) string {
+	plain := name != ""
+	for i, r := range name {
+		if !(r == '_' || r >= 'a' && r <= 'z' || r >= 'A' && r <= 'Z' || r >= '0' && r <= '9' && i > 0 || r > 127) {
+			plain = false
+		}
+	}
+	if plain {
+		return name
+	}
+	return "'" + strings.ReplaceAll(name, "'", "''") + "'"
+}
+
+// cellRef is the reference of a cell: Sheet1!D17.
+func cellRef(sheet string, col, row int) string {
+	c, err := excelize.ColumnNumberToName(col)
+	if err != nil {
+		c = "C" + strconv.Itoa(col)
+	}
+	return quoteSheet(sheet) + "!" + c + strconv.Itoa(row)
+}

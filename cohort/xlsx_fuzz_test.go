@@ -1,0 +1,106 @@
+package cohort
+
+import (
+	"archive/zip"
+	"bytes"
+	"io"
+	"os"
+	"path/filepath"
+	"testing"
+)
+
+// xlsxFuzzReqs are the columns of the seed workbook (small.xlsx, a copy
+// of testdata/reference/xlsx/types.xlsx) the workbook fuzz target asks
+// for: numbers, text, dates, booleans, a formula, a column of risks.
+var xlsxFuzzReqs = []Request{{Name: "age"}, {Name: "sex", Kind: Categorical}, {Name: "visit", Kind: Categorical},
+	{Name: "smoker"}, {Name: "double"}, {Name: "sbp", NaNIsError: true}}
+
+// withSheet returns the workbook wb with its first worksheet's XML
+// replaced by sheet, as a well-formed zip (so that fuzzing reaches the
+// cell reader instead of stopping at the zip's checksums).
+func withSheet(t *testing.T, wb, sheet []byte) []byte {
+	t.Helper()
+	zr, err := zip.NewReader(bytes.NewReader(wb), int64(len(wb)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var out bytes.Buffer
+	zw := zip.NewWriter(&out)
+	for _, e := range zr.File {
+		w, err := zw.Create(e.Name)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if e.Name == "xl/worksheets/sheet1.xml" {
+			w.Write(sheet)
+			continue
+		}
+		r, err := e.Open()
+		if err != nil {
+			t.Fatal(err)
+		}
+		io.Copy(w, r)
+		r.Close()
+	}
+	if err := zw.Close(); err != nil {
+		t.Fatal(err)
+	}
+	return out.Bytes()
+}
+
+// FuzzLoadXLSX: a damaged workbook never panics, and a frame read
+// without error is consistent. Each input is read twice: as the whole
+// file, and as the XML of the seed workbook's first sheet inside an
+// otherwise sound package.
+func FuzzLoadXLSX(f *testing.F) {
+	seed, err := os.ReadFile(filepath.Join(seedDir, "small.xlsx"))
+	if err != nil {
+		f.Fatal(err)
+	}
+	f.Add(seed)
+	zr, err := zip.NewReader(bytes.NewReader(seed), int64(len(seed)))
+	if err != nil {
+		f.Fatal(err)
+	}
+	for _, e := range zr.File {
+		if e.Name == "xl/worksheets/sheet1.xml" {
+			r, _ := e.Open()
+			b, _ := io.ReadAll(r)
+			r.Close()
+			f.Add(b)
+		}
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		dir := t.TempDir()
+		for name, b := range map[string][]byte{"file.xlsx": data, "sheet.xlsx": withSheet(t, seed, data)} {
+			path := filepath.Join(dir, name)
+			if err := os.WriteFile(path, b, 0o644); err != nil {
+				t.Fatal(err)
+			}
+			for _, reqs := range [][]Request{xlsxFuzzReqs, {{Name: "sex"}, {Name: "age", Kind: Categorical}}} {
+				fr, err := Load(path, reqs, Options{Format: "xlsx"})
+				if err == nil {
+					checkFrame(t, fr)
+				}
+			}
+		}
+	})
+}
+
+// BenchmarkLoadXLSX100k reads a 100,000-row workbook of four columns
+// (a number, text in the shared string table, a date, a 0/1 outcome)
+// written by excelize's stream writer.
+func BenchmarkLoadXLSX100k(b *testing.B) {
+	path := filepath.Join(b.TempDir(), "big.xlsx")
+	bigWorkbook(b, path, 100000)
+	st, _ := os.Stat(path)
+	reqs := []Request{{Name: "x"}, {Name: "g", Kind: Categorical}, {Name: "d", Kind: Categorical}, {Name: "y"}}
+	b.SetBytes(st.Size())
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		fr, err := Load(path, reqs, Options{})
+		if err != nil || fr.Rows != 100000 {
+			b.Fatal(err)
+		}
+	}
+}
