@@ -106,6 +106,9 @@ type Frame struct {
 	RowNumbered bool
 	// Columns are the requested columns, in request order.
 	Columns []*Column
+	// Query describes the database query the rows came from (see
+	// NewFrame), or nil for a file.
+	Query *QueryInfo
 
 	lines   []int32
 	data    []byte

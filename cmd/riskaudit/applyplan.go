@@ -64,6 +64,9 @@ func applyPlan(cmd *cobra.Command, o *auditOptions) error {
 		c.Criteria = pl.Criteria
 	}
 	c.Read.Rename = pl.Rename
+	if err := applyQueryPlan(cmd, &o.query, pl, map[string]*string{"cohort": &c.Cohort.Path, "dev": &c.Dev.Path}); err != nil {
+		return err
+	}
 	if o.out == "" {
 		return usagef("the plan %s names no out folder and --out is not given", o.planFile)
 	}

@@ -66,7 +66,7 @@ func (p *progress) show(line string) {
 // shell when it needs it.
 func (s *streams) commandLine() string {
 	parts := []string{"riskaudit"}
-	for _, a := range s.args {
+	for _, a := range redactArgs(s.args) {
 		parts = append(parts, shellQuote(a))
 	}
 	return strings.Join(parts, " ")
