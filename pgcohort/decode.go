@@ -368,7 +368,9 @@ func trimSpace(b []byte) []byte {
 	return b[lo:hi]
 }
 
-func isSpace(c byte) bool { return c == ' ' || c == '\t' || c == '\n' || c == '\r' || c == '\v' || c == '\f' }
+func isSpace(c byte) bool {
+	return c == ' ' || c == '\t' || c == '\n' || c == '\r' || c == '\v' || c == '\f'
+}
 
 // epoch is the origin of PostgreSQL's dates and timestamps.
 var epoch = time.Date(2000, 1, 1, 0, 0, 0, 0, time.UTC)

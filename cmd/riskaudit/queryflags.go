@@ -306,4 +306,3 @@ func applyQueryPlan(cmd *cobra.Command, f *queryFlags, pl *plan.Plan, paths map[
 	}
 	return nil
 }
-
