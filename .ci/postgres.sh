@@ -27,6 +27,10 @@ pg_start() {
   fi
   "${as[@]}" "$bin/initdb" -D "$PG_TMP/data" -U riskaudit -A trust -E UTF8 --no-locale >"$PG_TMP/initdb.log" 2>&1 ||
     { cat "$PG_TMP/initdb.log"; return 1; }
+  # The role auditor (testdata/postgres/load.sql) signs in with its
+  # password, so that the tests can read one from a password file; every
+  # other local connection is trusted.
+  printf 'local all auditor scram-sha-256\nlocal all all trust\n' >"$PG_TMP/data/pg_hba.conf"
   "${as[@]}" "$bin/pg_ctl" -D "$PG_TMP/data" -l "$PG_TMP/server.log" -w -t 60 \
     -o "-c listen_addresses='' -k $PG_TMP -p 5432 -c fsync=off -c synchronous_commit=off -c full_page_writes=off" start >/dev/null ||
     { cat "$PG_TMP/server.log"; return 1; }

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"math"
 	"strconv"
+	"strings"
 	"time"
 
 	"github.com/jackc/pgx/v5/pgconn"
@@ -444,7 +445,7 @@ func (d *reader) format(v []byte) ([]byte, bool) {
 			t := epoch.Add(time.Duration(us/1e6) * time.Second).Add(time.Duration(us%1e6) * time.Microsecond)
 			layout := "2006-01-02 15:04:05.999999"
 			if d.conv == convTimestamptz {
-				layout += "Z07"
+				layout += "-07"
 			}
 			b = t.AppendFormat(b, layout)
 		}
@@ -465,8 +466,10 @@ func (d *reader) format(v []byte) ([]byte, bool) {
 	return b, true
 }
 
-// appendPGFloat writes x as PostgreSQL prints a float (the shortest text
-// that reads back as the same value; NaN, Infinity, -Infinity).
+// appendPGFloat writes x as PostgreSQL (12 and later, extra_float_digits
+// 1) prints a float: the shortest digits that read back as the same
+// value, in positional notation when the decimal exponent is from −4 to
+// below 15 (6 for real), else as d.ddde±XX; NaN, Infinity, -Infinity.
 func appendPGFloat(b []byte, x float64, bits int) []byte {
 	switch {
 	case math.IsNaN(x):
@@ -475,8 +478,24 @@ func appendPGFloat(b []byte, x float64, bits int) []byte {
 		return append(b, "Infinity"...)
 	case math.IsInf(x, -1):
 		return append(b, "-Infinity"...)
+	case x == 0:
+		if math.Signbit(x) {
+			return append(b, "-0"...)
+		}
+		return append(b, '0')
 	}
-	return strconv.AppendFloat(b, x, 'g', -1, bits)
+	start := len(b)
+	b = strconv.AppendFloat(b, x, 'e', -1, bits)
+	i := strings.LastIndexByte(string(b[start:]), 'e')
+	exp, _ := strconv.Atoi(string(b[start+i+1:]))
+	limit := 15
+	if bits == 32 {
+		limit = 6
+	}
+	if exp < -4 || exp >= limit {
+		return b
+	}
+	return strconv.AppendFloat(b[:start], x, 'f', -1, bits)
 }
 
 // Signs of a numeric's binary form.
