@@ -192,6 +192,9 @@ func (q *Query) Name() string {
 	return q.server + " (query " + q.file + ")"
 }
 
+// Server is the connection as a URL without its password.
+func (q *Query) Server() string { return q.server }
+
 // File is the file the query was read from, or empty.
 func (q *Query) File() string { return q.file }
 
