@@ -168,6 +168,17 @@ func newReaders(name string, header []string, fields []pgconn.FieldDescription, 
 	return r, nil
 }
 
+// reserve makes room for n rows in every column.
+func (r *readers) reserve(n int) {
+	for _, d := range r.rd {
+		if d.col.Kind == cohort.Numeric {
+			d.col.Num = make([]float64, 0, n)
+		} else {
+			d.col.Codes = make([]int32, 0, n)
+		}
+	}
+}
+
 // columns returns the filled columns in request order.
 func (r *readers) columns(reqs []cohort.Request) []*cohort.Column {
 	out := make([]*cohort.Column, len(reqs))
