@@ -1,6 +1,7 @@
 package audit
 
 import (
+	"context"
 	"fmt"
 	"os"
 	"time"
@@ -11,22 +12,49 @@ import (
 	"github.com/riskaudit/riskaudit/validate"
 )
 
-// Input is one dataset of an audit: a file to read, or a frame already
-// read.
+// Input is one dataset of an audit: a file to read, a Source such as a
+// database query, or a frame already read.
 type Input struct {
-	// Path is the file to read. With Frame it is only the name the
-	// report and the provenance give the data.
+	// Path is the file to read. With Frame or Source it is only the name
+	// the report and the provenance give the data (empty with Source:
+	// the Source's Name).
 	Path string
+	// Source, when not nil, reads the data instead of a file (see
+	// Source); the frame it returns carries the rows' SHA-256.
+	Source Source
 	// Frame, when not nil, is used as it is instead of reading Path; it
 	// must hold every column the audit needs, of the kind it needs.
 	Frame *cohort.Frame
 	// SHA256 is the hex SHA-256 of the data. It is computed from Path
-	// when Frame is nil; with Frame it is the caller's (empty: unknown).
+	// when Frame and Source are nil, and is the SHA-256 of the rows as
+	// read with Source; with Frame it is the caller's (empty: unknown).
 	SHA256 string
 }
 
 // given reports whether the input names any data.
-func (in Input) given() bool { return in.Path != "" || in.Frame != nil }
+func (in Input) given() bool { return in.Path != "" || in.Frame != nil || in.Source != nil }
+
+// Source reads a dataset that is not a file: the rows of a database
+// query (package pgcohort's *Query is one). Package audit knows nothing
+// of databases, so that a program that reads only files does not link a
+// database driver.
+type Source interface {
+	// Name is how messages, the report and the provenance name the data.
+	Name() string
+	// Load reads the requested columns as opt says (the options that
+	// apply to it), stops when ctx is cancelled, and returns a frame
+	// whose Query describes what was read, with the rows' SHA-256.
+	Load(ctx context.Context, reqs []cohort.Request, opt cohort.Options) (*cohort.Frame, error)
+}
+
+// named is the input with the Source's name as its Path when it has
+// none.
+func (in Input) named() Input {
+	if in.Source != nil && in.Path == "" && in.Frame == nil {
+		in.Path = in.Source.Name()
+	}
+	return in
+}
 
 // Predicted names a column of risks that some model wrote into the
 // cohort, audited instead of a model.

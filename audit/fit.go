@@ -56,6 +56,7 @@ type FitResult struct {
 // the tool). A failed fit is the model package's error (such as a
 // *model.SeparationError).
 func Fit(ctx context.Context, cfg FitConfig) (*FitResult, error) {
+	cfg.Data = cfg.Data.named()
 	spec, err := specOf(cfg.Spec, cfg.Model)
 	if err != nil {
 		return nil, err

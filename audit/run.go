@@ -61,6 +61,7 @@ func Run(ctx context.Context, cfg Config) (*Result, error) {
 		return nil, err
 	}
 	cfg.Measures = cfg.Measures.WithDefaults()
+	cfg.Cohort, cfg.Dev = cfg.Cohort.named(), cfg.Dev.named()
 	r := run{cfg: &cfg, prog: progressOf(cfg.Progress), started: now(cfg.Clock)}
 	defer r.prog.Done()
 	return r.audit(ctx)
@@ -413,10 +414,10 @@ func (r *run) provenance() validate.Provenance {
 	if c.Model != "" && r.modelErr == nil {
 		pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "model", Path: c.Model, SHA256: r.modelHash})
 	}
-	pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "cohort", Path: r.cur.file, Sheet: r.cur.sheet, SHA256: r.cur.hash})
+	pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "cohort", Path: r.cur.file, Sheet: r.cur.sheet, SHA256: r.cur.hash, Query: r.cur.query})
 	read := []readFile{{"cohort", r.cur.renamed}}
 	if c.Cohort.given() && r.dev != nil {
-		pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "development", Path: r.dev.file, Sheet: r.dev.sheet, SHA256: r.dev.hash})
+		pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "development", Path: r.dev.file, Sheet: r.dev.sheet, SHA256: r.dev.hash, Query: r.dev.query})
 		read = append(read, readFile{"development", r.dev.renamed})
 	}
 	pv.Renames = renames(c.Read.Rename, c.RenameSources, read)

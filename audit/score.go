@@ -36,6 +36,8 @@ type scored struct {
 	renamed []cohort.RenamedColumn
 	// sheet is the worksheet read, for a workbook.
 	sheet string
+	// query describes the database query the data came from, or is nil.
+	query *cohort.QueryInfo
 }
 
 // requests are the columns an audit reads: the model's (with the
@@ -67,6 +69,13 @@ func (c *Config) requests(spec *model.Spec) ([]cohort.Request, error) {
 // frameOf reads an input's requested columns, or checks that a frame
 // already read holds them.
 func frameOf(ctx context.Context, in Input, reqs []cohort.Request, opt cohort.Options) (*cohort.Frame, error) {
+	if in.Frame == nil && in.Source != nil {
+		fr, err := in.Source.Load(ctx, reqs, opt)
+		if err == nil && fr.Query == nil {
+			err = fmt.Errorf("the source %s did not describe the rows it read", in.Path)
+		}
+		return fr, err
+	}
 	if in.Frame == nil {
 		return cohort.LoadContext(ctx, in.Path, reqs, opt)
 	}
@@ -86,6 +95,13 @@ func load(ctx context.Context, in Input, reqs []cohort.Request, opt cohort.Optio
 	if in.Frame != nil {
 		fr, err := frameOf(ctx, in, reqs, opt)
 		return fr, in.SHA256, err
+	}
+	if in.Source != nil {
+		fr, err := frameOf(ctx, in, reqs, opt)
+		if err != nil {
+			return nil, "", err
+		}
+		return fr, fr.Query.RowsSHA256, nil
 	}
 	type hashed struct {
 		sum string
@@ -133,7 +149,7 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input) (*scored
 	if err != nil {
 		return nil, err
 	}
-	sc := &scored{y: m.Y, file: in.Path, hash: hash, terms: m.Terms, renamed: fr.Renamed, sheet: fr.Sheet}
+	sc := &scored{y: m.Y, file: in.Path, hash: hash, terms: m.Terms, renamed: fr.Renamed, sheet: fr.Sheet, query: fr.Query}
 	if c.Update != "" || c.Dev.given() {
 		sc.frame = fr // the case-mix comparison or the update reads it again
 	}

@@ -117,6 +117,9 @@ type Frame struct {
 	// Sheet is the worksheet read, for a workbook; then Line gives the
 	// sheet's row numbers and CellRef locates a value.
 	Sheet string
+	// Query describes the database query the rows came from (see
+	// NewFrame), or nil for a file.
+	Query *QueryInfo
 
 	firstCol  int // the sheet column of the header's first name (1 is A)
 	headerRow int

@@ -138,6 +138,12 @@ type Plan struct {
 	Data              Data
 	// SampleSize is the sample_size section.
 	SampleSize samplesize.Request
+	// DB is the database connection of the queries (db), Queries the
+	// cohort's and the development data's queries by role ("cohort",
+	// "dev"), Params the values of their @name placeholders (params).
+	DB      string
+	Queries map[string]Query
+	Params  map[string]string
 
 	// Set records the keys the plan gave, by their plan name, and Lines
 	// the line of each top-level key.
@@ -187,7 +193,8 @@ func (pl *Plan) CheckFile(key string) error {
 
 var topKeys = []string{"name", "model", "predicted", "predicted_percent", "outcome", "event", "non_event", "dev", "cohort", "out", "history",
 	"audit_date", "rename", "subgroups", "min_subgroup_events", "subgroup_criteria", "criteria", "bootstrap", "ci_bootstrap",
-	"thresholds", "classify_at", "net_benefit_min_gain", "data", "sample_size", "purpose"}
+	"thresholds", "classify_at", "net_benefit_min_gain", "data", "sample_size", "purpose",
+	"db", "cohort_query", "cohort_query_file", "dev_query", "dev_query_file", "params"}
 
 // Load reads the plan at path.
 func Load(path string) (*Plan, error) {
@@ -227,6 +234,9 @@ func Parse(name string, data []byte) (*Plan, error) {
 		pl.Lines[key] = v.Line
 		return p.top(pl, key, v)
 	}); err != nil {
+		return nil, err
+	}
+	if err := p.checkQueries(pl, root); err != nil {
 		return nil, err
 	}
 	dir := filepath.Dir(name)
@@ -495,6 +505,8 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 		err = p.data(&pl.Data, v, pl.Set)
 	case "sample_size":
 		err = p.sampleSize(&pl.SampleSize, v, pl.Set)
+	case "db", "cohort_query", "cohort_query_file", "dev_query", "dev_query_file", "params":
+		err = p.query(pl, key, v)
 	case "criteria":
 		if v.Kind != yaml.SequenceNode {
 			return p.errf(ErrValue, v, "criteria must be a list")

@@ -99,6 +99,7 @@ func (r *renderer) provenance() {
 		t.add("audit plan", name, code(pl.SHA256))
 	}
 	t.write(r.w)
+	r.queries()
 	if fm := r.a.Model.FittedModel; fm != nil {
 		r.p("The model audited is the frozen model this audit fitted from the recipe %s, written beside this report as %s (SHA-256 %s).\n\n",
 			code(r.a.Model.Spec), code(fm.Path), code(fm.SHA256))

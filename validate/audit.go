@@ -5,6 +5,7 @@ import (
 	"math"
 	"strings"
 
+	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/model"
 )
 
@@ -16,13 +17,18 @@ const Caution = "This audit is statistical evidence about the model's performanc
 	"It is not a clinical decision: whether to keep, recalibrate, update or withdraw the model belongs to the " +
 	"organisation's clinical governance, under the local regulation that applies to clinical software."
 
-// InputFile is one input of the audit with its SHA-256.
+// InputFile is one input of the audit with its SHA-256. An input read
+// by a database query has the query's name as Path, the SHA-256 of its
+// rows (cohort.QueryInfo.RowsSHA256) and the query's description.
 type InputFile struct {
 	Role string `json:"role"`
 	Path string `json:"path"`
 	// Sheet is the worksheet read, when the file is an Excel workbook.
 	Sheet  string `json:"sheet,omitempty"`
 	SHA256 string `json:"sha256"`
+	// Query describes the database query the data were read by, or is
+	// nil for a file.
+	Query *cohort.QueryInfo `json:"query,omitempty"`
 }
 
 // FileText is the input as the report names it: the file, and the

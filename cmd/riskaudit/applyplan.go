@@ -81,6 +81,9 @@ func applyPlan(cmd *cobra.Command, o *auditOptions) error {
 	o.dateFromPlan = pl.Set["audit_date"] && !cmd.Flags().Changed("audit-date")
 	c.Plan = &validate.PlanFile{Path: o.planFile, Name: pl.Name, SHA256: pl.SHA256}
 	c.Purpose = pl.Purpose
+	if err := applyQueryPlan(cmd, &o.query, pl, map[string]*string{"cohort": &c.Cohort.Path, "dev": &c.Dev.Path}); err != nil {
+		return err
+	}
 	if o.out == "" {
 		return usagef("the plan %s names no out folder and --out is not given", o.planFile)
 	}

@@ -42,6 +42,8 @@ type auditOptions struct {
 	// subgroups are the values of --subgroups as typed (parseSubgroups
 	// reads them into cfg.Subgroups and cfg.Bands).
 	subgroups []string
+	// query reads the cohort or the development data from PostgreSQL.
+	query queryFlags
 }
 
 const auditLong = `Measure how a model performs on a cohort with observed outcomes and write
@@ -144,6 +146,11 @@ const auditExample = `  # Audit a frozen model on a fresh extract
   riskaudit audit --model frozen.yaml --cohort new.csv --subgroups sex,age:65,75,bmi:q4 \
     --subgroup-criteria fail --out audit
 
+  # The cohort from a PostgreSQL query, the period bound as parameters
+  # (the connection from PGHOST, PGUSER, … and the password file)
+  riskaudit audit --model frozen.yaml --cohort-query-file cohort.sql \
+    --param start=2026-11-01 --param end=2026-12-01 --out audit-2026-11
+
   # Decision-curve thresholds from 2% to 30% by 2%, classification at 10% and 25%
   riskaudit audit --model frozen.yaml --cohort new.csv --thresholds 0.02:0.30:0.02 --classify-at 0.1,0.25 --out audit`
 
@@ -202,8 +209,12 @@ func newAuditCmd(s *streams) *cobra.Command {
 	widthFlags(f, "sample-size check: ", &o.cfg.SampleSize.Targets)
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
 	o.data.register(f)
+	o.query.register(f, map[string]string{"cohort": "cohort", "dev": "dev"})
+	o.query.stderr = func(format string, args ...any) { fmt.Fprintf(s.err, format, args...) }
 	_ = c.MarkFlagFilename("model", "yaml", "yml")
 	_ = c.MarkFlagFilename("plan", "yaml", "yml")
+	_ = c.MarkFlagFilename("cohort-query-file", "sql")
+	_ = c.MarkFlagFilename("dev-query-file", "sql")
 	_ = c.MarkFlagFilename("cohort", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
 	_ = c.MarkFlagFilename("dev", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
 	_ = c.MarkFlagDirname("out")
@@ -237,7 +248,7 @@ func runAudit(ctx context.Context, o *auditOptions, s *streams) error {
 	if err != nil {
 		return err
 	}
-	wopt := audit.WriteOptions{History: o.history, AuditDate: o.auditDate, ReplaceRecord: o.replaceRecord, Inputs: []string{o.planFile}}
+	wopt := audit.WriteOptions{History: o.history, AuditDate: o.auditDate, ReplaceRecord: o.replaceRecord, Inputs: append([]string{o.planFile}, o.query.queryFiles()...)}
 	if err := audit.CheckWrite(o.out, &cfg, wopt); err != nil {
 		return err
 	}
@@ -328,11 +339,35 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 	if o.predicted != "" {
 		cfg.Predicted = &audit.Predicted{Column: o.predicted, Outcome: o.outcome, Event: o.event, NonEvent: o.nonEvent, Percent: o.predictedPercent}
 	}
+	if err := o.queryInputs(&cfg); err != nil {
+		return cfg, err
+	}
 	cfg.Tool, cfg.CommandLine, cfg.Clock = "riskaudit "+toolVersion(), s.commandLine(), now
 	if os.Getenv("GOGC") == "" {
 		cfg.GCPercent = 25
 	}
 	return cfg, nil
+}
+
+// queryInputs makes the cohort and the development data of the query
+// flags (and the plan's queries) into the Config's inputs.
+func (o *auditOptions) queryInputs(cfg *audit.Config) error {
+	if err := o.query.check(map[string]string{"cohort": cfg.Cohort.Path, "dev": cfg.Dev.Path}); err != nil {
+		return err
+	}
+	for _, in := range []struct {
+		role string
+		to   *audit.Input
+	}{{"cohort", &cfg.Cohort}, {"dev", &cfg.Dev}} {
+		if o.query.given(in.role) {
+			q, err := o.query.input(in.role)
+			if err != nil {
+				return err
+			}
+			*in.to = q
+		}
+	}
+	return o.query.checkUsed()
 }
 
 // checkValues refuses flag values out of range (where the library would

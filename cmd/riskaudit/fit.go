@@ -2,6 +2,7 @@ package main
 
 import (
 	"context"
+	"fmt"
 
 	"github.com/spf13/cobra"
 
@@ -18,6 +19,7 @@ type fitOptions struct {
 	firth    bool
 	hlGroups int
 	quiet    bool
+	query    queryFlags
 }
 
 const fitExample = `  # Fit a recipe on a development extract and freeze it
@@ -32,6 +34,10 @@ const fitExample = `  # Fit a recipe on a development extract and freeze it
   # Test whether the terms of recipe.yaml add to those of reduced.yaml
   # (likelihood-ratio test and AIC difference on the same rows)
   riskaudit fit --model recipe.yaml --reduced reduced.yaml --data dev.csv --out frozen.yaml
+
+  # The development data from a PostgreSQL query (the connection from
+  # PGHOST, PGUSER, … and the password file, or --db URL)
+  riskaudit fit --model recipe.yaml --data-query 'SELECT * FROM ovh_development ORDER BY patient_ref' --out frozen.yaml
 
   # A semicolon-separated extract with decimal commas, refusing missing values
   riskaudit fit --model recipe.yaml --data dev.csv --decimal-comma --missing fail --out frozen.yaml`
@@ -66,7 +72,9 @@ terms involved, and --firth fits Firth's penalised likelihood instead.`,
 	f.IntVar(&o.hlGroups, "hl-groups", 10, "number of Hosmer–Lemeshow risk groups")
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
 	o.data.register(f)
-	for _, name := range []string{"model", "data"} {
+	o.query.register(f, map[string]string{"data": "data"})
+	o.query.stderr = func(format string, args ...any) { fmt.Fprintf(s.err, format, args...) }
+	for _, name := range []string{"model"} {
 		_ = c.MarkFlagRequired(name)
 	}
 	_ = c.MarkFlagFilename("model", "yaml", "yml")
@@ -79,14 +87,29 @@ func runFit(ctx context.Context, o *fitOptions, s *streams) error {
 	if o.hlGroups < 3 {
 		return usagef("--hl-groups %d: give at least 3 groups", o.hlGroups)
 	}
-	if err := checkOutputs([]string{o.out, o.jsonOut}, o.dataFile, o.model, o.reduced); err != nil {
+	if err := o.query.check(map[string]string{"data": o.dataFile}); err != nil {
+		return err
+	}
+	if o.dataFile == "" && !o.query.given("data") {
+		return usagef("give the development data with --data (or a query: --data-query, --data-query-file)")
+	}
+	if err := checkOutputs([]string{o.out, o.jsonOut}, append([]string{o.dataFile, o.model, o.reduced}, o.query.queryFiles()...)...); err != nil {
 		return err
 	}
 	copt, fail, err := o.data.options()
 	if err != nil {
 		return err
 	}
-	r, err := audit.Fit(ctx, audit.FitConfig{Model: o.model, Reduced: o.reduced, Data: audit.Input{Path: o.dataFile},
+	data := audit.Input{Path: o.dataFile}
+	if o.query.given("data") {
+		if data, err = o.query.input("data"); err != nil {
+			return err
+		}
+		if err := o.query.checkUsed(); err != nil {
+			return err
+		}
+	}
+	r, err := audit.Fit(ctx, audit.FitConfig{Model: o.model, Reduced: o.reduced, Data: data,
 		Read: copt, FailOnMissing: fail, Firth: o.firth, HLGroups: o.hlGroups, Tool: "riskaudit " + toolVersion(), Clock: now})
 	if err != nil {
 		return err

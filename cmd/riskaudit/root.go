@@ -16,6 +16,7 @@ import (
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/model"
+	"github.com/riskaudit/riskaudit/pgcohort"
 	"github.com/riskaudit/riskaudit/plan"
 )
 
@@ -195,7 +196,7 @@ func exitCode(err error) int {
 		return exitBadInput
 	case is(new(*model.SeparationError), new(*model.FitError)):
 		return exitCannotFit
-	case is(new(*cohort.Error), new(*model.SpecError)):
+	case is(new(*cohort.Error), new(*model.SpecError), new(*pgcohort.Error)):
 		return exitBadInput
 	case strings.HasPrefix(msg, "unknown command"), strings.HasPrefix(msg, "unknown flag"),
 		strings.Contains(msg, "required flag"), strings.HasPrefix(msg, "accepts "):
