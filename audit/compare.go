@@ -129,7 +129,7 @@ func Compare(ctx context.Context, cfg CompareConfig) (*CompareResult, error) {
 	cmp.ModelA, cmp.ModelB, cmp.Cohort, cmp.CohortSHA, cmp.Rows = nameOf(0), nameOf(1), cfg.Cohort.Path, hash, fr.Rows
 	cmp.Tool, cmp.Command = cfg.Tool, cfg.CommandLine
 	pv := validate.Provenance{Tool: cfg.Tool, CommandLine: cfg.CommandLine, StartedAt: made.Format(timeFormat),
-		Inputs: append(inputs, validate.InputFile{Role: "cohort", Path: cfg.Cohort.Path, Sheet: fr.Sheet, SHA256: hash})}
+		Inputs: append(inputs, validate.InputFile{Role: "cohort", Path: cfg.Cohort.Path, Sheet: fr.Sheet, SHA256: hash, Query: fr.Query})}
 	pv.AuditDate, pv.AuditDateSource = auditDate(cfg.AuditDate, cfg.AuditDateSource, made)
 	pv.Renames = renames(cfg.Read.Rename, cfg.RenameSources, []readFile{{"cohort", fr.Renamed}})
 	cmp.Provenance = pv

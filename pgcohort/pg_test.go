@@ -19,6 +19,7 @@ import (
 	"github.com/riskaudit/riskaudit/internal/fixture"
 	"github.com/riskaudit/riskaudit/internal/jsonout"
 	"github.com/riskaudit/riskaudit/pgcohort"
+	"github.com/riskaudit/riskaudit/validate"
 )
 
 // pgURL is the test server's connection, which .ci/run sets after
@@ -69,7 +70,11 @@ func auditJSON(t *testing.T, res *audit.Result) map[string]any {
 		delete(dev, "file")
 	}
 	if up, ok := m["update"].(map[string]any); ok {
+		// The file and hash of the model updated: the two models were
+		// fitted to the same rows, but their files record different
+		// sources (a query's rows, a CSV file).
 		delete(up, "model_file")
+		delete(up, "parent_model")
 	}
 	return m
 }
@@ -317,4 +322,80 @@ func firstDifference(path string, a, b any) string {
 		return path + ": " + strconv.Quote(fmt.Sprint(a)) + " against " + strconv.Quote(fmt.Sprint(b))
 	}
 	return ""
+}
+
+// A comparison on a query equals the comparison on the CSV file of the
+// same rows (the paired DeLong test, the Brier difference with its
+// bootstrap interval, the decision curves and both models'
+// calibration), and its provenance describes the query.
+func TestCompareOfQueryEqualsCompareOfCSV(t *testing.T) {
+	pgURL(t)
+	d := fixture.WriteDemo(t, t.TempDir())
+	ctx := context.Background()
+	// Model b: the recipe refitted on the later extract itself.
+	r, err := audit.Fit(ctx, audit.FitConfig{Model: d.Recipe, Data: audit.Input{Path: d.Later}, Tool: "riskaudit test"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	y, err := r.Frozen.MarshalYAML()
+	if err != nil {
+		t.Fatal(err)
+	}
+	refit := filepath.Join(t.TempDir(), "refit.yaml")
+	if err := os.WriteFile(refit, y, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	run := func(in audit.Input) *audit.CompareResult {
+		res, err := audit.Compare(ctx, audit.CompareConfig{Models: []string{d.Frozen, refit}, Cohort: in,
+			Measures: validate.CompareOptions{Replicates: 200, Seed: 5}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return res
+	}
+	rq, rc := run(audit.Input{Source: newQuery(t, laterSQL)}), run(audit.Input{Path: d.Later})
+	comparable := func(res *audit.CompareResult) map[string]any {
+		b, err := jsonout.Marshal(res.Comparison)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var m map[string]any
+		if err := json.Unmarshal(b, &m); err != nil {
+			t.Fatal(err)
+		}
+		for _, k := range []string{"provenance", "cohort", "cohort_sha256", "command_line"} {
+			delete(m, k)
+		}
+		return m
+	}
+	if path := firstDifference("", comparable(rq), comparable(rc)); path != "" {
+		t.Fatalf("the comparison on the query differs from that on the CSV file at %s", path)
+	}
+	var q *cohort.QueryInfo
+	for _, in := range rq.Comparison.Provenance.Inputs {
+		if in.Role == "cohort" {
+			q = in.Query
+		}
+	}
+	if q == nil || q.SQL != laterSQL || q.Rows != 3000 || q.RowsSHA256 != rq.Comparison.CohortSHA {
+		t.Errorf("the comparison's provenance does not describe the query: %+v", q)
+	}
+}
+
+// The sample size planned from a model's linear predictor on a query's
+// rows equals that planned from the CSV file of the same rows.
+func TestSampleSizeOfQueryEqualsSampleSizeOfCSV(t *testing.T) {
+	pgURL(t)
+	d := fixture.WriteDemo(t, t.TempDir())
+	plan := func(in audit.Input) *audit.SizePlan {
+		p, err := audit.PlanSize(context.Background(), audit.SizeConfig{Model: d.Frozen, Data: in, CalSlope: 1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return p
+	}
+	pq, pc := plan(audit.Input{Source: newQuery(t, laterSQL)}), plan(audit.Input{Path: d.Later})
+	if !reflect.DeepEqual(pq.Result, pc.Result) {
+		t.Errorf("sample size from the query %+v, from the CSV file %+v", pq.Result, pc.Result)
+	}
 }

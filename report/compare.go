@@ -83,6 +83,7 @@ func writeCompareProvenance(w *errWriter, pv validate.Provenance) {
 		t.add(in.Role, code(in.FileText()), code(in.SHA256))
 	}
 	t.write(w)
+	writeQueries(w, pv.Inputs)
 	writeRenames(w, pv.Renames)
 	fmt.Fprintf(w, "%s Tool: %s. Started: %s. Command line:\n\n", auditDateLine(pv), Escape(pv.Tool), pv.StartedAt)
 	writeCommandLine(w, pv.CommandLine)

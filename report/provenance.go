@@ -99,7 +99,7 @@ func (r *renderer) provenance() {
 		t.add("audit plan", name, code(pl.SHA256))
 	}
 	t.write(r.w)
-	r.queries()
+	writeQueries(r.w, pv.Inputs)
 	if fm := r.a.Model.FittedModel; fm != nil {
 		r.p("The model audited is the frozen model this audit fitted from the recipe %s, written beside this report as %s (SHA-256 %s).\n\n",
 			code(r.a.Model.Spec), code(fm.Path), code(fm.SHA256))
@@ -137,4 +137,36 @@ func writeCommandLine(w *errWriter, cl string) {
 		fence += "`"
 	}
 	fmt.Fprintf(w, "%s\n%s\n%s\n\n", fence, cl, fence)
+}
+
+// writeQueries describes each input read by a database query: where, as
+// whom, the SQL and its parameters, and the rows' SHA-256 with how to
+// check it.
+func writeQueries(w *errWriter, inputs []validate.InputFile) {
+	p := func(format string, args ...any) { fmt.Fprintf(w, format, args...) }
+	for _, in := range inputs {
+		q := in.Query
+		if q == nil {
+			continue
+		}
+		p("The %s was read from a database: %s %s, database %s, as user %s, in a read-only transaction; %d rows, SHA-256 %s of %s.",
+			Escape(in.Role), Escape(q.System), code(q.ServerVersion), code(q.Database), code(q.User), q.Rows, code(q.RowsSHA256), Escape(q.Serialisation))
+		p(" Server %s.", code(q.Server))
+		if len(q.Parameters) > 0 {
+			var ps []string
+			for _, p := range q.Parameters {
+				ps = append(ps, code("@"+p.Name)+" = "+code(p.Value))
+			}
+			p(" Parameters (bound, not part of the SQL): %s.", strings.Join(ps, ", "))
+		}
+		from := "as given"
+		if q.File != "" {
+			from = "from " + code(q.File)
+		}
+		fence := "```"
+		for strings.Contains(q.SQL, fence) {
+			fence += "`"
+		}
+		p(" The query, %s:\n\n%ssql\n%s\n%s\n\n", from, fence, strings.TrimRight(q.SQL, "\n"), fence)
+	}
 }

@@ -694,37 +694,6 @@ func (r *renderer) methods() {
 	r.p("\n")
 }
 
-// queries describes each input read by a database query: where, as
-// whom, the SQL and its parameters, and the rows' SHA-256 with how to
-// check it.
-func (r *renderer) queries() {
-	for _, in := range r.a.Provenance.Inputs {
-		q := in.Query
-		if q == nil {
-			continue
-		}
-		r.p("The %s was read from a database: %s %s, database %s, as user %s, in a read-only transaction; %d rows, SHA-256 %s of %s.",
-			Escape(in.Role), Escape(q.System), code(q.ServerVersion), code(q.Database), code(q.User), q.Rows, code(q.RowsSHA256), Escape(q.Serialisation))
-		r.p(" Server %s.", code(q.Server))
-		if len(q.Parameters) > 0 {
-			var ps []string
-			for _, p := range q.Parameters {
-				ps = append(ps, code("@"+p.Name)+" = "+code(p.Value))
-			}
-			r.p(" Parameters (bound, not part of the SQL): %s.", strings.Join(ps, ", "))
-		}
-		from := "as given"
-		if q.File != "" {
-			from = "from " + code(q.File)
-		}
-		fence := "```"
-		for strings.Contains(q.SQL, fence) {
-			fence += "`"
-		}
-		r.p(" The query, %s:\n\n%ssql\n%s\n%s\n\n", from, fence, strings.TrimRight(q.SQL, "\n"), fence)
-	}
-}
-
 func (r *renderer) caution() {
 	r.p("## Caution\n\n%s\n", cautionText)
 }

@@ -24,12 +24,14 @@ type compareOptions struct {
 	seed             uint64
 	quiet            bool
 	auditDate        string
+	// query reads the cohort from PostgreSQL.
+	query queryFlags
 }
 
 func newCompareCmd(s *streams) *cobra.Command {
 	o := &compareOptions{}
 	c := &cobra.Command{
-		Use:   "compare --model A.yaml (--model B.yaml | --predicted COLUMN) --cohort FILE --out DIR",
+		Use:   "compare --model A.yaml (--model B.yaml | --predicted COLUMN) (--cohort FILE | --cohort-query SQL) --out DIR",
 		Short: "Compare two models on one cohort: paired DeLong test, Brier difference, decision curves",
 		Long: `Compare two frozen models (or a frozen model and a column of predicted
 risks) on the same patients of one cohort: the rows complete for both.
@@ -47,7 +49,8 @@ Writes DIR/compare.md, DIR/compare.json and DIR/decision_curves.svg with:
   of both models and the cohort.`,
 		Example: `  riskaudit compare --model current.yaml --model proposed.yaml --cohort new.csv --out compare
   riskaudit compare --model current.yaml --predicted vendor_risk --cohort new.csv --out compare
-  riskaudit compare --model current.yaml --model proposed.yaml --cohort new.csv --ci-bootstrap 2000 --seed 7 --out compare`,
+  riskaudit compare --model current.yaml --model proposed.yaml --cohort new.csv --ci-bootstrap 2000 --seed 7 --out compare
+  riskaudit compare --model current.yaml --model proposed.yaml --cohort-query-file cohort.sql --param start=2026-11-01 --out compare`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			if cmd.Flags().Changed("bootstrap") {
@@ -70,7 +73,9 @@ Writes DIR/compare.md, DIR/compare.json and DIR/decision_curves.svg with:
 	f.StringVar(&o.auditDate, "audit-date", "", "the date the cohort describes, YYYY-MM-DD, for the provenance (default: today, UTC)")
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
 	o.data.register(f)
-	_ = c.MarkFlagRequired("cohort")
+	o.query.register(f, map[string]string{"cohort": "cohort"})
+	o.query.stderr = func(format string, args ...any) { fmt.Fprintf(s.err, format, args...) }
+	_ = c.MarkFlagFilename("cohort-query-file", "sql")
 	_ = c.MarkFlagRequired("out")
 	return c
 }
@@ -83,15 +88,30 @@ func runCompare(ctx context.Context, o *compareOptions, s *streams) error {
 	if err != nil {
 		return err
 	}
+	if err := o.query.check(map[string]string{"cohort": o.cohortFile}); err != nil {
+		return err
+	}
+	if o.cohortFile == "" && !o.query.given("cohort") {
+		return usagef("give the cohort with --cohort (or a query: --cohort-query, --cohort-query-file)")
+	}
 	if err := audit.CheckOutputDir(o.out); err != nil {
 		return err
+	}
+	cohortIn := audit.Input{Path: o.cohortFile}
+	if o.query.given("cohort") {
+		if cohortIn, err = o.query.input("cohort"); err != nil {
+			return err
+		}
+		if err := o.query.checkUsed(); err != nil {
+			return err
+		}
 	}
 	copt, fail, err := o.data.options()
 	if err != nil {
 		return err
 	}
 	cfg := audit.CompareConfig{
-		Models: o.models, Predicted: o.predicted, PredictedPercent: o.predictedPercent, Cohort: audit.Input{Path: o.cohortFile}, Read: copt, FailOnMissing: fail,
+		Models: o.models, Predicted: o.predicted, PredictedPercent: o.predictedPercent, Cohort: cohortIn, Read: copt, FailOnMissing: fail,
 		Measures: validate.CompareOptions{Thresholds: ts, Replicates: o.ciBootstrap, Seed: o.seed},
 		Tool:     "riskaudit " + toolVersion(), CommandLine: s.commandLine(), Clock: now, AuditDate: o.auditDate,
 	}
@@ -112,7 +132,7 @@ func runCompare(ctx context.Context, o *compareOptions, s *streams) error {
 	if !o.quiet {
 		c := res.Comparison
 		d, b := c.DeLong, c.Brier
-		fmt.Fprintf(s.out, "Compared %s (a) with %s (b) on %d patients of %s\n", c.ModelA, c.ModelB, c.Used, o.cohortFile)
+		fmt.Fprintf(s.out, "Compared %s (a) with %s (b) on %d patients of %s\n", c.ModelA, c.ModelB, c.Used, cohortIn.Path)
 		fmt.Fprintf(s.out, "  AUC a %.3f, b %.3f; difference %.4f (95%% CI %.4f to %.4f), z %.2f, p %s\n", d.AUCA, d.AUCB, d.Difference, d.DifferenceCI[0], d.DifferenceCI[1], d.Z, report.FormatP(d.P))
 		fmt.Fprintf(s.out, "  Brier a %.4f, b %.4f; difference %.4f (95%% CI %.4f to %.4f)\n", b.A, b.B, b.Difference, b.DifferenceCI[0], b.DifferenceCI[1])
 		fmt.Fprintf(s.out, "Wrote %s\n", filepath.Join(o.out, "compare.md"))

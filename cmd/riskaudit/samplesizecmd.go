@@ -19,6 +19,8 @@ type sizeOptions struct {
 	widths                          samplesize.Targets
 	model, dataFile, jsonOut        string
 	data                            dataFlags
+	// query reads --data from PostgreSQL.
+	query queryFlags
 }
 
 func newSampleSizeCmd(s *streams) *cobra.Command {
@@ -48,7 +50,8 @@ within 1e-12 relative above a whole number counting as that number.`,
 		Example: `  riskaudit samplesize --event-rate 0.1 --c-statistic 0.75 --threshold 0.1
   riskaudit samplesize --lp-mean -2.5 --lp-sd 1.2 --slope-width 0.3 --json size.json
   riskaudit samplesize --lp-mean -3 --lp-sd 1 --calibration-intercept 0.3 --calibration-slope 0.8
-  riskaudit samplesize --model frozen.yaml --data pilot-extract.csv --calibration-intercept 0.2`,
+  riskaudit samplesize --model frozen.yaml --data pilot-extract.csv --calibration-intercept 0.2
+  riskaudit samplesize --model frozen.yaml --data-query 'SELECT * FROM pilot_extract' --db postgresql://audit@warehouse/clinic`,
 		Args: func(cmd *cobra.Command, args []string) error {
 			return pointToHelp(cmd, cobra.NoArgs(cmd, args))
 		},
@@ -62,13 +65,16 @@ within 1e-12 relative above a whole number counting as that number.`,
 	f.Float64Var(&o.mu, "lp-mean", 0, "mean of the linear predictor")
 	f.Float64Var(&o.sd, "lp-sd", 0, "standard deviation of the linear predictor")
 	f.StringVar(&o.model, "model", "", "a frozen model whose linear predictor --data gives")
-	f.StringVar(&o.dataFile, "data", "", "data to score with --model (outcomes not needed): CSV or TSV with a header row, Parquet, or Arrow IPC")
+	f.StringVar(&o.dataFile, "data", "", "data to score with --model (outcomes not needed): CSV or TSV with a header row, Parquet, Arrow IPC, or an Excel workbook")
 	f.Float64Var(&o.calA, "calibration-intercept", 0, "anticipated calibration intercept a (true risks expit(a + b·LP))")
 	f.Float64Var(&o.calB, "calibration-slope", 1, "anticipated calibration slope b")
 	f.Float64Var(&o.thr, "threshold", 0, "risk threshold for the net-benefit criterion (0: none)")
 	widthFlags(f, "", &o.widths)
 	f.StringVar(&o.jsonOut, "json", "", "also write the result as JSON")
 	o.data.register(f)
+	o.query.register(f, map[string]string{"data": "data"})
+	o.query.stderr = func(format string, args ...any) { fmt.Fprintf(s.err, format, args...) }
+	_ = cmd.MarkFlagFilename("data-query-file", "sql")
 	_ = cmd.MarkFlagFilename("model", "yaml", "yml")
 	_ = cmd.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
 	return cmd
@@ -111,11 +117,15 @@ func checkWidths(t samplesize.Targets) error {
 
 func runSampleSize(cmd *cobra.Command, o *sizeOptions, s *streams) error {
 	fl := cmd.Flags()
-	byLP, byRate, byData := fl.Changed("lp-mean") || fl.Changed("lp-sd"), fl.Changed("event-rate"), o.model != "" || o.dataFile != ""
+	if err := o.query.check(map[string]string{"data": o.dataFile}); err != nil {
+		return err
+	}
+	hasData := o.dataFile != "" || o.query.given("data")
+	byLP, byRate, byData := fl.Changed("lp-mean") || fl.Changed("lp-sd"), fl.Changed("event-rate"), o.model != "" || hasData
 	switch {
 	case fl.Changed("lp-mean") != fl.Changed("lp-sd"):
 		return usagef("give --lp-mean and --lp-sd together")
-	case (o.model == "") != (o.dataFile == ""):
+	case (o.model == "") == hasData:
 		return usagef("give --model and --data together")
 	case byLP && byRate || byLP && byData || byRate && byData:
 		return usagef("give the linear predictor one way: --lp-mean and --lp-sd, --event-rate and --c-statistic, or --model and --data")
@@ -141,7 +151,16 @@ func runSampleSize(cmd *cobra.Command, o *sizeOptions, s *streams) error {
 	if err != nil {
 		return err
 	}
-	cfg := audit.SizeConfig{Model: o.model, Data: audit.Input{Path: o.dataFile}, Read: copt, FailOnMissing: fail,
+	dataIn := audit.Input{Path: o.dataFile}
+	if o.query.given("data") {
+		if dataIn, err = o.query.input("data"); err != nil {
+			return err
+		}
+		if err := o.query.checkUsed(); err != nil {
+			return err
+		}
+	}
+	cfg := audit.SizeConfig{Model: o.model, Data: dataIn, Read: copt, FailOnMissing: fail,
 		CalIntercept: o.calA, CalSlope: o.calB, Threshold: o.thr, Targets: o.widths,
 		Tool: "riskaudit " + toolVersion(), CommandLine: s.commandLine()}
 	switch {
