@@ -22,6 +22,8 @@ func WriteComparison(w io.Writer, c *validate.Comparison, figure string) error {
 	}
 	verdict := fmt.Sprintf("The AUCs differ by %s (a − b; 95%% CI %s; z = %s, p %s): ", f4(d.Difference), Interval(d.DifferenceCI, "%.4f", ""), num(d.Z, "%.2f"), FormatP(d.P))
 	switch {
+	case d.Difference == 0 && d.DifferenceSE == 0:
+		verdict += "the two models order every pair of patients alike (the difference and its SE are 0), so there is nothing to test."
 	case !finite(d.DifferenceCI[0]) || !finite(d.DifferenceCI[1]):
 		verdict += "the difference's interval is not estimable, so whether either discriminates better cannot be judged."
 	case d.DifferenceCI[0] > 0 || d.DifferenceCI[1] < 0:

@@ -541,7 +541,7 @@ func (r *renderer) caseMix() {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			return "not defined"
 		}
-		return fmt.Sprintf("%+.2f", v)
+		return signed(v, "%+.2f")
 	}
 	t := table{head: []string{"predictor", "development", "this cohort", "standardised difference", "missing (dev / new)"}}
 	var notes []string
@@ -766,7 +766,17 @@ func num(v float64, format string) string {
 	case math.IsInf(v, -1):
 		return "−∞"
 	}
-	return fmt.Sprintf(format, v)
+	return noNegativeZero(fmt.Sprintf(format, v))
+}
+
+// noNegativeZero drops the minus sign of a number that prints as zero
+// ("-0.0000" is "0.0000"): a value that rounds to zero has no sign worth
+// reading.
+func noNegativeZero(s string) string {
+	if strings.HasPrefix(s, "-") && strings.Trim(s[1:], "0.") == "" {
+		return s[1:]
+	}
+	return s
 }
 
 // pct writes a share as a percentage with one decimal.
@@ -774,7 +784,7 @@ func pct(v float64) string {
 	if !finite(v) {
 		return num(v, "")
 	}
-	return fmt.Sprintf("%.1f%%", 100*v)
+	return noNegativeZero(fmt.Sprintf("%.1f", 100*v)) + "%"
 }
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
@@ -789,7 +799,7 @@ func interval(ci [2]float64, format, sep, why string) string {
 		}
 		return NotEstimable + " (" + why + ")"
 	}
-	return fmt.Sprintf(format+sep+format, ci[0], ci[1])
+	return noNegativeZero(fmt.Sprintf(format, ci[0])) + sep + noNegativeZero(fmt.Sprintf(format, ci[1]))
 }
 
 // Interval writes a 95% interval as "a to b" with format, or "not

@@ -2,6 +2,7 @@ package report
 
 import (
 	"bytes"
+	"math"
 	"math/rand/v2"
 	"strings"
 	"testing"
@@ -142,6 +143,26 @@ func TestSampleSizeNotComputable(t *testing.T) {
 			if strings.Contains(sec, w) {
 				t.Errorf("%s: the section says %q:\n%s", c.name, w, sec)
 			}
+		}
+	}
+}
+
+// TestNoNegativeZero: a value that rounds to zero prints without a
+// minus sign in every number and interval of the report (a fact of
+// reading, not of arithmetic: "-0.0000" reads as a negative value).
+func TestNoNegativeZero(t *testing.T) {
+	for _, tc := range []struct{ got, want string }{
+		{num(-0.00001, "%.4f"), "0.0000"},
+		{num(-0.00006, "%.4f"), "-0.0001"},
+		{num(math.Copysign(0, -1), "%.3f"), "0.000"},
+		{Interval([2]float64{-0.0004, -0.0001}, "%.3f", ""), "0.000 to 0.000"},
+		{Interval([2]float64{-0.0006, 0.2}, "%.3f", ""), "-0.001 to 0.200"},
+		{signed(-0.00001, "%+.2f"), "0.00"},
+		{signed(0.5, "%+.2f"), "+0.50"},
+		{pct(-0.0001), "0.0%"},
+	} {
+		if tc.got != tc.want {
+			t.Errorf("got %q, want %q", tc.got, tc.want)
 		}
 	}
 }

@@ -133,8 +133,10 @@ func runCompare(ctx context.Context, o *compareOptions, s *streams) error {
 		c := res.Comparison
 		d, b := c.DeLong, c.Brier
 		fmt.Fprintf(s.out, "Compared %s (a) with %s (b) on %d patients of %s\n", c.ModelA, c.ModelB, c.Used, cohortIn.Path)
-		fmt.Fprintf(s.out, "  AUC a %.3f, b %.3f; difference %.4f (95%% CI %.4f to %.4f), z %.2f, p %s\n", d.AUCA, d.AUCB, d.Difference, d.DifferenceCI[0], d.DifferenceCI[1], d.Z, report.FormatP(d.P))
-		fmt.Fprintf(s.out, "  Brier a %.4f, b %.4f; difference %.4f (95%% CI %.4f to %.4f)\n", b.A, b.B, b.Difference, b.DifferenceCI[0], b.DifferenceCI[1])
+		fmt.Fprintf(s.out, "  AUC a %s, b %s; difference %s (95%% CI %s), z %s, p %s\n", report.Value(d.AUCA, "%.3f"), report.Value(d.AUCB, "%.3f"),
+			report.Value(d.Difference, "%.4f"), report.Interval(d.DifferenceCI, "%.4f", ""), report.Value(d.Z, "%.2f"), report.FormatP(d.P))
+		fmt.Fprintf(s.out, "  Brier a %s, b %s; difference %s (95%% CI %s)\n", report.Value(b.A, "%.4f"), report.Value(b.B, "%.4f"),
+			report.Value(b.Difference, "%.4f"), report.Interval(b.DifferenceCI, "%.4f", ""))
 		fmt.Fprintf(s.out, "Wrote %s\n", filepath.Join(o.out, "compare.md"))
 		replacedNote(s, o.out, "comparison", w)
 	}
