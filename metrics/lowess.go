@@ -114,9 +114,11 @@ func lowess(x, y []float64, opt LowessOptions) LowessCurve {
 		wg.Add(1)
 		go func(g int) {
 			defer wg.Done()
+			// One scratch per worker: a window of h > 0 holds k points.
+			buf := make([]float64, 3*min(lowessBlock, k))
 			for f := g; f < len(plan.fits); f += w {
 				fp := plan.fits[f]
-				c.Fit[fp.i], c.SE[fp.i] = localLinear(x, y, fp)
+				c.Fit[fp.i], c.SE[fp.i] = localLinear(x, y, fp, buf)
 			}
 		}(g)
 	}
@@ -230,10 +232,11 @@ func (p fitPlan) fill(x, fit, se []float64) {
 const lowessBlock = 1024
 
 // localLinear is the weighted straight-line fit at x[fp.i] and its
-// standard error. The weights of a block of the window are made first;
-// the eight weighted sums are then taken with gonum's vectorised dot
-// products.
-func localLinear(x, y []float64, fp fitPoint) (float64, float64) {
+// standard error. The weights of a block of the window are made first,
+// in buf (room for three blocks of min(lowessBlock, r − l) values, the
+// caller's, so that a fit allocates nothing); the eight weighted sums
+// are then taken with gonum's vectorised dot products.
+func localLinear(x, y []float64, fp fitPoint, buf []float64) (float64, float64) {
 	if fp.h == 0 {
 		// Every point of the neighbourhood ties with x0: their mean,
 		// each of weight 1.
@@ -245,7 +248,8 @@ func localLinear(x, y []float64, fp fitPoint) (float64, float64) {
 	var sw, swu, swu2, swy, swuy, sw2, sw2u, sw2u2 float64
 	nonzero := 0
 	inv := 1 / fp.h
-	var wb, wub, ub [lowessBlock]float64
+	bl := len(buf) / 3
+	wb, wub, ub := buf[:bl], buf[bl:2*bl], buf[2*bl:3*bl]
 	for lo := fp.l; lo < fp.r; lo += lowessBlock {
 		hi := min(lo+lowessBlock, fp.r)
 		xs, ys := x[lo:hi], y[lo:hi]
