@@ -665,18 +665,22 @@ func appendLevels(c *Column, arr arrow.Array, row0 int, index map[string]int32, 
 
 // level is the code of text s first seen at 0-based row (−1, counted
 // missing, for a missing marker), adding it as a new level if need be.
+//
+// A level already seen is looked up first: no missing marker is ever a
+// level, so only text not seen before is trimmed and checked against
+// the markers.
 func (c *Column) level(s string, row int, index map[string]int32, missing []string) int32 {
+	if code, ok := index[s]; ok {
+		return code
+	}
 	if isToken(strings.TrimSpace(s), missing) {
 		c.Missing++
 		return -1
 	}
-	code, ok := index[s]
-	if !ok {
-		code = int32(len(c.Levels))
-		index[s] = code
-		c.Levels = append(c.Levels, s)
-		c.LevelLine = append(c.LevelLine, row+1)
-	}
+	code := int32(len(c.Levels))
+	index[s] = code
+	c.Levels = append(c.Levels, s)
+	c.LevelLine = append(c.LevelLine, row+1)
 	return code
 }
 
