@@ -270,6 +270,7 @@ type workspace struct {
 	p      []float64
 	ps, ys []float64 // sorted by risk (original rows, or the sample expanded)
 	x      []float64 // scratch for the calibration fits
+	sorter metrics.Sorter
 }
 
 func newWorkspace(pr Problem) *workspace {
@@ -326,12 +327,13 @@ func (ws *workspace) replicate(pr Problem, delta float64) (Measures, error) {
 	return app.sub(test), nil
 }
 
-// sort sets the risks of lp and returns the rows in risk order.
-func (ws *workspace) sort(lp []float64) []int {
+// sort sets the risks of lp and returns the rows in risk order, in the
+// workspace's own sort buffers.
+func (ws *workspace) sort(lp []float64) []int32 {
 	for i, v := range lp {
 		ws.p[i] = expit(v)
 	}
-	return metrics.SortedOrderSerial(ws.p)
+	return ws.sorter.Order(ws.p)
 }
 
 // measures measures linear predictor lp (with risks ws.p, rows in risk
@@ -340,7 +342,7 @@ func (ws *workspace) sort(lp []float64) []int {
 // was fitted to these rows by maximum likelihood with an intercept: its
 // score equations then make calibration-in-the-large exactly 0 and the
 // calibration slope exactly 1, so they are not fitted again.
-func (ws *workspace) measures(pr Problem, lp []float64, order []int, w []float64, dev, delta float64, fitted bool) (Measures, error) {
+func (ws *workspace) measures(pr Problem, lp []float64, order []int32, w []float64, dev, delta float64, fitted bool) (Measures, error) {
 	// The rows in risk order, each repeated as often as it was drawn.
 	k := 0
 	for _, i := range order {
