@@ -83,11 +83,33 @@ func Lowess(x, y []float64, opt LowessOptions) LowessCurve {
 	if !sort.Float64sAreSorted(x) {
 		panic("metrics: Lowess: x is not sorted")
 	}
-	return lowess(x, y, opt)
+	return lowess(x, y, opt, nil)
 }
 
-// lowess is Lowess on inputs already checked.
-func lowess(x, y []float64, opt LowessOptions) LowessCurve {
+// A LowessWorkspace holds the buffers of Lowess for a caller that
+// smooths many times (a bootstrap worker smooths twice a replicate).
+// The zero value is ready to use; a LowessWorkspace is not safe for
+// concurrent use.
+type LowessWorkspace struct {
+	fit, se, buf []float64
+	plan         fitPlan
+}
+
+// Lowess is the function Lowess computed in w's buffers: the curve's
+// Fit and SE are w's own, overwritten by the next call.
+func (w *LowessWorkspace) Lowess(x, y []float64, opt LowessOptions) LowessCurve {
+	if len(x) != len(y) {
+		panic("metrics: Lowess: x and y differ in length")
+	}
+	if !sort.Float64sAreSorted(x) {
+		panic("metrics: Lowess: x is not sorted")
+	}
+	return lowess(x, y, opt, w)
+}
+
+// lowess is Lowess on inputs already checked, in ws's buffers (fresh
+// ones when ws is nil).
+func lowess(x, y []float64, opt LowessOptions, ws *LowessWorkspace) LowessCurve {
 	n := len(x)
 	if opt.Span <= 0 {
 		opt.Span = 0.75
@@ -95,17 +117,24 @@ func lowess(x, y []float64, opt LowessOptions) LowessCurve {
 	if opt.Workers <= 0 {
 		opt.Workers = runtime.GOMAXPROCS(0)
 	}
-	c := LowessCurve{X: x, Fit: make([]float64, n), SE: make([]float64, n), Span: opt.Span, Delta: opt.Delta}
+	if ws == nil {
+		ws = &LowessWorkspace{}
+	}
+	if cap(ws.fit) < n {
+		ws.fit, ws.se = make([]float64, n), make([]float64, n)
+	}
+	c := LowessCurve{X: x, Fit: ws.fit[:n], SE: ws.se[:n], Span: opt.Span, Delta: opt.Delta}
 	if n == 0 {
 		return c
 	}
 	k := int(opt.Span*float64(n) + 1e-10)
 	k = max(2, min(k, n))
 	if n == 1 {
-		c.Fit[0] = y[0]
+		c.Fit[0], c.SE[0] = y[0], 0
 		return c
 	}
-	plan := planFits(x, k, opt.Delta)
+	ws.plan = planFits(x, k, opt.Delta, ws.plan)
+	plan := ws.plan
 	c.FitPoints = len(plan.fits)
 	// The local regressions are independent: run them on all cores.
 	var wg sync.WaitGroup
@@ -115,7 +144,16 @@ func lowess(x, y []float64, opt LowessOptions) LowessCurve {
 		go func(g int) {
 			defer wg.Done()
 			// One scratch per worker: a window of h > 0 holds k points.
-			buf := make([]float64, 3*min(lowessBlock, k))
+			need := 3 * min(lowessBlock, k)
+			var buf []float64
+			if g == 0 && cap(ws.buf) >= need {
+				buf = ws.buf[:need]
+			} else {
+				buf = make([]float64, need)
+				if g == 0 {
+					ws.buf = buf
+				}
+			}
 			for f := g; f < len(plan.fits); f += w {
 				fp := plan.fits[f]
 				c.Fit[fp.i], c.SE[fp.i] = localLinear(x, y, fp, buf)
@@ -149,10 +187,14 @@ type fitPlan struct {
 const fitted = -2
 
 // planFits walks the sorted x as Cleveland's algorithm does, choosing
-// where to fit and each fit's neighbourhood.
-func planFits(x []float64, k int, delta float64) fitPlan {
+// where to fit and each fit's neighbourhood, in the storage of old.
+func planFits(x []float64, k int, delta float64, old fitPlan) fitPlan {
 	n := len(x)
-	p := fitPlan{from: make([]int32, n)}
+	p := fitPlan{from: old.from[:0], fits: old.fits[:0]}
+	if cap(p.from) < n {
+		p.from = make([]int32, n)
+	}
+	p.from = p.from[:n]
 	for j := range p.from {
 		p.from[j] = -1
 	}
@@ -344,7 +386,7 @@ func ClipRisks(fit []float64) int {
 // E50, E90 and Emax are NaN when s is empty.
 func FlexibleCalibration(s Sorted, opt LowessOptions) CalibrationCurve {
 	xs := s.p
-	cc := CalibrationCurve{Curve: lowess(xs, s.y, opt)}
+	cc := CalibrationCurve{Curve: lowess(xs, s.y, opt, nil)}
 	cc.Clipped = ClipRisks(cc.Curve.Fit)
 	diff := make([]float64, len(xs))
 	for i, v := range xs {

@@ -51,3 +51,35 @@ func TestSorterReused(t *testing.T) {
 		}
 	}
 }
+
+// TestLowessWorkspaceReused checks that a LowessWorkspace used again and
+// again, on inputs of changing size and δ, gives exactly the curve of
+// Lowess (whose values lowess_test.go checks against statsmodels).
+func TestLowessWorkspaceReused(t *testing.T) {
+	r := rand.New(rand.NewPCG(5, 6))
+	var w LowessWorkspace
+	for _, c := range []struct {
+		n     int
+		delta float64
+	}{{3000, 0.01}, {200, 0}, {1, 0}, {5000, 0.05}, {2, 0}, {1200, 0.1}} {
+		x, y := make([]float64, c.n), make([]float64, c.n)
+		for i := range x {
+			x[i] = float64(r.IntN(400)) / 400 // ties
+			if r.Float64() < x[i] {
+				y[i] = 1
+			}
+		}
+		sort.Float64s(x)
+		opt := LowessOptions{Delta: c.delta, Workers: 1}
+		want := Lowess(x, y, opt)
+		got := w.Lowess(x, y, opt)
+		if got.FitPoints != want.FitPoints {
+			t.Errorf("n = %d: %d fits, Lowess %d", c.n, got.FitPoints, want.FitPoints)
+		}
+		for i := range x {
+			if got.Fit[i] != want.Fit[i] || got.SE[i] != want.SE[i] {
+				t.Fatalf("n = %d, row %d: fit %v SE %v, Lowess %v and %v", c.n, i, got.Fit[i], got.SE[i], want.Fit[i], want.SE[i])
+			}
+		}
+	}
+}

@@ -271,6 +271,7 @@ type workspace struct {
 	ps, ys []float64 // sorted by risk (original rows, or the sample expanded)
 	x      []float64 // scratch for the calibration fits
 	sorter metrics.Sorter
+	smooth metrics.LowessWorkspace
 }
 
 func newWorkspace(pr Problem) *workspace {
@@ -373,16 +374,17 @@ func (ws *workspace) measures(pr Problem, lp []float64, order []int32, w []float
 		m.Brier, m.ScaledBrier = metrics.Brier(pr.Y, ws.p)
 	}
 	m.R2 = metrics.Nagelkerke(dev, metrics.NullDeviance(pr.Y, w), k)
-	m.ICI = ici(ys, ps, delta)
+	m.ICI = ici(&ws.smooth, ys, ps, delta)
 	return m, nil
 }
 
 // ici is the ICI of risks ps (sorted) against outcomes ys, with LOWESS at
-// span 0.75 and δ = delta × the range of ps, on one goroutine, from the
-// smooth clipped to [0, 1] as in metrics.FlexibleCalibration.
-func ici(ys, ps []float64, delta float64) float64 {
+// span 0.75 and δ = delta × the range of ps, on one goroutine in the
+// buffers of lw, from the smooth clipped to [0, 1] as in
+// metrics.FlexibleCalibration.
+func ici(lw *metrics.LowessWorkspace, ys, ps []float64, delta float64) float64 {
 	d := delta * (ps[len(ps)-1] - ps[0])
-	c := metrics.Lowess(ps, ys, metrics.LowessOptions{Span: 0.75, Delta: d, Workers: 1})
+	c := lw.Lowess(ps, ys, metrics.LowessOptions{Span: 0.75, Delta: d, Workers: 1})
 	metrics.ClipRisks(c.Fit)
 	s := 0.0
 	for i, v := range ps {
