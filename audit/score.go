@@ -88,9 +88,9 @@ func frameOf(ctx context.Context, in Input, reqs []cohort.Request, opt cohort.Op
 	return in.Frame, nil
 }
 
-// load is frameOf with the input's SHA-256, computed beside the parse
-// (both read the file from the page cache) unless the input is a frame
-// already read.
+// load is frameOf with the input's SHA-256, which cohort computes from
+// the bytes it reads (a delimited file is not read twice), unless the
+// input is a frame already read.
 func load(ctx context.Context, in Input, reqs []cohort.Request, opt cohort.Options) (*cohort.Frame, string, error) {
 	if in.Frame != nil {
 		fr, err := frameOf(ctx, in, reqs, opt)
@@ -103,24 +103,12 @@ func load(ctx context.Context, in Input, reqs []cohort.Request, opt cohort.Optio
 		}
 		return fr, fr.Query.RowsSHA256, nil
 	}
-	type hashed struct {
-		sum string
-		err error
-	}
-	hc := make(chan hashed, 1)
-	go func() {
-		h, err := fileSHA256(in.Path)
-		hc <- hashed{h, err}
-	}()
+	opt.HashFile = true
 	fr, err := frameOf(ctx, in, reqs, opt)
-	h := <-hc
 	if err != nil {
 		return nil, "", err
 	}
-	if h.err != nil {
-		return nil, "", h.err
-	}
-	return fr, h.sum, nil
+	return fr, fr.FileSHA256, nil
 }
 
 func kindName(k cohort.Kind) string {

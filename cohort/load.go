@@ -3,8 +3,11 @@ package cohort
 import (
 	"bytes"
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"sort"
@@ -66,6 +69,13 @@ type Options struct {
 	// Sheet names the worksheet of a workbook to read; "" reads the first
 	// worksheet in tab order. Other formats ignore it.
 	Sheet string
+	// HashFile asks for the SHA-256 of the file's bytes in
+	// Frame.FileSHA256. A delimited file is hashed from the bytes the
+	// parser reads (mapped once, hashed beside the parse), so it is not
+	// read a second time; a columnar file or workbook, whose reader
+	// reads only parts of it, is read whole for the hash beside its
+	// reader.
+	HashFile bool
 }
 
 // Column is one column read from a file.
@@ -120,6 +130,9 @@ type Frame struct {
 	// Query describes the database query the rows came from (see
 	// NewFrame), or nil for a file.
 	Query *QueryInfo
+	// FileSHA256 is the hex SHA-256 of the file's bytes when
+	// Options.HashFile was set, otherwise "".
+	FileSHA256 string
 
 	firstCol  int // the sheet column of the header's first name (1 is A)
 	headerRow int
@@ -210,11 +223,64 @@ func Load(path string, reqs []Request, opt Options) (*Frame, error) {
 // the read within one chunk (65,536 rows of text, one record batch of a
 // columnar file) and returns context.Cause(ctx).
 func LoadContext(ctx context.Context, path string, reqs []Request, opt Options) (*Frame, error) {
-	fr, err := load(ctx, path, reqs, opt)
+	fr, err := loadHashed(ctx, path, reqs, opt)
 	if err != nil && ctx.Err() != nil {
 		return nil, context.Cause(ctx)
 	}
 	return fr, err
+}
+
+// loadHashed is load with the file's SHA-256 when opt.HashFile asks for
+// it: a format load does not map whole is read for it by a goroutine of
+// its own, beside the reader.
+func loadHashed(ctx context.Context, path string, reqs []Request, opt Options) (*Frame, error) {
+	if !opt.HashFile || textFormat(path, opt) {
+		return load(ctx, path, reqs, opt)
+	}
+	type hashed struct {
+		sum string
+		err error
+	}
+	hc := make(chan hashed, 1)
+	go func() {
+		sum, err := hashFile(path)
+		hc <- hashed{sum, err}
+	}()
+	fr, err := load(ctx, path, reqs, opt)
+	h := <-hc
+	if err != nil {
+		return nil, err
+	}
+	if h.err != nil {
+		return nil, &Error{File: path, Msg: "cannot read file: " + h.err.Error(), Kind: ErrRead, Err: h.err}
+	}
+	fr.FileSHA256 = h.sum
+	return fr, nil
+}
+
+// textFormat reports whether load reads path as delimited text.
+func textFormat(path string, opt Options) bool {
+	switch opt.Format {
+	case "csv":
+		return true
+	case "", "auto":
+		return !isParquet(path) && !isArrow(path) && !isWorkbook(path)
+	}
+	return false
+}
+
+// hashFile is the hex SHA-256 of the file at path.
+func hashFile(path string) (string, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return "", err
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", err
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
 }
 
 func load(ctx context.Context, path string, reqs []Request, opt Options) (*Frame, error) {
@@ -263,7 +329,20 @@ func load(ctx context.Context, path string, reqs []Request, opt Options) (*Frame
 		return nil, &Error{File: path, Msg: "cannot read file: " + msg, Kind: ErrRead, Err: err}
 	}
 	defer release()
-	return parse(ctx, path, data, reqs, opt)
+	if !opt.HashFile {
+		return parse(ctx, path, data, reqs, opt)
+	}
+	// The parse and the hash read the same bytes (the mapping's pages
+	// are faulted in once), on their own goroutines.
+	sum := make(chan [sha256.Size]byte, 1)
+	go func() { sum <- sha256.Sum256(data) }()
+	fr, err := parse(ctx, path, data, reqs, opt)
+	s := <-sum
+	if err != nil {
+		return nil, err
+	}
+	fr.FileSHA256 = hex.EncodeToString(s[:])
+	return fr, nil
 }
 
 // Parse reads the requested columns from data, the contents of a file

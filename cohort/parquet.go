@@ -335,8 +335,11 @@ type layout struct {
 	idx     []int // the file columns read
 	cols    []*Column
 	levels  []map[string]int32
-	missing []string
-	dec     byte
+	// intLevels[k] caches request k's codes by integer value (see
+	// appendLevels).
+	intLevels []map[int64]int32
+	missing   []string
+	dec       byte
 }
 
 // newLayout checks the schema against the requests and makes the
@@ -371,6 +374,7 @@ func newLayout(path, format string, schema *arrow.Schema, reqs []Request, opt Op
 	hint = max(hint, 0)
 	l.cols = make([]*Column, len(reqs))
 	l.levels = make([]map[string]int32, len(reqs))
+	l.intLevels = make([]map[int64]int32, len(reqs))
 	for k, r := range reqs {
 		c := &Column{Name: r.Name, Kind: r.Kind, Index: -1}
 		for i, h := range l.header {
@@ -385,6 +389,7 @@ func newLayout(path, format string, schema *arrow.Schema, reqs []Request, opt Op
 		}
 		l.cols[k] = c
 		l.levels[k] = map[string]int32{}
+		l.intLevels[k] = map[int64]int32{}
 	}
 	return l, nil
 }
@@ -398,7 +403,7 @@ func (l *layout) append(k int, arr arrow.Array, row0 int, nanErr bool) error {
 	if l.cols[k].Kind == Numeric {
 		return appendNumbers(l.cols[k], arr, row0, l.path, l.missing, l.dec, nanErr)
 	}
-	return appendLevels(l.cols[k], arr, row0, l.levels[k], l.missing)
+	return appendLevels(l.cols[k], arr, row0, l.levels[k], l.intLevels[k], l.missing)
 }
 
 // frame makes the frame of rows rows from the filled columns; a request
@@ -482,9 +487,123 @@ func rowError(path string, row int, col, value, msg string) *Error {
 	return &Error{File: path, Line: row + 1, Row: true, Column: col, Value: value, HasValue: true, Msg: msg, Kind: ErrNotNumber}
 }
 
+// appendNumbers appends the values of arr to numeric column c. The
+// array's type is looked at once: typed values are converted from the
+// array's own values slice, and only text is read value by value.
 func appendNumbers(c *Column, arr arrow.Array, row0 int, path string, missing []string, dec byte, nanErr bool) error {
+	switch a := arr.(type) {
+	case *array.Float64:
+		return appendFloats(c, arr, a.Float64Values(), row0, path, nanErr)
+	case *array.Float32:
+		return appendFloats(c, arr, a.Float32Values(), row0, path, nanErr)
+	case *array.Int64:
+		appendInts(c, arr, a.Int64Values())
+	case *array.Int32:
+		appendInts(c, arr, a.Int32Values())
+	case *array.Int16:
+		appendInts(c, arr, a.Int16Values())
+	case *array.Int8:
+		appendInts(c, arr, a.Int8Values())
+	case *array.Uint64:
+		appendInts(c, arr, a.Uint64Values())
+	case *array.Uint32:
+		appendInts(c, arr, a.Uint32Values())
+	case *array.Uint16:
+		appendInts(c, arr, a.Uint16Values())
+	case *array.Uint8:
+		appendInts(c, arr, a.Uint8Values())
+	case *array.Boolean:
+		for i := 0; i < a.Len(); i++ {
+			switch {
+			case a.IsNull(i):
+				c.Num = append(c.Num, math.NaN())
+				c.Missing++
+			case a.Value(i):
+				c.Num = append(c.Num, 1)
+			default:
+				c.Num = append(c.Num, 0)
+			}
+		}
+	default:
+		return appendNumberText(c, arr, row0, path, missing, dec, nanErr)
+	}
+	return nil
+}
+
+// integer is an Arrow integer type.
+type integer interface {
+	~int8 | ~int16 | ~int32 | ~int64 | ~uint8 | ~uint16 | ~uint32 | ~uint64
+}
+
+// appendInts appends integer values (nulls missing) to c.
+func appendInts[T integer](c *Column, arr arrow.Array, vals []T) {
+	vals = vals[:arr.Len()]
+	if arr.NullN() == 0 {
+		for _, v := range vals {
+			c.Num = append(c.Num, float64(v))
+		}
+		return
+	}
+	for i, v := range vals {
+		if arr.IsNull(i) {
+			c.Num = append(c.Num, math.NaN())
+			c.Missing++
+			continue
+		}
+		c.Num = append(c.Num, float64(v))
+	}
+}
+
+// appendFloats appends floating-point values to c: nulls and NaN are
+// missing (NaN an error when nanErr), an infinite value is an error.
+func appendFloats[T float32 | float64](c *Column, arr arrow.Array, vals []T, row0 int, path string, nanErr bool) error {
+	vals = vals[:arr.Len()]
+	nulls := arr.NullN() > 0
+	for i, x := range vals {
+		if nulls && arr.IsNull(i) {
+			c.Num = append(c.Num, math.NaN())
+			c.Missing++
+			continue
+		}
+		v := float64(x)
+		if v-v != 0 { // ±Inf or NaN
+			if math.IsInf(v, 0) {
+				return rowError(path, row0+i, c.Name, strconv.FormatFloat(v, 'g', -1, 64), "not a finite number")
+			}
+			if nanErr {
+				return rowError(path, row0+i, c.Name, "NaN", "not a number (a computed value of NaN is an error here, not a missing value)")
+			}
+			c.Missing++
+		}
+		c.Num = append(c.Num, v)
+	}
+	return nil
+}
+
+// appendNumberText appends a text column's values to numeric column c,
+// parsed as in CSV.
+func appendNumberText(c *Column, arr arrow.Array, row0 int, path string, missing []string, dec byte, nanErr bool) error {
 	n := arr.Len()
-	push := func(i int, v float64) error {
+	for i := 0; i < n; i++ {
+		if arr.IsNull(i) {
+			c.Num = append(c.Num, math.NaN())
+			c.Missing++
+			continue
+		}
+		s, ok := textValue(arr, i)
+		if !ok {
+			return &Error{File: path, Column: c.Name, Msg: fmt.Sprintf("a Parquet column of type %s, which is not a number", arr.DataType()), Kind: ErrNotNumber}
+		}
+		s = strings.TrimSpace(s)
+		if isToken(s, missing) {
+			c.Num = append(c.Num, math.NaN())
+			c.Missing++
+			continue
+		}
+		v, ok := parseFloat([]byte(s), dec)
+		if !ok {
+			return rowError(path, row0+i, c.Name, s, "not a number")
+		}
 		if math.IsInf(v, 0) {
 			return rowError(path, row0+i, c.Name, strconv.FormatFloat(v, 'g', -1, 64), "not a finite number")
 		}
@@ -495,65 +614,39 @@ func appendNumbers(c *Column, arr arrow.Array, row0 int, path string, missing []
 			c.Missing++
 		}
 		c.Num = append(c.Num, v)
-		return nil
-	}
-	for i := 0; i < n; i++ {
-		if arr.IsNull(i) {
-			c.Num = append(c.Num, math.NaN())
-			c.Missing++
-			continue
-		}
-		var v float64
-		switch a := arr.(type) {
-		case *array.Float64:
-			v = a.Value(i)
-		case *array.Float32:
-			v = float64(a.Value(i))
-		case *array.Int64:
-			v = float64(a.Value(i))
-		case *array.Int32:
-			v = float64(a.Value(i))
-		case *array.Int16:
-			v = float64(a.Value(i))
-		case *array.Int8:
-			v = float64(a.Value(i))
-		case *array.Uint64:
-			v = float64(a.Value(i))
-		case *array.Uint32:
-			v = float64(a.Value(i))
-		case *array.Uint16:
-			v = float64(a.Value(i))
-		case *array.Uint8:
-			v = float64(a.Value(i))
-		case *array.Boolean:
-			if a.Value(i) {
-				v = 1
-			}
-		default:
-			s, ok := textValue(arr, i)
-			if !ok {
-				return &Error{File: path, Column: c.Name, Msg: fmt.Sprintf("a Parquet column of type %s, which is not a number", arr.DataType()), Kind: ErrNotNumber}
-			}
-			s = strings.TrimSpace(s)
-			if isToken(s, missing) {
-				c.Num = append(c.Num, math.NaN())
-				c.Missing++
-				continue
-			}
-			x, ok := parseFloat([]byte(s), dec)
-			if !ok {
-				return rowError(path, row0+i, c.Name, s, "not a number")
-			}
-			v = x
-		}
-		if err := push(i, v); err != nil {
-			return err
-		}
 	}
 	return nil
 }
 
-func appendLevels(c *Column, arr arrow.Array, row0 int, index map[string]int32, missing []string) error {
+// appendLevels appends the values of arr to categorical column c. The
+// levels of an integer column are its values as text (as
+// arrow.Array.ValueStr writes them), made once per distinct value
+// through cache (the value's code, −1 for a missing marker), so that an
+// integer outcome is not formatted as text row by row.
+func appendLevels(c *Column, arr arrow.Array, row0 int, index map[string]int32, cache map[int64]int32, missing []string) error {
+	switch a := arr.(type) {
+	case *array.Int64:
+		appendIntLevels(c, arr, a.Int64Values(), row0, index, cache, missing)
+		return nil
+	case *array.Int32:
+		appendIntLevels(c, arr, a.Int32Values(), row0, index, cache, missing)
+		return nil
+	case *array.Int16:
+		appendIntLevels(c, arr, a.Int16Values(), row0, index, cache, missing)
+		return nil
+	case *array.Int8:
+		appendIntLevels(c, arr, a.Int8Values(), row0, index, cache, missing)
+		return nil
+	case *array.Uint32:
+		appendIntLevels(c, arr, a.Uint32Values(), row0, index, cache, missing)
+		return nil
+	case *array.Uint16:
+		appendIntLevels(c, arr, a.Uint16Values(), row0, index, cache, missing)
+		return nil
+	case *array.Uint8:
+		appendIntLevels(c, arr, a.Uint8Values(), row0, index, cache, missing)
+		return nil
+	}
 	n := arr.Len()
 	for i := 0; i < n; i++ {
 		if arr.IsNull(i) {
@@ -565,21 +658,53 @@ func appendLevels(c *Column, arr arrow.Array, row0 int, index map[string]int32, 
 		if !ok {
 			s = arr.ValueStr(i)
 		}
-		if isToken(strings.TrimSpace(s), missing) {
+		c.Codes = append(c.Codes, c.level(s, row0+i, index, missing))
+	}
+	return nil
+}
+
+// level is the code of text s first seen at 0-based row (−1, counted
+// missing, for a missing marker), adding it as a new level if need be.
+//
+// A level already seen is looked up first: no missing marker is ever a
+// level, so only text not seen before is trimmed and checked against
+// the markers.
+func (c *Column) level(s string, row int, index map[string]int32, missing []string) int32 {
+	if code, ok := index[s]; ok {
+		return code
+	}
+	if isToken(strings.TrimSpace(s), missing) {
+		c.Missing++
+		return -1
+	}
+	code := int32(len(c.Levels))
+	index[s] = code
+	c.Levels = append(c.Levels, s)
+	c.LevelLine = append(c.LevelLine, row+1)
+	return code
+}
+
+// appendIntLevels is appendLevels for an integer column of values vals
+// (uint64 is left to the text path: its values do not all fit the
+// cache's int64 keys).
+func appendIntLevels[T integer](c *Column, arr arrow.Array, vals []T, row0 int, index map[string]int32, cache map[int64]int32, missing []string) {
+	vals = vals[:arr.Len()]
+	nulls := arr.NullN() > 0
+	for i, v := range vals {
+		if nulls && arr.IsNull(i) {
 			c.Codes = append(c.Codes, -1)
 			c.Missing++
 			continue
 		}
-		code, ok := index[s]
+		code, ok := cache[int64(v)]
 		if !ok {
-			code = int32(len(c.Levels))
-			index[s] = code
-			c.Levels = append(c.Levels, s)
-			c.LevelLine = append(c.LevelLine, row0+i+1)
+			code = c.level(arr.ValueStr(i), row0+i, index, missing)
+			cache[int64(v)] = code
+		} else if code < 0 {
+			c.Missing++
 		}
 		c.Codes = append(c.Codes, code)
 	}
-	return nil
 }
 
 // textValue returns the text of a string, binary or dictionary-encoded

@@ -564,6 +564,9 @@ type state struct {
 type evaluator struct {
 	d       Data
 	workers int
+	// bufs[k] is worker k's scratch for pass, made once per evaluator
+	// so that the passes of a fit allocate nothing per pass.
+	bufs [][]float64
 }
 
 func newEvaluator(d Data, workers int) *evaluator {
@@ -580,6 +583,8 @@ type chunk struct {
 	score []float64
 	// s2 and t are the sums of firthHessPass.
 	s2, t []float64
+	// buf is the worker's scratch for pass: (2P + 1)·block values.
+	buf []float64
 }
 
 // eval computes the deviance, the information X'WX and the score at beta.
@@ -667,9 +672,15 @@ func (e *evaluator) run(f func(lo, hi int, c *chunk)) []*chunk {
 	p, n := e.d.P, e.d.N
 	w := e.workers
 	parts := make([]*chunk, w)
+	if len(e.bufs) != w {
+		e.bufs = make([][]float64, w)
+	}
 	var wg sync.WaitGroup
 	for k := 0; k < w; k++ {
-		parts[k] = &chunk{info: make([]float64, p*p), score: make([]float64, p)}
+		if e.bufs[k] == nil {
+			e.bufs[k] = make([]float64, (2*p+1)*block)
+		}
+		parts[k] = &chunk{info: make([]float64, p*p), score: make([]float64, p), buf: e.bufs[k]}
 		lo, hi := n*k/w, n*(k+1)/w
 		if w == 1 {
 			f(lo, hi, parts[k])
@@ -700,9 +711,9 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool, muOu
 	}
 	var xc, wx, rv []float64
 	if derivs {
-		xc = make([]float64, p*block) // the block's X, column after column
-		wx = make([]float64, p*block) // the same, times the IRLS weight
-		rv = make([]float64, block)   // w(y − μ)
+		xc = c.buf[:p*block]                  // the block's X, column after column
+		wx = c.buf[p*block : 2*p*block]       // the same, times the IRLS weight
+		rv = c.buf[2*p*block : (2*p+1)*block] // w(y − μ)
 	}
 	nb := 0
 	flush := func() {

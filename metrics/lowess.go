@@ -83,11 +83,33 @@ func Lowess(x, y []float64, opt LowessOptions) LowessCurve {
 	if !sort.Float64sAreSorted(x) {
 		panic("metrics: Lowess: x is not sorted")
 	}
-	return lowess(x, y, opt)
+	return lowess(x, y, opt, nil)
 }
 
-// lowess is Lowess on inputs already checked.
-func lowess(x, y []float64, opt LowessOptions) LowessCurve {
+// A LowessWorkspace holds the buffers of Lowess for a caller that
+// smooths many times (a bootstrap worker smooths twice a replicate).
+// The zero value is ready to use; a LowessWorkspace is not safe for
+// concurrent use.
+type LowessWorkspace struct {
+	fit, se, buf []float64
+	plan         fitPlan
+}
+
+// Lowess is the function Lowess computed in w's buffers: the curve's
+// Fit and SE are w's own, overwritten by the next call.
+func (w *LowessWorkspace) Lowess(x, y []float64, opt LowessOptions) LowessCurve {
+	if len(x) != len(y) {
+		panic("metrics: Lowess: x and y differ in length")
+	}
+	if !sort.Float64sAreSorted(x) {
+		panic("metrics: Lowess: x is not sorted")
+	}
+	return lowess(x, y, opt, w)
+}
+
+// lowess is Lowess on inputs already checked, in ws's buffers (fresh
+// ones when ws is nil).
+func lowess(x, y []float64, opt LowessOptions, ws *LowessWorkspace) LowessCurve {
 	n := len(x)
 	if opt.Span <= 0 {
 		opt.Span = 0.75
@@ -95,17 +117,24 @@ func lowess(x, y []float64, opt LowessOptions) LowessCurve {
 	if opt.Workers <= 0 {
 		opt.Workers = runtime.GOMAXPROCS(0)
 	}
-	c := LowessCurve{X: x, Fit: make([]float64, n), SE: make([]float64, n), Span: opt.Span, Delta: opt.Delta}
+	if ws == nil {
+		ws = &LowessWorkspace{}
+	}
+	if cap(ws.fit) < n {
+		ws.fit, ws.se = make([]float64, n), make([]float64, n)
+	}
+	c := LowessCurve{X: x, Fit: ws.fit[:n], SE: ws.se[:n], Span: opt.Span, Delta: opt.Delta}
 	if n == 0 {
 		return c
 	}
 	k := int(opt.Span*float64(n) + 1e-10)
 	k = max(2, min(k, n))
 	if n == 1 {
-		c.Fit[0] = y[0]
+		c.Fit[0], c.SE[0] = y[0], 0
 		return c
 	}
-	plan := planFits(x, k, opt.Delta)
+	ws.plan = planFits(x, k, opt.Delta, ws.plan)
+	plan := ws.plan
 	c.FitPoints = len(plan.fits)
 	// The local regressions are independent: run them on all cores.
 	var wg sync.WaitGroup
@@ -114,9 +143,20 @@ func lowess(x, y []float64, opt LowessOptions) LowessCurve {
 		wg.Add(1)
 		go func(g int) {
 			defer wg.Done()
+			// One scratch per worker: a window of h > 0 holds k points.
+			need := 3 * min(lowessBlock, k)
+			var buf []float64
+			if g == 0 && cap(ws.buf) >= need {
+				buf = ws.buf[:need]
+			} else {
+				buf = make([]float64, need)
+				if g == 0 {
+					ws.buf = buf
+				}
+			}
 			for f := g; f < len(plan.fits); f += w {
 				fp := plan.fits[f]
-				c.Fit[fp.i], c.SE[fp.i] = localLinear(x, y, fp)
+				c.Fit[fp.i], c.SE[fp.i] = localLinear(x, y, fp, buf)
 			}
 		}(g)
 	}
@@ -136,15 +176,25 @@ type fitPoint struct {
 // value: ties copy a fitted point, the rest are interpolated.
 type fitPlan struct {
 	fits []fitPoint
-	// from[j] is the index whose value a tied point j copies, or −1.
-	from []int
+	// from[j] is the index whose value a tied point j copies, fitted
+	// (−2) for a point fitted, or −1 for a point to interpolate; 32-bit,
+	// as the row indices of the sort are, so that a 1M-row curve touches
+	// 4 MB here, not 9.
+	from []int32
 }
 
+// fitted marks a fitted point in fitPlan.from.
+const fitted = -2
+
 // planFits walks the sorted x as Cleveland's algorithm does, choosing
-// where to fit and each fit's neighbourhood.
-func planFits(x []float64, k int, delta float64) fitPlan {
+// where to fit and each fit's neighbourhood, in the storage of old.
+func planFits(x []float64, k int, delta float64, old fitPlan) fitPlan {
 	n := len(x)
-	p := fitPlan{from: make([]int, n)}
+	p := fitPlan{from: old.from[:0], fits: old.fits[:0]}
+	if cap(p.from) < n {
+		p.from = make([]int32, n)
+	}
+	p.from = p.from[:n]
 	for j := range p.from {
 		p.from[j] = -1
 	}
@@ -169,6 +219,7 @@ func planFits(x []float64, k int, delta float64) fitPlan {
 			}
 		}
 		p.fits = append(p.fits, fp)
+		p.from[i] = fitted
 		// The next fit is at the last point within delta (at least one
 		// step on); points tied with the last fitted x copy its value.
 		last := i
@@ -180,7 +231,7 @@ func planFits(x []float64, k int, delta float64) fitPlan {
 				break
 			}
 			if x[j] == x[last] {
-				p.from[j] = i
+				p.from[j] = int32(i)
 				last = j
 			}
 		}
@@ -199,18 +250,9 @@ func (p fitPlan) fill(x, fit, se []float64) {
 			fit[j], se[j] = fit[f], se[f]
 		}
 	}
-	known := make([]bool, len(x))
-	for _, f := range p.fits {
-		known[f.i] = true
-	}
-	for j, f := range p.from {
-		if f >= 0 {
-			known[j] = true
-		}
-	}
 	last := 0
 	for j := 1; j < len(x); j++ {
-		if !known[j] {
+		if p.from[j] == -1 {
 			continue
 		}
 		if j > last+1 {
@@ -230,10 +272,11 @@ func (p fitPlan) fill(x, fit, se []float64) {
 const lowessBlock = 1024
 
 // localLinear is the weighted straight-line fit at x[fp.i] and its
-// standard error. The weights of a block of the window are made first;
-// the eight weighted sums are then taken with gonum's vectorised dot
-// products.
-func localLinear(x, y []float64, fp fitPoint) (float64, float64) {
+// standard error. The weights of a block of the window are made first,
+// in buf (room for three blocks of min(lowessBlock, r − l) values, the
+// caller's, so that a fit allocates nothing); the eight weighted sums
+// are then taken with gonum's vectorised dot products.
+func localLinear(x, y []float64, fp fitPoint, buf []float64) (float64, float64) {
 	if fp.h == 0 {
 		// Every point of the neighbourhood ties with x0: their mean,
 		// each of weight 1.
@@ -245,7 +288,8 @@ func localLinear(x, y []float64, fp fitPoint) (float64, float64) {
 	var sw, swu, swu2, swy, swuy, sw2, sw2u, sw2u2 float64
 	nonzero := 0
 	inv := 1 / fp.h
-	var wb, wub, ub [lowessBlock]float64
+	bl := len(buf) / 3
+	wb, wub, ub := buf[:bl], buf[bl:2*bl], buf[2*bl:3*bl]
 	for lo := fp.l; lo < fp.r; lo += lowessBlock {
 		hi := min(lo+lowessBlock, fp.r)
 		xs, ys := x[lo:hi], y[lo:hi]
@@ -342,7 +386,7 @@ func ClipRisks(fit []float64) int {
 // E50, E90 and Emax are NaN when s is empty.
 func FlexibleCalibration(s Sorted, opt LowessOptions) CalibrationCurve {
 	xs := s.p
-	cc := CalibrationCurve{Curve: lowess(xs, s.y, opt)}
+	cc := CalibrationCurve{Curve: lowess(xs, s.y, opt, nil)}
 	cc.Clipped = ClipRisks(cc.Curve.Fit)
 	diff := make([]float64, len(xs))
 	for i, v := range xs {

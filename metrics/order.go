@@ -217,12 +217,51 @@ func recount(keys []uint64, half int, shift int, h0, h1 *[1 << 11]int) {
 	}
 }
 
+// A Sorter puts risks in order as SortedOrderSerial does, reusing its
+// buffers from one call to the next, for a caller that sorts many times
+// (a bootstrap worker sorts once a replicate). The zero value is ready
+// to use; a Sorter is not safe for concurrent use.
+type Sorter struct {
+	keys, tk []uint64
+	idx, ti  []int32
+}
+
+// Order returns the row indices of p ordered by p, ties in row order, as
+// SortedOrderSerial does, as 32-bit indices. The slice is the Sorter's
+// own: the next call overwrites it.
+func (s *Sorter) Order(p []float64) []int32 {
+	n := len(p)
+	if cap(s.idx) < n {
+		s.keys, s.tk = make([]uint64, n), make([]uint64, n)
+		s.idx, s.ti = make([]int32, n), make([]int32, n)
+	}
+	if n < 4096 {
+		idx := s.idx[:n]
+		for i := range idx {
+			idx[i] = int32(i)
+		}
+		slices.SortStableFunc(idx, func(a, b int32) int { return cmp.Compare(p[a], p[b]) })
+		return idx
+	}
+	return s.radix(p)
+}
+
 // radixSerial is the radix sort of SortedOrder on one goroutine.
 func radixSerial(p []float64) []int32 {
+	var s Sorter
+	n := len(p)
+	s.keys, s.tk = make([]uint64, n), make([]uint64, n)
+	s.idx, s.ti = make([]int32, n), make([]int32, n)
+	return s.radix(p)
+}
+
+// radix is the radix sort of SortedOrder on one goroutine, in s's
+// buffers (each with room for len(p) values).
+func (s *Sorter) radix(p []float64) []int32 {
 	const bits, buckets, passes = 11, 1 << 11, 6
 	n := len(p)
-	keys := make([]uint64, n)
-	idx := make([]int32, n)
+	keys := s.keys[:n]
+	idx := s.idx[:n]
 	var hist [passes][buckets]int
 	for i, v := range p {
 		k := radixKey(v)
@@ -231,7 +270,7 @@ func radixSerial(p []float64) []int32 {
 			hist[d][(k>>(d*bits))&(buckets-1)]++
 		}
 	}
-	tk, ti := make([]uint64, n), make([]int32, n)
+	tk, ti := s.tk[:n], s.ti[:n]
 	for d := 0; d < passes; d++ {
 		h := &hist[d]
 		skip := false
@@ -257,6 +296,7 @@ func radixSerial(p []float64) []int32 {
 		keys, tk = tk, keys
 		idx, ti = ti, idx
 	}
+	s.keys, s.tk, s.idx, s.ti = keys[:cap(keys)], tk[:cap(tk)], idx[:cap(idx)], ti[:cap(ti)]
 	return idx
 }
 

@@ -270,6 +270,8 @@ type workspace struct {
 	p      []float64
 	ps, ys []float64 // sorted by risk (original rows, or the sample expanded)
 	x      []float64 // scratch for the calibration fits
+	sorter metrics.Sorter
+	smooth metrics.LowessWorkspace
 }
 
 func newWorkspace(pr Problem) *workspace {
@@ -326,12 +328,13 @@ func (ws *workspace) replicate(pr Problem, delta float64) (Measures, error) {
 	return app.sub(test), nil
 }
 
-// sort sets the risks of lp and returns the rows in risk order.
-func (ws *workspace) sort(lp []float64) []int {
+// sort sets the risks of lp and returns the rows in risk order, in the
+// workspace's own sort buffers.
+func (ws *workspace) sort(lp []float64) []int32 {
 	for i, v := range lp {
 		ws.p[i] = expit(v)
 	}
-	return metrics.SortedOrderSerial(ws.p)
+	return ws.sorter.Order(ws.p)
 }
 
 // measures measures linear predictor lp (with risks ws.p, rows in risk
@@ -340,7 +343,7 @@ func (ws *workspace) sort(lp []float64) []int {
 // was fitted to these rows by maximum likelihood with an intercept: its
 // score equations then make calibration-in-the-large exactly 0 and the
 // calibration slope exactly 1, so they are not fitted again.
-func (ws *workspace) measures(pr Problem, lp []float64, order []int, w []float64, dev, delta float64, fitted bool) (Measures, error) {
+func (ws *workspace) measures(pr Problem, lp []float64, order []int32, w []float64, dev, delta float64, fitted bool) (Measures, error) {
 	// The rows in risk order, each repeated as often as it was drawn.
 	k := 0
 	for _, i := range order {
@@ -371,16 +374,17 @@ func (ws *workspace) measures(pr Problem, lp []float64, order []int, w []float64
 		m.Brier, m.ScaledBrier = metrics.Brier(pr.Y, ws.p)
 	}
 	m.R2 = metrics.Nagelkerke(dev, metrics.NullDeviance(pr.Y, w), k)
-	m.ICI = ici(ys, ps, delta)
+	m.ICI = ici(&ws.smooth, ys, ps, delta)
 	return m, nil
 }
 
 // ici is the ICI of risks ps (sorted) against outcomes ys, with LOWESS at
-// span 0.75 and δ = delta × the range of ps, on one goroutine, from the
-// smooth clipped to [0, 1] as in metrics.FlexibleCalibration.
-func ici(ys, ps []float64, delta float64) float64 {
+// span 0.75 and δ = delta × the range of ps, on one goroutine in the
+// buffers of lw, from the smooth clipped to [0, 1] as in
+// metrics.FlexibleCalibration.
+func ici(lw *metrics.LowessWorkspace, ys, ps []float64, delta float64) float64 {
 	d := delta * (ps[len(ps)-1] - ps[0])
-	c := metrics.Lowess(ps, ys, metrics.LowessOptions{Span: 0.75, Delta: d, Workers: 1})
+	c := lw.Lowess(ps, ys, metrics.LowessOptions{Span: 0.75, Delta: d, Workers: 1})
 	metrics.ClipRisks(c.Fit)
 	s := 0.0
 	for i, v := range ps {

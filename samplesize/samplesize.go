@@ -18,9 +18,10 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"sort"
 
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"github.com/riskaudit/riskaudit/metrics"
 )
 
 const z = 1.959963984540054
@@ -487,12 +488,12 @@ func newcombeN(c, phi, q, se float64) float64 {
 // impliedC is the C-statistic of risks p over the LP sample: the
 // probability that an event's LP exceeds a non-event's, with each point
 // an event with probability p (ties ½).
+//
+// The LP is put in order by metrics.SortedOrder (a radix sort on large
+// samples): a comparison sort of a 1M-row cohort's LP took a third of
+// its whole audit.
 func impliedC(lp, p []float64) float64 {
-	idx := make([]int, len(lp))
-	for i := range idx {
-		idx[i] = i
-	}
-	sort.Slice(idx, func(a, b int) bool { return lp[idx[a]] < lp[idx[b]] })
+	idx := metrics.SortedOrder(lp)
 	var below0, total, e1, e0 float64
 	for s := 0; s < len(idx); {
 		e := s
