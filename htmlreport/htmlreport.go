@@ -112,18 +112,34 @@ func outline(doc ast.Node, src []byte) (string, []Entry) {
 
 // markNumbers gives every table cell whose text is a number, an
 // interval or a count with its share (such as "0.317 to 0.529" or
-// "446 (16.1%)") the class "num", which keeps it on one line.
+// "446 (16.1%)") the class "num", which keeps it on one line, in tables
+// of up to maxNumColumns columns; a wider table is marked "wide" and
+// its numbers may wrap, so that it fits the page.
 func markNumbers(doc ast.Node, src []byte) {
 	_ = ast.Walk(doc, func(n ast.Node, entering bool) (ast.WalkStatus, error) {
-		if c, ok := n.(*extast.TableCell); ok && entering {
-			if numeric(plainText(c, src)) {
-				c.SetAttributeString("class", []byte("num"))
-			}
+		tb, ok := n.(*extast.Table)
+		if !entering || !ok {
+			return ast.WalkContinue, nil
+		}
+		if len(tb.Alignments) > maxNumColumns {
+			tb.SetAttributeString("class", []byte("wide"))
 			return ast.WalkSkipChildren, nil
 		}
-		return ast.WalkContinue, nil
+		_ = ast.Walk(tb, func(n ast.Node, entering bool) (ast.WalkStatus, error) {
+			if c, ok := n.(*extast.TableCell); ok && entering {
+				if numeric(plainText(c, src)) {
+					c.SetAttributeString("class", []byte("num"))
+				}
+				return ast.WalkSkipChildren, nil
+			}
+			return ast.WalkContinue, nil
+		})
+		return ast.WalkSkipChildren, nil
 	})
 }
+
+// maxNumColumns is the widest table whose numbers are kept on one line.
+const maxNumColumns = 6
 
 // numeric reports whether s is short and made of numbers: digits, signs,
 // decimal points, percent signs, brackets, comparison signs and the word
@@ -161,7 +177,11 @@ func plainText(n ast.Node, src []byte) string {
 		}
 		switch t := c.(type) {
 		case *ast.Text:
-			b.Write(t.Segment.Value(src))
+			v := t.Segment.Value(src)
+			if !t.IsRaw() {
+				v = util.ResolveEntityNames(util.ResolveNumericReferences(util.UnescapePunctuations(v)))
+			}
+			b.Write(v)
 			if t.SoftLineBreak() {
 				b.WriteByte(' ')
 			}

@@ -98,6 +98,8 @@ th, td {
 }
 td code { overflow-wrap: break-word; }
 td.num { white-space: nowrap; }
+table.wide { font-size: .82rem; }
+table.wide th, table.wide td { padding: .25rem .4rem; }
 thead th { border-bottom: 2px solid var(--ink); font-weight: 650; background: #fff; }
 tbody tr:nth-child(even) td { background: var(--faint); }
 th:empty { background: none; }
@@ -114,6 +116,12 @@ nav.contents ol { margin: 0 0 .3rem; padding-left: 1.6rem; columns: 2 16rem; col
 nav.contents li { break-inside: avoid; }
 nav.contents a { color: var(--ink); text-decoration: none; }
 nav.contents a:hover { text-decoration: underline; }
+@media screen and (max-width: 40rem) {
+  body { padding: 1rem .6rem 3rem; font-size: 14px; }
+  table { font-size: .8rem; }
+  th, td { padding: .25rem .3rem; overflow-wrap: anywhere; }
+  td.num { white-space: normal; }
+}
 @page {
   size: A4; margin: 15mm 14mm 17mm;
   @bottom-right {
@@ -128,6 +136,7 @@ nav.contents a:hover { text-decoration: underline; }
   h2 { break-before: page; border-top: none; margin-top: 0; padding-top: 0; }
   h2, h3, h4 { break-after: avoid; }
   table { font-size: 8.3pt; }
+  table.wide { font-size: 7.6pt; }
   tr, figure, blockquote, nav.contents li { break-inside: avoid; }
   thead { display: table-header-group; }
   figure img { max-height: 200mm; }
