@@ -156,9 +156,6 @@ func measure(t *testing.T, bin, page string, w int, print bool) measured {
 		t.Fatal(err)
 	}
 	dom, console := browser(t, bin, cp, fmt.Sprintf("--window-size=%d,1200", w), "--dump-dom")
-	for _, l := range console {
-		t.Errorf("console at width %d: %s", w, l)
-	}
 	m := probeOut.FindStringSubmatch(dom)
 	if m == nil {
 		t.Fatalf("the probe wrote nothing at width %d (did the page load?)", w)
@@ -167,39 +164,81 @@ func measure(t *testing.T, bin, page string, w int, print bool) measured {
 	if err := json.Unmarshal([]byte(html.UnescapeString(m[1])), &got); err != nil {
 		t.Fatalf("the probe's output: %v", err)
 	}
+	for _, l := range console {
+		got.Errors = append(got.Errors, "console: "+l)
+	}
 	return got
 }
 
-// check fails on what a reader would see as broken at this width.
+// check fails on what problems finds.
 func check(t *testing.T, m measured, what string, figures int) {
 	t.Helper()
 	if m.ClientWidth <= 0 {
 		t.Fatalf("%s: no layout width measured", what)
 	}
-	for _, e := range m.Errors {
-		t.Errorf("%s: %s", what, e)
+	for _, p := range problems(m, figures) {
+		t.Errorf("%s: %s", what, p)
 	}
+}
+
+// problems lists what a reader would see as broken in the measured
+// page: script errors, resources that failed, blocked requests, a
+// sideways scroll, anything beyond the right edge, a table wider than
+// the page, and a figure missing or not loaded.
+func problems(m measured, figures int) []string {
+	var p []string
+	p = append(p, m.Errors...)
 	for _, b := range m.Blocked {
-		t.Errorf("%s: the page asked for something its policy blocks (an outside request): %s", what, b)
+		p = append(p, "the page asked for something its policy blocks (an outside request): "+b)
 	}
 	if m.ScrollWidth > m.ClientWidth {
-		t.Errorf("%s: the page scrolls sideways (%v px of content in %v)", what, m.ScrollWidth, m.ClientWidth)
+		p = append(p, fmt.Sprintf("the page scrolls sideways (%v px of content in %v)", m.ScrollWidth, m.ClientWidth))
 	}
 	for _, o := range m.Outside {
-		t.Errorf("%s: beyond the right edge: %s", what, o)
+		p = append(p, "beyond the right edge: "+o)
 	}
 	for _, tb := range m.Tables {
 		if tb.Right > m.ClientWidth+0.5 {
-			t.Errorf("%s: the table %q is wider than the page (right edge at %.0f of %v px)", what, tb.Head, tb.Right, m.ClientWidth)
+			p = append(p, fmt.Sprintf("the table %q is wider than the page (right edge at %.0f of %v px)", tb.Head, tb.Right, m.ClientWidth))
 		}
 	}
 	if len(m.Images) != figures {
-		t.Errorf("%s: %d images on the page, want the %d figures", what, len(m.Images), figures)
+		p = append(p, fmt.Sprintf("%d images on the page, want the %d figures", len(m.Images), figures))
 	}
 	for _, i := range m.Images {
 		if !i.Loaded || i.Width < 100 {
-			t.Errorf("%s: the figure %q did not load or shows %v px wide", what, i.Alt, i.Width)
+			p = append(p, fmt.Sprintf("the figure %q did not load or shows %v px wide", i.Alt, i.Width))
 		}
+	}
+	return p
+}
+
+// TestProbeFindsFaults: the probe and problems see each fault the
+// browser test exists for, on a page made to have them (so the test of
+// the real report can fail).
+func TestProbeFindsFaults(t *testing.T) {
+	bin := chromium(t)
+	dir := t.TempDir()
+	good := `data:image/svg+xml;base64,PHN2ZyB4bWxucz0iaHR0cDovL3d3dy53My5vcmcvMjAwMC9zdmciIHdpZHRoPSIyMDAiIGhlaWdodD0iMTAwIi8+`
+	page := `<!DOCTYPE html><html><head><meta charset="utf-8">` +
+		`<meta http-equiv="Content-Security-Policy" content="` + html.EscapeString(htmlreport.ContentSecurityPolicy) + `"></head><body>` +
+		`<img alt="fine" src="` + good + `">` +
+		`<img alt="outside" src="http://127.0.0.1:9/x.png">` +
+		`<img alt="broken" src="data:image/png;base64,AAAA">` +
+		`<table><tr><td>` + strings.Repeat("x", 400) + `</td></tr></table></body></html>`
+	path := filepath.Join(dir, "faulty.html")
+	if err := os.WriteFile(path, []byte(page), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	m := measure(t, bin, path, 800, false)
+	got := strings.Join(problems(m, 2), "\n")
+	for _, want := range []string{"policy blocks", "sideways", "wider than the page", "3 images on the page, want the 2", `"broken" did not load`} {
+		if !strings.Contains(got, want) {
+			t.Errorf("the faulty page's problems lack %q:\n%s", want, got)
+		}
+	}
+	if strings.Contains(got, `"fine"`) {
+		t.Errorf("a good figure was reported:\n%s", got)
 	}
 }
 

@@ -112,7 +112,8 @@ func outline(doc ast.Node, src []byte) (string, []Entry) {
 
 // markNumbers gives every table cell whose text is a number, an
 // interval or a count with its share (such as "0.317 to 0.529" or
-// "446 (16.1%)") the class "num", which keeps it on one line, in tables
+// "446 (16.1%)"), or a short word or two, the class "num", which keeps
+// it on one line, in tables
 // of up to maxNumColumns columns; a wider table is marked "wide" and
 // its numbers may wrap, so that it fits the page.
 func markNumbers(doc ast.Node, src []byte) {
@@ -127,7 +128,7 @@ func markNumbers(doc ast.Node, src []byte) {
 		}
 		_ = ast.Walk(tb, func(n ast.Node, entering bool) (ast.WalkStatus, error) {
 			if c, ok := n.(*extast.TableCell); ok && entering {
-				if numeric(plainText(c, src)) {
+				if t := plainText(c, src); numeric(t) || len([]rune(t)) <= maxShortCell {
 					c.SetAttributeString("class", []byte("num"))
 				}
 				return ast.WalkSkipChildren, nil
@@ -137,6 +138,10 @@ func markNumbers(doc ast.Node, src []byte) {
 		return ast.WalkSkipChildren, nil
 	})
 }
+
+// maxShortCell is the longest text of a cell kept on one line as a
+// number is ("not met", "review").
+const maxShortCell = 12
 
 // maxNumColumns is the widest table whose numbers are kept on one line.
 const maxNumColumns = 6

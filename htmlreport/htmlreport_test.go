@@ -125,7 +125,7 @@ func TestPage(t *testing.T) {
 	if imgs != 1 || figures != 1 {
 		t.Errorf("%d images in %d figures, want 1 in 1", imgs, figures)
 	}
-	if strings.Join(nums, "|") != "0.317 to 0.529" {
+	if strings.Join(nums, "|") != "0.317 to 0.529|name" {
 		t.Errorf("cells marked as numbers: %q", nums)
 	}
 	body := textOf(doc)
