@@ -152,7 +152,10 @@ func Write(dir string, r *Result, opt WriteOptions) (*Written, error) {
 	inputs = append(inputs, opt.Inputs...)
 	var rec *history.Record
 	if opt.History != "" {
-		hr, err := historyRecord(opt.AuditDate, r)
+		// The record holds audit.json as written, outputs included.
+		rr := *r
+		rr.Audit = &a
+		hr, err := historyRecord(opt.AuditDate, &rr)
 		if err != nil {
 			return nil, err
 		}

@@ -35,7 +35,8 @@ func newCompareCmd(s *streams) *cobra.Command {
 		Short: "Compare two models on one cohort: paired DeLong test, Brier difference, decision curves",
 		Long: `Compare two frozen models (or a frozen model and a column of predicted
 risks) on the same patients of one cohort: the rows complete for both.
-Writes DIR/compare.md, DIR/compare.json and DIR/decision_curves.svg with:
+Writes DIR/compare.md, DIR/compare.html (the same, as one page for the
+browser), DIR/compare.json and DIR/decision_curves.svg with:
 
   the paired DeLong test of the two correlated AUCs (DeLong, DeLong &
   Clarke-Pearson 1988): difference a − b, its SE, 95% CI, z and p;
