@@ -136,7 +136,7 @@ func runCompare(ctx context.Context, o *compareOptions, s *streams) error {
 		fmt.Fprintf(s.out, "Compared %s (a) with %s (b) on %d patients of %s\n", c.ModelA, c.ModelB, c.Used, cohortIn.Path)
 		fmt.Fprintf(s.out, "  AUC a %.3f, b %.3f; difference %.4f (95%% CI %.4f to %.4f), z %.2f, p %s\n", d.AUCA, d.AUCB, d.Difference, d.DifferenceCI[0], d.DifferenceCI[1], d.Z, report.FormatP(d.P))
 		fmt.Fprintf(s.out, "  Brier a %.4f, b %.4f; difference %.4f (95%% CI %.4f to %.4f)\n", b.A, b.B, b.Difference, b.DifferenceCI[0], b.DifferenceCI[1])
-		fmt.Fprintf(s.out, "Wrote %s\n", filepath.Join(o.out, "compare.md"))
+		fmt.Fprintf(s.out, "Wrote %s and %s\n", filepath.Join(o.out, "compare.md"), filepath.Join(o.out, "compare.html"))
 		replacedNote(s, o.out, "comparison", w)
 	}
 	return nil
