@@ -53,7 +53,7 @@ func chromium(t *testing.T) string {
 // its standard output and the console lines of its log.
 func browser(t *testing.T, bin string, page string, args ...string) (string, []string) {
 	t.Helper()
-	ctx, cancel := context.WithTimeout(context.Background(), 90*time.Second)
+	ctx, cancel := context.WithTimeout(context.Background(), 3*time.Minute)
 	defer cancel()
 	base := []string{"--headless", "--no-sandbox", "--disable-gpu", "--no-first-run", "--disable-extensions",
 		"--disable-dev-shm-usage", "--hide-scrollbars", "--user-data-dir=" + t.TempDir(),
@@ -252,6 +252,7 @@ func TestReportInBrowser(t *testing.T) {
 		{"stress", stressAudit},
 	} {
 		t.Run(c.name, func(t *testing.T) {
+			t.Parallel()
 			dir := c.make(t, t.TempDir())
 			page := filepath.Join(dir, "report.html")
 			figures := countFigures(t, dir)
