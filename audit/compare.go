@@ -178,15 +178,25 @@ func scoreBoth(fr *cohort.Frame, specs []*model.Spec, reqs []cohort.Request, cfg
 // curves into dir (created if absent), whole and all or nothing, with
 // the rules of Write.
 func WriteComparison(dir string, c *CompareResult) (*Written, error) {
-	js, err := jsonout.Marshal(c.Comparison)
-	if err != nil {
-		return nil, err
-	}
 	var md bytes.Buffer
 	if err := report.WriteComparison(&md, c.Comparison, c.Figure.Name); err != nil {
 		return nil, err
 	}
-	return (&folderWrite{dir: dir, kind: "comparison", written: c.Made, inputs: c.Inputs, files: []atomicfile.File{
-		{Path: "compare.md", Data: md.Bytes()}, {Path: "compare.json", Data: js}, {Path: c.Figure.Name, Data: c.Figure.SVG},
-	}}).write()
+	page, err := htmlPage("compare.html", md.Bytes(), []plots.Figure{c.Figure})
+	if err != nil {
+		return nil, err
+	}
+	files := []atomicfile.File{{Path: "compare.md", Data: md.Bytes()}, page, {Path: c.Figure.Name, Data: c.Figure.SVG}}
+	// compare.json lists the folder's files, itself included.
+	cmp := *c.Comparison
+	cmp.Outputs = []string{"compare.json"}
+	for _, f := range files {
+		cmp.Outputs = append(cmp.Outputs, f.Path)
+	}
+	js, err := jsonout.Marshal(&cmp)
+	if err != nil {
+		return nil, err
+	}
+	files = append(files, atomicfile.File{Path: "compare.json", Data: js})
+	return (&folderWrite{dir: dir, kind: "comparison", written: c.Made, inputs: c.Inputs, files: files}).write()
 }

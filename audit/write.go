@@ -16,8 +16,10 @@ import (
 	"time"
 
 	"github.com/riskaudit/riskaudit/history"
+	"github.com/riskaudit/riskaudit/htmlreport"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/internal/jsonout"
+	"github.com/riskaudit/riskaudit/plots"
 	"github.com/riskaudit/riskaudit/report"
 )
 
@@ -52,7 +54,7 @@ type Written struct {
 
 // The names of every file an audit folder may hold (its figures are
 // plots' names), for recognising folders written before the manifest.
-var auditNames = []string{"report.md", "audit.json", "calibration.svg", "roc.svg", "decision_curve.svg",
+var auditNames = []string{"report.md", "report.html", "audit.json", "calibration.svg", "roc.svg", "decision_curve.svg",
 	"risk_histogram.svg", "subgroups.svg", "casemix_lp.svg", "casemix_differences.svg", FittedModelName}
 
 // CheckOutputDir refuses an output folder path that exists and is not a
@@ -121,24 +123,39 @@ func asConfigError(err error) error {
 // dir holding files riskaudit did not write. A run killed while it wrote
 // is finished or rolled back by the next Write into the same dir.
 func Write(dir string, r *Result, opt WriteOptions) (*Written, error) {
-	js, err := jsonout.Marshal(r.Audit)
-	if err != nil {
-		return nil, fmt.Errorf("writing audit.json: %w", err)
-	}
 	var md bytes.Buffer
 	if err := report.Write(&md, r.Audit, r.Figures); err != nil {
 		return nil, err
 	}
-	files := []atomicfile.File{{Path: "report.md", Data: md.Bytes()}, {Path: "audit.json", Data: js}}
+	page, err := htmlPage("report.html", md.Bytes(), r.Figures)
+	if err != nil {
+		return nil, err
+	}
+	files := []atomicfile.File{{Path: "report.md", Data: md.Bytes()}, page}
 	for _, f := range r.Figures {
 		files = append(files, atomicfile.File{Path: f.Name, Data: f.SVG})
 	}
 	files = append(files, r.Folder...)
+	// audit.json lists the folder's files, itself included; the result
+	// is left as it was.
+	a := *r.Audit
+	a.Outputs = []string{"audit.json"}
+	for _, f := range files {
+		a.Outputs = append(a.Outputs, f.Path)
+	}
+	js, err := jsonout.Marshal(&a)
+	if err != nil {
+		return nil, fmt.Errorf("writing audit.json: %w", err)
+	}
+	files = append(files, atomicfile.File{Path: "audit.json", Data: js})
 	inputs := append(r.inputs(), opt.History)
 	inputs = append(inputs, opt.Inputs...)
 	var rec *history.Record
 	if opt.History != "" {
-		hr, err := historyRecord(opt.AuditDate, r)
+		// The record holds audit.json as written, outputs included.
+		rr := *r
+		rr.Audit = &a
+		hr, err := historyRecord(opt.AuditDate, &rr)
 		if err != nil {
 			return nil, err
 		}
@@ -436,7 +453,7 @@ func ownedFolder(dir, kind string, entries []os.DirEntry) (string, error) {
 func namesOf(kind string) []string {
 	switch kind {
 	case "comparison":
-		return []string{"compare.md", "compare.json", "decision_curves.svg"}
+		return []string{"compare.md", "compare.html", "compare.json", "decision_curves.svg"}
 	case "trend":
 		return []string{"trend.md", "trend.json", "trend_auc.svg", "trend_oe.svg", "trend_slope.svg", "trend_citl.svg"}
 	}
@@ -628,4 +645,18 @@ func historyRecord(date string, r *Result) (history.Record, error) {
 		}
 	}
 	return rec, nil
+}
+
+// htmlPage renders a Markdown report as the self-contained HTML page
+// name, with the figures it shows embedded.
+func htmlPage(name string, md []byte, figures []plots.Figure) (atomicfile.File, error) {
+	files := make(map[string][]byte, len(figures))
+	for _, f := range figures {
+		files[f.Name] = f.SVG
+	}
+	b, err := htmlreport.Page(md, files)
+	if err != nil {
+		return atomicfile.File{}, fmt.Errorf("writing %s: %w", name, err)
+	}
+	return atomicfile.File{Path: name, Data: b}, nil
 }

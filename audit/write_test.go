@@ -2,6 +2,7 @@ package audit
 
 import (
 	"database/sql"
+	"encoding/json"
 	"errors"
 	"os"
 	"path/filepath"
@@ -67,8 +68,23 @@ func TestWriteReplacesWhole(t *testing.T) {
 	if !w.Replaced || w.ReplacedAt != "2026-11-30T08:00:00Z" {
 		t.Errorf("the second write did not say it replaced the first: %+v", w)
 	}
-	if got := names(t, dir); !reflect.DeepEqual(got, []string{".riskaudit.json", "audit.json", "report.md", "roc.svg"}) {
+	if got := names(t, dir); !reflect.DeepEqual(got, []string{".riskaudit.json", "audit.json", "report.html", "report.md", "roc.svg"}) {
 		t.Errorf("the folder holds %v", got)
+	}
+	// audit.json lists the folder's files, the manifest aside.
+	var doc struct {
+		Outputs []string `json:"outputs"`
+	}
+	b, err := os.ReadFile(filepath.Join(dir, "audit.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(b, &doc); err != nil {
+		t.Fatal(err)
+	}
+	slices.Sort(doc.Outputs)
+	if want := []string{"audit.json", "report.html", "report.md", "roc.svg"}; !reflect.DeepEqual(doc.Outputs, want) {
+		t.Errorf("audit.json lists the outputs %v, want %v", doc.Outputs, want)
 	}
 	if got := names(t, top); !reflect.DeepEqual(got, []string{"audit"}) {
 		t.Errorf("beside the folder: %v", got)

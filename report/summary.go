@@ -52,7 +52,7 @@ func WriteSummary(w io.Writer, a *validate.Audit, dir string, nfig int) error {
 	if co := a.Cohort; co.Excluded > 0 && co.Rows > 0 {
 		p("  missing     %d of %d rows (%.1f%%) left out: complete cases only\n", co.Excluded, co.Rows, 100*float64(co.Excluded)/float64(co.Rows))
 	}
-	p("Wrote %s, %s and %d figures\n", filepath.Join(dir, "report.md"), filepath.Join(dir, "audit.json"), nfig)
+	p("Wrote %s, %s, %s and %d figures\n", filepath.Join(dir, "report.md"), filepath.Join(dir, "report.html"), filepath.Join(dir, "audit.json"), nfig)
 	return ew.err
 }
 

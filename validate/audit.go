@@ -307,6 +307,9 @@ type Audit struct {
 	CohortIsDevelopment bool      `json:"cohort_is_development,omitempty"`
 	Summary             []Finding `json:"summary"`
 	Caution             string    `json:"caution"`
+	// Outputs are the files of the audit folder (names relative to it,
+	// audit.json included), filled in when the folder is written.
+	Outputs []string `json:"outputs,omitempty"`
 }
 
 // NewAudit assembles an audit from the new cohort's performance and,

@@ -45,6 +45,9 @@ type Comparison struct {
 	// cohort with their SHA-256.
 	Provenance Provenance `json:"provenance"`
 	Caution    string     `json:"caution"`
+	// Outputs are the files of the comparison folder (names relative to
+	// it, compare.json included), filled in when the folder is written.
+	Outputs []string `json:"outputs,omitempty"`
 }
 
 // CalibrationPair is the calibration of both models, measured as an

@@ -47,7 +47,8 @@ type auditOptions struct {
 }
 
 const auditLong = `Measure how a model performs on a cohort with observed outcomes and write
-an audit report: DIR/report.md, DIR/audit.json and SVG figures
+an audit report: DIR/report.md, DIR/report.html (the same report as one
+self-contained page for the browser and for print), DIR/audit.json and SVG figures
 (calibration, ROC curve, decision curve, predicted risk by outcome, and
 the subgroups and case-mix when those analyses run).
 

@@ -35,7 +35,8 @@ func newCompareCmd(s *streams) *cobra.Command {
 		Short: "Compare two models on one cohort: paired DeLong test, Brier difference, decision curves",
 		Long: `Compare two frozen models (or a frozen model and a column of predicted
 risks) on the same patients of one cohort: the rows complete for both.
-Writes DIR/compare.md, DIR/compare.json and DIR/decision_curves.svg with:
+Writes DIR/compare.md, DIR/compare.html (the same, as one page for the
+browser), DIR/compare.json and DIR/decision_curves.svg with:
 
   the paired DeLong test of the two correlated AUCs (DeLong, DeLong &
   Clarke-Pearson 1988): difference a − b, its SE, 95% CI, z and p;
@@ -137,7 +138,7 @@ func runCompare(ctx context.Context, o *compareOptions, s *streams) error {
 			report.Value(d.Difference, "%.4f"), report.Interval(d.DifferenceCI, "%.4f", ""), report.Value(d.Z, "%.2f"), report.FormatP(d.P))
 		fmt.Fprintf(s.out, "  Brier a %s, b %s; difference %s (95%% CI %s)\n", report.Value(b.A, "%.4f"), report.Value(b.B, "%.4f"),
 			report.Value(b.Difference, "%.4f"), report.Interval(b.DifferenceCI, "%.4f", ""))
-		fmt.Fprintf(s.out, "Wrote %s\n", filepath.Join(o.out, "compare.md"))
+		fmt.Fprintf(s.out, "Wrote %s and %s\n", filepath.Join(o.out, "compare.md"), filepath.Join(o.out, "compare.html"))
 		replacedNote(s, o.out, "comparison", w)
 	}
 	return nil

@@ -34,7 +34,7 @@ validation by 200 bootstrap replicates (seed 1). It writes:
   DIR/recipe.yaml       the model recipe
   DIR/frozen.yaml       the fitted, frozen model
   DIR/fit.json          the fit statistics as JSON
-  DIR/audit/            the audit: report.md, audit.json and SVG figures`,
+  DIR/audit/            the audit: report.md, report.html, audit.json and SVG figures`,
 		Example: `  riskaudit demo --out demo
   riskaudit audit --model demo/frozen.yaml --cohort demo/later.csv --dev demo/development.csv --out demo/audit`,
 		Args: cobra.NoArgs,
