@@ -9,6 +9,7 @@ import (
 	"io"
 	"maps"
 	"math"
+	"path/filepath"
 	"slices"
 	"strings"
 
@@ -99,6 +100,13 @@ func (r *renderer) header() {
 	a := r.a
 	r.p("# Model audit: %s\n\n", Escape(a.Model.Name))
 	what := "the frozen model " + code(a.Model.Spec)
+	if fm := a.Model.FittedModel; fm != nil {
+		what = "the recipe " + code(a.Model.Spec) + " as fitted in this audit"
+		if dev := a.Development; dev != nil && dev.File != "" {
+			what += " on " + code(dev.File)
+		}
+		what += " (written as " + code(filepath.Base(fm.Path)) + ")"
+	}
 	if a.Model.Source == "predicted risks" {
 		what = "the predicted risks in column " + code(a.Model.Column)
 	}
@@ -773,7 +781,7 @@ func num(v float64, format string) string {
 // ("-0.0000" is "0.0000"): a value that rounds to zero has no sign worth
 // reading.
 func noNegativeZero(s string) string {
-	if strings.HasPrefix(s, "-") && strings.Trim(s[1:], "0.") == "" {
+	if strings.HasPrefix(s, "-") && strings.Trim(s[1:], "0.%") == "" {
 		return s[1:]
 	}
 	return s
@@ -914,9 +922,9 @@ func (r *renderer) subgroupVerdictRows(t *table) {
 			t.add("every subgroup criterion in "+where, "—", fmt.Sprintf("%d events, %d non-events", g.Events, g.N-g.Events),
 				fmt.Sprintf("not judged: fewer than %d events or non-events", r.a.MinSubgroupEvents), "—")
 		case !c.Passed:
-			val := num(c.Value, "%.4g")
+			val := validate.FormatMeasure(c.Measure, c.Value)
 			if c.Interval != nil {
-				val = Interval(*c.Interval, "%.4g", "")
+				val = measureInterval(c.Measure, *c.Interval)
 			}
 			res := "**not met**"
 			if c.Note != "" {

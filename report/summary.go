@@ -53,6 +53,15 @@ func WriteSummary(w io.Writer, a *validate.Audit, dir string, nfig int) error {
 		p("  missing     %d of %d rows (%.1f%%) left out: complete cases only\n", co.Excluded, co.Rows, 100*float64(co.Excluded)/float64(co.Rows))
 	}
 	p("Wrote %s, %s, %s and %d figures\n", filepath.Join(dir, "report.md"), filepath.Join(dir, "report.html"), filepath.Join(dir, "audit.json"), nfig)
+	if fm := a.Model.FittedModel; fm != nil {
+		p("Wrote %s (the model fitted from the recipe %s)\n", fm.Path, a.Model.Spec)
+	}
+	if u := a.Update; u != nil && u.ModelFile != "" {
+		p("Wrote %s (the model updated on this cohort: %s)\n", u.ModelFile, u.Chosen)
+	}
+	if in := a.Internal; in != nil && in.ShrunkenModel != "" {
+		p("Wrote %s (the model shrunk by the bootstrap's uniform shrinkage factor)\n", in.ShrunkenModel)
+	}
 	return ew.err
 }
 

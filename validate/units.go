@@ -61,7 +61,11 @@ func FormatMeasure(name string, v float64) string {
 	if PercentMeasure(name) {
 		v *= 100
 	}
-	return fmt.Sprintf(MeasureFormat(name), v)
+	s := fmt.Sprintf(MeasureFormat(name), v)
+	if strings.HasPrefix(s, "-") && strings.Trim(s[1:], "0.%") == "" {
+		return s[1:] // a value that prints as zero has no sign
+	}
+	return s
 }
 
 // formatBound writes a criterion's bound b in the measure's unit but with

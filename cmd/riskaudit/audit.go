@@ -101,6 +101,7 @@ every column rename (--rename or the plan's), the tool and the command line
 (the spec's or the plan's purpose section) heads the report, and an
 appendix maps the report to the TRIPOD+AI checklist. A recipe fitted
 inside the audit is written into DIR as fitted_model.yaml.
+
 Subgroups: --subgroups measures AUC, O/E, calibration-in-the-large and
 slope in every level of categorical columns (sex,site) and in bands of
 numeric ones: age:65,75 cuts age into <65, 65-<75 and >=75 (each band
@@ -190,12 +191,12 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.Float64Var(&o.cfg.Measures.Span, "lowess-span", 0.75, "span of the LOWESS calibration curve")
 	f.Float64Var(&o.delta, "lowess-delta", -1, "LOWESS δ; negative chooses 0 up to 10,000 rows, 1% of the risk range up to 100,000 rows and 2% beyond")
 	f.Float64Var(&o.cfg.Measures.Epsilon, "clamp", validate.DefaultEpsilon, "risks of exactly 0 or 1 are clamped to [clamp, 1 − clamp] for the logit")
-	f.IntVar(&o.cfg.Bootstrap, "bootstrap", 0, "internal validation: bootstrap replicates of the development data (refitting the recipe each time)")
+	f.IntVar(&o.cfg.Bootstrap, "bootstrap", 0, "internal validation: bootstrap replicates of the development data, refitting the recipe each time (at least 10; 200 or more is common practice)")
 	f.Uint64Var(&o.cfg.Seed, "seed", 1, "seed of the bootstrap draws (the same seed gives the same numbers whatever --workers)")
 	f.IntVar(&o.cfg.Workers, "workers", 0, "goroutines for the bootstrap (default: all cores)")
 	f.StringVar(&o.cfg.ResampleLog, "resample-log", "", "write the rows each bootstrap replicate drew (0-based, after exclusions, in file order), one line per replicate")
 	f.StringVar(&o.cfg.Shrunken, "shrunken", "", "write a frozen model shrunk by the bootstrap's uniform shrinkage factor")
-	f.IntVar(&o.cfg.CIBootstrap, "ci-bootstrap", 0, "percentile intervals for ICI, E50, E90, scaled Brier and net benefit from this many replicates of the cohort")
+	f.IntVar(&o.cfg.CIBootstrap, "ci-bootstrap", 0, "percentile intervals for ICI, E50, E90, scaled Brier and net benefit from this many replicates of the cohort (at least 20)")
 	f.BoolVar(&o.cfg.Firth, "firth", false, "fit the recipe (and every bootstrap refit) by Firth's penalised likelihood")
 	f.StringVar(&o.planFile, "plan", "", "audit plan (YAML): model, data, renames, subgroups, criteria, outputs; flags override it")
 	f.StringVar(&o.history, "history", "", "append the audit's summary to this history store (SQLite)")

@@ -67,7 +67,7 @@ browser), DIR/compare.json and DIR/decision_curves.svg with:
 	f.StringVar(&o.cohortFile, "cohort", "", "the cohort (CSV or TSV with a header row, Parquet, Arrow IPC, or an Excel workbook)")
 	f.StringVar(&o.out, "out", "", "output folder")
 	f.StringVar(&o.thresholds, "thresholds", "0.05:0.50:0.05", "decision-curve thresholds: FROM:TO:STEP or a list")
-	f.IntVar(&o.ciBootstrap, "ci-bootstrap", 1000, "replicates of the bootstrap percentile interval of the Brier difference")
+	f.IntVar(&o.ciBootstrap, "ci-bootstrap", 1000, "replicates of the bootstrap percentile intervals of the Brier difference and the ICIs (at least 100)")
 	f.IntVar(&o.ciBootstrap, "bootstrap", 1000, "the former name of --ci-bootstrap")
 	_ = f.MarkHidden("bootstrap")
 	f.Uint64Var(&o.seed, "seed", 1, "seed of the bootstrap")

@@ -29,9 +29,9 @@ func (f *dataFlags) register(fs *pflag.FlagSet) {
 	fs.BoolVar(&f.decimalComma, "decimal-comma", false, "read numbers written with a decimal comma, such as 27,5")
 	fs.StringVar(&f.missing, "missing", "complete-case", "missing-value policy: complete-case (leave out rows missing a model column) or fail")
 	fs.StringSliceVar(&f.naValues, "na-values", nil, "field values that mean missing, comma-separated (default: empty, NA, ., NaN)")
-	fs.StringVar(&f.format, "format", "auto", "cohort file format: csv (delimited text), parquet, arrow (Arrow IPC file), xlsx (Excel workbook), or auto (columnar files and workbooks are recognised by their first bytes)")
+	fs.StringVar(&f.format, "format", "auto", "input file format: csv (delimited text), parquet, arrow (Arrow IPC file), xlsx (Excel workbook), or auto (columnar files and workbooks are recognised by their first bytes)")
 	fs.StringVar(&f.sheet, "sheet", "", "worksheet to read from an Excel workbook, by name (default: the first worksheet); other formats ignore it")
-	fs.StringArrayVar(&f.rename, "rename", nil, "read the file's column OLD as NEW, written OLD=NEW (repeat for each column; added to a plan's renames)")
+	fs.StringArrayVar(&f.rename, "rename", nil, "read the file's column OLD as NEW, written OLD=NEW (repeat for each column; in audit --plan, added to the plan's renames)")
 }
 
 // options returns how to read the files and whether a missing value is

@@ -56,8 +56,12 @@ func (f *queryFlags) register(fs *pflag.FlagSet, roles map[string]string) {
 	sort.Strings(names)
 	for _, role := range names {
 		rq := &roleQuery{flag: role + "-query", fileFlag: role + "-query-file", pathFlag: roles[role]}
-		fs.StringVar(&rq.inline, rq.flag, "", "read the "+role+" data from this SQL query (PostgreSQL, in a read-only transaction) instead of --"+rq.pathFlag)
-		fs.StringVar(&rq.file, rq.fileFlag, "", "read the "+role+" data from the SQL query in this file")
+		what := map[string]string{"cohort": "the cohort", "dev": "the development data"}[role]
+		if what == "" {
+			what = "the " + role
+		}
+		fs.StringVar(&rq.inline, rq.flag, "", "read "+what+" from this SQL query (PostgreSQL, in a read-only transaction) instead of --"+rq.pathFlag)
+		fs.StringVar(&rq.file, rq.fileFlag, "", "read "+what+" from the SQL query in this file")
 		f.roles[role] = rq
 	}
 }
