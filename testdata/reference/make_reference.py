@@ -316,6 +316,7 @@ def firth(X, y, terms):
 def main():
     write_open_data()
     write_meta_reference()
+    write_clusters_reference()
     ref = {"_source": "testdata/reference/make_reference.py (statsmodels Logit, scipy.stats)", "fits": {}}
 
     sp = load_csv("spector.csv")
@@ -958,6 +959,102 @@ def write_meta_reference():
         out.append(row)
     ref = {"_source": "testdata/reference/make_reference.py (statsmodels combine_effects, scipy.stats, numpy)", "datasets": out}
     with open(os.path.join(HERE, "meta.json"), "w") as f:
+        json.dump(ref, f, indent=1, sort_keys=True)
+        f.write("\n")
+
+
+def pool_transcribed(y, v, method):
+    """Random-effects pooling as write_meta_reference transcribes it: τ²
+    by DerSimonian-Laird (statsmodels combine_effects, truncated at 0) or
+    REML (reml_tau2), the HKSJ interval and the prediction interval."""
+    from statsmodels.stats.meta_analysis import combine_effects
+    from scipy import stats
+    y, v = np.array(y), np.array(v)
+    k = len(y)
+    t = max(0.0, combine_effects(y, v, method_re="dl").tau2) if method == "dl" else reml_tau2(y, v)
+    w = 1 / (v + t)
+    mu = (w @ y) / w.sum()
+    se = 1 / np.sqrt(w.sum())
+    hk = np.sqrt((w @ (y - mu) ** 2) / ((k - 1) * w.sum()))
+    tq = stats.t.ppf(0.975, k - 1)
+    s = np.sqrt(t + se ** 2)
+    tp = stats.t.ppf(0.975, k - 2)
+    q = combine_effects(y, v, method_re="dl").q
+    return {"tau2": t, "estimate": mu, "ci": [mu - tq * hk, mu + tq * hk], "pi": [mu - tp * s, mu + tp * s],
+            "i2": max(0.0, (q - (k - 1)) / q), "k": k, "scale": s, "df": k - 2}
+
+
+def write_clusters_reference():
+    """An invented multicentre validation (clusters.csv: cluster, risk,
+    outcome), drawn with numpy's seeded PCG64 generator: eight clusters
+    whose true calibration intercept and slope differ, and one cluster
+    with too few events. Per cluster (clusters.json): n, events, AUC by
+    scikit-learn's roc_auc_score with DeLong's standard error by the
+    quadratic transcription delong_quadratic, O/E with the standard error
+    of ln O/E sqrt((1 - O/n)/O) (Debray et al. 2017, transcribed),
+    calibration-in-the-large (offset) and slope with standard errors from
+    statsmodels GLM; then each of logit AUC, ln O/E, CITL and slope pooled
+    by pool_transcribed (REML and DerSimonian-Laird), and the probability
+    of C > 0.7, 0.8 <= O/E <= 1.2 and 0.9 <= slope <= 1.1 in a new
+    cluster from scipy.stats.t."""
+    from sklearn.metrics import roc_auc_score
+    from scipy import stats
+    rng = np.random.default_rng(20261202)
+    names, risks, ys = [], [], []
+    sizes = [400, 250, 600, 300, 500, 350, 450, 280, 60]
+    for c, n in enumerate(sizes):
+        a = rng.normal(0.0, 0.25)
+        b = rng.normal(1.0, 0.15)
+        lp = rng.normal(-1.3, 1.0, n) if c < 8 else rng.normal(-3.5, 0.5, n)
+        p = 1 / (1 + np.exp(-lp))
+        y = (rng.random(n) < 1 / (1 + np.exp(-(a + b * lp)))).astype(float)
+        names += [f"site {chr(65 + c)}"] * n
+        risks += [float(f"{v:.6f}") for v in p]
+        ys += y.tolist()
+    with open(os.path.join(HERE, "clusters.csv"), "w") as f:
+        f.write("site,risk,outcome\n")
+        for nm, r, y in zip(names, risks, ys):
+            f.write(f"{nm},{r:.6f},{int(y)}\n")
+    names, risks, ys = np.array(names), np.array(risks), np.array(ys)
+    fam = sm.families.Binomial()
+    per, sc = [], {"auc": ([], []), "oe": ([], []), "citl": ([], []), "slope": ([], [])}
+    for nm in sorted(set(names)):
+        m = names == nm
+        y, p = ys[m], risks[m]
+        lp = np.log(p) - np.log1p(-p)
+        n, o = len(y), y.sum()
+        row = {"cluster": nm, "n": int(n), "events": int(o)}
+        auc, se = delong_quadratic(y, p)
+        if abs(auc - roc_auc_score(y, p)) > 1e-12:
+            raise SystemExit("clusters: DeLong transcription and scikit-learn disagree on the AUC")
+        citl = sm.GLM(y, np.ones((n, 1)), family=fam, offset=lp).fit(tol=1e-12, maxiter=100)
+        slope = sm.GLM(y, sm.add_constant(lp), family=fam).fit(tol=1e-12, maxiter=100)
+        oe, lnse = o / p.sum(), np.sqrt((1 - o / n) / o)
+        row.update(auc=r12(auc), auc_se=r12(se) if np.isfinite(se) else None, oe=r12(oe), ln_oe_se=r12(lnse), citl=r12(citl.params[0]),
+                   citl_se=r12(citl.bse[0]), slope=r12(slope.params[1]), slope_se=r12(slope.bse[1]))
+        row["pooled"] = bool(min(o, n - o) >= 10)
+        per.append(row)
+        if row["pooled"]:
+            for key, est, s in [("auc", np.log(auc / (1 - auc)), se / (auc * (1 - auc))), ("oe", np.log(oe), lnse),
+                                ("citl", citl.params[0], citl.bse[0]), ("slope", slope.params[1], slope.bse[1])]:
+                sc[key][0].append(est)
+                sc[key][1].append(s ** 2)
+    bounds = {"auc": (np.log(0.7 / 0.3), np.inf), "oe": (np.log(0.8), np.log(1.2)), "slope": (0.9, 1.1)}
+    back = {"auc": lambda x: 1 / (1 + np.exp(-x)), "oe": np.exp, "citl": lambda x: x, "slope": lambda x: x}
+    pooled = {}
+    for method in ["reml", "dl"]:
+        pooled[method] = {}
+        for key, (y, v) in sc.items():
+            r = pool_transcribed(y, v, method)
+            out = {"tau2": r12(r["tau2"]), "i2": r12(r["i2"]), "k": r["k"], "estimate": r12(back[key](r["estimate"])),
+                   "ci": r12([back[key](x) for x in r["ci"]]), "prediction_interval": r12([back[key](x) for x in r["pi"]])}
+            if key in bounds:
+                lo, hi = bounds[key]
+                out["prob_acceptable"] = r12(stats.t.cdf(hi, r["df"], r["estimate"], r["scale"]) - stats.t.cdf(lo, r["df"], r["estimate"], r["scale"]))
+            pooled[method][key] = out
+    ref = {"_source": "testdata/reference/make_reference.py (numpy, scikit-learn, statsmodels GLM and combine_effects, scipy.stats)",
+           "per_cluster": per, "pooled": pooled}
+    with open(os.path.join(HERE, "clusters.json"), "w") as f:
         json.dump(ref, f, indent=1, sort_keys=True)
         f.write("\n")
 
