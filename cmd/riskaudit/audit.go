@@ -18,10 +18,10 @@ import (
 // auditOptions are the audit command's flags: most bind straight into
 // the audit's Config, the rest are the command line's own.
 type auditOptions struct {
-	cfg  audit.Config
+	cfg audit.Config
 	// clusters are read into cfg.Clusters (clusterflags.go).
 	clusters clusterFlags
-	data dataFlags
+	data     dataFlags
 	// predicted, outcome, event and nonEvent make cfg.Predicted.
 	predicted, outcome, event, nonEvent string
 	predictedPercent                    bool
