@@ -299,7 +299,7 @@ func measureCluster(level string, idx []int, y, p, lp []float64, minEvents int) 
 		}
 	case events < minEvents || nonEvents < minEvents:
 		for _, s := range all {
-			exclude(s, fmt.Sprintf("%d events and %d non-events, fewer than the %d each a cluster needs", events, nonEvents, minEvents))
+			exclude(s, fmt.Sprintf("%s and %s, fewer than the %d each a cluster needs", count(events, "event"), count(nonEvents, "non-event"), minEvents))
 		}
 	}
 	if events > 0 && nonEvents > 0 {
@@ -338,4 +338,12 @@ func measureCluster(level string, idx []int, y, p, lp []float64, minEvents int) 
 		}
 	}
 	return m
+}
+
+// count writes n with the noun, plural unless n is 1.
+func count(n int, noun string) string {
+	if n == 1 {
+		return "1 " + noun
+	}
+	return fmt.Sprintf("%d %ss", n, noun)
 }
