@@ -49,7 +49,8 @@ var clusterMeasures = []clusterMeasure{
 // interval (hollow and grey when the cluster was left out of that
 // measure's pooling), then the pooled estimate with its interval (thick)
 // and its 95% prediction interval for a new cluster (thin, dashed), and a
-// grey line at the value of perfect calibration or, for the AUC, 0.5.
+// grey line at the value of perfect calibration or, for the AUC, at the
+// smallest acceptable C (validate.AcceptBounds).
 func ClusterForests(c *validate.Clusters) ([]Figure, error) {
 	var figs []Figure
 	for _, m := range clusterMeasures {
@@ -64,6 +65,9 @@ func ClusterForests(c *validate.Clusters) ([]Figure, error) {
 
 func clusterForest(c *validate.Clusters, m clusterMeasure) ([]byte, error) {
 	pm := m.pooled(c)
+	if m.key == "auc" && c.Bounds.AUCMin > 0 {
+		m.ref = c.Bounds.AUCMin // the line a new cluster should stay right of
+	}
 	n := len(c.PerCluster) + 2 // a gap row, then the pooled row
 	labels := make(rowTicks, n)
 	p := newPlot(fmt.Sprintf("%s by %s", m.name, shorten(c.Column, 30)), m.axis, "")
@@ -116,7 +120,9 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) ([]byte, error) {
 			}
 			p.Add(seg)
 		}
-		v = clip(v)
+		if v < lo || v > hi {
+			continue // a cluster left out, its estimate beyond the axis
+		}
 		pt, err := plotter.NewScatter(plotter.XYs{{X: v, Y: y}})
 		if err != nil {
 			return nil, err
