@@ -60,7 +60,8 @@ type ClusterOptions struct {
 	MinEvents int
 	// Bounds of acceptable performance (zero: DefaultAcceptBounds).
 	Bounds AcceptBounds
-	// Epsilon clamps risks before logits, as for the overall measures.
+	// Epsilon clamps risks before logits, as for the overall measures
+	// (0: DefaultEpsilon).
 	Epsilon float64
 }
 
@@ -161,6 +162,9 @@ func MeasureClusters(y, p, lp []float64, col GroupColumn, opt ClusterOptions) (*
 	}
 	if err := opt.Bounds.Check(); err != nil {
 		return nil, err
+	}
+	if opt.Epsilon == 0 {
+		opt.Epsilon = DefaultEpsilon
 	}
 	if opt.Meta.Tau2 == "" {
 		opt.Meta.Tau2 = meta.REML
