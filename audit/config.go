@@ -140,6 +140,9 @@ type Config struct {
 	// validate.SubgroupReview (also ""), SubgroupFail or SubgroupIgnore.
 	SubgroupCriteria string
 
+	// Clusters asks for the validation across clusters (audit/clusters.go).
+	Clusters ClusterConfig
+
 	// Update, when set, updates the model on the cohort by closed testing
 	// at level UpdateAlpha (0: 0.05) and offers the chosen model at this
 	// path; its expected performance comes from UpdateBootstrap
@@ -242,6 +245,9 @@ func (c *Config) check() error {
 		if err := CheckAuditDate(c.AuditDate); err != nil {
 			return err
 		}
+	}
+	if err := c.Clusters.check(); err != nil {
+		return err
 	}
 	if err := validate.CheckSubgroupMode(c.SubgroupCriteria); err != nil {
 		return configErrorf("--subgroup-criteria: %v", err)

@@ -304,6 +304,11 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 			return err
 		}
 	}
+	if c.Clusters.Column != "" && r.cur.cluster != nil {
+		if err := r.clusters(a); err != nil {
+			return err
+		}
+	}
 	return nil
 }
 
@@ -351,6 +356,13 @@ func figures(a *validate.Audit, perf *validate.Performance) ([]plots.Figure, err
 			return nil, err
 		}
 		figs = append(figs, fig)
+	}
+	if a.Clusters != nil {
+		cf, err := plots.ClusterForests(a.Clusters)
+		if err != nil {
+			return nil, err
+		}
+		figs = append(figs, cf...)
 	}
 	if a.CaseMix != nil {
 		cf, err := plots.CaseMix(a.CaseMix)

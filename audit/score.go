@@ -24,6 +24,8 @@ type scored struct {
 	// rows (NaN where missing), cut into bands for the audited cohort
 	// only, since the quantiles are the audited cohort's.
 	bandValues [][]float64
+	// cluster codes the rows by the Config.Clusters column, or is nil.
+	cluster *validate.GroupColumn
 	// frame is the data as read, kept so that later analyses (case-mix,
 	// updating) need not read it again.
 	frame    *cohort.Frame
@@ -54,6 +56,14 @@ func (c *Config) requests(spec *model.Spec) ([]cohort.Request, error) {
 			}
 		}
 		reqs = append(reqs, cohort.Request{Name: g, Kind: cohort.Categorical})
+	}
+	if cc := c.Clusters.Column; cc != "" {
+		for _, q := range reqs {
+			if q.Name == cc && q.Kind != cohort.Categorical {
+				return nil, configErrorf("cluster column %q is a numeric predictor; a cluster column names hospitals, regions or periods", cc)
+			}
+		}
+		reqs = append(reqs, cohort.Request{Name: cc, Kind: cohort.Categorical})
 	}
 	for _, b := range c.Bands {
 		for _, q := range reqs {
@@ -143,6 +153,10 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input) (*scored
 	}
 	for _, g := range c.Subgroups {
 		sc.groups = append(sc.groups, groupColumn(fr.Column(g), m.Rows, m.N))
+	}
+	if cc := c.Clusters.Column; cc != "" {
+		gc := groupColumn(fr.Column(cc), m.Rows, m.N)
+		sc.cluster = &gc
 	}
 	for _, b := range c.Bands {
 		col, x := fr.Column(b.Column), make([]float64, m.N)

@@ -55,7 +55,8 @@ type Written struct {
 // The names of every file an audit folder may hold (its figures are
 // plots' names), for recognising folders written before the manifest.
 var auditNames = []string{"report.md", "report.html", "audit.json", "calibration.svg", "roc.svg", "decision_curve.svg",
-	"risk_histogram.svg", "subgroups.svg", "casemix_lp.svg", "casemix_differences.svg", FittedModelName}
+	"risk_histogram.svg", "subgroups.svg", "casemix_lp.svg", "casemix_differences.svg", FittedModelName,
+	"clusters_auc.svg", "clusters_oe.svg", "clusters_citl.svg", "clusters_slope.svg"}
 
 // CheckOutputDir refuses an output folder path that exists and is not a
 // folder, or is a symbolic link, with a *ConfigError.

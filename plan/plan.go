@@ -126,8 +126,12 @@ type Plan struct {
 	// Bands are the numeric subgroup columns of subgroups, each cut at
 	// given points or at quantiles; SubgroupCriteria how subgroup checks
 	// count in the verdict (review, fail or ignore).
-	Bands             []validate.Banding
-	SubgroupCriteria  string
+	Bands            []validate.Banding
+	SubgroupCriteria string
+	// Cluster is the cluster column and Clusters the options of the
+	// validation across clusters (plan/clusters.go).
+	Cluster           string
+	Clusters          Clusters
 	Criteria          []validate.Criterion
 	Bootstrap         int
 	Seed              uint64
@@ -194,7 +198,8 @@ func (pl *Plan) CheckFile(key string) error {
 var topKeys = []string{"name", "model", "predicted", "predicted_percent", "outcome", "event", "non_event", "dev", "cohort", "out", "history",
 	"audit_date", "rename", "subgroups", "min_subgroup_events", "subgroup_criteria", "criteria", "bootstrap", "ci_bootstrap",
 	"thresholds", "classify_at", "net_benefit_min_gain", "data", "sample_size", "purpose",
-	"db", "cohort_query", "cohort_query_file", "dev_query", "dev_query_file", "params"}
+	"db", "cohort_query", "cohort_query_file", "dev_query", "dev_query_file", "params",
+	"cluster", "clusters"}
 
 // Load reads the plan at path.
 func Load(path string) (*Plan, error) {
@@ -505,6 +510,10 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 		err = p.data(&pl.Data, v, pl.Set)
 	case "sample_size":
 		err = p.sampleSize(&pl.SampleSize, v, pl.Set)
+	case "cluster":
+		pl.Cluster, err = p.str(v, key)
+	case "clusters":
+		err = p.clusters(&pl.Clusters, v, pl.Set)
 	case "db", "cohort_query", "cohort_query_file", "dev_query", "dev_query_file", "params":
 		err = p.query(pl, key, v)
 	case "criteria":

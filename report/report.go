@@ -56,6 +56,7 @@ func Write(w io.Writer, a *validate.Audit, figures []plots.Figure) error {
 	r.usefulness()
 	r.sampleSize()
 	r.subgroups()
+	r.clusters()
 	r.caseMix()
 	r.update()
 	r.development()

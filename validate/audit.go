@@ -300,6 +300,8 @@ type Audit struct {
 	MinSubgroupEvents int `json:"min_subgroup_events,omitempty"`
 	// SubgroupBands say how each numeric subgroup column was banded.
 	SubgroupBands []BandInfo `json:"subgroup_bands,omitempty"`
+	// Clusters is the validation across clusters when asked.
+	Clusters *Clusters `json:"clusters,omitempty"`
 	// BootstrapCI holds percentile intervals on the cohort when asked.
 	BootstrapCI *PercentileCIs `json:"bootstrap_ci,omitempty"`
 	// CohortIsDevelopment says that no new cohort was given, so the

@@ -18,8 +18,10 @@ import (
 // auditOptions are the audit command's flags: most bind straight into
 // the audit's Config, the rest are the command line's own.
 type auditOptions struct {
-	cfg  audit.Config
-	data dataFlags
+	cfg audit.Config
+	// clusters are read into cfg.Clusters (clusterflags.go).
+	clusters clusterFlags
+	data     dataFlags
 	// predicted, outcome, event and nonEvent make cfg.Predicted.
 	predicted, outcome, event, nonEvent string
 	predictedPercent                    bool
@@ -148,6 +150,10 @@ const auditExample = `  # Audit a frozen model on a fresh extract
   riskaudit audit --model frozen.yaml --cohort new.csv --subgroups sex,age:65,75,bmi:q4 \
     --subgroup-criteria fail --out audit
 
+  # Across hospitals: measures per site, pooled by REML with HKSJ intervals,
+  # prediction intervals and the chance of acceptable performance in a new site
+  riskaudit audit --model frozen.yaml --cohort new.csv --cluster site --out audit
+
   # The cohort from a PostgreSQL query, the period bound as parameters
   # (the connection from PGHOST, PGUSER, … and the password file)
   riskaudit audit --model frozen.yaml --cohort-query-file cohort.sql \
@@ -208,6 +214,7 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.StringVar(&o.cfg.Update, "update", "", "update the model on the cohort by closed testing and write the chosen model here")
 	f.Float64Var(&o.cfg.UpdateAlpha, "update-alpha", 0.05, "significance level of the closed testing procedure")
 	f.IntVar(&o.cfg.UpdateBootstrap, "update-bootstrap", 200, "bootstrap replicates for the updated model's expected performance (0: none)")
+	o.clusters.register(f)
 	widthFlags(f, "sample-size check: ", &o.cfg.SampleSize.Targets)
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
 	o.data.register(f)
@@ -315,6 +322,9 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 		}
 	}
 	if err := o.checkValues(); err != nil {
+		return cfg, err
+	}
+	if cfg.Clusters, err = o.clusters.config(); err != nil {
 		return cfg, err
 	}
 	if cfg.Read, cfg.FailOnMissing, err = o.data.options(); err != nil {

@@ -69,6 +69,10 @@ func TestJSONKeysDocumented(t *testing.T) {
 		{"audit", "--model", filepath.Join(dir, "updated.yaml"), "--cohort", filepath.Join(demo, "later.csv"), "--out", filepath.Join(dir, "audit2"),
 			"--history", filepath.Join(dir, "h.sqlite"), "--audit-date", "2026-02-28", "-q"},
 		{"trend", "--history", filepath.Join(dir, "h.sqlite"), "--out", filepath.Join(dir, "trend")},
+		// Across clusters, on the invented multicentre cohort of the
+		// reference values (one site too small to pool).
+		{"audit", "--predicted", "risk", "--outcome", "outcome", "--event", "1", "--cohort", filepath.Join("..", "..", "testdata", "reference", "clusters.csv"),
+			"--cluster", "site", "--out", filepath.Join(dir, "clusters"), "-q"},
 	} {
 		if code := run(ctx, args, s); code != 0 && (args[0] != "audit" || code != exitCriterion) {
 			t.Fatalf("riskaudit %s: exit status %d", args[0], code)
@@ -76,7 +80,7 @@ func TestJSONKeysDocumented(t *testing.T) {
 	}
 	paths := map[string]bool{}
 	for _, f := range []string{filepath.Join(dir, "audit", "audit.json"), filepath.Join(dir, "planned", "audit.json"), filepath.Join(dir, "fit.json"), filepath.Join(dir, "cmp", "compare.json"), filepath.Join(dir, "size.json"),
-		filepath.Join(dir, "audit2", "audit.json"), filepath.Join(dir, "trend", "trend.json")} {
+		filepath.Join(dir, "audit2", "audit.json"), filepath.Join(dir, "trend", "trend.json"), filepath.Join(dir, "clusters", "audit.json")} {
 		raw, err := os.ReadFile(f)
 		if err != nil {
 			t.Fatal(err)

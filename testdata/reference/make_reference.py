@@ -315,6 +315,8 @@ def firth(X, y, terms):
 
 def main():
     write_open_data()
+    write_meta_reference()
+    write_clusters_reference()
     ref = {"_source": "testdata/reference/make_reference.py (statsmodels Logit, scipy.stats)", "fits": {}}
 
     sp = load_csv("spector.csv")
@@ -848,6 +850,211 @@ def write_subgroups_reference(bc):
     ref["net_benefit_gain"] = {"thresholds": [0.05, 0.1, 0.15, 0.2], "gains": r12(gains), "least": r12(min(gains)),
                                "at": [0.05, 0.1, 0.15, 0.2][int(np.argmin(gains))]}
     with open(os.path.join(HERE, "subgroups.json"), "w") as f:
+        json.dump(ref, f, indent=1, sort_keys=True)
+        f.write("\n")
+
+
+def reml_tau2(y, v):
+    """REML τ² transcribed in matrix form from Viechtbauer (2005, Journal
+    of Educational and Behavioral Statistics 30:261-293): with
+    W = diag(1/(v+τ²)) and P = W - W11'W/(1'W1), Fisher scoring
+    τ² += (y'PPy - tr P)/tr(PP), truncated at 0; checked against a direct
+    maximisation of the restricted log-likelihood
+    -1/2 ln|V| - 1/2 ln(1'V^-1 1) - 1/2 r'V^-1 r by scipy's bounded
+    minimize_scalar."""
+    from scipy import optimize
+    k = len(y)
+    one = np.ones(k)
+
+    def P(t):
+        W = np.diag(1 / (v + t))
+        Wo = W @ one
+        return W - np.outer(Wo, Wo) / (one @ Wo)
+
+    t = 0.0
+    for _ in range(1000):
+        Pt = P(t)
+        step = (y @ Pt @ Pt @ y - np.trace(Pt)) / np.trace(Pt @ Pt)
+        new = max(0.0, t + step)
+        if abs(new - t) <= 1e-15 * max(1.0, t):
+            t = new
+            break
+        t = new
+    else:
+        raise SystemExit("REML Fisher scoring did not converge")
+
+    def nll(t):
+        V = np.diag(v + t)
+        Vi = np.linalg.inv(V)
+        mu = (one @ Vi @ y) / (one @ Vi @ one)
+        r = y - mu
+        return 0.5 * (np.linalg.slogdet(V)[1] + np.log(one @ Vi @ one) + r @ Vi @ r)
+
+    hi = 10 * (np.var(y) + v.max())
+    opt = optimize.minimize_scalar(nll, bounds=(0.0, hi), method="bounded", options={"xatol": 1e-12})
+    best = opt.x if nll(opt.x) < nll(0.0) else 0.0
+    if abs(best - t) > 1e-6 * max(1.0, t) + 1e-9:
+        raise SystemExit(f"REML: Fisher scoring {t!r} but direct maximisation {best!r}")
+    return t
+
+
+def write_meta_reference():
+    """Random-effects meta-analysis (meta.json). τ² by DerSimonian-Laird
+    and Paule-Mandel, Cochran's Q, I² and the Wald interval from
+    statsmodels.stats.meta_analysis.combine_effects; τ² by REML from the
+    matrix transcription in reml_tau2; for every method the HKSJ interval
+    mu ± t_{k-1} sqrt(Σw(y-mu)²/((k-1)Σw)) (Hartung & Knapp 2001; Sidik &
+    Jonkman 2002), the prediction interval mu ± t_{k-2} sqrt(τ²+1/Σw)
+    (Higgins, Thompson & Spiegelhalter 2009) and the probability of
+    [lo, hi] under that t, by scipy.stats.t; the HKSJ variance is checked
+    against statsmodels' var_hksj_re for DL and PM."""
+    from statsmodels.stats.meta_analysis import combine_effects
+    from scipy import stats
+    datasets = [
+        ("six clusters, moderate heterogeneity", [1.10, 1.45, 0.82, 1.30, 0.95, 1.62], [0.020, 0.035, 0.015, 0.050, 0.025, 0.060], (1.0, np.inf)),
+        ("homogeneous: tau2 truncated at 0", [0.10, 0.12, 0.09, 0.11, 0.105], [0.04, 0.05, 0.03, 0.06, 0.045], (0.0, 0.2)),
+        ("k = 2", [-0.05, 0.30], [0.010, 0.020], (-0.2, 0.2)),
+        ("k = 3", [0.95, 1.05, 0.70], [0.004, 0.009, 0.006], (0.9, 1.1)),
+        ("large heterogeneity", [-0.9, 0.4, 1.8, -0.2, 0.9, 2.6, 0.1, -1.5], [0.05, 0.02, 0.08, 0.03, 0.04, 0.10, 0.02, 0.06], (-np.inf, 0.0)),
+        ("unequal variances", [0.02, -0.15, 0.20, 0.05, -0.30, 0.12, 0.00, 0.25, -0.08, 0.10],
+         [0.001, 0.02, 0.005, 0.2, 0.01, 0.003, 0.05, 0.015, 0.002, 0.008], (-0.1, 0.1)),
+    ]
+    out = []
+    for name, y, v, (lo, hi) in datasets:
+        y, v = np.array(y), np.array(v)
+        k = len(y)
+        row = {"name": name, "y": y.tolist(), "v": v.tolist(), "bounds": [lo if np.isfinite(lo) else None, hi if np.isfinite(hi) else None]}
+        dl = combine_effects(y, v, method_re="dl")
+        pm = combine_effects(y, v, method_re="pm", atol=1e-10, maxiter=1000)
+        row["q"] = r12(dl.q)
+        row["i2"] = r12(max(0.0, dl.i2))
+        taus = {"dl": max(0.0, dl.tau2), "pm": pm.tau2, "reml": reml_tau2(y, v)}
+        for method, t in taus.items():
+            w = 1 / (v + t)
+            mu = (w @ y) / w.sum()
+            se = 1 / np.sqrt(w.sum())
+            hk = np.sqrt((w @ (y - mu) ** 2) / ((k - 1) * w.sum()))
+            if method != "reml":
+                # statsmodels leaves a negative DL τ² untruncated: at τ² = 0
+                # the random-effects figures are its fixed-effect ones.
+                res = dl if method == "dl" else pm
+                fe = res.tau2 <= 0
+                mu_sm = res.mean_effect_fe if fe else res.mean_effect_re
+                hk_sm = res.var_hksj_fe if fe else res.var_hksj_re
+                if abs(max(0.0, res.tau2) - t) > 0 or abs(mu_sm - mu) > 1e-12 or abs(hk_sm - hk ** 2) > 1e-12 * hk ** 2 + 1e-15:
+                    raise SystemExit(f"meta {name} {method}: statsmodels disagrees")
+            tq = stats.t.ppf(0.975, k - 1)
+            z = stats.norm.ppf(0.975)
+            m = {"tau2": r12(t), "estimate": r12(mu), "wald_se": r12(se), "hksj_se": r12(hk),
+                 "hksj_ci": r12([mu - tq * hk, mu + tq * hk]), "wald_ci": r12([mu - z * se, mu + z * se])}
+            if k >= 3:
+                s = np.sqrt(t + se ** 2)
+                tp = stats.t.ppf(0.975, k - 2)
+                m["pi"] = r12([mu - tp * s, mu + tp * s])
+                m["prob"] = r12(stats.t.cdf(hi, k - 2, mu, s) - stats.t.cdf(lo, k - 2, mu, s))
+            else:
+                m["pi"] = None
+                m["prob"] = None
+            row[method] = m
+        out.append(row)
+    ref = {"_source": "testdata/reference/make_reference.py (statsmodels combine_effects, scipy.stats, numpy)", "datasets": out}
+    with open(os.path.join(HERE, "meta.json"), "w") as f:
+        json.dump(ref, f, indent=1, sort_keys=True)
+        f.write("\n")
+
+
+def pool_transcribed(y, v, method):
+    """Random-effects pooling as write_meta_reference transcribes it: τ²
+    by DerSimonian-Laird (statsmodels combine_effects, truncated at 0) or
+    REML (reml_tau2), the HKSJ interval and the prediction interval."""
+    from statsmodels.stats.meta_analysis import combine_effects
+    from scipy import stats
+    y, v = np.array(y), np.array(v)
+    k = len(y)
+    t = max(0.0, combine_effects(y, v, method_re="dl").tau2) if method == "dl" else reml_tau2(y, v)
+    w = 1 / (v + t)
+    mu = (w @ y) / w.sum()
+    se = 1 / np.sqrt(w.sum())
+    hk = np.sqrt((w @ (y - mu) ** 2) / ((k - 1) * w.sum()))
+    tq = stats.t.ppf(0.975, k - 1)
+    s = np.sqrt(t + se ** 2)
+    tp = stats.t.ppf(0.975, k - 2)
+    q = combine_effects(y, v, method_re="dl").q
+    return {"tau2": t, "estimate": mu, "ci": [mu - tq * hk, mu + tq * hk], "pi": [mu - tp * s, mu + tp * s],
+            "i2": max(0.0, (q - (k - 1)) / q), "k": k, "scale": s, "df": k - 2}
+
+
+def write_clusters_reference():
+    """An invented multicentre validation (clusters.csv: cluster, risk,
+    outcome), drawn with numpy's seeded PCG64 generator: eight clusters
+    whose true calibration intercept and slope differ, and one cluster
+    with too few events. Per cluster (clusters.json): n, events, AUC by
+    scikit-learn's roc_auc_score with DeLong's standard error by the
+    quadratic transcription delong_quadratic, O/E with the standard error
+    of ln O/E sqrt((1 - O/n)/O) (Debray et al. 2017, transcribed),
+    calibration-in-the-large (offset) and slope with standard errors from
+    statsmodels GLM; then each of logit AUC, ln O/E, CITL and slope pooled
+    by pool_transcribed (REML and DerSimonian-Laird), and the probability
+    of C > 0.7, 0.8 <= O/E <= 1.2 and 0.9 <= slope <= 1.1 in a new
+    cluster from scipy.stats.t."""
+    from sklearn.metrics import roc_auc_score
+    from scipy import stats
+    rng = np.random.default_rng(20261202)
+    names, risks, ys = [], [], []
+    sizes = [400, 250, 600, 300, 500, 350, 450, 280, 60]
+    for c, n in enumerate(sizes):
+        a = rng.normal(0.0, 0.25)
+        b = rng.normal(1.0, 0.15)
+        lp = rng.normal(-1.3, 1.0, n) if c < 8 else rng.normal(-3.5, 0.5, n)
+        p = 1 / (1 + np.exp(-lp))
+        y = (rng.random(n) < 1 / (1 + np.exp(-(a + b * lp)))).astype(float)
+        names += [f"site {chr(65 + c)}"] * n
+        risks += [float(f"{v:.6f}") for v in p]
+        ys += y.tolist()
+    with open(os.path.join(HERE, "clusters.csv"), "w") as f:
+        f.write("site,risk,outcome\n")
+        for nm, r, y in zip(names, risks, ys):
+            f.write(f"{nm},{r:.6f},{int(y)}\n")
+    names, risks, ys = np.array(names), np.array(risks), np.array(ys)
+    fam = sm.families.Binomial()
+    per, sc = [], {"auc": ([], []), "oe": ([], []), "citl": ([], []), "slope": ([], [])}
+    for nm in sorted(set(names)):
+        m = names == nm
+        y, p = ys[m], risks[m]
+        lp = np.log(p) - np.log1p(-p)
+        n, o = len(y), y.sum()
+        row = {"cluster": nm, "n": int(n), "events": int(o)}
+        auc, se = delong_quadratic(y, p)
+        if abs(auc - roc_auc_score(y, p)) > 1e-12:
+            raise SystemExit("clusters: DeLong transcription and scikit-learn disagree on the AUC")
+        citl = sm.GLM(y, np.ones((n, 1)), family=fam, offset=lp).fit(tol=1e-12, maxiter=100)
+        slope = sm.GLM(y, sm.add_constant(lp), family=fam).fit(tol=1e-12, maxiter=100)
+        oe, lnse = o / p.sum(), np.sqrt((1 - o / n) / o)
+        row.update(auc=r12(auc), auc_se=r12(se) if np.isfinite(se) else None, oe=r12(oe), ln_oe_se=r12(lnse), citl=r12(citl.params[0]),
+                   citl_se=r12(citl.bse[0]), slope=r12(slope.params[1]), slope_se=r12(slope.bse[1]))
+        row["pooled"] = bool(min(o, n - o) >= 10)
+        per.append(row)
+        if row["pooled"]:
+            for key, est, s in [("auc", np.log(auc / (1 - auc)), se / (auc * (1 - auc))), ("oe", np.log(oe), lnse),
+                                ("citl", citl.params[0], citl.bse[0]), ("slope", slope.params[1], slope.bse[1])]:
+                sc[key][0].append(est)
+                sc[key][1].append(s ** 2)
+    bounds = {"auc": (np.log(0.7 / 0.3), np.inf), "oe": (np.log(0.8), np.log(1.2)), "slope": (0.9, 1.1)}
+    back = {"auc": lambda x: 1 / (1 + np.exp(-x)), "oe": np.exp, "citl": lambda x: x, "slope": lambda x: x}
+    pooled = {}
+    for method in ["reml", "dl"]:
+        pooled[method] = {}
+        for key, (y, v) in sc.items():
+            r = pool_transcribed(y, v, method)
+            out = {"tau2": r12(r["tau2"]), "i2": r12(r["i2"]), "k": r["k"], "estimate": r12(back[key](r["estimate"])),
+                   "ci": r12([back[key](x) for x in r["ci"]]), "prediction_interval": r12([back[key](x) for x in r["pi"]])}
+            if key in bounds:
+                lo, hi = bounds[key]
+                out["prob_acceptable"] = r12(stats.t.cdf(hi, r["df"], r["estimate"], r["scale"]) - stats.t.cdf(lo, r["df"], r["estimate"], r["scale"]))
+            pooled[method][key] = out
+    ref = {"_source": "testdata/reference/make_reference.py (numpy, scikit-learn, statsmodels GLM and combine_effects, scipy.stats)",
+           "per_cluster": per, "pooled": pooled}
+    with open(os.path.join(HERE, "clusters.json"), "w") as f:
         json.dump(ref, f, indent=1, sort_keys=True)
         f.write("\n")
 
