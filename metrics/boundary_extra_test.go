@@ -1,0 +1,38 @@
+package metrics
+
+import (
+	"math"
+	"testing"
+)
+
+// TestRiskOnThreshold: a risk exactly on a threshold is treated and
+// flagged (risk ≥ t, the convention the report states; net benefit of
+// Vickers & Elkin 2006 counted by hand here), in the classification and
+// the decision-curve paths alike. Rows: risks 0.1, 0.1, 0.2, 0.3, 0.05
+// with outcomes 1, 0, 1, 0, 0 at t = 0.1 and 0.2.
+func TestRiskOnThreshold(t *testing.T) {
+	y := []float64{1, 0, 1, 0, 0}
+	p := []float64{0.1, 0.1, 0.2, 0.3, 0.05}
+	s := SortByRisk(y, p)
+	ts := []float64{0.1, 0.2}
+	// At 0.1: treated rows 0.1, 0.1, 0.2, 0.3 → TP 2, FP 2, FN 0, TN 1.
+	// At 0.2: treated 0.2, 0.3 → TP 1, FP 1, FN 1, TN 2.
+	want := []struct{ tp, fp, fn, tn int }{{2, 2, 0, 1}, {1, 1, 1, 2}}
+	cls := Classify(s, ts)
+	nb := NetBenefits(s, ts)
+	for i, w := range want {
+		c := cls[i]
+		if c.Sensitivity.K != w.tp || c.Sensitivity.N != w.tp+w.fn || c.Specificity.K != w.tn || c.Specificity.N != w.tn+w.fp {
+			t.Errorf("t = %g: sensitivity %d/%d, specificity %d/%d; by hand %d/%d and %d/%d", ts[i],
+				c.Sensitivity.K, c.Sensitivity.N, c.Specificity.K, c.Specificity.N, w.tp, w.tp+w.fn, w.tn, w.tn+w.fp)
+		}
+		if f := float64(w.tp+w.fp) / 5; math.Abs(c.Flagged-f) > 1e-15 {
+			t.Errorf("t = %g: flagged %g, by hand %g", ts[i], c.Flagged, f)
+		}
+		odds := ts[i] / (1 - ts[i])
+		m := float64(w.tp)/5 - float64(w.fp)/5*odds
+		if math.Abs(nb[i].Model-m) > 1e-15 {
+			t.Errorf("t = %g: net benefit %g, by hand %g (a risk on the threshold is treated)", ts[i], nb[i].Model, m)
+		}
+	}
+}
