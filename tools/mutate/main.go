@@ -69,6 +69,7 @@ var mutations = []mutation{
 	// resample, update, model, logistic
 	{"percentile interval at 90%", "resample/percentile.go", "return [2]float64{metrics.Quantile7(v, 0.025), metrics.Quantile7(v, 0.975)}", "return [2]float64{metrics.Quantile7(v, 0.05), metrics.Quantile7(v, 0.95)}", []string{"./resample"}, ""},
 	{"optimism added instead of subtracted", "resample/optimism.go", "res.Corrected = res.Apparent.sub(res.Optimism)", "res.Corrected = res.Optimism.sub(res.Apparent)", []string{"./resample"}, ""},
+	{"bootstrap refits of a Firth recipe by maximum likelihood", "resample/optimism.go", "logistic.Options{Start: pr.Coef, Firth: pr.Firth, Workers: 1}", "logistic.Options{Start: pr.Coef, Workers: 1}", []string{"./resample"}, ""},
 	{"update AIC with 1 × parameters", "update/update.go", "AIC: s.d + 2*float64(s.k)", "AIC: s.d + float64(s.k)", []string{"./update"}, ""},
 	{"3-knot default at 5% and 95%", "model/design.go", "3: {0.10, 0.50, 0.90},", "3: {0.05, 0.50, 0.95},", []string{"./model"}, ""},
 	{"5-knot default middle quantiles", "model/design.go", "5: {0.05, 0.275, 0.50, 0.725, 0.95},", "5: {0.05, 0.25, 0.50, 0.75, 0.95},", []string{"./model"}, ""},
