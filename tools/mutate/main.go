@@ -11,7 +11,8 @@
 //
 // Each mutation names a file and an exact text that must occur in it
 // exactly once; a mutation whose text is not found is reported as stale
-// (the code moved on) and counts as neither. The kill rate is written
+// (the code moved on) and counts as neither, as does one that does not
+// compile. The kill rate is written
 // into DEVELOPERS.md by hand, with the reason for any survivor.
 package main
 
@@ -47,7 +48,7 @@ var mutations = []mutation{
 	{"AUC logit interval divided by AUC only", "metrics/discrimination.go", "h := z975 * se / (a * (1 - a))", "h := z975 * se / a", []string{"./metrics"}, ""},
 	{"z 1.645 (a 90% interval) everywhere", "metrics/numeric.go", "const z975 = 1.959963984540054", "const z975 = 1.6448536269514722", []string{"./metrics", "./validate"}, ""},
 	// metrics: calibration
-	{"O/E interval without the (1 − O/n) factor", "metrics/calibration.go", "h := z975 * math.Sqrt((1-observed/n)/observed)", "h := z975 * math.Sqrt(1/observed)", []string{"./metrics"}, ""},
+	{"O/E interval without the (1 − O/n) factor", "metrics/calibration.go", "h := z975 * math.Sqrt((1-observed/n)/observed)", "h := z975 * ((1 - observed/n) / observed)", []string{"./metrics"}, ""},
 	{"LOWESS Σl² over Σw instead of (Σw)²", "metrics/lowess.go", "sl2 := (a*a*sw2 - 2*a*b*sw2u + b*b*sw2u2) / (sw * sw)", "sl2 := (a*a*sw2 - 2*a*b*sw2u + b*b*sw2u2) / sw", []string{"./metrics", "./validate"}, ""},
 	{"LOWESS local mean Σw²/Σw", "metrics/lowess.go", "return ybar, localMeanSE(ybar, sw2/(sw*sw))", "return ybar, localMeanSE(ybar, sw2/sw)", []string{"./metrics", "./validate"}, ""},
 	{"LOWESS band ±1·SE", "validate/validate.go", "h := metrics.Z975 * c.SE[i]", "h := c.SE[i]", []string{"./validate"}, ""},
@@ -125,6 +126,12 @@ func main() {
 		ok, out := runTests(tmp, m)
 		if err := os.WriteFile(path, orig, 0o644); err != nil {
 			fail(err)
+		}
+		if !ok && (strings.Contains(out, "[build failed]") || strings.Contains(out, "[setup failed]")) {
+			// A mutation that does not compile tests nothing.
+			fmt.Printf("BROKEN    %-55s does not build%s\n", m.name, firstFailure(out))
+			stale++
+			continue
 		}
 		if ok {
 			survived++
