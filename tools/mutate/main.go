@@ -48,7 +48,7 @@ var mutations = []mutation{
 	{"AUC logit interval divided by AUC only", "metrics/discrimination.go", "h := z975 * se / (a * (1 - a))", "h := z975 * se / a", []string{"./metrics"}, ""},
 	{"z 1.645 (a 90% interval) everywhere", "metrics/numeric.go", "const z975 = 1.959963984540054", "const z975 = 1.6448536269514722", []string{"./metrics", "./validate"}, ""},
 	// metrics: calibration
-	{"O/E interval without the (1 − O/n) factor", "metrics/calibration.go", "h := z975 * math.Sqrt((1-observed/n)/observed)", "h := z975 * ((1 - observed/n) / observed)", []string{"./metrics"}, ""},
+	{"O/E interval without the square root", "metrics/calibration.go", "h := z975 * math.Sqrt((1-observed/n)/observed)", "h := z975 * ((1 - observed/n) / observed)", []string{"./metrics"}, ""},
 	{"LOWESS Σl² over Σw instead of (Σw)²", "metrics/lowess.go", "sl2 := (a*a*sw2 - 2*a*b*sw2u + b*b*sw2u2) / (sw * sw)", "sl2 := (a*a*sw2 - 2*a*b*sw2u + b*b*sw2u2) / sw", []string{"./metrics", "./validate"}, ""},
 	{"LOWESS local mean Σw²/Σw", "metrics/lowess.go", "return ybar, localMeanSE(ybar, sw2/(sw*sw))", "return ybar, localMeanSE(ybar, sw2/sw)", []string{"./metrics", "./validate"}, ""},
 	{"LOWESS band ±1·SE", "validate/validate.go", "h := metrics.Z975 * c.SE[i]", "h := c.SE[i]", []string{"./validate"}, ""},
