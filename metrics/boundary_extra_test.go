@@ -36,3 +36,21 @@ func TestRiskOnThreshold(t *testing.T) {
 		}
 	}
 }
+
+// TestQuantileSelectByHand: quantiles of type 7 (Hyndman & Fan 1996:
+// h = (n − 1)·q, x_⌊h⌋ + (h − ⌊h⌋)(x_⌊h⌋+1 − x_⌊h⌋), 0-based) of the
+// squares 0, 1, 4, …, 100 given out of order, worked by hand.
+func TestQuantileSelectByHand(t *testing.T) {
+	a := []float64{49, 0, 100, 9, 64, 1, 36, 81, 4, 25, 16}
+	for _, c := range []struct{ q, want float64 }{
+		{0, 0}, {0.5, 25}, {0.9, 81}, {1, 100},
+		{0.25, 6.5},  // h = 2.5: 4 + 0.5·(9 − 4)
+		{0.95, 90.5}, // h = 9.5: 81 + 0.5·(100 − 81)
+		{0.33, 11.1}, // h = 3.3: 9 + 0.3·(16 − 9)
+	} {
+		b := append([]float64(nil), a...)
+		if got := quantileSelect(b, c.q); math.Abs(got-c.want) > 1e-12 {
+			t.Errorf("quantile %g = %g, by hand %g", c.q, got, c.want)
+		}
+	}
+}
