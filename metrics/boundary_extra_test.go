@@ -54,3 +54,27 @@ func TestQuantileSelectByHand(t *testing.T) {
 		}
 	}
 }
+
+// TestLowessLocalMeanSEByHand: five rows at 0 and five at 1, span 0.75
+// (k = 7): at 0 the neighbourhood's radius is 1, the rows at 1 get
+// tricube weight 0 and the five at 0 weight 1, so x has no spread and the
+// fit is their mean ŝ = 2/5 with smoother weights 1/5 each: Σl² = 5/25
+// and SE = √(ŝ(1 − ŝ)/5) (the variance of a mean of five, worked by hand).
+func TestLowessLocalMeanSEByHand(t *testing.T) {
+	x := []float64{0, 0, 0, 0, 0, 1, 1, 1, 1, 1}
+	y := []float64{1, 0, 0, 1, 0, 1, 1, 0, 1, 1}
+	c := Lowess(x, y, LowessOptions{})
+	want := math.Sqrt(0.4 * 0.6 / 5)
+	for i := 0; i < 5; i++ {
+		if math.Abs(c.Fit[i]-0.4) > 1e-12 || math.Abs(c.SE[i]-want) > 1e-12 {
+			t.Errorf("row %d: fit %g SE %g, by hand 0.4 and %g", i, c.Fit[i], c.SE[i], want)
+		}
+	}
+	// At 1 the mean of the five rows there, 4/5.
+	want = math.Sqrt(0.8 * 0.2 / 5)
+	for i := 5; i < 10; i++ {
+		if math.Abs(c.Fit[i]-0.8) > 1e-12 || math.Abs(c.SE[i]-want) > 1e-12 {
+			t.Errorf("row %d: fit %g SE %g, by hand 0.8 and %g", i, c.Fit[i], c.SE[i], want)
+		}
+	}
+}
