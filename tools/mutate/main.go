@@ -55,7 +55,7 @@ var mutations = []mutation{
 	{"LOWESS δ 2% between 10,000 and 100,000 rows", "metrics/lowess.go", "return 0.01 * (xmax - xmin)", "return 0.02 * (xmax - xmin)", []string{"./metrics", "./validate"}, ""},
 	{"LOWESS δ from 1,000 rows", "metrics/lowess.go", "case n <= 10000:", "case n <= 1000:", []string{"./metrics", "./validate"}, ""},
 	{"LOWESS tricube as a square", "metrics/lowess.go", "wj := t * t * t", "wj := t * t", []string{"./metrics"}, ""},
-	{"Brier scaled by ȳ instead of ȳ(1 − ȳ)", "metrics/overall.go", "return brier, 1 - brier/(ybar*(1-ybar))", "return brier, 1 - brier/ybar", []string{"./metrics"}, ""},
+	{"Brier scaled by ȳ instead of ȳ(1 − ȳ)", "metrics/overall.go", "ybar := sum(y) / n\n\treturn brier, 1 - brier/(ybar*(1-ybar))", "ybar := sum(y) / n\n\treturn brier, 1 - brier/ybar", []string{"./metrics"}, ""},
 	// metrics: usefulness
 	{"risk on the threshold not treated (> instead of ≥)", "metrics/usefulness.go", "k := sort.SearchFloat64s(p, t) // rows [k, n) have p ≥ t", "k := sort.Search(n, func(j int) bool { return p[j] > t })", []string{"./metrics", "./validate"}, ""},
 	{"treat-all net benefit without the odds", "metrics/usefulness.go", "TreatAll:  events/n - (n-events)/n*odds,", "TreatAll:  events/n - (n-events)/n*c.Threshold,", []string{"./metrics"}, ""},
