@@ -7,7 +7,7 @@
 // Usage, from the repository root:
 //
 //	go run ./tools/mutate            # every mutation
-//	go run ./tools/mutate -only oe   # those whose name contains "oe"
+//	go run ./tools/mutate -only "O/E|Firth"   # those whose name contains either
 //
 // Each mutation names a file and an exact text that must occur in it
 // exactly once; a mutation whose text is not found is reported as stale
@@ -88,7 +88,7 @@ var mutations = []mutation{
 }
 
 func main() {
-	only := flag.String("only", "", "run only the mutations whose name contains this text")
+	only := flag.String("only", "", "run only the mutations whose name contains this text (alternatives separated by |)")
 	flag.Parse()
 	root, err := os.Getwd()
 	if err != nil {
@@ -106,7 +106,7 @@ func main() {
 	killed, survived, stale := 0, 0, 0
 	var survivors []string
 	for _, m := range mutations {
-		if *only != "" && !strings.Contains(m.name, *only) {
+		if *only != "" && !matchesAny(m.name, strings.Split(*only, "|")) {
 			continue
 		}
 		path := filepath.Join(tmp, m.file)
@@ -152,6 +152,15 @@ func main() {
 	for _, s := range survivors {
 		fmt.Println("  survived:", s)
 	}
+}
+
+func matchesAny(name string, parts []string) bool {
+	for _, p := range parts {
+		if strings.Contains(name, p) {
+			return true
+		}
+	}
+	return false
 }
 
 // runTests runs m's packages' tests in dir; it reports whether they
