@@ -115,6 +115,24 @@ func TestFirthBootstrapRefits(t *testing.T) {
 	if math.Abs(res.Optimism.Brier-brierOpt) > 1e-9 {
 		t.Errorf("Brier optimism %.10g, Firth refits by hand %.10g", res.Optimism.Brier, brierOpt)
 	}
+	// The corrected figure is the apparent one less the optimism (Efron
+	// 1983; Harrell, Lee & Mark 1996), the apparent one measured here on
+	// the original rows with the full Firth fit.
+	lpFull := make([]float64, n)
+	for i := range lpFull {
+		lpFull[i] = pr.X[i*p]*fit.Coef[0] + pr.X[i*p+1]*fit.Coef[1]
+	}
+	appSlope, _, err := metrics.CalibrationSlope(pr.Y, lpFull)
+	if err != nil {
+		t.Fatal(err)
+	}
+	appBrier := brier(pr.Y, risks(pr.X, n, fit.Coef))
+	if math.Abs(res.Apparent.Slope-appSlope.Value) > 1e-7 || math.Abs(res.Corrected.Slope-(appSlope.Value-slopeOpt)) > 1e-7 {
+		t.Errorf("slope apparent %.10g corrected %.10g; by hand %.10g and %.10g", res.Apparent.Slope, res.Corrected.Slope, appSlope.Value, appSlope.Value-slopeOpt)
+	}
+	if math.Abs(res.Corrected.Brier-(appBrier-brierOpt)) > 1e-9 {
+		t.Errorf("Brier corrected %.10g; by hand %.10g", res.Corrected.Brier, appBrier-brierOpt)
+	}
 	if math.Abs(mlSlopeOpt-slopeOpt) < 1e-4 {
 		t.Errorf("Firth and ML refits give slope optimism %g and %g: too close for the test to tell them apart", slopeOpt, mlSlopeOpt)
 	}
