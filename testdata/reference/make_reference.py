@@ -399,6 +399,7 @@ def main():
     write_casemix_reference(bc)
     write_samplesize_reference()
     write_subgroups_reference(bc)
+    write_extra_reference(bc)
     # Excel workbooks written by openpyxl, and the values in them
     from make_workbooks import write_workbooks
     write_workbooks(bc)
@@ -1062,6 +1063,100 @@ def write_clusters_reference():
 def roc_auc_score_(y, p):
     from sklearn.metrics import roc_auc_score
     return roc_auc_score(y, p)
+
+
+
+
+def lowess_band(x, y, span=0.75):
+    """The local linear smoother and its pointwise standard error, written
+    out with numpy from the definitions (Cleveland 1979; Cleveland & Devlin
+    1988, section 3) rather than from riskaudit's closed form: at each x0
+    the k = floor(span*n) nearest points with tricube weights, the fit
+    e1'(X'WX)^-1 X'W y, the smoother weights l = e1'(X'WX)^-1 X'W, and
+    SE = sqrt(s(1 - s) * sum(l^2)) with s(1 - s) clipped to [0, 1/4].
+    x must be untied."""
+    n = len(x)
+    k = int(span * n + 1e-10)
+    fit, se = np.empty(n), np.empty(n)
+    for i, x0 in enumerate(x):
+        d = np.abs(x - x0)
+        idx = np.argsort(d, kind="stable")[:k]
+        h = d[idx].max()
+        w = (1 - (d[idx] / h) ** 3) ** 3
+        X = np.column_stack([np.ones(k), x[idx] - x0])
+        A = np.linalg.solve(X.T @ (w[:, None] * X), (X * w[:, None]).T)
+        l = A[0]
+        fit[i] = l @ y[idx]
+        v = min(max(fit[i] * (1 - fit[i]), 0.0), 0.25)
+        se[i] = np.sqrt(v * np.sum(l ** 2))
+    return fit, se
+
+
+def write_extra_reference(bc):
+    """extra.json: values that had no outside reference before.
+
+      auc_logit_ci   the logit-scale AUC interval, transcribed with numpy:
+                     expit(logit(A) +- 1.96 SE/(A(1 - A))), A and SE from
+                     the quadratic DeLong transcription above, on the
+                     risks of audit_predictions.csv
+      lowess_band    the LOWESS fit and its pointwise SE on those risks
+                     (lowess_band above), and the band fit +- 1.96 SE
+      lowess_20000   statsmodels lowess (frac 0.75, it 0) on 20,000
+                     generated rows with delta = 1% of the range of x, the
+                     rule DefaultDelta documents between 10,000 and
+                     100,000 rows; every 500th fitted value and the ICI of
+                     the smooth clipped to [0, 1]
+      update_aic     statsmodels GLM .aic of the updating steps of
+                     update.json (the original model: its -2 log-likelihood,
+                     nothing estimated)
+      knots          numpy.quantile (linear, type 7) of the Wisconsin mean
+                     texture at the default knot quantiles for 3 to 7 knots
+                     (the table of model.DefaultKnots, recalled from
+                     Harrell 2015, section 2.4.6), rounded to 12 significant
+                     digits
+    """
+    rows = load_rows(os.path.join(HERE, "audit_predictions.csv"))
+    y = np.array([1.0 if r["diagnosis"] == "M" else 0.0 for r in rows])
+    p = np.array([float(r["risk"]) for r in rows])
+    ref = {"_source": "testdata/reference/make_reference.py write_extra_reference (numpy transcriptions, statsmodels lowess and GLM)"}
+    a, se = delong_quadratic(y, p)
+    lg = np.log(a / (1 - a))
+    half = 1.959963984540054 * se / (a * (1 - a))
+    ref["auc_logit_ci"] = r12([1 / (1 + np.exp(-(lg - half))), 1 / (1 + np.exp(-(lg + half)))])
+    order = np.argsort(p, kind="stable")
+    xs, ys = p[order], y[order]
+    fit, sd = lowess_band(xs, ys)
+    ref["lowess_band"] = {"x": r12(xs), "fit": r12(fit), "se": r12(sd),
+                          "lower": r12(fit - 1.959963984540054 * sd), "upper": r12(fit + 1.959963984540054 * sd)}
+
+    from statsmodels.nonparametric.smoothers_lowess import lowess
+    n = 20000
+    i = np.arange(n)
+    x = (i + 0.5) / n
+    yy = ((i * 7919) % 1000 < 1000 * x * 0.8 + 100).astype(float)
+    delta = 0.01 * (x.max() - x.min())
+    sm_fit = lowess(yy, x, frac=0.75, it=0, delta=delta, return_sorted=True)
+    clipped = np.clip(sm_fit[:, 1], 0, 1)
+    ref["lowess_20000"] = {"n": n, "delta": r12(delta), "every": 500,
+                           "fit": r12(sm_fit[::500, 1]), "ici": r12(np.mean(np.abs(sm_fit[:, 0] - clipped)))}
+
+    cols = ["mean_radius", "mean_texture", "mean_smoothness", "mean_concave_points"]
+    X = np.column_stack([np.ones(len(bc))] + [np.array([float(r[c]) for r in bc]) for c in cols])
+    yb = np.array([1.0 if r["diagnosis"] == "M" else 0.0 for r in bc])
+    lp = X @ np.array(UPDATE_BETA)
+    fam = sm.families.Binomial()
+    m1 = sm.GLM(yb, np.ones((len(yb), 1)), family=fam, offset=lp).fit(tol=1e-13, maxiter=200)
+    m2 = sm.GLM(yb, sm.add_constant(lp), family=fam).fit(tol=1e-13, maxiter=200)
+    m3 = sm.GLM(yb, X, family=fam, offset=lp).fit(tol=1e-13, maxiter=200)
+    ref["update_aic"] = r12([-2 * loglik(X, yb, np.array(UPDATE_BETA)), m1.aic, m2.aic, m3.aic])
+
+    texture = np.array([float(r["mean_texture"]) for r in bc])
+    table = {3: [0.10, 0.50, 0.90], 4: [0.05, 0.35, 0.65, 0.95], 5: [0.05, 0.275, 0.50, 0.725, 0.95],
+             6: [0.05, 0.23, 0.41, 0.59, 0.77, 0.95], 7: [0.025, 0.1833, 0.3417, 0.50, 0.6583, 0.8167, 0.975]}
+    ref["knots"] = {str(k): [float(f"{v:.12g}") for v in np.quantile(texture, q, method="linear")] for k, q in table.items()}
+    with open(os.path.join(HERE, "extra.json"), "w") as f:
+        json.dump(ref, f, indent=1, sort_keys=True)
+        f.write("\n")
 
 
 if __name__ == "__main__":
