@@ -1,0 +1,293 @@
+package monitor
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"sync"
+)
+
+// LimitOptions set the simulation that chooses a CUSUM's alarm limit.
+// Zero fields take the defaults.
+type LimitOptions struct {
+	// ARL is the in-control average run length to reach, in patients
+	// (default DefaultARL).
+	ARL float64
+	// Runs is the number of simulated in-control sequences (default
+	// 1,000), cut to fit MaxSteps.
+	Runs int
+	// MaxSteps bounds the work: Runs × the length of each run (default
+	// 2×10⁸ patient-steps, a few seconds on two cores).
+	MaxSteps int64
+	// Seed seeds the runs; run i draws from PCG(Seed, i), so the result
+	// does not depend on Workers.
+	Seed uint64
+	// Workers is the number of goroutines (default GOMAXPROCS).
+	Workers int
+}
+
+// DefaultARL is the default in-control average run length, 10,000
+// patients: a false alarm about once in 10,000 patients of a calibrated
+// model, the order of the run lengths Steiner et al. (2000) chose for
+// surgical mortality (from memory of the paper).
+const DefaultARL = 10000
+
+// Horizon is the length of each simulated run as a multiple of the
+// target ARL. Runs that have not crossed a limit by then count as
+// crossing at the horizon; with run lengths close to geometric the share
+// cut is about e^−8 ≈ 0.03%, and the ARL is biased down by about as
+// much, a tenth of the Monte Carlo error of 1,000 runs.
+const Horizon = 8
+
+// gridStep and gridMax define the limits at which the simulation records
+// first passages: h = 0.005, 0.010, …, 20.
+const (
+	gridStep = 0.005
+	gridMax  = 20.0
+)
+
+// Limit is a CUSUM alarm limit chosen by simulation.
+type Limit struct {
+	R   float64 `json:"odds_ratio"`
+	H   float64 `json:"h"`
+	HSE float64 `json:"h_mc_se"`
+	// ARL is the simulated in-control ARL at H, with its Monte Carlo
+	// standard error; TargetARL the ARL asked for.
+	ARL       float64 `json:"arl"`
+	ARLSE     float64 `json:"arl_mc_se"`
+	TargetARL float64 `json:"target_arl"`
+	Runs      int     `json:"runs"`
+	Horizon   int     `json:"horizon"`
+	// Censored is the number of runs that had not crossed H by the
+	// horizon.
+	Censored int    `json:"censored"`
+	Seed     uint64 `json:"seed"`
+}
+
+// ChooseLimits chooses the alarm limit h of a risk-adjusted CUSUM for
+// each odds ratio in rs so that its in-control average run length is
+// opt.ARL. Each simulated run is a sequence of patients drawn with
+// replacement from the model's own risks p (the extract's case mix), with
+// outcomes drawn from those risks (the model calibrated, "in control");
+// all charts are run on the same sequences. For every h on a grid of step
+// 0.005 the first passage S_t ≥ h is recorded, the ARL(h) curve averaged
+// over runs (exact integer sums, so the result is the same for any number
+// of workers), and h is the smallest grid point, linearly interpolated,
+// at which ARL(h) reaches the target. The Monte Carlo standard error of
+// the ARL there is sd(run length)/√runs, and that of h the ARL's divided
+// by the local slope dARL/dh (delta method).
+func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptions) ([]Limit, error) {
+	if len(p) == 0 {
+		return nil, fmt.Errorf("monitor: no risks to simulate from")
+	}
+	for i, v := range p {
+		if !(v > 0 && v < 1) {
+			return nil, fmt.Errorf("monitor: risk %d (%v) is not strictly between 0 and 1", i+1, v)
+		}
+	}
+	for _, r := range rs {
+		if !(r > 0) || r == 1 || math.IsInf(r, 0) {
+			return nil, fmt.Errorf("monitor: CUSUM odds ratio %v must be positive, finite and not 1", r)
+		}
+	}
+	if opt.ARL == 0 {
+		opt.ARL = DefaultARL
+	}
+	if !(opt.ARL >= 10) || math.IsInf(opt.ARL, 0) {
+		return nil, fmt.Errorf("monitor: in-control ARL %v must be at least 10 patients", opt.ARL)
+	}
+	if opt.Runs == 0 {
+		opt.Runs = 1000
+	}
+	if opt.MaxSteps == 0 {
+		opt.MaxSteps = 2e8
+	}
+	if opt.Workers <= 0 {
+		opt.Workers = runtime.GOMAXPROCS(0)
+	}
+	length := int64(math.Ceil(Horizon * opt.ARL))
+	runs := opt.Runs
+	if int64(runs)*length > opt.MaxSteps {
+		runs = int(opt.MaxSteps / length)
+	}
+	if runs < 100 {
+		return nil, fmt.Errorf("monitor: an in-control ARL of %g needs %d patient-steps for 100 runs, more than the bound of %d", opt.ARL, 100*length, opt.MaxSteps)
+	}
+	// Weights of every patient for every chart, drawn by index.
+	k := len(rs)
+	w0 := make([][]float64, k)
+	w1 := make([][]float64, k)
+	for c, r := range rs {
+		w0[c], w1[c] = make([]float64, len(p)), make([]float64, len(p))
+		for i, v := range p {
+			w0[c][i], w1[c][i] = Weights(v, r)
+		}
+	}
+	ng := int(math.Round(gridMax / gridStep))
+	type acc struct{ sum, sum2 [][]int64 }
+	newAcc := func() acc {
+		a := acc{sum: make([][]int64, k), sum2: make([][]int64, k)}
+		for c := range k {
+			a.sum[c], a.sum2[c] = make([]int64, ng), make([]int64, ng)
+		}
+		return a
+	}
+	accs := make([]acc, opt.Workers)
+	next := make(chan int)
+	var wg sync.WaitGroup
+	for w := range opt.Workers {
+		accs[w] = newAcc()
+		wg.Add(1)
+		go func(a acc) {
+			defer wg.Done()
+			s := make([]float64, k)
+			reached := make([]int, k) // grid points passed so far
+			for run := range next {
+				rng := rand.New(rand.NewPCG(opt.Seed, uint64(run)))
+				clear(s)
+				clear(reached)
+				done := 0
+				for t := int64(1); t <= length && done < k; t++ {
+					i := rng.IntN(len(p))
+					ev := rng.Float64() < p[i]
+					for c := range k {
+						if reached[c] == ng {
+							continue
+						}
+						w := w0[c][i]
+						if ev {
+							w = w1[c][i]
+						}
+						s[c] = math.Max(0, s[c]+w)
+						// grid point g (0-based) is h = (g+1)·step.
+						top := int(s[c] / gridStep)
+						if top > ng {
+							top = ng
+						}
+						for g := reached[c]; g < top; g++ {
+							a.sum[c][g] += t
+							a.sum2[c][g] += t * t
+						}
+						if top > reached[c] {
+							reached[c] = top
+							if top == ng {
+								done++
+							}
+						}
+					}
+				}
+				for c := range k {
+					for g := reached[c]; g < ng; g++ {
+						a.sum[c][g] += length
+						a.sum2[c][g] += length * length
+					}
+				}
+			}
+		}(accs[w])
+	}
+	var err error
+feed:
+	for run := range runs {
+		select {
+		case next <- run:
+		case <-ctx.Done():
+			err = ctx.Err()
+			break feed
+		}
+	}
+	close(next)
+	wg.Wait()
+	if err != nil {
+		return nil, fmt.Errorf("monitor: choosing CUSUM limits: %w", err)
+	}
+	total := newAcc()
+	for _, a := range accs {
+		for c := range k {
+			for g := range ng {
+				total.sum[c][g] += a.sum[c][g]
+				total.sum2[c][g] += a.sum2[c][g]
+			}
+		}
+	}
+	out := make([]Limit, k)
+	m := float64(runs)
+	for c, r := range rs {
+		arl := func(g int) float64 { return float64(total.sum[c][g]) / m }
+		g := 0
+		for g < ng && arl(g) < opt.ARL {
+			g++
+		}
+		if g == ng {
+			return nil, fmt.Errorf("monitor: the CUSUM for odds ratio %g does not reach an in-control ARL of %g below h = %g", r, opt.ARL, gridMax)
+		}
+		lim := Limit{R: r, TargetARL: opt.ARL, Runs: runs, Horizon: Horizon, Seed: opt.Seed}
+		h := float64(g+1) * gridStep
+		a := arl(g)
+		slope := math.NaN()
+		if g > 0 {
+			lo := arl(g - 1)
+			h = float64(g)*gridStep + gridStep*(opt.ARL-lo)/(a-lo)
+			a = opt.ARL
+			slope = (arl(g) - lo) / gridStep
+		}
+		// Monte Carlo error at the grid point reached.
+		mean := float64(total.sum[c][g]) / m
+		v := (float64(total.sum2[c][g])/m - mean*mean) * m / (m - 1)
+		lim.H, lim.ARL = h, a
+		lim.ARLSE = math.Sqrt(v / m)
+		lim.HSE = lim.ARLSE / slope
+		out[c] = lim
+	}
+	// The runs cut at the horizon are counted by replaying the same
+	// streams up to the chosen limit (about a horizon's share of the work).
+	for c := range out {
+		out[c].Censored = censored(ctx, p, w0[c], w1[c], out[c].H, length, runs, opt)
+	}
+	return out, nil
+}
+
+// censored counts the runs of ChooseLimits that do not cross h by the
+// horizon, replaying the same random streams for one chart.
+func censored(ctx context.Context, p, w0, w1 []float64, h float64, length int64, runs int, opt LimitOptions) int {
+	var mu sync.Mutex
+	n := 0
+	next := make(chan int)
+	var wg sync.WaitGroup
+	for range opt.Workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for run := range next {
+				rng := rand.New(rand.NewPCG(opt.Seed, uint64(run)))
+				s, crossed := 0.0, false
+				for t := int64(1); t <= length; t++ {
+					i := rng.IntN(len(p))
+					w := w0[i]
+					if rng.Float64() < p[i] {
+						w = w1[i]
+					}
+					if s = math.Max(0, s+w); s >= h {
+						crossed = true
+						break
+					}
+				}
+				if !crossed {
+					mu.Lock()
+					n++
+					mu.Unlock()
+				}
+			}
+		}()
+	}
+	for run := range runs {
+		if ctx.Err() != nil {
+			break
+		}
+		next <- run
+	}
+	close(next)
+	wg.Wait()
+	return n
+}
