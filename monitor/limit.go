@@ -251,34 +251,70 @@ feed:
 // censored counts the runs of ChooseLimits that do not cross h by the
 // horizon, replaying the same random streams for one chart.
 func censored(ctx context.Context, p, w0, w1 []float64, h float64, length int64, runs int, opt LimitOptions) int {
+	st := replay(ctx, p, w0, w1, h, length, runs, opt.Seed, opt.Workers, 0, 0)
+	return st.cut
+}
+
+// runStats are integer sums over simulated runs.
+type runStats struct {
+	sum, sum2 int64
+	cut       int // runs that did not signal by the horizon
+	early     int // runs that signalled before the change
+	n         int // runs counted in sum (signalled at or after the change)
+}
+
+// replay runs the CUSUM with weights w0, w1 on runs streams PCG(seed,
+// run) of patients drawn from p; from patient change + 1 on, the odds of
+// the event are multiplied by exp(shift). A run counts its first t with
+// S_t ≥ h, or length when it has none; with change > 0, a run that
+// signals at or before change counts as early and not in the sums, and
+// the others count t − change.
+func replay(ctx context.Context, p, w0, w1 []float64, h float64, length int64, runs int, seed uint64, workers int, change int64, shift float64) runStats {
 	var mu sync.Mutex
-	n := 0
+	var tot runStats
 	next := make(chan int)
 	var wg sync.WaitGroup
-	for range opt.Workers {
+	eShift := math.Exp(shift)
+	for range workers {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
+			var st runStats
 			for run := range next {
-				rng := rand.New(rand.NewPCG(opt.Seed, uint64(run)))
-				s, crossed := 0.0, false
+				rng := rand.New(rand.NewPCG(seed, uint64(run)))
+				s, at := 0.0, int64(0)
 				for t := int64(1); t <= length; t++ {
 					i := rng.IntN(len(p))
+					pi := p[i]
+					if change > 0 && t > change {
+						o := pi / (1 - pi) * eShift
+						pi = o / (1 + o)
+					}
 					w := w0[i]
-					if rng.Float64() < p[i] {
+					if rng.Float64() < pi {
 						w = w1[i]
 					}
 					if s = math.Max(0, s+w); s >= h {
-						crossed = true
+						at = t
 						break
 					}
 				}
-				if !crossed {
-					mu.Lock()
-					n++
-					mu.Unlock()
+				switch {
+				case at == 0:
+					st.cut++
+					at = length
+				case change > 0 && at <= change:
+					st.early++
+					continue
 				}
+				at -= change
+				st.sum += at
+				st.sum2 += at * at
+				st.n++
 			}
+			mu.Lock()
+			tot.sum, tot.sum2, tot.cut, tot.early, tot.n = tot.sum+st.sum, tot.sum2+st.sum2, tot.cut+st.cut, tot.early+st.early, tot.n+st.n
+			mu.Unlock()
 		}()
 	}
 	for run := range runs {
@@ -289,5 +325,61 @@ func censored(ctx context.Context, p, w0, w1 []float64, h float64, length int64,
 	}
 	close(next)
 	wg.Wait()
-	return n
+	return tot
+}
+
+// RunLength is a mean run length estimated by simulation.
+type RunLength struct {
+	// Mean and SE: the mean run length (or delay) in patients and its
+	// Monte Carlo standard error, over N runs.
+	Mean, SE float64
+	N        int
+	// Cut: runs without a signal by the horizon (counted at the
+	// horizon); Early: runs that signalled before the change (left out
+	// of Mean).
+	Cut, Early int
+}
+
+func (st runStats) runLength() RunLength {
+	rl := RunLength{N: st.n, Cut: st.cut, Early: st.early, Mean: math.NaN(), SE: math.NaN()}
+	if st.n > 1 {
+		m := float64(st.n)
+		rl.Mean = float64(st.sum) / m
+		v := (float64(st.sum2)/m - rl.Mean*rl.Mean) * m / (m - 1)
+		rl.SE = math.Sqrt(v / m)
+	}
+	return rl
+}
+
+// SimulateARL estimates the in-control average run length of the CUSUM
+// with odds ratio r and limit h on patients drawn from the risks p, by
+// runs sequences seeded PCG(seed, run), each cut at length patients.
+func SimulateARL(ctx context.Context, p []float64, r, h float64, runs int, length int64, seed uint64) (RunLength, error) {
+	return Delay(ctx, p, r, h, 0, 0, runs, length, seed)
+}
+
+// Delay estimates the mean delay to the first signal of the CUSUM with
+// odds ratio r and limit h after the odds of the event are multiplied by
+// exp(shift) (an intercept shift on the logit scale) from patient
+// change + 1 on, the patients before and after drawn from the risks p.
+// The delay is the signalling patient minus change (a signal at patient
+// change + 1 has delay 1); runs that signal at or before change are false
+// alarms, counted in Early and left out of the mean, as is usual for
+// conditional delays. With change 0 it is the run length itself.
+func Delay(ctx context.Context, p []float64, r, h, shift float64, change int, runs int, length int64, seed uint64) (RunLength, error) {
+	if len(p) == 0 || runs < 2 || length < 1 || change < 0 || !(h > 0) {
+		return RunLength{}, fmt.Errorf("monitor: delay simulation needs risks, at least 2 runs, a positive length and limit (got %d risks, %d runs, length %d, h %v)", len(p), runs, length, h)
+	}
+	w0, w1 := make([]float64, len(p)), make([]float64, len(p))
+	for i, v := range p {
+		if !(v > 0 && v < 1) {
+			return RunLength{}, fmt.Errorf("monitor: risk %d (%v) is not strictly between 0 and 1", i+1, v)
+		}
+		w0[i], w1[i] = Weights(v, r)
+	}
+	st := replay(ctx, p, w0, w1, h, length+int64(change), runs, seed, runtime.GOMAXPROCS(0), int64(change), shift)
+	if err := ctx.Err(); err != nil {
+		return RunLength{}, fmt.Errorf("monitor: delay simulation: %w", err)
+	}
+	return st.runLength(), nil
 }
