@@ -77,7 +77,7 @@ type Limit struct {
 // of workers), and h is the smallest grid point, linearly interpolated,
 // at which ARL(h) reaches the target. The Monte Carlo standard error of
 // the ARL there is sd(run length)/√runs, and that of h the ARL's divided
-// by the local slope dARL/dh (delta method).
+// by the slope dARL/dh over ±0.1 around h (delta method).
 func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptions) ([]Limit, error) {
 	if len(p) == 0 {
 		return nil, fmt.Errorf("monitor: no risks to simulate from")
@@ -225,13 +225,15 @@ feed:
 		lim := Limit{R: r, TargetARL: opt.ARL, Runs: runs, Horizon: Horizon, Seed: opt.Seed}
 		h := float64(g+1) * gridStep
 		a := arl(g)
-		slope := math.NaN()
 		if g > 0 {
 			lo := arl(g - 1)
 			h = float64(g)*gridStep + gridStep*(opt.ARL-lo)/(a-lo)
 			a = opt.ARL
-			slope = (arl(g) - lo) / gridStep
 		}
+		// The slope dARL/dh over ±0.1 around h: one grid step is too
+		// short a base for a curve estimated with Monte Carlo noise.
+		g0, g1 := max(0, g-20), min(ng-1, g+20)
+		slope := (arl(g1) - arl(g0)) / (float64(g1-g0) * gridStep)
 		// Monte Carlo error at the grid point reached.
 		mean := float64(total.sum[c][g]) / m
 		v := (float64(total.sum2[c][g])/m - mean*mean) * m / (m - 1)

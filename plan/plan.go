@@ -126,16 +126,19 @@ type Plan struct {
 	// Bands are the numeric subgroup columns of subgroups, each cut at
 	// given points or at quantiles; SubgroupCriteria how subgroup checks
 	// count in the verdict (review, fail or ignore).
-	Bands             []validate.Banding
-	SubgroupCriteria  string
-	Criteria          []validate.Criterion
-	Bootstrap         int
-	Seed              uint64
-	CIBootstrap       int
-	Thresholds        string
-	ClassifyAt        string
-	NetBenefitMinGain float64
-	Data              Data
+	Bands            []validate.Banding
+	SubgroupCriteria string
+	// DateColumn charts the cohort in date order (audit --date-column);
+	// Periods is "month", "quarter" or a number of patients a block.
+	DateColumn, Periods string
+	Criteria            []validate.Criterion
+	Bootstrap           int
+	Seed                uint64
+	CIBootstrap         int
+	Thresholds          string
+	ClassifyAt          string
+	NetBenefitMinGain   float64
+	Data                Data
 	// SampleSize is the sample_size section.
 	SampleSize samplesize.Request
 	// DB is the database connection of the queries (db), Queries the
@@ -194,7 +197,7 @@ func (pl *Plan) CheckFile(key string) error {
 var topKeys = []string{"name", "model", "predicted", "predicted_percent", "outcome", "event", "non_event", "dev", "cohort", "out", "history",
 	"audit_date", "rename", "subgroups", "min_subgroup_events", "subgroup_criteria", "criteria", "bootstrap", "ci_bootstrap",
 	"thresholds", "classify_at", "net_benefit_min_gain", "data", "sample_size", "purpose",
-	"db", "cohort_query", "cohort_query_file", "dev_query", "dev_query_file", "params"}
+	"db", "cohort_query", "cohort_query_file", "dev_query", "dev_query_file", "params", "date_column", "periods"}
 
 // Load reads the plan at path.
 func Load(path string) (*Plan, error) {
@@ -480,6 +483,14 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 		pl.Rename, err = p.rename(v)
 	case "subgroups":
 		pl.Subgroups, pl.Bands, err = p.subgroups(v)
+	case "date_column":
+		pl.DateColumn, err = p.str(v, key)
+	case "periods":
+		if pl.Periods, err = p.str(v, key); err == nil && pl.Periods != "month" && pl.Periods != "quarter" {
+			if n, aerr := strconv.Atoi(pl.Periods); aerr != nil || n < 2 {
+				return p.errf(ErrValue, v, "periods must be month, quarter or a number of patients a block (at least 2), not %s", cohort.Quote(pl.Periods))
+			}
+		}
 	case "subgroup_criteria":
 		if pl.SubgroupCriteria, err = p.str(v, key); err == nil {
 			if verr := validate.CheckSubgroupMode(pl.SubgroupCriteria); verr != nil {
