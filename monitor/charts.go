@@ -89,10 +89,20 @@ func CUSUMPath(y, p []float64, r float64) ([]float64, error) {
 // each signal, as a quality team does once a signal has been looked into.
 // The first signal is the same with or without restarts.
 func Signals(y, p []float64, r, h float64) ([]int, error) {
+	_, sig, err := RestartedPath(y, p, r, h)
+	return sig, err
+}
+
+// RestartedPath is the CUSUM as a quality team follows it: the path of
+// CUSUMPath, restarted at zero after each signal (S_t ≥ h; the signalling
+// patient's value is kept in the path, the next starts from 0), and the
+// signals, as Signals gives them.
+func RestartedPath(y, p []float64, r, h float64) ([]float64, []int, error) {
 	if err := checkSeries(y, p); err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	var out []int
+	path := make([]float64, len(y))
 	s := 0.0
 	for i := range y {
 		w0, w1 := Weights(p[i], r)
@@ -101,12 +111,13 @@ func Signals(y, p []float64, r, h float64) ([]int, error) {
 			w = w1
 		}
 		s = math.Max(0, s+w)
+		path[i] = s
 		if s >= h {
 			out = append(out, i)
 			s = 0
 		}
 	}
-	return out, nil
+	return path, out, nil
 }
 
 // EWMA is the risk-adjusted exponentially weighted moving average of

@@ -25,8 +25,9 @@ type Options struct {
 type Chart struct {
 	Name  string `json:"name"`
 	Limit Limit  `json:"limit"`
-	// Path is the CUSUM without restarts (one value a patient).
-	Path []float64 `json:"-"`
+	// Path is the CUSUM without restarts (one value a patient), and
+	// Restarted the chart restarted at zero after each signal.
+	Path, Restarted []float64 `json:"-"`
 	// Signals are the 0-based patients at which the chart, restarted at
 	// zero after each signal, reached h.
 	Signals []int `json:"-"`
@@ -49,6 +50,9 @@ type Result struct {
 	EWMA    EWMA
 	Periods []Period
 	Per     Periods
+	// Overall is every charted patient measured together, the reference
+	// line of the period chart.
+	Overall Period
 }
 
 // Run computes every chart of the patients y, p (in date order; dates
@@ -99,7 +103,7 @@ func Run(ctx context.Context, y, p []float64, dates []time.Time, opt Options) (*
 		if c.Path, err = CUSUMPath(y, p, rs[i]); err != nil {
 			return nil, err
 		}
-		if c.Signals, err = Signals(y, p, rs[i], lims[i].H); err != nil {
+		if c.Restarted, c.Signals, err = RestartedPath(y, p, rs[i], lims[i].H); err != nil {
 			return nil, err
 		}
 		r.Charts = append(r.Charts, c)
@@ -110,5 +114,6 @@ func Run(ctx context.Context, y, p []float64, dates []time.Time, opt Options) (*
 	if r.Periods, err = ByPeriod(y, p, dates, opt.Periods); err != nil {
 		return nil, err
 	}
+	r.Overall = measure(y, p, "all", 0)
 	return r, nil
 }

@@ -21,6 +21,8 @@ type Summary struct {
 	Period     string   `json:"period"`
 	PeriodSize int      `json:"period_size,omitempty"`
 	Periods    []Period `json:"periods"`
+	// Overall is every charted patient together.
+	Overall Period `json:"overall"`
 	// VLADEnd is the cumulative expected − observed after the last
 	// patient; VLADMin and VLADMax its extremes along the way.
 	VLADEnd float64 `json:"vlad_end"`
@@ -72,7 +74,7 @@ func (r *Result) alarm(i int) Alarm {
 
 // Summarise returns the Summary of r.
 func (r *Result) Summarise(dateColumn string) *Summary {
-	s := &Summary{DateColumn: dateColumn, Patients: r.N, Period: r.Per.Kind, Periods: r.Periods}
+	s := &Summary{DateColumn: dateColumn, Patients: r.N, Period: r.Per.Kind, Periods: r.Periods, Overall: r.Overall}
 	if r.Per.Kind == "block" {
 		s.PeriodSize = r.Per.Block
 	}

@@ -85,6 +85,43 @@ func patientAxis(p *plot.Plot, r *monitor.Result) {
 		p.X.Label.Text = fmt.Sprintf("patients in date order (%s to %s)", r.Dates[0].Format("2 Jan 2006"), r.Dates[r.N-1].Format("2 Jan 2006"))
 	}
 	p.X.Min, p.X.Max = 0, float64(r.N)
+	p.X.Tick.Marker = patientTicks{}
+}
+
+// patientTicks are gonum's default tick places labelled as whole
+// patient numbers with thousands separated (2,500).
+type patientTicks struct{}
+
+func (patientTicks) Ticks(lo, hi float64) []plot.Tick {
+	ts := plot.DefaultTicks{}.Ticks(lo, hi)
+	for i := range ts {
+		if ts[i].Label != "" {
+			ts[i].Label = grouped(int(math.Round(ts[i].Value)))
+		}
+	}
+	return ts
+}
+
+// grouped writes n with its thousands separated by commas.
+func grouped(n int) string {
+	if n < 0 {
+		return "-" + grouped(-n)
+	}
+	s := fmt.Sprint(n)
+	for i := len(s) - 3; i > 0; i -= 3 {
+		s = s[:i] + "," + s[i:]
+	}
+	return s
+}
+
+// headroom sets the y-axis to the values' range with a share of it free
+// above for the legend.
+func headroom(p *plot.Plot, lo, hi, share float64) {
+	span := hi - lo
+	if span <= 0 {
+		span = 1
+	}
+	p.Y.Min, p.Y.Max = lo-0.05*span, hi+share*span
 }
 
 func hline(y, x0, x1 float64, c color.Color, width float64, dashes ...vg.Length) (*plotter.Line, error) {
@@ -126,11 +163,16 @@ func vladChart(r *monitor.Result) ([]byte, error) {
 	if err := marks(p, r.Charts[0].Signals, r.VLAD, 1, vermillion, "deterioration chart signalled"); err != nil {
 		return nil, err
 	}
+	lo, hi := 0.0, 0.0
+	for _, v := range r.VLAD {
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
+	}
+	headroom(p, lo, hi, 0.3)
 	return render(p, 7*vg.Inch, 4*vg.Inch)
 }
 
 func cusumChart(r *monitor.Result) ([]byte, error) {
-	p := newPlot("Risk-adjusted CUSUMs: deterioration upward, improvement downward", "", "CUSUM (log-likelihood ratio)")
+	p := newPlot("Risk-adjusted CUSUMs, restarted after each signal: deterioration up, improvement down", "", "CUSUM (log-likelihood ratio)")
 	patientAxis(p, r)
 	colours := []color.Color{vermillion, blue}
 	for k, c := range r.Charts {
@@ -138,7 +180,7 @@ func cusumChart(r *monitor.Result) ([]byte, error) {
 		if k == 1 {
 			sign = -1
 		}
-		l, err := line(thin(c.Path, sign), colours[k], 1.2)
+		l, err := line(thin(c.Restarted, sign), colours[k], 1.2)
 		if err != nil {
 			return nil, err
 		}
@@ -148,8 +190,8 @@ func cusumChart(r *monitor.Result) ([]byte, error) {
 		}
 		p.Add(l, h)
 		p.Legend.Add(fmt.Sprintf("%s, odds ratio %g", c.Name, c.Limit.R), l)
-		p.Legend.Add(fmt.Sprintf("limit h = %.2f (in-control ARL %s)", c.Limit.H, fmt.Sprint(int(c.Limit.TargetARL))), h)
-		if err := marks(p, c.Signals, c.Path, sign, colours[k], "signal (chart restarts at 0)"); err != nil {
+		p.Legend.Add(fmt.Sprintf("limit h = %.2f (in-control ARL %s patients)", c.Limit.H, grouped(int(c.Limit.TargetARL))), h)
+		if err := marks(p, c.Signals, c.Restarted, sign, colours[k], "signal"); err != nil {
 			return nil, err
 		}
 	}
@@ -158,15 +200,15 @@ func cusumChart(r *monitor.Result) ([]byte, error) {
 		return nil, err
 	}
 	p.Add(zero)
-	top := 1.25 * r.Charts[0].Limit.H
-	bot := -1.25 * r.Charts[1].Limit.H
-	for _, v := range r.Charts[0].Path {
+	top := r.Charts[0].Limit.H
+	bot := -r.Charts[1].Limit.H
+	for _, v := range r.Charts[0].Restarted {
 		top = math.Max(top, v)
 	}
-	for _, v := range r.Charts[1].Path {
+	for _, v := range r.Charts[1].Restarted {
 		bot = math.Min(bot, -v)
 	}
-	p.Y.Min, p.Y.Max = bot, top*1.35
+	headroom(p, bot, top, 0.9)
 	return render(p, 7*vg.Inch, 4.5*vg.Inch)
 }
 
@@ -267,11 +309,12 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) ([]byte, err
 		name, measure string
 		v             func(monitor.Period) (float64, [2]float64)
 		ref           float64
+		all           float64
 	}
 	panels := []panel{
-		{"O/E", "oe", func(q monitor.Period) (float64, [2]float64) { return q.OE, q.OECI }, 1},
-		{"calibration-in-the-large", "citl", func(q monitor.Period) (float64, [2]float64) { return q.CITL, q.CITLCI }, 0},
-		{"AUC", "auc", func(q monitor.Period) (float64, [2]float64) { return q.AUC, q.AUCCI }, math.NaN()},
+		{"O/E", "oe", func(q monitor.Period) (float64, [2]float64) { return q.OE, q.OECI }, 1, s.Overall.OE},
+		{"calibration-in-the-large", "citl", func(q monitor.Period) (float64, [2]float64) { return q.CITL, q.CITLCI }, 0, s.Overall.CITL},
+		{"AUC", "auc", func(q monitor.Period) (float64, [2]float64) { return q.AUC, q.AUCCI }, math.NaN(), s.Overall.AUC},
 	}
 	labels := make(periodTicks, len(s.Periods))
 	for k, q := range s.Periods {
@@ -321,6 +364,15 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) ([]byte, err
 				legended = true
 			}
 			lo, hi = math.Min(lo, b), math.Max(hi, b)
+		}
+		if finite(pn.all) {
+			al, err := hline(pn.all, p.X.Min, p.X.Max, vermillion, 1.2, vg.Points(2), vg.Points(2))
+			if err != nil {
+				return nil, err
+			}
+			p.Add(al)
+			p.Legend.Add("all patients", al)
+			lo, hi = math.Min(lo, pn.all), math.Max(hi, pn.all)
 		}
 		if !math.IsNaN(pn.ref) {
 			rl, err := hline(pn.ref, p.X.Min, p.X.Max, grey, 1, vg.Points(1), vg.Points(2))
