@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"runtime"
+	"slices"
 	"sync"
 )
 
@@ -33,6 +34,30 @@ type LimitOptions struct {
 // model, the order of the run lengths Steiner et al. (2000) chose for
 // surgical mortality (from memory of the paper).
 const DefaultARL = 10000
+
+// MaxCaseMix is the most risks the limit simulation draws patients
+// from: a larger extract is represented by MaxCaseMix quantiles of its
+// risks (CaseMix), which keeps the draws in the processor's cache and
+// changes the distribution by at most 1/MaxCaseMix in probability.
+const MaxCaseMix = 10000
+
+// CaseMix returns the risks the limit simulation draws from: p itself
+// up to MaxCaseMix risks, otherwise the sorted risks at positions
+// ⌊(k + ½)·n/MaxCaseMix⌋, k = 0 … MaxCaseMix − 1 (the (k + ½)/MaxCaseMix
+// quantiles of the empirical distribution).
+func CaseMix(p []float64) []float64 {
+	if len(p) <= MaxCaseMix {
+		return p
+	}
+	sorted := slices.Clone(p)
+	slices.Sort(sorted)
+	out := make([]float64, MaxCaseMix)
+	n := len(p)
+	for k := range out {
+		out[k] = sorted[(2*k+1)*n/(2*MaxCaseMix)]
+	}
+	return out
+}
 
 // Horizon is the length of each simulated run as a multiple of the
 // target ARL. Runs that have not crossed a limit by then count as
@@ -69,7 +94,8 @@ type Limit struct {
 // ChooseLimits chooses the alarm limit h of a risk-adjusted CUSUM for
 // each odds ratio in rs so that its in-control average run length is
 // opt.ARL. Each simulated run is a sequence of patients drawn with
-// replacement from the model's own risks p (the extract's case mix), with
+// replacement from the model's own risks p (the extract's case mix, as
+// CaseMix gives it), one 64-bit draw a patient (PCG), with
 // outcomes drawn from those risks (the model calibrated, "in control");
 // all charts are run on the same sequences. For every h on a grid of step
 // 0.005 the first passage S_t ≥ h is recorded, the ARL(h) curve averaged
@@ -115,28 +141,36 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 	if runs < 100 {
 		return nil, fmt.Errorf("monitor: an in-control ARL of %g needs %d patient-steps for 100 runs, more than the bound of %d", opt.ARL, 100*length, opt.MaxSteps)
 	}
-	// Weights of every patient for every chart, drawn by index.
+	// The case mix: every risk, or for a large extract its MaxCaseMix
+	// quantiles; each drawn patient's event threshold (p·2³²) and weights
+	// for every chart side by side, so a draw touches one cache line.
+	mix := CaseMix(p)
 	k := len(rs)
-	w0 := make([][]float64, k)
-	w1 := make([][]float64, k)
-	for c, r := range rs {
-		w0[c], w1[c] = make([]float64, len(p)), make([]float64, len(p))
-		for i, v := range p {
-			w0[c][i], w1[c][i] = Weights(v, r)
+	thr := make([]uint32, len(mix))
+	ws := make([]float64, 2*k*len(mix))
+	for i, v := range mix {
+		thr[i] = uint32(math.Min(v*(1<<32), math.MaxUint32))
+		for c, r := range rs {
+			ws[2*k*i+2*c], ws[2*k*i+2*c+1] = Weights(v, r)
 		}
 	}
 	ng := int(math.Round(gridMax / gridStep))
-	type acc struct{ sum, sum2 [][]int64 }
+	type acc struct {
+		sum, sum2 [][]int64
+		// top counts the runs by the grid points their path passed.
+		top [][]int
+	}
 	newAcc := func() acc {
-		a := acc{sum: make([][]int64, k), sum2: make([][]int64, k)}
+		a := acc{sum: make([][]int64, k), sum2: make([][]int64, k), top: make([][]int, k)}
 		for c := range k {
-			a.sum[c], a.sum2[c] = make([]int64, ng), make([]int64, ng)
+			a.sum[c], a.sum2[c], a.top[c] = make([]int64, ng), make([]int64, ng), make([]int, ng+1)
 		}
 		return a
 	}
 	accs := make([]acc, opt.Workers)
 	next := make(chan int)
 	var wg sync.WaitGroup
+	nm := uint64(len(mix))
 	for w := range opt.Workers {
 		accs[w] = newAcc()
 		wg.Add(1)
@@ -145,36 +179,31 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 			s := make([]float64, k)
 			reached := make([]int, k) // grid points passed so far
 			for run := range next {
-				rng := rand.New(rand.NewPCG(opt.Seed, uint64(run)))
+				rng := rand.NewPCG(opt.Seed, uint64(run))
 				clear(s)
 				clear(reached)
-				done := 0
-				for t := int64(1); t <= length && done < k; t++ {
-					i := rng.IntN(len(p))
-					ev := rng.Float64() < p[i]
+				for t := int64(1); t <= length; t++ {
+					// One draw: the high 32 bits pick the patient
+					// (multiply-shift), the low 32 the outcome.
+					u := rng.Uint64()
+					i := int(((u >> 32) * nm) >> 32)
+					off := 2 * k * i
+					if uint32(u) < thr[i] {
+						off++
+					}
 					for c := range k {
-						if reached[c] == ng {
-							continue
+						v := s[c] + ws[off+2*c]
+						if v < 0 { // S = max(0, ·), without math.Max's NaN checks
+							v = 0
 						}
-						w := w0[c][i]
-						if ev {
-							w = w1[c][i]
-						}
-						s[c] = math.Max(0, s[c]+w)
+						s[c] = v
 						// grid point g (0-based) is h = (g+1)·step.
-						top := int(s[c] / gridStep)
-						if top > ng {
-							top = ng
-						}
-						for g := reached[c]; g < top; g++ {
-							a.sum[c][g] += t
-							a.sum2[c][g] += t * t
-						}
-						if top > reached[c] {
-							reached[c] = top
-							if top == ng {
-								done++
+						if top := min(int(v*(1/gridStep)), ng); top > reached[c] {
+							for g := reached[c]; g < top; g++ {
+								a.sum[c][g] += t
+								a.sum2[c][g] += t * t
 							}
+							reached[c] = top
 						}
 					}
 				}
@@ -183,6 +212,7 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 						a.sum[c][g] += length
 						a.sum2[c][g] += length * length
 					}
+					a.top[c][reached[c]]++
 				}
 			}
 		}(accs[w])
@@ -208,6 +238,9 @@ feed:
 			for g := range ng {
 				total.sum[c][g] += a.sum[c][g]
 				total.sum2[c][g] += a.sum2[c][g]
+			}
+			for g := range ng + 1 {
+				total.top[c][g] += a.top[c][g]
 			}
 		}
 	}
@@ -240,21 +273,14 @@ feed:
 		lim.H, lim.ARL = h, a
 		lim.ARLSE = math.Sqrt(v / m)
 		lim.HSE = lim.ARLSE / slope
+		// Runs cut at the horizon: those that never passed the grid
+		// point at or above h.
+		for t := 0; t <= g; t++ {
+			lim.Censored += total.top[c][t]
+		}
 		out[c] = lim
 	}
-	// The runs cut at the horizon are counted by replaying the same
-	// streams up to the chosen limit (about a horizon's share of the work).
-	for c := range out {
-		out[c].Censored = censored(ctx, p, w0[c], w1[c], out[c].H, length, runs, opt)
-	}
 	return out, nil
-}
-
-// censored counts the runs of ChooseLimits that do not cross h by the
-// horizon, replaying the same random streams for one chart.
-func censored(ctx context.Context, p, w0, w1 []float64, h float64, length int64, runs int, opt LimitOptions) int {
-	st := replay(ctx, p, w0, w1, h, length, runs, opt.Seed, opt.Workers, 0, 0)
-	return st.cut
 }
 
 // runStats are integer sums over simulated runs.
