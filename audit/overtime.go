@@ -108,6 +108,26 @@ func (o OverTime) check() error {
 	return nil
 }
 
+// checkCriteria refuses a criterion on an alarm without a date column.
+func (o OverTime) checkCriteria(criteria []validate.Criterion) error {
+	if o.DateColumn != "" {
+		return nil
+	}
+	for _, c := range criteria {
+		if slices.Contains(validate.AlarmMeasures, c.Measure) {
+			return configErrorf("the criterion on %s needs the cohort charted in date order: give --date-column (plan key date_column)", c.Measure)
+		}
+	}
+	return nil
+}
+
+func b2f(b bool) float64 {
+	if b {
+		return 1
+	}
+	return 0
+}
+
 // overTime charts the audited cohort in date order and adds the summary
 // and its findings to the audit. Rows without a readable date are an
 // error under FailOnMissing and otherwise left out of the charts only
@@ -172,6 +192,12 @@ func (r *run) overTime(ctx context.Context, a *validate.Audit) error {
 	}
 	r.monitor = res
 	s := res.Summarise(o.DateColumn)
+	r.perf.Alarms = map[string]float64{
+		"cusum_deterioration_signals": float64(s.CUSUM[0].Signals),
+		"cusum_improvement_signals":   float64(s.CUSUM[1].Signals),
+		"ewma_above":                  b2f(s.EWMA.FirstAbove.Patient > 0),
+		"ewma_below":                  b2f(s.EWMA.FirstBelow.Patient > 0),
+	}
 	s.LeftOutMissing, s.LeftOutInvalid = missing, invalid
 	a.OverTime = s
 	a.Summary = append(a.Summary, validate.Finding{Area: "over time", Text: alarmText(s)})

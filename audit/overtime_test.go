@@ -10,6 +10,7 @@ import (
 	"testing"
 
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/validate"
 )
 
 // datedCohort writes a cohort of predicted risks with a date column: rows
@@ -111,5 +112,45 @@ func TestOverTimeOrderAndMissing(t *testing.T) {
 	var ce *cohort.Error
 	if !errors.As(err, &ce) || ce.Line != 12 || ce.Column != "when" {
 		t.Errorf("missing date under fail: %v; want a cohort error on line 12, column when", err)
+	}
+}
+
+// TestAlarmCriterion: a plan's criterion on an alarm counts in the
+// verdict as its severity says, and needs a date column.
+func TestAlarmCriterion(t *testing.T) {
+	ctx := context.Background()
+	rows := manyRows()
+	// From row 200 on, every patient has the event: the deterioration
+	// chart must signal.
+	for i := 200; i < len(rows); i++ {
+		rows[i][2] = "1"
+	}
+	zero := 0.0
+	crit := []validate.Criterion{{Measure: "cusum_deterioration_signals", AtMost: &zero, Severity: "review"},
+		{Measure: "cusum_improvement_signals", AtMost: &zero, Severity: "fail"}}
+	cfg := datedConfig(datedCohort(t, rows))
+	cfg.Criteria = crit
+	res, err := Run(ctx, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	v := res.Audit.Verdict
+	if v.Criteria[0].Passed || v.Criteria[0].Value < 1 {
+		t.Errorf("deterioration alarm criterion: %+v; want not met with at least one signal", v.Criteria[0])
+	}
+	if got := res.Audit.OverTime.CUSUM[0].Signals; float64(got) != v.Criteria[0].Value {
+		t.Errorf("criterion value %v, chart signals %d", v.Criteria[0].Value, got)
+	}
+	wantStatus := "review"
+	if !v.Criteria[1].Passed {
+		wantStatus = "fail"
+	}
+	if v.Status != wantStatus {
+		t.Errorf("verdict %s, want %s", v.Status, wantStatus)
+	}
+	cfg.OverTime = OverTime{}
+	var ce *ConfigError
+	if _, err := Run(ctx, cfg); !errors.As(err, &ce) || !strings.Contains(err.Error(), "--date-column") {
+		t.Errorf("alarm criterion without dates: %v; want a ConfigError naming --date-column", err)
 	}
 }

@@ -64,6 +64,9 @@ func Run(ctx context.Context, cfg Config) (*Result, error) {
 	if err := cfg.OverTime.check(); err != nil {
 		return nil, err
 	}
+	if err := cfg.OverTime.checkCriteria(cfg.Criteria); err != nil {
+		return nil, err
+	}
 	cfg.Measures = cfg.Measures.WithDefaults()
 	cfg.Cohort, cfg.Dev = cfg.Cohort.named(), cfg.Dev.named()
 	r := run{cfg: &cfg, prog: progressOf(cfg.Progress), started: now(cfg.Clock)}
@@ -282,6 +285,12 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 		}
 		a.BootstrapCI = percentileCIs(ci, c.CIBootstrap, c.Seed, ts)
 	}
+	if c.OverTime.DateColumn != "" {
+		// Before the verdict: a plan may make an alarm a criterion.
+		if err := r.overTime(ctx, a); err != nil {
+			return err
+		}
+	}
 	criteria := c.Criteria
 	if criteria == nil {
 		criteria = validate.DefaultCriteria()
@@ -315,11 +324,6 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 	}
 	if len(c.Subgroups) > 0 || len(c.Bands) > 0 {
 		if err := r.subgroups(a, criteria); err != nil {
-			return err
-		}
-	}
-	if c.OverTime.DateColumn != "" {
-		if err := r.overTime(ctx, a); err != nil {
 			return err
 		}
 	}
