@@ -264,11 +264,12 @@ func ewmaChart(r *monitor.Result) ([]byte, error) {
 	return render(p, 7*vg.Inch, 4*vg.Inch)
 }
 
-// bounds are the criteria's bounds on a measure.
+// bounds are the criteria's bounds on a measure, or on an end of its
+// 95% interval (such as auc_ci.lower ≥ 0.7), drawn at the same height.
 func bounds(criteria []validate.Criterion, measure string) []float64 {
 	var out []float64
 	for _, c := range criteria {
-		if c.Measure != measure {
+		if c.Measure != measure && c.Measure != measure+"_ci.lower" && c.Measure != measure+"_ci.upper" {
 			continue
 		}
 		if c.AtLeast != nil {
@@ -360,7 +361,7 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) ([]byte, err
 			}
 			p.Add(bl)
 			if !legended {
-				p.Legend.Add("plan criterion bound", bl)
+				p.Legend.Add("plan criterion bound (on the value or an end of its interval)", bl)
 				legended = true
 			}
 			lo, hi = math.Min(lo, b), math.Max(hi, b)
