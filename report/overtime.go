@@ -139,3 +139,21 @@ func abs(v float64) float64 {
 	}
 	return v
 }
+
+// overTimeLines are the one-screen summary's lines on the charts' first
+// alarms (none without a date column).
+func overTimeLines(s *monitor.Summary) []string {
+	if s == nil {
+		return nil
+	}
+	var parts []string
+	for _, c := range s.CUSUM {
+		if c.First.Patient == 0 {
+			parts = append(parts, c.Name+" chart no signal")
+			continue
+		}
+		parts = append(parts, fmt.Sprintf("%s chart signalled %s, after %s patients (%s)", c.Name, c.First.Date, count(c.First.Patient),
+			plural(c.Signals, "1 signal", count(c.Signals)+" signals")))
+	}
+	return []string{"over time   " + strings.Join(parts, "; ")}
+}
