@@ -167,91 +167,138 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 		}
 		return a
 	}
-	accs := make([]acc, opt.Workers)
-	next := make(chan int)
-	var wg sync.WaitGroup
 	nm := uint64(len(mix))
-	for w := range opt.Workers {
-		accs[w] = newAcc()
-		wg.Add(1)
-		go func(a acc) {
-			defer wg.Done()
-			s := make([]float64, k)
-			reached := make([]int, k) // grid points passed so far
-			for run := range next {
-				rng := rand.NewPCG(opt.Seed, uint64(run))
-				clear(s)
-				clear(reached)
-				for t := int64(1); t <= length; t++ {
-					// One draw: the high 32 bits pick the patient
-					// (multiply-shift), the low 32 the outcome.
-					u := rng.Uint64()
-					i := int(((u >> 32) * nm) >> 32)
-					off := 2 * k * i
-					if uint32(u) < thr[i] {
-						off++
+	// simulate runs count runs, streams PCG(Seed, base + run), each until
+	// the horizon or until every chart c has passed grid point stop[c].
+	simulate := func(base uint64, count int, stop []int) (acc, error) {
+		accs := make([]acc, opt.Workers)
+		next := make(chan int)
+		var wg sync.WaitGroup
+		for w := range opt.Workers {
+			accs[w] = newAcc()
+			wg.Add(1)
+			go func(a acc) {
+				defer wg.Done()
+				s := make([]float64, k)
+				reached := make([]int, k) // grid points passed so far
+				for run := range next {
+					rng := rand.NewPCG(opt.Seed, base+uint64(run))
+					clear(s)
+					clear(reached)
+					for t := int64(1); t <= length; t++ {
+						// One draw: the high 32 bits pick the patient
+						// (multiply-shift), the low 32 the outcome.
+						u := rng.Uint64()
+						i := int(((u >> 32) * nm) >> 32)
+						off := 2 * k * i
+						if uint32(u) < thr[i] {
+							off++
+						}
+						done := true
+						for c := range k {
+							v := s[c] + ws[off+2*c]
+							if v < 0 { // S = max(0, ·), without math.Max's NaN checks
+								v = 0
+							}
+							s[c] = v
+							// grid point g (0-based) is h = (g+1)·step.
+							if top := min(int(v*(1/gridStep)), ng); top > reached[c] {
+								for g := reached[c]; g < top; g++ {
+									a.sum[c][g] += t
+									a.sum2[c][g] += t * t
+								}
+								reached[c] = top
+							}
+							done = done && reached[c] >= stop[c]
+						}
+						if done {
+							break
+						}
 					}
 					for c := range k {
-						v := s[c] + ws[off+2*c]
-						if v < 0 { // S = max(0, ·), without math.Max's NaN checks
-							v = 0
+						for g := reached[c]; g < ng; g++ {
+							a.sum[c][g] += length
+							a.sum2[c][g] += length * length
 						}
-						s[c] = v
-						// grid point g (0-based) is h = (g+1)·step.
-						if top := min(int(v*(1/gridStep)), ng); top > reached[c] {
-							for g := reached[c]; g < top; g++ {
-								a.sum[c][g] += t
-								a.sum2[c][g] += t * t
-							}
-							reached[c] = top
-						}
+						a.top[c][reached[c]]++
 					}
 				}
-				for c := range k {
-					for g := reached[c]; g < ng; g++ {
-						a.sum[c][g] += length
-						a.sum2[c][g] += length * length
-					}
-					a.top[c][reached[c]]++
-				}
-			}
-		}(accs[w])
-	}
-	var err error
-feed:
-	for run := range runs {
-		select {
-		case next <- run:
-		case <-ctx.Done():
-			err = ctx.Err()
-			break feed
+			}(accs[w])
 		}
+		var err error
+	feed:
+		for run := range count {
+			select {
+			case next <- run:
+			case <-ctx.Done():
+				err = ctx.Err()
+				break feed
+			}
+		}
+		close(next)
+		wg.Wait()
+		if err != nil {
+			return acc{}, fmt.Errorf("monitor: choosing CUSUM limits: %w", err)
+		}
+		total := newAcc()
+		for _, a := range accs {
+			for c := range k {
+				for g := range ng {
+					total.sum[c][g] += a.sum[c][g]
+					total.sum2[c][g] += a.sum2[c][g]
+				}
+				for g := range ng + 1 {
+					total.top[c][g] += a.top[c][g]
+				}
+			}
+		}
+		return total, nil
 	}
-	close(next)
-	wg.Wait()
+	// first is the first grid point at which the mean run length reaches
+	// the target (ng: none).
+	first := func(total acc, c int, m float64) int {
+		g := 0
+		for g < ng && float64(total.sum[c][g])/m < opt.ARL {
+			g++
+		}
+		return g
+	}
+	// A pilot of 100 runs to the horizon places h roughly; the runs
+	// proper then stop once every chart has passed its pilot h + 0.5
+	// (about 100 Monte Carlo standard errors of the pilot's h above it),
+	// which leaves the ARL curve exact up to there and saves most of the
+	// work. Should the answer come within 0.1 of that stop, the runs are
+	// made again to the horizon.
+	full := make([]int, k)
+	for c := range full {
+		full[c] = ng
+	}
+	pilotRuns := min(100, runs)
+	pilot, err := simulate(1<<62, pilotRuns, full)
 	if err != nil {
-		return nil, fmt.Errorf("monitor: choosing CUSUM limits: %w", err)
+		return nil, err
 	}
-	total := newAcc()
-	for _, a := range accs {
-		for c := range k {
-			for g := range ng {
-				total.sum[c][g] += a.sum[c][g]
-				total.sum2[c][g] += a.sum2[c][g]
+	stop := make([]int, k)
+	for c := range k {
+		stop[c] = min(ng, first(pilot, c, float64(pilotRuns))+100)
+	}
+	total, err := simulate(0, runs, stop)
+	if err != nil {
+		return nil, err
+	}
+	m := float64(runs)
+	for c := range k {
+		if g := first(total, c, m); stop[c] < ng && g+20 >= stop[c] {
+			if total, err = simulate(0, runs, full); err != nil {
+				return nil, err
 			}
-			for g := range ng + 1 {
-				total.top[c][g] += a.top[c][g]
-			}
+			break
 		}
 	}
 	out := make([]Limit, k)
-	m := float64(runs)
 	for c, r := range rs {
 		arl := func(g int) float64 { return float64(total.sum[c][g]) / m }
-		g := 0
-		for g < ng && arl(g) < opt.ARL {
-			g++
-		}
+		g := first(total, c, m)
 		if g == ng {
 			return nil, fmt.Errorf("monitor: the CUSUM for odds ratio %g does not reach an in-control ARL of %g below h = %g", r, opt.ARL, gridMax)
 		}
