@@ -1,6 +1,7 @@
 package audit
 
 import (
+	"cmp"
 	"context"
 	"fmt"
 	"slices"
@@ -33,11 +34,13 @@ type OverTime struct {
 	Lambda, Width float64
 }
 
-// dateColumn is the date column's text over the used rows.
+// dateColumn is the date column over the used rows: each row's level
+// (−1 where missing), the levels' text, and the rows' lines for errors.
 type dateColumn struct {
-	text  []string // "" where missing
-	lines []int
-	file  string
+	codes  []int32
+	levels []string
+	lines  []int
+	file   string
 }
 
 // request adds the date column to the columns read, as text.
@@ -62,11 +65,9 @@ func (o OverTime) column(fr *cohort.Frame, rows []int) *dateColumn {
 		return nil
 	}
 	col := fr.Column(o.DateColumn)
-	d := &dateColumn{text: make([]string, len(rows)), lines: make([]int, len(rows)), file: fr.File}
+	d := &dateColumn{codes: make([]int32, len(rows)), levels: col.Levels, lines: make([]int, len(rows)), file: fr.File}
 	for r, i := range rows {
-		if c := col.Codes[i]; c >= 0 {
-			d.text[r] = col.Levels[c]
-		}
+		d.codes[r] = int32(col.Codes[i])
 		d.lines[r] = fr.Line(i)
 	}
 	return d
@@ -138,39 +139,59 @@ func (r *run) overTime(ctx context.Context, a *validate.Audit) error {
 		return err
 	}
 	r.prog.Step("charting the cohort in date order")
+	// Each distinct date is read once (an extract has few).
+	type level struct {
+		t     time.Time
+		ok    bool
+		empty bool
+	}
+	levels := make([]level, len(sc.dates.levels))
+	for k, text := range sc.dates.levels {
+		levels[k].empty = strings.TrimSpace(text) == ""
+		levels[k].t, levels[k].ok = parseDate(text)
+	}
 	type row struct {
-		t time.Time
-		i int
+		day int64 // seconds since 1970, UTC
+		i   int
 	}
 	rows := make([]row, 0, len(sc.y))
 	missing, invalid := 0, 0
-	for i, s := range sc.dates.text {
-		if strings.TrimSpace(s) == "" {
+	for i, code := range sc.dates.codes {
+		if code < 0 || levels[code].empty {
 			missing++
 			if c.FailOnMissing {
 				return &cohort.Error{File: sc.dates.file, Line: sc.dates.lines[i], Column: o.DateColumn, Msg: "the date is missing (the missing-value policy refuses it)", Kind: cohort.ErrMissing}
 			}
 			continue
 		}
-		t, ok := parseDate(s)
-		if !ok {
+		if !levels[code].ok {
 			invalid++
 			if c.FailOnMissing {
-				return &cohort.Error{File: sc.dates.file, Line: sc.dates.lines[i], Column: o.DateColumn, Value: s, HasValue: true, Msg: "not a date (give YYYY-MM-DD or an RFC 3339 time); the missing-value policy refuses it", Kind: cohort.ErrFormat}
+				return &cohort.Error{File: sc.dates.file, Line: sc.dates.lines[i], Column: o.DateColumn, Value: sc.dates.levels[code], HasValue: true, Msg: "not a date (give YYYY-MM-DD or an RFC 3339 time); the missing-value policy refuses it", Kind: cohort.ErrFormat}
 			}
 			continue
 		}
-		rows = append(rows, row{t, i})
+		rows = append(rows, row{levels[code].t.Unix(), i})
 	}
 	if len(rows) == 0 {
 		return &cohort.Error{File: sc.dates.file, Column: o.DateColumn, Msg: "no audited row has a readable date, so nothing can be charted over time", Kind: cohort.ErrMissing}
 	}
-	// Stable: patients with the same date keep their file order.
-	slices.SortStableFunc(rows, func(a, b row) int { return a.t.Compare(b.t) })
+	// Date order, ties in file order (the row index breaks them, so the
+	// result is that of a stable sort); an extract already in order is
+	// only checked.
+	byDate := func(a, b row) int {
+		if a.day != b.day {
+			return cmp.Compare(a.day, b.day)
+		}
+		return cmp.Compare(a.i, b.i)
+	}
+	if !slices.IsSortedFunc(rows, byDate) {
+		slices.SortFunc(rows, byDate)
+	}
 	y, p, dates := make([]float64, len(rows)), make([]float64, len(rows)), make([]time.Time, len(rows))
 	eps := c.Measures.Epsilon
 	for k, rw := range rows {
-		y[k], dates[k] = sc.y[rw.i], rw.t
+		y[k], dates[k] = sc.y[rw.i], time.Unix(rw.day, 0).UTC()
 		// The charts need risks strictly inside (0, 1): clamp as the
 		// logit measures do.
 		p[k] = min(max(sc.p[rw.i], eps), 1-eps)

@@ -67,20 +67,27 @@ func ByPeriod(y, p []float64, dates []time.Time, per Periods) ([]Period, error) 
 		if dates == nil {
 			return nil, fmt.Errorf("monitor: periods by %s need dates", per.Kind)
 		}
-		key := func(t time.Time) string {
+		// A period's number: months or quarters since year 0, in UTC.
+		key := func(t time.Time) int {
 			t = t.UTC()
 			if per.Kind == "month" {
-				return fmt.Sprintf("%04d-%02d", t.Year(), int(t.Month()))
+				return t.Year()*12 + int(t.Month()) - 1
 			}
-			return fmt.Sprintf("%04d-Q%d", t.Year(), (int(t.Month())-1)/3+1)
+			return t.Year()*4 + (int(t.Month())-1)/3
 		}
+		label := func(k int) string {
+			if per.Kind == "month" {
+				return fmt.Sprintf("%04d-%02d", k/12, k%12+1)
+			}
+			return fmt.Sprintf("%04d-Q%d", k/4, k%4+1)
+		}
+		last := 0
 		for i, d := range dates {
 			if i > 0 && d.Before(dates[i-1]) {
 				return nil, fmt.Errorf("monitor: patient %d's date %s is before the one before it: the rows are not in date order", i+1, d.Format(time.DateOnly))
 			}
-			k := key(d)
-			if i == 0 || k != labels[len(labels)-1] {
-				cuts, labels = append(cuts, i), append(labels, k)
+			if k := key(d); i == 0 || k != last {
+				cuts, labels, last = append(cuts, i), append(labels, label(k)), k
 			}
 		}
 	case "block":

@@ -8,6 +8,7 @@ import (
 	"os"
 	"strconv"
 	"testing"
+	"time"
 )
 
 // monitorRef is testdata/reference/monitor.json, written by
@@ -201,5 +202,44 @@ func TestChosenLimitReachesTarget(t *testing.T) {
 		if math.Abs(check.Mean-1000) > tol {
 			t.Errorf("R=%g h=%.3f: independent ARL %.1f ± %.1f, target 1000 (tolerance %.1f)", l.R, l.H, check.Mean, check.SE, tol)
 		}
+	}
+}
+
+// TestMonthsAndQuarters: calendar periods in UTC with their labels,
+// dates and patients (a fact of the calendar, checked by hand).
+func TestMonthsAndQuarters(t *testing.T) {
+	day := func(s string) time.Time {
+		d, err := time.Parse(time.DateOnly, s)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return d
+	}
+	dates := []time.Time{day("2025-12-31"), day("2026-01-01"), day("2026-01-31"), day("2026-03-31"), day("2026-04-01"), day("2026-04-01")}
+	y := []float64{0, 1, 0, 1, 0, 1}
+	p := []float64{0.2, 0.3, 0.4, 0.5, 0.2, 0.3}
+	for _, tt := range []struct {
+		kind   string
+		labels []string
+		firsts []int
+	}{
+		{"month", []string{"2025-12", "2026-01", "2026-03", "2026-04"}, []int{1, 2, 4, 5}},
+		{"quarter", []string{"2025-Q4", "2026-Q1", "2026-Q2"}, []int{1, 2, 5}},
+	} {
+		got, err := ByPeriod(y, p, dates, Periods{Kind: tt.kind})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(got) != len(tt.labels) {
+			t.Fatalf("%s: %d periods, want %d", tt.kind, len(got), len(tt.labels))
+		}
+		for i, g := range got {
+			if g.Label != tt.labels[i] || g.First != tt.firsts[i] {
+				t.Errorf("%s period %d: %s from patient %d; want %s from %d", tt.kind, i, g.Label, g.First, tt.labels[i], tt.firsts[i])
+			}
+		}
+	}
+	if _, err := ByPeriod(y, p, []time.Time{dates[1], dates[0], dates[2], dates[3], dates[4], dates[5]}, Periods{Kind: "month"}); err == nil {
+		t.Error("dates out of order were accepted")
 	}
 }
