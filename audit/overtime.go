@@ -206,7 +206,7 @@ func (r *run) overTime(ctx context.Context, a *validate.Audit) error {
 	res, err := monitor.Run(ctx, y, p, dates, monitor.Options{
 		Deterioration: o.Deterioration, Improvement: o.Improvement,
 		Limits: monitor.LimitOptions{ARL: o.ARL, Seed: c.Seed, Workers: c.Workers},
-		Lambda: o.Lambda, Width: o.Width, Periods: per,
+		Lambda: o.Lambda, Width: o.Width, Periods: per, Overall: r.overallOf(missing+invalid, len(y)),
 	})
 	if err != nil {
 		return fmt.Errorf("charting %s over time: %w", sc.file, err)
@@ -253,4 +253,16 @@ func thousands(n int) string {
 		s = s[:i] + "," + s[i:]
 	}
 	return s
+}
+
+// overallOf is the audit's own measures as the charts' overall period
+// when the charts left no row out (the same patients), else nil.
+func (r *run) overallOf(leftOut, n int) *monitor.Period {
+	if leftOut > 0 {
+		return nil
+	}
+	pf := r.perf
+	d, c := pf.Discrimination, pf.Calibration
+	return &monitor.Period{Label: "all", First: 1, Last: n, N: n, Events: pf.Cohort.Events, Expected: c.Expected,
+		OE: c.OE, OECI: c.OECI, CITL: c.CITL, CITLCI: c.CITLCI, AUC: d.AUC, AUCCI: d.CI}
 }

@@ -73,6 +73,9 @@ func TestOverTimeOrderAndMissing(t *testing.T) {
 	if a.FirstDate != "2026-01-01" || a.Patients != 400 || len(a.Periods) != 8 {
 		t.Errorf("first date %s, %d patients, %d blocks; want 2026-01-01, 400, 8", a.FirstDate, a.Patients, len(a.Periods))
 	}
+	if ov := a.Overall; ov.OE != sorted.Audit.Calibration.OE || ov.AUC != sorted.Audit.Discrimination.AUC || ov.N != 400 {
+		t.Errorf("overall period %+v is not the audit's own measures", ov)
+	}
 	found := false
 	for _, f := range sorted.Audit.Summary {
 		if f.Area == "over time" {

@@ -19,6 +19,10 @@ type Options struct {
 	// Periods groups patients for calibration by period (default: months
 	// with dates, blocks of 500 without).
 	Periods Periods
+	// Overall, when given, is the measure of every patient together that
+	// the caller has already (an audit whose charts left no row out);
+	// otherwise Run measures it.
+	Overall *Period
 }
 
 // Chart is one risk-adjusted CUSUM with its limit and signals.
@@ -114,6 +118,10 @@ func Run(ctx context.Context, y, p []float64, dates []time.Time, opt Options) (*
 	if r.Periods, err = ByPeriod(y, p, dates, opt.Periods); err != nil {
 		return nil, err
 	}
-	r.Overall = measure(y, p, "all", 0)
+	if opt.Overall != nil {
+		r.Overall = *opt.Overall
+	} else {
+		r.Overall = measure(y, p, "all", 0)
+	}
 	return r, nil
 }

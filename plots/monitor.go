@@ -19,7 +19,7 @@ import (
 // maxPathPoints is the most points a path is drawn with: longer paths are
 // thinned to the lowest and highest value of each of maxPathPoints/2
 // runs of patients, so that no spike (and no alarm) disappears.
-const maxPathPoints = 4000
+const maxPathPoints = 1500
 
 // thin returns the path v against patient number 1…n, thinned as
 // maxPathPoints says.
