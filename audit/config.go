@@ -151,6 +151,10 @@ type Config struct {
 	UpdateAlpha     float64
 	UpdateBootstrap int
 
+	// OverTime, with a DateColumn, charts the cohort in date order
+	// (overtime.go).
+	OverTime OverTime
+
 	// Tool names the program and its version for the provenance, and
 	// CommandLine how it was called (the caller masks any secret in it);
 	// Clock gives the time (nil: the current time in UTC).

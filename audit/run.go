@@ -15,6 +15,7 @@ import (
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/model"
+	"github.com/riskaudit/riskaudit/monitor"
 	"github.com/riskaudit/riskaudit/plots"
 	"github.com/riskaudit/riskaudit/resample"
 	"github.com/riskaudit/riskaudit/validate"
@@ -60,6 +61,12 @@ func Run(ctx context.Context, cfg Config) (*Result, error) {
 	if err := cfg.check(); err != nil {
 		return nil, err
 	}
+	if err := cfg.OverTime.check(); err != nil {
+		return nil, err
+	}
+	if err := cfg.OverTime.checkCriteria(cfg.Criteria); err != nil {
+		return nil, err
+	}
 	cfg.Measures = cfg.Measures.WithDefaults()
 	cfg.Cohort, cfg.Dev = cfg.Cohort.named(), cfg.Dev.named()
 	r := run{cfg: &cfg, prog: progressOf(cfg.Progress), started: now(cfg.Clock)}
@@ -85,6 +92,9 @@ type run struct {
 	// audit folder holds it (nil when the model given was frozen).
 	fitted   *atomicfile.File
 	criteria []validate.Criterion
+	// monitor holds the charts over time for the figures (nil without a
+	// date column).
+	monitor *monitor.Result
 }
 
 // FittedModelName is the file in an audit folder that holds the frozen
@@ -152,6 +162,13 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 	figs, err := figures(a, r.perf)
 	if err != nil {
 		return nil, err
+	}
+	if r.monitor != nil {
+		mf, err := plots.Monitor(r.monitor, a.OverTime, r.criteria)
+		if err != nil {
+			return nil, err
+		}
+		figs = append(figs, mf...)
 	}
 	if ctx.Err() != nil {
 		return nil, context.Cause(ctx)
@@ -267,6 +284,12 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 			return err
 		}
 		a.BootstrapCI = percentileCIs(ci, c.CIBootstrap, c.Seed, ts)
+	}
+	if c.OverTime.DateColumn != "" {
+		// Before the verdict: a plan may make an alarm a criterion.
+		if err := r.overTime(ctx, a); err != nil {
+			return err
+		}
 	}
 	criteria := c.Criteria
 	if criteria == nil {

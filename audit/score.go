@@ -40,6 +40,9 @@ type scored struct {
 	sheet string
 	// query describes the database query the data came from, or is nil.
 	query *cohort.QueryInfo
+	// dates are the OverTime date column's text in the used rows, with
+	// their lines for errors (nil without a date column).
+	dates *dateColumn
 }
 
 // requests are the columns an audit reads: the model's (with the
@@ -73,7 +76,7 @@ func (c *Config) requests(spec *model.Spec) ([]cohort.Request, error) {
 		}
 		reqs = append(reqs, cohort.Request{Name: b.Column, Kind: cohort.Numeric})
 	}
-	return reqs, nil
+	return c.OverTime.request(reqs)
 }
 
 // frameOf reads an input's requested columns, or checks that a frame
@@ -165,6 +168,7 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input) (*scored
 		}
 		sc.bandValues = append(sc.bandValues, x)
 	}
+	sc.dates = c.OverTime.column(fr, m.Rows)
 	if c.Predicted != nil {
 		if sc.p, err = predictedRisks(fr, c.Predicted.Column, m.Rows, c.Predicted.Percent); err != nil {
 			return nil, err

@@ -130,16 +130,19 @@ type Plan struct {
 	SubgroupCriteria string
 	// Cluster is the cluster column and Clusters the options of the
 	// validation across clusters (plan/clusters.go).
-	Cluster           string
-	Clusters          Clusters
-	Criteria          []validate.Criterion
-	Bootstrap         int
-	Seed              uint64
-	CIBootstrap       int
-	Thresholds        string
-	ClassifyAt        string
-	NetBenefitMinGain float64
-	Data              Data
+	Cluster  string
+	Clusters Clusters
+	// DateColumn charts the cohort in date order (audit --date-column);
+	// Periods is "month", "quarter" or a number of patients a block.
+	DateColumn, Periods string
+	Criteria            []validate.Criterion
+	Bootstrap           int
+	Seed                uint64
+	CIBootstrap         int
+	Thresholds          string
+	ClassifyAt          string
+	NetBenefitMinGain   float64
+	Data                Data
 	// SampleSize is the sample_size section.
 	SampleSize samplesize.Request
 	// DB is the database connection of the queries (db), Queries the
@@ -199,7 +202,7 @@ var topKeys = []string{"name", "model", "predicted", "predicted_percent", "outco
 	"audit_date", "rename", "subgroups", "min_subgroup_events", "subgroup_criteria", "criteria", "bootstrap", "ci_bootstrap",
 	"thresholds", "classify_at", "net_benefit_min_gain", "data", "sample_size", "purpose",
 	"db", "cohort_query", "cohort_query_file", "dev_query", "dev_query_file", "params",
-	"cluster", "clusters"}
+	"cluster", "clusters", "date_column", "periods"}
 
 // Load reads the plan at path.
 func Load(path string) (*Plan, error) {
@@ -485,6 +488,14 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 		pl.Rename, err = p.rename(v)
 	case "subgroups":
 		pl.Subgroups, pl.Bands, err = p.subgroups(v)
+	case "date_column":
+		pl.DateColumn, err = p.str(v, key)
+	case "periods":
+		if pl.Periods, err = p.str(v, key); err == nil && pl.Periods != "month" && pl.Periods != "quarter" {
+			if n, aerr := strconv.Atoi(pl.Periods); aerr != nil || n < 2 {
+				return p.errf(ErrValue, v, "periods must be month, quarter or a number of patients a block (at least 2), not %s", cohort.Quote(pl.Periods))
+			}
+		}
 	case "subgroup_criteria":
 		if pl.SubgroupCriteria, err = p.str(v, key); err == nil {
 			if verr := validate.CheckSubgroupMode(pl.SubgroupCriteria); verr != nil {

@@ -52,6 +52,10 @@ func TestPlanErrors(t *testing.T) {
 		{"purpose:\n  settng: ward\n", `line 2: unknown key "settng" in purpose (did you mean "setting"?)`},
 		{"purpose:\n  setting: \"  \"\n", "line 2: purpose.setting is empty"},
 		{"purpose: [a]\n", "line 1: purpose must be a mapping"},
+		// The cohort in date order.
+		{"periods: weekly\n", `line 1: periods must be month, quarter or a number of patients a block (at least 2), not "weekly"`},
+		{"periods: 1\n", "periods must be month, quarter or a number of patients a block"},
+		{"date_column: [a, b]\n", "line 1: date_column must be a single value"},
 		// Subgroups, numeric bands and how subgroup checks count.
 		{"subgroups: sex\n", "line 1: subgroups must be a list of columns"},
 		{"subgroups:\n  - [sex]\n", "line 2: subgroups: each item is a column name or a mapping"},

@@ -57,6 +57,7 @@ func Write(w io.Writer, a *validate.Audit, figures []plots.Figure) error {
 	r.sampleSize()
 	r.subgroups()
 	r.clusters()
+	r.overTime()
 	r.caseMix()
 	r.update()
 	r.development()
@@ -697,6 +698,7 @@ func (r *renderer) methods() {
 	if len(r.a.Subgroups) > 0 {
 		items = append(items, "Subgroups: the measures above within each level of the named columns (numeric columns in half-open bands [lower, upper)), with their intervals; the criteria on AUC, O/E, calibration-in-the-large and slope checked in each subgroup large enough to judge.")
 	}
+	items = append(items, r.overTimeMethods()...)
 	for _, it := range items {
 		r.p("- %s\n", it)
 	}

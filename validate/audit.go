@@ -7,6 +7,7 @@ import (
 
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/model"
+	"github.com/riskaudit/riskaudit/monitor"
 )
 
 // Schema names the layout of audit.json.
@@ -304,6 +305,8 @@ type Audit struct {
 	Clusters *Clusters `json:"clusters,omitempty"`
 	// BootstrapCI holds percentile intervals on the cohort when asked.
 	BootstrapCI *PercentileCIs `json:"bootstrap_ci,omitempty"`
+	// OverTime is the cohort charted in date order (audit --date-column).
+	OverTime *monitor.Summary `json:"over_time,omitempty"`
 	// CohortIsDevelopment says that no new cohort was given, so the
 	// measures at the top level are those of the development data.
 	CohortIsDevelopment bool      `json:"cohort_is_development,omitempty"`

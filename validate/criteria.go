@@ -3,6 +3,7 @@ package validate
 import (
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 	"strings"
 )
@@ -176,6 +177,12 @@ func measureValue(p *Performance, name string) (float64, *[2]float64, error) {
 	if v, ok := scalars[name]; ok {
 		return v, nil, nil
 	}
+	if slices.Contains(AlarmMeasures, name) {
+		if v, ok := p.Alarms[name]; ok {
+			return v, nil, nil
+		}
+		return math.NaN(), nil, nil // not charted: not estimable
+	}
 	if iv, ok := intervals[name]; ok {
 		return math.NaN(), &iv, nil
 	}
@@ -191,10 +198,20 @@ func measureValue(p *Performance, name string) (float64, *[2]float64, error) {
 	return 0, nil, fmt.Errorf("unknown measure %q (measures: %s)", name, strings.Join(MeasureNames(), ", "))
 }
 
+// AlarmMeasures are the criteria's names for the alarms of an audit
+// charted in date order (audit --date-column): the number of signals of
+// the deterioration and the improvement CUSUM (restarted after each),
+// and 1 when the EWMA crossed its upper (more events than predicted) or
+// lower limit, else 0. A plan makes an alarm a criterion with, for
+// example, {measure: cusum_deterioration_signals, at_most: 0, severity:
+// review}.
+var AlarmMeasures = []string{"cusum_deterioration_signals", "cusum_improvement_signals", "ewma_above", "ewma_below"}
+
 // MeasureNames lists the measures a criterion can name.
 func MeasureNames() []string {
 	names := []string{"auc", "auc_se", "citl", "citl_se", "slope", "slope_se", "oe", "ici", "e50", "e90", "emax",
 		"brier", "scaled_brier", "hosmer_lemeshow.p", "hosmer_lemeshow.statistic", "event_rate", NetBenefitGainName}
+	names = append(names, AlarmMeasures...)
 	for _, iv := range []string{"auc_ci", "auc_logit_ci", "citl_ci", "slope_ci", "oe_ci"} {
 		names = append(names, iv, iv+".lower", iv+".upper")
 	}

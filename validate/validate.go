@@ -243,6 +243,11 @@ type Curves struct {
 
 // Performance is everything measured on one cohort.
 type Performance struct {
+	// Alarms are the charts' alarm counts by criterion name
+	// (AlarmMeasures), set by an audit that charted the cohort in date
+	// order, so that a criterion can name them; nil otherwise.
+	Alarms map[string]float64 `json:"-"`
+
 	Cohort         CohortSummary        `json:"cohort"`
 	Discrimination Discrimination       `json:"discrimination"`
 	Calibration    Calibration          `json:"calibration"`

@@ -47,6 +47,8 @@ func applyPlan(cmd *cobra.Command, o *auditOptions) error {
 		{"classify-at", "classify_at", func() { o.classifyAt = pl.ClassifyAt }},
 		{"nb-min-gain", "net_benefit_min_gain", func() { o.minGain = pl.NetBenefitMinGain }},
 		{"subgroups", "subgroups", func() { c.Subgroups, c.Bands = pl.Subgroups, pl.Bands }},
+		{"date-column", "date_column", func() { c.OverTime.DateColumn = pl.DateColumn }},
+		{"period", "periods", func() { o.period = pl.Periods }},
 		{"subgroup-criteria", "subgroup_criteria", func() { c.SubgroupCriteria = pl.SubgroupCriteria }},
 		{"min-subgroup-events", "min_subgroup_events", func() { c.MinSubgroupEvents = pl.MinSubgroupEvents }},
 		{"cluster", "cluster", func() { o.clusters.column = pl.Cluster }},

@@ -46,6 +46,8 @@ type auditOptions struct {
 	subgroups []string
 	// query reads the cohort or the development data from PostgreSQL.
 	query queryFlags
+	// period and cusumOdds are read into cfg.OverTime (overtime.go).
+	period, cusumOdds string
 }
 
 const auditLong = `Measure how a model performs on a cohort with observed outcomes and write
@@ -145,6 +147,10 @@ const auditExample = `  # Audit a frozen model on a fresh extract
   # Percentile intervals for ICI, E50, E90, scaled Brier and net benefit
   riskaudit audit --model frozen.yaml --cohort new.csv --ci-bootstrap 500 --out audit
 
+  # Follow the model through the year in date order: calibration by quarter,
+  # CUSUM and EWMA charts with their first alarms
+  riskaudit audit --model frozen.yaml --cohort year.csv --date-column admitted --period quarter --out audit
+
   # Subgroups: sex, age cut at 65 and 75, BMI by quartiles; a subgroup's
   # missed criterion fails the audit as the criterion itself would
   riskaudit audit --model frozen.yaml --cohort new.csv --subgroups sex,age:65,75,bmi:q4 \
@@ -216,6 +222,7 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.IntVar(&o.cfg.UpdateBootstrap, "update-bootstrap", 200, "bootstrap replicates for the updated model's expected performance (0: none)")
 	o.clusters.register(f)
 	widthFlags(f, "sample-size check: ", &o.cfg.SampleSize.Targets)
+	o.overTimeFlags(f)
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
 	o.data.register(f)
 	o.query.register(f, map[string]string{"cohort": "cohort", "dev": "dev"})
@@ -325,6 +332,9 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 		return cfg, err
 	}
 	if cfg.Clusters, err = o.clusters.config(); err != nil {
+		return cfg, err
+	}
+	if cfg.OverTime, err = o.overTime(); err != nil {
 		return cfg, err
 	}
 	if cfg.Read, cfg.FailOnMissing, err = o.data.options(); err != nil {

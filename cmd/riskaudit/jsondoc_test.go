@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"encoding/json"
+	"fmt"
 	"io"
 	"os"
 	"path/filepath"
@@ -56,7 +57,24 @@ func TestJSONKeysDocumented(t *testing.T) {
 	if err := os.WriteFile(planFile, []byte(planText), 0o644); err != nil {
 		t.Fatal(err)
 	}
+	// A dated cohort of predicted risks, for over_time (a short ARL keeps
+	// the limits' simulation quick).
+	dated := filepath.Join(dir, "dated.csv")
+	var b strings.Builder
+	b.WriteString("day,risk,event\n")
+	for i := range 1200 {
+		date := fmt.Sprintf("2026-%02d-%02d", 1+i/100, 1+i%28)
+		if i == 7 {
+			date = ""
+		}
+		fmt.Fprintf(&b, "%s,%.3f,%d\n", date, 0.05+0.3*float64(i%10)/10, (i*7919)%9/8)
+	}
+	if err := os.WriteFile(dated, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
 	for _, args := range [][]string{
+		{"audit", "--predicted", "risk", "--outcome", "event", "--event", "1", "--cohort", dated, "--date-column", "day",
+			"--period", "300", "--cusum-arl", "200", "--out", filepath.Join(dir, "dated"), "-q"},
 		{"audit", "--plan", planFile, "--rename", "bmi_value=bmi", "-q"},
 		{"fit", "--model", filepath.Join(demo, "recipe.yaml"), "--reduced", reduced, "--data", filepath.Join(demo, "development.csv"),
 			"--out", filepath.Join(dir, "refit.yaml"), "--json", filepath.Join(dir, "fit.json"), "-q"},
@@ -79,7 +97,7 @@ func TestJSONKeysDocumented(t *testing.T) {
 		}
 	}
 	paths := map[string]bool{}
-	for _, f := range []string{filepath.Join(dir, "audit", "audit.json"), filepath.Join(dir, "planned", "audit.json"), filepath.Join(dir, "fit.json"), filepath.Join(dir, "cmp", "compare.json"), filepath.Join(dir, "size.json"),
+	for _, f := range []string{filepath.Join(dir, "dated", "audit.json"), filepath.Join(dir, "audit", "audit.json"), filepath.Join(dir, "planned", "audit.json"), filepath.Join(dir, "fit.json"), filepath.Join(dir, "cmp", "compare.json"), filepath.Join(dir, "size.json"),
 		filepath.Join(dir, "audit2", "audit.json"), filepath.Join(dir, "trend", "trend.json"), filepath.Join(dir, "clusters", "audit.json")} {
 		raw, err := os.ReadFile(f)
 		if err != nil {
@@ -107,7 +125,7 @@ func TestJSONKeysDocumented(t *testing.T) {
 	sort.Strings(missing)
 	for _, p := range []string{"nested.lr_chi2", "delong.difference_se", "update.chosen", "internal.shrinkage_factor", "bootstrap_ci.ici", "criteria[].formula",
 		"provenance.plan.sha256", "provenance.renames[].applied_to", "model.purpose.replaced_from_model.setting", "model.fitted_model.sha256", "calibration.b.ici_ci",
-		"model.parent_sha256", "models[].parent_series", "model_changes[].series_before", "audits[].criteria[].between"} {
+		"model.parent_sha256", "models[].parent_series", "over_time.cusum[].first_signal.patient", "over_time.periods[].auc_ci", "model_changes[].series_before", "audits[].criteria[].between"} {
 		if !paths[p] {
 			t.Errorf("%s not written: an analysis did not run", p)
 		}

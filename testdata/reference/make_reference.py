@@ -13,6 +13,10 @@ testdata/reference/fits.json, from general-purpose libraries:
                           given event proportion and C-statistic
                           (samplesize.json)
   openpyxl                the Excel workbooks of xlsx/ (make_workbooks.py)
+  numpy                   the monitoring charts (monitor.json): VLAD, the
+                          risk-adjusted CUSUM and EWMA paths transcribed
+                          from the papers, and the CUSUM's in-control ARL
+                          by the Markov chain of Brook & Evans (1972)
 
 Run it with Debian's python3 (python3-statsmodels, python3-sklearn,
 python3-openpyxl); .ci/run
@@ -400,6 +404,7 @@ def main():
     write_samplesize_reference()
     write_subgroups_reference(bc)
     write_extra_reference(bc)
+    write_monitor_reference()
     # Excel workbooks written by openpyxl, and the values in them
     from make_workbooks import write_workbooks
     write_workbooks(bc)
@@ -1155,6 +1160,98 @@ def write_extra_reference(bc):
              6: [0.05, 0.23, 0.41, 0.59, 0.77, 0.95], 7: [0.025, 0.1833, 0.3417, 0.50, 0.6583, 0.8167, 0.975]}
     ref["knots"] = {str(k): [float(f"{v:.12g}") for v in np.quantile(texture, q, method="linear")] for k, q in table.items()}
     with open(os.path.join(HERE, "extra.json"), "w") as f:
+        json.dump(ref, f, indent=1, sort_keys=True)
+        f.write("\n")
+
+
+def markov_arl(p, r, h, m):
+    """In-control ARL of the risk-adjusted CUSUM with odds ratio r and
+    limit h, patients drawn uniformly from the risks p, by the Markov chain
+    of Brook & Evans (1972, Biometrika 59:539-549) as Steiner et al. (2000)
+    use it: S in [0, h) discretised into m cells of width h/m, state j
+    standing for the cell's midpoint (state 0 for S = 0 exactly and the
+    first half-cell), the chain absorbed once S >= h; ARL = first entry of
+    (I - Q)^-1 1 from state 0."""
+    p = np.asarray(p, float)
+    d = h / m
+    mids = np.arange(m) * d  # state j at j*d (0 is the reset state)
+    w0 = -np.log(1 - p + r * p)
+    w1 = np.log(r) + w0
+    q = np.zeros((m, m))
+    for w, prob in ((w0, 1 - p), (w1, p)):
+        nxt = np.maximum(0.0, mids[:, None] + w[None, :])  # m x n
+        j = np.minimum(np.floor(nxt / d + 0.5).astype(int), m - 1)
+        ok = nxt < h
+        for a in range(m):
+            sel = ok[a]
+            np.add.at(q[a], j[a, sel], prob[sel] / len(p))
+    arl = np.linalg.solve(np.eye(m) - q, np.ones(m))
+    return float(arl[0])
+
+
+def write_monitor_reference():
+    """A made-up series of 1,200 patients in date order (risks from a
+    normal linear predictor, outcomes drawn from them, the odds of the
+    event doubled, an intercept shift of log 2, from patient 801 on), and
+    the monitoring charts transcribed from the papers:
+      VLAD   Lovegrove et al. 1997: cumulative sum of p - y
+      CUSUM  Steiner et al. 2000: W = y log R - log(1 - p + R p),
+             S_t = max(0, S_{t-1} + W_t), R = 2 and 1/2
+      EWMA   Grigg & Spiegelhalter 2007, O - E form, lambda = 0.01:
+             Z_t = (1-l) Z_{t-1} + l (y_t - p_t),
+             V_t = (1-l)^2 V_{t-1} + l^2 p_t (1 - p_t)
+    with calibration by blocks of 200 (O/E, CITL by statsmodels GLM with
+    offset, AUC by scikit-learn) and the CUSUM's in-control ARL at a fixed
+    limit by the Markov chain (markov_arl, two discretisations)."""
+    import statsmodels.api as sm
+    from sklearn.metrics import roc_auc_score
+    rng = np.random.default_rng(18)
+    n, change = 1200, 800
+    lp = rng.normal(-2.2, 0.9, n)
+    p = 1 / (1 + np.exp(-lp))
+    p = np.round(p, 10)
+    true_lp = lp + np.where(np.arange(n) >= change, np.log(2), 0.0)
+    y = (rng.random(n) < 1 / (1 + np.exp(-true_lp))).astype(float)
+    with open(os.path.join(HERE, "monitor_series.csv"), "w") as f:
+        f.write("y,p\n")
+        for a, b in zip(y, p):
+            f.write(f"{int(a)},{b!r}\n")
+    vlad = np.cumsum(p - y)
+    cusum = {}
+    for name, r in (("deterioration", 2.0), ("improvement", 0.5)):
+        s, out = 0.0, []
+        for yi, pi in zip(y, p):
+            s = max(0.0, s + yi * np.log(r) - np.log(1 - pi + r * pi))
+            out.append(s)
+        cusum[name] = out
+    lam = 0.01
+    z, v, zs, sds = 0.0, 0.0, [], []
+    for yi, pi in zip(y, p):
+        z = (1 - lam) * z + lam * (yi - pi)
+        v = (1 - lam) ** 2 * v + lam ** 2 * pi * (1 - pi)
+        zs.append(z)
+        sds.append(np.sqrt(v))
+    blocks = []
+    fam = sm.families.Binomial()
+    for s0 in range(0, n, 200):
+        yy, pp = y[s0:s0 + 200], p[s0:s0 + 200]
+        o, e = yy.sum(), pp.sum()
+        half = 1.959963984540054 * np.sqrt((1 - o / len(yy)) / o)
+        citl = sm.GLM(yy, np.ones((len(yy), 1)), family=fam, offset=np.log(pp / (1 - pp))).fit(tol=1e-13, maxiter=200)
+        blocks.append({"n": len(yy), "events": int(o), "expected": r12(e), "oe": r12(o / e),
+                       "oe_ci": r12([o / e * np.exp(-half), o / e * np.exp(half)]),
+                       "citl": r12(citl.params[0]), "citl_se": r12(citl.bse[0]),
+                       "auc": r12(roc_auc_score(yy, pp))})
+    base = p[:change]
+    arl = []
+    for r, h in ((2.0, 2.5), (0.5, 2.0)):
+        arl.append({"odds_ratio": r, "h": h,
+                    "markov_arl_400": r12(markov_arl(base, r, h, 400)),
+                    "markov_arl_1600": r12(markov_arl(base, r, h, 1600))})
+    ref = {"_source": "testdata/reference/make_reference.py (numpy transcription of the published formulas; statsmodels GLM, scikit-learn roc_auc_score; Brook-Evans Markov chain)",
+           "change": change, "lambda": lam, "vlad": r12(vlad), "cusum": {k: r12(v) for k, v in cusum.items()},
+           "ewma_z": r12(zs), "ewma_sd": r12(sds), "blocks": blocks, "arl": arl}
+    with open(os.path.join(HERE, "monitor.json"), "w") as f:
         json.dump(ref, f, indent=1, sort_keys=True)
         f.write("\n")
 
