@@ -187,6 +187,6 @@ func WriteComparison(dir string, c *CompareResult) (*Written, error) {
 		return nil, err
 	}
 	return (&folderWrite{dir: dir, kind: "comparison", written: c.Made, inputs: c.Inputs, files: []atomicfile.File{
-		{Path: "compare.md", Data: md.Bytes()}, {Path: "compare.json", Data: js}, {Path: c.Figure.Name, Data: c.Figure.SVG},
+		{Path: "compare.md", Data: md.Bytes()}, {Path: "compare.json", Data: js}, {Path: c.Figure.Name, Data: c.Figure.SVG}, {Path: c.Figure.PNGName(), Data: c.Figure.PNG},
 	}}).write()
 }

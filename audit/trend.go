@@ -106,7 +106,7 @@ func WriteTrend(dir string, t *Trend) (*Written, error) {
 	}
 	files := []atomicfile.File{{Path: "trend.md", Data: md.Bytes()}, {Path: "trend.json", Data: js}}
 	for _, f := range t.Figures {
-		files = append(files, atomicfile.File{Path: f.Name, Data: f.SVG})
+		files = append(files, atomicfile.File{Path: f.Name, Data: f.SVG}, atomicfile.File{Path: f.PNGName(), Data: f.PNG})
 	}
 	return (&folderWrite{dir: dir, kind: "trend", written: t.Made, files: files, inputs: []string{t.Source}}).write()
 }

@@ -16,7 +16,7 @@ func SplineTermLabel(name string, j int) string {
 
 // upgradeTermLabel reads a term label in the form written by earlier
 // versions of riskaudit, where a spline's j-th non-linear term was the
-// name followed by j primes ("bmi''"), and returns it in the current form
+// name followed by j primes ("bmi”"), and returns it in the current form
 // (SplineTermLabel). Every factor of a product ("bmi'*sex=M") is read so;
 // a label without primes is returned as it is. Only frozen specs are read
 // this way: riskaudit writes the current form alone.

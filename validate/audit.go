@@ -307,6 +307,9 @@ type Audit struct {
 	CohortIsDevelopment bool      `json:"cohort_is_development,omitempty"`
 	Summary             []Finding `json:"summary"`
 	Caution             string    `json:"caution"`
+	// Figures lists the figure files written beside audit.json, each as
+	// SVG (linked by the report) and as PNG at print resolution.
+	Figures []FigureFiles `json:"figures,omitempty"`
 }
 
 // NewAudit assembles an audit from the new cohort's performance and,
@@ -675,4 +678,14 @@ func missingSentence(c CohortSummary, caution float64) string {
 			100*caution)
 	}
 	return s
+}
+
+// FigureFiles names the files of one figure of an audit.
+type FigureFiles struct {
+	// Title is the figure's caption in the report.
+	Title string `json:"title"`
+	// SVG is the file the report links.
+	SVG string `json:"svg"`
+	// PNG is the same figure at print resolution (300 dots per inch).
+	PNG string `json:"png"`
 }
