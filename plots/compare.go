@@ -55,8 +55,8 @@ func CompareDecision(c *validate.Comparison) (Figure, error) {
 		return Figure{}, err
 	}
 	p.Add(l1, l2)
-	leg.Add("model a: "+c.ModelA, l1)
-	leg.Add("model b: "+c.ModelB, l2)
+	leg.Add("model a (named above)", l1)
+	leg.Add("model b (named above)", l2)
 	leg.Add("treat none (net benefit 0)", none)
 	series = append(series, Series{Name: "a", Points: ca}, Series{Name: "b", Points: cb})
 	s := sheet{title: "Decision curves of both models", subtitle: "a: " + c.ModelA + "; b: " + c.ModelB, legend: leg, entries: len(series) + 1}

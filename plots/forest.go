@@ -47,9 +47,11 @@ func Forest(groups []validate.Subgroup, overall *validate.Performance) (Figure, 
 	labels := make(rowTicks, len(groups))
 	noCI, small, failed := 0, 0, 0
 	for i, g := range groups {
-		lab := fmt.Sprintf("%s = %s (n %d, events %d)", g.Column, g.Level, g.N, g.Events)
+		// The counts and "too small" are never cut; a long column
+		// name is cut before the level, which tells the rows apart.
+		suffix := fmt.Sprintf(" (n %d, events %d)", g.N, g.Events)
 		if g.TooSmall {
-			lab += ": too small"
+			suffix += ": too small"
 			small++
 		}
 		if len(g.Failed) > 0 {
@@ -61,7 +63,7 @@ func Forest(groups []validate.Subgroup, overall *validate.Performance) (Figure, 
 				break
 			}
 		}
-		labels[i] = shorten(lab, 56)
+		labels[i] = shorten(g.Column, 20) + " = " + shorten(g.Level, 30) + suffix
 	}
 	auc := overall.Discrimination.AUC
 	measures := []forestMeasure{
