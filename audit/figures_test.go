@@ -39,7 +39,7 @@ func TestDemoFigures(t *testing.T) {
 		t.Fatal(err)
 	}
 	var js struct {
-		Figures []struct{ Title, SVG, PNG string }
+		Figures    []struct{ Title, SVG, PNG string }
 		NetBenefit []struct {
 			Threshold, Model float64
 			TreatAll         float64 `json:"treat_all"`
