@@ -186,7 +186,7 @@ func WriteComparison(dir string, c *CompareResult) (*Written, error) {
 	if err != nil {
 		return nil, err
 	}
-	files := []atomicfile.File{{Path: "compare.md", Data: md.Bytes()}, page, {Path: c.Figure.Name, Data: c.Figure.SVG}}
+	files := []atomicfile.File{{Path: "compare.md", Data: md.Bytes()}, page, {Path: c.Figure.Name, Data: c.Figure.SVG}, {Path: c.Figure.PNGName(), Data: c.Figure.PNG}}
 	// compare.json lists the folder's files, itself included.
 	cmp := *c.Comparison
 	cmp.Outputs = []string{"compare.json"}

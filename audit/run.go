@@ -394,6 +394,9 @@ func figures(a *validate.Audit, perf *validate.Performance) ([]plots.Figure, err
 		}
 		figs = append(figs, cf...)
 	}
+	for _, f := range figs {
+		a.Figures = append(a.Figures, validate.FigureFiles{Title: f.Title, SVG: f.Name, PNG: f.PNGName()})
+	}
 	return figs, nil
 }
 

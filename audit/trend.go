@@ -107,6 +107,9 @@ func WriteTrend(dir string, t *Trend) (*Written, error) {
 	files := []atomicfile.File{{Path: "trend.md", Data: md.Bytes()}, {Path: "trend.json", Data: js}}
 	for _, f := range t.Figures {
 		files = append(files, atomicfile.File{Path: f.Name, Data: f.SVG})
+		if len(f.PNG) > 0 { // every figure drawn by plots has its PNG copy
+			files = append(files, atomicfile.File{Path: f.PNGName(), Data: f.PNG})
+		}
 	}
 	return (&folderWrite{dir: dir, kind: "trend", written: t.Made, files: files, inputs: []string{t.Source}}).write()
 }

@@ -135,6 +135,9 @@ func Write(dir string, r *Result, opt WriteOptions) (*Written, error) {
 	files := []atomicfile.File{{Path: "report.md", Data: md.Bytes()}, page}
 	for _, f := range r.Figures {
 		files = append(files, atomicfile.File{Path: f.Name, Data: f.SVG})
+		if len(f.PNG) > 0 { // every figure drawn by plots has its PNG copy
+			files = append(files, atomicfile.File{Path: f.PNGName(), Data: f.PNG})
+		}
 	}
 	files = append(files, r.Folder...)
 	// audit.json lists the folder's files, itself included; the result

@@ -394,7 +394,7 @@ func (d *Design) bindNumeric(e *entry, used []bool) error {
 		}
 		e.labels = []string{name}
 		for j := 1; j < len(e.knots)-1; j++ {
-			e.labels = append(e.labels, name+strings.Repeat("'", j))
+			e.labels = append(e.labels, SplineTermLabel(name, j))
 		}
 	default:
 		e.kind = linear

@@ -165,9 +165,11 @@ func (d *Design) Coefficients() ([]float64, error) {
 		case pr.HasCoef && len(e.labels) == 1 && pr.Coefs == nil:
 			t[0] = pr.Coef
 		case pr.Coefs != nil && !pr.HasCoef:
+			// A term may be named in the earlier spline form (bmi'),
+			// read as the current one (bmi [spline 1]).
 			byTerm := map[string]Coef{}
 			for _, c := range pr.Coefs {
-				byTerm[c.Term] = c
+				byTerm[upgradeTermLabel(c.Term)] = c
 			}
 			for j, l := range e.labels {
 				c, ok := byTerm[l]
@@ -178,7 +180,7 @@ func (d *Design) Coefficients() ([]float64, error) {
 				delete(byTerm, l)
 			}
 			for _, c := range pr.Coefs {
-				if _, extra := byTerm[c.Term]; extra {
+				if _, extra := byTerm[upgradeTermLabel(c.Term)]; extra {
 					return nil, &SpecError{File: s.File, Line: c.Line, Msg: fmt.Sprintf("coefs names %q, which is not a term of this predictor (terms: %v)", c.Term, e.labels), Kind: ErrCoefficients}
 				}
 			}

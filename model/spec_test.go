@@ -153,8 +153,8 @@ func TestFrozenCoefficientChecks(t *testing.T) {
 	base := "outcome: {column: y, event: 1}\nintercept: 0.5\npredictors:\n  - column: a\n    spline: {knots: [1, 2, 3]}\n"
 	csv := "y,a\n1,1\n0,2\n1,3\n"
 	for _, tt := range []struct{ extra, want string }{
-		{"", `needs coefs with a coefficient for each of [a a']`},
-		{"    coefs: {a: 1}\n", `coefs has no coefficient for term "a'"`},
+		{"", `needs coefs with a coefficient for each of [a a [spline 1]]`},
+		{"    coefs: {a: 1}\n", `coefs has no coefficient for term "a [spline 1]"`},
 		{"    coefs: {a: 1, \"a'\": 2, b: 3}\n", `coefs names "b", which is not a term`},
 	} {
 		s := mustSpec(t, base+tt.extra)
@@ -269,5 +269,81 @@ predictors:
 	}
 	if strings.Contains(string(text), "purpose") {
 		t.Errorf("a spec without a purpose wrote one:\n%s", text)
+	}
+}
+
+// TestSplineLabels checks the spline term labels: the current form is
+// written and read, the earlier trailing-prime form is still read (the
+// same coefficients, the same design), and a freeze writes only the
+// current form and reads back to the same coefficients.
+func TestSplineLabels(t *testing.T) {
+	base := "outcome: {column: y, event: 1}\nintercept: 0.5\npredictors:\n  - column: a\n    spline: {knots: [1, 2, 3, 4]}\n"
+	csv := "y,a\n1,1\n0,2\n1,3\n0,4\n1,2.5\n"
+	coefs := func(extra string) []float64 {
+		t.Helper()
+		s := mustSpec(t, base+extra)
+		d, _, err := Build(s, frame(t, csv, s, false), Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		b, err := d.Coefficients()
+		if err != nil {
+			t.Fatalf("%s: %v", extra, err)
+		}
+		if got := strings.Join(d.Terms, "|"); got != "(intercept)|a|a [spline 1]|a [spline 2]" && !strings.HasSuffix(got, "|a|a [spline 1]|a [spline 2]") {
+			t.Errorf("terms %q", got)
+		}
+		return b
+	}
+	cur := coefs("    coefs: {a: 1, \"a [spline 1]\": 2, \"a [spline 2]\": 3}\n")
+	old := coefs("    coefs: {a: 1, \"a'\": 2, \"a''\": 3}\n")
+	if len(cur) != 4 || cur[0] != 0.5 || cur[1] != 1 || cur[2] != 2 || cur[3] != 3 {
+		t.Fatalf("coefficients %v, want [0.5 1 2 3]", cur)
+	}
+	for i := range cur {
+		if cur[i] != old[i] {
+			t.Errorf("coefficient %d: %g from the current labels, %g from the earlier ones", i, cur[i], old[i])
+		}
+	}
+	s := mustSpec(t, base+"    coefs: {a: 1, \"a'\": 2, \"a''\": 3}\n")
+	d, _, err := Build(s, frame(t, csv, s, false), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	y, err := FreezeWith(d, cur, Provenance{}).MarshalYAML()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(string(y), "a'") || !strings.Contains(string(y), "a [spline 2]") {
+		t.Errorf("frozen spec should name the spline terms in the current form only:\n%s", y)
+	}
+	back := mustSpec(t, string(y))
+	d2, _, err := Build(back, frame(t, csv, back, false), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	b2, err := d2.Coefficients()
+	if err != nil {
+		t.Fatalf("reading the frozen spec back: %v\n%s", err, y)
+	}
+	for i := range cur {
+		if b2[i] != cur[i] {
+			t.Errorf("coefficient %d read back as %g, want %g", i, b2[i], cur[i])
+		}
+	}
+}
+
+func TestUpgradeTermLabel(t *testing.T) {
+	for _, tt := range []struct{ in, want string }{
+		{"bmi", "bmi"},
+		{"bmi'", "bmi [spline 1]"},
+		{"bmi''", "bmi [spline 2]"},
+		{"bmi'*sex=M", "bmi [spline 1]*sex=M"},
+		{"sex=M*age''", "sex=M*age [spline 2]"},
+		{"bmi [spline 1]", "bmi [spline 1]"},
+	} {
+		if got := upgradeTermLabel(tt.in); got != tt.want {
+			t.Errorf("upgradeTermLabel(%q) = %q, want %q", tt.in, got, tt.want)
+		}
 	}
 }

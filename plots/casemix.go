@@ -3,6 +3,7 @@ package plots
 import (
 	"fmt"
 	"math"
+	"slices"
 
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
@@ -14,7 +15,7 @@ import (
 // CaseMix draws the distributions of the linear predictor in both
 // cohorts and the standardised differences of the predictors.
 func CaseMix(cm *validate.CaseMix) ([]Figure, error) {
-	p := newPlot("Linear predictor in both cohorts", "Linear predictor (log-odds)", "Share of patients (%)")
+	p := newPlot("", "Linear predictor (log-odds)", "Share of patients (%)")
 	step := func(sh []float64) plotter.XYs {
 		var xys plotter.XYs
 		for i, v := range sh {
@@ -32,9 +33,16 @@ func CaseMix(cm *validate.CaseMix) ([]Figure, error) {
 	}
 	p.Add(ld, ln)
 	p.Y.Min = 0
-	p.Legend.Add(fmt.Sprintf("development (mean %.2f, SD %.2f)", cm.LPMeanDev, cm.LPSDDev), ld)
-	p.Legend.Add(fmt.Sprintf("new cohort (mean %.2f, SD %.2f)", cm.LPMeanNew, cm.LPSDNew), ln)
-	lp, err := render(p, 6*vg.Inch, 4*vg.Inch)
+	peak := 0.0
+	for _, v := range append(slices.Clone(cm.LPDev), cm.LPNew...) {
+		peak = math.Max(peak, 100*v)
+	}
+	p.Y.Max = 1.08 * math.Max(peak, 1)
+	p.Y.Tick.Marker = roundTicks{}
+	leg := newLegend()
+	leg.Add(fmt.Sprintf("development cohort (mean %.2f, SD %.2f)", cm.LPMeanDev, cm.LPSDDev), ld)
+	leg.Add(fmt.Sprintf("audited cohort (mean %.2f, SD %.2f)", cm.LPMeanNew, cm.LPSDNew), ln)
+	lpSVG, lpPNG, err := single(p, sheet{title: "Linear predictor in both cohorts", legend: leg, entries: 2}, 6*vg.Inch, 3.8*vg.Inch)
 	if err != nil {
 		return nil, err
 	}
@@ -49,10 +57,13 @@ func CaseMix(cm *validate.CaseMix) ([]Figure, error) {
 			labels, vals = append(labels, shorten(pm.Column+" = "+l, 40)), append(vals, pm.StdDiff[j])
 		}
 	}
-	q := newPlot("Standardised differences (new − development)", "standardised difference", "")
+	q := newPlot("", "Standardised difference (audited − development)", "")
 	n := len(vals)
 	q.Y.Min, q.Y.Max = -0.7, float64(n)-0.3
 	q.Y.Tick.Marker = labels
+	q.Y.Tick.Length = 0
+	q.Y.Padding = vg.Points(4)
+	q.X.Tick.Marker = roundTicks{}
 	lim := 0.25
 	missing := 0
 	for i, v := range vals {
@@ -83,14 +94,19 @@ func CaseMix(cm *validate.CaseMix) ([]Figure, error) {
 		}
 		q.Add(ref)
 	}
-	q.Legend.Add("|difference| ≥ 0.1 (common practice)", &plotter.Line{LineStyle: draw.LineStyle{Color: vermillion, Width: vg.Points(5)}})
+	ql := newLegend()
+	ql.Add("|difference| < 0.1", swatch(blue))
+	ql.Add("|difference| ≥ 0.1 (a common rule of thumb for a notable shift)", swatch(vermillion))
+	ql.Add("dashed lines: ±0.1", &plotter.Line{LineStyle: draw.LineStyle{Color: grey, Width: vg.Points(1), Dashes: []vg.Length{vg.Points(4), vg.Points(3)}}})
+	entries := 3
 	if missing > 0 {
-		q.Legend.Add(fmt.Sprintf("(none): %d without a difference (constant in each cohort)", missing), &plotter.Line{})
+		ql.Add(fmt.Sprintf("(none): %d without a difference (constant in each cohort)", missing))
+		entries++
 	}
-	sd, err := render(q, 6.5*vg.Inch, vg.Length(1.4+0.28*float64(n))*vg.Inch)
+	sdSVG, sdPNG, err := single(q, sheet{title: "Standardised differences of the predictors", legend: ql, entries: entries}, 6.5*vg.Inch, vg.Length(0.9+0.28*float64(n))*vg.Inch)
 	if err != nil {
 		return nil, err
 	}
-	return []Figure{{Name: "casemix_lp.svg", Title: "Linear predictor in both cohorts", SVG: lp},
-		{Name: "casemix_differences.svg", Title: "Standardised differences of the predictors", SVG: sd}}, nil
+	return []Figure{{Name: "casemix_lp.svg", Title: "Linear predictor in both cohorts", SVG: lpSVG, PNG: lpPNG},
+		{Name: "casemix_differences.svg", Title: "Standardised differences of the predictors", SVG: sdSVG, PNG: sdPNG}}, nil
 }

@@ -54,16 +54,16 @@ var clusterMeasures = []clusterMeasure{
 func ClusterForests(c *validate.Clusters) ([]Figure, error) {
 	var figs []Figure
 	for _, m := range clusterMeasures {
-		svg, err := clusterForest(c, m)
+		d, err := clusterForest(c, m)
 		if err != nil {
 			return nil, fmt.Errorf("forest plot of the %s by cluster: %w", m.name, err)
 		}
-		figs = append(figs, Figure{Name: "clusters_" + m.key + ".svg", Title: "The " + m.name + " by " + c.Column, SVG: svg})
+		figs = append(figs, Figure{Name: "clusters_" + m.key + ".svg", Title: "The " + m.name + " by " + c.Column, SVG: d.svg, PNG: d.png})
 	}
 	return figs, nil
 }
 
-func clusterForest(c *validate.Clusters, m clusterMeasure) ([]byte, error) {
+func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, error) {
 	pm := m.pooled(c)
 	if m.key == "auc" && c.Bounds.AUCMin > 0 {
 		m.ref = c.Bounds.AUCMin // the line a new cluster should stay right of
@@ -116,7 +116,7 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) ([]byte, error) {
 		if finite(ci[0]) && finite(ci[1]) {
 			seg, err := line(plotter.XYs{{X: clip(ci[0]), Y: y}, {X: clip(ci[1]), Y: y}}, col, 1.5)
 			if err != nil {
-				return nil, err
+				return drawn{}, err
 			}
 			p.Add(seg)
 		}
@@ -125,7 +125,7 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) ([]byte, error) {
 		}
 		pt, err := plotter.NewScatter(plotter.XYs{{X: v, Y: y}})
 		if err != nil {
-			return nil, err
+			return drawn{}, err
 		}
 		pt.GlyphStyle.Shape, pt.GlyphStyle.Color, pt.GlyphStyle.Radius = shape, col, vg.Points(3.5)
 		p.Add(pt)
@@ -136,7 +136,7 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) ([]byte, error) {
 		if finite(pm.PredictionInterval[0]) {
 			pi, err := line(plotter.XYs{{X: pm.PredictionInterval[0], Y: -0.25}, {X: pm.PredictionInterval[1], Y: -0.25}}, vermillion, 1.2, vg.Points(4), vg.Points(2))
 			if err != nil {
-				return nil, err
+				return drawn{}, err
 			}
 			pi.LineStyle.Color = vermillion
 			p.Add(pi)
@@ -144,13 +144,13 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) ([]byte, error) {
 		}
 		ci, err := line(plotter.XYs{{X: pm.CI[0], Y: 0}, {X: pm.CI[1], Y: 0}}, ink, 4)
 		if err != nil {
-			return nil, err
+			return drawn{}, err
 		}
 		p.Add(ci)
 		p.Legend.Add(fmt.Sprintf("pooled estimate, 95%% CI (%s)", c.CIMethod), ci)
 		pt, err := plotter.NewScatter(plotter.XYs{{X: pm.Estimate, Y: 0}})
 		if err != nil {
-			return nil, err
+			return drawn{}, err
 		}
 		pt.GlyphStyle.Shape, pt.GlyphStyle.Color, pt.GlyphStyle.Radius = draw.PyramidGlyph{}, ink, vg.Points(5)
 		p.Add(pt)
@@ -160,7 +160,7 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) ([]byte, error) {
 	p.X.Min, p.X.Max = lo, hi
 	rl, err := line(plotter.XYs{{X: m.ref, Y: p.Y.Min}, {X: m.ref, Y: p.Y.Max}}, grey, 1, vg.Points(4), vg.Points(3))
 	if err != nil {
-		return nil, err
+		return drawn{}, err
 	}
 	p.Add(rl)
 	p.Legend.Top = true

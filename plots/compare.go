@@ -12,7 +12,7 @@ import (
 // CompareDecision draws the decision curves of the two models of a
 // comparison on one chart, with treating everyone and treating no one.
 func CompareDecision(c *validate.Comparison) (Figure, error) {
-	p := newPlot("Decision curves", "Risk threshold for treatment (%)", "Net benefit (true positives per patient)")
+	p := newPlot("", "Risk threshold for treatment (%)", "Net benefit (true positives per patient)")
 	hi := 0.01
 	nb := c.NetBenefit
 	mk := func(get func(validate.NetBenefitPair) float64) plotter.XYs {
@@ -26,43 +26,40 @@ func CompareDecision(c *validate.Comparison) (Figure, error) {
 	la := mk(func(v validate.NetBenefitPair) float64 { return v.A })
 	lb := mk(func(v validate.NetBenefitPair) float64 { return v.B })
 	all := mk(func(v validate.NetBenefitPair) float64 { return v.TreatAll })
-	p.Y.Min, p.Y.Max = -hi*0.25, hi*1.1
 	if len(nb) > 0 {
-		p.X.Min, p.X.Max = 0, 100*nb[len(nb)-1].Threshold
+		netBenefitAxes(p, nb[0].Threshold, nb[len(nb)-1].Threshold, hi)
 	}
-	p.X.Tick.Marker = percentTicks{}
-	var keep plotter.XYs
-	for _, v := range all {
-		if v.Y >= p.Y.Min {
-			keep = append(keep, v)
-		}
-	}
+	leg := newLegend()
 	none, err := line(plotter.XYs{{X: p.X.Min, Y: 0}, {X: p.X.Max, Y: 0}}, ink, 1)
 	if err != nil {
 		return Figure{}, err
 	}
 	p.Add(none)
-	if len(keep) > 1 {
-		lt, err := line(keep, orange, 1.5, vg.Points(5), vg.Points(2))
+	var series []Series
+	if keep := clipBelow(all, p.Y.Min); len(keep) > 1 {
+		lt, err := line(keep, orange, 1.8, vg.Points(5), vg.Points(2))
 		if err != nil {
 			return Figure{}, err
 		}
 		p.Add(lt)
-		p.Legend.Add("treat everyone", lt)
+		leg.Add("treat all", lt)
+		series = append(series, Series{Name: "treat all", Points: keep})
 	}
-	l1, err := line(la, blue, 2)
+	ca, cb := clipBelow(la, p.Y.Min), clipBelow(lb, p.Y.Min)
+	l1, err := line(ca, blue, 2)
 	if err != nil {
 		return Figure{}, err
 	}
-	l2, err := line(lb, vermillion, 2, vg.Points(6), vg.Points(2), vg.Points(1), vg.Points(2))
+	l2, err := line(cb, purple, 2, vg.Points(6), vg.Points(2), vg.Points(1), vg.Points(2))
 	if err != nil {
 		return Figure{}, err
 	}
 	p.Add(l1, l2)
-	p.Legend.Add("a: "+shorten(c.ModelA, 40), l1)
-	p.Legend.Add("b: "+shorten(c.ModelB, 40), l2)
-	p.Legend.Add("treat no one", none)
-	shiftLegend(p, 0.40, 6*vg.Inch)
-	svg, err := render(p, 6*vg.Inch, 4.5*vg.Inch)
-	return Figure{Name: "decision_curves.svg", Title: "Decision curves of both models", SVG: svg}, err
+	leg.Add("model a (named above)", l1)
+	leg.Add("model b (named above)", l2)
+	leg.Add("treat none (net benefit 0)", none)
+	series = append(series, Series{Name: "a", Points: ca}, Series{Name: "b", Points: cb})
+	s := sheet{title: "Decision curves of both models", subtitle: "a: " + c.ModelA + "; b: " + c.ModelB, legend: leg, entries: len(series) + 1}
+	svg, png, err := single(p, s, 6*vg.Inch, 4.2*vg.Inch)
+	return Figure{Name: "decision_curves.svg", Title: "Decision curves of both models", SVG: svg, PNG: png, Series: series}, err
 }

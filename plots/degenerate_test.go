@@ -72,7 +72,7 @@ func TestDegenerateFigures(t *testing.T) {
 		t.Fatalf("subgroups with an AUC interval that is NaN: %v", err)
 	}
 	checkSVG(t, "subgroups.svg", f.SVG)
-	if !strings.Contains(string(f.SVG), "AUC CI not estimable") {
+	if !strings.Contains(string(f.SVG), "hollow square: interval not estimable") {
 		t.Error("the subgroup chart does not say which interval is not estimable")
 	}
 	rec := func(date string, slope [3]float64) history.Record {

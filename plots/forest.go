@@ -1,7 +1,6 @@
 package plots
 
 import (
-	"bytes"
 	"fmt"
 	"math"
 
@@ -9,7 +8,6 @@ import (
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-	"gonum.org/v1/plot/vg/vgsvg"
 
 	"github.com/riskaudit/riskaudit/validate"
 )
@@ -29,86 +27,157 @@ type noTicks struct{}
 
 func (noTicks) Ticks(_, _ float64) []plot.Tick { return nil }
 
-// Forest draws the subgroup chart: AUC (left) and O/E (right) with their
-// 95% intervals, one row per subgroup, beside lines at the whole cohort's
-// AUC and at O/E = 1. A subgroup too small to measure keeps its row,
-// marked as such; a subgroup that fails a criterion is drawn in
-// vermillion.
-func Forest(groups []validate.Subgroup, overall *validate.Performance) (Figure, error) {
-	labels := make(rowTicks, len(groups))
-	for i, g := range groups {
-		lab := fmt.Sprintf("%s = %s (n %d, events %d)", g.Column, g.Level, g.N, g.Events)
-		suffix := ""
-		switch {
-		case g.TooSmall:
-			suffix = ": too small"
-		case g.AUCCI != nil && (!finite(g.AUCCI[0]) || !finite(g.AUCCI[1])):
-			suffix = ": AUC CI not estimable" // drawn as a hollow square
-		}
-		labels[i] = shorten(lab, 48-len([]rune(suffix))) + suffix
-	}
-	left, err := forestPanel("AUC by subgroup", "AUC (95% CI)", groups, labels, overall.Discrimination.AUC,
-		func(g validate.Subgroup) (float64, [2]float64, bool) {
-			if g.AUC == nil {
-				return 0, [2]float64{}, false
-			}
-			return *g.AUC, *g.AUCCI, true
-		})
-	if err != nil {
-		return Figure{}, err
-	}
-	right, err := forestPanel("O/E by subgroup", "observed / expected (95% CI)", groups, nil, 1,
-		func(g validate.Subgroup) (float64, [2]float64, bool) {
-			if g.OE == nil {
-				return 0, [2]float64{}, false
-			}
-			return *g.OE, *g.OECI, true
-		})
-	if err != nil {
-		return Figure{}, err
-	}
-	h := vg.Length(1.6+0.32*float64(len(groups))) * vg.Inch
-	w := 9 * vg.Inch
-	c := vgsvg.New(w, h)
-	dc := margins(draw.New(c))
-	split := dc.Min.X + (dc.Max.X-dc.Min.X)*0.62
-	left.Draw(draw.Crop(dc, 0, split-dc.Max.X, 0, 0))
-	right.Draw(draw.Crop(dc, split-dc.Min.X+vg.Points(8), 0, 0, 0))
-	var b bytes.Buffer
-	if _, err := c.WriteTo(&b); err != nil {
-		return Figure{}, err
-	}
-	return Figure{Name: "subgroups.svg", Title: "Performance by subgroup", SVG: b.Bytes()}, nil
+// forestMeasure is one panel of the subgroup chart.
+type forestMeasure struct {
+	title, xlab string
+	// ref is the reference line's value and label.
+	ref      float64
+	refLabel string
+	get      func(validate.Subgroup) (*float64, *[2]float64)
 }
 
-func forestPanel(title, xlab string, groups []validate.Subgroup, labels rowTicks, ref float64,
-	get func(validate.Subgroup) (float64, [2]float64, bool)) (*plot.Plot, error) {
-	p := newPlot(title, xlab, "")
+// Forest draws the subgroup chart: AUC, O/E, calibration-in-the-large
+// and calibration slope with their 95% intervals, one row per subgroup,
+// each panel with a labelled reference line (the whole cohort's AUC, O/E
+// = 1, calibration-in-the-large = 0, slope = 1). A subgroup too small to
+// measure keeps its row, marked as such; a subgroup that misses a
+// criterion is drawn in vermillion; a point whose interval is not
+// estimable is drawn hollow. The legend is below the panels.
+func Forest(groups []validate.Subgroup, overall *validate.Performance) (Figure, error) {
+	labels := make(rowTicks, len(groups))
+	noCI, small, failed := 0, 0, 0
+	for i, g := range groups {
+		// The counts and "too small" are never cut; a long column
+		// name is cut before the level, which tells the rows apart.
+		suffix := fmt.Sprintf(" (n %d, events %d)", g.N, g.Events)
+		if g.TooSmall {
+			suffix += ": too small"
+			small++
+		}
+		if len(g.Failed) > 0 {
+			failed++
+		}
+		for _, ci := range []*[2]float64{g.AUCCI, g.OECI, g.CITLCI, g.SlopeCI} {
+			if ci != nil && (!finite(ci[0]) || !finite(ci[1])) {
+				noCI++
+				break
+			}
+		}
+		labels[i] = shorten(g.Column, 20) + " = " + shorten(g.Level, 30) + suffix
+	}
+	auc := overall.Discrimination.AUC
+	measures := []forestMeasure{
+		{"AUC", "AUC (95% CI)", auc, fmt.Sprintf("cohort %.3f", auc), func(g validate.Subgroup) (*float64, *[2]float64) { return g.AUC, g.AUCCI }},
+		{"O/E", "observed / expected", 1, "O/E = 1", func(g validate.Subgroup) (*float64, *[2]float64) { return g.OE, g.OECI }},
+		{"Calibration-in-the-large", "log-odds (95% CI)", 0, "CITL = 0", func(g validate.Subgroup) (*float64, *[2]float64) { return g.CITL, g.CITLCI }},
+		{"Calibration slope", "slope (95% CI)", 1, "slope = 1", func(g validate.Subgroup) (*float64, *[2]float64) { return g.Slope, g.SlopeCI }},
+	}
+	if !finite(auc) {
+		measures[0].ref, measures[0].refLabel = 0.5, "AUC = 0.5"
+	}
+	var ps []*plot.Plot
+	var series []Series
+	for k, m := range measures {
+		var lab rowTicks
+		if k == 0 {
+			lab = labels
+		}
+		p, pts, err := forestPanel(m, groups, lab)
+		if err != nil {
+			return Figure{}, err
+		}
+		ps = append(ps, p)
+		series = append(series, Series{Name: m.title, Points: pts})
+	}
+	leg := newLegend()
+	leg.Add("estimate and 95% CI, meets the criteria", swatch(blue))
+	entries := 1
+	if failed > 0 {
+		leg.Add("misses a criterion", swatch(vermillion))
+		entries++
+	}
+	if noCI > 0 {
+		leg.Add("hollow square: interval not estimable", &plotter.Scatter{GlyphStyle: draw.GlyphStyle{Shape: draw.SquareGlyph{}, Color: blue, Radius: vg.Points(3.5)}})
+		entries++
+	}
+	leg.Add("dashed line: reference value, named at its top", &plotter.Line{LineStyle: draw.LineStyle{Color: grey, Width: vg.Points(1), Dashes: []vg.Length{vg.Points(4), vg.Points(3)}}})
+	entries++
+	if small > 0 {
+		leg.Add(fmt.Sprintf("too small: %d subgroup(s) below the minimum of events, not drawn", small))
+		entries++
+	}
+	s := sheet{title: "Performance by subgroup", legend: leg, entries: entries}
+	w := 11 * vg.Inch
+	h := vg.Length(1.3+0.3*float64(len(groups)))*vg.Inch + s.headHeight(w-vg.Points(10)) + s.footHeight()
+	svg, png, err := paint(w, h, func(c draw.Canvas) error {
+		rest := s.frame(c)
+		// The first panel also holds the row labels.
+		lw := textStyle(sans(9), ink)
+		labelW := vg.Length(0)
+		for _, l := range labels {
+			labelW = max(labelW, lw.Width(l))
+		}
+		width := rest.Max.X - rest.Min.X
+		each := (width - labelW - vg.Points(30)) / 4
+		cs := make([]draw.Canvas, 4)
+		x := rest.Min.X
+		for k := range cs {
+			wk := each
+			if k == 0 {
+				wk += labelW + vg.Points(30)
+			}
+			cs[k] = draw.Crop(rest, x-rest.Min.X, -(rest.Max.X - x - wk), 0, 0)
+			x += wk
+		}
+		alignY(ps, cs)
+		for k, p := range ps {
+			p.Draw(cs[k])
+		}
+		s.foot(c)
+		return nil
+	})
+	return Figure{Name: "subgroups.svg", Title: "Performance by subgroup", SVG: svg, PNG: png, Series: series}, err
+}
+
+// forestPanel draws one measure's panel; it returns the drawn points
+// (x the estimate, y the row from the top, 0 first).
+func forestPanel(m forestMeasure, groups []validate.Subgroup, labels rowTicks) (*plot.Plot, plotter.XYs, error) {
+	p := newPlot(m.title, m.xlab, "")
 	n := len(groups)
-	p.Y.Min, p.Y.Max = -0.7, float64(n)-0.3
+	// A row above the subgroups holds the reference line's label.
+	p.Y.Min, p.Y.Max = -0.7, float64(n)+0.5
 	if labels != nil {
 		p.Y.Tick.Marker = labels
 	} else {
 		p.Y.Tick.Marker = noTicks{}
 	}
-	lo, hi := ref, ref
+	p.Y.Tick.Length = 0
+	p.Y.Padding = vg.Points(4)
+	p.X.Tick.Marker = roundTicks{}
+	var pts plotter.XYs
+	lo, hi := m.ref, m.ref
 	for i, g := range groups {
-		v, ci, ok := get(g)
-		if !ok || !finite(v) {
+		vp, cip := m.get(g)
+		if vp == nil || !finite(*vp) {
 			continue
+		}
+		v := *vp
+		var ci [2]float64
+		if cip != nil {
+			ci = *cip
+		} else {
+			ci = [2]float64{math.NaN(), math.NaN()}
 		}
 		y := float64(n - 1 - i)
 		col := blue
 		if len(g.Failed) > 0 {
 			col = vermillion
 		}
-		// A subgroup whose interval is not estimable keeps its point,
-		// drawn hollow, without an interval.
 		shape := draw.GlyphDrawer(draw.BoxGlyph{})
 		if finite(ci[0]) && finite(ci[1]) {
 			seg, err := line(plotter.XYs{{X: ci[0], Y: y}, {X: ci[1], Y: y}}, col, 1.5)
 			if err != nil {
-				return nil, err
+				return nil, nil, err
 			}
 			p.Add(seg)
 			lo, hi = math.Min(lo, ci[0]), math.Max(hi, ci[1])
@@ -117,19 +186,37 @@ func forestPanel(title, xlab string, groups []validate.Subgroup, labels rowTicks
 		}
 		pt, err := plotter.NewScatter(plotter.XYs{{X: v, Y: y}})
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 		pt.GlyphStyle.Shape, pt.GlyphStyle.Color, pt.GlyphStyle.Radius = shape, col, vg.Points(3.5)
 		p.Add(pt)
+		pts = append(pts, plotter.XY{X: v, Y: float64(i)})
 		lo, hi = math.Min(lo, v), math.Max(hi, v)
 	}
-	pad := 0.08 * math.Max(hi-lo, 0.05)
+	pad := 0.1 * math.Max(hi-lo, 0.05)
 	p.X.Min, p.X.Max = lo-pad, hi+pad
-	rl, err := line(plotter.XYs{{X: ref, Y: p.Y.Min}, {X: ref, Y: p.Y.Max}}, grey, 1, vg.Points(4), vg.Points(3))
+	rl, err := line(plotter.XYs{{X: m.ref, Y: p.Y.Min}, {X: m.ref, Y: float64(n) - 0.3}}, grey, 1, vg.Points(4), vg.Points(3))
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
-	p.Add(rl)
-	p.Legend.Top = false
-	return p, nil
+	p.Add(rl, &refLabel{x: m.ref, y: float64(n) + 0.1, text: m.refLabel})
+	return p, pts, nil
+}
+
+// refLabel names a reference line above the rows.
+type refLabel struct {
+	x, y float64
+	text string
+}
+
+// Plot draws the label centred on the line, kept inside the panel.
+func (r *refLabel) Plot(c draw.Canvas, p *plot.Plot) {
+	x, y := p.Transforms(&c)
+	sty := textStyle(sans(8.5), grey)
+	sty.XAlign, sty.YAlign = draw.XCenter, draw.YCenter
+	px := x(r.x)
+	half := sty.Width(r.text) / 2
+	px = max(px, c.Min.X+half)
+	px = min(px, c.Max.X-half)
+	c.FillText(sty, vg.Point{X: px, Y: y(r.y)}, r.text)
 }

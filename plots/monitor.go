@@ -1,7 +1,6 @@
 package plots
 
 import (
-	"bytes"
 	"fmt"
 	"image/color"
 	"math"
@@ -10,7 +9,6 @@ import (
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-	"gonum.org/v1/plot/vg/vgsvg"
 
 	"github.com/riskaudit/riskaudit/monitor"
 	"github.com/riskaudit/riskaudit/validate"
@@ -58,13 +56,13 @@ func thin(v []float64, scale float64) plotter.XYs {
 func Monitor(r *monitor.Result, s *monitor.Summary, criteria []validate.Criterion) ([]Figure, error) {
 	type maker struct {
 		name, title string
-		draw        func() ([]byte, error)
+		draw        func() (drawn, error)
 	}
 	makers := []maker{
-		{"over_time_periods.svg", "Calibration and discrimination by period, in date order", func() ([]byte, error) { return periodChart(s, criteria) }},
-		{"over_time_vlad.svg", "Cumulative expected minus observed events, in date order", func() ([]byte, error) { return vladChart(r) }},
-		{"over_time_cusum.svg", "Risk-adjusted CUSUM charts for deterioration and improvement", func() ([]byte, error) { return cusumChart(r) }},
-		{"over_time_ewma.svg", "Risk-adjusted EWMA of observed minus expected events", func() ([]byte, error) { return ewmaChart(r) }},
+		{"over_time_periods.svg", "Calibration and discrimination by period, in date order", func() (drawn, error) { return periodChart(s, criteria) }},
+		{"over_time_vlad.svg", "Cumulative expected minus observed events, in date order", func() (drawn, error) { return vladChart(r) }},
+		{"over_time_cusum.svg", "Risk-adjusted CUSUM charts for deterioration and improvement", func() (drawn, error) { return cusumChart(r) }},
+		{"over_time_ewma.svg", "Risk-adjusted EWMA of observed minus expected events", func() (drawn, error) { return ewmaChart(r) }},
 	}
 	var out []Figure
 	for _, m := range makers {
@@ -72,7 +70,7 @@ func Monitor(r *monitor.Result, s *monitor.Summary, criteria []validate.Criterio
 		if err != nil {
 			return nil, fmt.Errorf("drawing %s: %w", m.name, err)
 		}
-		out = append(out, Figure{Name: m.name, Title: m.title, SVG: b})
+		out = append(out, Figure{Name: m.name, Title: m.title, SVG: b.svg, PNG: b.png})
 	}
 	return out, nil
 }
@@ -147,21 +145,21 @@ func marks(p *plot.Plot, at []int, v []float64, scale float64, c color.Color, le
 	return nil
 }
 
-func vladChart(r *monitor.Result) ([]byte, error) {
+func vladChart(r *monitor.Result) (drawn, error) {
 	p := newPlot("Cumulative expected − observed events (above 0: fewer events than predicted)", "", "expected − observed events")
 	patientAxis(p, r)
 	zero, err := hline(0, 0, float64(r.N), grey, 1)
 	if err != nil {
-		return nil, err
+		return drawn{}, err
 	}
 	l, err := line(thin(r.VLAD, 1), blue, 1.4)
 	if err != nil {
-		return nil, err
+		return drawn{}, err
 	}
 	p.Add(zero, l)
 	p.Legend.Add("expected − observed, cumulative", l)
 	if err := marks(p, r.Charts[0].Signals, r.VLAD, 1, vermillion, "deterioration chart signalled"); err != nil {
-		return nil, err
+		return drawn{}, err
 	}
 	lo, hi := 0.0, 0.0
 	for _, v := range r.VLAD {
@@ -171,7 +169,7 @@ func vladChart(r *monitor.Result) ([]byte, error) {
 	return render(p, 7*vg.Inch, 4*vg.Inch)
 }
 
-func cusumChart(r *monitor.Result) ([]byte, error) {
+func cusumChart(r *monitor.Result) (drawn, error) {
 	p := newPlot("Risk-adjusted CUSUMs, restarted after each signal: deterioration up, improvement down", "", "CUSUM (log-likelihood ratio)")
 	patientAxis(p, r)
 	colours := []color.Color{vermillion, blue}
@@ -182,22 +180,22 @@ func cusumChart(r *monitor.Result) ([]byte, error) {
 		}
 		l, err := line(thin(c.Restarted, sign), colours[k], 1.2)
 		if err != nil {
-			return nil, err
+			return drawn{}, err
 		}
 		h, err := hline(sign*c.Limit.H, 0, float64(r.N), colours[k], 1, vg.Points(5), vg.Points(3))
 		if err != nil {
-			return nil, err
+			return drawn{}, err
 		}
 		p.Add(l, h)
 		p.Legend.Add(fmt.Sprintf("%s, odds ratio %g", c.Name, c.Limit.R), l)
 		p.Legend.Add(fmt.Sprintf("limit h = %.2f (in-control ARL %s patients)", c.Limit.H, grouped(int(c.Limit.TargetARL))), h)
 		if err := marks(p, c.Signals, c.Restarted, sign, colours[k], "signal"); err != nil {
-			return nil, err
+			return drawn{}, err
 		}
 	}
 	zero, err := hline(0, 0, float64(r.N), grey, 1)
 	if err != nil {
-		return nil, err
+		return drawn{}, err
 	}
 	p.Add(zero)
 	top := r.Charts[0].Limit.H
@@ -212,7 +210,7 @@ func cusumChart(r *monitor.Result) ([]byte, error) {
 	return render(p, 7*vg.Inch, 4.5*vg.Inch)
 }
 
-func ewmaChart(r *monitor.Result) ([]byte, error) {
+func ewmaChart(r *monitor.Result) (drawn, error) {
 	e := r.EWMA
 	p := newPlot(fmt.Sprintf("EWMA of observed − expected (λ = %g), ±%g exact SD", e.Lambda, e.L), "", "observed − expected (events per patient)")
 	patientAxis(p, r)
@@ -222,19 +220,19 @@ func ewmaChart(r *monitor.Result) ([]byte, error) {
 	}
 	lu, err := line(thin(up, 1), grey, 1, vg.Points(5), vg.Points(3))
 	if err != nil {
-		return nil, err
+		return drawn{}, err
 	}
 	ll, err := line(thin(lo, 1), grey, 1, vg.Points(5), vg.Points(3))
 	if err != nil {
-		return nil, err
+		return drawn{}, err
 	}
 	z, err := line(thin(e.Z, 1), blue, 1.3)
 	if err != nil {
-		return nil, err
+		return drawn{}, err
 	}
 	zero, err := hline(0, 0, float64(r.N), gridGrey, 1)
 	if err != nil {
-		return nil, err
+		return drawn{}, err
 	}
 	p.Add(zero, lu, ll, z)
 	p.Legend.Add("observed − expected, smoothed", z)
@@ -244,14 +242,14 @@ func ewmaChart(r *monitor.Result) ([]byte, error) {
 		first = append(first, e.FirstAbove)
 	}
 	if err := marks(p, first, e.Z, 1, vermillion, "first above the upper limit"); err != nil {
-		return nil, err
+		return drawn{}, err
 	}
 	first = first[:0]
 	if e.FirstBelow >= 0 {
 		first = append(first, e.FirstBelow)
 	}
 	if err := marks(p, first, e.Z, 1, orange, "first below the lower limit"); err != nil {
-		return nil, err
+		return drawn{}, err
 	}
 	// Leave the first patients' near-zero limits out of the scale: the
 	// axis spans the limits from patient 1/λ on.
@@ -305,7 +303,7 @@ func (t periodTicks) Ticks(_, _ float64) []plot.Tick {
 // periodChart stacks three panels over the periods: O/E, CITL and AUC,
 // each with its 95% intervals, the whole cohort's value (dotted) and the
 // criteria's bounds (dashed).
-func periodChart(s *monitor.Summary, criteria []validate.Criterion) ([]byte, error) {
+func periodChart(s *monitor.Summary, criteria []validate.Criterion) (drawn, error) {
 	type panel struct {
 		name, measure string
 		v             func(monitor.Period) (float64, [2]float64)
@@ -357,7 +355,7 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) ([]byte, err
 		for _, b := range bounds(criteria, pn.measure) {
 			bl, err := hline(b, p.X.Min, p.X.Max, orange, 1.2, vg.Points(6), vg.Points(3))
 			if err != nil {
-				return nil, err
+				return drawn{}, err
 			}
 			p.Add(bl)
 			if !legended {
@@ -369,7 +367,7 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) ([]byte, err
 		if finite(pn.all) {
 			al, err := hline(pn.all, p.X.Min, p.X.Max, vermillion, 1.2, vg.Points(2), vg.Points(2))
 			if err != nil {
-				return nil, err
+				return drawn{}, err
 			}
 			p.Add(al)
 			p.Legend.Add("all patients", al)
@@ -378,7 +376,7 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) ([]byte, err
 		if !math.IsNaN(pn.ref) {
 			rl, err := hline(pn.ref, p.X.Min, p.X.Max, grey, 1, vg.Points(1), vg.Points(2))
 			if err != nil {
-				return nil, err
+				return drawn{}, err
 			}
 			p.Add(rl)
 			if k == 0 {
@@ -392,12 +390,12 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) ([]byte, err
 			}
 			eb, err := plotter.NewYErrorBars(yerr{pts, errs})
 			if err != nil {
-				return nil, err
+				return drawn{}, err
 			}
 			eb.LineStyle.Color, eb.LineStyle.Width = blue, vg.Points(1.5)
 			sc, err := plotter.NewScatter(pts)
 			if err != nil {
-				return nil, err
+				return drawn{}, err
 			}
 			sc.GlyphStyle.Shape, sc.GlyphStyle.Color, sc.GlyphStyle.Radius = draw.CircleGlyph{}, blue, vg.Points(3)
 			p.Add(eb, sc)
@@ -412,16 +410,13 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) ([]byte, err
 		}
 		plots[k] = []*plot.Plot{p}
 	}
-	c := vgsvg.New(w, h)
-	dc := margins(draw.New(c))
-	tiles := draw.Tiles{Rows: len(panels), Cols: 1, PadY: vg.Points(8)}
-	canvases := plot.Align(plots, tiles, dc)
-	for k := range panels {
-		plots[k][0].Draw(canvases[k][0])
-	}
-	var b bytes.Buffer
-	if _, err := c.WriteTo(&b); err != nil {
-		return nil, err
-	}
-	return b.Bytes(), nil
+	svg, png, err := paint(w, h, func(dc draw.Canvas) error {
+		tiles := draw.Tiles{Rows: len(panels), Cols: 1, PadY: vg.Points(8)}
+		canvases := plot.Align(plots, tiles, dc)
+		for k := range panels {
+			plots[k][0].Draw(canvases[k][0])
+		}
+		return nil
+	})
+	return drawn{svg, png}, err
 }

@@ -1,7 +1,6 @@
 package plots
 
 import (
-	"bytes"
 	"fmt"
 	"image/color"
 	"math"
@@ -12,7 +11,6 @@ import (
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-	"gonum.org/v1/plot/vg/vgsvg"
 
 	"github.com/riskaudit/riskaudit/history"
 	"github.com/riskaudit/riskaudit/trend"
@@ -234,7 +232,7 @@ func Trend(tr *trend.Trend) ([]Figure, error) {
 	xs := TrendX(tr)
 	lo, hi := TrendRange(Day(tr.Points[0].Time), Day(tr.Points[len(xs)-1].Time))
 	for _, ch := range trendCharts {
-		p := newPlot(ch.title, "Audit date", ch.ylab)
+		p := newPlot("", "Audit date", ch.ylab)
 		p.X.Tick.Marker = timeTicks{}
 		p.X.Min, p.X.Max = lo, hi
 		leg := plot.NewLegend()
@@ -289,11 +287,11 @@ func Trend(tr *trend.Trend) ([]Figure, error) {
 		// edge of the range is not drawn on the axis.
 		pad := 0.04 * (p.Y.Max - p.Y.Min)
 		p.Y.Min, p.Y.Max = p.Y.Min-pad, p.Y.Max+pad
-		b, err := renderLegendBelow(p, &leg, n, 6.5*vg.Inch, 3.6*vg.Inch)
+		b, png, err := single(p, sheet{title: ch.title, legend: &leg, entries: n}, 6.5*vg.Inch, 3.6*vg.Inch)
 		if err != nil {
 			return nil, err
 		}
-		out = append(out, Figure{Name: ch.name, Title: ch.title, SVG: b})
+		out = append(out, Figure{Name: ch.name, Title: ch.title, SVG: b, PNG: png})
 	}
 	return out, nil
 }
@@ -301,7 +299,7 @@ func Trend(tr *trend.Trend) ([]Figure, error) {
 // styleLegend gives a legend below a chart the look of the others.
 func styleLegend(l *plot.Legend) {
 	l.Top, l.Left = true, true
-	l.TextStyle.Font.Size = vg.Points(9)
+	l.TextStyle.Font = sans(9)
 	l.TextStyle.Color = ink
 	l.ThumbnailWidth = vg.Points(22)
 	l.Padding = vg.Points(4)
@@ -310,23 +308,6 @@ func styleLegend(l *plot.Legend) {
 
 // legendRow is the height of one legend entry below a chart.
 const legendRow = 12.5
-
-// renderLegendBelow draws the chart (w × h) with its legend of n
-// entries in a strip below it, so that no entry covers the data.
-func renderLegendBelow(p *plot.Plot, leg *plot.Legend, n int, w, h vg.Length) ([]byte, error) {
-	strip := vg.Points(legendRow*float64(n) + 6)
-	c := vgsvg.New(w, h+strip)
-	dc := margins(draw.New(c))
-	chartArea := draw.Crop(dc, 0, 0, strip, 0)
-	p.Draw(chartArea)
-	legArea := draw.Crop(dc, 0, 0, 0, -(dc.Max.Y - dc.Min.Y - strip))
-	leg.Draw(legArea)
-	var b bytes.Buffer
-	if _, err := c.WriteTo(&b); err != nil {
-		return nil, err
-	}
-	return b.Bytes(), nil
-}
 
 // addSeries draws one model's audits: points with their 95% intervals,
 // joined in date order (broken where an audit has no point), and a ring

@@ -315,6 +315,9 @@ type Audit struct {
 	// Outputs are the files of the audit folder (names relative to it,
 	// audit.json included), filled in when the folder is written.
 	Outputs []string `json:"outputs,omitempty"`
+	// Figures lists the figure files written beside audit.json, each as
+	// SVG (linked by the report) and as PNG at print resolution.
+	Figures []FigureFiles `json:"figures,omitempty"`
 }
 
 // NewAudit assembles an audit from the new cohort's performance and,
@@ -683,4 +686,14 @@ func missingSentence(c CohortSummary, caution float64) string {
 			100*caution)
 	}
 	return s
+}
+
+// FigureFiles names the files of one figure of an audit.
+type FigureFiles struct {
+	// Title is the figure's caption in the report.
+	Title string `json:"title"`
+	// SVG is the file the report links.
+	SVG string `json:"svg"`
+	// PNG is the same figure at print resolution (300 dots per inch).
+	PNG string `json:"png"`
 }

@@ -359,9 +359,9 @@ def main():
     la = np.log(area / 500.0)
     prod = [zr * c for c in sp_cols]
     X = np.column_stack([one, zr] + sp_cols + fp + [la] + prod)
-    terms = (["intercept", "mean_radius", "mean_texture", "mean_texture'", "mean_texture''",
+    terms = (["intercept", "mean_radius", "mean_texture", "mean_texture [spline 1]", "mean_texture [spline 2]",
               "mean_smoothness^-1", "mean_smoothness^-1*log(mean_smoothness)", "log(mean_area)"]
-             + ["mean_radius*" + t for t in ["mean_texture", "mean_texture'", "mean_texture''"]])
+             + ["mean_radius*" + t for t in ["mean_texture", "mean_texture [spline 1]", "mean_texture [spline 2]"]])
     ref["fits"]["wdbc_transforms"], _ = fit("wdbc_transforms", X, y, terms)
 
     # Firth's penalised likelihood on invented data with quasi-complete

@@ -1,0 +1,37 @@
+package figcheck
+
+import (
+	"strconv"
+	"strings"
+	"testing"
+)
+
+// TestCheckFinds checks the checker itself on made-up SVGs: a clean
+// figure passes, and each fault is found (a checker that cannot fail
+// would prove nothing).
+func TestCheckFinds(t *testing.T) {
+	head := `<svg width="100pt" height="50pt" viewBox="0 0 100 50"><g transform="scale(1, -1) translate(0, -50)">`
+	text := func(x, y float64, s string) string {
+		return `<text x="` + ftoa(x) + `" y="` + ftoa(-y) + `" transform="scale(1, -1)"
+	style="font-family:'Liberation Sans';font-weight:normal;font-size:10px;fill:#000">` + s + `</text>`
+	}
+	for _, tt := range []struct {
+		name, body, want string
+	}{
+		{"clean", text(5, 20, "ab") + text(60, 20, "cd"), ""},
+		{"overlap", text(5, 20, "abcdef") + text(12, 22, "gh"), "overlap"},
+		{"outside", text(90, 20, "a long text"), "outside"},
+		{"above", text(5, 49.5, "top"), "outside"},
+		{"below", text(5, -1, "low"), "outside"},
+		{"nan", text(5, 20, "a") + `<path d="M1,NaN"/>`, "does not exist"},
+	} {
+		got := strings.Join(Check([]byte(head+tt.body+"</g></svg>")), "; ")
+		if (tt.want == "") != (got == "") || !strings.Contains(got, tt.want) {
+			t.Errorf("%s: problems %q, want %q", tt.name, got, tt.want)
+		}
+	}
+}
+
+func ftoa(v float64) string { return strings.TrimRight(strings.TrimRight(strconvF(v), "0"), ".") }
+
+func strconvF(v float64) string { return strconv.FormatFloat(v, 'f', 3, 64) }
