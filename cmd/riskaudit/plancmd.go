@@ -37,7 +37,7 @@ on the command line override it.`,
 			if err := atomicfile.WriteFile(out, []byte(plan.Starter)); err != nil {
 				return err
 			}
-			fmt.Fprintf(s.out, "Wrote %s: edit the paths and criteria, then run riskaudit audit --plan %s\n", out, out)
+			fmt.Fprintf(s.out, "Wrote %s: edit the paths and criteria, then run riskaudit audit --plan %s\n", out, shellQuote(out))
 			return nil
 		},
 	}
