@@ -706,10 +706,9 @@ func (r *renderer) methods() {
 }
 
 func (r *renderer) caution() {
-	r.p("## Caution\n\n%s\n", cautionText)
+	r.p("## Caution\n\n%s\n", validate.Caution)
 }
 
-var cautionText = validate.Caution
 
 // table is a Markdown pipe table whose columns are padded so that it
 // also lines up as plain text.

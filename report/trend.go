@@ -7,6 +7,7 @@ import (
 
 	"github.com/riskaudit/riskaudit/plots"
 	"github.com/riskaudit/riskaudit/trend"
+	"github.com/riskaudit/riskaudit/validate"
 )
 
 // WriteTrend renders the trend report of an audit history: the models
@@ -107,7 +108,7 @@ func WriteTrend(w io.Writer, tr *trend.Trend, source string, figures []plots.Fig
 	for _, f := range figures {
 		r.figure(f.Name)
 	}
-	r.p("## Caution\n\n%s\n", cautionText)
+	r.p("## Caution\n\n%s\n", validate.TrendCaution)
 	return ew.err
 }
 

@@ -12,6 +12,11 @@ import (
 // CompareSchema names the layout of compare.json.
 const CompareSchema = "riskaudit.compare/1"
 
+// TrendCaution is the statement every trend of a history store carries.
+const TrendCaution = "This trend is statistical evidence about the model's performance in the audits stored here. " +
+	"It is not a clinical decision: whether to keep, recalibrate, update or withdraw the model belongs to the " +
+	"organisation's clinical governance, under the local regulation that applies to clinical software."
+
 // CompareCaution is the statement every comparison carries.
 const CompareCaution = "This comparison is statistical evidence. Whether to replace a model belongs to the organisation's clinical governance, under the local regulation that applies to clinical software."
 
