@@ -709,7 +709,6 @@ func (r *renderer) caution() {
 	r.p("## Caution\n\n%s\n", validate.Caution)
 }
 
-
 // table is a Markdown pipe table whose columns are padded so that it
 // also lines up as plain text.
 type table struct {
