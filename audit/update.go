@@ -51,6 +51,9 @@ func (c *Config) updateModel(ctx context.Context, spec *model.Spec, parent valid
 			return nil, none, &model.FitError{Msg: "bootstrapping the update: " + err.Error(), Err: err}
 		}
 		m := internalMetrics(br)
+		if res.Chosen == update.InTheLarge || res.Chosen == update.Recalibration {
+			m.AUC = rankKept(m.AUC)
+		}
 		u.Expected = &m
 		u.Bootstrap, u.Seed, u.Failed = br.B, br.Seed, br.Failed
 	}
@@ -68,4 +71,14 @@ func (c *Config) updateModel(ctx context.Context, spec *model.Spec, parent valid
 		return nil, none, err
 	}
 	return u, atomicfile.File{Path: c.Update, Data: y}, nil
+}
+
+// rankKept is the AUC of an update that keeps (or, with a negative slope,
+// reverses in every patient at once) the model's ranking of patients:
+// recalibration in the large and logistic recalibration. Its optimism is
+// exactly 0, since every refit in the bootstrap orders the patients as
+// the model does, so the corrected AUC is the apparent one; the
+// bootstrap's mean difference would be noise alone.
+func rankKept(c validate.Corrected) validate.Corrected {
+	return validate.Corrected{Apparent: c.Apparent, Optimism: 0, Corrected: c.Apparent}
 }
