@@ -64,7 +64,10 @@ func writeCompareCalibration(w *errWriter, c *validate.Comparison) {
 	both("calibration slope", "1", a.Slope, b.Slope, a.SlopeCI, b.SlopeCI, "%.3f")
 	both("observed / expected (O/E)", "1", a.OE, b.OE, a.OECI, b.OECI, "%.3f")
 	t.add("events observed / expected", "", fmt.Sprintf("%.0f / %s", a.Observed, num(a.Expected, "%.1f")), fmt.Sprintf("%.0f / %s", b.Observed, num(b.Expected, "%.1f")))
-	t.add("ICI", "0", pct(a.ICI)+" ("+pctInterval(a.ICICI, " to ")+"*)", pct(b.ICI)+" ("+pctInterval(b.ICICI, " to ")+"*)")
+	ici := func(v float64, ci [2]float64) string {
+		return validate.FormatMeasure("ici", v) + " (" + measureInterval("ici", ci) + "*)"
+	}
+	t.add("ICI", "0", ici(a.ICI, a.ICICI), ici(b.ICI, b.ICICI))
 	t.write(w)
 	fmt.Fprintf(w, "Each model measured as `riskaudit audit` measures it on the same patients: calibration-in-the-large and slope with Wald 95%% intervals, O/E with its 95%% interval, and the ICI of the LOWESS calibration curve. \\* 95%% bootstrap percentile intervals from %d resamples of the patients (seed %d; the models fixed; the curve in each resample with δ = %g of the risk range).\n\n",
 		k.Replicates, k.Seed, k.ICIDelta)
