@@ -284,6 +284,7 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 			return err
 		}
 		a.BootstrapCI = percentileCIs(ci, c.CIBootstrap, c.Seed, ts)
+		a.AddGainUncertainty()
 	}
 	if c.OverTime.DateColumn != "" {
 		// Before the verdict: a plan may make an alarm a criterion.

@@ -499,6 +499,51 @@ func netBenefitSentence(p *Performance) string {
 	return fmt.Sprintf("Acting on the model gives a higher net benefit than both treating everyone and treating no one, %s, at the thresholds %s (Vickers & Elkin 2006); at the others it does not.", by, strings.Join(better, ", "))
 }
 
+// AddGainUncertainty adds to the summary's clinical-usefulness finding
+// the thresholds where a gain is claimed (GainReaches) but its bootstrap
+// percentile interval (BootstrapCI.NetBenefitGain) reaches down to zero
+// or below, so that the summary never claims more than the intervals
+// support. Without bootstrap intervals it does nothing.
+func (a *Audit) AddGainUncertainty() {
+	if a.BootstrapCI == nil {
+		return
+	}
+	lower := map[float64]float64{}
+	for _, g := range a.BootstrapCI.NetBenefitGain {
+		lower[g.Threshold] = g.CI[0]
+	}
+	var unsure, sure []string
+	for _, nb := range a.Performance.NetBenefit {
+		lo, ok := lower[nb.Threshold]
+		if !ok || !GainReaches(nb.Gain(), a.Performance.NetBenefitMinGain) {
+			continue
+		}
+		t := fmt.Sprintf("%g%%", math.Round(nb.Threshold*1000)/10)
+		if lo > 0 {
+			sure = append(sure, t)
+		} else {
+			unsure = append(unsure, t)
+		}
+	}
+	if len(unsure) == 0 && len(sure) == 0 {
+		return
+	}
+	text := fmt.Sprintf(" The bootstrap's 95%% percentile interval of the gain (%d replicates) ", a.BootstrapCI.Replicates)
+	switch {
+	case len(unsure) == 0:
+		text += "lies above zero at each of those thresholds."
+	case len(sure) == 0:
+		text += fmt.Sprintf("reaches zero or below at each of those thresholds (%s): the gain is uncertain.", strings.Join(unsure, ", "))
+	default:
+		text += fmt.Sprintf("lies above zero at %s, but reaches zero or below at %s, where the gain is uncertain.", strings.Join(sure, ", "), strings.Join(unsure, ", "))
+	}
+	for i := range a.Summary {
+		if a.Summary[i].Area == "clinical usefulness" {
+			a.Summary[i].Text += text
+		}
+	}
+}
+
 // GainReaches reports whether a net-benefit gain is a gain the summary
 // claims: positive and at least min, allowing 1e-12 for the rounding of
 // a difference of two net benefits (0.08 − 0.07 is 0.00999…98 in

@@ -171,3 +171,45 @@ func TestCalibrationCurveStaysInside(t *testing.T) {
 		t.Errorf("Emax %v, ICI %v", c.Emax, c.ICI)
 	}
 }
+
+// TestGainUncertainty: with bootstrap intervals, the summary says at
+// which of the thresholds where it claims a gain the gain's interval
+// reaches zero or below (the claim is then uncertain), and says nothing
+// of thresholds where no gain is claimed.
+func TestGainUncertainty(t *testing.T) {
+	nb := []metrics.NetBenefit{
+		{Threshold: 0.05, Model: 0.1000, TreatAll: 0.0900}, // gain 0.01, interval above 0
+		{Threshold: 0.10, Model: 0.0800, TreatAll: 0.0700}, // gain 0.01, interval reaches 0
+		{Threshold: 0.20, Model: 0.0005, TreatAll: -0.05},  // gain below the minimum: not claimed
+	}
+	mk := func(lows ...float64) *Audit {
+		a := &Audit{Performance: Performance{NetBenefit: nb, NetBenefitMinGain: 0.001}}
+		a.Summary = []Finding{{Area: "clinical usefulness", Text: netBenefitSentence(&a.Performance)}}
+		a.BootstrapCI = &PercentileCIs{Replicates: 200}
+		for i, lo := range lows {
+			a.BootstrapCI.NetBenefitGain = append(a.BootstrapCI.NetBenefitGain, ThresholdCI{Threshold: nb[i].Threshold, CI: [2]float64{lo, 0.02}})
+		}
+		a.AddGainUncertainty()
+		return a
+	}
+	for _, tc := range []struct {
+		lows []float64
+		want string
+	}{
+		{[]float64{0.002, 0, -0.01}, "lies above zero at 5%, but reaches zero or below at 10%, where the gain is uncertain"},
+		{[]float64{0.002, 0.001, -0.01}, "lies above zero at each of those thresholds"},
+		{[]float64{-0.001, -0.002, -0.01}, "reaches zero or below at each of those thresholds (5%, 10%)"},
+	} {
+		got := mk(tc.lows...).Summary[0].Text
+		if !strings.Contains(got, tc.want) || strings.Contains(got, "20%, ") || strings.Count(got, "200 replicates") != 1 {
+			t.Errorf("lows %v: %q lacks %q", tc.lows, got, tc.want)
+		}
+	}
+	// Without bootstrap intervals the finding is left as it was.
+	a := &Audit{Performance: Performance{NetBenefit: nb, NetBenefitMinGain: 0.001}}
+	a.Summary = []Finding{{Area: "clinical usefulness", Text: "x"}}
+	a.AddGainUncertainty()
+	if a.Summary[0].Text != "x" {
+		t.Errorf("changed without intervals: %q", a.Summary[0].Text)
+	}
+}
