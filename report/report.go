@@ -198,6 +198,7 @@ func (r *renderer) internal() {
 	add("Nagelkerke R²", "nagelkerke_r2", m.R2, "")
 	add("ICI", "ici", m.ICI, fmt.Sprintf("LOWESS with δ = %g of the risk range, here and in every replicate", in.ICIDelta))
 	t.write(r.w)
+	r.p("The apparent ICI here is measured with LOWESS δ = %g of the risk range, the δ every replicate uses so that the optimism compares like with like; it can therefore differ slightly from the development data's ICI elsewhere in this report, which uses the default δ of the flexible calibration curve (see Methods).\n\n", in.ICIDelta)
 	r.p("The shrinkage factor %s multiplies every coefficient of a shrunken model, whose intercept is then re-estimated (Van Houwelingen & le Cessie 1990)", num(in.Shrinkage, "%.3f"))
 	if in.ShrunkenModel != "" {
 		r.p("; it was written to %s", code(in.ShrunkenModel))
