@@ -115,14 +115,7 @@ a frozen model's predicted risks to a cohort.
 
 Start with 'riskaudit demo --out demo' to see every step on invented data.
 
-Exit status:
-  0  success
-  1  an audit ran and a criterion was not met (verdict review or fail)
-  2  wrong usage: an unknown flag, a missing argument
-  3  bad input: a data file or model spec that cannot be used as it is
-  4  the model cannot be fitted: separation, collinear terms, no convergence
-  5  any other failure, such as an output file that cannot be written
-  130, 143  interrupted by SIGINT (Ctrl-C) or SIGTERM: stopped, nothing written`
+` + "\n\n" + exitStatusHelp
 
 func newRootCmd(s *streams) *cobra.Command {
 	root := &cobra.Command{
@@ -140,6 +133,7 @@ func newRootCmd(s *streams) *cobra.Command {
 		return &usageError{err.Error() + " (see '" + c.CommandPath() + " --help')"}
 	})
 	root.AddCommand(newAuditCmd(s), newFitCmd(s), newScoreCmd(s), newDemoCmd(s), newPlanCmd(s), newTrendCmd(s), newCompareCmd(s), newSampleSizeCmd(s), newHistoryCmd(s))
+	withExitStatus(root.Commands())
 	return root
 }
 
@@ -213,4 +207,30 @@ func unwrapPath(err error) error {
 		return pe.Err
 	}
 	return err
+}
+
+// exitStatusHelp is the exit-status table every command's help ends
+// with (the README's "Exit status").
+const exitStatusHelp = `Exit status:
+  0  success
+  1  an audit ran and a criterion was not met (verdict review or fail)
+  2  wrong usage: an unknown flag, a missing argument, or a request the
+     files on disk refuse and other flags resolve (an output on an input,
+     a duplicate history record without --replace-record)
+  3  bad input: a data file or model spec that cannot be used as it is
+  4  the model cannot be fitted: separation, collinear terms, no convergence
+  5  any other failure, such as an output file that cannot be written
+  130, 143  interrupted by SIGINT (Ctrl-C) or SIGTERM: stopped, nothing written`
+
+// withExitStatus ends the long help of every command below the root
+// with the exit-status table, so that each command's --help says what
+// its exit status means.
+func withExitStatus(cmds []*cobra.Command) {
+	for _, c := range cmds {
+		if c.Long == "" {
+			c.Long = c.Short
+		}
+		c.Long += "\n\n" + exitStatusHelp
+		withExitStatus(c.Commands())
+	}
 }
