@@ -100,7 +100,7 @@ func Compare(ctx context.Context, cfg CompareConfig) (*CompareResult, error) {
 		}
 	}
 	if cfg.Predicted != "" {
-		reqs = append(reqs, cohort.Request{Name: cfg.Predicted, Kind: cohort.Numeric, NaNIsError: true})
+		reqs = append(reqs, cohort.Request{Name: cfg.Predicted, Kind: cohort.Numeric, NaNIsError: true, For: "the predicted risks"})
 	}
 	fr, hash, err := load(ctx, cfg.Cohort, reqs, cfg.Read)
 	if err != nil {

@@ -56,7 +56,7 @@ func (o OverTime) request(reqs []cohort.Request) ([]cohort.Request, error) {
 			return reqs, nil
 		}
 	}
-	return append(reqs, cohort.Request{Name: o.DateColumn, Kind: cohort.Categorical}), nil
+	return append(reqs, cohort.Request{Name: o.DateColumn, Kind: cohort.Categorical, For: "the date column"}), nil
 }
 
 // column takes the date column's values of the used rows.

@@ -50,7 +50,7 @@ type scored struct {
 func (c *Config) requests(spec *model.Spec) ([]cohort.Request, error) {
 	reqs := spec.Columns(true)
 	if c.Predicted != nil {
-		reqs = append(reqs, cohort.Request{Name: c.Predicted.Column, Kind: cohort.Numeric, NaNIsError: true})
+		reqs = append(reqs, cohort.Request{Name: c.Predicted.Column, Kind: cohort.Numeric, NaNIsError: true, For: "the predicted risks (every file audited holds them)"})
 	}
 	for _, g := range c.Subgroups {
 		for _, q := range reqs {
@@ -58,7 +58,7 @@ func (c *Config) requests(spec *model.Spec) ([]cohort.Request, error) {
 				return nil, configErrorf("subgroup column %q is a numeric predictor; cut it into bands with cut points or quantiles, such as --subgroups %s:65,75 or %s:q4", g, g, g)
 			}
 		}
-		reqs = append(reqs, cohort.Request{Name: g, Kind: cohort.Categorical})
+		reqs = append(reqs, cohort.Request{Name: g, Kind: cohort.Categorical, For: "a subgroup column"})
 	}
 	if cc := c.Clusters.Column; cc != "" {
 		for _, q := range reqs {
@@ -66,7 +66,7 @@ func (c *Config) requests(spec *model.Spec) ([]cohort.Request, error) {
 				return nil, configErrorf("cluster column %q is a numeric predictor; a cluster column names hospitals, regions or periods", cc)
 			}
 		}
-		reqs = append(reqs, cohort.Request{Name: cc, Kind: cohort.Categorical})
+		reqs = append(reqs, cohort.Request{Name: cc, Kind: cohort.Categorical, For: "the cluster column"})
 	}
 	for _, b := range c.Bands {
 		for _, q := range reqs {
@@ -74,7 +74,7 @@ func (c *Config) requests(spec *model.Spec) ([]cohort.Request, error) {
 				return nil, configErrorf("subgroup column %q is categorical; only a numeric column can be cut into bands (give it without cut points)", b.Column)
 			}
 		}
-		reqs = append(reqs, cohort.Request{Name: b.Column, Kind: cohort.Numeric})
+		reqs = append(reqs, cohort.Request{Name: b.Column, Kind: cohort.Numeric, For: "a banded subgroup column"})
 	}
 	return c.OverTime.request(reqs)
 }

@@ -34,6 +34,10 @@ type Request struct {
 	// column of computed values, such as predicted risks, that holds NaN
 	// reports a failed computation, not a value nobody recorded.
 	NaNIsError bool
+	// For says what the column was asked for, as a noun phrase ("a
+	// subgroup column"), when it is not a model's: an error about a
+	// missing column then says why the file should have it.
+	For string
 }
 
 // DefaultMissing are the field values read as missing when
@@ -477,15 +481,18 @@ func planColumns(name string, header []string, reqs []Request) ([]int, error) {
 			}
 		}
 		if !found {
-			return nil, &Error{File: name, Column: r.Name, Msg: missingColumnMsg(r.Name, header), Kind: ErrNoColumn}
+			return nil, &Error{File: name, Column: r.Name, Msg: missingColumnMsg(r, header), Kind: ErrNoColumn}
 		}
 	}
 	return plan, nil
 }
 
-func missingColumnMsg(want string, header []string) string {
+func missingColumnMsg(r Request, header []string) string {
 	msg := "no such column"
-	if s := Closest(want, header); s != "" {
+	if r.For != "" {
+		msg += ", asked for as " + r.For
+	}
+	if s := Closest(r.Name, header); s != "" {
 		msg += " (did you mean " + Quote(s) + "?)"
 	}
 	return msg + "; columns present: " + QuoteList(header)

@@ -341,3 +341,14 @@ func TestRename(t *testing.T) {
 		t.Errorf("a rename onto an existing name should be a duplicate: %v", err)
 	}
 }
+
+// TestMissingColumnSaysWhatFor: a column the user asked for beside the
+// model's (a subgroup, the predicted risks) that the file lacks is named
+// with what it was asked for, so the message says which flag to check.
+func TestMissingColumnSaysWhatFor(t *testing.T) {
+	_, err := Parse("v.csv", []byte("age,sex\n60,F\n"), []Request{{Name: "sexx", Kind: Categorical, For: "a subgroup column"}}, Options{})
+	want := `v.csv: column "sexx": no such column, asked for as a subgroup column (did you mean "sex"?); columns present: "age", "sex"`
+	if err == nil || err.Error() != want || !errors.Is(err, ErrNoColumn) {
+		t.Errorf("got %v\nwant %s", err, want)
+	}
+}

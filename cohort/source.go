@@ -71,7 +71,8 @@ func ParseNumber(b []byte, decimalComma bool) (float64, bool) {
 }
 
 // MissingColumnMessage is the message of a requested column that the
-// data do not have, with the closest name and the names present.
-func MissingColumnMessage(want string, header []string) string {
-	return missingColumnMsg(want, header)
+// data do not have, with what it was asked for (Request.For), the
+// closest name and the names present.
+func MissingColumnMessage(r Request, header []string) string {
+	return missingColumnMsg(r, header)
 }

@@ -134,7 +134,7 @@ func newReaders(name string, header []string, fields []pgconn.FieldDescription, 
 			field = i
 		}
 		if field < 0 {
-			return nil, &cohort.Error{File: name, Column: q.Name, Msg: cohort.MissingColumnMessage(q.Name, header), Kind: cohort.ErrNoColumn}
+			return nil, &cohort.Error{File: name, Column: q.Name, Msg: cohort.MissingColumnMessage(q, header), Kind: cohort.ErrNoColumn}
 		}
 		r.byReq[k] = -1
 		for j, d := range r.rd {
