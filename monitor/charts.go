@@ -70,18 +70,9 @@ func CUSUMPath(y, p []float64, r float64) ([]float64, error) {
 	if !(r > 0) || r == 1 || math.IsInf(r, 0) {
 		return nil, fmt.Errorf("monitor: CUSUM odds ratio %v must be positive, finite and not 1", r)
 	}
-	out := make([]float64, len(y))
-	s := 0.0
-	for i := range y {
-		w0, w1 := Weights(p[i], r)
-		w := w0
-		if y[i] == 1 {
-			w = w1
-		}
-		s = math.Max(0, s+w)
-		out[i] = s
-	}
-	return out, nil
+	// A limit no path reaches: no restart, no signal.
+	path, _, err := RestartedPath(y, p, r, math.Inf(1))
+	return path, err
 }
 
 // Signals returns the patients (0-based positions in date order) at which
