@@ -776,17 +776,7 @@ func num(v float64, format string) string {
 	case math.IsInf(v, -1):
 		return "−∞"
 	}
-	return noNegativeZero(fmt.Sprintf(format, v))
-}
-
-// noNegativeZero drops the minus sign of a number that prints as zero
-// ("-0.0000" is "0.0000"): a value that rounds to zero has no sign worth
-// reading.
-func noNegativeZero(s string) string {
-	if strings.HasPrefix(s, "-") && strings.Trim(s[1:], "0.%") == "" {
-		return s[1:]
-	}
-	return s
+	return validate.NoNegativeZero(fmt.Sprintf(format, v))
 }
 
 // pct writes a share as a percentage with one decimal.
@@ -794,7 +784,7 @@ func pct(v float64) string {
 	if !finite(v) {
 		return num(v, "")
 	}
-	return noNegativeZero(fmt.Sprintf("%.1f", 100*v)) + "%"
+	return validate.NoNegativeZero(fmt.Sprintf("%.1f", 100*v)) + "%"
 }
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
@@ -809,7 +799,7 @@ func interval(ci [2]float64, format, sep, why string) string {
 		}
 		return NotEstimable + " (" + why + ")"
 	}
-	return noNegativeZero(fmt.Sprintf(format, ci[0])) + sep + noNegativeZero(fmt.Sprintf(format, ci[1]))
+	return validate.NoNegativeZero(fmt.Sprintf(format, ci[0])) + sep + validate.NoNegativeZero(fmt.Sprintf(format, ci[1]))
 }
 
 // Interval writes a 95% interval as "a to b" with format, or "not

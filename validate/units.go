@@ -61,9 +61,16 @@ func FormatMeasure(name string, v float64) string {
 	if PercentMeasure(name) {
 		v *= 100
 	}
-	s := fmt.Sprintf(MeasureFormat(name), v)
+	return NoNegativeZero(fmt.Sprintf(MeasureFormat(name), v))
+}
+
+// NoNegativeZero drops the minus sign of a number written as zero
+// ("-0.0000" is "0.0000", "-0.0%" is "0.0%"): a value that rounds to zero
+// has no sign worth reading. Every number the reports write goes through
+// it.
+func NoNegativeZero(s string) string {
 	if strings.HasPrefix(s, "-") && strings.Trim(s[1:], "0.%") == "" {
-		return s[1:] // a value that prints as zero has no sign
+		return s[1:]
 	}
 	return s
 }
