@@ -479,11 +479,15 @@ func flexibleSentence(c Calibration, co CohortSummary, tied bool) string {
 		c.ICI, 100*c.ICI, c.E50, c.E90)
 }
 
+// thresholdText writes a decision threshold as the summary names it, a
+// percentage to one decimal at most (5%, 12.5%).
+func thresholdText(t float64) string { return fmt.Sprintf("%g%%", math.Round(t*1000)/10) }
+
 func netBenefitSentence(p *Performance) string {
 	var better []string
 	for _, nb := range p.NetBenefit {
 		if GainReaches(nb.Gain(), p.NetBenefitMinGain) {
-			better = append(better, fmt.Sprintf("%g%%", math.Round(nb.Threshold*1000)/10))
+			better = append(better, thresholdText(nb.Threshold))
 		}
 	}
 	by := "by at least " + MinGainText(p.NetBenefitMinGain)
@@ -518,7 +522,7 @@ func (a *Audit) AddGainUncertainty() {
 		if !ok || !GainReaches(nb.Gain(), a.Performance.NetBenefitMinGain) {
 			continue
 		}
-		t := fmt.Sprintf("%g%%", math.Round(nb.Threshold*1000)/10)
+		t := thresholdText(nb.Threshold)
 		if lo > 0 {
 			sure = append(sure, t)
 		} else {
