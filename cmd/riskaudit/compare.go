@@ -98,14 +98,9 @@ func runCompare(ctx context.Context, o *compareOptions, s *streams) error {
 	if err := audit.CheckOutputDir(o.out); err != nil {
 		return err
 	}
-	cohortIn := audit.Input{Path: o.cohortFile}
-	if o.query.given("cohort") {
-		if cohortIn, err = o.query.input("cohort"); err != nil {
-			return err
-		}
-		if err := o.query.checkUsed(); err != nil {
-			return err
-		}
+	cohortIn, err := o.query.only("cohort", o.cohortFile)
+	if err != nil {
+		return err
 	}
 	copt, fail, err := o.data.options()
 	if err != nil {

@@ -100,14 +100,9 @@ func runFit(ctx context.Context, o *fitOptions, s *streams) error {
 	if err != nil {
 		return err
 	}
-	data := audit.Input{Path: o.dataFile}
-	if o.query.given("data") {
-		if data, err = o.query.input("data"); err != nil {
-			return err
-		}
-		if err := o.query.checkUsed(); err != nil {
-			return err
-		}
+	data, err := o.query.only("data", o.dataFile)
+	if err != nil {
+		return err
 	}
 	r, err := audit.Fit(ctx, audit.FitConfig{Model: o.model, Reduced: o.reduced, Data: data,
 		Read: copt, FailOnMissing: fail, Firth: o.firth, HLGroups: o.hlGroups, Tool: "riskaudit " + toolVersion(), Clock: now})

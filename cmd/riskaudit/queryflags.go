@@ -164,6 +164,20 @@ func (f *queryFlags) input(role string) (audit.Input, error) {
 	return audit.Input{Path: q.Name(), Source: q}, nil
 }
 
+// only is the input of a command that reads one dataset: role's query
+// when one is given (every parameter then used by it), else the file
+// path.
+func (f *queryFlags) only(role, path string) (audit.Input, error) {
+	if !f.given(role) {
+		return audit.Input{Path: path}, nil
+	}
+	in, err := f.input(role)
+	if err != nil {
+		return audit.Input{}, err
+	}
+	return in, f.checkUsed()
+}
+
 // checkUsed refuses a parameter that no query of the command uses
 // (call it after input for every role): a misspelt name would otherwise
 // go unnoticed.

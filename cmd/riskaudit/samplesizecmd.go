@@ -151,14 +151,9 @@ func runSampleSize(cmd *cobra.Command, o *sizeOptions, s *streams) error {
 	if err != nil {
 		return err
 	}
-	dataIn := audit.Input{Path: o.dataFile}
-	if o.query.given("data") {
-		if dataIn, err = o.query.input("data"); err != nil {
-			return err
-		}
-		if err := o.query.checkUsed(); err != nil {
-			return err
-		}
+	dataIn, err := o.query.only("data", o.dataFile)
+	if err != nil {
+		return err
 	}
 	cfg := audit.SizeConfig{Model: o.model, Data: dataIn, Read: copt, FailOnMissing: fail,
 		CalIntercept: o.calA, CalSlope: o.calB, Threshold: o.thr, Targets: o.widths,
