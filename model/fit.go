@@ -41,6 +41,10 @@ type TermStat struct {
 	// floating-point range. Each note starts with the JSON key it
 	// explains ("p: ", "or_ci: ", …).
 	Notes []string `json:"notes,omitempty"`
+	// Unit says what the odds ratio is per where that is not one unit of
+	// the column (Design.Units): a scaled, log, spline or
+	// fractional-polynomial term.
+	Unit string `json:"unit,omitempty"`
 }
 
 // FitStats are the statistics of a fitted model. The JSON keys are a
@@ -165,6 +169,10 @@ func Fit(d *Design, m *Matrix, opt FitOptions) (*Fitted, error) {
 	}
 	f := &Fitted{Design: d, Matrix: m, Result: res}
 	f.Stats = stats(m, res, opt)
+	units := d.Units()
+	for j := range f.Stats.Terms {
+		f.Stats.Terms[j].Unit = units[f.Stats.Terms[j].Term]
+	}
 	if opt.Firth && m.N <= ProfileRows {
 		penalisedLRTests(m, res, opt, &f.Stats)
 	}

@@ -152,6 +152,13 @@ func (r *renderer) fit() {
 	}
 	t.write(r.w)
 	r.p("%s\n\n", InterceptNote)
+	if notes := UnitNotes(st.Terms); len(notes) > 0 {
+		r.p("Odds ratios are per one unit of the column except:\n\n")
+		for _, n := range notes {
+			r.p("- %s\n", Escape(n))
+		}
+		r.p("\n")
+	}
 	if st.PMethod == model.PPenalisedLR {
 		r.p("The p-values are %s tests, each refitting the model with that coefficient held at 0, and the intervals are %s; SE and z are Wald.\n\n", model.PPenalisedLR, model.CIProfilePenalised)
 	}
@@ -1011,4 +1018,27 @@ func bandInterval(b *validate.Band) string {
 		open = "("
 	}
 	return " " + Escape(fmt.Sprintf("%s%s, %s)", open, end(b.Lower), end(b.Upper)))
+}
+
+// UnitNotes gives one line for each odds-ratio unit of the fit's terms
+// (model.TermStat.Unit) that is not one unit of the column, the terms
+// sharing a unit (the basis terms of one spline) named together:
+// "age: per 10 units of age".
+func UnitNotes(terms []model.TermStat) []string {
+	var order []string
+	names := map[string][]string{}
+	for _, t := range terms {
+		if t.Unit == "" {
+			continue
+		}
+		if _, ok := names[t.Unit]; !ok {
+			order = append(order, t.Unit)
+		}
+		names[t.Unit] = append(names[t.Unit], t.Term)
+	}
+	lines := make([]string, len(order))
+	for i, u := range order {
+		lines[i] = strings.Join(names[u], ", ") + ": " + u
+	}
+	return lines
 }
