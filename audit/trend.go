@@ -10,6 +10,7 @@ import (
 	"github.com/riskaudit/riskaudit/history"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/internal/jsonout"
+	"github.com/riskaudit/riskaudit/internal/pathtext"
 	"github.com/riskaudit/riskaudit/plots"
 	"github.com/riskaudit/riskaudit/report"
 	"github.com/riskaudit/riskaudit/trend"
@@ -26,7 +27,7 @@ type HistoryError struct {
 // Error names the store and what is wrong with it.
 func (e *HistoryError) Error() string {
 	if os.IsNotExist(e.Err) {
-		return e.Path + ": no such history store"
+		return pathtext.Path(e.Path) + ": no such history store"
 	}
 	return e.Err.Error()
 }

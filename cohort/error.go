@@ -28,6 +28,8 @@ import (
 	"errors"
 	"strconv"
 	"strings"
+
+	"github.com/riskaudit/riskaudit/internal/pathtext"
 )
 
 // The kinds of bad input, the values of Error.Kind. Each *Error this
@@ -115,7 +117,7 @@ type Error struct {
 // its length stated (see Quote); Msg is written as it is.
 func (e *Error) Error() string {
 	var b strings.Builder
-	b.WriteString(e.File)
+	b.WriteString(pathtext.Path(e.File))
 	sep := ": "
 	if e.Cell != "" {
 		b.WriteString(sep)

@@ -10,6 +10,7 @@ import (
 
 	"go.yaml.in/yaml/v3"
 
+	"github.com/riskaudit/riskaudit/internal/pathtext"
 	"github.com/riskaudit/riskaudit/logistic"
 )
 
@@ -80,7 +81,7 @@ func (e *LPOverflowError) Error() string {
 	if e.Column != "" {
 		value += fmt.Sprintf(" (from %s = %g in the data)", e.Column, e.Raw)
 	}
-	s := fmt.Sprintf("the model's linear predictor overflowed on %s of %s: term %s, coefficient %g × value %s = %g", where, e.Data, e.Term, e.Coef, value, e.Product)
+	s := fmt.Sprintf("the model's linear predictor overflowed on %s of %s: term %s, coefficient %g × value %s = %g", where, pathtext.Path(e.Data), e.Term, e.Coef, value, e.Product)
 	switch {
 	case e.Opposite != "":
 		s += fmt.Sprintf(", against an infinite product of the opposite sign from term %s, gives ∞ − ∞", e.Opposite)

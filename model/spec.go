@@ -37,6 +37,7 @@ import (
 	"go.yaml.in/yaml/v3"
 
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/pathtext"
 )
 
 // The kinds of problems in a spec, the values of SpecError.Kind. Each
@@ -98,9 +99,9 @@ type SpecError struct {
 // Error gives the file, the line when known, and the message.
 func (e *SpecError) Error() string {
 	if e.Line > 0 {
-		return fmt.Sprintf("%s: line %d: %s", e.File, e.Line, e.Msg)
+		return fmt.Sprintf("%s: line %d: %s", pathtext.Path(e.File), e.Line, e.Msg)
 	}
-	return fmt.Sprintf("%s: %s", e.File, e.Msg)
+	return fmt.Sprintf("%s: %s", pathtext.Path(e.File), e.Msg)
 }
 
 // Unwrap returns the underlying error, Err.

@@ -30,6 +30,7 @@ import (
 	"go.yaml.in/yaml/v3"
 
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/pathtext"
 	"github.com/riskaudit/riskaudit/model"
 	"github.com/riskaudit/riskaudit/samplesize"
 	"github.com/riskaudit/riskaudit/validate"
@@ -82,9 +83,9 @@ type Error struct {
 // Error gives the plan file, the line when known, and the message.
 func (e *Error) Error() string {
 	if e.Line > 0 {
-		return fmt.Sprintf("%s: line %d: %s", e.File, e.Line, e.Msg)
+		return fmt.Sprintf("%s: line %d: %s", pathtext.Path(e.File), e.Line, e.Msg)
 	}
-	return fmt.Sprintf("%s: %s", e.File, e.Msg)
+	return fmt.Sprintf("%s: %s", pathtext.Path(e.File), e.Msg)
 }
 
 // Unwrap returns the underlying error, Err.

@@ -26,6 +26,8 @@ import (
 	"regexp"
 	"strconv"
 	"strings"
+
+	"github.com/riskaudit/riskaudit/internal/pathtext"
 )
 
 // File is one file of a set: its path and its content.
@@ -50,7 +52,7 @@ func (e *TargetError) Error() string {
 	if e.Folder {
 		want = "a folder"
 	}
-	return fmt.Sprintf("%s exists and is %s, not %s: riskaudit never replaces it; choose another output path", e.Path, e.What, want)
+	return fmt.Sprintf("%s exists and is %s, not %s: riskaudit never replaces it; choose another output path", pathtext.Path(e.Path), e.What, want)
 }
 
 // CheckTarget refuses a path that exists and is not a regular file (or,
