@@ -244,3 +244,118 @@ func (c *checker) overTimeLine(where, rest string) {
 		c.cell(where+" "+f[0], strings.Replace(part, d, "", 1), want...)
 	}
 }
+
+// checkFitSummary compares the fit summary a fit prints on stdout (the
+// demo prints it before its audit) with fit.json: rows, events, the
+// Newton steps, every term's row and the fit statistics.
+func checkFitSummary(out string, fit jsonDoc) []string {
+	c := &checker{js: fit}
+	start := strings.Index("\n"+out, "\nFitted: ")
+	if start < 0 {
+		return []string{"no fit summary on stdout"}
+	}
+	lines := strings.Split(out[start:], "\n")[1:]
+	term := 0
+	seen := map[string]bool{}
+	for _, line := range lines {
+		if strings.HasPrefix(line, "Wrote ") || strings.HasPrefix(line, "Audit of ") {
+			break
+		}
+		l := strings.TrimSpace(line)
+		if l == "" || strings.HasPrefix(l, "(") || strings.HasPrefix(l, "term ") {
+			continue
+		}
+		where := "fit summary " + strings.Fields(l)[0]
+		if term < c.js.len("terms") {
+			p := fmt.Sprintf("terms[%d].", term)
+			if name := c.js.str(p + "term"); strings.HasPrefix(l, name+" ") {
+				rest := strings.TrimPrefix(l, name)
+				want := []float64{c.js.num(p + "coef"), c.js.num(p + "se"), c.js.num(p + "z"), c.js.num(p + "p")}
+				if name != "intercept" {
+					want = append(want, c.js.num(p+"odds_ratio"), c.js.num(p+"or_ci[0]"), c.js.num(p+"or_ci[1]"))
+				}
+				c.cell("fit summary term "+name, rest, want...)
+				term++
+				continue
+			}
+		}
+		label := strings.Fields(l)[0]
+		seen[label] = true
+		switch label {
+		case "data":
+			if !strings.Contains(l, c.js.str("data_file")) || !strings.Contains(l, c.js.str("data_sha256")[:16]) {
+				c.fail("%s: %q, fit.json %s %s", where, l, c.js.str("data_file"), c.js.str("data_sha256"))
+			}
+		case "rows":
+			want := []float64{c.js.num("rows_read"), c.js.num("n"), c.js.num("rows_excluded")}
+			for i := 0; i < c.js.len("excluded_by_column"); i++ {
+				want = append(want, c.js.num(fmt.Sprintf("excluded_by_column[%d].rows", i)))
+			}
+			c.cell(where, strings.TrimPrefix(l, label), want...)
+		case "events":
+			c.cell(where, strings.TrimPrefix(l, label), c.js.num("events"), c.js.num("n"), c.js.num("events")/c.js.num("n"))
+		case "method":
+			c.cell(where, strings.TrimPrefix(l, label), c.js.num("iterations"))
+		case "converged":
+			if !strings.Contains(l, c.js.str("convergence")) {
+				c.fail("%s: %q, fit.json %q", where, l, c.js.str("convergence"))
+			}
+		case "−2":
+			c.cell(where, strings.TrimPrefix(l, "−2 log-likelihood"), c.js.num("neg2ll"), c.js.num("null_neg2ll"))
+		case "likelihood":
+			c.cell(where, strings.TrimPrefix(l, "likelihood ratio"), c.js.num("lr_chi2"), c.js.num("lr_df"), c.js.num("lr_p"))
+		case "AIC":
+			c.cell(where, strings.Replace(l, "R²", "", 1), c.js.num("aic"), c.js.num("bic"), c.js.num("nagelkerke_r2"))
+		case "Hosmer–Lemeshow":
+			h := "hosmer_lemeshow."
+			c.cell(where, strings.TrimPrefix(l, label), c.js.num(h+"statistic"), c.js.num(h+"df"), c.js.num(h+"p"), c.js.num(h+"groups"))
+		default:
+			c.fail("%s: line %q has no rule", where, l)
+		}
+	}
+	if term != c.js.len("terms") {
+		c.fail("fit summary: %d term rows read, fit.json has %d terms", term, c.js.len("terms"))
+	}
+	for _, l := range []string{"rows", "events", "−2", "likelihood", "AIC"} {
+		if !seen[l] {
+			c.fail("fit summary: no %q line", l)
+		}
+	}
+	return c.problems
+}
+
+// checkWrote compares the count of figures the audit says it wrote with
+// audit.json's outputs, and the verdict the audit reports on stderr with
+// its criteria.
+func checkWrote(stdout, stderr string, js jsonDoc) []string {
+	c := &checker{js: js}
+	svg := 0
+	for i := 0; i < js.len("outputs"); i++ {
+		if strings.HasSuffix(js.str(fmt.Sprintf("outputs[%d]", i)), ".svg") {
+			svg++
+		}
+	}
+	found := false
+	for _, l := range strings.Split(stdout, "\n") {
+		if k := strings.Index(l, " figures"); strings.HasPrefix(l, "Wrote ") && k > 0 {
+			f := strings.Fields(l[:k])
+			c.cell("wrote figures", f[len(f)-1], float64(svg))
+			found = true
+		}
+	}
+	if !found {
+		c.fail("stdout: no line saying how many figures were written")
+	}
+	for _, l := range strings.Split(stderr, "\n") {
+		if _, rest, ok := strings.Cut(l, ": verdict "); ok {
+			rest, _, _ = strings.Cut(rest, " (see ") // the report's path
+			f, t, m, n := verdictCounts(js)
+			want := []float64{f, t}
+			if n > 0 {
+				want = append(want, m, n)
+			}
+			c.cell("stderr verdict", rest, want...)
+		}
+	}
+	return c.problems
+}

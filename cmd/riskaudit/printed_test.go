@@ -905,13 +905,42 @@ func TestPrintedNumbersMatchJSON(t *testing.T) {
 		"--history", filepath.Join(dir, "h.sqlite"), "--audit-date", "2026-01-31",
 		"--cluster", "site", "--date-column", "admitted", "--cusum-arl", "2000",
 		"--thresholds", "0.05:0.30:0.05", "--classify-at", "0.1,0.15,0.3"}
-	if code := run(ctx, args, &streams{out: &fullOut, err: &bytes.Buffer{}}); code != exitOK && code != exitCriterion {
+	var fullErr bytes.Buffer
+	if code := run(ctx, args, &streams{out: &fullOut, err: &fullErr}); code != exitOK && code != exitCriterion {
 		t.Fatalf("riskaudit audit: exit status %d", code)
 	}
 	runs := []printedRun{
 		readRun(t, "demo", filepath.Join(demo, "audit"), demoOut.String()),
 		readRun(t, "every analysis", filepath.Join(dir, "full"), fullOut.String()),
 	}
+	for _, p := range checkWrote(fullOut.String(), fullErr.String(), runs[1].js) {
+		t.Errorf("every analysis: %s", p)
+	}
+	for _, p := range checkWrote(demoOut.String(), "", runs[0].js) {
+		t.Errorf("demo: %s", p)
+	}
+	fitRaw, err := os.ReadFile(filepath.Join(demo, "fit.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var fitRoot any
+	if err := json.Unmarshal(fitRaw, &fitRoot); err != nil {
+		t.Fatal(err)
+	}
+	fit := jsonDoc{fitRoot}
+	for _, p := range checkFitSummary(demoOut.String(), fit) {
+		t.Errorf("demo: %s", p)
+	}
+	t.Run("corrupt/fit summary odds ratio interval shows the coefficient's", func(t *testing.T) {
+		old := fmt.Sprintf("%.4f – %.4f", fit.num("terms[1].or_ci[0]"), fit.num("terms[1].or_ci[1]"))
+		out := strings.Replace(demoOut.String(), old, fmt.Sprintf("%.4f – %.4f", fit.num("terms[1].coef_ci[0]"), fit.num("terms[1].coef_ci[1]")), 1)
+		if out == demoOut.String() {
+			t.Fatalf("cannot plant: no %q", old)
+		}
+		if len(checkFitSummary(out, fit)) == 0 {
+			t.Error("the odds ratio's interval replaced by the coefficient's and the check found nothing")
+		}
+	})
 	for _, r := range runs {
 		for _, p := range checkReport(r.report, r.js) {
 			t.Errorf("%s report.md: %s", r.name, p)
