@@ -129,6 +129,16 @@ var mutations = []mutation{
 	{"risk groups drawn at their highest risk", "plots/plots.go", "pts[i] = plotter.XY{X: 100 * g.MeanRisk, Y: 100 * g.Observed.Value}", "pts[i] = plotter.XY{X: 100 * g.MaxRisk, Y: 100 * g.Observed.Value}", []string{"./plots", figures}, ""},
 	{"decision curve thresholds not in percent", "plots/plots.go", "model[i] = plotter.XY{X: 100 * v.Threshold, Y: v.Model}", "model[i] = plotter.XY{X: v.Threshold, Y: v.Model}", []string{"./plots", figures}, ""},
 	{"cluster forest: prediction interval drawn as the CI", "plots/clusterforest.go", "{X: pm.PredictionInterval[0], Y: -0.25}, {X: pm.PredictionInterval[1], Y: -0.25}", "{X: pm.CI[0], Y: -0.25}, {X: pm.CI[1], Y: -0.25}", []string{"./plots", figures}, ""},
+	// Third round: more of the numeric code.
+	{"DerSimonian–Laird τ² without Σw²/Σw", "meta/meta.go", "/(sw-sw2/sw))", "/sw)", []string{"./meta", "./validate"}, ""},
+	{"chance of acceptable performance on k − 1 df", "meta/meta.go", "t := distuv.StudentsT{Mu: r.Estimate, Sigma: s, Nu: float64(r.K - 2)}", "t := distuv.StudentsT{Mu: r.Estimate, Sigma: s, Nu: float64(r.K - 1)}", []string{"./meta", "./validate"}, ""},
+	{"Nagelkerke R² not rescaled by its maximum", "metrics/overall.go", "return cs / max", "return cs", []string{"./metrics", "./logistic", "./resample"}, ""},
+	{"Hosmer–Lemeshow variance without (1 − E/n)", "metrics/hosmer.go", "v := grp.Expected * (1 - grp.Expected/float64(grp.N))", "v := grp.Expected", []string{"./metrics"}, ""},
+	{"sample size: O/E half-width z·SE, not by sinh", "samplesize/samplesize.go", "se := math.Asinh(t.OEWidth/(2*a.OE)) / z", "se := t.OEWidth / (2 * a.OE) / z", []string{"./samplesize"}, ""},
+	{"sample size: O/E variance over nφ²", "samplesize/samplesize.go", "e.q/(phi*se*se), why)", "e.q/(phi*phi*se*se), why)", []string{"./samplesize"}, ""},
+	{"CITL interval taken from the slope's", "validate/validate.go", "CITL: citl.Value, CITLSE: citl.SE, CITLCI: citl.CI,", "CITL: citl.Value, CITLSE: citl.SE, CITLCI: slope.CI,", []string{"./validate"}, ""},
+	{"subgroup band: a value on a cut in the band below", "validate/bands.go", "return cuts[j] > v }))", "return cuts[j] >= v }))", []string{"./validate"}, ""},
+	{"CUSUM not reset at zero", "monitor/charts.go", "s = math.Max(0, s+w)", "s = s + w", []string{"./monitor"}, ""},
 }
 
 // figures is the figure-data check of the audit package (each series
