@@ -1,5 +1,5 @@
-"""oe.json: outside values for the O/E interval and for risks exactly on
-a decision threshold, on the risks of audit_predictions.csv (written by
+"""oe.json: outside values for the O/E interval, the Wald intervals of
+the calibration measures and risks exactly on a decision threshold, on the risks of audit_predictions.csv (written by
 make_reference.py write_audit_reference). Called from make_reference.py.
 
   oe            O = the events, E = the sum of the risks, O/E, and the
@@ -14,6 +14,15 @@ make_reference.py write_audit_reference). Called from make_reference.py.
                 chi-square quantiles from scipy.stats.chi2): a Poisson
                 count varies more than a binomial one (variance O against
                 O(1 - O/n)), so the interval above must lie inside it
+  wald          statsmodels GLM (binomial) conf_int(0.05) of the
+                calibration-in-the-large (intercept with logit(risk) as
+                offset) and of the calibration slope (coefficient of
+                logit(risk) with a free intercept): the Wald intervals
+                the audit reports, from the library rather than from
+                estimate +- 1.96 SE written out
+  auc_ci        the AUC's 95% interval A +- z SE clipped to [0, 1], A and
+                SE the quadratic DeLong transcription of audit.json
+                (make_reference.py delong_quadratic), z from scipy
   on_threshold  the risks rounded to one decimal (numpy.round), so that
                 many lie exactly on the thresholds 0.1, 0.2, 0.3 and 0.5:
                 sklearn.metrics.confusion_matrix of the outcome against
@@ -26,6 +35,7 @@ import os
 
 import numpy as np
 import scipy.stats
+import statsmodels.api as sm
 from sklearn.metrics import confusion_matrix
 from statsmodels.stats.proportion import proportion_confint
 
@@ -56,11 +66,21 @@ def write_oe_reference():
             y.append(1.0 if d == "M" else 0.0)
             p.append(float(risk))
     y, p = np.array(y), np.array(p)
-    ref = {"_source": "testdata/reference/oe_reference.py (scipy.stats binom, norm and chi2; scikit-learn confusion_matrix; statsmodels proportion_confint)"}
+    ref = {"_source": "testdata/reference/oe_reference.py (scipy.stats binom, norm and chi2; statsmodels GLM conf_int and proportion_confint; scikit-learn confusion_matrix)"}
     ref["oe"] = oe_interval(y, p)
     ref["oe_first60"] = oe_interval(y[:60], p[:60])
     o, e = y.sum(), p.sum()
     ref["oe_garwood"] = r12([scipy.stats.chi2.ppf(0.025, 2 * o) / 2 / e, scipy.stats.chi2.ppf(0.975, 2 * (o + 1)) / 2 / e])
+    lp = np.log(p) - np.log1p(-p)
+    fam = sm.families.Binomial()
+    citl = sm.GLM(y, np.ones((len(y), 1)), family=fam, offset=lp).fit(tol=1e-12, maxiter=100)
+    slope = sm.GLM(y, sm.add_constant(lp), family=fam).fit(tol=1e-12, maxiter=100)
+    ref["wald"] = {"citl": r12(citl.params[0]), "citl_ci": r12(citl.conf_int(0.05)[0]),
+                   "slope": r12(slope.params[1]), "slope_ci": r12(slope.conf_int(0.05)[1])}
+    with open(os.path.join(HERE, "audit.json")) as f:
+        w = json.load(f)["wdbc"]
+    a, se, z = w["auc_delong_quadratic"], w["auc_se_delong_quadratic"], scipy.stats.norm.ppf(0.975)
+    ref["auc_ci"] = r12([max(a - z * se, 0.0), min(a + z * se, 1.0)])
     pr = np.round(p, 1)
     rows = []
     n = len(y)

@@ -132,7 +132,7 @@ var mutations = []mutation{
 	// Third round: more of the numeric code.
 	{"DerSimonian–Laird τ² without Σw²/Σw", "meta/meta.go", "/(sw-sw2/sw))", "/sw)", []string{"./meta", "./validate"}, ""},
 	{"chance of acceptable performance on k − 1 df", "meta/meta.go", "t := distuv.StudentsT{Mu: r.Estimate, Sigma: s, Nu: float64(r.K - 2)}", "t := distuv.StudentsT{Mu: r.Estimate, Sigma: s, Nu: float64(r.K - 1)}", []string{"./meta", "./validate"}, ""},
-	{"Nagelkerke R² not rescaled by its maximum", "metrics/overall.go", "return cs / max", "return cs", []string{"./metrics", "./logistic", "./resample"}, ""},
+	{"Nagelkerke R² not rescaled by its maximum", "metrics/overall.go", "max := -math.Expm1(-nullDev / fn)\n\treturn cs / max", "return cs", []string{"./metrics", "./logistic", "./resample"}, ""},
 	{"Hosmer–Lemeshow variance without (1 − E/n)", "metrics/hosmer.go", "v := grp.Expected * (1 - grp.Expected/float64(grp.N))", "v := grp.Expected", []string{"./metrics"}, ""},
 	{"sample size: O/E half-width z·SE, not by sinh", "samplesize/samplesize.go", "se := math.Asinh(t.OEWidth/(2*a.OE)) / z", "se := t.OEWidth / (2 * a.OE) / z", []string{"./samplesize"}, ""},
 	{"sample size: O/E variance over nφ²", "samplesize/samplesize.go", "e.q/(phi*se*se), why)", "e.q/(phi*phi*se*se), why)", []string{"./samplesize"}, ""},
