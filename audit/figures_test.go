@@ -50,8 +50,15 @@ func TestDemoFigures(t *testing.T) {
 				MeanRisk float64 `json:"mean_risk"`
 				Observed struct{ Value float64 }
 			} `json:"risk_groups"`
+			ROC       []struct{ FPR, TPR float64 } `json:"roc"`
+			Histogram struct {
+				Edges     []float64
+				Events    []int
+				NonEvents []int `json:"non_events"`
+			} `json:"risk_histogram"`
 		}
-		Subgroups []struct {
+		Discrimination struct{ AUC float64 }
+		Subgroups      []struct {
 			AUC, OE, CITL, Slope *float64
 		}
 	}
@@ -149,6 +156,48 @@ func TestDemoFigures(t *testing.T) {
 	same("calibration: band upper", series["calibration.svg"]["band upper"], up, 100)
 	same("calibration: groups", series["calibration.svg"]["groups"], gobs, 100)
 	same("calibration: groups x", xs["calibration.svg"]["groups"], gm, 100)
+	// The ROC curve: audit.json's points in percent, and the area under
+	// the drawn polygon (trapezoids) is the Mann–Whitney AUC with ties
+	// counted ½ (Hanley & McNeil 1982: the two are the same number for
+	// the full empirical curve), here within 1/500: audit.json's curve is
+	// thinned to points at least 1/500 apart in one rate or the other
+	// (metrics.ROC), and the chords over the skipped points move the area
+	// slightly (3·10⁻⁴ on the demo); a curve drawn with its rates swapped
+	// has area 1 − AUC.
+	var fpr, tpr []float64
+	for _, r := range js.Curves.ROC {
+		fpr, tpr = append(fpr, r.FPR), append(tpr, r.TPR)
+	}
+	same("ROC: true-positive rate", series["roc.svg"]["model"], tpr, 100)
+	same("ROC: false-positive rate", xs["roc.svg"]["model"], fpr, 100)
+	area := 0.0
+	if rx, ry := xs["roc.svg"]["model"], series["roc.svg"]["model"]; len(rx) == len(ry) {
+		for i := 1; i < len(rx); i++ {
+			area += (rx[i] - rx[i-1]) * (ry[i] + ry[i-1]) / 2 / 1e4
+		}
+	}
+	if math.Abs(area-js.Discrimination.AUC) > 1.0/500 {
+		t.Errorf("ROC: the drawn curve's area is %.12g, audit.json's AUC %.12g", area, js.Discrimination.AUC)
+	}
+	// The risk histogram: each group's share of its patients in each bin
+	// (percent), drawn as steps over the bin's edges.
+	for _, g := range []struct {
+		name   string
+		counts []int
+	}{{"with the event", js.Curves.Histogram.Events}, {"without", js.Curves.Histogram.NonEvents}} {
+		total := 0
+		for _, c := range g.counts {
+			total += c
+		}
+		var want, wx []float64
+		for i, c := range g.counts {
+			v := float64(c) / float64(total)
+			want = append(want, v, v)
+			wx = append(wx, js.Curves.Histogram.Edges[i], js.Curves.Histogram.Edges[i+1])
+		}
+		same("risk histogram: "+g.name, series["risk_histogram.svg"][g.name], want, 100)
+		same("risk histogram: "+g.name+" x", xs["risk_histogram.svg"][g.name], wx, 100)
+	}
 	for _, m := range []struct {
 		panel string
 		get   func(i int) *float64

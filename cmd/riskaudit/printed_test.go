@@ -97,7 +97,9 @@ type numberToken struct {
 	less     bool
 }
 
-var numberRE = regexp.MustCompile(`(<\s*)?[-+]?\d+(\.\d+)?%?`)
+// Thousands may be separated by commas ("2,772 patients"); a comma
+// followed by a space separates list items ("5%, 10%").
+var numberRE = regexp.MustCompile(`(<\s*)?[-+]?(?:\d{1,3}(?:,\d{3})+|\d+)(\.\d+)?%?`)
 
 // numbers lists the numbers of a text in order.
 func numbers(s string) []numberToken {
@@ -120,7 +122,7 @@ func numbers(s string) []numberToken {
 		if i := strings.IndexByte(tok, '.'); i >= 0 {
 			t.decimals = len(tok) - i - 1
 		}
-		t.v, _ = strconv.ParseFloat(tok, 64)
+		t.v, _ = strconv.ParseFloat(strings.ReplaceAll(tok, ",", ""), 64)
 		out = append(out, t)
 	}
 	return out
@@ -255,6 +257,10 @@ func tableRules() map[string]rowRule {
 		"Model fit on the development data|statistic":              fitStatisticRow,
 		"Internal validation|measure":                              internalRow,
 		"Case-mix: development data against this cohort|predictor": caseMixRow,
+		"Across *|cluster":                                         clusterRow,
+		"Across *|measure":                                         pooledRow,
+		"Calibration by *|period":                                  periodRow,
+		"Risk-adjusted CUSUM charts|chart":                         cusumRow,
 	}
 }
 
@@ -268,8 +274,19 @@ func checkReport(md string, js jsonDoc) []string {
 	rules := tableRules()
 	for _, t := range parseTables(md) {
 		key := t.section + "|" + t.header[0]
-		if strings.HasPrefix(t.section, "Model audit: ") {
+		switch {
+		case strings.HasPrefix(t.section, "Model audit: "):
 			key = "Model audit: *|" + t.header[0]
+		case strings.HasPrefix(t.section, "Across "):
+			// The clusters' section and first column are named by the
+			// cluster column ("Across `site`", "site").
+			first := t.header[0]
+			if first == strings.Trim(strings.TrimPrefix(t.section, "Across "), "`") {
+				first = "cluster"
+			}
+			key = "Across *|" + first
+		case strings.HasPrefix(t.section, "Calibration by "):
+			key = "Calibration by *|" + t.header[0]
 		}
 		if strings.HasPrefix(t.section, "Appendix") || wordTables[key] {
 			continue
@@ -822,6 +839,8 @@ func checkSummary(out string, js jsonDoc) []string {
 			c.cell(where, rest, want...)
 		case "size":
 			c.cell(where, rest, js.num("sample_size.required_n"), js.num("sample_size.have_n"))
+		case "over":
+			c.overTimeLine(where, rest)
 		case "missing":
 			rows := js.num("cohort.rows")
 			c.cell(where, rest, js.num("cohort.excluded"), rows, js.num("cohort.excluded")/rows)
@@ -874,18 +893,54 @@ func TestPrintedNumbersMatchJSON(t *testing.T) {
 		t.Fatal(err)
 	}
 	var fullOut bytes.Buffer
-	args := []string{"audit", "--model", filepath.Join(demo, "recipe.yaml"), "--cohort", filepath.Join(demo, "later.csv"),
-		"--dev", filepath.Join(demo, "development.csv"), "--out", filepath.Join(dir, "full"), "--bootstrap", "20", "--seed", "1",
+	// The demo's files with two generated columns: a site (five, in
+	// turn) for --cluster and an admission date (through 2026 in file
+	// order) for --date-column.
+	later := withSiteAndDate(t, filepath.Join(demo, "later.csv"), filepath.Join(dir, "later.csv"), 7)
+	development := withSiteAndDate(t, filepath.Join(demo, "development.csv"), filepath.Join(dir, "development.csv"), 3)
+	args := []string{"audit", "--model", filepath.Join(demo, "recipe.yaml"), "--cohort", later,
+		"--dev", development, "--out", filepath.Join(dir, "full"), "--bootstrap", "20", "--seed", "1",
 		"--ci-bootstrap", "20", "--subgroups", "sex,smoker,age:65,75,bmi:q4", "--min-subgroup-events", "20",
 		"--update", filepath.Join(dir, "updated.yaml"), "--update-alpha", "0.05", "--update-bootstrap", "20",
-		"--history", filepath.Join(dir, "h.sqlite"), "--audit-date", "2026-01-31"}
-	if code := run(ctx, args, &streams{out: &fullOut, err: &bytes.Buffer{}}); code != exitOK && code != exitCriterion {
+		"--history", filepath.Join(dir, "h.sqlite"), "--audit-date", "2026-01-31",
+		"--cluster", "site", "--date-column", "admitted", "--cusum-arl", "2000",
+		"--thresholds", "0.05:0.30:0.05", "--classify-at", "0.1,0.15,0.3"}
+	var fullErr bytes.Buffer
+	if code := run(ctx, args, &streams{out: &fullOut, err: &fullErr}); code != exitOK && code != exitCriterion {
 		t.Fatalf("riskaudit audit: exit status %d", code)
 	}
 	runs := []printedRun{
 		readRun(t, "demo", filepath.Join(demo, "audit"), demoOut.String()),
 		readRun(t, "every analysis", filepath.Join(dir, "full"), fullOut.String()),
 	}
+	for _, p := range checkWrote(fullOut.String(), fullErr.String(), runs[1].js) {
+		t.Errorf("every analysis: %s", p)
+	}
+	for _, p := range checkWrote(demoOut.String(), "", runs[0].js) {
+		t.Errorf("demo: %s", p)
+	}
+	fitRaw, err := os.ReadFile(filepath.Join(demo, "fit.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var fitRoot any
+	if err := json.Unmarshal(fitRaw, &fitRoot); err != nil {
+		t.Fatal(err)
+	}
+	fit := jsonDoc{fitRoot}
+	for _, p := range checkFitSummary(demoOut.String(), fit) {
+		t.Errorf("demo: %s", p)
+	}
+	t.Run("corrupt/fit summary odds ratio interval shows the coefficient's", func(t *testing.T) {
+		old := fmt.Sprintf("%.4f – %.4f", fit.num("terms[1].or_ci[0]"), fit.num("terms[1].or_ci[1]"))
+		out := strings.Replace(demoOut.String(), old, fmt.Sprintf("%.4f – %.4f", fit.num("terms[1].coef_ci[0]"), fit.num("terms[1].coef_ci[1]")), 1)
+		if out == demoOut.String() {
+			t.Fatalf("cannot plant: no %q", old)
+		}
+		if len(checkFitSummary(out, fit)) == 0 {
+			t.Error("the odds ratio's interval replaced by the coefficient's and the check found nothing")
+		}
+	})
 	for _, r := range runs {
 		for _, p := range checkReport(r.report, r.js) {
 			t.Errorf("%s report.md: %s", r.name, p)
@@ -893,8 +948,13 @@ func TestPrintedNumbersMatchJSON(t *testing.T) {
 		for _, p := range checkSummary(r.stdout, r.js) {
 			t.Errorf("%s summary: %s", r.name, p)
 		}
+		prose := checkProse(r.report, r.js)
+		for _, p := range prose.problems {
+			t.Errorf("%s report.md prose: %s", r.name, p)
+		}
+		t.Logf("%s: prose rules matched %v; %d numbers matched only some value of audit.json: %v", r.name, prose.fired, len(prose.leftover), prose.leftover)
 		// Every section the full audit has must have been read.
-		for _, s := range []string{"Subgroups", "Model updating", "Was the cohort large enough?", "Internal validation"} {
+		for _, s := range []string{"Subgroups", "Model updating", "Was the cohort large enough?", "Internal validation", "Across `site`", "Performance over time"} {
 			if r.name == "every analysis" && !strings.Contains(r.report, "## "+s+"\n") {
 				t.Errorf("%s: no section %q to check", r.name, s)
 			}
@@ -916,6 +976,10 @@ func TestPrintedNumbersMatchJSON(t *testing.T) {
 		{"gain against a negative treat-all", "| 20.0% ", fmt.Sprintf("+%.4f", js.num("net_benefit[3].model")), fmt.Sprintf("+%.4f", js.num("net_benefit[3].model")-js.num("net_benefit[3].treat_all"))},
 		{"AIC column showing −2LL", "| recalibration in the large |", fmt.Sprintf("%.3f ", js.num("update.steps[1].aic")), fmt.Sprintf("%.3f ", js.num("update.steps[1].neg2ll"))},
 		{"subgroup O/E interval", "| `sex` = `F`", fmt.Sprintf("%.2f (%.2f", js.num("subgroups[0].oe"), js.num("subgroups[0].oe_ci[0]")), fmt.Sprintf("%.2f (%.2f", js.num("subgroups[0].oe"), js.num("subgroups[0].citl_ci[0]"))},
+		{"cluster AUC with the CITL's SE", "| `" + js.str("clusters.per_cluster[0].cluster") + "`", fmt.Sprintf("(%.3f)", js.num("clusters.per_cluster[0].auc_se")), fmt.Sprintf("(%.3f)", js.num("clusters.per_cluster[0].citl_se"))},
+		{"pooled O/E prediction interval as its CI", "| O/E ", fmt.Sprintf("| %.2f to %.2f ", js.num("clusters.pooled.oe.prediction_interval[0]"), js.num("clusters.pooled.oe.prediction_interval[1]")), fmt.Sprintf("| %.2f to %.2f ", js.num("clusters.pooled.oe.ci[0]"), js.num("clusters.pooled.oe.ci[1]"))},
+		{"period O/E with the CITL interval", "| " + js.str("over_time.periods[2].label"), ci3("over_time.periods[2].oe_ci"), ci3("over_time.periods[2].citl_ci")},
+		{"CUSUM limit's SE as the ARL's", "| " + js.str("over_time.cusum[0].name"), fmt.Sprintf("(%.0f)", js.num("over_time.cusum[0].limit.arl_mc_se")), fmt.Sprintf("(%.0f)", 1000*js.num("over_time.cusum[0].limit.h_mc_se"))},
 	} {
 		t.Run("corrupt/"+m.name, func(t *testing.T) {
 			md, ok := replaceInRow(full.report, m.row, m.old, m.new)
@@ -930,6 +994,7 @@ func TestPrintedNumbersMatchJSON(t *testing.T) {
 	for _, m := range []struct{ name, old, new string }{
 		{"stdout AUC lower end replaced by the SE", "95% CI " + f3("discrimination.auc_ci[0]"), "95% CI " + f3("discrimination.auc_se")},
 		{"stdout O/E with CITL interval", ci3("calibration.oe_ci"), ci3("calibration.citl_ci")},
+		{"stdout first signal one patient late", fmt.Sprintf("after %d patients", int(js.num("over_time.cusum[0].first_signal.patient"))), fmt.Sprintf("after %d patients", int(js.num("over_time.cusum[0].first_signal.patient"))+1)},
 	} {
 		t.Run("corrupt/"+m.name, func(t *testing.T) {
 			out := strings.Replace(full.stdout, m.old, m.new, 1)
@@ -941,7 +1006,11 @@ func TestPrintedNumbersMatchJSON(t *testing.T) {
 			}
 		})
 	}
+	plantProse(t, full)
 }
+
+// TestPrintedNumbersMatchJSON's prose corruptions run inside it (the
+// audits take a while): see plantProse.
 
 // replaceInRow replaces old by new once in the first line starting with row.
 func replaceInRow(md, row, old, new string) (string, bool) {

@@ -404,6 +404,11 @@ def main():
     write_samplesize_reference()
     write_subgroups_reference(bc)
     write_extra_reference(bc)
+    # The O/E interval and risks on a threshold (oe.json), from the
+    # risks write_audit_reference wrote above.
+    sys.path.insert(0, HERE)
+    from oe_reference import write_oe_reference
+    write_oe_reference()
     write_monitor_reference()
     # Excel workbooks written by openpyxl, and the values in them
     from make_workbooks import write_workbooks

@@ -84,11 +84,71 @@ var mutations = []mutation{
 	{"stdout AUC with the logit interval", "report/summary.go", `withCI(d.AUC, d.CI, a.AUCCIReason())`, `withCI(d.AUC, d.LogitCI, a.AUCCIReason())`, []string{"./report", "./cmd/riskaudit"}, printed},
 	{"stdout O/E with the CITL interval", "report/summary.go", `withCI(c.OE, c.OECI, "")`, `withCI(c.OE, c.CITLCI, "")`, []string{"./report", "./cmd/riskaudit"}, printed},
 	// figures
-	{"decision curve treat-all line plots the model", "plots/plots.go", "all[i] = plotter.XY{X: 100 * v.Threshold, Y: v.TreatAll}", "all[i] = plotter.XY{X: 100 * v.Threshold, Y: v.Model}", []string{"./plots"}, ""},
+	{"decision curve treat-all line plots the model", "plots/plots.go", "all[i] = plotter.XY{X: 100 * v.Threshold, Y: v.TreatAll}", "all[i] = plotter.XY{X: 100 * v.Threshold, Y: v.Model}", []string{"./plots", figures}, ""},
+
+	// Second round (issue 13, finishing): numeric code beyond the first
+	// list, the report's prose, the clusters and over-time sections, the
+	// summary on stdout, and the figures' data.
+	// metrics
+	{"Hosmer–Lemeshow df groups − 2 on a new cohort", "metrics/hosmer.go", "t.DF = t.Groups\n", "t.DF = t.Groups - 2\n", []string{"./metrics", "./validate"}, ""},
+	{"type-7 quantile at n·q instead of (n − 1)·q", "metrics/numeric.go", "n := len(sorted)\n\tif n == 0 {\n\t\treturn math.NaN()\n\t}\n\th := float64(n-1) * q", "n := len(sorted)\n\tif n == 0 {\n\t\treturn math.NaN()\n\t}\n\th := float64(n) * q", []string{"./metrics", "./validate", "./resample"}, ""},
+	{"quantile by selection at n·q (E50, E90, Hosmer–Lemeshow cuts)", "metrics/numeric.go", "n := len(a)\n\tif n == 0 {\n\t\treturn math.NaN()\n\t}\n\th := float64(n-1) * q", "n := len(a)\n\tif n == 0 {\n\t\treturn math.NaN()\n\t}\n\th := float64(n) * q", []string{"./metrics", "./validate"}, ""},
+	{"Clopper–Pearson upper end at 95%", "metrics/usefulness.go", "Beta: float64(n - k)}.Quantile(0.975)", "Beta: float64(n - k)}.Quantile(0.95)", []string{"./metrics"}, ""},
+	{"model net benefit weighted by the threshold, not its odds", "metrics/usefulness.go", "Model:     float64(c.TP)/n - float64(c.FP)/n*odds,", "Model:     float64(c.TP)/n - float64(c.FP)/n*c.Threshold,", []string{"./metrics"}, ""},
+	{"DeLong component: tied non-events counted whole", "metrics/discrimination.go", "v := (float64(belowY) + float64(yy)/2) / float64(n)", "v := (float64(belowY) + float64(yy)) / float64(n)", []string{"./metrics"}, ""},
+	// meta, monitor, case-mix, resample
+	{"I² with Q − k instead of Q − (k − 1)", "meta/meta.go", "r.I2 = math.Max(0, (r.Q-float64(k-1))/r.Q)", "r.I2 = math.Max(0, (r.Q-float64(k))/r.Q)", []string{"./meta", "./validate"}, ""},
+	{"HKSJ interval on k degrees of freedom", "meta/meta.go", "t := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(k - 1)}.Quantile(1 - alpha/2)", "t := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(k)}.Quantile(1 - alpha/2)", []string{"./meta", "./validate"}, ""},
+	{"prediction interval on k − 1 degrees of freedom", "meta/meta.go", "t := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(k - 2)}.Quantile(1 - alpha/2)", "t := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(k - 1)}.Quantile(1 - alpha/2)", []string{"./meta", "./validate"}, ""},
+	{"EWMA variance with (1 − λ) not squared", "monitor/charts.go", "a, a2, l2 := 1-lambda, (1-lambda)*(1-lambda), lambda*lambda", "a, a2, l2 := 1-lambda, 1-lambda, lambda*lambda", []string{"./monitor"}, ""},
+	{"EWMA variance with λ instead of λ²", "monitor/charts.go", "a, a2, l2 := 1-lambda, (1-lambda)*(1-lambda), lambda*lambda", "a, a2, l2 := 1-lambda, (1-lambda)*(1-lambda), lambda", []string{"./monitor"}, ""},
+	{"CUSUM event weight without the non-event part", "monitor/charts.go", "return w0, w0 + math.Log(r)", "return w0, math.Log(r)", []string{"./monitor"}, ""},
+	{"standardised difference over the summed variances", "validate/casemix.go", "return (b - a) / math.Sqrt((va+vb)/2), \"\"", "return (b - a) / math.Sqrt(va+vb), \"\"", []string{"./validate"}, ""},
+	{"percentile interval ends swapped in order", "resample/percentile.go", "return [2]float64{metrics.Quantile7(v, 0.025), metrics.Quantile7(v, 0.975)}", "return [2]float64{metrics.Quantile7(v, 0.975), metrics.Quantile7(v, 0.025)}", []string{"./resample"}, ""},
+	// the summary's findings (report.md and audit.json)
+	{"summary: pairs out of 100 truncated, not rounded", "validate/audit.go", "aucWord(d.AUC), int(math.Round(100*d.AUC)))", "aucWord(d.AUC), int(100*d.AUC))", []string{"./validate", "./cmd/riskaudit"}, printed},
+	{"summary: E50 and E90 swapped", "validate/audit.go", "c.ICI, 100*c.ICI, c.E50, c.E90)", "c.ICI, 100*c.ICI, c.E90, c.E50)", []string{"./validate", "./cmd/riskaudit"}, printed},
+	{"summary: O/E sentence with the CITL interval", "validate/audit.go", "c.Observed, c.Expected, c.OE, ciText(c.OECI, \"%.3f\", \"\"), citl)", "c.Observed, c.Expected, c.OE, ciText(c.CITLCI, \"%.3f\", \"\"), citl)", []string{"./validate", "./cmd/riskaudit"}, printed},
+	{"summary: gain counted against treat-all", "validate/audit.go", "if GainReaches(nb.Gain(), p.NetBenefitMinGain) {", "if GainReaches(nb.Model-nb.TreatAll, p.NetBenefitMinGain) {", []string{"./validate", "./cmd/riskaudit"}, printed},
+	{"summary: corrected AUC shows the apparent", "validate/audit.go", "in.Bootstrap-in.Failed, m.AUC.Apparent, m.AUC.Corrected, in.Shrinkage)", "in.Bootstrap-in.Failed, m.AUC.Apparent, m.AUC.Apparent, in.Shrinkage)", []string{"./validate", "./cmd/riskaudit"}, printed},
+	{"case-mix: spread ratio inverted", "validate/casemix.go", "spread := cm.LPSDNew / cm.LPSDDev", "spread := cm.LPSDDev / cm.LPSDNew", []string{"./validate", "./cmd/riskaudit"}, printed},
+	// report: clusters and over time
+	{"clusters: prediction interval sentence gives the CI", "report/clusters.go", "num(pm.PredictionInterval[0], format), num(pm.PredictionInterval[1], format))", "num(pm.CI[0], format), num(pm.CI[1], format))", []string{"./report", "./cmd/riskaudit"}, printed},
+	{"clusters: AUC cell with the CITL's SE", "report/clusters.go", "se(g.AUC, g.AUCSE, \"%.3f\")", "se(g.AUC, g.CITLSE, \"%.3f\")", []string{"./report", "./cmd/riskaudit"}, printed},
+	{"clusters: τ² column shows I²", "report/clusters.go", "num(m.pm.Tau2, \"%.4f\"), pct(m.pm.I2)", "num(m.pm.I2, \"%.4f\"), pct(m.pm.I2)", []string{"./report", "./cmd/riskaudit"}, printed},
+	{"over time: first signal a patient early", "report/overtime.go", "c.Name, what, c.First.Date, count(c.First.Patient), more)", "c.Name, what, c.First.Date, count(c.First.Patient-1), more)", []string{"./report", "./cmd/riskaudit"}, printed},
+	{"over time: lowest cumulative O − E shows the end", "report/overtime.go", "num(s.VLADMin, \"%+.1f\")", "num(s.VLADEnd, \"%+.1f\")", []string{"./report", "./cmd/riskaudit"}, printed},
+	{"over time: period CITL with the O/E interval", "report/overtime.go", "f3(q.CITL)+\" (\"+Interval(q.CITLCI,", "f3(q.CITL)+\" (\"+Interval(q.OECI,", []string{"./report", "./cmd/riskaudit"}, printed},
+	{"over time: ARL's MC SE shows h's", "report/overtime.go", "count(int(l.TargetARL)), l.ARLSE)", "count(int(l.TargetARL)), l.HSE)", []string{"./report", "./cmd/riskaudit"}, printed},
+	// report: tables and stdout
+	{"classification cell: interval not scaled to percent", "report/report.go", "interval([2]float64{100 * p.CI[0], 100 * p.CI[1]}, \"%.1f\", \"–\", \"\"))", "interval([2]float64{p.CI[0], p.CI[1]}, \"%.1f\", \"–\", \"\"))", []string{"./report", "./cmd/riskaudit"}, printed},
+	{"stdout: E90 shows E50", "report/summary.go", "f4(c.ICI), f4(c.E90))", "f4(c.ICI), f4(c.E50))", []string{"./report", "./cmd/riskaudit"}, printed},
+	// figures
+	{"ROC curve with FPR and TPR swapped", "plots/plots.go", "xys[i] = plotter.XY{X: 100 * r.FPR, Y: 100 * r.TPR}", "xys[i] = plotter.XY{X: 100 * r.TPR, Y: 100 * r.FPR}", []string{"./plots", figures}, ""},
+	{"calibration band's lower edge drawn at the smooth", "plots/plots.go", "lo[i] = plotter.XY{X: 100 * c.Predicted, Y: 100 * c.Lower}", "lo[i] = plotter.XY{X: 100 * c.Predicted, Y: 100 * c.Observed}", []string{"./plots", figures}, ""},
+	{"risk groups drawn at their highest risk", "plots/plots.go", "pts[i] = plotter.XY{X: 100 * g.MeanRisk, Y: 100 * g.Observed.Value}", "pts[i] = plotter.XY{X: 100 * g.MaxRisk, Y: 100 * g.Observed.Value}", []string{"./plots", figures}, ""},
+	{"decision curve thresholds not in percent", "plots/plots.go", "model[i] = plotter.XY{X: 100 * v.Threshold, Y: v.Model}", "model[i] = plotter.XY{X: v.Threshold, Y: v.Model}", []string{"./plots", figures}, ""},
+	{"cluster forest: prediction interval drawn as the CI", "plots/clusterforest.go", "{X: pm.PredictionInterval[0], Y: -0.25}, {X: pm.PredictionInterval[1], Y: -0.25}", "{X: pm.CI[0], Y: -0.25}, {X: pm.CI[1], Y: -0.25}", []string{"./plots", figures}, ""},
+	// Third round: more of the numeric code.
+	{"DerSimonian–Laird τ² without Σw²/Σw", "meta/meta.go", "/(sw-sw2/sw))", "/sw)", []string{"./meta", "./validate"}, ""},
+	{"chance of acceptable performance on k − 1 df", "meta/meta.go", "t := distuv.StudentsT{Mu: r.Estimate, Sigma: s, Nu: float64(r.K - 2)}", "t := distuv.StudentsT{Mu: r.Estimate, Sigma: s, Nu: float64(r.K - 1)}", []string{"./meta", "./validate"}, ""},
+	{"Nagelkerke R² not rescaled by its maximum", "metrics/overall.go", "max := -math.Expm1(-nullDev / fn)\n\treturn cs / max", "return cs", []string{"./metrics", "./logistic", "./resample"}, ""},
+	{"Hosmer–Lemeshow variance without (1 − E/n)", "metrics/hosmer.go", "v := grp.Expected * (1 - grp.Expected/float64(grp.N))", "v := grp.Expected", []string{"./metrics"}, ""},
+	{"sample size: O/E half-width z·SE, not by sinh", "samplesize/samplesize.go", "se := math.Asinh(t.OEWidth/(2*a.OE)) / z", "se := t.OEWidth / (2 * a.OE) / z", []string{"./samplesize"}, ""},
+	{"sample size: O/E variance over nφ²", "samplesize/samplesize.go", "e.q/(phi*se*se), why)", "e.q/(phi*phi*se*se), why)", []string{"./samplesize"}, ""},
+	{"CITL interval taken from the slope's", "validate/validate.go", "CITL: citl.Value, CITLSE: citl.SE, CITLCI: citl.CI,", "CITL: citl.Value, CITLSE: citl.SE, CITLCI: slope.CI,", []string{"./validate"}, ""},
+	{"subgroup band: a value on a cut in the band below", "validate/bands.go", "return cuts[j] > v }))", "return cuts[j] >= v }))", []string{"./validate"}, ""},
+	{"CUSUM not reset at zero", "monitor/charts.go", "s = math.Max(0, s+w)", "s = s + w", []string{"./monitor"}, ""},
 }
+
+// figures is the figure-data check of the audit package (each series
+// drawn against audit.json), run alone: the package's whole suite takes
+// minutes.
+const figures = "./audit@TestDemoFigures"
 
 func main() {
 	only := flag.String("only", "", "run only the mutations whose name contains this text (alternatives separated by |)")
+	skip := flag.Int("skip", 0, "skip the first N mutations of the list")
 	flag.Parse()
 	root, err := os.Getwd()
 	if err != nil {
@@ -105,7 +165,10 @@ func main() {
 	start := time.Now()
 	killed, survived, stale := 0, 0, 0
 	var survivors []string
-	for _, m := range mutations {
+	for i, m := range mutations {
+		if i < *skip {
+			continue
+		}
 		if *only != "" && !matchesAny(m.name, strings.Split(*only, "|")) {
 			continue
 		}
@@ -169,6 +232,21 @@ func runTests(dir string, m mutation) (bool, string) {
 	ctx, cancel := context.WithTimeout(context.Background(), 6*time.Minute)
 	defer cancel()
 	args := []string{"test", "-short", "-count=1"}
+	// A package written pkg@Filter runs only the tests Filter selects.
+	var pkgs []string
+	for _, p := range m.pkgs {
+		if pkg, filter, ok := strings.Cut(p, "@"); ok {
+			if ok, out := goTest(ctx, dir, append(append([]string{}, args...), "-run", filter, pkg)); !ok {
+				return false, out
+			}
+			continue
+		}
+		pkgs = append(pkgs, p)
+	}
+	m.pkgs = pkgs
+	if len(m.pkgs) == 0 {
+		return true, ""
+	}
 	if m.run != "" {
 		// The filter applies to every package: keep each package's own
 		// tests by adding it only where it names tests of cmd/riskaudit.
