@@ -44,7 +44,7 @@ func isParquet(path string) bool {
 // floating-point and boolean columns (and text, parsed as in CSV); a
 // categorical request takes text, integer, boolean, date, timestamp and
 // integer-backed decimal columns (numbers as their text, a date as
-// "2024-03-01", a timestamp as "2024-03-01 08:30:00Z"). Nulls are
+// "2024-03-01", a timestamp as "2024-03-01T08:30:00Z"). Nulls are
 // missing values, as are the missing markers in text columns; NaN is a
 // missing value (unless Request.NaNIsError) and an infinite value is an
 // error. Errors name the file, the 1-based row, the column and the

@@ -161,6 +161,7 @@ type pqReader struct {
 	row    int // rows read so far
 	defs   []int16
 	// scratch values of one batch, by physical type
+	f64 []float64
 	f32 []float32
 	i32 []int32
 	i64 []int64
@@ -210,7 +211,18 @@ func (r *pqReader) chunk(cr file.ColumnChunkReader, rows int64) error {
 		var err error
 		switch cr := cr.(type) {
 		case *file.Float64ColumnChunkReader:
-			total, err = r.doubles(cr, n)
+			if r.l.cols[r.k].Kind == Numeric {
+				total, err = r.doubles(cr, n)
+				break
+			}
+			r.f64 = grow(r.f64)
+			total, nv, err = cr.ReadBatch(n, r.f64, r.defs, nil)
+			if err == nil {
+				c := r.l.cols[r.k]
+				codes(r, total, nv, r.f64, func(v float64, row int) int32 {
+					return c.level(strconv.FormatFloat(v, 'g', -1, 64), row, r.l.levels[r.k], r.l.missing)
+				})
+			}
 		case *file.Float32ColumnChunkReader:
 			r.f32 = grow(r.f32)
 			total, nv, err = cr.ReadBatch(n, r.f32, r.defs, nil)
@@ -555,7 +567,7 @@ func dateText(days int64) string {
 }
 
 // timestampText is a timestamp of v units since 1970-01-01 UTC as text,
-// as the Arrow library writes one ("2024-03-01 08:30:00Z").
+// as the Arrow library writes one ("2024-03-01T08:30:00Z").
 func timestampText(v int64, unit time.Duration) string {
 	var t time.Time
 	switch unit {
@@ -566,7 +578,7 @@ func timestampText(v int64, unit time.Duration) string {
 	default:
 		t = time.Unix(0, v)
 	}
-	return t.UTC().Format("2006-01-02 15:04:05.999999999Z0700")
+	return t.UTC().Format("2006-01-02T15:04:05.999999999Z0700")
 }
 
 // decimalText is the decimal of unscaled value v and scale as text.
