@@ -178,7 +178,12 @@ func (f *Frame) Column(name string) *Column {
 
 // Line returns the file line on which data row i starts (for a
 // columnar file its row number, for a workbook its sheet's row number).
-func (f *Frame) Line(i int) int { return int(f.lines[i]) }
+func (f *Frame) Line(i int) int {
+	if f.lines == nil {
+		return i + 1 // a columnar file's rows, numbered from 1
+	}
+	return int(f.lines[i])
+}
 
 // CellRef returns the cell of a workbook that holds the value of column
 // on the sheet's row line (a Line or LevelLine of the frame), as

@@ -19,7 +19,6 @@ import (
 	"github.com/apache/arrow-go/v18/arrow/ipc"
 	"github.com/apache/arrow-go/v18/parquet"
 	"github.com/apache/arrow-go/v18/parquet/file"
-	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 )
 
 // isParquet reports whether the file at path starts with the Parquet
@@ -38,21 +37,24 @@ func isParquet(path string) bool {
 }
 
 // LoadParquet reads the requested columns of an Apache Parquet file with
-// the Apache Arrow Go library, column by column in batches (columns in
-// parallel), so that memory holds the requested columns and one batch of
-// each. Typed columns keep their types: a numeric request takes integer,
+// the typed column readers of the Apache Arrow Go library's Parquet
+// package, column by column in batches (columns in parallel), so that
+// memory holds the requested columns and one batch of each. Typed
+// columns keep their types: a numeric request takes integer,
 // floating-point and boolean columns (and text, parsed as in CSV); a
-// categorical request takes text and dictionary columns (and numbers, as
-// text). Nulls are missing values, as are the missing markers in text
-// columns; NaN is a missing value (unless Request.NaNIsError) and an
-// infinite value is an error. Errors name the file, the 1-based row, the
-// column and the value.
+// categorical request takes text, integer, boolean, date, timestamp and
+// integer-backed decimal columns (numbers as their text, a date as
+// "2024-03-01", a timestamp as "2024-03-01T08:30:00Z"). Nulls are
+// missing values, as are the missing markers in text columns; NaN is a
+// missing value (unless Request.NaNIsError) and an infinite value is an
+// error. Errors name the file, the 1-based row, the column and the
+// value.
 //
 // A damaged or truncated file is an *Error of kind ErrFormat ("not a
 // readable Parquet file: …"), never a panic: the footer's row groups
-// and column chunks are checked against the file's size, every array the
-// reader decodes is validated before it is read, and the decoding runs
-// inside recover boundaries, in goroutines of this package only.
+// and column chunks are checked against the file's size, pages are
+// decoded within memory limits set by the file's size, and the decoding
+// runs inside recover boundaries, in goroutines of this package only.
 func LoadParquet(path string, reqs []Request, opt Options) (*Frame, error) {
 	return loadParquet(context.Background(), path, reqs, opt)
 }
@@ -62,33 +64,25 @@ const batchRows = 1 << 16
 
 func loadParquet(ctx context.Context, path string, reqs []Request, opt Options) (out *Frame, err error) {
 	defer recoverDecode(path, "Parquet", &err)
-	pr, closeFile, err := openParquet(path, pqarrow.ArrowReadProperties{BatchSize: batchRows})
+	pf, err := openParquet(path)
 	if err != nil {
 		return nil, err
 	}
-	defer closeFile()
-	schema, err := pr.Schema()
-	if err != nil {
-		return nil, formatError(path, "Parquet", err)
+	defer pf.Close()
+	header, pcols := parquetColumns(pf.MetaData().Schema)
+	nested := make([]bool, len(pcols))
+	for i, c := range pcols {
+		nested[i] = c.nested
 	}
-	nrows := pr.ParquetReader().NumRows()
-	l, err := newLayout(path, "Parquet", schema, reqs, opt, int(min(nrows, 1<<24)))
+	nrows := pf.NumRows()
+	l, err := newLayoutOf(path, "Parquet", header, nested, reqs, opt, int(min(nrows, 1<<24)))
 	if err != nil {
 		return nil, err
 	}
-	type job struct {
-		k   int
-		rdr *pqarrow.ColumnReader
-	}
-	var jobs []job
+	var jobs []int // the file columns read, one job each
 	for _, i := range l.idx {
 		if k := l.plan[i]; l.cols[k].Index == i {
-			cr, err := pr.GetColumn(ctx, i)
-			if err != nil {
-				return nil, formatError(path, "Parquet", err)
-			}
-			defer cr.Release()
-			jobs = append(jobs, job{k, cr})
+			jobs = append(jobs, i)
 		}
 	}
 	errs := make([]error, len(jobs))
@@ -99,14 +93,15 @@ func loadParquet(ctx context.Context, path string, reqs []Request, opt Options) 
 	}
 	sem := make(chan struct{}, workers)
 	var wg sync.WaitGroup
-	for j, jb := range jobs {
+	for j, i := range jobs {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
 			sem <- struct{}{}
 			defer func() { <-sem }()
 			defer recoverDecode(path, "Parquet", &errs[j])
-			rows[j], errs[j] = l.readColumn(ctx, jb.k, jb.rdr, reqs[jb.k].NaNIsError)
+			k := l.plan[i]
+			rows[j], errs[j] = l.readParquetColumn(pf, k, pcols[i], reqs[k].NaNIsError, ctx.Err)
 		}()
 	}
 	wg.Wait()
@@ -121,33 +116,6 @@ func loadParquet(ctx context.Context, path string, reqs []Request, opt Options) 
 		}
 	}
 	return l.frame(int(nrows), reqs)
-}
-
-// readColumn reads every batch of one column into request k's column and
-// returns the number of rows read.
-func (l *layout) readColumn(ctx context.Context, k int, cr *pqarrow.ColumnReader, nanErr bool) (int, error) {
-	row := 0
-	for {
-		if err := ctx.Err(); err != nil {
-			return row, err
-		}
-		ch, err := cr.NextBatch(batchRows)
-		if err != nil {
-			return row, formatError(l.path, "Parquet", err)
-		}
-		if ch.Len() == 0 {
-			ch.Release()
-			return row, nil
-		}
-		for _, arr := range ch.Chunks() {
-			if err := l.append(k, arr, row, nanErr); err != nil {
-				ch.Release()
-				return row, err
-			}
-			row += arr.Len()
-		}
-		ch.Release()
-	}
 }
 
 // LoadArrow reads the requested columns of an Arrow IPC file (the Arrow
@@ -201,19 +169,23 @@ func loadArrow(ctx context.Context, path string, reqs []Request, opt Options) (o
 	return l.frame(row, reqs)
 }
 
-// openParquet opens a Parquet file for reading as Arrow data, after
-// checking its footer against the file's size; close releases it. Only
-// readers whose goroutines recover from panics may be made with
-// props.Parallel (the table reader's do; the record reader's do not).
-func openParquet(path string, props pqarrow.ArrowReadProperties) (fr *pqarrow.FileReader, close func(), err error) {
+// openParquet opens a Parquet file for reading, memory-mapped, after
+// checking its footer against the file's size; its pages are decoded
+// into memory with the limits of newLimitedAllocator.
+func openParquet(path string) (pf *file.Reader, err error) {
 	defer recoverDecode(path, "Parquet", &err)
-	alloc := newLimitedAllocator(path)
-	pf, err := file.OpenParquetFile(path, true, file.WithReadProps(parquet.NewReaderProperties(alloc)))
+	// Column chunks are read through a buffer of their own rather than
+	// copied whole into fresh memory (the library's default): a 10M-row
+	// column chunk is 80 MB of first-touched pages.
+	props := parquet.NewReaderProperties(newLimitedAllocator(path))
+	props.BufferedStreamEnabled = true
+	props.BufferSize = 1 << 20
+	pf, err = file.OpenParquetFile(path, true, file.WithReadProps(props))
 	if err != nil {
 		if errors.As(err, new(*fs.PathError)) {
-			return nil, nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error(), Kind: ErrRead, Err: err}
+			return nil, &Error{File: path, Msg: "cannot read the Parquet file: " + err.Error(), Kind: ErrRead, Err: err}
 		}
-		return nil, nil, formatError(path, "Parquet", err)
+		return nil, formatError(path, "Parquet", err)
 	}
 	err = checkFooter(path, pf)
 	if err == nil {
@@ -221,14 +193,9 @@ func openParquet(path string, props pqarrow.ArrowReadProperties) (fr *pqarrow.Fi
 	}
 	if err != nil {
 		pf.Close()
-		return nil, nil, formatError(path, "Parquet", err)
+		return nil, formatError(path, "Parquet", err)
 	}
-	fr, err = pqarrow.NewFileReader(pf, props, alloc)
-	if err != nil {
-		pf.Close()
-		return nil, nil, formatError(path, "Parquet", err)
-	}
-	return fr, func() { pf.Close() }, nil
+	return pf, nil
 }
 
 // checkFooter checks what a Parquet footer says against the file: row
@@ -345,10 +312,19 @@ type layout struct {
 // newLayout checks the schema against the requests and makes the
 // columns to fill, with room for hint rows.
 func newLayout(path, format string, schema *arrow.Schema, reqs []Request, opt Options, hint int) (*layout, error) {
-	l := &layout{path: path, format: format, header: make([]string, schema.NumFields()), missing: opt.Missing, dec: '.'}
+	header := make([]string, schema.NumFields())
+	nested := make([]bool, len(header))
 	for i, f := range schema.Fields() {
-		l.header[i] = f.Name
+		header[i] = f.Name
+		_, nested[i] = f.Type.(arrow.NestedType)
 	}
+	return newLayoutOf(path, format, header, nested, reqs, opt, hint)
+}
+
+// newLayoutOf is newLayout for a file of columns header, the nested
+// ones marked in nested.
+func newLayoutOf(path, format string, header []string, nested []bool, reqs []Request, opt Options, hint int) (*layout, error) {
+	l := &layout{path: path, format: format, header: header, missing: opt.Missing, dec: '.'}
 	l.renamed = RenameHeader(l.header, opt.Rename)
 	if err := checkHeader(path, 0, l.header); err != nil {
 		return nil, err
@@ -359,7 +335,7 @@ func newLayout(path, format string, schema *arrow.Schema, reqs []Request, opt Op
 	}
 	for i, k := range l.plan {
 		if k >= 0 {
-			if _, nested := schema.Field(i).Type.(arrow.NestedType); nested {
+			if nested[i] {
 				return nil, &Error{File: path, Column: l.header[i], Msg: "a nested column; give a flat column", Kind: ErrFormat}
 			}
 			l.idx = append(l.idx, i)
@@ -412,10 +388,8 @@ func (l *layout) frame(rows int, reqs []Request) (*Frame, error) {
 	if rows == 0 {
 		return nil, &Error{File: l.path, Msg: "the file has no rows", Kind: ErrEmpty}
 	}
-	out := &Frame{File: l.path, Header: l.header, Renamed: l.renamed, Rows: rows, RowNumbered: true, lines: make([]int32, rows)}
-	for i := range out.lines {
-		out.lines[i] = int32(i + 1)
-	}
+	// Row i is row i+1 of the file: Line needs no list of lines.
+	out := &Frame{File: l.path, Header: l.header, Renamed: l.renamed, Rows: rows, RowNumbered: true}
 	for k, c := range l.cols {
 		if k0 := l.plan[c.Index]; k0 != k {
 			src := l.cols[k0]

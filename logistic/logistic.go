@@ -596,7 +596,7 @@ func (e *evaluator) eval(beta []float64, firth, withDerivs bool) (*state, error)
 	if firth && withDerivs {
 		mu = make([]float64, e.d.N)
 	}
-	parts := e.run(func(lo, hi int, c *chunk) { e.pass(beta, lo, hi, c, withDerivs, mu) })
+	parts := e.run(withDerivs, func(lo, hi int, c *chunk) { e.pass(beta, lo, hi, c, withDerivs, mu) })
 	st := &state{info: make([]float64, p*p), score: make([]float64, p)}
 	for _, c := range parts {
 		st.deviance += c.dev
@@ -633,7 +633,7 @@ func (e *evaluator) eval(beta []float64, firth, withDerivs bool) (*state, error)
 		st.objective += hld
 		st.rounding += float64(p) * cond * epsilon / 2
 		st.mu, st.q = mu, make([]float64, e.d.N)
-		adj := e.run(func(lo, hi int, c *chunk) { e.firthPass(mu, inv, st.q, lo, hi, c) })
+		adj := e.run(false, func(lo, hi int, c *chunk) { e.firthPass(mu, inv, st.q, lo, hi, c) })
 		for _, c := range adj {
 			for j := range st.score {
 				st.score[j] += c.score[j]
@@ -667,8 +667,11 @@ func invertLogDet(info []float64, p int) ([]float64, float64, float64, error) {
 // epsilon is the unit roundoff of float64, 2⁻⁵³.
 const epsilon = 0x1p-53
 
-// run splits the rows between the workers and returns their chunks.
-func (e *evaluator) run(f func(lo, hi int, c *chunk)) []*chunk {
+// run splits the rows between the workers and returns their chunks,
+// each with the worker's scratch for pass when withBuf is set (made once
+// per evaluator; a pass without derivatives, such as Deviance's, needs
+// none).
+func (e *evaluator) run(withBuf bool, f func(lo, hi int, c *chunk)) []*chunk {
 	p, n := e.d.P, e.d.N
 	w := e.workers
 	parts := make([]*chunk, w)
@@ -677,7 +680,7 @@ func (e *evaluator) run(f func(lo, hi int, c *chunk)) []*chunk {
 	}
 	var wg sync.WaitGroup
 	for k := 0; k < w; k++ {
-		if e.bufs[k] == nil {
+		if withBuf && e.bufs[k] == nil {
 			e.bufs[k] = make([]float64, (2*p+1)*block)
 		}
 		parts[k] = &chunk{info: make([]float64, p*p), score: make([]float64, p), buf: e.bufs[k]}
@@ -931,7 +934,7 @@ func (e *evaluator) firthHessian(st *state) ([]float64, error) {
 		return nil, errors.New("logistic: no Firth state for the Hessian")
 	}
 	p := e.d.P
-	parts := e.run(func(lo, hi int, c *chunk) { e.firthHessPass(st.mu, st.q, lo, hi, c) })
+	parts := e.run(false, func(lo, hi int, c *chunk) { e.firthHessPass(st.mu, st.q, lo, hi, c) })
 	s2 := make([]float64, p*p)
 	t := make([]float64, p*p*p)
 	for _, c := range parts {

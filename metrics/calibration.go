@@ -70,7 +70,7 @@ func CalibrationInTheLarge(y, lp []float64) (Estimate, error) {
 	if ybar > 0 && ybar < 1 {
 		start = math.Log(ybar/(1-ybar)) - math.Log(pbar/(1-pbar))
 	}
-	a, info, err := interceptNewton(y, lp, nil, start, 2)
+	a, info, err := interceptNewton(y, lp, nil, start, 2, nil)
 	if err == nil {
 		return wald(a, 1/math.Sqrt(info)), nil
 	}
@@ -154,6 +154,19 @@ func OE(y, p []float64) (oe float64, ci [2]float64, observed, expected float64) 
 // length or an outcome is neither 0 nor 1. It returns an error when
 // either model cannot be fitted, as the unweighted functions do.
 func CalibrationWeighted(y, lp, w []float64, workers int) (citl, slope float64, err error) {
+	var ws CalibrationWorkspace
+	return ws.Weighted(y, lp, w, workers)
+}
+
+// CalibrationWorkspace holds the scratch of CalibrationWeighted (one
+// value per row), so that repeated calls, such as a bootstrap's, allocate
+// it once. The zero value is ready; a workspace serves one goroutine at a
+// time.
+type CalibrationWorkspace struct{ e []float64 }
+
+// Weighted is CalibrationWeighted in the workspace's scratch, with the
+// same results.
+func (ws *CalibrationWorkspace) Weighted(y, lp, w []float64, workers int) (citl, slope float64, err error) {
 	checkLinear("CalibrationWeighted", y, lp)
 	checkWeights("CalibrationWeighted", y, w)
 	if workers <= 0 {
@@ -174,7 +187,10 @@ func CalibrationWeighted(y, lp, w []float64, workers int) (citl, slope float64, 
 	if ybar, pbar := sy/sw, sp/sw; ybar > 0 && ybar < 1 && pbar > 0 && pbar < 1 {
 		start = math.Log(ybar/(1-ybar)) - math.Log(pbar/(1-pbar))
 	}
-	citl, _, err = interceptNewton(y, lp, w, start, workers)
+	if cap(ws.e) < n {
+		ws.e = make([]float64, n)
+	}
+	citl, _, err = interceptNewton(y, lp, w, start, workers, ws.e[:n])
 	if err != nil {
 		return 0, 0, fmt.Errorf("calibration-in-the-large: %w", err)
 	}
@@ -283,9 +299,12 @@ func rowSums(n, workers int, f func(lo, hi int) [5]float64) [5]float64 {
 // computed once, each step needs no exponential per row:
 // expit(a + lp) = E·eᵃ/(1 + E·eᵃ). The log-likelihood is strictly concave
 // in a, so the steps are only bounded (to ±5 on the logit scale), not
-// halved. workers is as for rowSums.
-func interceptNewton(y, lp, w []float64, a float64, workers int) (float64, float64, error) {
-	e := make([]float64, len(lp))
+// halved. workers is as for rowSums; e, when not nil, is scratch of
+// len(lp) values for E.
+func interceptNewton(y, lp, w []float64, a float64, workers int, e []float64) (float64, float64, error) {
+	if e == nil {
+		e = make([]float64, len(lp))
+	}
 	for i, v := range lp {
 		e[i] = math.Exp(math.Max(-700, math.Min(700, v)))
 	}

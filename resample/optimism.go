@@ -272,6 +272,7 @@ type workspace struct {
 	x      []float64 // scratch for the calibration fits
 	sorter metrics.Sorter
 	smooth metrics.LowessWorkspace
+	calib  metrics.CalibrationWorkspace
 }
 
 func newWorkspace(pr Problem) *workspace {
@@ -364,7 +365,7 @@ func (ws *workspace) measures(pr Problem, lp []float64, order []int32, w []float
 	} else {
 		var err error
 		// Each bootstrap worker is one goroutine: the fit stays on it.
-		if m.CITL, m.Slope, err = metrics.CalibrationWeighted(pr.Y, lp, w, 1); err != nil {
+		if m.CITL, m.Slope, err = ws.calib.Weighted(pr.Y, lp, w, 1); err != nil {
 			return m, err
 		}
 	}
