@@ -1,13 +1,11 @@
 package metrics
 
 import (
-	"encoding/json"
 	"math"
 	"math/rand/v2"
-	"os"
 	"testing"
 
-	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/reftest"
 )
 
 // auditRef is testdata/reference/audit.json, written by
@@ -58,27 +56,10 @@ type refLowess struct {
 
 func loadAuditRef(t *testing.T) (auditRef, []float64, []float64) {
 	t.Helper()
-	b, err := os.ReadFile("../testdata/reference/audit.json")
-	if err != nil {
-		t.Fatal(err)
-	}
 	var r auditRef
-	if err := json.Unmarshal(b, &r); err != nil {
-		t.Fatal(err)
-	}
-	fr, err := cohort.Load("../testdata/reference/audit_predictions.csv",
-		[]cohort.Request{{Name: "diagnosis", Kind: cohort.Categorical}, {Name: "risk", Kind: cohort.Numeric}}, cohort.Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	d := fr.Column("diagnosis")
-	y := make([]float64, fr.Rows)
-	for i, c := range d.Codes {
-		if d.Levels[c] == "M" {
-			y[i] = 1
-		}
-	}
-	return r, y, fr.Column("risk").Num
+	reftest.JSON(t, "audit.json", &r)
+	y, cols := reftest.Predictions(t, "risk")
+	return r, y, cols["risk"]
 }
 
 func near(t *testing.T, what string, got, want, rel float64) {
