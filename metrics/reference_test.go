@@ -211,7 +211,24 @@ func quadraticDeLong(y, p []float64) (float64, float64) {
 			v01[j] += s / float64(len(xs))
 		}
 	}
-	return mean(v10), math.Sqrt(variance(v10)/float64(len(xs)) + variance(v01)/float64(len(zs)))
+	// S10 and S01 of DeLong et al. (1988), each a sample variance with
+	// divisor m − 1 (n − 1), written out here rather than taken from the
+	// package's own helpers, so that the check does not share their code.
+	avg := func(v []float64) float64 {
+		s := 0.0
+		for _, x := range v {
+			s += x
+		}
+		return s / float64(len(v))
+	}
+	s2 := func(v []float64) float64 {
+		m, s := avg(v), 0.0
+		for _, x := range v {
+			s += (x - m) * (x - m)
+		}
+		return s / float64(len(v)-1)
+	}
+	return avg(v10), math.Sqrt(s2(v10)/float64(len(xs)) + s2(v01)/float64(len(zs)))
 }
 
 func TestFastDeLongEqualsDefinition(t *testing.T) {
