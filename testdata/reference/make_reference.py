@@ -909,6 +909,25 @@ def reml_tau2(y, v):
     return t
 
 
+def paule_mandel_root(y, v):
+    """τ² of Paule & Mandel (1982): the root in τ² ≥ 0 of
+    Σ w_i (y_i − μ_w)² = k − 1 with w_i = 1/(v_i + τ²), 0 when the left
+    side is below k − 1 at τ² = 0 (it falls as τ² grows); by brentq."""
+    from scipy import optimize
+    k = len(y)
+
+    def ee(t):
+        w = 1 / (v + t)
+        mu = (w @ y) / w.sum()
+        return w @ (y - mu) ** 2 - (k - 1)
+    if ee(0.0) <= 0:
+        return 0.0
+    hi = 1.0
+    while ee(hi) > 0:
+        hi *= 2
+    return optimize.brentq(ee, 0.0, hi, xtol=1e-14, rtol=1e-15, maxiter=500)
+
+
 def write_meta_reference():
     """Random-effects meta-analysis (meta.json). τ² by DerSimonian-Laird
     and Paule-Mandel, Cochran's Q, I² and the Wald interval from
@@ -936,10 +955,19 @@ def write_meta_reference():
         k = len(y)
         row = {"name": name, "y": y.tolist(), "v": v.tolist(), "bounds": [lo if np.isfinite(lo) else None, hi if np.isfinite(hi) else None]}
         dl = combine_effects(y, v, method_re="dl")
-        pm = combine_effects(y, v, method_re="pm", atol=1e-10, maxiter=1000)
+        # statsmodels' Paule-Mandel iteration (DerSimonian & Kacker 2007)
+        # stops at 0 when a step overshoots the root by rounding alone, so
+        # a tight tolerance gives 0 or the root depending on the BLAS: its
+        # default tolerance is used, and the root of the estimating equation
+        # Q(τ²) = k − 1 is found again by scipy's brentq, to 1e-14, and
+        # stored; the two must agree.
+        pm = combine_effects(y, v, method_re="pm")
+        pm_tau2 = paule_mandel_root(y, v)
+        if abs(max(0.0, pm.tau2) - pm_tau2) > 1e-7 * max(1.0, pm_tau2):
+            raise SystemExit(f"meta {name} pm: statsmodels {pm.tau2!r}, brentq {pm_tau2!r}")
         row["q"] = r12(dl.q)
         row["i2"] = r12(max(0.0, dl.i2))
-        taus = {"dl": max(0.0, dl.tau2), "pm": pm.tau2, "reml": reml_tau2(y, v)}
+        taus = {"dl": max(0.0, dl.tau2), "pm": pm_tau2, "reml": reml_tau2(y, v)}
         for method, t in taus.items():
             w = 1 / (v + t)
             mu = (w @ y) / w.sum()
@@ -952,7 +980,8 @@ def write_meta_reference():
                 fe = res.tau2 <= 0
                 mu_sm = res.mean_effect_fe if fe else res.mean_effect_re
                 hk_sm = res.var_hksj_fe if fe else res.var_hksj_re
-                if abs(max(0.0, res.tau2) - t) > 0 or abs(mu_sm - mu) > 1e-12 or abs(hk_sm - hk ** 2) > 1e-12 * hk ** 2 + 1e-15:
+                tol = 0 if method == "dl" else 1e-7  # pm: statsmodels' tolerance, see above
+                if abs(max(0.0, res.tau2) - t) > tol * max(1.0, t) or abs(mu_sm - mu) > 1e-12 + tol or abs(hk_sm - hk ** 2) > (1e-12 + tol) * hk ** 2 + 1e-15:
                     raise SystemExit(f"meta {name} {method}: statsmodels disagrees")
             tq = stats.t.ppf(0.975, k - 1)
             z = stats.norm.ppf(0.975)
