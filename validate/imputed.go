@@ -507,3 +507,32 @@ func interpolate(c []CurvePoint, x float64) (obs, lower, upper float64) {
 	mix := func(u, v float64) float64 { return u + t*(v-u) }
 	return mix(a.Observed, b.Observed), mix(a.Lower, b.Lower), mix(a.Upper, b.Upper)
 }
+
+// ImputationFinding is the summary's finding on the imputations: how
+// many there were, how many patients had a predictor imputed, and the
+// largest fraction of missing information among the pooled measures.
+func ImputationFinding(im *Imputation) Finding {
+	text := fmt.Sprintf("The cohort came as %d completed datasets of %d patients each", im.M, im.Rows)
+	if im.PatientsImputed >= 0 {
+		text += fmt.Sprintf(", in which %d patients had at least one predictor imputed", im.PatientsImputed)
+	}
+	text += "; the AUC, O/E, calibration-in-the-large, slope and Brier score are pooled across them by Rubin's rules, the other measures averaged."
+	name, worst := "", -1.0
+	for _, x := range []struct {
+		name string
+		m    ImputedMeasure
+	}{{"AUC", im.Pooled.AUC}, {"O/E", im.Pooled.OE}, {"calibration-in-the-large", im.Pooled.CITL}, {"calibration slope", im.Pooled.Slope}, {"Brier score", im.Pooled.Brier}} {
+		if finite(x.m.FMI) && x.m.FMI > worst {
+			name, worst = x.name, x.m.FMI
+		}
+	}
+	if worst >= 0 {
+		text += fmt.Sprintf(" The largest fraction of missing information is %.2f (%s): ", worst, name)
+		if worst < 0.3 {
+			text += "the missing values add little uncertainty."
+		} else {
+			text += "the missing values add much uncertainty, and more imputations would steady the pooled figures."
+		}
+	}
+	return Finding{"imputation", text}
+}
