@@ -21,6 +21,8 @@ type auditOptions struct {
 	cfg audit.Config
 	// clusters are read into cfg.Clusters (clusterflags.go).
 	clusters clusterFlags
+	// imputed are read into cfg.Imputation (imputedflags.go).
+	imputed imputedFlags
 	data     dataFlags
 	// predicted, outcome, event and nonEvent make cfg.Predicted.
 	predicted, outcome, event, nonEvent string
@@ -160,6 +162,13 @@ const auditExample = `  # Audit a frozen model on a fresh extract
   # prediction intervals and the chance of acceptable performance in a new site
   riskaudit audit --model frozen.yaml --cohort new.csv --cluster site --out audit
 
+  # A multiply imputed cohort: 20 completed datasets stacked in one file,
+  # numbered in the column imp; every measure pooled by Rubin's rules
+  riskaudit audit --model frozen.yaml --cohort imputed.csv --imputation-column imp --out audit
+
+  # The same with the completed datasets in separate files
+  riskaudit audit --model frozen.yaml --imputed imp1.csv --imputed imp2.csv --imputed imp3.csv --out audit
+
   # The cohort from a PostgreSQL query, the period bound as parameters
   # (the connection from PGHOST, PGUSER, … and the password file)
   riskaudit audit --model frozen.yaml --cohort-query-file cohort.sql \
@@ -221,6 +230,7 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.Float64Var(&o.cfg.UpdateAlpha, "update-alpha", 0.05, "significance level of the closed testing procedure")
 	f.IntVar(&o.cfg.UpdateBootstrap, "update-bootstrap", 200, "bootstrap replicates for the updated model's expected performance (0: none)")
 	o.clusters.register(f)
+	o.imputed.register(f)
 	widthFlags(f, "sample-size check: ", &o.cfg.SampleSize.Targets)
 	o.overTimeFlags(f)
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
@@ -332,6 +342,9 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 		return cfg, err
 	}
 	if cfg.Clusters, err = o.clusters.config(); err != nil {
+		return cfg, err
+	}
+	if cfg.Imputation, err = o.imputed.config(); err != nil {
 		return cfg, err
 	}
 	if cfg.OverTime, err = o.overTime(); err != nil {
