@@ -130,3 +130,16 @@ func (r *renderer) imputedMethods() []string {
 		"with clusters, each measure pooled within each cluster across imputations first, then meta-analysed across clusters.",
 	}, " ")}
 }
+
+// imputedLine is the command line's summary line on the imputations, or
+// "" for a cohort that was not imputed.
+func imputedLine(im *validate.Imputation) string {
+	if im == nil {
+		return ""
+	}
+	s := fmt.Sprintf("imputed     %d completed datasets pooled by Rubin's rules", im.M)
+	if im.PatientsImputed >= 0 {
+		s += fmt.Sprintf("; %d of %d patients had a predictor imputed", im.PatientsImputed, im.Rows)
+	}
+	return s
+}
