@@ -23,7 +23,7 @@ type auditOptions struct {
 	clusters clusterFlags
 	// imputed are read into cfg.Imputation (imputedflags.go).
 	imputed imputedFlags
-	data     dataFlags
+	data    dataFlags
 	// predicted, outcome, event and nonEvent make cfg.Predicted.
 	predicted, outcome, event, nonEvent string
 	predictedPercent                    bool
