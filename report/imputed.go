@@ -32,7 +32,7 @@ func (r *renderer) imputed() {
 	r.p("The model scored every imputation, and every measure was taken in each. " +
 		"The AUC (on the logit scale), O/E (on the log scale), calibration-in-the-large, the calibration slope and the Brier score are pooled by Rubin's rules: " +
 		"the pooled value is their average across the imputations; its total variance is the average variance within an imputation plus the variance between the imputations, " +
-		"the latter inflated by 1 + 1/m; and the 95%% interval is a t interval on Barnard and Rubin's degrees of freedom. " +
+		"the latter inflated a little for the finite number of imputations; and the 95%% interval is a t interval on Barnard and Rubin's degrees of freedom. " +
 		"An interval is therefore wider, the more the imputations disagree. " +
 		"The fraction of missing information says what share of a measure's uncertainty the missing values cause. " +
 		"The figures at the top of this report are these pooled values. " +
@@ -126,7 +126,7 @@ func (r *renderer) imputedMethods() []string {
 	}
 	return []string{strings.Join([]string{
 		"Multiply imputed cohort: every measure in every imputation, pooled by Rubin's rules (Rubin 1987) on the scales of the pooling across clusters — logit AUC with DeLong's variance by the delta method, ln O/E with variance (1 − O/n)/O, calibration-in-the-large and slope with their fits' variances, the Brier score with the variance of the mean squared error — as Marshall et al. (2009) and Wood, Royston & White (2015) advise for measures of performance;",
-		"t intervals on the Barnard & Rubin (1999) degrees of freedom (complete-data df n − 1, n − 2 for the slope), fraction of missing information (ν + 1)/(ν + 3)·λ + 2/(ν + 3);",
+		"t intervals on the Barnard & Rubin (1999) degrees of freedom (the complete-data degrees of freedom: the patients less the measure's parameters), the fraction of missing information as van Buuren (2018) gives it;",
 		"with clusters, each measure pooled within each cluster across imputations first, then meta-analysed across clusters.",
 	}, " ")}
 }
