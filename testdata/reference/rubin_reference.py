@@ -96,9 +96,16 @@ def write_rubin_reference(r12):
         for k, v in want.items():
             row[k] = None if (not isinstance(v, list) and math.isinf(v)) else r12(v)
         out.append(row)
+    # The Brier score's variance as a mean of squared errors: the sample
+    # variance (ddof=1) of (p - y)^2 over n, by numpy, on invented rows.
+    rng = np.random.default_rng(20261203)
+    p = rng.uniform(0.02, 0.6, 40)
+    y = (rng.uniform(size=40) < p).astype(float)
+    d = (p - y) ** 2
+    brier = {"y": y.tolist(), "p": r12(p), "brier": r12(d.mean()), "variance": r12(np.var(d, ddof=1) / len(d))}
     ref = {"_source": "testdata/reference/rubin_reference.py (numpy and scipy.stats transcription of Rubin 1987 and "
-                      "Barnard & Rubin 1999; T and lambda checked against statsmodels MICE.combine)",
-           "datasets": out}
+                      "Barnard & Rubin 1999; T and lambda checked against statsmodels MICE.combine; numpy var for the Brier variance)",
+           "datasets": out, "brier_variance": brier}
     with open(os.path.join(HERE, "rubin.json"), "w") as f:
         json.dump(ref, f, indent=1, sort_keys=True)
         f.write("\n")
