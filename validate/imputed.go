@@ -529,9 +529,18 @@ func ImputationFinding(im *Imputation) Finding {
 	if worst >= 0 {
 		text += fmt.Sprintf(" The largest fraction of missing information is %.2f (%s): ", worst, name)
 		if worst < 0.3 {
-			text += "the missing values add little uncertainty."
+			text += "the missing values add little uncertainty"
 		} else {
-			text += "the missing values add much uncertainty, and more imputations would steady the pooled figures."
+			text += "the missing values add much uncertainty"
+		}
+		// White, Royston & Wood (2011, Statistics in Medicine 30:377–399,
+		// section 7): at least 100 × FMI imputations.
+		need := int(math.Ceil(100 * worst))
+		switch {
+		case im.M >= need:
+			text += fmt.Sprintf("; White, Royston & Wood (2011) suggest at least %d imputations for it, and there are %d.", need, im.M)
+		default:
+			text += fmt.Sprintf("; White, Royston & Wood (2011) suggest at least %d imputations for it, and there are only %d: more would steady the pooled figures.", need, im.M)
 		}
 	}
 	return Finding{"imputation", text}

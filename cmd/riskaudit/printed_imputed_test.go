@@ -1,8 +1,11 @@
 package main
 
 import (
+	"bytes"
+	"context"
 	"fmt"
 	"math"
+	"path/filepath"
 	"strings"
 	"testing"
 
@@ -118,6 +121,13 @@ func imputedProseRules() []proseRule {
 			}
 			return out
 		}, has("imputation.m")),
+		rule("imputations needed", `suggest at least # imputations for it, and there are (?:only )?#`, func(js jsonDoc, _ map[string]string) []float64 {
+			best := math.Inf(-1)
+			for _, k := range imputedMeasureKeys {
+				best = math.Max(best, js.num("imputation.pooled."+k+".fmi"))
+			}
+			return one(math.Ceil(100*best), js.num("imputation.m"))
+		}, has("imputation.pooled.auc.fmi")),
 		rule("imputation FMI", `The largest fraction of missing information is # \((?P<m>[^)]+)\)`, func(js jsonDoc, g map[string]string) []float64 {
 			keys := map[string]string{"AUC": "auc", "O/E": "oe", "calibration-in-the-large": "citl", "calibration slope": "slope", "Brier score": "brier"}
 			best := math.Inf(-1)
@@ -194,4 +204,25 @@ func plantImputed(t *testing.T, run printedRun) {
 			t.Error("the complete cases off by one in the prose and the check found nothing")
 		}
 	})
+}
+
+// imputedClusterRun audits the demo's imputed extract across five sites
+// (withSiteAndDate: a patient's site is the same in every imputation,
+// since each imputation has 3000 rows), pooling within each site across
+// the imputations and then across sites.
+func imputedClusterRun(t *testing.T, dir, demo string) printedRun {
+	t.Helper()
+	stacked := withSiteAndDate(t, filepath.Join(demo, imputedDemoFile), filepath.Join(dir, "imputed_sites.csv"), 7)
+	out := filepath.Join(dir, "imputed_sites")
+	var stdout, stderr bytes.Buffer
+	args := []string{"audit", "--model", filepath.Join(demo, "frozen.yaml"), "--cohort", stacked, "--imputation-column", "imputation",
+		"--cluster", "site", "--out", out}
+	if code := run(context.Background(), args, &streams{out: &stdout, err: &stderr}); code != exitOK && code != exitCriterion {
+		t.Fatalf("riskaudit audit (imputed, across sites): exit status %d: %s", code, stderr.String())
+	}
+	r := readRun(t, "imputed across sites", out, stdout.String())
+	if r.js.len("clusters.per_cluster") != 5 || r.js.num("imputation.m") != 10 {
+		t.Fatalf("imputed across sites: %d clusters, %g imputations", r.js.len("clusters.per_cluster"), r.js.num("imputation.m"))
+	}
+	return r
 }

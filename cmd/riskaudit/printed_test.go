@@ -919,6 +919,7 @@ func TestPrintedNumbersMatchJSON(t *testing.T) {
 		readRun(t, "demo", filepath.Join(demo, "audit"), demoOut.String()),
 		readRun(t, "every analysis", filepath.Join(dir, "full"), fullOut.String()),
 		readRun(t, "imputed demo", filepath.Join(demo, imputedDemoAudit), imputedDemoStdout(t, demoOut.String())),
+		imputedClusterRun(t, dir, demo),
 	}
 	for _, p := range checkWrote(fullOut.String(), fullErr.String(), runs[1].js) {
 		t.Errorf("every analysis: %s", p)
