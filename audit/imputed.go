@@ -29,7 +29,7 @@ type ImputationConfig struct {
 // given reports whether the audit is of imputed data.
 func (c ImputationConfig) given() bool { return c.Column != "" || len(c.Files) > 0 }
 
-// prepare refuses what an imputed audit cannot do and, for Files, makes
+// prepareImputation refuses what an imputed audit cannot do and, for Files, makes
 // the first file the Config's Cohort. It runs before Config.check.
 func (c *Config) prepareImputation() error {
 	im := c.Imputation
