@@ -9,6 +9,7 @@ import (
 
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/model"
+	"github.com/riskaudit/riskaudit/plots"
 	"github.com/riskaudit/riskaudit/validate"
 )
 
@@ -320,5 +321,25 @@ func (r *run) addImputation(a *validate.Audit) {
 			break
 		}
 		a.Provenance.Inputs = append(a.Provenance.Inputs, validate.InputFile{Role: "imputation " + r.imp.labels[j+1], Path: sc.file, Sheet: sc.sheet, SHA256: sc.hash, Query: sc.query})
+	}
+}
+
+// relabelImputed says in the captions of an imputed audit's figures
+// what each shows: averages across the imputations, or the first
+// imputation (validate.FromFirstImputation).
+func relabelImputed(a *validate.Audit, figs []plots.Figure) {
+	if a.Imputation == nil {
+		return
+	}
+	add := map[string]string{
+		"calibration.svg":    "the curve the average of the imputations' smooths, the risk groups and the distribution the first imputation's",
+		"roc.svg":            "the first imputation",
+		"decision_curve.svg": "the model's net benefit averaged across the imputations",
+		"risk_histogram.svg": "the first imputation",
+	}
+	for i, f := range figs {
+		if s, ok := add[f.Name]; ok {
+			figs[i].Title = f.Title + " (" + s + ")"
+		}
 	}
 }

@@ -405,6 +405,7 @@ func figures(a *validate.Audit, perf *validate.Performance) ([]plots.Figure, err
 		}
 		figs = append(figs, cf...)
 	}
+	relabelImputed(a, figs)
 	for _, f := range figs {
 		a.Figures = append(a.Figures, validate.FigureFiles{Title: f.Title, SVG: f.Name, PNG: f.PNGName()})
 	}
