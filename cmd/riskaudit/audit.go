@@ -117,6 +117,16 @@ on those measures are checked in every subgroup with at least
 --min-subgroup-events events and non-events (smaller ones are listed as
 not judged) and count in the verdict as --subgroup-criteria says.
 
+Multiply imputed data: --imputation-column COLUMN reads --cohort as m
+completed datasets stacked in one file and numbered in COLUMN, and
+--imputed FILE (given once per imputation, instead of --cohort) reads
+them from m files; the same patients in the same order in each. Every
+imputation is scored and measured, and AUC (logit scale), O/E (log
+scale), calibration-in-the-large, slope and Brier score are pooled by
+Rubin's rules with Barnard–Rubin degrees of freedom; ICI, E50, E90, Emax,
+net benefit and the calibration curve are averaged. With --cluster, each
+measure is pooled within each cluster first, then across clusters.
+
 Outputs are written to temporary files and renamed into place only when
 everything has succeeded.`
 
