@@ -25,6 +25,9 @@ type ImputationConfig struct {
 	// Files are the completed datasets given one per input, instead of
 	// Cohort.
 	Files []Input
+	// stacked is set while the stacked cohort is read: only it has the
+	// imputation column (not the development data).
+	stacked bool
 }
 
 // given reports whether the audit is of imputed data.
@@ -67,7 +70,7 @@ func (c *Config) prepareImputation() error {
 // columns read, refusing a column the model reads.
 func (c *Config) imputationRequest(reqs []cohort.Request) ([]cohort.Request, error) {
 	col := c.Imputation.Column
-	if col == "" {
+	if col == "" || !c.Imputation.stacked {
 		return reqs, nil
 	}
 	for _, q := range reqs {
@@ -97,6 +100,7 @@ func (r *run) imputed(ctx context.Context) error {
 	ir := &imputedRun{}
 	strict := *c
 	strict.FailOnMissing = true
+	strict.Imputation.stacked = true
 	if c.Imputation.Column != "" {
 		r.prog.Step("reading and scoring " + c.Cohort.Path)
 		sc, err := strict.completed(ctx, r.spec, c.Cohort)
