@@ -50,13 +50,21 @@ func (c ClusterConfig) check() error {
 	return nil
 }
 
+// clusterOptions are the cluster analysis's options from the Config.
+func clusterOptions(cfg *Config) validate.ClusterOptions {
+	c := cfg.Clusters
+	return validate.ClusterOptions{Column: c.Column, MinEvents: c.MinEvents, Bounds: c.Bounds, Epsilon: cfg.Measures.Epsilon,
+		Meta: meta.Options{Tau2: meta.Tau2Method(c.Tau2Method), CI: meta.CIMethod(c.CIMethod)}}
+}
+
 // clusters measures the model in every cluster and pools the measures.
 func (r *run) clusters(a *validate.Audit) error {
+	if r.imp != nil {
+		return r.imputedClusters(a)
+	}
 	c := r.cfg.Clusters
 	r.prog.Step("measuring and pooling across " + c.Column)
-	opt := validate.ClusterOptions{Column: c.Column, MinEvents: c.MinEvents, Bounds: c.Bounds, Epsilon: r.cfg.Measures.Epsilon,
-		Meta: meta.Options{Tau2: meta.Tau2Method(c.Tau2Method), CI: meta.CIMethod(c.CIMethod)}}
-	cl, err := validate.MeasureClusters(r.cur.y, r.cur.p, r.cur.lp, *r.cur.cluster, opt)
+	cl, err := validate.MeasureClusters(r.cur.y, r.cur.p, r.cur.lp, *r.cur.cluster, clusterOptions(r.cfg))
 	if err != nil {
 		return err
 	}

@@ -143,6 +143,9 @@ type Config struct {
 	// Clusters asks for the validation across clusters (audit/clusters.go).
 	Clusters ClusterConfig
 
+	// Imputation audits a multiply imputed cohort (audit/imputed.go).
+	Imputation ImputationConfig
+
 	// Update, when set, updates the model on the cohort by closed testing
 	// at level UpdateAlpha (0: 0.05) and offers the chosen model at this
 	// path; its expected performance comes from UpdateBootstrap

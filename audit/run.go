@@ -58,6 +58,9 @@ const LargeCohort = 2_000_000
 // cannot be fitted. A cancelled ctx stops the run, within one bootstrap
 // replicate or one chunk of a file, and returns context.Cause(ctx).
 func Run(ctx context.Context, cfg Config) (*Result, error) {
+	if err := cfg.prepareImputation(); err != nil {
+		return nil, err
+	}
 	if err := cfg.check(); err != nil {
 		return nil, err
 	}
@@ -95,6 +98,8 @@ type run struct {
 	// monitor holds the charts over time for the figures (nil without a
 	// date column).
 	monitor *monitor.Result
+	// imp holds the completed datasets of an imputed cohort (imputed.go).
+	imp *imputedRun
 }
 
 // FittedModelName is the file in an audit folder that holds the frozen
@@ -142,7 +147,11 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 		}
 	}
 	r.cur, r.perf = r.dev, r.devPerf
-	if c.Cohort.given() {
+	if c.Imputation.given() {
+		if err := r.imputed(ctx); err != nil {
+			return nil, err
+		}
+	} else if c.Cohort.given() {
 		var err error
 		r.prog.Step("reading and scoring " + c.Cohort.Path)
 		if r.cur, err = c.score(ctx, r.spec, c.Cohort); err != nil {
@@ -155,6 +164,7 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 		}
 	}
 	a := r.newAudit(internal)
+	r.addImputation(a)
 	if err := r.analyses(ctx, a); err != nil {
 		return nil, err
 	}
@@ -302,7 +312,7 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 		return &ConfigError{Msg: err.Error()}
 	}
 	a.SampleSize = sampleSizeOf(r.cur, r.perf, c.Measures.ClassifyAt, c.sizeRequest())
-	if c.hasModel() && c.Dev.given() && c.Cohort.given() {
+	if c.hasModel() && c.Dev.given() && c.Cohort.given() && r.imp == nil {
 		r.prog.Step("comparing case-mix")
 		if a.CaseMix, err = c.caseMix(r.spec, r.dev, r.cur, r.devPerf, r.perf); err != nil {
 			return err
@@ -395,6 +405,7 @@ func figures(a *validate.Audit, perf *validate.Performance) ([]plots.Figure, err
 		}
 		figs = append(figs, cf...)
 	}
+	relabelImputed(a, figs)
 	for _, f := range figs {
 		a.Figures = append(a.Figures, validate.FigureFiles{Title: f.Title, SVG: f.Name, PNG: f.PNGName()})
 	}

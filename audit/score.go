@@ -76,6 +76,10 @@ func (c *Config) requests(spec *model.Spec) ([]cohort.Request, error) {
 		}
 		reqs = append(reqs, cohort.Request{Name: b.Column, Kind: cohort.Numeric, For: "a banded subgroup column"})
 	}
+	reqs, err := c.imputationRequest(reqs)
+	if err != nil {
+		return nil, err
+	}
 	return c.OverTime.request(reqs)
 }
 
@@ -151,7 +155,7 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input) (*scored
 		return nil, err
 	}
 	sc := &scored{y: m.Y, file: in.Path, hash: hash, terms: m.Terms, renamed: fr.Renamed, sheet: fr.Sheet, query: fr.Query}
-	if c.Update != "" || c.Dev.given() {
+	if c.Update != "" || c.Dev.given() || c.Imputation.given() {
 		sc.frame = fr // the case-mix comparison or the update reads it again
 	}
 	for _, g := range c.Subgroups {

@@ -83,6 +83,9 @@ func CheckWrite(dir string, cfg *Config, opt WriteOptions) error {
 		}
 	}
 	inputs := append([]string{cfg.Model, cfg.Cohort.Path, cfg.Dev.Path, opt.History}, opt.Inputs...)
+	for _, in := range cfg.Imputation.Files {
+		inputs = append(inputs, in.Path)
+	}
 	if _, _, err := layoutOutputs(dir, files, extras, inputs, "audit"); err != nil {
 		return asConfigError(err)
 	}

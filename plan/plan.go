@@ -133,6 +133,8 @@ type Plan struct {
 	// validation across clusters (plan/clusters.go).
 	Cluster  string
 	Clusters Clusters
+	// Imputation is a multiply imputed cohort (plan/imputation.go).
+	Imputation Imputation
 	// DateColumn charts the cohort in date order (audit --date-column);
 	// Periods is "month", "quarter" or a number of patients a block.
 	DateColumn, Periods string
@@ -203,7 +205,7 @@ var topKeys = []string{"name", "model", "predicted", "predicted_percent", "outco
 	"audit_date", "rename", "subgroups", "min_subgroup_events", "subgroup_criteria", "criteria", "bootstrap", "ci_bootstrap",
 	"thresholds", "classify_at", "net_benefit_min_gain", "data", "sample_size", "purpose",
 	"db", "cohort_query", "cohort_query_file", "dev_query", "dev_query_file", "params",
-	"cluster", "clusters", "date_column", "periods"}
+	"cluster", "clusters", "date_column", "periods", "imputation_column", "imputed"}
 
 // Load reads the plan at path.
 func Load(path string) (*Plan, error) {
@@ -526,6 +528,8 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 		pl.Cluster, err = p.str(v, key)
 	case "clusters":
 		err = p.clusters(&pl.Clusters, v, pl.Set)
+	case "imputation_column", "imputed":
+		err = p.imputation(&pl.Imputation, key, v)
 	case "db", "cohort_query", "cohort_query_file", "dev_query", "dev_query_file", "params":
 		err = p.query(pl, key, v)
 	case "criteria":

@@ -50,6 +50,7 @@ func Write(w io.Writer, a *validate.Audit, figures []plots.Figure) error {
 	r.verdict()
 	r.summary()
 	r.cohort()
+	r.imputed()
 	r.discrimination()
 	r.calibration()
 	r.overall()
@@ -707,6 +708,7 @@ func (r *renderer) methods() {
 		items = append(items, "Subgroups: the measures above within each level of the named columns (numeric columns in half-open bands [lower, upper)), with their intervals; the criteria on AUC, O/E, calibration-in-the-large and slope checked in each subgroup large enough to judge.")
 	}
 	items = append(items, r.overTimeMethods()...)
+	items = append(items, r.imputedMethods()...)
 	for _, it := range items {
 		r.p("- %s\n", it)
 	}

@@ -52,6 +52,9 @@ func WriteSummary(w io.Writer, a *validate.Audit, dir string, nfig int) error {
 	for _, l := range overTimeLines(a.OverTime) {
 		p("  %s\n", l)
 	}
+	if l := imputedLine(a.Imputation); l != "" {
+		p("  %s\n", l)
+	}
 	if co := a.Cohort; co.Excluded > 0 && co.Rows > 0 {
 		p("  missing     %d of %d rows (%.1f%%) left out: complete cases only\n", co.Excluded, co.Rows, 100*float64(co.Excluded)/float64(co.Rows))
 	}

@@ -303,6 +303,9 @@ type Audit struct {
 	SubgroupBands []BandInfo `json:"subgroup_bands,omitempty"`
 	// Clusters is the validation across clusters when asked.
 	Clusters *Clusters `json:"clusters,omitempty"`
+	// Imputation is the pooling across multiply imputed datasets, when
+	// the cohort came as such (imputed.go).
+	Imputation *Imputation `json:"imputation,omitempty"`
 	// BootstrapCI holds percentile intervals on the cohort when asked.
 	BootstrapCI *PercentileCIs `json:"bootstrap_ci,omitempty"`
 	// OverTime is the cohort charted in date order (audit --date-column).

@@ -154,6 +154,28 @@ type Clusters struct {
 // positive variance; otherwise the measure is shown with the reason it
 // was left out.
 func MeasureClusters(y, p, lp []float64, col GroupColumn, opt ClusterOptions) (*Clusters, error) {
+	opt, err := opt.withDefaults()
+	if err != nil {
+		return nil, err
+	}
+	if lp == nil {
+		lp, _ = metrics.ClampedLogits(p, opt.Epsilon)
+	} else {
+		lp, _ = clampLogits(lp, opt.Epsilon)
+	}
+	cl := opt.newClusters()
+	rows := clusterRows(col, cl)
+	for k, level := range col.Levels {
+		if len(rows[k]) == 0 {
+			continue
+		}
+		cl.PerCluster = append(cl.PerCluster, measureCluster(level, rows[k], y, p, lp, opt.MinEvents))
+	}
+	return cl, poolClusters(cl, opt)
+}
+
+// withDefaults fills in the defaults and checks the bounds.
+func (opt ClusterOptions) withDefaults() (ClusterOptions, error) {
 	if opt.MinEvents <= 0 {
 		opt.MinEvents = DefaultMinClusterEvents
 	}
@@ -161,7 +183,7 @@ func MeasureClusters(y, p, lp []float64, col GroupColumn, opt ClusterOptions) (*
 		opt.Bounds = DefaultAcceptBounds()
 	}
 	if err := opt.Bounds.Check(); err != nil {
-		return nil, err
+		return opt, err
 	}
 	if opt.Epsilon == 0 {
 		opt.Epsilon = DefaultEpsilon
@@ -172,12 +194,16 @@ func MeasureClusters(y, p, lp []float64, col GroupColumn, opt ClusterOptions) (*
 	if opt.Meta.CI == "" {
 		opt.Meta.CI = meta.HKSJ
 	}
-	if lp == nil {
-		lp, _ = metrics.ClampedLogits(p, opt.Epsilon)
-	} else {
-		lp, _ = clampLogits(lp, opt.Epsilon)
-	}
-	cl := &Clusters{Column: opt.Column, Tau2Method: opt.Meta.Tau2, CIMethod: opt.Meta.CI, MinEvents: opt.MinEvents, Bounds: opt.Bounds}
+	return opt, nil
+}
+
+func (opt ClusterOptions) newClusters() *Clusters {
+	return &Clusters{Column: opt.Column, Tau2Method: opt.Meta.Tau2, CIMethod: opt.Meta.CI, MinEvents: opt.MinEvents, Bounds: opt.Bounds}
+}
+
+// clusterRows lists the rows of every level, counting those without one
+// in cl.MissingCluster.
+func clusterRows(col GroupColumn, cl *Clusters) [][]int {
 	rows := make([][]int, len(col.Levels))
 	for i, c := range col.Codes {
 		if c < 0 {
@@ -186,16 +212,18 @@ func MeasureClusters(y, p, lp []float64, col GroupColumn, opt ClusterOptions) (*
 		}
 		rows[c] = append(rows[c], i)
 	}
+	return rows
+}
+
+// poolClusters pools each measure of cl.PerCluster across the clusters
+// that were not excluded from it.
+func poolClusters(cl *Clusters, opt ClusterOptions) error {
 	type scaled struct{ y, v []float64 }
 	var auc, oe, citl, slope scaled
 	add := func(s *scaled, est, se float64) {
 		s.y, s.v = append(s.y, est), append(s.v, se*se)
 	}
-	for k, level := range col.Levels {
-		if len(rows[k]) == 0 {
-			continue
-		}
-		m := measureCluster(level, rows[k], y, p, lp, opt.MinEvents)
+	for _, m := range cl.PerCluster {
 		if !excluded(m, "auc") {
 			add(&auc, logistic.Logit(m.AUC), m.AUCSE/(m.AUC*(1-m.AUC)))
 		}
@@ -208,23 +236,22 @@ func MeasureClusters(y, p, lp []float64, col GroupColumn, opt ClusterOptions) (*
 		if !excluded(m, "slope") {
 			add(&slope, m.Slope, m.SlopeSE)
 		}
-		cl.PerCluster = append(cl.PerCluster, m)
 	}
 	b := opt.Bounds
 	var err error
 	if cl.Pooled.AUC, err = pool(auc.y, auc.v, opt.Meta, "logit", logistic.Expit, logistic.Logit(b.AUCMin), math.Inf(1), fmt.Sprintf("C > %g", b.AUCMin)); err != nil {
-		return nil, fmt.Errorf("pooling the AUC: %w", err)
+		return fmt.Errorf("pooling the AUC: %w", err)
 	}
 	if cl.Pooled.OE, err = pool(oe.y, oe.v, opt.Meta, "log", math.Exp, math.Log(b.OELow), math.Log(b.OEHigh), fmt.Sprintf("%g ≤ O/E ≤ %g", b.OELow, b.OEHigh)); err != nil {
-		return nil, fmt.Errorf("pooling O/E: %w", err)
+		return fmt.Errorf("pooling O/E: %w", err)
 	}
 	if cl.Pooled.CITL, err = pool(citl.y, citl.v, opt.Meta, "identity", nil, 0, 0, ""); err != nil {
-		return nil, fmt.Errorf("pooling calibration-in-the-large: %w", err)
+		return fmt.Errorf("pooling calibration-in-the-large: %w", err)
 	}
 	if cl.Pooled.Slope, err = pool(slope.y, slope.v, opt.Meta, "identity", nil, b.SlopeLow, b.SlopeHigh, fmt.Sprintf("%g ≤ slope ≤ %g", b.SlopeLow, b.SlopeHigh)); err != nil {
-		return nil, fmt.Errorf("pooling the calibration slope: %w", err)
+		return fmt.Errorf("pooling the calibration slope: %w", err)
 	}
-	return cl, nil
+	return nil
 }
 
 func excluded(m ClusterMeasures, measure string) bool {

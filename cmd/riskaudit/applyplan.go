@@ -58,6 +58,8 @@ func applyPlan(cmd *cobra.Command, o *auditOptions) error {
 		{"accept-auc", "clusters.accept_auc", func() { o.clusters.acceptAUC = pl.Clusters.AcceptAUC }},
 		{"accept-slope", "clusters.accept_slope", func() { o.clusters.acceptSlope = pl.Clusters.AcceptSlope }},
 		{"accept-oe", "clusters.accept_oe", func() { o.clusters.acceptOE = pl.Clusters.AcceptOE }},
+		{"imputation-column", "imputation_column", func() { o.imputed.column = pl.Imputation.Column }},
+		{"imputed", "imputed", func() { o.imputed.files = pl.Imputation.Files }},
 		{"bootstrap", "bootstrap.replicates", func() { c.Bootstrap = pl.Bootstrap }},
 		{"seed", "bootstrap.seed", func() { c.Seed = pl.Seed }},
 		{"ci-bootstrap", "ci_bootstrap", func() { c.CIBootstrap = pl.CIBootstrap }},

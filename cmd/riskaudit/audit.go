@@ -21,7 +21,9 @@ type auditOptions struct {
 	cfg audit.Config
 	// clusters are read into cfg.Clusters (clusterflags.go).
 	clusters clusterFlags
-	data     dataFlags
+	// imputed are read into cfg.Imputation (imputedflags.go).
+	imputed imputedFlags
+	data    dataFlags
 	// predicted, outcome, event and nonEvent make cfg.Predicted.
 	predicted, outcome, event, nonEvent string
 	predictedPercent                    bool
@@ -115,6 +117,16 @@ on those measures are checked in every subgroup with at least
 --min-subgroup-events events and non-events (smaller ones are listed as
 not judged) and count in the verdict as --subgroup-criteria says.
 
+Multiply imputed data: --imputation-column COLUMN reads --cohort as m
+completed datasets stacked in one file and numbered in COLUMN, and
+--imputed FILE (given once per imputation, instead of --cohort) reads
+them from m files; the same patients in the same order in each. Every
+imputation is scored and measured, and AUC (logit scale), O/E (log
+scale), calibration-in-the-large, slope and Brier score are pooled by
+Rubin's rules with Barnard–Rubin degrees of freedom; ICI, E50, E90, Emax,
+net benefit and the calibration curve are averaged. With --cluster, each
+measure is pooled within each cluster first, then across clusters.
+
 Outputs are written to temporary files and renamed into place only when
 everything has succeeded.`
 
@@ -159,6 +171,13 @@ const auditExample = `  # Audit a frozen model on a fresh extract
   # Across hospitals: measures per site, pooled by REML with HKSJ intervals,
   # prediction intervals and the chance of acceptable performance in a new site
   riskaudit audit --model frozen.yaml --cohort new.csv --cluster site --out audit
+
+  # A multiply imputed cohort: 20 completed datasets stacked in one file,
+  # numbered in the column imp; every measure pooled by Rubin's rules
+  riskaudit audit --model frozen.yaml --cohort imputed.csv --imputation-column imp --out audit
+
+  # The same with the completed datasets in separate files
+  riskaudit audit --model frozen.yaml --imputed imp1.csv --imputed imp2.csv --imputed imp3.csv --out audit
 
   # The cohort from a PostgreSQL query, the period bound as parameters
   # (the connection from PGHOST, PGUSER, … and the password file)
@@ -221,6 +240,7 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.Float64Var(&o.cfg.UpdateAlpha, "update-alpha", 0.05, "significance level of the closed testing procedure")
 	f.IntVar(&o.cfg.UpdateBootstrap, "update-bootstrap", 200, "bootstrap replicates for the updated model's expected performance (0: none)")
 	o.clusters.register(f)
+	o.imputed.register(f)
 	widthFlags(f, "sample-size check: ", &o.cfg.SampleSize.Targets)
 	o.overTimeFlags(f)
 	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
@@ -332,6 +352,9 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 		return cfg, err
 	}
 	if cfg.Clusters, err = o.clusters.config(); err != nil {
+		return cfg, err
+	}
+	if cfg.Imputation, err = o.imputed.config(); err != nil {
 		return cfg, err
 	}
 	if cfg.OverTime, err = o.overTime(); err != nil {

@@ -72,7 +72,15 @@ func TestJSONKeysDocumented(t *testing.T) {
 	if err := os.WriteFile(dated, []byte(b.String()), 0o644); err != nil {
 		t.Fatal(err)
 	}
+	// The demo's multiply imputed extract, with a site column for the
+	// pooling within clusters, and its first three imputations as files.
+	imputed := withSiteAndDate(t, filepath.Join(demo, imputedDemoFile), filepath.Join(dir, "imputed.csv"), 7)
+	files := splitImputations(t, imputed, dir, 3)
 	for _, args := range [][]string{
+		{"audit", "--model", filepath.Join(demo, "frozen.yaml"), "--cohort", imputed, "--imputation-column", "imputation",
+			"--cluster", "site", "--out", filepath.Join(dir, "imputed"), "-q"},
+		{"audit", "--model", filepath.Join(demo, "frozen.yaml"), "--imputed", files[0], "--imputed", files[1], "--imputed", files[2],
+			"--out", filepath.Join(dir, "imputed_files"), "-q"},
 		{"audit", "--predicted", "risk", "--outcome", "event", "--event", "1", "--cohort", dated, "--date-column", "day",
 			"--period", "300", "--cusum-arl", "200", "--out", filepath.Join(dir, "dated"), "-q"},
 		{"audit", "--plan", planFile, "--rename", "bmi_value=bmi", "-q"},
@@ -98,7 +106,8 @@ func TestJSONKeysDocumented(t *testing.T) {
 	}
 	paths := map[string]bool{}
 	for _, f := range []string{filepath.Join(dir, "dated", "audit.json"), filepath.Join(dir, "audit", "audit.json"), filepath.Join(dir, "planned", "audit.json"), filepath.Join(dir, "fit.json"), filepath.Join(dir, "cmp", "compare.json"), filepath.Join(dir, "size.json"),
-		filepath.Join(dir, "audit2", "audit.json"), filepath.Join(dir, "trend", "trend.json"), filepath.Join(dir, "clusters", "audit.json")} {
+		filepath.Join(dir, "audit2", "audit.json"), filepath.Join(dir, "trend", "trend.json"), filepath.Join(dir, "clusters", "audit.json"),
+		filepath.Join(dir, "imputed", "audit.json"), filepath.Join(dir, "imputed_files", "audit.json")} {
 		raw, err := os.ReadFile(f)
 		if err != nil {
 			t.Fatal(err)
@@ -125,7 +134,8 @@ func TestJSONKeysDocumented(t *testing.T) {
 	sort.Strings(missing)
 	for _, p := range []string{"nested.lr_chi2", "delong.difference_se", "update.chosen", "internal.shrinkage_factor", "bootstrap_ci.ici", "criteria[].formula",
 		"provenance.plan.sha256", "provenance.renames[].applied_to", "model.purpose.replaced_from_model.setting", "model.fitted_model.sha256", "calibration.b.ici_ci",
-		"model.parent_sha256", "models[].parent_series", "over_time.cusum[].first_signal.patient", "over_time.periods[].auc_ci", "model_changes[].series_before", "audits[].criteria[].between"} {
+		"model.parent_sha256", "models[].parent_series", "over_time.cusum[].first_signal.patient", "over_time.periods[].auc_ci", "model_changes[].series_before", "audits[].criteria[].between",
+		"imputation.pooled.brier.fmi", "imputation.pooled.auc.df", "imputation.files", "imputation.complete_case.oe", "imputation.averaged.net_benefit[].model"} {
 		if !paths[p] {
 			t.Errorf("%s not written: an analysis did not run", p)
 		}
@@ -165,4 +175,40 @@ func jsonPaths(v any, prefix string, out map[string]bool) {
 	default:
 		out[prefix] = true
 	}
+}
+
+// splitImputations writes the first k imputations of a stacked file (its
+// first column the imputation number) as files of their own, without
+// that column, and returns their paths.
+func splitImputations(t *testing.T, stacked, dir string, k int) []string {
+	t.Helper()
+	raw, err := os.ReadFile(stacked)
+	if err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(strings.TrimRight(string(raw), "\n"), "\n")
+	_, header, _ := strings.Cut(lines[0], ",")
+	parts := make([]strings.Builder, k)
+	for j := range parts {
+		parts[j].WriteString(header + "\n")
+	}
+	for _, l := range lines[1:] {
+		num, rest, _ := strings.Cut(l, ",")
+		var j int
+		if _, err := fmt.Sscan(num, &j); err != nil {
+			t.Fatalf("%s: imputation number %q", stacked, num)
+		}
+		if j >= 1 && j <= k {
+			parts[j-1].WriteString(rest + "\n")
+		}
+	}
+	var out []string
+	for j := range parts {
+		p := filepath.Join(dir, fmt.Sprintf("imputation%d.csv", j+1))
+		if err := os.WriteFile(p, []byte(parts[j].String()), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		out = append(out, p)
+	}
+	return out
 }

@@ -264,6 +264,10 @@ func tableRules() map[string]rowRule {
 		"Across *|measure":                                         pooledRow,
 		"Calibration by *|period":                                  periodRow,
 		"Risk-adjusted CUSUM charts|chart":                         cusumRow,
+		imputedSectionKey + "|pooled measure":                      imputedPooledRow,
+		imputedSectionKey + "|averaged measure":                    imputedAveragedRow,
+		imputedSectionKey + "|imputation":                          imputedPerRow,
+		imputedSectionKey + "|compared measure":                    imputedCompareRow,
 	}
 }
 
@@ -844,6 +848,8 @@ func checkSummary(out string, js jsonDoc) []string {
 			c.cell(where, rest, js.num("sample_size.required_n"), js.num("sample_size.have_n"))
 		case "over":
 			c.overTimeLine(where, rest)
+		case "imputed":
+			c.imputedLine(where, rest)
 		case "missing":
 			rows := js.num("cohort.rows")
 			c.cell(where, rest, js.num("cohort.excluded"), rows, js.num("cohort.excluded")/rows)
@@ -915,12 +921,17 @@ func TestPrintedNumbersMatchJSON(t *testing.T) {
 	runs := []printedRun{
 		readRun(t, "demo", filepath.Join(demo, "audit"), demoOut.String()),
 		readRun(t, "every analysis", filepath.Join(dir, "full"), fullOut.String()),
+		readRun(t, "imputed demo", filepath.Join(demo, imputedDemoAudit), imputedDemoStdout(t, demoOut.String())),
+		imputedClusterRun(t, dir, demo),
 	}
 	for _, p := range checkWrote(fullOut.String(), fullErr.String(), runs[1].js) {
 		t.Errorf("every analysis: %s", p)
 	}
-	for _, p := range checkWrote(demoOut.String(), "", runs[0].js) {
+	for _, p := range checkWrote(strings.TrimSuffix(demoOut.String(), runs[2].stdout), "", runs[0].js) {
 		t.Errorf("demo: %s", p)
+	}
+	for _, p := range checkWrote(runs[2].stdout, "", runs[2].js) {
+		t.Errorf("imputed demo: %s", p)
 	}
 	fitRaw, err := os.ReadFile(filepath.Join(demo, "fit.json"))
 	if err != nil {
@@ -1026,6 +1037,7 @@ func TestPrintedNumbersMatchJSON(t *testing.T) {
 		})
 	}
 	plantProse(t, full)
+	plantImputed(t, runs[2])
 }
 
 // TestPrintedNumbersMatchJSON's prose corruptions run inside it (the

@@ -128,7 +128,7 @@ func chartIndex(js jsonDoc, name string) int {
 
 func proseRules() []proseRule {
 	dev := "development.measures."
-	return []proseRule{
+	return append([]proseRule{
 		// The verdict line and the subgroup counts.
 		rule("verdict counts", `\(# of # criteria not met; # of # subgroup checks not met\)`, func(js jsonDoc, _ map[string]string) []float64 {
 			f, t, m, c := verdictCounts(js)
@@ -361,7 +361,7 @@ func proseRules() []proseRule {
 		rule("ARL", `with an in-control ARL of # patients`, func(js jsonDoc, _ map[string]string) []float64 {
 			return nums(js, "over_time.cusum[0].limit.target_arl")
 		}, nil),
-	}
+	}, imputedProseRules()...)
 }
 
 // bandCuts are the cut points of a banded subgroup column.

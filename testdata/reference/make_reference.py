@@ -409,6 +409,8 @@ def main():
     sys.path.insert(0, HERE)
     from oe_reference import write_oe_reference
     write_oe_reference()
+    from rubin_reference import write_rubin_reference
+    write_rubin_reference(r12)
     write_monitor_reference()
     # Excel workbooks written by openpyxl, and the values in them
     from make_workbooks import write_workbooks
