@@ -6,7 +6,6 @@ import (
 	"unicode"
 
 	"gonum.org/v1/plot"
-
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
@@ -143,6 +142,9 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, error) {
 			}
 			p.Add(seg)
 		}
+		if left != "" && leftTh == nil {
+			leftTh = &plotter.Scatter{GlyphStyle: draw.GlyphStyle{Shape: shape, Color: col, Radius: vg.Points(3.5)}}
+		}
 		if v < lo || v > hi {
 			continue // a cluster left out, its estimate beyond the axis
 		}
@@ -154,8 +156,6 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, error) {
 		p.Add(pt)
 		if left == "" && pooledTh == nil {
 			pooledTh = pt
-		} else if left != "" && leftTh == nil {
-			leftTh = pt
 		}
 	}
 	if pooledTh != nil {
@@ -163,7 +163,7 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, error) {
 		entries++
 	}
 	if leftTh != nil {
-		leg.Add("hollow, grey: a cluster left out of the pooling (its interval cut at the axis)", leftTh)
+		leg.Add("hollow, grey: a cluster left out of the pooling (its interval cut at the axis's ends)", leftTh)
 		entries++
 	}
 	labels[n-2] = ""
