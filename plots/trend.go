@@ -174,19 +174,21 @@ type chart struct {
 	name, title, ylab string
 	get               func(history.Record) [3]float64
 	ideal             float64
+	// idealText names the ideal line in the legend.
+	idealText string
 	// measures are the criterion measures drawn on the chart (the
 	// measure, its 95% interval's ends, the interval for contains).
 	measures []string
 }
 
 var trendCharts = []chart{
-	{"trend_auc.svg", "AUC by audit date", "AUC", func(r history.Record) [3]float64 { return r.AUC }, math.NaN(),
+	{"trend_auc.svg", "AUC by audit date", "AUC", func(r history.Record) [3]float64 { return r.AUC }, math.NaN(), "",
 		[]string{"auc", "auc_ci", "auc_ci.lower", "auc_ci.upper"}},
-	{"trend_oe.svg", "Observed / expected events by audit date", "O/E", func(r history.Record) [3]float64 { return r.OE }, 1,
+	{"trend_oe.svg", "Observed / expected events by audit date", "O/E", func(r history.Record) [3]float64 { return r.OE }, 1, "O/E = 1: as many events as predicted",
 		[]string{"oe", "oe_ci", "oe_ci.lower", "oe_ci.upper"}},
-	{"trend_slope.svg", "Calibration slope by audit date", "calibration slope", func(r history.Record) [3]float64 { return r.Slope }, 1,
+	{"trend_slope.svg", "Calibration slope by audit date", "calibration slope", func(r history.Record) [3]float64 { return r.Slope }, 1, "slope = 1: risks neither too extreme nor too moderate",
 		[]string{"slope", "slope_ci", "slope_ci.lower", "slope_ci.upper"}},
-	{"trend_citl.svg", "Calibration-in-the-large by audit date", "calibration-in-the-large (log-odds)", func(r history.Record) [3]float64 { return r.CITL }, 0,
+	{"trend_citl.svg", "Calibration-in-the-large by audit date", "calibration-in-the-large (log-odds)", func(r history.Record) [3]float64 { return r.CITL }, 0, "0: risks right on average",
 		[]string{"citl", "citl_ci", "citl_ci.lower", "citl_ci.upper"}},
 }
 
@@ -234,6 +236,7 @@ func Trend(tr *trend.Trend) ([]Figure, error) {
 	for _, ch := range trendCharts {
 		p := newPlot("", "Audit date", ch.ylab)
 		p.X.Tick.Marker = timeTicks{}
+		p.Y.Tick.Marker = roundTicks{}
 		p.X.Min, p.X.Max = lo, hi
 		leg := plot.NewLegend()
 		styleLegend(&leg)
@@ -248,6 +251,7 @@ func Trend(tr *trend.Trend) ([]Figure, error) {
 				return nil, err
 			}
 			p.Add(ideal)
+			add(ch.idealText, ideal)
 		}
 		if ch.name == "trend_oe.svg" {
 			if err := addLimits(p, tr, xs, limitShare*(hi-lo), add); err != nil {
