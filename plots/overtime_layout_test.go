@@ -10,8 +10,10 @@ import (
 	"testing"
 	"time"
 
+	"github.com/riskaudit/riskaudit/history"
 	"github.com/riskaudit/riskaudit/internal/figcheck"
 	"github.com/riskaudit/riskaudit/monitor"
+	"github.com/riskaudit/riskaudit/trend"
 	"github.com/riskaudit/riskaudit/validate"
 )
 
@@ -92,7 +94,10 @@ func TestOverTimeFigureLayout(t *testing.T) {
 	}
 }
 
-var numberText = regexp.MustCompile(`^-?[0-9][0-9,]*(\.[0-9]+)?$`)
+var (
+	numberText = regexp.MustCompile(`^-?[0-9][0-9,]*(\.[0-9]+)?$`)
+	modelMark  = regexp.MustCompile(`^model [0-9]+$`)
+)
 
 // checkLegendBelow checks that a figure drawn in a sheet keeps its legend
 // off the data: every text that is not a number, a period label or an
@@ -119,7 +124,10 @@ func checkLegendBelow(t *testing.T, f Figure) {
 		return
 	}
 	for _, b := range boxes[lastTick+1:] {
-		if b.Rotated || b.Text == "" || strings.HasPrefix(b.Text, "patients in date order") || strings.Contains(b.Text, "(date_of") {
+		// Axis labels, and the trend charts' marks of a new model (drawn
+		// on the chart by design, at its first audit).
+		if b.Rotated || b.Text == "" || strings.HasPrefix(b.Text, "patients in date order") || strings.Contains(b.Text, "(date_of") ||
+			b.Text == "Audit date" || modelMark.MatchString(b.Text) {
 			continue
 		}
 		if b.MinY < lowestTick {
@@ -196,5 +204,38 @@ func TestClusterForestLayout(t *testing.T) {
 				t.Errorf("%s: the legend lacks %q", f.Name, s)
 			}
 		}
+	}
+}
+
+// TestTrendFigureLayout draws the trend charts of the invented history
+// (two models, shared dates, criteria that change) and of one with a
+// model whose name is long, and checks each with checkLayout, the legend
+// below the chart (checkLegendBelow) and the ideal line named in the
+// legend.
+func TestTrendFigureLayout(t *testing.T) {
+	long := trendRecords()
+	for i := range long {
+		long[i].Model = longName
+	}
+	for name, recs := range map[string][]history.Record{"ordinary": trendRecords(), "long model name": long} {
+		t.Run(name, func(t *testing.T) {
+			tr, err := trend.Build(recs)
+			if err != nil {
+				t.Fatal(err)
+			}
+			figs, err := Trend(tr)
+			if err != nil {
+				t.Fatal(err)
+			}
+			for _, f := range figs {
+				checkLayout(t, f)
+				checkLegendBelow(t, f)
+			}
+			for i, want := range []string{"", "O/E = 1: as many events as predicted", "slope = 1:", "0: risks right on average"} {
+				if want != "" && !strings.Contains(string(figs[i].SVG), want) {
+					t.Errorf("%s: the legend does not name the ideal line (%q)", figs[i].Name, want)
+				}
+			}
+		})
 	}
 }
