@@ -115,6 +115,7 @@ func Check(svg []byte) []string {
 		out = append(out, "no text found (the parser no longer matches the SVG)")
 	}
 	const tol = 0.5 // points
+	const gap = 1.5 // points at least between texts side by side
 	for _, b := range boxes {
 		if b.MinX < -tol || b.MinY < -tol || b.MaxX > w+tol || b.MaxY > h+tol {
 			out = append(out, fmt.Sprintf("text %q at [%.1f,%.1f]–[%.1f,%.1f] is outside the %.1f × %.1f canvas", b.Text, b.MinX, b.MinY, b.MaxX, b.MaxY, w, h))
@@ -130,8 +131,13 @@ func Check(svg []byte) []string {
 				ox = math.Min(a.U1, b.U1) - math.Max(a.U0, b.U0)
 				oy = math.Min(a.V1, b.V1) - math.Max(a.V0, b.V0)
 			}
-			if ox > tol && oy > tol {
+			switch {
+			case ox > tol && oy > tol:
 				out = append(out, fmt.Sprintf("texts %q and %q overlap (%.1f × %.1f points)", a.Text, b.Text, ox, oy))
+			case ox > -gap && oy > tol:
+				// Side by side with less than gap between them: two tick
+				// labels that touch read as one number ("0.80.4").
+				out = append(out, fmt.Sprintf("texts %q and %q touch: %.1f points apart side by side, less than %.1f", a.Text, b.Text, -ox, gap))
 			}
 		}
 	}

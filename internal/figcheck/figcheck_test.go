@@ -26,6 +26,11 @@ func TestCheckFinds(t *testing.T) {
 		{"clean", text(5, 20, "ab") + text(60, 20, "cd"), ""},
 		{"overlap", text(5, 20, "abcdef") + text(12, 22, "gh"), "overlap"},
 		{"outside", text(90, 20, "a long text"), "outside"},
+		// "0.8" at 10 pt is about 13.9 points wide: at x 5 and 19.5 the
+		// two labels are 0.6 points apart and read as one number; at 23
+		// they are clear.
+		{"touch", text(5, 20, "0.8") + text(19.5, 20, "0.4"), "touch"},
+		{"apart", text(5, 20, "0.8") + text(23, 20, "0.4"), ""},
 		{"above", text(5, 49.5, "top"), "outside"},
 		{"below", text(5, -1, "low"), "outside"},
 		// At 36°, (20, 10) of the turned frame is about (10.3, 19.8) up
