@@ -58,7 +58,15 @@ func TestDemoFigures(t *testing.T) {
 			} `json:"risk_histogram"`
 		}
 		Discrimination struct{ AUC float64 }
-		Subgroups      []struct {
+		CaseMix        struct {
+			Edges      []float64 `json:"lp_edges"`
+			Dev        []float64 `json:"lp_share_development"`
+			New        []float64 `json:"lp_share_new"`
+			Predictors []struct {
+				StdDiff []*float64 `json:"std_diff"`
+			}
+		} `json:"case_mix"`
+		Subgroups []struct {
 			AUC, OE, CITL, Slope *float64
 		}
 	}
@@ -198,6 +206,40 @@ func TestDemoFigures(t *testing.T) {
 		same("risk histogram: "+g.name, series["risk_histogram.svg"][g.name], want, 100)
 		same("risk histogram: "+g.name+" x", xs["risk_histogram.svg"][g.name], wx, 100)
 	}
+	// The case-mix figures: each cohort's share of patients in each bin of
+	// the linear predictor (percent) as steps over the bin's edges, and one
+	// bar per predictor (a level of a categorical one) at its standardised
+	// difference, top row first, none for a difference that does not exist.
+	for _, g := range []struct {
+		name   string
+		shares []float64
+	}{{"development", js.CaseMix.Dev}, {"audited", js.CaseMix.New}} {
+		var want, wx []float64
+		for i, v := range g.shares {
+			want, wx = append(want, v, v), append(wx, js.CaseMix.Edges[i], js.CaseMix.Edges[i+1])
+		}
+		same("case mix: "+g.name, series["casemix_lp.svg"][g.name], want, 100)
+		same("case mix: "+g.name+" x", xs["casemix_lp.svg"][g.name], wx, 1)
+	}
+	var diffs, diffRows []float64
+	var rows int
+	for _, p := range js.CaseMix.Predictors {
+		rows += len(p.StdDiff)
+	}
+	row := 0
+	for _, p := range js.CaseMix.Predictors {
+		for _, d := range p.StdDiff {
+			if d != nil {
+				diffs, diffRows = append(diffs, *d), append(diffRows, float64(rows-1-row))
+			}
+			row++
+		}
+	}
+	if len(diffs) == 0 {
+		t.Fatal("the demo's case mix has no standardised difference")
+	}
+	same("case mix: differences", xs["casemix_differences.svg"]["differences"], diffs, 1)
+	same("case mix: difference rows", series["casemix_differences.svg"]["differences"], diffRows, 1)
 	for _, m := range []struct {
 		panel string
 		get   func(i int) *float64

@@ -86,6 +86,9 @@ func CheckWrite(dir string, cfg *Config, opt WriteOptions) error {
 	if _, _, err := layoutOutputs(dir, files, extras, inputs, "audit"); err != nil {
 		return asConfigError(err)
 	}
+	// A run killed while it rewrote the folder's manifest leaves that
+	// file's temporaries inside the folder; they are not the user's.
+	atomicfile.CleanStale(dir)
 	if entries, err := os.ReadDir(dir); err == nil {
 		if _, err := ownedFolder(dir, "audit", entries); err != nil {
 			return asConfigError(err)
@@ -505,6 +508,7 @@ func readManifest(dir string) (*manifest, error) {
 // temporaries go; otherwise what it replaced comes back and what it
 // added goes.
 func resolvePending(dir string) error {
+	atomicfile.CleanStale(dir) // a killed run's manifest temporaries (markDone)
 	m, err := readManifest(dir)
 	if err != nil || m.State != "pending" {
 		return nil

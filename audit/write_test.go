@@ -5,9 +5,11 @@ import (
 	"encoding/json"
 	"errors"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"reflect"
 	"slices"
+	"strconv"
 	"strings"
 	"testing"
 	"time"
@@ -244,5 +246,44 @@ func TestKilledWriteResolved(t *testing.T) {
 			!reflect.DeepEqual(got, []string{"audit", "h.sqlite", "updated.yaml"}) {
 			t.Errorf("%s: left beside the outputs: %v", stop, got)
 		}
+	}
+}
+
+// TestManifestTemporariesOfAKilledRun: a run killed while it rewrote the
+// folder's manifest as done (markDone) leaves the manifest's temporary
+// and its hard-linked old copy inside the folder. The next audit into the
+// folder, its check before the run (CheckWrite) and its write, must take
+// them for riskaudit's own and remove them, not refuse the folder as
+// holding files riskaudit did not write.
+func TestManifestTemporariesOfAKilledRun(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "audit")
+	if _, err := Write(dir, testResult(t, []string{"roc.svg"}), WriteOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	dead := exec.Command("true")
+	if err := dead.Run(); err != nil {
+		t.Fatal(err)
+	}
+	pid := strconv.Itoa(dead.Process.Pid)
+	// The names atomicfile gives a temporary beside .riskaudit.json.
+	left := []string{"." + manifestName + ".riskaudit-tmp-" + pid + "-0a1b2c3d4e5f", "." + manifestName + ".riskaudit-old-" + pid + "-5f4e3d2c1b0a"}
+	for _, n := range left {
+		if err := os.WriteFile(filepath.Join(dir, n), []byte("{}"), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := CheckWrite(dir, &Config{}, WriteOptions{}); err != nil {
+		t.Fatalf("the check before the run: %v", err)
+	}
+	for _, n := range left {
+		if err := os.WriteFile(filepath.Join(dir, n), []byte("{}"), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if _, err := Write(dir, testResult(t, []string{"roc.svg"}), WriteOptions{}); err != nil {
+		t.Fatalf("the write: %v", err)
+	}
+	if got := names(t, dir); !reflect.DeepEqual(got, []string{".riskaudit.json", "audit.json", "report.html", "report.md", "roc.svg"}) {
+		t.Errorf("the folder holds %v", got)
 	}
 }

@@ -1,10 +1,10 @@
 package metrics
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"testing"
+
+	"github.com/riskaudit/riskaudit/internal/reftest"
 )
 
 // oeRef is testdata/reference/oe.json, written by
@@ -40,14 +40,8 @@ type oeRef struct {
 
 func loadOERef(t *testing.T) oeRef {
 	t.Helper()
-	b, err := os.ReadFile("../testdata/reference/oe.json")
-	if err != nil {
-		t.Fatal(err)
-	}
 	var r oeRef
-	if err := json.Unmarshal(b, &r); err != nil {
-		t.Fatal(err)
-	}
+	reftest.JSON(t, "oe.json", &r)
 	return r
 }
 

@@ -3,10 +3,9 @@ package metrics
 import (
 	"encoding/json"
 	"math"
-	"os"
 	"testing"
 
-	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/reftest"
 )
 
 // TestPairedDeLongMatchesQuadratic compares the paired DeLong test with
@@ -14,15 +13,9 @@ import (
 // testdata/reference/make_reference.py (scipy for the normal tail), on two
 // invented models of the Wisconsin data, with and without ties.
 func TestPairedDeLongMatchesQuadratic(t *testing.T) {
-	b, err := os.ReadFile("../testdata/reference/audit.json")
-	if err != nil {
-		t.Fatal(err)
-	}
 	var ref map[string]PairedDeLong
 	var raw map[string]json.RawMessage
-	if err := json.Unmarshal(b, &raw); err != nil {
-		t.Fatal(err)
-	}
+	reftest.JSON(t, "audit.json", &raw)
 	ref = map[string]PairedDeLong{}
 	for _, k := range []string{"paired_delong", "paired_delong_rounded"} {
 		var p PairedDeLong
@@ -31,19 +24,8 @@ func TestPairedDeLongMatchesQuadratic(t *testing.T) {
 		}
 		ref[k] = p
 	}
-	fr, err := cohort.Load("../testdata/reference/audit_predictions.csv", []cohort.Request{
-		{Name: "diagnosis", Kind: cohort.Categorical}, {Name: "risk", Kind: cohort.Numeric}, {Name: "risk_b", Kind: cohort.Numeric}}, cohort.Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	d := fr.Column("diagnosis")
-	y := make([]float64, fr.Rows)
-	for i, c := range d.Codes {
-		if d.Levels[c] == "M" {
-			y[i] = 1
-		}
-	}
-	pa, pb := fr.Column("risk").Num, fr.Column("risk_b").Num
+	y, cols := reftest.Predictions(t, "risk", "risk_b")
+	pa, pb := cols["risk"], cols["risk_b"]
 	ra, rb := make([]float64, len(pa)), make([]float64, len(pb))
 	for i := range pa {
 		ra[i], rb[i] = math.Round(pa[i]*10)/10, math.Round(pb[i]*10)/10

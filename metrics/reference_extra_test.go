@@ -1,10 +1,10 @@
 package metrics
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"testing"
+
+	"github.com/riskaudit/riskaudit/internal/reftest"
 )
 
 // extraRef is testdata/reference/extra.json, written by
@@ -28,14 +28,8 @@ type extraRef struct {
 
 func loadExtraRef(t *testing.T) extraRef {
 	t.Helper()
-	b, err := os.ReadFile("../testdata/reference/extra.json")
-	if err != nil {
-		t.Fatal(err)
-	}
 	var r extraRef
-	if err := json.Unmarshal(b, &r); err != nil {
-		t.Fatal(err)
-	}
+	reftest.JSON(t, "extra.json", &r)
 	return r
 }
 

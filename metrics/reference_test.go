@@ -1,13 +1,11 @@
 package metrics
 
 import (
-	"encoding/json"
 	"math"
 	"math/rand/v2"
-	"os"
 	"testing"
 
-	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/reftest"
 )
 
 // auditRef is testdata/reference/audit.json, written by
@@ -58,27 +56,10 @@ type refLowess struct {
 
 func loadAuditRef(t *testing.T) (auditRef, []float64, []float64) {
 	t.Helper()
-	b, err := os.ReadFile("../testdata/reference/audit.json")
-	if err != nil {
-		t.Fatal(err)
-	}
 	var r auditRef
-	if err := json.Unmarshal(b, &r); err != nil {
-		t.Fatal(err)
-	}
-	fr, err := cohort.Load("../testdata/reference/audit_predictions.csv",
-		[]cohort.Request{{Name: "diagnosis", Kind: cohort.Categorical}, {Name: "risk", Kind: cohort.Numeric}}, cohort.Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	d := fr.Column("diagnosis")
-	y := make([]float64, fr.Rows)
-	for i, c := range d.Codes {
-		if d.Levels[c] == "M" {
-			y[i] = 1
-		}
-	}
-	return r, y, fr.Column("risk").Num
+	reftest.JSON(t, "audit.json", &r)
+	y, cols := reftest.Predictions(t, "risk")
+	return r, y, cols["risk"]
 }
 
 func near(t *testing.T, what string, got, want, rel float64) {
@@ -230,7 +211,24 @@ func quadraticDeLong(y, p []float64) (float64, float64) {
 			v01[j] += s / float64(len(xs))
 		}
 	}
-	return mean(v10), math.Sqrt(variance(v10)/float64(len(xs)) + variance(v01)/float64(len(zs)))
+	// S10 and S01 of DeLong et al. (1988), each a sample variance with
+	// divisor m − 1 (n − 1), written out here rather than taken from the
+	// package's own helpers, so that the check does not share their code.
+	avg := func(v []float64) float64 {
+		s := 0.0
+		for _, x := range v {
+			s += x
+		}
+		return s / float64(len(v))
+	}
+	s2 := func(v []float64) float64 {
+		m, s := avg(v), 0.0
+		for _, x := range v {
+			s += (x - m) * (x - m)
+		}
+		return s / float64(len(v)-1)
+	}
+	return avg(v10), math.Sqrt(s2(v10)/float64(len(xs)) + s2(v01)/float64(len(zs)))
 }
 
 func TestFastDeLongEqualsDefinition(t *testing.T) {

@@ -1,13 +1,12 @@
 package model
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"strconv"
 	"testing"
 
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/reftest"
 )
 
 // TestDefaultKnotsMatchNumpy: the default knots for 3 to 7 knots of the
@@ -16,16 +15,10 @@ import (
 // is recalled from Harrell 2015, §2.4.6, and typed separately in the
 // reference script).
 func TestDefaultKnotsMatchNumpy(t *testing.T) {
-	b, err := os.ReadFile("../testdata/reference/extra.json")
-	if err != nil {
-		t.Fatal(err)
-	}
 	var r struct {
 		Knots map[string][]float64 `json:"knots"`
 	}
-	if err := json.Unmarshal(b, &r); err != nil {
-		t.Fatal(err)
-	}
+	reftest.JSON(t, "extra.json", &r)
 	fr, err := cohort.Load("../testdata/open/wdbc.csv", []cohort.Request{{Name: "mean_texture", Kind: cohort.Numeric}}, cohort.Options{})
 	if err != nil {
 		t.Fatal(err)

@@ -1,14 +1,13 @@
 package model
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/reftest"
 	"github.com/riskaudit/riskaudit/metrics"
 )
 
@@ -51,14 +50,8 @@ type refFit struct {
 
 func loadReference(t *testing.T) reference {
 	t.Helper()
-	b, err := os.ReadFile("../testdata/reference/fits.json")
-	if err != nil {
-		t.Fatal(err)
-	}
 	var r reference
-	if err := json.Unmarshal(b, &r); err != nil {
-		t.Fatal(err)
-	}
+	reftest.JSON(t, "fits.json", &r)
 	return r
 }
 

@@ -23,11 +23,12 @@ func CaseMix(cm *validate.CaseMix) ([]Figure, error) {
 		}
 		return xys
 	}
-	ld, err := line(step(cm.LPDev), blue, 1.8)
+	dev, aud := step(cm.LPDev), step(cm.LPNew)
+	ld, err := line(dev, blue, 1.8)
 	if err != nil {
 		return nil, err
 	}
-	ln, err := line(step(cm.LPNew), vermillion, 1.8, vg.Points(5), vg.Points(2))
+	ln, err := line(aud, vermillion, 1.8, vg.Points(5), vg.Points(2))
 	if err != nil {
 		return nil, err
 	}
@@ -66,6 +67,7 @@ func CaseMix(cm *validate.CaseMix) ([]Figure, error) {
 	q.X.Tick.Marker = roundTicks{}
 	lim := 0.25
 	missing := 0
+	var bars plotter.XYs
 	for i, v := range vals {
 		y := float64(n - 1 - i)
 		if math.IsNaN(v) || math.IsInf(v, 0) {
@@ -79,11 +81,13 @@ func CaseMix(cm *validate.CaseMix) ([]Figure, error) {
 		if math.Abs(v) >= 0.1 {
 			col = vermillion
 		}
-		bar, err := line(plotter.XYs{{X: 0, Y: y}, {X: v, Y: y}}, col, 5)
+		seg := plotter.XYs{{X: 0, Y: y}, {X: v, Y: y}}
+		bar, err := line(seg, col, 5)
 		if err != nil {
 			return nil, err
 		}
 		q.Add(bar)
+		bars = append(bars, seg[1]) // the bar's drawn end
 		lim = math.Max(lim, math.Abs(v)*1.1)
 	}
 	q.X.Min, q.X.Max = -lim, lim
@@ -107,6 +111,8 @@ func CaseMix(cm *validate.CaseMix) ([]Figure, error) {
 	if err != nil {
 		return nil, err
 	}
-	return []Figure{{Name: "casemix_lp.svg", Title: "Linear predictor in both cohorts", SVG: lpSVG, PNG: lpPNG},
-		{Name: "casemix_differences.svg", Title: "Standardised differences of the predictors", SVG: sdSVG, PNG: sdPNG}}, nil
+	return []Figure{{Name: "casemix_lp.svg", Title: "Linear predictor in both cohorts", SVG: lpSVG, PNG: lpPNG,
+		Series: []Series{{Name: "development", Points: dev}, {Name: "audited", Points: aud}}},
+		{Name: "casemix_differences.svg", Title: "Standardised differences of the predictors", SVG: sdSVG, PNG: sdPNG,
+			Series: []Series{{Name: "differences", Points: bars}}}}, nil
 }

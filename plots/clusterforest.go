@@ -56,11 +56,11 @@ var clusterMeasures = []clusterMeasure{
 func ClusterForests(c *validate.Clusters) ([]Figure, error) {
 	var figs []Figure
 	for _, m := range clusterMeasures {
-		d, err := clusterForest(c, m)
+		d, series, err := clusterForest(c, m)
 		if err != nil {
 			return nil, fmt.Errorf("forest plot of the %s by cluster: %w", m.name, err)
 		}
-		figs = append(figs, Figure{Name: "clusters_" + m.key + ".svg", Title: "The " + m.name + " by " + c.Column, SVG: d.svg, PNG: d.png})
+		figs = append(figs, Figure{Name: "clusters_" + m.key + ".svg", Title: "The " + m.name + " by " + c.Column, SVG: d.svg, PNG: d.png, Series: series})
 	}
 	return figs, nil
 }
@@ -76,7 +76,13 @@ func ciMethodName(m string) string {
 	return m
 }
 
-func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, error) {
+// clusterForest draws one measure's forest plot and returns the data it
+// draws: "clusters" (each drawn estimate at its row), "cluster intervals"
+// (each drawn interval's two ends, as clipped to the axis), "pooled
+// estimate", "pooled CI" and "prediction interval" (the ends of each).
+func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, []Series, error) {
+	var est, ints plotter.XYs
+	var series []Series
 	pm := m.pooled(c)
 	refText := map[string]string{"auc": "AUC = 0.5", "oe": "O/E = 1", "citl": "CITL = 0", "slope": "slope = 1"}[m.key]
 	if m.key == "auc" && c.Bounds.AUCMin > 0 {
@@ -136,9 +142,11 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, error) {
 			col, shape = grey, draw.SquareGlyph{}
 		}
 		if finite(ci[0]) && finite(ci[1]) {
-			seg, err := line(plotter.XYs{{X: clip(ci[0]), Y: y}, {X: clip(ci[1]), Y: y}}, col, 1.5)
+			ends := plotter.XYs{{X: clip(ci[0]), Y: y}, {X: clip(ci[1]), Y: y}}
+			ints = append(ints, ends...)
+			seg, err := line(ends, col, 1.5)
 			if err != nil {
-				return drawn{}, err
+				return drawn{}, nil, err
 			}
 			p.Add(seg)
 		}
@@ -148,9 +156,10 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, error) {
 		if v < lo || v > hi {
 			continue // a cluster left out, its estimate beyond the axis
 		}
+		est = append(est, plotter.XY{X: v, Y: y})
 		pt, err := plotter.NewScatter(plotter.XYs{{X: v, Y: y}})
 		if err != nil {
-			return drawn{}, err
+			return drawn{}, nil, err
 		}
 		pt.GlyphStyle.Shape, pt.GlyphStyle.Color, pt.GlyphStyle.Radius = shape, col, vg.Points(3.5)
 		p.Add(pt)
@@ -166,26 +175,32 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, error) {
 		leg.Add("hollow, grey: a cluster left out of the pooling (its interval cut at the axis's ends)", leftTh)
 		entries++
 	}
+	series = append(series, Series{Name: "clusters", Points: est}, Series{Name: "cluster intervals", Points: ints})
 	labels[n-2] = ""
 	labels[n-1] = fmt.Sprintf("pooled (%d clusters)", pm.K)
 	if finite(pm.Estimate) {
-		ci, err := line(plotter.XYs{{X: pm.CI[0], Y: 0}, {X: pm.CI[1], Y: 0}}, ink, 4)
+		ends := plotter.XYs{{X: pm.CI[0], Y: 0}, {X: pm.CI[1], Y: 0}}
+		series = append(series, Series{Name: "pooled CI", Points: ends})
+		ci, err := line(ends, ink, 4)
 		if err != nil {
-			return drawn{}, err
+			return drawn{}, nil, err
 		}
 		p.Add(ci)
+		series = append(series, Series{Name: "pooled estimate", Points: plotter.XYs{{X: pm.Estimate, Y: 0}}})
 		pt, err := plotter.NewScatter(plotter.XYs{{X: pm.Estimate, Y: 0}})
 		if err != nil {
-			return drawn{}, err
+			return drawn{}, nil, err
 		}
 		pt.GlyphStyle.Shape, pt.GlyphStyle.Color, pt.GlyphStyle.Radius = draw.PyramidGlyph{}, ink, vg.Points(5)
 		p.Add(pt)
 		leg.Add(fmt.Sprintf("pooled estimate (triangle), 95%% CI (%s)", ciMethodName(string(c.CIMethod))), ci, pt)
 		entries++
 		if finite(pm.PredictionInterval[0]) {
-			pi, err := line(plotter.XYs{{X: pm.PredictionInterval[0], Y: -0.25}, {X: pm.PredictionInterval[1], Y: -0.25}}, vermillion, 1.2, vg.Points(4), vg.Points(2))
+			ends := plotter.XYs{{X: pm.PredictionInterval[0], Y: -0.25}, {X: pm.PredictionInterval[1], Y: -0.25}}
+			series = append(series, Series{Name: "prediction interval", Points: ends})
+			pi, err := line(ends, vermillion, 1.2, vg.Points(4), vg.Points(2))
 			if err != nil {
-				return drawn{}, err
+				return drawn{}, nil, err
 			}
 			p.Add(pi)
 			leg.Add("95% prediction interval for a new cluster", pi)
@@ -197,14 +212,14 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, error) {
 	p.X.Min, p.X.Max = lo, hi
 	rl, err := line(plotter.XYs{{X: m.ref, Y: p.Y.Min}, {X: m.ref, Y: float64(n) - 0.3}}, grey, 1, vg.Points(4), vg.Points(3))
 	if err != nil {
-		return drawn{}, err
+		return drawn{}, nil, err
 	}
 	p.Add(rl, &refLabel{x: m.ref, y: float64(n) + 0.1, text: refText})
 	leg.Add("dashed line: reference value, named at its top", rl)
 	entries++
 	s := sheet{title: fmt.Sprintf("%s by %s", upperFirst(m.name), c.Column), legend: leg, entries: entries}
 	svg, png, err := single(p, s, 7*vg.Inch, vg.Length(1.2+0.3*float64(n))*vg.Inch)
-	return drawn{svg, png}, err
+	return drawn{svg, png}, series, err
 }
 
 // upperFirst capitalises the first letter of a measure's name for a

@@ -294,11 +294,13 @@ func Trend(tr *trend.Trend) ([]Figure, error) {
 			p.Add(&changeMark{x: Day(tr.Points[c.Point].Time), label: fmt.Sprintf("model %d", c.Series+1), row: k})
 		}
 		missing, noBar := 0, 0
+		var series []Series
 		for si := range tr.Series {
-			m, nb, err := addSeries(p, tr, si, xs, ch, add)
+			d, m, nb, err := addSeries(p, tr, si, xs, ch, add)
 			if err != nil {
 				return nil, err
 			}
+			series = append(series, d...)
 			missing, noBar = missing+m, noBar+nb
 		}
 		if len(tr.Changes) > 0 {
@@ -322,7 +324,7 @@ func Trend(tr *trend.Trend) ([]Figure, error) {
 		if err != nil {
 			return nil, err
 		}
-		out = append(out, Figure{Name: ch.name, Title: ch.title, SVG: b, PNG: png})
+		out = append(out, Figure{Name: ch.name, Title: ch.title, SVG: b, PNG: png, Series: series})
 	}
 	return out, nil
 }
@@ -347,7 +349,7 @@ const legendRow = 12.5
 // joined in date order (broken where an audit has no point), and a ring
 // on the series' first audit outside the O/E 99.8% limits. It returns
 // how many audits have no point and how many no bar.
-func addSeries(p *plot.Plot, tr *trend.Trend, si int, xs []float64, ch chart, add func(string, ...plot.Thumbnailer)) (missing, noBar int, err error) {
+func addSeries(p *plot.Plot, tr *trend.Trend, si int, xs []float64, ch chart, add func(string, ...plot.Thumbnailer)) (drawnData []Series, missing, noBar int, err error) {
 	s := tr.Series[si]
 	col, glyph := SeriesColour(si), seriesGlyphs[si%len(seriesGlyphs)]
 	var pts, barPts, run plotter.XYs
@@ -369,7 +371,7 @@ func addSeries(p *plot.Plot, tr *trend.Trend, si int, xs []float64, ch chart, ad
 		if !finite(v[0]) {
 			missing++
 			if err := flush(); err != nil {
-				return 0, 0, err
+				return nil, 0, 0, err
 			}
 			continue
 		}
@@ -383,7 +385,7 @@ func addSeries(p *plot.Plot, tr *trend.Trend, si int, xs []float64, ch chart, ad
 		}
 	}
 	if err := flush(); err != nil {
-		return 0, 0, err
+		return nil, 0, 0, err
 	}
 	p.Add(lines...)
 	if len(barPts) > 0 {
@@ -392,7 +394,7 @@ func addSeries(p *plot.Plot, tr *trend.Trend, si int, xs []float64, ch chart, ad
 			plotter.YErrors
 		}{barPts, errs})
 		if err != nil {
-			return 0, 0, err
+			return nil, 0, 0, err
 		}
 		eb.LineStyle.Color = col
 		p.Add(eb)
@@ -400,7 +402,7 @@ func addSeries(p *plot.Plot, tr *trend.Trend, si int, xs []float64, ch chart, ad
 	if len(pts) > 0 {
 		sc, err := plotter.NewScatter(pts)
 		if err != nil {
-			return 0, 0, err
+			return nil, 0, 0, err
 		}
 		sc.GlyphStyle.Shape, sc.GlyphStyle.Color, sc.GlyphStyle.Radius = glyph, col, vg.Points(3)
 		p.Add(sc)
@@ -412,7 +414,7 @@ func addSeries(p *plot.Plot, tr *trend.Trend, si int, xs []float64, ch chart, ad
 		i := s.FirstOutside
 		fl, err := plotter.NewScatter(plotter.XYs{{X: xs[i], Y: tr.Points[i].Record.OE[0]}})
 		if err != nil {
-			return 0, 0, err
+			return nil, 0, 0, err
 		}
 		fl.GlyphStyle.Shape, fl.GlyphStyle.Color, fl.GlyphStyle.Radius = draw.RingGlyph{}, vermillion, vg.Points(7)
 		p.Add(fl)
@@ -422,7 +424,12 @@ func addSeries(p *plot.Plot, tr *trend.Trend, si int, xs []float64, ch chart, ad
 		}
 		add(fmt.Sprintf("%sfirst audit outside the 99.8%% limits (%s)", who, tr.Points[i].Date), fl)
 	}
-	return missing, noBar, nil
+	var ends plotter.XYs
+	for k, b := range barPts {
+		ends = append(ends, plotter.XY{X: b.X, Y: b.Y - errs[k].Low}, plotter.XY{X: b.X, Y: b.Y + errs[k].High})
+	}
+	name := fmt.Sprintf("model %d", si+1)
+	return []Series{{Name: name, Points: pts}, {Name: name + " interval", Points: ends}}, missing, noBar, nil
 }
 
 // addLimits draws the 95% and 99.8% control limits of every audit as

@@ -1,6 +1,7 @@
 package plots
 
 import (
+	"fmt"
 	"math"
 	"regexp"
 	"slices"
@@ -11,6 +12,7 @@ import (
 
 	"github.com/riskaudit/riskaudit/history"
 	"github.com/riskaudit/riskaudit/trend"
+	"gonum.org/v1/plot/plotter"
 )
 
 // trendRecords is an invented history: model A audited on uneven dates
@@ -260,5 +262,64 @@ func TestTrendOneAudit(t *testing.T) {
 	}
 	if !strings.Contains(string(figs[2].SVG), "fail criterion: slope between 0.8 and 1.2") {
 		t.Error("the slope chart of one audit does not draw its criterion")
+	}
+}
+
+// TestTrendSeries checks the data each trend chart draws against the
+// history records it is given (those trend.json lists): for every model,
+// each audit's estimate at its audit date and its 95% interval's ends.
+func TestTrendSeries(t *testing.T) {
+	recs := trendRecords()
+	for i := range recs { // intervals not symmetric about the estimate, as O/E's and the AUC's are not
+		recs[i].AUC[1] -= 0.02
+		recs[i].OE[2] += 0.07
+		recs[i].Slope[2] += 0.03
+		recs[i].CITL[1] -= 0.04
+	}
+	recs[2].AUC = [3]float64{math.NaN(), math.NaN(), math.NaN()} // not estimable: no point
+	recs[4].Slope[1] = math.NaN()                                // no interval: a point without a bar
+	tr, err := trend.Build(recs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	figs, err := Trend(tr)
+	if err != nil {
+		t.Fatal(err)
+	}
+	xs := TrendX(tr)
+	for c, f := range figs {
+		got := map[string]plotter.XYs{}
+		for _, s := range f.Series {
+			got[s.Name] = s.Points
+		}
+		for si, s := range tr.Series {
+			var pts, ends plotter.XYs
+			for _, i := range s.Points {
+				v := trendCharts[c].get(tr.Points[i].Record)
+				if math.IsNaN(v[0]) {
+					continue
+				}
+				pts = append(pts, plotter.XY{X: xs[i], Y: v[0]})
+				if !math.IsNaN(v[1]) && !math.IsNaN(v[2]) {
+					ends = append(ends, plotter.XY{X: xs[i], Y: v[1]}, plotter.XY{X: xs[i], Y: v[2]})
+				}
+			}
+			name := fmt.Sprintf("model %d", si+1)
+			for _, w := range []struct {
+				name string
+				want plotter.XYs
+			}{{name, pts}, {name + " interval", ends}} {
+				g := got[w.name]
+				if len(g) != len(w.want) {
+					t.Errorf("%s %s: %d points drawn, the records give %d", f.Name, w.name, len(g), len(w.want))
+					continue
+				}
+				for k := range g {
+					if math.Abs(g[k].X-w.want[k].X) > 1e-9 || math.Abs(g[k].Y-w.want[k].Y) > 1e-12 {
+						t.Errorf("%s %s point %d: drawn (%g, %g), record (%g, %g)", f.Name, w.name, k, g[k].X, g[k].Y, w.want[k].X, w.want[k].Y)
+					}
+				}
+			}
+		}
 	}
 }

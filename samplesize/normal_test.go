@@ -1,12 +1,12 @@
 package samplesize
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"sort"
 	"strings"
 	"testing"
+
+	"github.com/riskaudit/riskaudit/internal/reftest"
 )
 
 // sizeRef is one scenario of testdata/reference/samplesize.json, written
@@ -38,14 +38,8 @@ type sizeRef struct {
 
 func loadSizeRef(t *testing.T) (scenarios, solves []sizeRef) {
 	t.Helper()
-	raw, err := os.ReadFile("../testdata/reference/samplesize.json")
-	if err != nil {
-		t.Fatal(err)
-	}
 	var ref struct{ Scenarios, Solves []sizeRef }
-	if err := json.Unmarshal(raw, &ref); err != nil {
-		t.Fatal(err)
-	}
+	reftest.JSON(t, "samplesize.json", &ref)
 	if len(ref.Scenarios) < 6 || len(ref.Solves) < 3 {
 		t.Fatalf("%d scenarios and %d solves in the reference", len(ref.Scenarios), len(ref.Solves))
 	}

@@ -1,12 +1,11 @@
 package update
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"testing"
 
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/reftest"
 	"github.com/riskaudit/riskaudit/model"
 )
 
@@ -15,24 +14,12 @@ import (
 // update.json); the original model estimates nothing, so its AIC is its
 // −2 log-likelihood.
 func TestStepAICMatchesStatsmodels(t *testing.T) {
-	b, err := os.ReadFile("../testdata/reference/extra.json")
-	if err != nil {
-		t.Fatal(err)
-	}
 	var r struct {
 		AIC []float64 `json:"update_aic"`
 	}
-	if err := json.Unmarshal(b, &r); err != nil {
-		t.Fatal(err)
-	}
+	reftest.JSON(t, "extra.json", &r)
 	var u ref
-	ub, err := os.ReadFile("../testdata/reference/update.json")
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := json.Unmarshal(ub, &u); err != nil {
-		t.Fatal(err)
-	}
+	reftest.JSON(t, "update.json", &u)
 	spec, err := model.LoadSpec("../testdata/reference/recipes/wdbc_linear.yaml")
 	if err != nil {
 		t.Fatal(err)

@@ -1,12 +1,11 @@
 package update
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"testing"
 
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/reftest"
 	"github.com/riskaudit/riskaudit/model"
 )
 
@@ -28,14 +27,8 @@ type ref struct {
 // update.json (statsmodels' binomial GLM with offset, scipy's chi-square
 // tail), for an invented, miscalibrated model of the Wisconsin data.
 func TestClosedTestMatchesStatsmodels(t *testing.T) {
-	b, err := os.ReadFile("../testdata/reference/update.json")
-	if err != nil {
-		t.Fatal(err)
-	}
 	var r ref
-	if err := json.Unmarshal(b, &r); err != nil {
-		t.Fatal(err)
-	}
+	reftest.JSON(t, "update.json", &r)
 	spec, err := model.LoadSpec("../testdata/reference/recipes/wdbc_linear.yaml")
 	if err != nil {
 		t.Fatal(err)

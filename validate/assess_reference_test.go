@@ -1,12 +1,10 @@
 package validate
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"testing"
 
-	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/reftest"
 )
 
 // TestAssessIntervalsMatchReferences: the intervals Assess reports, on
@@ -42,27 +40,10 @@ func TestAssessIntervalsMatchReferences(t *testing.T) {
 		} `json:"wdbc"`
 	}
 	for file, v := range map[string]any{"oe.json": &oe, "extra.json": &extra, "audit.json": &audit} {
-		b, err := os.ReadFile("../testdata/reference/" + file)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if err := json.Unmarshal(b, v); err != nil {
-			t.Fatal(err)
-		}
+		reftest.JSON(t, file, v)
 	}
-	fr, err := cohort.Load("../testdata/reference/audit_predictions.csv",
-		[]cohort.Request{{Name: "diagnosis", Kind: cohort.Categorical}, {Name: "risk", Kind: cohort.Numeric}}, cohort.Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	d := fr.Column("diagnosis")
-	y := make([]float64, fr.Rows)
-	for i, c := range d.Codes {
-		if d.Levels[c] == "M" {
-			y[i] = 1
-		}
-	}
-	perf, err := Assess(y, fr.Column("risk").Num, Options{})
+	y, cols := reftest.Predictions(t, "risk")
+	perf, err := Assess(y, cols["risk"], Options{})
 	if err != nil {
 		t.Fatal(err)
 	}

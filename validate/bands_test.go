@@ -1,15 +1,14 @@
 package validate
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"slices"
 	"strconv"
 	"strings"
 	"testing"
 
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/reftest"
 )
 
 // TestBandColumnBoundaries: cut points 65 and 75 make the half-open bands
@@ -136,26 +135,9 @@ type refBands struct {
 // columns mean_radius and mean_texture (testdata/open/wdbc.csv).
 func wdbcAudit(t *testing.T) (subgroupsRef, []float64, []float64, map[string][]float64) {
 	t.Helper()
-	b, err := os.ReadFile("../testdata/reference/subgroups.json")
-	if err != nil {
-		t.Fatal(err)
-	}
 	var ref subgroupsRef
-	if err := json.Unmarshal(b, &ref); err != nil {
-		t.Fatal(err)
-	}
-	pr, err := cohort.Load("../testdata/reference/audit_predictions.csv",
-		[]cohort.Request{{Name: "diagnosis", Kind: cohort.Categorical}, {Name: "risk", Kind: cohort.Numeric}}, cohort.Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	d := pr.Column("diagnosis")
-	y := make([]float64, pr.Rows)
-	for i, c := range d.Codes {
-		if d.Levels[c] == "M" {
-			y[i] = 1
-		}
-	}
+	reftest.JSON(t, "subgroups.json", &ref)
+	y, pcols := reftest.Predictions(t, "risk")
 	wd, err := cohort.Load("../testdata/open/wdbc.csv",
 		[]cohort.Request{{Name: "mean_radius", Kind: cohort.Numeric}, {Name: "mean_texture", Kind: cohort.Numeric}}, cohort.Options{})
 	if err != nil {
@@ -167,7 +149,7 @@ func wdbcAudit(t *testing.T) (subgroupsRef, []float64, []float64, map[string][]f
 		capped[i] = math.Min(math.RoundToEven(r), 12) // numpy.round rounds half to even
 	}
 	cols["radius_capped"] = capped
-	return ref, y, pr.Column("risk").Num, cols
+	return ref, y, pcols["risk"], cols
 }
 
 func relNear(got, want, rel float64) bool {

@@ -1,7 +1,6 @@
 package validate
 
 import (
-	"encoding/json"
 	"fmt"
 	"math"
 	"os"
@@ -10,6 +9,7 @@ import (
 	"testing"
 
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/reftest"
 	"github.com/riskaudit/riskaudit/model"
 )
 
@@ -18,18 +18,12 @@ import (
 // differences with testdata/reference/casemix.json (statsmodels Logit,
 // scikit-learn roc_auc_score; the differences by their definition).
 func TestCaseMixMatchesReferences(t *testing.T) {
-	b, err := os.ReadFile("../testdata/reference/casemix.json")
-	if err != nil {
-		t.Fatal(err)
-	}
 	var ref struct {
 		Half        int                `json:"half"`
 		MembershipC float64            `json:"membership_c"`
 		StdDiff     map[string]float64 `json:"std_diff"`
 	}
-	if err := json.Unmarshal(b, &ref); err != nil {
-		t.Fatal(err)
-	}
+	reftest.JSON(t, "casemix.json", &ref)
 	raw, err := os.ReadFile("../testdata/open/wdbc.csv")
 	if err != nil {
 		t.Fatal(err)

@@ -1,13 +1,11 @@
 package validate
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"strconv"
 	"testing"
 
-	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/reftest"
 )
 
 // TestCalibrationBandMatchesTranscription: the flexible calibration
@@ -17,29 +15,12 @@ import (
 // (Cleveland & Devlin 1988, §3); the curve clips the fit to [0, 1] and
 // then each end of the band, as its doc comment says.
 func TestCalibrationBandMatchesTranscription(t *testing.T) {
-	b, err := os.ReadFile("../testdata/reference/extra.json")
-	if err != nil {
-		t.Fatal(err)
-	}
 	var r struct {
 		Band struct{ X, Fit, SE []float64 } `json:"lowess_band"`
 	}
-	if err := json.Unmarshal(b, &r); err != nil {
-		t.Fatal(err)
-	}
-	fr, err := cohort.Load("../testdata/reference/audit_predictions.csv",
-		[]cohort.Request{{Name: "diagnosis", Kind: cohort.Categorical}, {Name: "risk", Kind: cohort.Numeric}}, cohort.Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	d := fr.Column("diagnosis")
-	y := make([]float64, fr.Rows)
-	for i, c := range d.Codes {
-		if d.Levels[c] == "M" {
-			y[i] = 1
-		}
-	}
-	perf, err := Assess(y, fr.Column("risk").Num, Options{})
+	reftest.JSON(t, "extra.json", &r)
+	y, cols := reftest.Predictions(t, "risk")
+	perf, err := Assess(y, cols["risk"], Options{})
 	if err != nil {
 		t.Fatal(err)
 	}

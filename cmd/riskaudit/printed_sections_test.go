@@ -306,6 +306,9 @@ func checkFitSummary(out string, fit jsonDoc) []string {
 			c.cell(where, strings.TrimPrefix(l, "likelihood ratio"), c.js.num("lr_chi2"), c.js.num("lr_df"), c.js.num("lr_p"))
 		case "AIC":
 			c.cell(where, strings.Replace(l, "R²", "", 1), c.js.num("aic"), c.js.num("bic"), c.js.num("nagelkerke_r2"))
+		case "odds":
+			c.unitLine(where, l)
+			continue
 		case "Hosmer–Lemeshow":
 			h := "hosmer_lemeshow."
 			c.cell(where, strings.TrimPrefix(l, label), c.js.num(h+"statistic"), c.js.num(h+"df"), c.js.num(h+"p"), c.js.num(h+"groups"))
@@ -316,12 +319,49 @@ func checkFitSummary(out string, fit jsonDoc) []string {
 	if term != c.js.len("terms") {
 		c.fail("fit summary: %d term rows read, fit.json has %d terms", term, c.js.len("terms"))
 	}
+	for i := 0; i < c.js.len("terms"); i++ {
+		p := fmt.Sprintf("terms[%d].", i)
+		if u := c.js.str(p + "unit"); u != "" && !c.unitsSeen[c.js.str(p+"term")] {
+			c.fail("fit summary: term %s has the unit %q in fit.json but no odds-ratio unit line", c.js.str(p+"term"), u)
+		}
+	}
 	for _, l := range []string{"rows", "events", "−2", "likelihood", "AIC"} {
 		if !seen[l] {
 			c.fail("fit summary: no %q line", l)
 		}
 	}
 	return c.problems
+}
+
+// unitLine checks one "odds ratios, TERMS: UNIT" line of the fit summary:
+// every term it names has exactly that unit in fit.json, so a number in
+// the unit (per 10 units of age) is the record's own.
+func (c *checker) unitLine(where, l string) {
+	rest, ok := strings.CutPrefix(l, "odds ratios, ")
+	names, unit, found := strings.Cut(rest, ": ")
+	if !ok || !found {
+		c.fail("%s: line %q has no rule", where, l)
+		return
+	}
+	if c.unitsSeen == nil {
+		c.unitsSeen = map[string]bool{}
+	}
+	for _, name := range strings.Split(names, ", ") {
+		i := 0
+		for ; i < c.js.len("terms"); i++ {
+			if c.js.str(fmt.Sprintf("terms[%d].term", i)) == name {
+				break
+			}
+		}
+		if i == c.js.len("terms") {
+			c.fail("%s: %q names the term %q, which fit.json does not have", where, l, name)
+			continue
+		}
+		if got := c.js.str(fmt.Sprintf("terms[%d].unit", i)); got != unit {
+			c.fail("%s: %q gives %s the unit %q, fit.json %q", where, l, name, unit, got)
+		}
+		c.unitsSeen[name] = true
+	}
 }
 
 // checkWrote compares the count of figures the audit says it wrote with

@@ -198,6 +198,9 @@ func (d jsonDoc) len(path string) int {
 type checker struct {
 	js       jsonDoc
 	problems []string
+	// unitsSeen holds the terms named by the fit summary's odds-ratio
+	// unit lines.
+	unitsSeen map[string]bool
 }
 
 func (c *checker) fail(format string, args ...any) {
@@ -939,6 +942,22 @@ func TestPrintedNumbersMatchJSON(t *testing.T) {
 		}
 		if len(checkFitSummary(out, fit)) == 0 {
 			t.Error("the odds ratio's interval replaced by the coefficient's and the check found nothing")
+		}
+	})
+	t.Run("corrupt/fit summary odds-ratio unit", func(t *testing.T) {
+		// The demo scales age by 10 (fit.json terms[].unit); a slip that
+		// printed another scale, or dropped a term's unit line, must be found.
+		i := strings.Index(demoOut.String(), "  odds ratios, age: per 10 units of age\n")
+		if i < 0 {
+			t.Fatal("cannot plant: the demo's fit summary has no unit line for age")
+		}
+		for name, out := range map[string]string{
+			"another scale": strings.Replace(demoOut.String(), "age: per 10 units", "age: per 5 units", 1),
+			"line dropped":  strings.Replace(demoOut.String(), "  odds ratios, age: per 10 units of age\n", "", 1),
+		} {
+			if len(checkFitSummary(out, fit)) == 0 {
+				t.Errorf("%s: the check found nothing", name)
+			}
 		}
 	})
 	for _, r := range runs {

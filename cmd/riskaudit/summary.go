@@ -67,6 +67,9 @@ func writeFitSummary(w io.Writer, r *audit.FitResult, o *fitOptions) {
 		fmt.Fprintf(w, "  %-*s  %10s  %9s  %7.2f  %8s  %10s  %s\n", pad, t.Term, fmtG(t.Coef), fmtG(t.SE), t.Z, report.FormatFitP(t.P), or, ci)
 	}
 	fmt.Fprintf(w, "  (the intercept's odds-ratio cells are empty: exp of it is the odds at the reference values, not a ratio)\n")
+	for _, n := range report.UnitNotes(st.Terms) {
+		fmt.Fprintf(w, "  odds ratios, %s\n", n)
+	}
 	for _, t := range st.Terms {
 		for _, n := range t.Notes {
 			fmt.Fprintf(w, "  note: %s: %s\n", t.Term, n)

@@ -129,6 +129,9 @@ var mutations = []mutation{
 	{"risk groups drawn at their highest risk", "plots/plots.go", "pts[i] = plotter.XY{X: 100 * g.MeanRisk, Y: 100 * g.Observed.Value}", "pts[i] = plotter.XY{X: 100 * g.MaxRisk, Y: 100 * g.Observed.Value}", []string{"./plots", figures}, ""},
 	{"decision curve thresholds not in percent", "plots/plots.go", "model[i] = plotter.XY{X: 100 * v.Threshold, Y: v.Model}", "model[i] = plotter.XY{X: v.Threshold, Y: v.Model}", []string{"./plots", figures}, ""},
 	{"cluster forest: prediction interval drawn as the CI", "plots/clusterforest.go", "{X: pm.PredictionInterval[0], Y: -0.25}, {X: pm.PredictionInterval[1], Y: -0.25}", "{X: pm.CI[0], Y: -0.25}, {X: pm.CI[1], Y: -0.25}", []string{"./plots", figures}, ""},
+	{"case mix: the audited cohort's histogram drawn with the development shares", "plots/casemix.go", "dev, aud := step(cm.LPDev), step(cm.LPNew)", "dev, aud := step(cm.LPDev), step(cm.LPDev)", []string{"./plots", figures}, ""},
+	{"case mix: a standardised difference drawn with its sign flipped", "plots/casemix.go", "seg := plotter.XYs{{X: 0, Y: y}, {X: v, Y: y}}", "seg := plotter.XYs{{X: 0, Y: y}, {X: -v, Y: y}}", []string{"./plots", figures}, ""},
+	{"trend chart: the interval drawn symmetric about the estimate", "plots/trend.go", "{v[0] - v[1], v[2] - v[0]}", "{v[0] - v[1], v[0] - v[1]}", []string{"./plots"}, ""},
 	// Third round: more of the numeric code.
 	{"DerSimonian–Laird τ² without Σw²/Σw", "meta/meta.go", "/(sw-sw2/sw))", "/sw)", []string{"./meta", "./validate"}, ""},
 	{"chance of acceptable performance on k − 1 df", "meta/meta.go", "t := distuv.StudentsT{Mu: r.Estimate, Sigma: s, Nu: float64(r.K - 2)}", "t := distuv.StudentsT{Mu: r.Estimate, Sigma: s, Nu: float64(r.K - 1)}", []string{"./meta", "./validate"}, ""},
