@@ -125,7 +125,7 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, []Series, err
 	clip := func(x float64) float64 { return math.Max(lo, math.Min(hi, x)) }
 	leg := newLegend()
 	entries := 0
-	var pooledTh, leftTh plot.Thumbnailer
+	var pooledTh, leftTh []plot.Thumbnailer
 	for i, g := range c.PerCluster {
 		y := float64(n - 1 - i)
 		v, ci := m.get(g)
@@ -151,7 +151,7 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, []Series, err
 			p.Add(seg)
 		}
 		if left != "" && leftTh == nil {
-			leftTh = &plotter.Scatter{GlyphStyle: draw.GlyphStyle{Shape: shape, Color: col, Radius: vg.Points(3.5)}}
+			leftTh = intervalMark(col, shape)
 		}
 		if v < lo || v > hi {
 			continue // a cluster left out, its estimate beyond the axis
@@ -164,15 +164,15 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, []Series, err
 		pt.GlyphStyle.Shape, pt.GlyphStyle.Color, pt.GlyphStyle.Radius = shape, col, vg.Points(3.5)
 		p.Add(pt)
 		if left == "" && pooledTh == nil {
-			pooledTh = pt
+			pooledTh = intervalMark(col, shape)
 		}
 	}
 	if pooledTh != nil {
-		leg.Add("a cluster: estimate and 95% CI", pooledTh)
+		leg.Add("a cluster: estimate and 95% CI", pooledTh...)
 		entries++
 	}
 	if leftTh != nil {
-		leg.Add("hollow, grey: a cluster left out of the pooling (its interval cut at the axis's ends)", leftTh)
+		leg.Add("hollow, grey: a cluster left out of the pooling (its interval cut at the axis's ends)", leftTh...)
 		entries++
 	}
 	series = append(series, Series{Name: "clusters", Points: est}, Series{Name: "cluster intervals", Points: ints})

@@ -93,10 +93,7 @@ func Forest(groups []validate.Subgroup, overall *validate.Performance) (Figure, 
 	leg := newLegend()
 	entries := 0
 	// The thumbnails are the marks as drawn: a square on its interval.
-	mark := func(c color.Color) []plot.Thumbnailer {
-		return []plot.Thumbnailer{&plotter.Line{LineStyle: draw.LineStyle{Color: c, Width: vg.Points(1.5)}},
-			&plotter.Scatter{GlyphStyle: draw.GlyphStyle{Shape: draw.BoxGlyph{}, Color: c, Radius: vg.Points(3.5)}}}
-	}
+	mark := func(c color.Color) []plot.Thumbnailer { return intervalMark(c, draw.BoxGlyph{}) }
 	if failed < len(groups)-small {
 		leg.Add("estimate and 95% CI, meets the criteria", mark(blue)...)
 		entries++
@@ -245,4 +242,11 @@ func (panelTicks) Ticks(min, max float64) []plot.Tick {
 		}
 	}
 	return ts
+}
+
+// intervalMark is the legend thumbnail of an estimate drawn as a glyph
+// on its interval, in colour c.
+func intervalMark(c color.Color, shape draw.GlyphDrawer) []plot.Thumbnailer {
+	return []plot.Thumbnailer{&plotter.Line{LineStyle: draw.LineStyle{Color: c, Width: vg.Points(1.5)}},
+		&plotter.Scatter{GlyphStyle: draw.GlyphStyle{Shape: shape, Color: c, Radius: vg.Points(3.5)}}}
 }
