@@ -323,16 +323,22 @@ func (r *nodes) codeSpan(w util.BufWriter, src []byte, node ast.Node, entering b
 const breakRun = 16
 
 // breakable escapes s for HTML and adds <wbr> after '_', '/', '.', '-',
-// ':', ',', '=' and '+', and within any longer run of other characters.
+// ':', ',', '=' and '+', and within any longer run of other characters;
+// never inside a number (the '.' or ',' of 27.5 or 1,000 between two
+// digits), so that a cut such as 24.3-<27.5 is not printed "27." above "5".
 func breakable(s string) string {
 	var b strings.Builder
 	run := 0
-	for _, c := range s {
+	r := []rune(s)
+	digit := func(k int) bool { return k >= 0 && k < len(r) && r[k] >= '0' && r[k] <= '9' }
+	for k, c := range r {
 		b.WriteString(template.HTMLEscapeString(string(c)))
 		run++
+		inNumber := (c == '.' || c == ',') && digit(k-1) && digit(k+1)
 		switch {
 		case c == ' ':
 			run = 0
+		case inNumber:
 		case strings.ContainsRune("_/.-:,=+", c) || run >= breakRun:
 			b.WriteString("<wbr>")
 			run = 0

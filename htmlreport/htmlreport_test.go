@@ -175,6 +175,8 @@ func TestBreakable(t *testing.T) {
 		{"a<b", "a&lt;b"},
 		{strings.Repeat("x", 20), strings.Repeat("x", 16) + "<wbr>xxxx"},
 		{"two words", "two words"},
+		{"bmi=24.3-<27.5", "bmi=<wbr>24.3-<wbr>&lt;27.5"},
+		{"1,000 a.b", "1,000 a.<wbr>b"},
 	} {
 		if got := breakable(c.in); got != c.want {
 			t.Errorf("breakable(%q) = %q, want %q", c.in, got, c.want)

@@ -3,7 +3,9 @@ package plots
 import (
 	"fmt"
 	"math"
+	"unicode"
 
+	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
@@ -63,6 +65,17 @@ func ClusterForests(c *validate.Clusters) ([]Figure, error) {
 	return figs, nil
 }
 
+// ciMethodName is the pooled interval's method as the legend names it.
+func ciMethodName(m string) string {
+	switch m {
+	case "hksj":
+		return "Hartung–Knapp–Sidik–Jonkman"
+	case "wald":
+		return "Wald"
+	}
+	return m
+}
+
 // clusterForest draws one measure's forest plot and returns the data it
 // draws: "clusters" (each drawn estimate at its row), "cluster intervals"
 // (each drawn interval's two ends, as clipped to the axis), "pooled
@@ -71,14 +84,20 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, []Series, err
 	var est, ints plotter.XYs
 	var series []Series
 	pm := m.pooled(c)
+	refText := map[string]string{"auc": "AUC = 0.5", "oe": "O/E = 1", "citl": "CITL = 0", "slope": "slope = 1"}[m.key]
 	if m.key == "auc" && c.Bounds.AUCMin > 0 {
 		m.ref = c.Bounds.AUCMin // the line a new cluster should stay right of
+		refText = fmt.Sprintf("acceptable: AUC > %g", c.Bounds.AUCMin)
 	}
 	n := len(c.PerCluster) + 2 // a gap row, then the pooled row
 	labels := make(rowTicks, n)
-	p := newPlot(fmt.Sprintf("%s by %s", m.name, shorten(c.Column, 30)), m.axis, "")
-	p.Y.Min, p.Y.Max = -0.7, float64(n)+0.9 // room for the legend above
+	p := newPlot("", m.axis, "")
+	// A row above the clusters holds the reference line's label.
+	p.Y.Min, p.Y.Max = -0.7, float64(n)+0.5
 	p.Y.Tick.Marker = labels
+	p.Y.Tick.Length = 0
+	p.Y.Padding = vg.Points(4)
+	p.X.Tick.Marker = roundTicks{}
 	lo, hi := m.ref, m.ref
 	widen := func(v ...float64) {
 		for _, x := range v {
@@ -104,6 +123,9 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, []Series, err
 	pad := 0.08 * math.Max(hi-lo, 0.05)
 	lo, hi = lo-pad, hi+pad
 	clip := func(x float64) float64 { return math.Max(lo, math.Min(hi, x)) }
+	leg := newLegend()
+	entries := 0
+	var pooledTh, leftTh []plot.Thumbnailer
 	for i, g := range c.PerCluster {
 		y := float64(n - 1 - i)
 		v, ci := m.get(g)
@@ -128,6 +150,9 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, []Series, err
 			}
 			p.Add(seg)
 		}
+		if left != "" && leftTh == nil {
+			leftTh = intervalMark(col, shape)
+		}
 		if v < lo || v > hi {
 			continue // a cluster left out, its estimate beyond the axis
 		}
@@ -138,22 +163,22 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, []Series, err
 		}
 		pt.GlyphStyle.Shape, pt.GlyphStyle.Color, pt.GlyphStyle.Radius = shape, col, vg.Points(3.5)
 		p.Add(pt)
+		if left == "" && pooledTh == nil {
+			pooledTh = intervalMark(col, shape)
+		}
+	}
+	if pooledTh != nil {
+		leg.Add("a cluster: estimate and 95% CI", pooledTh...)
+		entries++
+	}
+	if leftTh != nil {
+		leg.Add("hollow, grey: a cluster left out of the pooling (its interval cut at the axis's ends)", leftTh...)
+		entries++
 	}
 	series = append(series, Series{Name: "clusters", Points: est}, Series{Name: "cluster intervals", Points: ints})
 	labels[n-2] = ""
 	labels[n-1] = fmt.Sprintf("pooled (%d clusters)", pm.K)
 	if finite(pm.Estimate) {
-		if finite(pm.PredictionInterval[0]) {
-			ends := plotter.XYs{{X: pm.PredictionInterval[0], Y: -0.25}, {X: pm.PredictionInterval[1], Y: -0.25}}
-			series = append(series, Series{Name: "prediction interval", Points: ends})
-			pi, err := line(ends, vermillion, 1.2, vg.Points(4), vg.Points(2))
-			if err != nil {
-				return drawn{}, nil, err
-			}
-			pi.LineStyle.Color = vermillion
-			p.Add(pi)
-			p.Legend.Add("95% prediction interval (new cluster)", pi)
-		}
 		ends := plotter.XYs{{X: pm.CI[0], Y: 0}, {X: pm.CI[1], Y: 0}}
 		series = append(series, Series{Name: "pooled CI", Points: ends})
 		ci, err := line(ends, ink, 4)
@@ -161,7 +186,6 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, []Series, err
 			return drawn{}, nil, err
 		}
 		p.Add(ci)
-		p.Legend.Add(fmt.Sprintf("pooled estimate, 95%% CI (%s)", c.CIMethod), ci)
 		series = append(series, Series{Name: "pooled estimate", Points: plotter.XYs{{X: pm.Estimate, Y: 0}}})
 		pt, err := plotter.NewScatter(plotter.XYs{{X: pm.Estimate, Y: 0}})
 		if err != nil {
@@ -169,19 +193,43 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, []Series, err
 		}
 		pt.GlyphStyle.Shape, pt.GlyphStyle.Color, pt.GlyphStyle.Radius = draw.PyramidGlyph{}, ink, vg.Points(5)
 		p.Add(pt)
+		leg.Add(fmt.Sprintf("pooled estimate (triangle), 95%% CI (%s)", ciMethodName(string(c.CIMethod))), ci, pt)
+		entries++
+		if finite(pm.PredictionInterval[0]) {
+			ends := plotter.XYs{{X: pm.PredictionInterval[0], Y: -0.25}, {X: pm.PredictionInterval[1], Y: -0.25}}
+			series = append(series, Series{Name: "prediction interval", Points: ends})
+			pi, err := line(ends, vermillion, 1.2, vg.Points(4), vg.Points(2))
+			if err != nil {
+				return drawn{}, nil, err
+			}
+			p.Add(pi)
+			leg.Add("95% prediction interval for a new cluster", pi)
+			entries++
+		}
 	} else {
 		labels[n-1] = "pooled: " + shorten(pm.Note, 40)
 	}
 	p.X.Min, p.X.Max = lo, hi
-	rl, err := line(plotter.XYs{{X: m.ref, Y: p.Y.Min}, {X: m.ref, Y: p.Y.Max}}, grey, 1, vg.Points(4), vg.Points(3))
+	rl, err := line(plotter.XYs{{X: m.ref, Y: p.Y.Min}, {X: m.ref, Y: float64(n) - 0.3}}, grey, 1, vg.Points(4), vg.Points(3))
 	if err != nil {
 		return drawn{}, nil, err
 	}
-	p.Add(rl)
-	p.Legend.Top = true
-	h := vg.Length(1.9+0.3*float64(n)) * vg.Inch
-	d, err := render(p, 7*vg.Inch, h)
-	return d, series, err
+	p.Add(rl, &refLabel{x: m.ref, y: float64(n) + 0.1, text: refText})
+	leg.Add("dashed line: reference value, named at its top", rl)
+	entries++
+	s := sheet{title: fmt.Sprintf("%s by %s", upperFirst(m.name), c.Column), legend: leg, entries: entries}
+	svg, png, err := single(p, s, 7*vg.Inch, vg.Length(1.2+0.3*float64(n))*vg.Inch)
+	return drawn{svg, png}, series, err
+}
+
+// upperFirst capitalises the first letter of a measure's name for a
+// title.
+func upperFirst(s string) string {
+	r := []rune(s)
+	if len(r) == 0 {
+		return s
+	}
+	return string(unicode.ToUpper(r[0])) + string(r[1:])
 }
 
 // leftOut reports whether the cluster was left out of the measure's

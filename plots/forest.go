@@ -2,6 +2,7 @@ package plots
 
 import (
 	"fmt"
+	"image/color"
 	"math"
 
 	"gonum.org/v1/plot"
@@ -90,10 +91,15 @@ func Forest(groups []validate.Subgroup, overall *validate.Performance) (Figure, 
 		series = append(series, Series{Name: m.title, Points: pts})
 	}
 	leg := newLegend()
-	leg.Add("estimate and 95% CI, meets the criteria", swatch(blue))
-	entries := 1
+	entries := 0
+	// The thumbnails are the marks as drawn: a square on its interval.
+	mark := func(c color.Color) []plot.Thumbnailer { return intervalMark(c, draw.BoxGlyph{}) }
+	if failed < len(groups)-small {
+		leg.Add("estimate and 95% CI, meets the criteria", mark(blue)...)
+		entries++
+	}
 	if failed > 0 {
-		leg.Add("misses a criterion", swatch(vermillion))
+		leg.Add("estimate and 95% CI, misses a criterion", mark(vermillion)...)
 		entries++
 	}
 	if noCI > 0 {
@@ -153,7 +159,7 @@ func forestPanel(m forestMeasure, groups []validate.Subgroup, labels rowTicks) (
 	}
 	p.Y.Tick.Length = 0
 	p.Y.Padding = vg.Points(4)
-	p.X.Tick.Marker = roundTicks{}
+	p.X.Tick.Marker = panelTicks{}
 	var pts plotter.XYs
 	lo, hi := m.ref, m.ref
 	for i, g := range groups {
@@ -219,4 +225,28 @@ func (r *refLabel) Plot(c draw.Canvas, p *plot.Plot) {
 	px = max(px, c.Min.X+half)
 	px = min(px, c.Max.X-half)
 	c.FillText(sty, vg.Point{X: px, Y: y(r.y)}, r.text)
+}
+
+// panelTicks are roundTicks for a panel set beside others: a tick
+// within 6% of the panel's edge keeps its mark but not its label, which
+// would otherwise reach into the next panel and run into its first
+// label.
+type panelTicks struct{}
+
+func (panelTicks) Ticks(min, max float64) []plot.Tick {
+	ts := roundTicks{}.Ticks(min, max)
+	edge := 0.06 * (max - min)
+	for i := range ts {
+		if ts[i].Value < min+edge || ts[i].Value > max-edge {
+			ts[i].Label = ""
+		}
+	}
+	return ts
+}
+
+// intervalMark is the legend thumbnail of an estimate drawn as a glyph
+// on its interval, in colour c.
+func intervalMark(c color.Color, shape draw.GlyphDrawer) []plot.Thumbnailer {
+	return []plot.Thumbnailer{&plotter.Line{LineStyle: draw.LineStyle{Color: c, Width: vg.Points(1.5)}},
+		&plotter.Scatter{GlyphStyle: draw.GlyphStyle{Shape: shape, Color: c, Radius: vg.Points(3.5)}}}
 }

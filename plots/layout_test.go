@@ -33,7 +33,10 @@ func checkLayout(t *testing.T, f Figure) {
 	if !strings.Contains(string(f.SVG), "font-family:"+fontFamily+";") || strings.Contains(string(f.SVG), "Serif") {
 		t.Errorf("%s does not ask for the font list %s alone", f.Name, fontFamily)
 	}
-	if strings.Contains(string(f.SVG), "…") && f.Name != "subgroups.svg" && f.Name != "casemix_differences.svg" {
+	// Row labels of the subgroup, case-mix and cluster charts are the one
+	// text that may be cut (the report's tables give them whole).
+	rows := f.Name == "subgroups.svg" || f.Name == "casemix_differences.svg" || strings.HasPrefix(f.Name, "clusters_")
+	if strings.Contains(string(f.SVG), "…") && !rows {
 		t.Errorf("%s cuts a text short with an ellipsis", f.Name)
 	}
 	if dir := os.Getenv("RISKAUDIT_FIGURES"); dir != "" {

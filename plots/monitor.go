@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"image/color"
 	"math"
+	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -52,7 +53,10 @@ func thin(v []float64, scale float64) plotter.XYs {
 // Monitor draws the four figures of the cohort in date order: the
 // measures by period, the cumulative expected − observed curve, the
 // CUSUM pair and the EWMA. criteria give the bounds drawn on the period
-// chart (those on O/E, calibration-in-the-large and AUC).
+// chart (those on O/E, calibration-in-the-large and AUC). Like every
+// other figure, each has its title (wrapped, never cut) and a subtitle
+// above and its legend in a strip below the chart, off the data, with
+// ticks at round values.
 func Monitor(r *monitor.Result, s *monitor.Summary, criteria []validate.Criterion) ([]Figure, error) {
 	type maker struct {
 		name, title string
@@ -75,27 +79,37 @@ func Monitor(r *monitor.Result, s *monitor.Summary, criteria []validate.Criterio
 	return out, nil
 }
 
-// patientAxis labels the x-axis with patient numbers and, below, the
-// first and last dates.
+// patientAxis labels the x-axis with patient numbers (the first and
+// last dates are in the subtitle, overTimeSheet).
 func patientAxis(p *plot.Plot, r *monitor.Result) {
 	p.X.Label.Text = "patients in date order"
-	if r.Dates != nil {
-		p.X.Label.Text = fmt.Sprintf("patients in date order (%s to %s)", r.Dates[0].Format("2 Jan 2006"), r.Dates[r.N-1].Format("2 Jan 2006"))
-	}
 	p.X.Min, p.X.Max = 0, float64(r.N)
 	p.X.Tick.Marker = patientTicks{}
 }
 
-// patientTicks are gonum's default tick places labelled as whole
-// patient numbers with thousands separated (2,500).
+// patientTicks mark whole patient numbers at a round step (1, 2 or 5 ×
+// 10^k, at most seven steps, from 0), every tick labelled, thousands
+// separated (2,500).
 type patientTicks struct{}
 
 func (patientTicks) Ticks(lo, hi float64) []plot.Tick {
-	ts := plot.DefaultTicks{}.Ticks(lo, hi)
+	step := math.Max(1, roundStep(hi-lo))
+	var ts []plot.Tick
+	for k := math.Ceil(lo/step - 1e-9); k*step <= hi+1e-9*step; k++ {
+		ts = append(ts, plot.Tick{Value: k * step, Label: grouped(int(math.Round(k * step)))})
+	}
+	return ts
+}
+
+// mirroredTicks are roundTicks labelled with their distance from 0: the
+// CUSUM chart draws the improvement chart downwards, and its values are
+// positive.
+type mirroredTicks struct{}
+
+func (mirroredTicks) Ticks(lo, hi float64) []plot.Tick {
+	ts := roundTicks{}.Ticks(lo, hi)
 	for i := range ts {
-		if ts[i].Label != "" {
-			ts[i].Label = grouped(int(math.Round(ts[i].Value)))
-		}
+		ts[i].Label = strings.TrimPrefix(ts[i].Label, "-")
 	}
 	return ts
 }
@@ -112,24 +126,24 @@ func grouped(n int) string {
 	return s
 }
 
-// headroom sets the y-axis to the values' range with a share of it free
-// above for the legend.
-func headroom(p *plot.Plot, lo, hi, share float64) {
-	span := hi - lo
-	if span <= 0 {
-		span = 1
+// span sets the y-axis to the values' range with 5% free on each side.
+func span(p *plot.Plot, lo, hi float64) {
+	d := hi - lo
+	if !(d > 0) {
+		d = 1
 	}
-	p.Y.Min, p.Y.Max = lo-0.05*span, hi+share*span
+	p.Y.Min, p.Y.Max = lo-0.05*d, hi+0.05*d
 }
 
 func hline(y, x0, x1 float64, c color.Color, width float64, dashes ...vg.Length) (*plotter.Line, error) {
 	return line(plotter.XYs{{X: x0, Y: y}, {X: x1, Y: y}}, c, width, dashes...)
 }
 
-// marks draws the alarm patients as open diamonds on a path.
-func marks(p *plot.Plot, at []int, v []float64, scale float64, c color.Color, legend string) error {
+// marks draws the alarm patients as triangles on a path; it returns nil
+// when there are none.
+func marks(p *plot.Plot, at []int, v []float64, scale float64, c color.Color) (*plotter.Scatter, error) {
 	if len(at) == 0 {
-		return nil
+		return nil, nil
 	}
 	xys := make(plotter.XYs, len(at))
 	for k, i := range at {
@@ -137,17 +151,39 @@ func marks(p *plot.Plot, at []int, v []float64, scale float64, c color.Color, le
 	}
 	sc, err := plotter.NewScatter(xys)
 	if err != nil {
-		return err
+		return nil, err
 	}
 	sc.GlyphStyle.Shape, sc.GlyphStyle.Color, sc.GlyphStyle.Radius = draw.PyramidGlyph{}, c, vg.Points(4)
 	p.Add(sc)
-	p.Legend.Add(legend, sc)
-	return nil
+	return sc, nil
+}
+
+// legendOf collects a legend's entries and counts them for the sheet.
+type legendOf struct {
+	l *plot.Legend
+	n int
+}
+
+func (g *legendOf) add(text string, th ...plot.Thumbnailer) {
+	g.l.Add(text, th...)
+	g.n++
+}
+
+// overTimeSheet is the frame of a chart in date order: the title, the
+// patients and dates as subtitle, the legend below.
+func overTimeSheet(title string, r *monitor.Result, g *legendOf) sheet {
+	sub := fmt.Sprintf("%s patients", grouped(r.N))
+	if r.Dates != nil {
+		sub = fmt.Sprintf("%s patients, %s to %s", grouped(r.N), r.Dates[0].Format("2 Jan 2006"), r.Dates[r.N-1].Format("2 Jan 2006"))
+	}
+	return sheet{title: title, subtitle: sub, legend: g.l, entries: g.n}
 }
 
 func vladChart(r *monitor.Result) (drawn, error) {
-	p := newPlot("Cumulative expected − observed events (above 0: fewer events than predicted)", "", "expected − observed events")
+	p := newPlot("", "", "expected − observed events")
 	patientAxis(p, r)
+	p.Y.Tick.Marker = roundTicks{}
+	g := &legendOf{l: newLegend()}
 	zero, err := hline(0, 0, float64(r.N), grey, 1)
 	if err != nil {
 		return drawn{}, err
@@ -157,22 +193,31 @@ func vladChart(r *monitor.Result) (drawn, error) {
 		return drawn{}, err
 	}
 	p.Add(zero, l)
-	p.Legend.Add("expected − observed, cumulative", l)
-	if err := marks(p, r.Charts[0].Signals, r.VLAD, 1, vermillion, "deterioration chart signalled"); err != nil {
+	g.add("expected − observed events, summed in date order", l)
+	g.add("0: as many events as the model predicted", zero)
+	sc, err := marks(p, r.Charts[0].Signals, r.VLAD, 1, vermillion)
+	if err != nil {
 		return drawn{}, err
+	}
+	if sc != nil {
+		g.add("where the deterioration CUSUM signalled", sc)
 	}
 	lo, hi := 0.0, 0.0
 	for _, v := range r.VLAD {
 		lo, hi = math.Min(lo, v), math.Max(hi, v)
 	}
-	headroom(p, lo, hi, 0.3)
-	return render(p, 7*vg.Inch, 4*vg.Inch)
+	span(p, lo, hi)
+	svg, png, err := single(p, overTimeSheet("Cumulative expected − observed events (above 0: fewer events than predicted)", r, g), 7*vg.Inch, 3.6*vg.Inch)
+	return drawn{svg, png}, err
 }
 
 func cusumChart(r *monitor.Result) (drawn, error) {
-	p := newPlot("Risk-adjusted CUSUMs, restarted after each signal: deterioration up, improvement down", "", "CUSUM (log-likelihood ratio)")
+	p := newPlot("", "", "CUSUM (log-likelihood ratio)")
 	patientAxis(p, r)
+	p.Y.Tick.Marker = mirroredTicks{}
+	g := &legendOf{l: newLegend()}
 	colours := []color.Color{vermillion, blue}
+	where := []string{"drawn up", "drawn down"}
 	for k, c := range r.Charts {
 		sign := 1.0
 		if k == 1 {
@@ -187,10 +232,14 @@ func cusumChart(r *monitor.Result) (drawn, error) {
 			return drawn{}, err
 		}
 		p.Add(l, h)
-		p.Legend.Add(fmt.Sprintf("%s, odds ratio %g", c.Name, c.Limit.R), l)
-		p.Legend.Add(fmt.Sprintf("limit h = %.2f (in-control ARL %s patients)", c.Limit.H, grouped(int(c.Limit.TargetARL))), h)
-		if err := marks(p, c.Signals, c.Restarted, sign, colours[k], "signal"); err != nil {
+		g.add(fmt.Sprintf("%s, odds ratio %g, %s", c.Name, c.Limit.R, where[k]), l)
+		g.add(fmt.Sprintf("its limit h = %.2f (in-control ARL %s patients)", c.Limit.H, grouped(int(c.Limit.TargetARL))), h)
+		sc, err := marks(p, c.Signals, c.Restarted, sign, colours[k])
+		if err != nil {
 			return drawn{}, err
+		}
+		if sc != nil {
+			g.add(fmt.Sprintf("%s signal (the chart restarts at 0)", c.Name), sc)
 		}
 	}
 	zero, err := hline(0, 0, float64(r.N), grey, 1)
@@ -198,6 +247,7 @@ func cusumChart(r *monitor.Result) (drawn, error) {
 		return drawn{}, err
 	}
 	p.Add(zero)
+	g.add("0: where both charts start and restart", zero)
 	top := r.Charts[0].Limit.H
 	bot := -r.Charts[1].Limit.H
 	for _, v := range r.Charts[0].Restarted {
@@ -206,14 +256,17 @@ func cusumChart(r *monitor.Result) (drawn, error) {
 	for _, v := range r.Charts[1].Restarted {
 		bot = math.Min(bot, -v)
 	}
-	headroom(p, bot, top, 0.9)
-	return render(p, 7*vg.Inch, 4.5*vg.Inch)
+	span(p, bot, top)
+	svg, png, err := single(p, overTimeSheet("Risk-adjusted CUSUMs, restarted after each signal: deterioration up, improvement down", r, g), 7*vg.Inch, 3.8*vg.Inch)
+	return drawn{svg, png}, err
 }
 
 func ewmaChart(r *monitor.Result) (drawn, error) {
 	e := r.EWMA
-	p := newPlot(fmt.Sprintf("EWMA of observed − expected (λ = %g), ±%g exact SD", e.Lambda, e.L), "", "observed − expected (events per patient)")
+	p := newPlot("", "", "observed − expected (events per patient)")
 	patientAxis(p, r)
+	p.Y.Tick.Marker = roundTicks{}
+	g := &legendOf{l: newLegend()}
 	up, lo := make([]float64, r.N), make([]float64, r.N)
 	for i, sd := range e.SD {
 		up[i], lo[i] = e.L*sd, -e.L*sd
@@ -230,26 +283,27 @@ func ewmaChart(r *monitor.Result) (drawn, error) {
 	if err != nil {
 		return drawn{}, err
 	}
-	zero, err := hline(0, 0, float64(r.N), gridGrey, 1)
+	zero, err := hline(0, 0, float64(r.N), ink, 0.6)
 	if err != nil {
 		return drawn{}, err
 	}
 	p.Add(zero, lu, ll, z)
-	p.Legend.Add("observed − expected, smoothed", z)
-	p.Legend.Add("control limits", lu)
-	var first []int
-	if e.FirstAbove >= 0 {
-		first = append(first, e.FirstAbove)
-	}
-	if err := marks(p, first, e.Z, 1, vermillion, "first above the upper limit"); err != nil {
-		return drawn{}, err
-	}
-	first = first[:0]
-	if e.FirstBelow >= 0 {
-		first = append(first, e.FirstBelow)
-	}
-	if err := marks(p, first, e.Z, 1, orange, "first below the lower limit"); err != nil {
-		return drawn{}, err
+	g.add("observed − expected, smoothed", z)
+	g.add(fmt.Sprintf("control limits, ±%g exact SD", e.L), lu)
+	g.add("0: as many events as the model predicted", zero)
+	for _, m := range []struct {
+		at   int
+		c    color.Color
+		text string
+	}{{e.FirstAbove, vermillion, "first above the upper limit"}, {e.FirstBelow, orange, "first below the lower limit"}} {
+		if m.at < 0 {
+			continue
+		}
+		sc, err := marks(p, []int{m.at}, e.Z, 1, m.c)
+		if err != nil {
+			return drawn{}, err
+		}
+		g.add(m.text, sc)
 	}
 	// Leave the first patients' near-zero limits out of the scale: the
 	// axis spans the limits from patient 1/λ on.
@@ -258,8 +312,12 @@ func ewmaChart(r *monitor.Result) (drawn, error) {
 	for i := from; i < r.N; i++ {
 		top = math.Max(top, math.Max(math.Abs(e.Z[i]), up[i]))
 	}
-	p.Y.Min, p.Y.Max = -1.3*top, 1.6*top
-	return render(p, 7*vg.Inch, 4*vg.Inch)
+	for i := 0; i < from; i++ {
+		top = math.Max(top, math.Abs(e.Z[i]))
+	}
+	span(p, -top, top)
+	svg, png, err := single(p, overTimeSheet(fmt.Sprintf("EWMA of observed − expected (λ = %g), ±%g exact SD", e.Lambda, e.L), r, g), 7*vg.Inch, 3.6*vg.Inch)
+	return drawn{svg, png}, err
 }
 
 // bounds are the criteria's bounds on a measure, or on an end of its
@@ -284,14 +342,18 @@ func bounds(criteria []validate.Criterion, measure string) []float64 {
 }
 
 // periodTicks labels period k at x = k+1 with its label, thinned to
-// about a dozen labels.
-type periodTicks []string
+// about a dozen labels; with no labels (the upper panels of the period
+// chart) the ticks only place the grid.
+type periodTicks struct {
+	labels []string
+	show   bool
+}
 
 func (t periodTicks) Ticks(_, _ float64) []plot.Tick {
-	step := max(1, (len(t)+11)/12)
+	step := max(1, (len(t.labels)+11)/12)
 	var ts []plot.Tick
-	for k, l := range t {
-		if k%step == 0 {
+	for k, l := range t.labels {
+		if k%step == 0 && t.show {
 			ts = append(ts, plot.Tick{Value: float64(k + 1), Label: l})
 		} else {
 			ts = append(ts, plot.Tick{Value: float64(k + 1)})
@@ -301,8 +363,11 @@ func (t periodTicks) Ticks(_, _ float64) []plot.Tick {
 }
 
 // periodChart stacks three panels over the periods: O/E, CITL and AUC,
-// each with its 95% intervals, the whole cohort's value (dotted) and the
-// criteria's bounds (dashed).
+// each with its 95% intervals, the whole cohort's value (dash-dotted,
+// black), the value of perfect calibration (dotted, grey) and the
+// criteria's bounds (dashed, orange); the periods are named under the
+// lowest panel only, without tick marks, and one legend below names
+// every line.
 func periodChart(s *monitor.Summary, criteria []validate.Criterion) (drawn, error) {
 	type panel struct {
 		name, measure string
@@ -315,29 +380,30 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) (drawn, erro
 		{"calibration-in-the-large", "citl", func(q monitor.Period) (float64, [2]float64) { return q.CITL, q.CITLCI }, 0, s.Overall.CITL},
 		{"AUC", "auc", func(q monitor.Period) (float64, [2]float64) { return q.AUC, q.AUCCI }, math.NaN(), s.Overall.AUC},
 	}
-	labels := make(periodTicks, len(s.Periods))
+	labels := make([]string, len(s.Periods))
 	for k, q := range s.Periods {
 		labels[k] = q.Label
 	}
-	w, h := 7*vg.Inch, 7.5*vg.Inch
+	g := &legendOf{l: newLegend()}
+	// The legend's thumbnails, the first of each kind drawn: the
+	// periods' points first, then the lines.
+	var pointEntry, boundEntry, allEntry, refEntry plot.Thumbnailer
 	plots := make([][]*plot.Plot, len(panels))
 	for k, pn := range panels {
-		title := ""
-		if k == 0 {
-			title = fmt.Sprintf("By %s: O/E, calibration-in-the-large and AUC with 95%% intervals", s.Period)
-		}
-		p := newPlot(title, "", pn.name)
+		p := newPlot("", "", pn.name)
 		p.X.Min, p.X.Max = 0.4, float64(len(s.Periods))+0.6
-		p.X.Tick.Marker = labels
-		if k == len(panels)-1 {
+		last := k == len(panels)-1
+		p.X.Tick.Marker = periodTicks{labels: labels, show: last}
+		p.X.Tick.Length = 0
+		p.Y.Tick.Marker = roundTicks{}
+		if last {
 			p.X.Label.Text = s.Period + " (" + s.DateColumn + ")"
+			p.X.Tick.Label.Rotation = math.Pi / 5
+			p.X.Tick.Label.XAlign, p.X.Tick.Label.YAlign = draw.XRight, draw.YTop
 		}
-		p.X.Tick.Label.Rotation = math.Pi / 5
-		p.X.Tick.Label.XAlign, p.X.Tick.Label.YAlign = draw.XRight, draw.YCenter
 		var pts plotter.XYs
 		var errs plotter.YErrors
 		lo, hi := math.Inf(1), math.Inf(-1)
-		legended := false
 		for i, q := range s.Periods {
 			v, ci := pn.v(q)
 			if math.IsNaN(v) || math.IsInf(v, 0) {
@@ -346,7 +412,7 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) (drawn, erro
 			pts = append(pts, plotter.XY{X: float64(i + 1), Y: v})
 			lo, hi = math.Min(lo, v), math.Max(hi, v)
 			e := struct{ Low, High float64 }{0, 0}
-			if !math.IsNaN(ci[0]) && !math.IsNaN(ci[1]) {
+			if finite(ci[0]) && finite(ci[1]) {
 				e.Low, e.High = v-ci[0], ci[1]-v
 				lo, hi = math.Min(lo, ci[0]), math.Max(hi, ci[1])
 			}
@@ -358,19 +424,20 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) (drawn, erro
 				return drawn{}, err
 			}
 			p.Add(bl)
-			if !legended {
-				p.Legend.Add("plan criterion bound (on the value or an end of its interval)", bl)
-				legended = true
+			if boundEntry == nil {
+				boundEntry = bl
 			}
 			lo, hi = math.Min(lo, b), math.Max(hi, b)
 		}
 		if finite(pn.all) {
-			al, err := hline(pn.all, p.X.Min, p.X.Max, vermillion, 1.2, vg.Points(2), vg.Points(2))
+			al, err := hline(pn.all, p.X.Min, p.X.Max, ink, 1, vg.Points(5), vg.Points(2), vg.Points(1), vg.Points(2))
 			if err != nil {
 				return drawn{}, err
 			}
 			p.Add(al)
-			p.Legend.Add("all patients", al)
+			if allEntry == nil {
+				allEntry = al
+			}
 			lo, hi = math.Min(lo, pn.all), math.Max(hi, pn.all)
 		}
 		if !math.IsNaN(pn.ref) {
@@ -379,9 +446,10 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) (drawn, erro
 				return drawn{}, err
 			}
 			p.Add(rl)
-			if k == 0 {
-				p.Legend.Add("perfect calibration", rl)
+			if refEntry == nil {
+				refEntry = rl
 			}
+			lo, hi = math.Min(lo, pn.ref), math.Max(hi, pn.ref)
 		}
 		if len(pts) > 0 {
 			type yerr struct {
@@ -399,23 +467,36 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) (drawn, erro
 			}
 			sc.GlyphStyle.Shape, sc.GlyphStyle.Color, sc.GlyphStyle.Radius = draw.CircleGlyph{}, blue, vg.Points(3)
 			p.Add(eb, sc)
-			if k == 0 {
-				p.Legend.Add("period, with 95% interval", sc)
+			if pointEntry == nil {
+				pointEntry = sc
 			}
-			pad := 0.08 * (hi - lo)
-			if pad == 0 {
-				pad = 0.1
-			}
-			p.Y.Min, p.Y.Max = lo-pad, hi+pad*4
+		}
+		if finite(lo) && finite(hi) {
+			span(p, lo, hi)
 		}
 		plots[k] = []*plot.Plot{p}
 	}
+	for _, e := range []struct {
+		th   plot.Thumbnailer
+		text string
+	}{{pointEntry, "a period's value with its 95% interval (bar)"}, {allEntry, "all patients together"},
+		{refEntry, "perfect calibration (O/E 1, calibration-in-the-large 0)"},
+		{boundEntry, "plan criterion bound (on the value or an end of its interval)"}} {
+		if e.th != nil {
+			g.add(e.text, e.th)
+		}
+	}
+	sh := sheet{title: fmt.Sprintf("By %s: O/E, calibration-in-the-large and AUC with 95%% intervals", s.Period), legend: g.l, entries: g.n}
+	w := 7 * vg.Inch
+	h := 6.9*vg.Inch + sh.headHeight(w-vg.Points(10)) + sh.footHeight()
 	svg, png, err := paint(w, h, func(dc draw.Canvas) error {
-		tiles := draw.Tiles{Rows: len(panels), Cols: 1, PadY: vg.Points(8)}
-		canvases := plot.Align(plots, tiles, dc)
+		rest := sh.frame(dc)
+		tiles := draw.Tiles{Rows: len(panels), Cols: 1, PadY: vg.Points(10)}
+		canvases := plot.Align(plots, tiles, rest)
 		for k := range panels {
 			plots[k][0].Draw(canvases[k][0])
 		}
+		sh.foot(dc)
 		return nil
 	})
 	return drawn{svg, png}, err

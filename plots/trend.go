@@ -174,26 +174,28 @@ type chart struct {
 	name, title, ylab string
 	get               func(history.Record) [3]float64
 	ideal             float64
+	// idealText names the ideal line in the legend.
+	idealText string
 	// measures are the criterion measures drawn on the chart (the
 	// measure, its 95% interval's ends, the interval for contains).
 	measures []string
 }
 
 var trendCharts = []chart{
-	{"trend_auc.svg", "AUC by audit date", "AUC", func(r history.Record) [3]float64 { return r.AUC }, math.NaN(),
+	{"trend_auc.svg", "AUC by audit date", "AUC", func(r history.Record) [3]float64 { return r.AUC }, math.NaN(), "",
 		[]string{"auc", "auc_ci", "auc_ci.lower", "auc_ci.upper"}},
-	{"trend_oe.svg", "Observed / expected events by audit date", "O/E", func(r history.Record) [3]float64 { return r.OE }, 1,
+	{"trend_oe.svg", "Observed / expected events by audit date", "O/E", func(r history.Record) [3]float64 { return r.OE }, 1, "O/E = 1: as many events as predicted",
 		[]string{"oe", "oe_ci", "oe_ci.lower", "oe_ci.upper"}},
-	{"trend_slope.svg", "Calibration slope by audit date", "calibration slope", func(r history.Record) [3]float64 { return r.Slope }, 1,
+	{"trend_slope.svg", "Calibration slope by audit date", "calibration slope", func(r history.Record) [3]float64 { return r.Slope }, 1, "slope = 1: risks neither too extreme nor too moderate",
 		[]string{"slope", "slope_ci", "slope_ci.lower", "slope_ci.upper"}},
-	{"trend_citl.svg", "Calibration-in-the-large by audit date", "calibration-in-the-large (log-odds)", func(r history.Record) [3]float64 { return r.CITL }, 0,
+	{"trend_citl.svg", "Calibration-in-the-large by audit date", "calibration-in-the-large (log-odds)", func(r history.Record) [3]float64 { return r.CITL }, 0, "0: risks right on average",
 		[]string{"citl", "citl_ci", "citl_ci.lower", "citl_ci.upper"}},
 }
 
 // SeriesName is how the charts' legends name series i: numbered when
-// the trend holds several models, the model's name (cut to keep the
-// entry within the figure's width), then the short hash of its file and,
-// when it updates another model, which.
+// the trend holds several models, the model's name (whole: a legend
+// entry wider than the figure wraps onto the lines below it), then the
+// short hash of its file and, when it updates another model, which.
 func SeriesName(tr *trend.Trend, i int) string {
 	s := tr.Series[i]
 	var tags []string
@@ -213,11 +215,18 @@ func SeriesName(tr *trend.Trend, i int) string {
 	if len(tags) > 0 {
 		tail = " (" + strings.Join(tags, ", ") + ")"
 	}
-	return head + shorten(s.Model.Name, max(20, seriesNameWidth-len([]rune(head+tail)))) + tail
+	return head + s.Model.Name + tail
 }
 
-// seriesNameWidth is the most characters a series' legend entry holds.
-const seriesNameWidth = 74
+// seriesLegend is SeriesName with a preferred break before the
+// parenthesis of hashes, for a legend entry that does not fit one line.
+func seriesLegend(tr *trend.Trend, i int) string {
+	name := SeriesName(tr, i)
+	if k := strings.LastIndex(name, " (sha256 "); k > 0 {
+		return name[:k] + "\n" + name[k+1:]
+	}
+	return name
+}
 
 // Trend draws the four trend charts of an audit history: AUC, O/E (with
 // its funnel-type control limits), calibration slope and
@@ -234,13 +243,34 @@ func Trend(tr *trend.Trend) ([]Figure, error) {
 	for _, ch := range trendCharts {
 		p := newPlot("", "Audit date", ch.ylab)
 		p.X.Tick.Marker = timeTicks{}
+		p.Y.Tick.Marker = roundTicks{}
 		p.X.Min, p.X.Max = lo, hi
 		leg := plot.NewLegend()
 		styleLegend(&leg)
 		n := 0 // legend entries
+		// An entry wider than the strip wraps: its first line beside the
+		// thumbnail, the rest as lines of their own below it.
+		room := trendWidth - vg.Points(10) - leg.XOffs - leg.ThumbnailWidth - vg.Points(12)
+		// A "\n" in an entry is where it breaks first when it does not
+		// fit on one line.
 		add := func(text string, th ...plot.Thumbnailer) {
-			leg.Add(text, th...)
-			n++
+			one := strings.ReplaceAll(text, "\n", " ")
+			var ls []string
+			if textStyle(leg.TextStyle.Font, ink).Width(one) <= room {
+				ls = []string{one}
+			} else {
+				for _, part := range strings.Split(text, "\n") {
+					ls = append(ls, lines(part, leg.TextStyle.Font, room)...)
+				}
+			}
+			for k, l := range ls {
+				if k == 0 {
+					leg.Add(l, th...)
+				} else {
+					leg.Add(l)
+				}
+				n++
+			}
 		}
 		if !math.IsNaN(ch.ideal) {
 			ideal, err := line(plotter.XYs{{X: lo, Y: ch.ideal}, {X: hi, Y: ch.ideal}}, grey, 1, vg.Points(4), vg.Points(3))
@@ -248,6 +278,7 @@ func Trend(tr *trend.Trend) ([]Figure, error) {
 				return nil, err
 			}
 			p.Add(ideal)
+			add(ch.idealText, ideal)
 		}
 		if ch.name == "trend_oe.svg" {
 			if err := addLimits(p, tr, xs, limitShare*(hi-lo), add); err != nil {
@@ -289,7 +320,7 @@ func Trend(tr *trend.Trend) ([]Figure, error) {
 		// edge of the range is not drawn on the axis.
 		pad := 0.04 * (p.Y.Max - p.Y.Min)
 		p.Y.Min, p.Y.Max = p.Y.Min-pad, p.Y.Max+pad
-		b, png, err := single(p, sheet{title: ch.title, legend: &leg, entries: n}, 6.5*vg.Inch, 3.6*vg.Inch)
+		b, png, err := single(p, sheet{title: ch.title, legend: &leg, entries: n}, trendWidth, 3.6*vg.Inch)
 		if err != nil {
 			return nil, err
 		}
@@ -297,6 +328,9 @@ func Trend(tr *trend.Trend) ([]Figure, error) {
 	}
 	return out, nil
 }
+
+// trendWidth is the width of a trend chart.
+const trendWidth = 6.5 * vg.Inch
 
 // styleLegend gives a legend below a chart the look of the others.
 func styleLegend(l *plot.Legend) {
@@ -372,7 +406,7 @@ func addSeries(p *plot.Plot, tr *trend.Trend, si int, xs []float64, ch chart, ad
 		}
 		sc.GlyphStyle.Shape, sc.GlyphStyle.Color, sc.GlyphStyle.Radius = glyph, col, vg.Points(3)
 		p.Add(sc)
-		add(SeriesName(tr, si), sc)
+		add(seriesLegend(tr, si), sc)
 	} else {
 		add(SeriesName(tr, si) + ": no audit with this measure")
 	}

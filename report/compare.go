@@ -35,7 +35,7 @@ func WriteComparison(w io.Writer, c *validate.Comparison, figure string) error {
 	p("| | AUC |\n|---|---|\n| a: %s | %s |\n| b: %s | %s |\n\n", Escape(c.ModelA), f4(d.AUCA), Escape(c.ModelB), f4(d.AUCB))
 	p("Paired DeLong test (DeLong, DeLong & Clarke-Pearson 1988): the variance of the difference uses the covariance of the two models' structural components over the same patients (correlation of the two AUCs %s).\n\n", f3(d.Correlation))
 	b := c.Brier
-	p("## Overall accuracy\n\nBrier score a %s, b %s; difference a − b %s, 95%% bootstrap percentile interval %s (%d replicates, seed %d). A negative difference favours a.\n\n",
+	p("## Overall accuracy\n\nBrier score a %s, b %s; difference a − b: %s, 95%% bootstrap percentile interval %s (%d replicates, seed %d). A negative difference favours a.\n\n",
 		f4(b.A), f4(b.B), f4(b.Difference), Interval(b.DifferenceCI, "%.4f", ""), b.Replicates, b.Seed)
 	writeCompareCalibration(ew, c)
 	p("## Clinical usefulness\n\n| threshold | net benefit a | net benefit b | treat everyone |\n|---|---|---|---|\n")

@@ -35,7 +35,7 @@ func (r *renderer) overTime() {
 	if s.VLADEnd < 0 {
 		dir = "more"
 	}
-	r.p("Over the whole period there were %s events than the model predicted (cumulative expected − observed %s; lowest %s, highest %s along the way).\n\n",
+	r.p("Over the whole period there were %s events than the model predicted (cumulative expected − observed: %s; lowest %s, highest %s along the way).\n\n",
 		fmt.Sprintf("%.1f %s", abs(s.VLADEnd), dir), num(s.VLADEnd, "%+.1f"), num(s.VLADMin, "%+.1f"), num(s.VLADMax, "%+.1f"))
 	what := "month"
 	switch s.Period {

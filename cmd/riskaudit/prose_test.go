@@ -355,7 +355,7 @@ func proseRules() []proseRule {
 		rule("EWMA lower", `(?:crossed )?its lower limit(?: \(fewer events than predicted\))? on ⟨date⟩, after #`, func(js jsonDoc, _ map[string]string) []float64 {
 			return nums(js, "over_time.ewma.first_below.patient")
 		}, nil),
-		rule("cumulative O − E", `there were # (?P<dir>more|fewer) events than the model predicted \(cumulative expected − observed #; lowest #, highest #`, func(js jsonDoc, g map[string]string) []float64 {
+		rule("cumulative O − E", `there were # (?P<dir>more|fewer) events than the model predicted \(cumulative expected − observed: #; lowest #, highest #`, func(js jsonDoc, g map[string]string) []float64 {
 			return cat(one(math.Abs(js.num("over_time.vlad_end"))), nums(js, "over_time.vlad_end", "over_time.vlad_min", "over_time.vlad_max"))
 		}, has("over_time.vlad_end")),
 		rule("ARL", `with an in-control ARL of # patients`, func(js jsonDoc, _ map[string]string) []float64 {

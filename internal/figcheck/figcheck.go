@@ -28,14 +28,22 @@ import (
 )
 
 // Box is one text's estimated box, in points from the canvas's top left.
+// A text turned by an angle (a y-axis label at 90°, slanted category
+// labels) has the upright rectangle around its turned box as MinX … MaxY
+// and its own box in the turned frame as U0 … V1 (baseline along u, up
+// along v), with which two texts at the same angle are compared.
 type Box struct {
 	Text                   string
 	MinX, MinY, MaxX, MaxY float64
 	Rotated                bool
+	// Angle is the turn in degrees, counter-clockwise.
+	Angle          float64
+	U0, U1, V0, V1 float64
 }
 
 var (
 	sizeRe = regexp.MustCompile(`<svg width="([0-9.]+)pt" height="([0-9.]+)pt"`)
+	rotRe  = regexp.MustCompile(`<g transform="rotate\(([-0-9.e]+)\)">$`)
 	textRe = regexp.MustCompile(`(?s)<text x="([-0-9.e]+)" y="([-0-9.e]+)" transform="([^"]*)"\s*style="([^"]*)"\s*>([^<]*)</text>`)
 	fsRe   = regexp.MustCompile(`font-size:([0-9.]+)px`)
 	nanRe  = regexp.MustCompile(`(?i)\bnan\b|[+-]?inf\b`)
@@ -55,7 +63,10 @@ func Texts(svg []byte) (w, h float64, boxes []Box, err error) {
 		for k := range t {
 			t[k] = svg[loc[2*k]:loc[2*k+1]]
 		}
-		rotated := bytes.HasSuffix(bytes.TrimRight(svg[:loc[0]], "\n\t "), []byte(`<g transform="rotate(90)">`))
+		angle := 0.0
+		if r := rotRe.FindSubmatch(bytes.TrimRight(svg[:loc[0]], "\n\t ")); r != nil {
+			angle, _ = strconv.ParseFloat(string(r[1]), 64)
+		}
 		x, _ := strconv.ParseFloat(string(t[1]), 64)
 		y, _ := strconv.ParseFloat(string(t[2]), 64)
 		fs := fsRe.FindSubmatch(t[4])
@@ -70,21 +81,19 @@ func Texts(svg []byte) (w, h float64, boxes []Box, err error) {
 		text := html.UnescapeString(string(t[5]))
 		adv := float64(draw.TextStyle{Font: f, Handler: plot.DefaultTextHandler}.Width(text).Points())
 		asc, desc := 0.91*size, 0.22*size
-		b := Box{Text: text}
-		if rotated {
-			// A y axis label, in a group turned by 90°: its baseline
-			// starts at (y, h − x) from the top left and runs upwards,
-			// the glyphs' tops to the left.
-			b.Rotated = true
-			cx, cy := y, h-x
-			b.MinX, b.MaxX = cx-asc, cx+desc
-			b.MinY, b.MaxY = cy-adv, cy
-		} else {
-			// The group flips y (scale(1,-1) translate(0,-h)) and the text
-			// flips back: the baseline is h + y below the top.
-			base := h + y
-			b.MinX, b.MaxX = x, x+adv
-			b.MinY, b.MaxY = base-asc, base+desc
+		// The group flips y (scale(1,-1) translate(0,-h)), a rotate(θ)
+		// group inside it turns by θ counter-clockwise, and the text
+		// flips back: in the turned frame, y up, the baseline starts at
+		// (x, −y) and runs along u.
+		b := Box{Text: text, Rotated: angle != 0, Angle: angle, U0: x, U1: x + adv, V0: -y - desc, V1: -y + asc}
+		sin, cos := math.Sincos(angle * math.Pi / 180)
+		b.MinX, b.MinY, b.MaxX, b.MaxY = math.Inf(1), math.Inf(1), math.Inf(-1), math.Inf(-1)
+		for _, u := range []float64{b.U0, b.U1} {
+			for _, v := range []float64{b.V0, b.V1} {
+				cx, cy := u*cos-v*sin, h-(u*sin+v*cos)
+				b.MinX, b.MaxX = math.Min(b.MinX, cx), math.Max(b.MaxX, cx)
+				b.MinY, b.MaxY = math.Min(b.MinY, cy), math.Max(b.MaxY, cy)
+			}
 		}
 		boxes = append(boxes, b)
 	}
@@ -106,6 +115,7 @@ func Check(svg []byte) []string {
 		out = append(out, "no text found (the parser no longer matches the SVG)")
 	}
 	const tol = 0.5 // points
+	const gap = 1.5 // points at least between texts side by side
 	for _, b := range boxes {
 		if b.MinX < -tol || b.MinY < -tol || b.MaxX > w+tol || b.MaxY > h+tol {
 			out = append(out, fmt.Sprintf("text %q at [%.1f,%.1f]–[%.1f,%.1f] is outside the %.1f × %.1f canvas", b.Text, b.MinX, b.MinY, b.MaxX, b.MaxY, w, h))
@@ -116,8 +126,18 @@ func Check(svg []byte) []string {
 			a, b := boxes[i], boxes[j]
 			ox := math.Min(a.MaxX, b.MaxX) - math.Max(a.MinX, b.MinX)
 			oy := math.Min(a.MaxY, b.MaxY) - math.Max(a.MinY, b.MinY)
-			if ox > tol && oy > tol {
+			if a.Angle == b.Angle && a.Angle != 0 {
+				// Turned alike: compare the boxes in their own frame.
+				ox = math.Min(a.U1, b.U1) - math.Max(a.U0, b.U0)
+				oy = math.Min(a.V1, b.V1) - math.Max(a.V0, b.V0)
+			}
+			switch {
+			case ox > tol && oy > tol:
 				out = append(out, fmt.Sprintf("texts %q and %q overlap (%.1f × %.1f points)", a.Text, b.Text, ox, oy))
+			case ox > -gap && oy > tol:
+				// Side by side with less than gap between them: two tick
+				// labels that touch read as one number ("0.80.4").
+				out = append(out, fmt.Sprintf("texts %q and %q touch: %.1f points apart side by side, less than %.1f", a.Text, b.Text, -ox, gap))
 			}
 		}
 	}
