@@ -10,8 +10,12 @@ import (
 // periods) and their random-effects meta-analysis (validate.MeasureClusters).
 type ClusterConfig struct {
 	// Column is the cluster column; empty means no analysis across
-	// clusters.
+	// clusters, unless Files are given.
 	Column string
+	// Files, instead of a column and of Config.Cohort, are the cohort's
+	// files, each one cluster (clusterfiles.go): at least two, scored by
+	// the same model and audited as one cohort.
+	Files []ClusterFile
 	// Tau2Method is "reml" (also ""), "dl" or "pm"; CIMethod "hksj" (also
 	// "") or "wald".
 	Tau2Method, CIMethod string
@@ -26,7 +30,7 @@ type ClusterConfig struct {
 // check refuses options that do not name a method, or bounds that are
 // not ranges, naming the flags.
 func (c ClusterConfig) check() error {
-	if c.Column == "" {
+	if c.Column == "" && len(c.Files) == 0 {
 		return nil
 	}
 	if c.Tau2Method != "" {
@@ -53,8 +57,12 @@ func (c ClusterConfig) check() error {
 // clusters measures the model in every cluster and pools the measures.
 func (r *run) clusters(a *validate.Audit) error {
 	c := r.cfg.Clusters
-	r.prog.Step("measuring and pooling across " + c.Column)
-	opt := validate.ClusterOptions{Column: c.Column, MinEvents: c.MinEvents, Bounds: c.Bounds, Epsilon: r.cfg.Measures.Epsilon,
+	column := c.Column
+	if column == "" {
+		column = ClusterFilesLabel
+	}
+	r.prog.Step("measuring and pooling across " + column)
+	opt := validate.ClusterOptions{Column: column, MinEvents: c.MinEvents, Bounds: c.Bounds, Epsilon: r.cfg.Measures.Epsilon,
 		Meta: meta.Options{Tau2: meta.Tau2Method(c.Tau2Method), CI: meta.CIMethod(c.CIMethod)}}
 	cl, err := validate.MeasureClusters(r.cur.y, r.cur.p, r.cur.lp, *r.cur.cluster, opt)
 	if err != nil {

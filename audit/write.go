@@ -82,7 +82,7 @@ func CheckWrite(dir string, cfg *Config, opt WriteOptions) error {
 			extras = append(extras, atomicfile.File{Path: p})
 		}
 	}
-	inputs := append([]string{cfg.Model, cfg.Cohort.Path, cfg.Dev.Path, opt.History}, opt.Inputs...)
+	inputs := append(append([]string{cfg.Model, cfg.Cohort.Path, cfg.Dev.Path, opt.History}, opt.Inputs...), cfg.clusterPaths()...)
 	if _, _, err := layoutOutputs(dir, files, extras, inputs, "audit"); err != nil {
 		return asConfigError(err)
 	}

@@ -182,6 +182,9 @@ func newAuditCmd(s *streams) *cobra.Command {
 					return err
 				}
 			}
+			if err := o.clusters.checkSource(cmd.Flags()); err != nil {
+				return err
+			}
 			return runAudit(cmd.Context(), o, s)
 		},
 	}
