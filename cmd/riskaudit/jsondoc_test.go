@@ -72,7 +72,17 @@ func TestJSONKeysDocumented(t *testing.T) {
 	if err := os.WriteFile(dated, []byte(b.String()), 0o644); err != nil {
 		t.Fatal(err)
 	}
+	// The same multicentre cohort as one file per site (--cluster-file).
+	sites := filepath.Join(dir, "sites")
+	if err := os.Mkdir(sites, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	clusterFiles := []string{"audit", "--predicted", "risk", "--outcome", "outcome", "--event", "1", "--out", filepath.Join(dir, "clusterfiles"), "-q"}
+	for _, f := range splitBySite(t, sites) {
+		clusterFiles = append(clusterFiles, "--cluster-file", f)
+	}
 	for _, args := range [][]string{
+		clusterFiles,
 		{"audit", "--predicted", "risk", "--outcome", "event", "--event", "1", "--cohort", dated, "--date-column", "day",
 			"--period", "300", "--cusum-arl", "200", "--out", filepath.Join(dir, "dated"), "-q"},
 		{"audit", "--plan", planFile, "--rename", "bmi_value=bmi", "-q"},
@@ -98,7 +108,8 @@ func TestJSONKeysDocumented(t *testing.T) {
 	}
 	paths := map[string]bool{}
 	for _, f := range []string{filepath.Join(dir, "dated", "audit.json"), filepath.Join(dir, "audit", "audit.json"), filepath.Join(dir, "planned", "audit.json"), filepath.Join(dir, "fit.json"), filepath.Join(dir, "cmp", "compare.json"), filepath.Join(dir, "size.json"),
-		filepath.Join(dir, "audit2", "audit.json"), filepath.Join(dir, "trend", "trend.json"), filepath.Join(dir, "clusters", "audit.json")} {
+		filepath.Join(dir, "audit2", "audit.json"), filepath.Join(dir, "trend", "trend.json"), filepath.Join(dir, "clusters", "audit.json"),
+		filepath.Join(dir, "clusterfiles", "audit.json")} {
 		raw, err := os.ReadFile(f)
 		if err != nil {
 			t.Fatal(err)
@@ -125,7 +136,7 @@ func TestJSONKeysDocumented(t *testing.T) {
 	sort.Strings(missing)
 	for _, p := range []string{"nested.lr_chi2", "delong.difference_se", "update.chosen", "internal.shrinkage_factor", "bootstrap_ci.ici", "criteria[].formula",
 		"provenance.plan.sha256", "provenance.renames[].applied_to", "model.purpose.replaced_from_model.setting", "model.fitted_model.sha256", "calibration.b.ici_ci",
-		"model.parent_sha256", "models[].parent_series", "over_time.cusum[].first_signal.patient", "over_time.periods[].auc_ci", "model_changes[].series_before", "audits[].criteria[].between"} {
+		"model.parent_sha256", "models[].parent_series", "provenance.inputs[].cluster", "over_time.cusum[].first_signal.patient", "over_time.periods[].auc_ci", "model_changes[].series_before", "audits[].criteria[].between"} {
 		if !paths[p] {
 			t.Errorf("%s not written: an analysis did not run", p)
 		}
