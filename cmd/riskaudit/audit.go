@@ -160,6 +160,11 @@ const auditExample = `  # Audit a frozen model on a fresh extract
   # prediction intervals and the chance of acceptable performance in a new site
   riskaudit audit --model frozen.yaml --cohort new.csv --cluster site --out audit
 
+  # The same with each hospital's extract in a file of its own (one cluster
+  # a file, named before the '=' or by the file's base name)
+  riskaudit audit --model frozen.yaml --cluster-file north=north.csv --cluster-file south=south.csv \
+    --cluster-file east.csv --out audit
+
   # The cohort from a PostgreSQL query, the period bound as parameters
   # (the connection from PGHOST, PGUSER, … and the password file)
   riskaudit audit --model frozen.yaml --cohort-query-file cohort.sql \
