@@ -94,13 +94,14 @@ type Hospital struct {
 
 // The hospitals of Ostbrook Valley Health (invented names): a large
 // central hospital, three district hospitals and a small community
-// hospital, too small for every measure to be pooled.
+// hospital (Brackenlea), too small for every measure to be pooled. The
+// names are short enough for the forest plots' row labels.
 const (
 	hospCentral   = "Ostbrook Central"
 	hospNorth     = "Ostbrook North"
 	hospVellmoor  = "Vellmoor District"
 	hospTarrow    = "Tarrowfield"
-	hospCommunity = "Brackenlea Community"
+	hospCommunity = "Brackenlea"
 )
 
 // Development is the extract the demo model is fitted to: admissions
@@ -117,7 +118,7 @@ var Development = Extract{Rows: 4000, Seed: 20240101, MissingRate: 0.02, Start: 
 // central one operates on older patients and Tarrowfield on younger ones
 // (case-mix), Vellmoor District's complications are more common than the
 // model predicts and Tarrowfield's less (calibration), and Brackenlea
-// Community is too small for its measures to be pooled.
+// (the community hospital) is too small for its measures to be pooled.
 var Later = Extract{Rows: 3000, Seed: 20260101, AgeShift: 5, EventShift: -0.05, MissingRate: 0.03, Start: "2026-01-01", Days: 365,
 	DriftDay: 181, DriftShift: 0.7,
 	Hospitals: []Hospital{{Name: hospCentral, Share: 0.36, AgeShift: 2}, {Name: hospNorth, Share: 0.26},
