@@ -10,8 +10,12 @@ import (
 // periods) and their random-effects meta-analysis (validate.MeasureClusters).
 type ClusterConfig struct {
 	// Column is the cluster column; empty means no analysis across
-	// clusters.
+	// clusters, unless Files are given.
 	Column string
+	// Files, instead of a column and of Config.Cohort, are the cohort's
+	// files, each one cluster (clusterfiles.go): at least two, scored by
+	// the same model and audited as one cohort.
+	Files []ClusterFile
 	// Tau2Method is "reml" (also ""), "dl" or "pm"; CIMethod "hksj" (also
 	// "") or "wald".
 	Tau2Method, CIMethod string
@@ -26,7 +30,7 @@ type ClusterConfig struct {
 // check refuses options that do not name a method, or bounds that are
 // not ranges, naming the flags.
 func (c ClusterConfig) check() error {
-	if c.Column == "" {
+	if c.Column == "" && len(c.Files) == 0 {
 		return nil
 	}
 	if c.Tau2Method != "" {
@@ -53,7 +57,11 @@ func (c ClusterConfig) check() error {
 // clusterOptions are the cluster analysis's options from the Config.
 func clusterOptions(cfg *Config) validate.ClusterOptions {
 	c := cfg.Clusters
-	return validate.ClusterOptions{Column: c.Column, MinEvents: c.MinEvents, Bounds: c.Bounds, Epsilon: cfg.Measures.Epsilon,
+	column := c.Column
+	if column == "" {
+		column = ClusterFilesLabel // clusters from files, one each
+	}
+	return validate.ClusterOptions{Column: column, MinEvents: c.MinEvents, Bounds: c.Bounds, Epsilon: cfg.Measures.Epsilon,
 		Meta: meta.Options{Tau2: meta.Tau2Method(c.Tau2Method), CI: meta.CIMethod(c.CIMethod)}}
 }
 
@@ -62,9 +70,9 @@ func (r *run) clusters(a *validate.Audit) error {
 	if r.imp != nil {
 		return r.imputedClusters(a)
 	}
-	c := r.cfg.Clusters
-	r.prog.Step("measuring and pooling across " + c.Column)
-	cl, err := validate.MeasureClusters(r.cur.y, r.cur.p, r.cur.lp, *r.cur.cluster, clusterOptions(r.cfg))
+	opt := clusterOptions(r.cfg)
+	r.prog.Step("measuring and pooling across " + opt.Column)
+	cl, err := validate.MeasureClusters(r.cur.y, r.cur.p, r.cur.lp, *r.cur.cluster, opt)
 	if err != nil {
 		return err
 	}

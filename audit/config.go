@@ -229,7 +229,7 @@ func (c *Config) check() error {
 		return configErrorf("--predicted needs --outcome and --event")
 	case c.Predicted != nil && c.Predicted.Column == c.Predicted.Outcome:
 		return configErrorf("--predicted and --outcome name the same column")
-	case !c.Cohort.given() && !c.Dev.given():
+	case !c.hasCohort() && !c.Dev.given():
 		return configErrorf("give the cohort to audit with --cohort (or, for a recipe, the development data with --dev)")
 	case c.Bootstrap < 0 || c.CIBootstrap < 0:
 		return configErrorf("--bootstrap and --ci-bootstrap take a number of replicates")
@@ -243,15 +243,18 @@ func (c *Config) check() error {
 		return configErrorf("--ci-bootstrap %d: give at least 20 replicates", c.CIBootstrap)
 	case (c.Shrunken != "" || c.ResampleLog != "") && c.Bootstrap == 0:
 		return configErrorf("--shrunken and --resample-log come from the bootstrap: add --bootstrap N")
-	case !c.Cohort.given() && c.Predicted != nil:
+	case !c.hasCohort() && c.Predicted != nil:
 		return configErrorf("--predicted needs --cohort")
-	case c.Update != "" && (c.Predicted != nil || !c.Cohort.given()):
+	case c.Update != "" && (c.Predicted != nil || !c.hasCohort()):
 		return configErrorf("--update updates a model on the cohort: give --model and --cohort")
 	}
 	if c.AuditDate != "" {
 		if err := CheckAuditDate(c.AuditDate); err != nil {
 			return err
 		}
+	}
+	if err := c.checkClusterFiles(); err != nil {
+		return err
 	}
 	if err := c.Clusters.check(); err != nil {
 		return err
@@ -265,7 +268,7 @@ func (c *Config) check() error {
 		}
 	}
 	for _, out := range []string{c.Shrunken, c.ResampleLog, c.Update} {
-		if err := CheckNotInput(out, c.Model, c.Cohort.Path, c.Dev.Path); err != nil {
+		if err := CheckNotInput(out, append([]string{c.Model, c.Cohort.Path, c.Dev.Path}, c.clusterPaths()...)...); err != nil {
 			return err
 		}
 	}

@@ -45,8 +45,8 @@ func Example() {
 		log.Fatal(err)
 	}
 	// Output:
-	// 2772 of 3000 patients used, 446 events
-	// AUC 0.746 (95% CI 0.722 to 0.770), development 0.707
-	// O/E 1.40 (95% CI 1.28 to 1.52)
+	// 2772 of 3000 patients used, 476 events
+	// AUC 0.736 (95% CI 0.712 to 0.761), development 0.707
+	// O/E 1.47 (95% CI 1.36 to 1.60)
 	// verdict fail
 }

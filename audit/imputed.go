@@ -49,6 +49,8 @@ func (c *Config) prepareImputation() error {
 		return configErrorf("--imputed gives the cohort's completed datasets: leave out --cohort")
 	case im.Column != "" && !c.Cohort.given():
 		return configErrorf("--imputation-column %s names a column of the stacked cohort: give it with --cohort", im.Column)
+	case len(c.Clusters.Files) > 0:
+		return configErrorf("--cluster-file is not combined with imputed data: give the completed datasets with a cluster column (--cluster) instead")
 	case c.CIBootstrap > 0:
 		return configErrorf("--ci-bootstrap is not combined with imputed data: the pooled measures have Rubin's intervals")
 	case c.Update != "":

@@ -41,6 +41,18 @@ type dateColumn struct {
 	levels []string
 	lines  []int
 	file   string
+	// files and fileOf name each row's file when the cohort joins
+	// cluster files (nil otherwise: every row is file's).
+	files  []string
+	fileOf []int32
+}
+
+// fileAt is the file of used row i.
+func (d *dateColumn) fileAt(i int) string {
+	if d.fileOf == nil {
+		return d.file
+	}
+	return d.files[d.fileOf[i]]
 }
 
 // request adds the date column to the columns read, as text.
@@ -160,14 +172,14 @@ func (r *run) overTime(ctx context.Context, a *validate.Audit) error {
 		if code < 0 || levels[code].empty {
 			missing++
 			if c.FailOnMissing {
-				return &cohort.Error{File: sc.dates.file, Line: sc.dates.lines[i], Column: o.DateColumn, Msg: "the date is missing (the missing-value policy refuses it)", Kind: cohort.ErrMissing}
+				return &cohort.Error{File: sc.dates.fileAt(i), Line: sc.dates.lines[i], Column: o.DateColumn, Msg: "the date is missing (the missing-value policy refuses it)", Kind: cohort.ErrMissing}
 			}
 			continue
 		}
 		if !levels[code].ok {
 			invalid++
 			if c.FailOnMissing {
-				return &cohort.Error{File: sc.dates.file, Line: sc.dates.lines[i], Column: o.DateColumn, Value: sc.dates.levels[code], HasValue: true, Msg: "not a date (give YYYY-MM-DD or an RFC 3339 time); the missing-value policy refuses it", Kind: cohort.ErrFormat}
+				return &cohort.Error{File: sc.dates.fileAt(i), Line: sc.dates.lines[i], Column: o.DateColumn, Value: sc.dates.levels[code], HasValue: true, Msg: "not a date (give YYYY-MM-DD or an RFC 3339 time); the missing-value policy refuses it", Kind: cohort.ErrFormat}
 			}
 			continue
 		}

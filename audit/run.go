@@ -151,10 +151,16 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 		if err := r.imputed(ctx); err != nil {
 			return nil, err
 		}
-	} else if c.Cohort.given() {
+	} else if c.hasCohort() {
 		var err error
-		r.prog.Step("reading and scoring " + c.Cohort.Path)
-		if r.cur, err = c.score(ctx, r.spec, c.Cohort); err != nil {
+		if len(c.Clusters.Files) > 0 {
+			r.prog.Step(fmt.Sprintf("reading and scoring %d cluster files", len(c.Clusters.Files)))
+			r.cur, err = c.scoreClusterFiles(ctx, r.spec)
+		} else {
+			r.prog.Step("reading and scoring " + c.Cohort.Path)
+			r.cur, err = c.score(ctx, r.spec, c.Cohort)
+		}
+		if err != nil {
 			return nil, err
 		}
 		defer r.tightenGC(len(r.cur.y))()
@@ -261,7 +267,7 @@ func (r *run) tightenGC(rows int) (restore func()) {
 func (r *run) newAudit(internal *validate.Internal) *validate.Audit {
 	c := r.cfg
 	var a *validate.Audit
-	if c.Cohort.given() {
+	if c.hasCohort() {
 		a = validate.NewAudit(r.modelInfo(), r.provenance(), r.perf, r.devPerf, c.Dev.Path)
 	} else {
 		a = validate.NewAudit(r.modelInfo(), r.provenance(), r.perf, nil, "")
@@ -312,14 +318,14 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 		return &ConfigError{Msg: err.Error()}
 	}
 	a.SampleSize = sampleSizeOf(r.cur, r.perf, c.Measures.ClassifyAt, c.sizeRequest())
-	if c.hasModel() && c.Dev.given() && c.Cohort.given() && r.imp == nil {
+	if c.hasModel() && c.Dev.given() && c.hasCohort() && r.imp == nil {
 		r.prog.Step("comparing case-mix")
 		if a.CaseMix, err = c.caseMix(r.spec, r.dev, r.cur, r.devPerf, r.perf); err != nil {
 			return err
 		}
 	}
 	if c.Update != "" {
-		r.prog.Step("updating the model on " + c.Cohort.Path)
+		r.prog.Step("updating the model on " + r.cur.file)
 		parent := validate.ParentModel{Path: c.Model, SHA256: r.modelHash}
 		if fm := r.fittedFile(); fm != nil {
 			parent = validate.ParentModel{Path: fm.Path, SHA256: fm.SHA256, FittedInAudit: true}
@@ -338,7 +344,7 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 			return err
 		}
 	}
-	if c.Clusters.Column != "" && r.cur.cluster != nil {
+	if r.cur.cluster != nil {
 		if err := r.clusters(a); err != nil {
 			return err
 		}
@@ -465,8 +471,9 @@ func (r *run) provenance() validate.Provenance {
 		pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "model", Path: c.Model, SHA256: r.modelHash})
 	}
 	pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "cohort", Path: r.cur.file, Sheet: r.cur.sheet, SHA256: r.cur.hash, Query: r.cur.query})
+	pv.Inputs = append(pv.Inputs, r.cur.files...)
 	read := []readFile{{"cohort", r.cur.renamed}}
-	if c.Cohort.given() && r.dev != nil {
+	if c.hasCohort() && r.dev != nil {
 		pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "development", Path: r.dev.file, Sheet: r.dev.sheet, SHA256: r.dev.hash, Query: r.dev.query})
 		read = append(read, readFile{"development", r.dev.renamed})
 	}

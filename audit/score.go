@@ -24,8 +24,12 @@ type scored struct {
 	// rows (NaN where missing), cut into bands for the audited cohort
 	// only, since the quantiles are the audited cohort's.
 	bandValues [][]float64
-	// cluster codes the rows by the Config.Clusters column, or is nil.
+	// cluster codes the rows by the Config.Clusters column (or cluster
+	// file), or is nil.
 	cluster *validate.GroupColumn
+	// files are the cluster files joined into this cohort, for the
+	// provenance (nil for one file).
+	files []validate.InputFile
 	// frame is the data as read, kept so that later analyses (case-mix,
 	// updating) need not read it again.
 	frame    *cohort.Frame

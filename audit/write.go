@@ -82,7 +82,7 @@ func CheckWrite(dir string, cfg *Config, opt WriteOptions) error {
 			extras = append(extras, atomicfile.File{Path: p})
 		}
 	}
-	inputs := append([]string{cfg.Model, cfg.Cohort.Path, cfg.Dev.Path, opt.History}, opt.Inputs...)
+	inputs := append(append([]string{cfg.Model, cfg.Cohort.Path, cfg.Dev.Path, opt.History}, opt.Inputs...), cfg.clusterPaths()...)
 	for _, in := range cfg.Imputation.Files {
 		inputs = append(inputs, in.Path)
 	}

@@ -135,6 +135,9 @@ type Plan struct {
 	Clusters Clusters
 	// Imputation is a multiply imputed cohort (plan/imputation.go).
 	Imputation Imputation
+	// ClusterFiles are the cohort's files, each one cluster, in place of
+	// cohort and cluster (plan/clusterfiles.go).
+	ClusterFiles []ClusterFile
 	// DateColumn charts the cohort in date order (audit --date-column);
 	// Periods is "month", "quarter" or a number of patients a block.
 	DateColumn, Periods string
@@ -205,7 +208,7 @@ var topKeys = []string{"name", "model", "predicted", "predicted_percent", "outco
 	"audit_date", "rename", "subgroups", "min_subgroup_events", "subgroup_criteria", "criteria", "bootstrap", "ci_bootstrap",
 	"thresholds", "classify_at", "net_benefit_min_gain", "data", "sample_size", "purpose",
 	"db", "cohort_query", "cohort_query_file", "dev_query", "dev_query_file", "params",
-	"cluster", "clusters", "date_column", "periods", "imputation_column", "imputed"}
+	"cluster", "clusters", "date_column", "periods", "imputation_column", "imputed", "cluster_files"}
 
 // Load reads the plan at path.
 func Load(path string) (*Plan, error) {
@@ -251,6 +254,9 @@ func Parse(name string, data []byte) (*Plan, error) {
 		return nil, err
 	}
 	dir := filepath.Dir(name)
+	if err := p.checkClusterFiles(pl, dir); err != nil {
+		return nil, err
+	}
 	for _, f := range []*string{&pl.Model, &pl.Dev, &pl.Cohort, &pl.Out, &pl.History} {
 		if *f != "" && !filepath.IsAbs(*f) {
 			*f = filepath.Join(dir, *f)
@@ -530,6 +536,8 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 		err = p.clusters(&pl.Clusters, v, pl.Set)
 	case "imputation_column", "imputed":
 		err = p.imputation(&pl.Imputation, key, v)
+	case "cluster_files":
+		pl.ClusterFiles, err = p.clusterFiles(v)
 	case "db", "cohort_query", "cohort_query_file", "dev_query", "dev_query_file", "params":
 		err = p.query(pl, key, v)
 	case "criteria":

@@ -12,6 +12,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"strconv"
+	"time"
 )
 
 // Recipe is the demo's model recipe.
@@ -63,25 +64,88 @@ type Extract struct {
 	AgeShift, EventShift float64
 	// MissingRate is the share of missing BMI and albumin values.
 	MissingRate float64
+	// Hospitals are the group's hospitals the patients were operated in
+	// (the column hospital), each with its share of the patients and its
+	// own differences; their shares sum to 1.
+	Hospitals []Hospital
+	// Start is the first admission date (the column admission_date,
+	// YYYY-MM-DD) and Days the number of days admissions span, each day
+	// equally likely.
+	Start string
+	Days  int
+	// DriftDay and DriftShift imitate drift inside the extract: patients
+	// admitted DriftDay days after Start or later have DriftShift added
+	// to their log-odds (0: none).
+	DriftDay   int
+	DriftShift float64
 }
 
-// Development is the extract the demo model is fitted to.
-var Development = Extract{Rows: 4000, Seed: 20240101, MissingRate: 0.02}
+// Hospital is one invented hospital of the group, as an extract sees it.
+type Hospital struct {
+	// Name is the value of the hospital column.
+	Name string
+	// Share is the share of the extract's patients operated there.
+	Share float64
+	// AgeShift moves its patients' ages (years, case-mix) and EventShift
+	// their log-odds (a local difference the model does not know of,
+	// such as how complications are recorded there).
+	AgeShift, EventShift float64
+}
 
-// Later is an extract two years on, in which the patients are older and
-// complications more common at every level of risk (say a change in how
-// complications are recorded): the model should still rank patients well
-// but under-predict their risk.
-var Later = Extract{Rows: 3000, Seed: 20260101, AgeShift: 5, EventShift: 0.35, MissingRate: 0.03}
+// The hospitals of Ostbrook Valley Health (invented names): a large
+// central hospital, three district hospitals and a small community
+// hospital (Brackenlea), too small for every measure to be pooled. The
+// names are short enough for the forest plots' row labels.
+const (
+	hospCentral   = "Ostbrook Central"
+	hospNorth     = "Ostbrook North"
+	hospVellmoor  = "Vellmoor District"
+	hospTarrow    = "Tarrowfield"
+	hospCommunity = "Brackenlea"
+)
 
-// CSV returns the extract as CSV text with a header row.
+// Development is the extract the demo model is fitted to: admissions
+// over 2024 in the group's five hospitals, which differ only by chance.
+var Development = Extract{Rows: 4000, Seed: 20240101, MissingRate: 0.02, Start: "2024-01-01", Days: 366,
+	Hospitals: []Hospital{{Name: hospCentral, Share: 0.36}, {Name: hospNorth, Share: 0.26}, {Name: hospVellmoor, Share: 0.2},
+		{Name: hospTarrow, Share: 0.16}, {Name: hospCommunity, Share: 0.02}}}
+
+// Later is an extract two years on, in which the patients are older and,
+// from 1 July 2026 (day 181), complications more common at every level of
+// risk (say a change in how complications are recorded): the model should
+// still rank patients well but under-predict their risk in the second half
+// of the year, which the charts over time show. The hospitals differ: the
+// central one operates on older patients and Tarrowfield on younger ones
+// (case-mix), Vellmoor District's complications are more common than the
+// model predicts and Tarrowfield's less (calibration), and Brackenlea
+// (the community hospital) is too small for its measures to be pooled.
+var Later = Extract{Rows: 3000, Seed: 20260101, AgeShift: 5, EventShift: -0.05, MissingRate: 0.03, Start: "2026-01-01", Days: 365,
+	DriftDay: 181, DriftShift: 0.7,
+	Hospitals: []Hospital{{Name: hospCentral, Share: 0.36, AgeShift: 2}, {Name: hospNorth, Share: 0.26},
+		{Name: hospVellmoor, Share: 0.2, EventShift: 0.45}, {Name: hospTarrow, Share: 0.16, AgeShift: -3, EventShift: -0.35},
+		{Name: hospCommunity, Share: 0.02}}}
+
+// CSV returns the extract as CSV text with a header row. The hospital
+// and the admission date are drawn from a stream of their own, so that
+// the patients' other values are those of the extract without them.
 func (e Extract) CSV() []byte {
 	r := rand.New(rand.NewPCG(e.Seed, 0x0b57b00c))
+	site := rand.New(rand.NewPCG(e.Seed, 0x5173da7e))
+	start, err := time.Parse(time.DateOnly, e.Start)
+	if err != nil {
+		panic(fmt.Sprintf("scenario: start date %q: %v", e.Start, err))
+	}
 	var b bytes.Buffer
-	b.WriteString("patient_ref,age,sex,bmi,smoker,albumin,op_minutes,lung_disease,ppc_30d\n")
+	b.WriteString("patient_ref,age,sex,bmi,smoker,albumin,op_minutes,lung_disease,ppc_30d,hospital,admission_date\n")
 	buf := make([]byte, 0, 32)
 	for i := 0; i < e.Rows; i++ {
-		age := clamp(math.Round(64+e.AgeShift+11*normal(r)), 18, 97)
+		h := e.hospital(site.Float64())
+		day := site.IntN(e.Days)
+		shift := e.EventShift + h.EventShift
+		if e.DriftShift != 0 && day >= e.DriftDay {
+			shift += e.DriftShift
+		}
+		age := clamp(math.Round(64+e.AgeShift+h.AgeShift+11*normal(r)), 18, 97)
 		male := r.Float64() < 0.48
 		bmi := clamp(math.Round((27.5+5*normal(r))*10)/10, 15, 55)
 		smoke := "never"
@@ -94,7 +158,7 @@ func (e Extract) CSV() []byte {
 		lung := r.Float64() < 0.08+0.004*math.Max(age-50, 0)
 		alb := clamp(math.Round((40-0.08*(age-64)+4*normal(r))*10)/10, 18, 55)
 		mins := clamp(math.Round(math.Exp(math.Log(140)+0.4*normal(r))), 30, 600)
-		eta := -3.1 + e.EventShift + 0.45*(age-65)/10 + 0.004*sq(bmi-26) - 0.06*(alb-40) +
+		eta := -3.1 + shift + 0.45*(age-65)/10 + 0.004*sq(bmi-26) - 0.06*(alb-40) +
 			0.75*math.Log(mins/120)
 		if male {
 			eta += 0.3
@@ -121,9 +185,24 @@ func (e Extract) CSV() []byte {
 		} else {
 			b.Write(strconv.AppendFloat(buf[:0], alb, 'f', -1, 64))
 		}
-		fmt.Fprintf(&b, ",%g,%s,%s\n", mins, pick(lung, "yes", "no"), pick(event, "yes", "no"))
+		fmt.Fprintf(&b, ",%g,%s,%s,%s,%s\n", mins, pick(lung, "yes", "no"), pick(event, "yes", "no"),
+			h.Name, start.AddDate(0, 0, day).Format(time.DateOnly))
 	}
 	return b.Bytes()
+}
+
+// hospital is the hospital of the patient whose uniform draw is u: the
+// first whose cumulative share exceeds u (the last when rounding leaves
+// the shares' sum below u).
+func (e Extract) hospital(u float64) Hospital {
+	sum := 0.0
+	for _, h := range e.Hospitals {
+		sum += h.Share
+		if u < sum {
+			return h
+		}
+	}
+	return e.Hospitals[len(e.Hospitals)-1]
 }
 
 // normal draws a standard normal value by the Box–Muller transform, so

@@ -30,6 +30,9 @@ type InputFile struct {
 	// Query describes the database query the data were read by, or is
 	// nil for a file.
 	Query *cohort.QueryInfo `json:"query,omitempty"`
+	// Cluster is the cluster whose rows the file holds, for a cohort
+	// given as cluster files (role "cluster file"); empty otherwise.
+	Cluster string `json:"cluster,omitempty"`
 }
 
 // FileText is the input as the report names it: the file, and the

@@ -88,6 +88,12 @@ func applyPlan(cmd *cobra.Command, o *auditOptions) error {
 	if pl.Set["criteria"] {
 		c.Criteria = pl.Criteria
 	}
+	o.clusters.fromPlan(cmd.Flags(), pl, &c.Cohort.Path)
+	if pl.Set["cluster_files"] && len(o.clusters.files) > 0 && !cmd.Flags().Changed("cluster-file") {
+		if err := pl.CheckClusterFiles(); err != nil {
+			return err
+		}
+	}
 	o.planRenames = pl.Rename
 	o.dateFromPlan = pl.Set["audit_date"] && !cmd.Flags().Changed("audit-date")
 	c.Plan = &validate.PlanFile{Path: o.planFile, Name: pl.Name, SHA256: pl.SHA256}

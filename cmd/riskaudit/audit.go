@@ -172,6 +172,11 @@ const auditExample = `  # Audit a frozen model on a fresh extract
   # prediction intervals and the chance of acceptable performance in a new site
   riskaudit audit --model frozen.yaml --cohort new.csv --cluster site --out audit
 
+  # The same with each hospital's extract in a file of its own (one cluster
+  # a file, named before the '=' or by the file's base name)
+  riskaudit audit --model frozen.yaml --cluster-file north=north.csv --cluster-file south=south.csv \
+    --cluster-file east.csv --out audit
+
   # A multiply imputed cohort: 20 completed datasets stacked in one file,
   # numbered in the column imp; every measure pooled by Rubin's rules
   riskaudit audit --model frozen.yaml --cohort imputed.csv --imputation-column imp --out audit
@@ -200,6 +205,9 @@ func newAuditCmd(s *streams) *cobra.Command {
 				if err := applyPlan(cmd, o); err != nil {
 					return err
 				}
+			}
+			if err := o.clusters.checkSource(cmd.Flags()); err != nil {
+				return err
 			}
 			return runAudit(cmd.Context(), o, s)
 		},

@@ -20,11 +20,18 @@ type clusterFlags struct {
 	// are ranges LOW:HIGH.
 	acceptAUC             float64
 	acceptSlope, acceptOE string
+	// files are the values of --cluster-file (NAME=PATH or PATH), or the
+	// plan's cluster_files.
+	files []string
+	// planOptions, when not nil, is the refusal of the plan's clusters
+	// section should no cluster source be given (clusterfiles.go).
+	planOptions error
 }
 
 func (c *clusterFlags) register(f *pflag.FlagSet) {
 	d := validate.DefaultAcceptBounds()
 	f.StringVar(&c.column, "cluster", "", "column naming the cluster (hospital, region, period): measure the model in each and pool the measures by random-effects meta-analysis")
+	f.StringArrayVar(&c.files, "cluster-file", nil, "instead of --cohort and --cluster: a cohort file that is one cluster, NAME=PATH or PATH (named by its base name); repeat for each, at least two")
 	f.StringVar(&c.tau2, "tau2-method", string(meta.REML), "with --cluster: between-cluster variance by reml, dl (DerSimonian–Laird) or pm (Paule–Mandel)")
 	f.StringVar(&c.ci, "ci-method", string(meta.HKSJ), "with --cluster: interval of a pooled measure, hksj (Hartung–Knapp–Sidik–Jonkman, t on k−1 df) or wald")
 	f.IntVar(&c.minEvents, "min-cluster-events", validate.DefaultMinClusterEvents, "with --cluster: clusters with fewer events (or non-events) are shown but not pooled")
@@ -35,8 +42,12 @@ func (c *clusterFlags) register(f *pflag.FlagSet) {
 
 // config checks the values and gives the library's ClusterConfig.
 func (c *clusterFlags) config() (audit.ClusterConfig, error) {
-	if c.column == "" {
+	if c.column == "" && len(c.files) == 0 {
 		return audit.ClusterConfig{}, nil
+	}
+	files, err := parseClusterFiles(c.files)
+	if err != nil {
+		return audit.ClusterConfig{}, err
 	}
 	if _, err := meta.ParseTau2Method(c.tau2); err != nil {
 		return audit.ClusterConfig{}, usagef("--tau2-method %s: give reml (the default), dl or pm", c.tau2)
@@ -48,7 +59,6 @@ func (c *clusterFlags) config() (audit.ClusterConfig, error) {
 		return audit.ClusterConfig{}, usagef("--min-cluster-events %d: give at least 1", c.minEvents)
 	}
 	b := validate.AcceptBounds{AUCMin: c.acceptAUC}
-	var err error
 	if b.SlopeLow, b.SlopeHigh, err = parseRange(c.acceptSlope); err != nil {
 		return audit.ClusterConfig{}, usagef("--accept-slope %s: %v", c.acceptSlope, err)
 	}
@@ -58,7 +68,7 @@ func (c *clusterFlags) config() (audit.ClusterConfig, error) {
 	if err := b.Check(); err != nil {
 		return audit.ClusterConfig{}, usagef("--accept-auc, --accept-slope, --accept-oe: %v", err)
 	}
-	return audit.ClusterConfig{Column: c.column, Tau2Method: c.tau2, CIMethod: c.ci, MinEvents: c.minEvents, Bounds: b}, nil
+	return audit.ClusterConfig{Column: c.column, Files: files, Tau2Method: c.tau2, CIMethod: c.ci, MinEvents: c.minEvents, Bounds: b}, nil
 }
 
 // parseRange reads LOW:HIGH.

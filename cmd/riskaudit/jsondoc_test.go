@@ -76,7 +76,17 @@ func TestJSONKeysDocumented(t *testing.T) {
 	// pooling within clusters, and its first three imputations as files.
 	imputed := withSiteAndDate(t, filepath.Join(demo, imputedDemoFile), filepath.Join(dir, "imputed.csv"), 7)
 	files := splitImputations(t, imputed, dir, 3)
+	// The same multicentre cohort as one file per site (--cluster-file).
+	sites := filepath.Join(dir, "sites")
+	if err := os.Mkdir(sites, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	clusterFiles := []string{"audit", "--predicted", "risk", "--outcome", "outcome", "--event", "1", "--out", filepath.Join(dir, "clusterfiles"), "-q"}
+	for _, f := range splitBySite(t, sites) {
+		clusterFiles = append(clusterFiles, "--cluster-file", f)
+	}
 	for _, args := range [][]string{
+		clusterFiles,
 		{"audit", "--model", filepath.Join(demo, "frozen.yaml"), "--cohort", imputed, "--imputation-column", "imputation",
 			"--cluster", "site", "--out", filepath.Join(dir, "imputed"), "-q"},
 		{"audit", "--model", filepath.Join(demo, "frozen.yaml"), "--imputed", files[0], "--imputed", files[1], "--imputed", files[2],
@@ -107,7 +117,7 @@ func TestJSONKeysDocumented(t *testing.T) {
 	paths := map[string]bool{}
 	for _, f := range []string{filepath.Join(dir, "dated", "audit.json"), filepath.Join(dir, "audit", "audit.json"), filepath.Join(dir, "planned", "audit.json"), filepath.Join(dir, "fit.json"), filepath.Join(dir, "cmp", "compare.json"), filepath.Join(dir, "size.json"),
 		filepath.Join(dir, "audit2", "audit.json"), filepath.Join(dir, "trend", "trend.json"), filepath.Join(dir, "clusters", "audit.json"),
-		filepath.Join(dir, "imputed", "audit.json"), filepath.Join(dir, "imputed_files", "audit.json")} {
+		filepath.Join(dir, "imputed", "audit.json"), filepath.Join(dir, "imputed_files", "audit.json"), filepath.Join(dir, "clusterfiles", "audit.json")} {
 		raw, err := os.ReadFile(f)
 		if err != nil {
 			t.Fatal(err)
@@ -134,7 +144,7 @@ func TestJSONKeysDocumented(t *testing.T) {
 	sort.Strings(missing)
 	for _, p := range []string{"nested.lr_chi2", "delong.difference_se", "update.chosen", "internal.shrinkage_factor", "bootstrap_ci.ici", "criteria[].formula",
 		"provenance.plan.sha256", "provenance.renames[].applied_to", "model.purpose.replaced_from_model.setting", "model.fitted_model.sha256", "calibration.b.ici_ci",
-		"model.parent_sha256", "models[].parent_series", "over_time.cusum[].first_signal.patient", "over_time.periods[].auc_ci", "model_changes[].series_before", "audits[].criteria[].between",
+		"model.parent_sha256", "models[].parent_series", "provenance.inputs[].cluster", "over_time.cusum[].first_signal.patient", "over_time.periods[].auc_ci", "model_changes[].series_before", "audits[].criteria[].between",
 		"imputation.pooled.brier.fmi", "imputation.pooled.auc.df", "imputation.files", "imputation.complete_case.oe", "imputation.averaged.net_benefit[].model"} {
 		if !paths[p] {
 			t.Errorf("%s not written: an analysis did not run", p)

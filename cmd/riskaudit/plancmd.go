@@ -58,6 +58,12 @@ on the command line override it.`,
 					return err
 				}
 			}
+			if err := pl.CheckClusterFiles(); err != nil {
+				return err
+			}
+			if err := pl.CheckClusterOptions(); err != nil {
+				return err
+			}
 			fmt.Fprintf(s.out, "%s: no problems found (its keys and values are valid, and the files it names can be read)\n", args[0])
 			return nil
 		},

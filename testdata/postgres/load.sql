@@ -2,14 +2,14 @@
 -- (development.csv, later.csv: Ostbrook Valley Health, a fictional
 -- hospital group; no real patients) into typed tables, for the tests
 -- that read cohorts from PostgreSQL. Run by testdata/postgres/load.sh
--- from the folder holding the two files. The surgery dates are invented
--- too: spread over one year by the patient's number.
+-- from the folder holding the two files. The surgery date is the
+-- extract's (invented) admission date, and the hospital its invented one.
 \set ON_ERROR_STOP on
 
 CREATE TYPE smoking AS ENUM ('never', 'former', 'current');
 
 CREATE TEMP TABLE raw (patient_ref text, age text, sex text, bmi text, smoker text,
-  albumin text, op_minutes text, lung_disease text, ppc_30d text);
+  albumin text, op_minutes text, lung_disease text, ppc_30d text, hospital text, admission_date text);
 
 CREATE TABLE ovh_development (
   patient_ref  text PRIMARY KEY,
@@ -21,23 +21,24 @@ CREATE TABLE ovh_development (
   albumin      numeric(4,1),
   op_minutes   integer,
   lung_disease text,
-  ppc_30d      text
+  ppc_30d      text,
+  hospital     text
 );
 CREATE TABLE ovh_later (LIKE ovh_development INCLUDING ALL);
 
 \copy raw FROM 'development.csv' WITH (FORMAT csv, HEADER true)
 INSERT INTO ovh_development
-SELECT patient_ref, date '2024-01-01' + substr(patient_ref, 5)::int % 366, age::integer, sex,
+SELECT patient_ref, admission_date::date, age::integer, sex,
        NULLIF(NULLIF(bmi, 'NA'), '')::real, smoker::smoking, NULLIF(NULLIF(albumin, 'NA'), '')::numeric(4,1),
-       op_minutes::integer, lung_disease, ppc_30d
+       op_minutes::integer, lung_disease, ppc_30d, hospital
 FROM raw;
 TRUNCATE raw;
 
 \copy raw FROM 'later.csv' WITH (FORMAT csv, HEADER true)
 INSERT INTO ovh_later
-SELECT patient_ref, date '2026-01-01' + substr(patient_ref, 5)::int % 365, age::integer, sex,
+SELECT patient_ref, admission_date::date, age::integer, sex,
        NULLIF(NULLIF(bmi, 'NA'), '')::real, smoker::smoking, NULLIF(NULLIF(albumin, 'NA'), '')::numeric(4,1),
-       op_minutes::integer, lung_disease, ppc_30d
+       op_minutes::integer, lung_disease, ppc_30d, hospital
 FROM raw;
 
 -- A column of risks some other model wrote, and the outcome as boolean,
