@@ -5,6 +5,7 @@ import (
 	"errors"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -87,7 +88,7 @@ func TestImputedStackedEqualsFiles(t *testing.T) {
 	}
 	// A completed dataset with a patient's outcome changed is bad input
 	// on that patient's line.
-	changed := strings.Replace(files[1].String(), ",no\n", ",yes\n", 1)
+	changed := flipFirstOutcome(t, files[1].String(), "ppc_30d")
 	bad := filepath.Join(dir, "changed.csv")
 	if err := os.WriteFile(bad, []byte(changed), 0o644); err != nil {
 		t.Fatal(err)
@@ -97,4 +98,19 @@ func TestImputedStackedEqualsFiles(t *testing.T) {
 	if !errors.As(err, &coe) || coe.File != bad || coe.Line < 2 || !errors.Is(err, cohort.ErrOutcome) {
 		t.Errorf("changed outcome: %v", err)
 	}
+}
+
+// flipFirstOutcome changes the first patient's outcome (column name,
+// levels yes and no) in CSV text, wherever the column stands.
+func flipFirstOutcome(t *testing.T, csv, name string) string {
+	t.Helper()
+	lines := strings.SplitAfter(csv, "\n")
+	col := slices.Index(strings.Split(strings.TrimSpace(lines[0]), ","), name)
+	if col < 0 || len(lines) < 2 {
+		t.Fatalf("no column %s to change", name)
+	}
+	f := strings.Split(strings.TrimSuffix(lines[1], "\n"), ",")
+	f[col] = map[string]string{"yes": "no", "no": "yes"}[f[col]]
+	lines[1] = strings.Join(f, ",") + "\n"
+	return strings.Join(lines, "")
 }

@@ -30,6 +30,10 @@ func (r *renderer) clusters() {
 	if c.MissingCluster > 0 {
 		r.p(" %d audited patients have no value of %s: they are in the overall measures, not here.", c.MissingCluster, col)
 	}
+	if im := r.a.Imputation; im != nil {
+		r.p(" With the %d imputations, each measure was first pooled within each value of %s across the imputations by Rubin's rules; "+
+			"those pooled values, with their total variances, are what the meta-analysis pooled.", im.M, col)
+	}
 	r.p("\n\n")
 	b := c.Bounds
 	for _, m := range []struct {

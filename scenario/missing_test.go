@@ -120,7 +120,7 @@ func TestImputationBeatsCompleteCases(t *testing.T) {
 	}
 	var errPooledBrier, errCCBrier float64
 	for _, seed := range []uint64{11, 12, 13, 14} {
-		ex := Extract{Rows: 3000, Seed: seed}
+		ex := Extract{Rows: 3000, Seed: seed, Start: "2026-01-01", Days: 365, Hospitals: []Hospital{{Name: "one", Share: 1}}}
 		ms := Missing{Extract: ex, Share: 0.25, M: 5, Seed: seed + 100}
 		full := parseTable(ex.CSV())
 		fullPerf, _, _ := measure(t, full, full.rows)

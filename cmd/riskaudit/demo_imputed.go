@@ -28,7 +28,8 @@ func runImputedDemo(ctx context.Context, dir, frozen string, sub func(args ...st
 		return err
 	}
 	fmt.Fprintf(s.out, "\nThe later extract again, with more BMI and albumin values missing at random and completed %d times by chained equations (invented, seeded): wrote %s\n\n", ms.M, path)
-	err := sub("audit", "--model", frozen, "--cohort", path, "--imputation-column", scenario.ImputationColumn, "--out", filepath.Join(dir, imputedDemoAudit))
+	err := sub("audit", "--model", frozen, "--cohort", path, "--imputation-column", scenario.ImputationColumn,
+		"--cluster", "hospital", "--out", filepath.Join(dir, imputedDemoAudit))
 	var ce *criterionError
 	if errors.As(err, &ce) {
 		fmt.Fprintf(s.out, "\nPooled across the imputations, the drifted extract again does not meet the default criteria (verdict %s); read %s.\n", ce.status, ce.report)
