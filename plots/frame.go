@@ -66,7 +66,7 @@ func paint(w, h vg.Length, f painting) (svg, png []byte, err error) {
 		return nil, nil, err
 	}
 	b = bytes.Buffer{}
-	if _, err := (vgimg.PngCanvas{Canvas: ic}).WriteTo(&b); err != nil {
+	if err := encodePNG(&b, ic.Image()); err != nil {
 		return nil, nil, fmt.Errorf("writing PNG: %w", err)
 	}
 	return svg, b.Bytes(), nil
