@@ -170,6 +170,9 @@ type pqReader struct {
 	// small caches the codes of integer levels 0–63 (−2 for none yet);
 	// others go through the layout's map.
 	small [64]int32
+	// cache remembers the codes of the last texts of a categorical
+	// column.
+	cache levelCache
 }
 
 // readParquetColumn reads request k's column from every row group of pf
@@ -509,14 +512,24 @@ func (r *pqReader) texts(total int64, nv int) error {
 	c := r.l.cols[r.k]
 	if c.Kind == Categorical {
 		index := r.l.levels[r.k]
+		lc := &r.cache
 		codes(r, total, nv, r.ba, func(v parquet.ByteArray, row int) int32 {
-			if code, ok := index[string(v)]; ok {
+			if code, ok := lc.get(v); ok {
 				if code < 0 {
 					c.Missing++
 				}
 				return code
 			}
-			return c.level(string(v), row, index, r.l.missing)
+			code, ok := index[string(v)]
+			if ok {
+				if code < 0 {
+					c.Missing++
+				}
+			} else {
+				code = c.level(string(v), row, index, r.l.missing)
+			}
+			lc.put(v, code)
+			return code
 		})
 		return nil
 	}

@@ -3,9 +3,11 @@ package plots
 import (
 	"bytes"
 	"fmt"
+	"image"
 	"image/color"
 	"strings"
 
+	"git.sr.ht/~sbinet/gg"
 	xfnt "golang.org/x/image/font"
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/font"
@@ -61,12 +63,23 @@ func paint(w, h vg.Length, f painting) (svg, png []byte, err error) {
 		return nil, nil, fmt.Errorf("writing SVG: %w", err)
 	}
 	svg = bytes.ReplaceAll(b.Bytes(), []byte("font-family:Liberation Sans;"), []byte("font-family:"+fontFamily+";"))
-	ic := vgimg.NewWith(vgimg.UseWH(w, h), vgimg.UseDPI(PNGDPI), vgimg.UseBackgroundColor(color.White))
-	if err := f(margins(draw.New(ic))); err != nil {
+	// The canvas is made here as vgimg.NewWith makes it (the size
+	// rounded to whole pixels, butt line caps, y upwards), but on an
+	// image gg draws into directly: NewWith's own image is copied by gg
+	// into a second one of the same size, 18 MB at 300 dpi for the
+	// calibration figure. The layout keeps the size w × h in points; text
+	// is placed from the whole-pixel height, as the other marks are.
+	pw, ph := int(w/vg.Inch*PNGDPI+0.5), int(h/vg.Inch*PNGDPI+0.5)
+	img := image.NewRGBA(image.Rect(0, 0, pw, ph))
+	ctx := gg.NewContextForRGBA(img)
+	ctx.SetLineCapButt()
+	ctx.InvertY()
+	ic := vgimg.NewWith(vgimg.UseImageWithContext(img, ctx), vgimg.UseDPI(PNGDPI))
+	if err := f(margins(draw.NewCanvas(ic, w, h))); err != nil {
 		return nil, nil, err
 	}
 	b = bytes.Buffer{}
-	if _, err := (vgimg.PngCanvas{Canvas: ic}).WriteTo(&b); err != nil {
+	if err := encodePNG(&b, ic.Image()); err != nil {
 		return nil, nil, fmt.Errorf("writing PNG: %w", err)
 	}
 	return svg, b.Bytes(), nil

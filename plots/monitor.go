@@ -68,13 +68,22 @@ func Monitor(r *monitor.Result, s *monitor.Summary, criteria []validate.Criterio
 		{"over_time_cusum.svg", "Risk-adjusted CUSUM charts for deterioration and improvement", func() (drawn, error) { return cusumChart(r) }},
 		{"over_time_ewma.svg", "Risk-adjusted EWMA of observed minus expected events", func() (drawn, error) { return ewmaChart(r) }},
 	}
-	var out []Figure
-	for _, m := range makers {
+	// Drawn on up to GOMAXPROCS goroutines, as in All.
+	out := make([]Figure, len(makers))
+	errs := make([]error, len(makers))
+	eachConcurrently(len(makers), func(i int) {
+		m := makers[i]
 		b, err := m.draw()
 		if err != nil {
-			return nil, fmt.Errorf("drawing %s: %w", m.name, err)
+			errs[i] = fmt.Errorf("drawing %s: %w", m.name, err)
+			return
 		}
-		out = append(out, Figure{Name: m.name, Title: m.title, SVG: b.svg, PNG: b.png})
+		out[i] = Figure{Name: m.name, Title: m.title, SVG: b.svg, PNG: b.png}
+	})
+	for _, err := range errs {
+		if err != nil {
+			return nil, err
+		}
 	}
 	return out, nil
 }

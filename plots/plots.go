@@ -80,14 +80,25 @@ func All(perf *validate.Performance, label string) ([]Figure, error) {
 		{"decision_curve.svg", "Decision curve: net benefit by risk threshold", decisionCurve},
 		{"risk_histogram.svg", "Predicted risk by outcome", riskHistogram},
 	}
-	var out []Figure
-	for _, m := range makers {
+	// The figures are drawn on up to GOMAXPROCS goroutines (each reads
+	// perf, builds its own plots and canvases); the first error in the
+	// makers' order is returned.
+	out := make([]Figure, len(makers))
+	errs := make([]error, len(makers))
+	eachConcurrently(len(makers), func(i int) {
+		m := makers[i]
 		f, err := m.draw(perf, label)
 		if err != nil {
-			return nil, fmt.Errorf("drawing %s: %w", m.name, err)
+			errs[i] = fmt.Errorf("drawing %s: %w", m.name, err)
+			return
 		}
 		f.Name, f.Title = m.name, m.title
-		out = append(out, f)
+		out[i] = f
+	})
+	for _, err := range errs {
+		if err != nil {
+			return nil, err
+		}
 	}
 	return out, nil
 }

@@ -338,7 +338,28 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 		slope, slopeIcpt, errSlope = metrics.CalibrationSlope(y, lp)
 	}()
 	flex := metrics.FlexibleCalibration(sorted, metrics.LowessOptions{Span: opt.Span, Delta: delta, Workers: opt.Workers})
+	// The remaining measures are single passes over the rows, each
+	// reading its inputs only: half of them beside the other half.
+	var oe, obs, exp float64
+	var oeci [2]float64
+	var hl metrics.HosmerLemeshowTest
+	var nb []metrics.NetBenefit
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		oe, oeci, obs, exp = metrics.OE(y, p)
+		perf.Overall.Brier, perf.Overall.ScaledBrier = metrics.Brier(y, p)
+		hl = metrics.HosmerLemeshow(sorted, opt.HLGroups, opt.Development)
+		nb = metrics.NetBenefits(sorted, opt.Thresholds)
+	}()
 	auc, _ := metrics.AUC(sorted)
+	perf.Classification = metrics.Classify(sorted, opt.ClassifyAt)
+	perf.Curves = Curves{
+		ROC:       metrics.ROC(sorted, 500),
+		Flexible:  thinCurve(flex.Curve, 200),
+		Groups:    metrics.RiskGroups(sorted, opt.Groups),
+		Histogram: metrics.RiskHistogram(sorted.Y(), ps, 40),
+	}
 	perf.Discrimination = Discrimination{AUCResult: auc}
 	c.MinRisk, c.MaxRisk = lo, hi
 	if n := ciNote(perf); n != "" {
@@ -368,30 +389,21 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 		notes = append(notes, fmt.Sprintf("every predicted risk is the same (%s): the flexible calibration curve is then the observed event rate (%s), so ICI, E50, E90 and Emax are each the distance between the two",
 			percent(lo), percent(c.EventRate)))
 	}
-	oe, oeci, obs, exp := metrics.OE(y, p)
 	c.MeanRisk = exp / float64(len(p))
 	cal := &perf.Calibration
 	*cal = Calibration{
 		CITL: citl.Value, CITLSE: citl.SE, CITLCI: citl.CI,
 		Slope: slope.Value, SlopeSE: slope.SE, SlopeCI: slope.CI, SlopeIntercept: slopeIcpt.Value,
 		OE: oe, OECI: oeci, Observed: obs, Expected: exp,
-		HL:  metrics.HosmerLemeshow(sorted, opt.HLGroups, opt.Development),
+		HL:  hl,
 		ICI: flex.ICI, E50: flex.E50, E90: flex.E90, Emax: flex.Emax,
 		Span: opt.Span, Delta: delta, FitPoints: flex.Curve.FitPoints, Clipped: flex.Clipped, Band: BandMethod, Notes: notes,
 	}
 	if math.IsNaN(cal.HL.Statistic) && cal.HL.Groups > 0 {
 		cal.Notes = append(cal.Notes, "the Hosmer–Lemeshow test could not be computed: a risk group's predicted risks are all 0 or all 1, so the group has no binomial variance to divide by")
 	}
-	perf.Overall.Brier, perf.Overall.ScaledBrier = metrics.Brier(y, p)
-	perf.NetBenefit = metrics.NetBenefits(sorted, opt.Thresholds)
+	perf.NetBenefit = nb
 	perf.NetBenefitMinGain = opt.MinGain
-	perf.Classification = metrics.Classify(sorted, opt.ClassifyAt)
-	perf.Curves = Curves{
-		ROC:       metrics.ROC(sorted, 500),
-		Flexible:  thinCurve(flex.Curve, 200),
-		Groups:    metrics.RiskGroups(sorted, opt.Groups),
-		Histogram: metrics.RiskHistogram(sorted.Y(), ps, 40),
-	}
 	return perf, nil
 }
 
