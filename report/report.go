@@ -303,7 +303,11 @@ func (r *renderer) cohort() {
 	r.p("## Cohort\n\n")
 	t := table{head: []string{"", "count"}}
 	t.add("rows read", fmt.Sprint(c.Rows))
-	t.add("rows used (complete cases)", fmt.Sprint(c.Used))
+	used := "rows used (complete cases)"
+	if r.a.Imputation != nil {
+		used = "rows used (each completed dataset)" // completed: no row is left out
+	}
+	t.add(used, fmt.Sprint(c.Used))
 	t.add("rows left out for missing values", fmt.Sprint(c.Excluded))
 	for _, e := range c.ExcludedByColumn {
 		t.add("  missing "+code(e.Column), fmt.Sprint(e.Rows))

@@ -174,6 +174,12 @@ func (d jsonDoc) get(path string) (any, bool) {
 	return cur, true
 }
 
+// has reports whether the record holds path (with any value, null too).
+func (d jsonDoc) has(path string) bool {
+	_, ok := d.get(path)
+	return ok
+}
+
 func (d jsonDoc) num(path string) float64 {
 	v, ok := d.get(path)
 	if f, isNum := v.(float64); ok && isNum {
@@ -393,7 +399,7 @@ func cohortRow(c *checker, _ mdTable, row []string, _ int) {
 	switch {
 	case row[0] == "rows read":
 		c.cell(where, row[1], c.js.num("cohort.rows"))
-	case row[0] == "rows used (complete cases)":
+	case row[0] == "rows used (complete cases)", row[0] == "rows used (each completed dataset)" && c.js.has("imputation"):
 		c.cell(where, row[1], c.js.num("cohort.used"))
 	case row[0] == "rows left out for missing values":
 		c.cell(where, row[1], c.js.num("cohort.excluded"))
