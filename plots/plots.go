@@ -308,8 +308,13 @@ func calibration(perf *validate.Performance, label string) (Figure, error) {
 			return Figure{}, err
 		}
 		p.Add(poly, l)
-		add("LOWESS smooth of the outcomes on predicted risk", l)
-		add("its pointwise 95% band", swatch(skyBand))
+		if n := perf.Curves.AveragedOver; n > 0 {
+			add(fmt.Sprintf("average of the %d imputations' LOWESS smooths of the outcomes on predicted risk", n), l)
+			add("the average of their pointwise 95% bands", swatch(skyBand))
+		} else {
+			add("LOWESS smooth of the outcomes on predicted risk", l)
+			add("its pointwise 95% band", swatch(skyBand))
+		}
 		series = append(series, Series{Name: "smooth", Points: xys}, Series{Name: "band lower", Points: lo}, Series{Name: "band upper", Points: hi})
 	}
 	if len(groups) > 0 {
@@ -338,7 +343,11 @@ func calibration(perf *validate.Performance, label string) (Figure, error) {
 		if len(groups) == 1 {
 			what = "risk group"
 		}
-		add(fmt.Sprintf("%d %s: share with the event at the group's mean risk, 95%% CI", len(groups), what), sc)
+		first := ""
+		if perf.Curves.AveragedOver > 0 {
+			first = " (in the first imputation)"
+		}
+		add(fmt.Sprintf("%d %s: share with the event at the group's mean risk, 95%% CI%s", len(groups), what, first), sc)
 		series = append(series, Series{Name: "groups", Points: pts})
 	}
 	q, nE, nN, err := distribution(perf.Curves.Histogram, top)

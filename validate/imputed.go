@@ -439,6 +439,7 @@ func combined(sets []ImputedData, im *Imputation) *Performance {
 		curves[j] = s.Perf.Curves.Flexible
 	}
 	perf.Curves.Flexible = AverageCurves(curves)
+	perf.Curves.AveragedOver = len(curves)
 	return &perf
 }
 

@@ -239,6 +239,10 @@ type Curves struct {
 	Flexible  []CurvePoint        `json:"calibration_curve"`
 	Groups    []metrics.RiskGroup `json:"risk_groups"`
 	Histogram metrics.Histogram   `json:"risk_histogram"`
+	// AveragedOver is the number of imputations whose calibration curves
+	// Flexible averages (a multiply imputed audit); 0 for one cohort's
+	// smooth. The figure's legend says which it is.
+	AveragedOver int `json:"-"`
 }
 
 // Performance is everything measured on one cohort.
