@@ -152,7 +152,7 @@ func vladChart(r *monitor.Result) (drawn, error) {
 	if err != nil {
 		return drawn{}, err
 	}
-	l, err := line(thin(r.VLAD, 1), blue, 1.4)
+	l, err := pathOf(thin(r.VLAD, 1), blue, 1.4)
 	if err != nil {
 		return drawn{}, err
 	}
@@ -178,7 +178,7 @@ func cusumChart(r *monitor.Result) (drawn, error) {
 		if k == 1 {
 			sign = -1
 		}
-		l, err := line(thin(c.Restarted, sign), colours[k], 1.2)
+		l, err := pathOf(thin(c.Restarted, sign), colours[k], 1.2)
 		if err != nil {
 			return drawn{}, err
 		}
@@ -226,7 +226,7 @@ func ewmaChart(r *monitor.Result) (drawn, error) {
 	if err != nil {
 		return drawn{}, err
 	}
-	z, err := line(thin(e.Z, 1), blue, 1.3)
+	z, err := pathOf(thin(e.Z, 1), blue, 1.3)
 	if err != nil {
 		return drawn{}, err
 	}
