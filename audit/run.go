@@ -134,7 +134,7 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 			}
 		}
 		r.prog.Step("measuring the development data " + c.Dev.Path)
-		if r.dev, err = c.score(ctx, r.spec, dev); err != nil {
+		if r.dev, err = c.score(ctx, r.spec, dev, !c.Cohort.given()); err != nil {
 			return nil, err
 		}
 		if r.devPerf, err = assess(r.dev, r.measureOptions(r.dev)); err != nil {
@@ -145,7 +145,7 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 	if c.Cohort.given() {
 		var err error
 		r.prog.Step("reading and scoring " + c.Cohort.Path)
-		if r.cur, err = c.score(ctx, r.spec, c.Cohort); err != nil {
+		if r.cur, err = c.score(ctx, r.spec, c.Cohort, true); err != nil {
 			return nil, err
 		}
 		defer r.tightenGC(len(r.cur.y))()
@@ -215,7 +215,7 @@ func (r *run) loadModel() error {
 // and for measuring.
 func (r *run) readDev(ctx context.Context) (Input, error) {
 	c := r.cfg
-	reqs, err := c.requests(r.spec)
+	reqs, err := c.requests(r.spec, !c.Cohort.given())
 	if err != nil {
 		return Input{}, err
 	}
