@@ -1,9 +1,12 @@
 package plots
 
 import (
+	"errors"
 	"fmt"
 	"image/color"
 	"math"
+	"runtime"
+	"sync"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -64,13 +67,35 @@ func Monitor(r *monitor.Result, s *monitor.Summary, criteria []validate.Criterio
 		{"over_time_cusum.svg", "Risk-adjusted CUSUM charts for deterioration and improvement", func() (drawn, error) { return cusumChart(r) }},
 		{"over_time_ewma.svg", "Risk-adjusted EWMA of observed minus expected events", func() (drawn, error) { return ewmaChart(r) }},
 	}
-	var out []Figure
-	for _, m := range makers {
-		b, err := m.draw()
-		if err != nil {
-			return nil, fmt.Errorf("drawing %s: %w", m.name, err)
-		}
-		out = append(out, Figure{Name: m.name, Title: m.title, SVG: b.svg, PNG: b.png})
+	// The four figures are painted at once, as many at a time as there
+	// are cores (each is its own plot and canvases; the shared font cache
+	// locks), and returned in the order above.
+	out := make([]Figure, len(makers))
+	errs := make([]error, len(makers))
+	next := make(chan int)
+	var wg sync.WaitGroup
+	for range min(len(makers), runtime.GOMAXPROCS(0)) {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for k := range next {
+				m := makers[k]
+				b, err := m.draw()
+				if err != nil {
+					errs[k] = fmt.Errorf("drawing %s: %w", m.name, err)
+					continue
+				}
+				out[k] = Figure{Name: m.name, Title: m.title, SVG: b.svg, PNG: b.png}
+			}
+		}()
+	}
+	for k := range makers {
+		next <- k
+	}
+	close(next)
+	wg.Wait()
+	if err := errors.Join(errs...); err != nil {
+		return nil, err
 	}
 	return out, nil
 }
