@@ -86,3 +86,32 @@ func TestDevNeedsNoDateOrClusterColumn(t *testing.T) {
 		}
 	}
 }
+
+// TestOverTimeFiguresListed: audit.json's list of figure files names the
+// four charts in date order with their PNG copies, as it names the
+// others, and every figure listed is one of those written.
+func TestOverTimeFiguresListed(t *testing.T) {
+	res, err := Run(context.Background(), datedConfig(datedCohort(t, manyRows())))
+	if err != nil {
+		t.Fatal(err)
+	}
+	written := map[string]bool{}
+	for _, f := range res.Figures {
+		written[f.Name] = true
+	}
+	listed := map[string]string{}
+	for _, f := range res.Audit.Figures {
+		listed[f.SVG] = f.PNG
+		if !written[f.SVG] {
+			t.Errorf("audit.json lists %s, which is not written", f.SVG)
+		}
+	}
+	for _, name := range []string{"over_time_periods", "over_time_vlad", "over_time_cusum", "over_time_ewma"} {
+		if png, ok := listed[name+".svg"]; !ok || png != name+".png" {
+			t.Errorf("audit.json's figures lack %s.svg with %s.png (have %v)", name, name, listed)
+		}
+	}
+	if len(res.Audit.Figures) != len(res.Figures) {
+		t.Errorf("%d figures listed, %d written", len(res.Audit.Figures), len(res.Figures))
+	}
+}

@@ -159,17 +159,29 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 		return nil, err
 	}
 	r.prog.Step("drawing figures")
+	// The charts in date order are painted beside the other figures (the
+	// latter are drawn one after another, which leaves a core free).
+	var mf []plots.Figure
+	var merr error
+	done := make(chan struct{})
+	go func() {
+		defer close(done)
+		if r.monitor != nil {
+			mf, merr = plots.Monitor(r.monitor, a.OverTime, r.criteria)
+		}
+	}()
 	figs, err := figures(a, r.perf)
+	<-done
 	if err != nil {
 		return nil, err
 	}
-	if r.monitor != nil {
-		mf, err := plots.Monitor(r.monitor, a.OverTime, r.criteria)
-		if err != nil {
-			return nil, err
-		}
-		figs = append(figs, mf...)
+	if merr != nil {
+		return nil, merr
 	}
+	for _, f := range mf {
+		a.Figures = append(a.Figures, validate.FigureFiles{Title: f.Title, SVG: f.Name, PNG: f.PNGName()})
+	}
+	figs = append(figs, mf...)
 	if ctx.Err() != nil {
 		return nil, context.Cause(ctx)
 	}
