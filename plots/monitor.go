@@ -147,8 +147,8 @@ func headroom(p *plot.Plot, lo, hi, share float64) {
 	p.Y.Min, p.Y.Max = lo-0.05*span, hi+share*span
 }
 
-func hline(y, x0, x1 float64, c color.Color, width float64, dashes ...vg.Length) (*plotter.Line, error) {
-	return line(plotter.XYs{{X: x0, Y: y}, {X: x1, Y: y}}, c, width, dashes...)
+func hline(y, x0, x1 float64, c color.Color, width float64, dashes ...vg.Length) (pathLine, error) {
+	return pathOf(plotter.XYs{{X: x0, Y: y}, {X: x1, Y: y}}, c, width, dashes...)
 }
 
 // marks draws the alarm patients as open diamonds on a path.
@@ -243,11 +243,11 @@ func ewmaChart(r *monitor.Result) (drawn, error) {
 	for i, sd := range e.SD {
 		up[i], lo[i] = e.L*sd, -e.L*sd
 	}
-	lu, err := line(thin(up, 1), grey, 1, vg.Points(5), vg.Points(3))
+	lu, err := pathOf(thin(up, 1), grey, 1, vg.Points(5), vg.Points(3))
 	if err != nil {
 		return drawn{}, err
 	}
-	ll, err := line(thin(lo, 1), grey, 1, vg.Points(5), vg.Points(3))
+	ll, err := pathOf(thin(lo, 1), grey, 1, vg.Points(5), vg.Points(3))
 	if err != nil {
 		return drawn{}, err
 	}
