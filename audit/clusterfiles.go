@@ -48,6 +48,12 @@ func ClusterFileName(path string) string {
 // development data: Cohort, or cluster files.
 func (c *Config) hasCohort() bool { return c.Cohort.given() || len(c.Clusters.Files) > 0 }
 
+// audits reports whether the audit has data of its own to audit beside
+// any development data (a cohort, cluster files or imputed files): then
+// the columns only the audited data need (cluster, date, imputation) are
+// not asked of the development data.
+func (c *Config) audits() bool { return c.hasCohort() || c.Imputation.given() }
+
 // clusterFiles are the cluster files with every name filled in.
 func (c *Config) clusterFiles() []ClusterFile {
 	out := slices.Clone(c.Clusters.Files)
@@ -100,7 +106,7 @@ func (c *Config) scoreClusterFiles(ctx context.Context, spec *model.Spec) (*scor
 	files := c.clusterFiles()
 	parts := make([]*scored, len(files))
 	for i, f := range files {
-		sc, err := c.score(ctx, spec, f.Input)
+		sc, err := c.score(ctx, spec, f.Input, true)
 		if err != nil {
 			return nil, err
 		}

@@ -153,7 +153,7 @@ func (r *run) imputed(ctx context.Context) error {
 // completed scores one completed dataset, which has no missing value in
 // any column the model reads.
 func (c *Config) completed(ctx context.Context, spec *model.Spec, in Input) (*scored, error) {
-	sc, err := c.score(ctx, spec, in)
+	sc, err := c.score(ctx, spec, in, true)
 	var ce *cohort.Error
 	if errors.As(err, &ce) && errors.Is(err, cohort.ErrMissing) {
 		e := *ce

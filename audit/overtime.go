@@ -237,7 +237,9 @@ func (r *run) overTime(ctx context.Context, a *validate.Audit) error {
 	return nil
 }
 
-// alarmText is the summary's sentence on the charts' first signals.
+// alarmText is the summary's sentence on the charts' first signals: each
+// CUSUM's and the EWMA's first crossing of each limit, with its date and
+// its patient's position in date order.
 func alarmText(s *monitor.Summary) string {
 	var parts []string
 	for _, ch := range s.CUSUM {
@@ -246,6 +248,16 @@ func alarmText(s *monitor.Summary) string {
 			continue
 		}
 		parts = append(parts, fmt.Sprintf("the %s chart signalled on %s, after %s patients", ch.Name, ch.First.Date, thousands(ch.First.Patient)))
+	}
+	e := s.EWMA
+	if e.FirstAbove.Patient > 0 {
+		parts = append(parts, fmt.Sprintf("the EWMA crossed its upper limit (more events than predicted) on %s, after %s patients", e.FirstAbove.Date, thousands(e.FirstAbove.Patient)))
+	}
+	if e.FirstBelow.Patient > 0 {
+		parts = append(parts, fmt.Sprintf("the EWMA crossed its lower limit (fewer events than predicted) on %s, after %s patients", e.FirstBelow.Date, thousands(e.FirstBelow.Patient)))
+	}
+	if e.FirstAbove.Patient == 0 && e.FirstBelow.Patient == 0 {
+		parts = append(parts, "the EWMA stayed within its limits")
 	}
 	t := fmt.Sprintf("In date order (%s patients, %s to %s), %s.", thousands(s.Patients), s.FirstDate, s.LastDate, strings.Join(parts, "; "))
 	if n := s.LeftOutMissing + s.LeftOutInvalid; n > 0 {

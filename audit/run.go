@@ -139,7 +139,7 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 			}
 		}
 		r.prog.Step("measuring the development data " + c.Dev.Path)
-		if r.dev, err = c.score(ctx, r.spec, dev); err != nil {
+		if r.dev, err = c.score(ctx, r.spec, dev, !c.audits()); err != nil {
 			return nil, err
 		}
 		if r.devPerf, err = assess(r.dev, r.measureOptions(r.dev)); err != nil {
@@ -158,7 +158,7 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 			r.cur, err = c.scoreClusterFiles(ctx, r.spec)
 		} else {
 			r.prog.Step("reading and scoring " + c.Cohort.Path)
-			r.cur, err = c.score(ctx, r.spec, c.Cohort)
+			r.cur, err = c.score(ctx, r.spec, c.Cohort, true)
 		}
 		if err != nil {
 			return nil, err
@@ -175,17 +175,29 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 		return nil, err
 	}
 	r.prog.Step("drawing figures")
+	// The charts in date order are painted beside the other figures (the
+	// latter are drawn one after another, which leaves a core free).
+	var mf []plots.Figure
+	var merr error
+	done := make(chan struct{})
+	go func() {
+		defer close(done)
+		if r.monitor != nil {
+			mf, merr = plots.Monitor(r.monitor, a.OverTime, r.criteria)
+		}
+	}()
 	figs, err := figures(a, r.perf)
+	<-done
 	if err != nil {
 		return nil, err
 	}
-	if r.monitor != nil {
-		mf, err := plots.Monitor(r.monitor, a.OverTime, r.criteria)
-		if err != nil {
-			return nil, err
-		}
-		figs = append(figs, mf...)
+	if merr != nil {
+		return nil, merr
 	}
+	for _, f := range mf {
+		a.Figures = append(a.Figures, validate.FigureFiles{Title: f.Title, SVG: f.Name, PNG: f.PNGName()})
+	}
+	figs = append(figs, mf...)
 	if ctx.Err() != nil {
 		return nil, context.Cause(ctx)
 	}
@@ -231,7 +243,7 @@ func (r *run) loadModel() error {
 // and for measuring.
 func (r *run) readDev(ctx context.Context) (Input, error) {
 	c := r.cfg
-	reqs, err := c.requests(r.spec)
+	reqs, err := c.requests(r.spec, !c.audits())
 	if err != nil {
 		return Input{}, err
 	}

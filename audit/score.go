@@ -50,8 +50,11 @@ type scored struct {
 }
 
 // requests are the columns an audit reads: the model's (with the
-// outcome), the predicted risks and the subgroups.
-func (c *Config) requests(spec *model.Spec) ([]cohort.Request, error) {
+// outcome), the predicted risks and the subgroups, and for the data
+// audited (the cohort, or the development data when no cohort is given)
+// the cluster and date columns, which only the audited data are
+// measured by: the development data beside a cohort need not hold them.
+func (c *Config) requests(spec *model.Spec, audited bool) ([]cohort.Request, error) {
 	reqs := spec.Columns(true)
 	if c.Predicted != nil {
 		reqs = append(reqs, cohort.Request{Name: c.Predicted.Column, Kind: cohort.Numeric, NaNIsError: true, For: "the predicted risks (every file audited holds them)"})
@@ -64,7 +67,7 @@ func (c *Config) requests(spec *model.Spec) ([]cohort.Request, error) {
 		}
 		reqs = append(reqs, cohort.Request{Name: g, Kind: cohort.Categorical, For: "a subgroup column"})
 	}
-	if cc := c.Clusters.Column; cc != "" {
+	if cc := c.Clusters.Column; cc != "" && audited {
 		for _, q := range reqs {
 			if q.Name == cc && q.Kind != cohort.Categorical {
 				return nil, configErrorf("cluster column %q is a numeric predictor; a cluster column names hospitals, regions or periods", cc)
@@ -79,6 +82,9 @@ func (c *Config) requests(spec *model.Spec) ([]cohort.Request, error) {
 			}
 		}
 		reqs = append(reqs, cohort.Request{Name: b.Column, Kind: cohort.Numeric, For: "a banded subgroup column"})
+	}
+	if !audited {
+		return reqs, nil
 	}
 	reqs, err := c.imputationRequest(reqs)
 	if err != nil {
@@ -140,9 +146,10 @@ func kindName(k cohort.Kind) string {
 }
 
 // score reads one input and returns its outcomes and predicted risks
-// over the complete cases.
-func (c *Config) score(ctx context.Context, spec *model.Spec, in Input) (*scored, error) {
-	reqs, err := c.requests(spec)
+// over the complete cases; audited says whether it is the data audited
+// (see requests).
+func (c *Config) score(ctx context.Context, spec *model.Spec, in Input, audited bool) (*scored, error) {
+	reqs, err := c.requests(spec, audited)
 	if err != nil {
 		return nil, err
 	}
@@ -165,7 +172,7 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input) (*scored
 	for _, g := range c.Subgroups {
 		sc.groups = append(sc.groups, groupColumn(fr.Column(g), m.Rows, m.N))
 	}
-	if cc := c.Clusters.Column; cc != "" {
+	if cc := c.Clusters.Column; cc != "" && audited {
 		gc := groupColumn(fr.Column(cc), m.Rows, m.N)
 		sc.cluster = &gc
 	}
@@ -176,7 +183,9 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input) (*scored
 		}
 		sc.bandValues = append(sc.bandValues, x)
 	}
-	sc.dates = c.OverTime.column(fr, m.Rows)
+	if audited {
+		sc.dates = c.OverTime.column(fr, m.Rows)
+	}
 	if c.Predicted != nil {
 		if sc.p, err = predictedRisks(fr, c.Predicted.Column, m.Rows, c.Predicted.Percent); err != nil {
 			return nil, err

@@ -149,6 +149,10 @@ type TrendModel struct {
 	// the 99.8% limits (null: none), and FirstOutsideRecord its record.
 	FirstOutside       *string `json:"first_outside_998_date"`
 	FirstOutsideRecord *int64  `json:"first_outside_998_record"`
+	// FirstAlarm is the date of its first audit whose charts in date
+	// order signalled (null: none), and FirstAlarmRecord its record.
+	FirstAlarm       *string `json:"first_alarm_date"`
+	FirstAlarmRecord *int64  `json:"first_alarm_record"`
 }
 
 // TrendChange is a date where a new model entered.
@@ -181,6 +185,10 @@ type TrendAudit struct {
 	Outside     bool                 `json:"oe_outside_998"`
 	Verdict     string               `json:"verdict"`
 	Criteria    *[]history.Criterion `json:"criteria"`
+	// Alarms is the alarm state of the audit's charts in date order, as
+	// recorded with it (absent for an audit without them).
+	Alarms *history.Alarms `json:"alarms,omitempty"`
+	Alarm  bool            `json:"alarm"`
 }
 
 // TrendJSON is the trend as trend.json holds it.
@@ -202,6 +210,11 @@ func TrendJSON(t *Trend) *TrendDoc {
 			date, id := pt.Date, pt.Record.ID
 			m.FirstOutside, m.FirstOutsideRecord = &date, &id
 		}
+		if s.FirstAlarm >= 0 {
+			pt := tr.Points[s.FirstAlarm]
+			date, id := pt.Date, pt.Record.ID
+			m.FirstAlarm, m.FirstAlarmRecord = &date, &id
+		}
 		d.Models = append(d.Models, m)
 	}
 	for _, c := range tr.Changes {
@@ -212,7 +225,8 @@ func TrendJSON(t *Trend) *TrendDoc {
 		r := p.Record
 		a := TrendAudit{Record: r.ID, Date: r.AuditDate, RecordedAt: r.RecordedAt, Series: p.Series + 1, Model: r.Model, ModelSHA256: r.ModelSHA,
 			Cohort: r.Cohort, CohortSHA: r.CohortSHA, Patients: r.Used, Events: r.Events, Expected: r.Expected,
-			AUC: r.AUC, OE: r.OE, Slope: r.Slope, CITL: r.CITL, Limits95: p.Limit95, Limits998: p.Limit998, Outside: p.Outside, Verdict: r.Verdict}
+			AUC: r.AUC, OE: r.OE, Slope: r.Slope, CITL: r.CITL, Limits95: p.Limit95, Limits998: p.Limit998, Outside: p.Outside, Verdict: r.Verdict,
+			Alarms: r.Alarms, Alarm: p.Alarm}
 		if r.Criteria != nil {
 			c := r.Criteria
 			a.Criteria = &c

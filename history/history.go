@@ -147,6 +147,71 @@ type Record struct {
 	// stores kept it, from the verdict in the record's audit.json; nil
 	// when neither gives them.
 	Criteria []Criterion
+	// Alarms are the alarm state of the audit's charts in date order, as
+	// its audit.json (kept whole in the store) gives them under
+	// over_time; nil for an audit that charted nothing in date order.
+	Alarms *Alarms
+}
+
+// Alarms is the alarm state of an audit's charts in date order: the
+// signals of the two one-sided risk-adjusted CUSUMs (each restarted
+// after a signal) and the EWMA's first crossings of its limits.
+type Alarms struct {
+	// DateColumn is the column the cohort was put in date order by.
+	DateColumn string `json:"date_column"`
+	// CUSUM are the charts by name ("deterioration", "improvement").
+	CUSUM []ChartAlarm `json:"cusum"`
+	// EWMAAbove and EWMABelow are the EWMA's first crossings of its upper
+	// and lower limits (Patient 0: none).
+	EWMAAbove FirstAlarm `json:"ewma_above"`
+	EWMABelow FirstAlarm `json:"ewma_below"`
+}
+
+// ChartAlarm is one CUSUM's signals and the first of them.
+type ChartAlarm struct {
+	Name    string     `json:"name"`
+	Signals int        `json:"signals"`
+	First   FirstAlarm `json:"first_signal"`
+}
+
+// FirstAlarm is a chart's first signal: the patient's 1-based position in
+// date order and the date, Patient 0 for none.
+type FirstAlarm struct {
+	Patient int    `json:"patient"`
+	Date    string `json:"date,omitempty"`
+}
+
+// Any reports whether any chart signalled.
+func (a *Alarms) Any() bool {
+	if a == nil {
+		return false
+	}
+	for _, c := range a.CUSUM {
+		if c.Signals > 0 {
+			return true
+		}
+	}
+	return a.EWMAAbove.Patient > 0 || a.EWMABelow.Patient > 0
+}
+
+// alarmsOf reads the alarm state from the over_time object of a
+// record's audit.json (nil when it has none or it cannot be read).
+func alarmsOf(overTime string) *Alarms {
+	if overTime == "" {
+		return nil
+	}
+	var ot struct {
+		DateColumn string       `json:"date_column"`
+		CUSUM      []ChartAlarm `json:"cusum"`
+		EWMA       struct {
+			Above FirstAlarm `json:"first_above"`
+			Below FirstAlarm `json:"first_below"`
+		} `json:"ewma"`
+	}
+	if json.Unmarshal([]byte(overTime), &ot) != nil || ot.DateColumn == "" {
+		return nil
+	}
+	return &Alarms{DateColumn: ot.DateColumn, CUSUM: ot.CUSUM, EWMAAbove: ot.EWMA.Above, EWMABelow: ot.EWMA.Below}
 }
 
 // Criterion is one acceptance criterion an audit was judged by: a bound
@@ -579,7 +644,8 @@ func Read(path string) ([]Record, error) {
 	rows, err := db.Query(`SELECT id, audit_date, recorded_at, model, model_sha256, cohort, cohort_sha256,
 		rows_read, rows_used, events, expected, auc, auc_lower, auc_upper, oe, oe_lower, oe_upper,
 		slope, slope_lower, slope_upper, citl, citl_lower, citl_upper, ici, brier, verdict, ` +
-		opt("model_parent_sha256") + `, ` + opt("criteria") + `, ` + verdict + `
+		opt("model_parent_sha256") + `, ` + opt("criteria") + `, ` + verdict + `,
+		CASE WHEN json_valid(audit_json) THEN json_extract(audit_json, '$.over_time') END
 		FROM audits ORDER BY audit_date, id`)
 	if err != nil {
 		return nil, fmt.Errorf("history %s: %w", path, err)
@@ -590,11 +656,11 @@ func Read(path string) ([]Record, error) {
 		var r Record
 		var vals [14]sql.NullFloat64
 		var criteria string
-		var fromJSON sql.NullString
+		var fromJSON, overTime sql.NullString
 		if err := rows.Scan(&r.ID, &r.AuditDate, &r.RecordedAt, &r.Model, &r.ModelSHA, &r.Cohort, &r.CohortSHA,
 			&r.Rows, &r.Used, &r.Events, &r.Expected, &vals[0], &vals[1], &vals[2], &vals[3], &vals[4], &vals[5],
 			&vals[6], &vals[7], &vals[8], &vals[9], &vals[10], &vals[11], &vals[12], &vals[13], &r.Verdict,
-			&r.ParentSHA, &criteria, &fromJSON); err != nil {
+			&r.ParentSHA, &criteria, &fromJSON, &overTime); err != nil {
 			return nil, fmt.Errorf("history %s: %w", path, err)
 		}
 		f := func(i int) float64 {
@@ -609,6 +675,7 @@ func Read(path string) ([]Record, error) {
 		r.CITL = [3]float64{f(9), f(10), f(11)}
 		r.ICI, r.Brier = f(12), f(13)
 		r.Criteria = criteriaOf(criteria, fromJSON.String)
+		r.Alarms = alarmsOf(overTime.String)
 		out = append(out, r)
 	}
 	if err := rows.Err(); err != nil {

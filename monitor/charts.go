@@ -185,3 +185,26 @@ func ComputeEWMA(y, p []float64, lambda, l float64) (EWMA, error) {
 	}
 	return e, nil
 }
+
+// cusumPaths is CUSUMPath and RestartedPath in one pass, with the
+// weights computed once a patient: the same arithmetic, so the same
+// values to the last bit. y and p are checked by the caller.
+func cusumPaths(y, p []float64, r, h float64) (path, restarted []float64, signals []int) {
+	path, restarted = make([]float64, len(y)), make([]float64, len(y))
+	s, q := 0.0, 0.0 // without and with restarts
+	for i := range y {
+		w0, w1 := Weights(p[i], r)
+		w := w0
+		if y[i] == 1 {
+			w = w1
+		}
+		s = math.Max(0, s+w)
+		q = math.Max(0, q+w)
+		path[i], restarted[i] = s, q
+		if q >= h {
+			signals = append(signals, i)
+			q = 0
+		}
+	}
+	return path, restarted, signals
+}

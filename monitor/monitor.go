@@ -104,12 +104,7 @@ func Run(ctx context.Context, y, p []float64, dates []time.Time, opt Options) (*
 	}
 	for i, name := range []string{"deterioration", "improvement"} {
 		c := Chart{Name: name, Limit: lims[i]}
-		if c.Path, err = CUSUMPath(y, p, rs[i]); err != nil {
-			return nil, err
-		}
-		if c.Restarted, c.Signals, err = RestartedPath(y, p, rs[i], lims[i].H); err != nil {
-			return nil, err
-		}
+		c.Path, c.Restarted, c.Signals = cusumPaths(y, p, rs[i], lims[i].H)
 		r.Charts = append(r.Charts, c)
 	}
 	if r.EWMA, err = ComputeEWMA(y, p, opt.Lambda, opt.Width); err != nil {

@@ -144,8 +144,8 @@ func span(p *plot.Plot, lo, hi float64) {
 	p.Y.Min, p.Y.Max = lo-0.05*d, hi+0.05*d
 }
 
-func hline(y, x0, x1 float64, c color.Color, width float64, dashes ...vg.Length) (*plotter.Line, error) {
-	return line(plotter.XYs{{X: x0, Y: y}, {X: x1, Y: y}}, c, width, dashes...)
+func hline(y, x0, x1 float64, c color.Color, width float64, dashes ...vg.Length) (pathLine, error) {
+	return pathOf(plotter.XYs{{X: x0, Y: y}, {X: x1, Y: y}}, c, width, dashes...)
 }
 
 // marks draws the alarm patients as triangles on a path; it returns nil
@@ -197,7 +197,7 @@ func vladChart(r *monitor.Result) (drawn, error) {
 	if err != nil {
 		return drawn{}, err
 	}
-	l, err := line(thin(r.VLAD, 1), blue, 1.4)
+	l, err := pathOf(thin(r.VLAD, 1), blue, 1.4)
 	if err != nil {
 		return drawn{}, err
 	}
@@ -232,7 +232,7 @@ func cusumChart(r *monitor.Result) (drawn, error) {
 		if k == 1 {
 			sign = -1
 		}
-		l, err := line(thin(c.Restarted, sign), colours[k], 1.2)
+		l, err := pathOf(thin(c.Restarted, sign), colours[k], 1.2)
 		if err != nil {
 			return drawn{}, err
 		}
@@ -280,15 +280,15 @@ func ewmaChart(r *monitor.Result) (drawn, error) {
 	for i, sd := range e.SD {
 		up[i], lo[i] = e.L*sd, -e.L*sd
 	}
-	lu, err := line(thin(up, 1), grey, 1, vg.Points(5), vg.Points(3))
+	lu, err := pathOf(thin(up, 1), grey, 1, vg.Points(5), vg.Points(3))
 	if err != nil {
 		return drawn{}, err
 	}
-	ll, err := line(thin(lo, 1), grey, 1, vg.Points(5), vg.Points(3))
+	ll, err := pathOf(thin(lo, 1), grey, 1, vg.Points(5), vg.Points(3))
 	if err != nil {
 		return drawn{}, err
 	}
-	z, err := line(thin(e.Z, 1), blue, 1.3)
+	z, err := pathOf(thin(e.Z, 1), blue, 1.3)
 	if err != nil {
 		return drawn{}, err
 	}

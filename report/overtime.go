@@ -155,5 +155,11 @@ func overTimeLines(s *monitor.Summary) []string {
 		parts = append(parts, fmt.Sprintf("%s chart signalled %s, after %s patients (%s)", c.Name, c.First.Date, count(c.First.Patient),
 			plural(c.Signals, "1 signal", count(c.Signals)+" signals")))
 	}
+	if e := s.EWMA; e.FirstAbove.Patient > 0 {
+		parts = append(parts, fmt.Sprintf("EWMA crossed its upper limit (more events than predicted) on %s, after %s patients", e.FirstAbove.Date, count(e.FirstAbove.Patient)))
+	}
+	if e := s.EWMA; e.FirstBelow.Patient > 0 {
+		parts = append(parts, fmt.Sprintf("EWMA crossed its lower limit (fewer events than predicted) on %s, after %s patients", e.FirstBelow.Date, count(e.FirstBelow.Patient)))
+	}
 	return []string{"over time   " + strings.Join(parts, "; ")}
 }

@@ -5,6 +5,7 @@ import (
 	"io"
 	"strings"
 
+	"github.com/riskaudit/riskaudit/history"
 	"github.com/riskaudit/riskaudit/plots"
 	"github.com/riskaudit/riskaudit/trend"
 	"github.com/riskaudit/riskaudit/validate"
@@ -80,6 +81,8 @@ func WriteTrend(w io.Writer, tr *trend.Trend, source string, figures []plots.Fig
 		}
 	}
 	r.p("\nControl limits for O/E are funnel-type limits that widen for smaller audits: under a well-calibrated model the observed events are about Poisson with mean E, the expected events, so O/E has variance 1/E and the limits are 1 ± z/√E, z = 1.96 (95%%) and 3.09 (99.8%%) (Spiegelhalter 2005). They use the normal approximation, adequate from about 20 expected events.\n\n")
+
+	r.alarms(tr)
 
 	r.p("## How the charts are drawn\n\n")
 	r.p("Audits are placed on a time axis by their audit dates. Audits that share a date are spread around it, %.1f%% of the axis apart, so that none hides another; the table below gives every date exactly.\n\n", 100*plots.DodgeShare)
@@ -207,4 +210,71 @@ func everyAudit(n int) string {
 		return "The audit's"
 	}
 	return "Every audit's"
+}
+
+// alarms says, for each model, which audit's charts in date order first
+// signalled, from the alarm state recorded with each audit; nothing when
+// no audit charted its cohort in date order.
+func (r *renderer) alarms(tr *trend.Trend) {
+	charted := 0
+	for _, p := range tr.Points {
+		if p.Record.Alarms != nil {
+			charted++
+		}
+	}
+	if charted == 0 {
+		return
+	}
+	r.p("## Alarms in date order\n\n")
+	r.p("%d of the %d audits charted their cohort in date order (`--date-column`), and the alarm state of those charts is recorded with each: the signals of the two one-sided risk-adjusted CUSUMs and the EWMA's crossings of its limits.\n\n", charted, len(tr.Points))
+	for i, s := range tr.Series {
+		who := ""
+		if len(tr.Series) > 1 {
+			who = fmt.Sprintf("Model %d: ", i+1)
+		}
+		n, signalled := 0, []string{}
+		for _, k := range s.Points {
+			p := tr.Points[k]
+			if p.Record.Alarms != nil {
+				n++
+			}
+			if p.Alarm {
+				signalled = append(signalled, fmt.Sprintf("%s (record %d)", p.Date, p.Record.ID))
+			}
+		}
+		switch {
+		case n == 0:
+			r.p("- %sno audit charted in date order.\n", who)
+		case s.FirstAlarm < 0:
+			r.p("- %sthe charts of none of its %d %s in date order signalled.\n", who, n, plural(n, "audit", "audits"))
+		default:
+			p := tr.Points[s.FirstAlarm]
+			r.p("- **%sthe audit of %s (record %d) is the first whose charts in date order signalled**: %s.", who, p.Date, p.Record.ID, alarmWords(p.Record.Alarms))
+			if len(signalled) > 1 {
+				r.p(" Audits with a signal: %s.", strings.Join(signalled, ", "))
+			}
+			r.p("\n")
+		}
+	}
+	r.p("\n")
+}
+
+// alarmWords describes the signals of one audit's charts.
+func alarmWords(a *history.Alarms) string {
+	var parts []string
+	for _, c := range a.CUSUM {
+		if c.Signals == 0 {
+			continue
+		}
+		parts = append(parts, fmt.Sprintf("the %s CUSUM signalled %d %s, first on %s, after %s patients", c.Name, c.Signals, plural(c.Signals, "time", "times"), c.First.Date, count(c.First.Patient)))
+	}
+	for _, e := range []struct {
+		side string
+		at   history.FirstAlarm
+	}{{"upper", a.EWMAAbove}, {"lower", a.EWMABelow}} {
+		if e.at.Patient > 0 {
+			parts = append(parts, fmt.Sprintf("the EWMA crossed its %s limit on %s, after %s patients", e.side, e.at.Date, count(e.at.Patient)))
+		}
+	}
+	return strings.Join(parts, "; ")
 }

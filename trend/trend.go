@@ -69,6 +69,9 @@ type Point struct {
 	Limit95  [2]float64 // O/E limits at this audit's expected events
 	Limit998 [2]float64
 	Outside  bool // O/E outside the 99.8% limits
+	// Alarm: a chart in date order of this audit signalled (a CUSUM, or
+	// the EWMA crossed a limit); Record.Alarms says which.
+	Alarm bool
 }
 
 // Series is the audits of one model.
@@ -85,6 +88,9 @@ type Series struct {
 	// FirstOutside is the index in Trend.Points of the series' first
 	// audit whose O/E lies outside its 99.8% limits, or −1.
 	FirstOutside int
+	// FirstAlarm is the index in Trend.Points of the series' first audit
+	// whose charts in date order signalled, or −1.
+	FirstAlarm int
 }
 
 // Change is a new model entering the trend: the first audit of a model
@@ -141,10 +147,11 @@ func Build(records []history.Record) (*Trend, error) {
 		if !ok {
 			s = len(t.Series)
 			index[m] = s
-			t.Series = append(t.Series, Series{Model: m, Parent: -1, FirstOutside: -1})
+			t.Series = append(t.Series, Series{Model: m, Parent: -1, FirstOutside: -1, FirstAlarm: -1})
 		}
 		p := Point{Date: r.AuditDate, Time: day, Record: r, Series: s, Limit95: Limits(r.Expected, z95), Limit998: Limits(r.Expected, z998)}
 		p.Outside = r.OE[0] < p.Limit998[0] || r.OE[0] > p.Limit998[1]
+		p.Alarm = r.Alarms.Any()
 		i := len(t.Points)
 		ser := &t.Series[s]
 		ser.Points = append(ser.Points, i)
@@ -153,6 +160,9 @@ func Build(records []history.Record) (*Trend, error) {
 		}
 		if p.Outside && ser.FirstOutside < 0 {
 			ser.FirstOutside = i
+		}
+		if p.Alarm && ser.FirstAlarm < 0 {
+			ser.FirstAlarm = i
 		}
 		t.Points = append(t.Points, p)
 	}

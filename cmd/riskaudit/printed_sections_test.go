@@ -219,11 +219,25 @@ func withSiteAndDate(t *testing.T, src, dst string, step int) string {
 
 // overTimeLine checks the summary's "over time" line: each CUSUM chart's
 // first signal (its date, the patients before it and the count of
-// signals) or that it did not signal.
+// signals) or that it did not signal, and the EWMA's first crossing of
+// each limit it crossed (date and patients).
 func (c *checker) overTimeLine(where, rest string) {
 	rest = strings.TrimPrefix(rest, "time")
 	for _, part := range strings.Split(rest, ";") {
 		f := strings.Fields(part)
+		if len(f) > 0 && f[0] == "EWMA" {
+			side := "below"
+			if strings.Contains(part, "upper limit") {
+				side = "above"
+			}
+			p := "over_time.ewma.first_" + side + "."
+			d := c.js.str(p + "date")
+			if c.js.num(p+"patient") == 0 || !strings.Contains(part, " "+d+",") {
+				c.fail("%s: %q, audit.json's EWMA first %s is patient %v on %q", where, part, side, c.js.num(p+"patient"), d)
+			}
+			c.cell(where+" EWMA "+side, strings.Replace(part, d, "", 1), c.js.num(p+"patient"))
+			continue
+		}
 		if len(f) < 2 || f[1] != "chart" {
 			c.fail("%s: %q is not a chart's alarms", where, part)
 			continue
