@@ -219,7 +219,7 @@ func clusterForest(c *validate.Clusters, m clusterMeasure) (drawn, []Series, err
 	entries++
 	s := sheet{title: fmt.Sprintf("%s by %s", upperFirst(m.name), c.Column), legend: leg, entries: entries}
 	svg, png, err := single(p, s, 7*vg.Inch, vg.Length(1.2+0.3*float64(n))*vg.Inch)
-	return drawn{svg, png}, series, err
+	return drawn{svg: svg, png: png}, series, err
 }
 
 // upperFirst capitalises the first letter of a measure's name for a

@@ -78,7 +78,7 @@ func Monitor(r *monitor.Result, s *monitor.Summary, criteria []validate.Criterio
 			errs[i] = fmt.Errorf("drawing %s: %w", m.name, err)
 			return
 		}
-		out[i] = Figure{Name: m.name, Title: m.title, SVG: b.svg, PNG: b.png}
+		out[i] = Figure{Name: m.name, Title: m.title, SVG: b.svg, PNG: b.png, Series: b.series}
 	})
 	for _, err := range errs {
 		if err != nil {
@@ -197,11 +197,13 @@ func vladChart(r *monitor.Result) (drawn, error) {
 	if err != nil {
 		return drawn{}, err
 	}
-	l, err := pathOf(thin(r.VLAD, 1), blue, 1.4)
+	path := thin(r.VLAD, 1)
+	l, err := pathOf(path, blue, 1.4)
 	if err != nil {
 		return drawn{}, err
 	}
 	p.Add(zero, l)
+	series := []Series{{Name: "expected − observed", Points: path}}
 	g.add("expected − observed events, summed in date order", l)
 	g.add("0: as many events as the model predicted", zero)
 	sc, err := marks(p, r.Charts[0].Signals, r.VLAD, 1, vermillion)
@@ -210,6 +212,7 @@ func vladChart(r *monitor.Result) (drawn, error) {
 	}
 	if sc != nil {
 		g.add("where the deterioration CUSUM signalled", sc)
+		series = append(series, Series{Name: "deterioration signals", Points: sc.XYs})
 	}
 	lo, hi := 0.0, 0.0
 	for _, v := range r.VLAD {
@@ -217,7 +220,7 @@ func vladChart(r *monitor.Result) (drawn, error) {
 	}
 	span(p, lo, hi)
 	svg, png, err := single(p, overTimeSheet("Cumulative expected − observed events (above 0: fewer events than predicted)", r, g), 7*vg.Inch, 3.6*vg.Inch)
-	return drawn{svg, png}, err
+	return drawn{svg: svg, png: png, series: series}, err
 }
 
 func cusumChart(r *monitor.Result) (drawn, error) {
@@ -227,19 +230,23 @@ func cusumChart(r *monitor.Result) (drawn, error) {
 	g := &legendOf{l: newLegend()}
 	colours := []color.Color{vermillion, blue}
 	where := []string{"drawn up", "drawn down"}
+	var series []Series
 	for k, c := range r.Charts {
 		sign := 1.0
 		if k == 1 {
 			sign = -1
 		}
-		l, err := pathOf(thin(c.Restarted, sign), colours[k], 1.2)
+		path := thin(c.Restarted, sign)
+		l, err := pathOf(path, colours[k], 1.2)
 		if err != nil {
 			return drawn{}, err
 		}
-		h, err := hline(sign*c.Limit.H, 0, float64(r.N), colours[k], 1, vg.Points(5), vg.Points(3))
+		limit := plotter.XYs{{X: 0, Y: sign * c.Limit.H}, {X: float64(r.N), Y: sign * c.Limit.H}}
+		h, err := pathOf(limit, colours[k], 1, vg.Points(5), vg.Points(3))
 		if err != nil {
 			return drawn{}, err
 		}
+		series = append(series, Series{Name: c.Name, Points: path}, Series{Name: c.Name + " limit", Points: limit})
 		p.Add(l, h)
 		g.add(fmt.Sprintf("%s, odds ratio %g, %s", c.Name, c.Limit.R, where[k]), l)
 		g.add(fmt.Sprintf("its limit h = %.2f (in-control ARL %s patients)", c.Limit.H, grouped(int(c.Limit.TargetARL))), h)
@@ -249,6 +256,7 @@ func cusumChart(r *monitor.Result) (drawn, error) {
 		}
 		if sc != nil {
 			g.add(fmt.Sprintf("%s signal (the chart restarts at 0)", c.Name), sc)
+			series = append(series, Series{Name: c.Name + " signals", Points: sc.XYs})
 		}
 	}
 	zero, err := hline(0, 0, float64(r.N), grey, 1)
@@ -267,7 +275,7 @@ func cusumChart(r *monitor.Result) (drawn, error) {
 	}
 	span(p, bot, top)
 	svg, png, err := single(p, overTimeSheet("Risk-adjusted CUSUMs, restarted after each signal: deterioration up, improvement down", r, g), 7*vg.Inch, 3.8*vg.Inch)
-	return drawn{svg, png}, err
+	return drawn{svg: svg, png: png, series: series}, err
 }
 
 func ewmaChart(r *monitor.Result) (drawn, error) {
@@ -280,18 +288,20 @@ func ewmaChart(r *monitor.Result) (drawn, error) {
 	for i, sd := range e.SD {
 		up[i], lo[i] = e.L*sd, -e.L*sd
 	}
-	lu, err := pathOf(thin(up, 1), grey, 1, vg.Points(5), vg.Points(3))
+	upPath, loPath, zPath := thin(up, 1), thin(lo, 1), thin(e.Z, 1)
+	lu, err := pathOf(upPath, grey, 1, vg.Points(5), vg.Points(3))
 	if err != nil {
 		return drawn{}, err
 	}
-	ll, err := pathOf(thin(lo, 1), grey, 1, vg.Points(5), vg.Points(3))
+	ll, err := pathOf(loPath, grey, 1, vg.Points(5), vg.Points(3))
 	if err != nil {
 		return drawn{}, err
 	}
-	z, err := pathOf(thin(e.Z, 1), blue, 1.3)
+	z, err := pathOf(zPath, blue, 1.3)
 	if err != nil {
 		return drawn{}, err
 	}
+	series := []Series{{Name: "EWMA", Points: zPath}, {Name: "upper limit", Points: upPath}, {Name: "lower limit", Points: loPath}}
 	zero, err := hline(0, 0, float64(r.N), ink, 0.6)
 	if err != nil {
 		return drawn{}, err
@@ -313,6 +323,7 @@ func ewmaChart(r *monitor.Result) (drawn, error) {
 			return drawn{}, err
 		}
 		g.add(m.text, sc)
+		series = append(series, Series{Name: m.text, Points: sc.XYs})
 	}
 	// Leave the first patients' near-zero limits out of the scale: the
 	// axis spans the limits from patient 1/λ on.
@@ -326,7 +337,7 @@ func ewmaChart(r *monitor.Result) (drawn, error) {
 	}
 	span(p, -top, top)
 	svg, png, err := single(p, overTimeSheet(fmt.Sprintf("EWMA of observed − expected (λ = %g), ±%g exact SD", e.Lambda, e.L), r, g), 7*vg.Inch, 3.6*vg.Inch)
-	return drawn{svg, png}, err
+	return drawn{svg: svg, png: png, series: series}, err
 }
 
 // bounds are the criteria's bounds on a measure, or on an end of its
@@ -397,6 +408,7 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) (drawn, erro
 	// The legend's thumbnails, the first of each kind drawn: the
 	// periods' points first, then the lines.
 	var pointEntry, boundEntry, allEntry, refEntry plot.Thumbnailer
+	var series []Series
 	plots := make([][]*plot.Plot, len(panels))
 	for k, pn := range panels {
 		p := newPlot("", "", pn.name)
@@ -470,6 +482,11 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) (drawn, erro
 				return drawn{}, err
 			}
 			eb.LineStyle.Color, eb.LineStyle.Width = blue, vg.Points(1.5)
+			ends := make(plotter.XYs, 0, 2*len(pts))
+			for j, pt := range pts {
+				ends = append(ends, plotter.XY{X: pt.X, Y: pt.Y - errs[j].Low}, plotter.XY{X: pt.X, Y: pt.Y + errs[j].High})
+			}
+			series = append(series, Series{Name: pn.name, Points: pts}, Series{Name: pn.name + " interval", Points: ends})
 			sc, err := plotter.NewScatter(pts)
 			if err != nil {
 				return drawn{}, err
@@ -508,5 +525,5 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) (drawn, erro
 		sh.foot(dc)
 		return nil
 	})
-	return drawn{svg, png}, err
+	return drawn{svg: svg, png: png, series: series}, err
 }

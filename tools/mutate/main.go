@@ -132,6 +132,10 @@ var mutations = []mutation{
 	{"case mix: the audited cohort's histogram drawn with the development shares", "plots/casemix.go", "dev, aud := step(cm.LPDev), step(cm.LPNew)", "dev, aud := step(cm.LPDev), step(cm.LPDev)", []string{"./plots", figures}, ""},
 	{"case mix: a standardised difference drawn with its sign flipped", "plots/casemix.go", "seg := plotter.XYs{{X: 0, Y: y}, {X: v, Y: y}}", "seg := plotter.XYs{{X: 0, Y: y}, {X: -v, Y: y}}", []string{"./plots", figures}, ""},
 	{"trend chart: the interval drawn symmetric about the estimate", "plots/trend.go", "{v[0] - v[1], v[2] - v[0]}", "{v[0] - v[1], v[0] - v[1]}", []string{"./plots"}, ""},
+	{"over time: a CUSUM limit drawn at h of the other chart", "plots/monitor.go", "limit := plotter.XYs{{X: 0, Y: sign * c.Limit.H}, {X: float64(r.N), Y: sign * c.Limit.H}}", "limit := plotter.XYs{{X: 0, Y: sign * r.Charts[1-k].Limit.H}, {X: float64(r.N), Y: sign * r.Charts[1-k].Limit.H}}", []string{"./audit"}, "TestOverTimeFigureData"},
+	{"over time: the period chart's CITL drawn with the O/E interval", "plots/monitor.go", "return q.CITL, q.CITLCI", "return q.CITL, q.OECI", []string{"./audit"}, "TestOverTimeFigureData"},
+	{"over time: EWMA crossings marked one patient late", "plots/monitor.go", "xys[k] = plotter.XY{X: float64(i + 1), Y: scale * v[i]}", "xys[k] = plotter.XY{X: float64(i + 2), Y: scale * v[i]}", []string{"./audit"}, "TestOverTimeFigureData"},
+	{"over time: the cumulative path thinned without each run's lowest value", "plots/monitor.go", "if v[i] < v[imin] {", "if v[i] < v[imin] && false {", []string{"./audit"}, "TestOverTimeFigureData"},
 	// Third round: more of the numeric code.
 	{"DerSimonian–Laird τ² without Σw²/Σw", "meta/meta.go", "/(sw-sw2/sw))", "/sw)", []string{"./meta", "./validate"}, ""},
 	{"chance of acceptable performance on k − 1 df", "meta/meta.go", "t := distuv.StudentsT{Mu: r.Estimate, Sigma: s, Nu: float64(r.K - 2)}", "t := distuv.StudentsT{Mu: r.Estimate, Sigma: s, Nu: float64(r.K - 1)}", []string{"./meta", "./validate"}, ""},
