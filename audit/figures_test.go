@@ -14,18 +14,10 @@ import (
 	"github.com/riskaudit/riskaudit/plots"
 )
 
-// TestDemoFigures writes the demo audit (with subgroups and case-mix)
-// and checks every figure it lists in audit.json: both files exist, the
-// SVG passes figcheck (no NaN, no text outside the canvas, no
-// overlapping texts), the PNG decodes at 300 dpi of the SVG's size; and
-// that the data each figure draws are audit.json's numbers: the decision
-// curve's model and treat-all lines (the latter down to the panel's lower
-// edge), the calibration figure's smooth, band and risk groups, the
-// subgroup panels' estimates.
-func TestDemoFigures(t *testing.T) {
-	d := fixture.WriteDemo(t, t.TempDir())
-	cfg := demoAudit(d)
-	cfg.Subgroups = []string{"sex", "smoker"}
+// runAndWrite runs the audit, writes its folder and returns the result,
+// the folder and its audit.json.
+func runAndWrite(t *testing.T, cfg audit.Config) (*audit.Result, string, []byte) {
+	t.Helper()
 	res, err := audit.Run(context.Background(), cfg)
 	if err != nil {
 		t.Fatal(err)
@@ -38,6 +30,22 @@ func TestDemoFigures(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	return res, out, raw
+}
+
+// TestDemoFigures writes the demo audit (with subgroups and case-mix)
+// and checks every figure it lists in audit.json: both files exist, the
+// SVG passes figcheck (no NaN, no text outside the canvas, no
+// overlapping texts), the PNG decodes at 300 dpi of the SVG's size; and
+// that the data each figure draws are audit.json's numbers: the decision
+// curve's model and treat-all lines (the latter down to the panel's lower
+// edge), the calibration figure's smooth, band and risk groups, the
+// subgroup panels' estimates.
+func TestDemoFigures(t *testing.T) {
+	d := fixture.WriteDemo(t, t.TempDir())
+	cfg := demoAudit(d)
+	cfg.Subgroups = []string{"sex", "smoker"}
+	res, out, raw := runAndWrite(t, cfg)
 	var js struct {
 		Figures    []struct{ Title, SVG, PNG string }
 		NetBenefit []struct {

@@ -1,11 +1,8 @@
 package audit_test
 
 import (
-	"context"
 	"encoding/json"
 	"math"
-	"os"
-	"path/filepath"
 	"testing"
 
 	"github.com/riskaudit/riskaudit/audit"
@@ -25,18 +22,7 @@ func TestOverTimeFigureData(t *testing.T) {
 	d := fixture.WriteDemo(t, t.TempDir())
 	cfg := demoAudit(d)
 	cfg.OverTime = audit.OverTime{DateColumn: "admission_date", ARL: 2000}
-	res, err := audit.Run(context.Background(), cfg)
-	if err != nil {
-		t.Fatal(err)
-	}
-	out := filepath.Join(t.TempDir(), "out")
-	if _, err := audit.Write(out, res, audit.WriteOptions{}); err != nil {
-		t.Fatal(err)
-	}
-	raw, err := os.ReadFile(filepath.Join(out, "audit.json"))
-	if err != nil {
-		t.Fatal(err)
-	}
+	res, _, raw := runAndWrite(t, cfg)
 	type ci [2]*float64
 	var js struct {
 		OverTime struct {
