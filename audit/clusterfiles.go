@@ -231,16 +231,7 @@ func joinDates(parts []*scored, n int) *dateColumn {
 	for i, p := range parts {
 		src := p.dates
 		d.files = append(d.files, src.file)
-		to := make([]int32, len(src.levels))
-		for k, l := range src.levels {
-			code, ok := index[l]
-			if !ok {
-				code = int32(len(d.levels))
-				index[l] = code
-				d.levels = append(d.levels, l)
-			}
-			to[k] = code
-		}
+		to := remapLevels(index, &d.levels, src.levels, nil)
 		for r, code := range src.codes {
 			if code >= 0 {
 				code = to[code]
@@ -252,6 +243,27 @@ func joinDates(parts []*scored, n int) *dateColumn {
 	}
 	d.file = strings.Join(d.files, " + ")
 	return d
+}
+
+// remapLevels gives each of a file's levels src its code among the
+// joined levels (index maps a joined level to its code), appending the
+// levels not seen before, and calls added (when not nil) with the file's
+// code of each new one.
+func remapLevels(index map[string]int32, levels *[]string, src []string, added func(k int)) []int32 {
+	to := make([]int32, len(src))
+	for k, l := range src {
+		code, ok := index[l]
+		if !ok {
+			code = int32(len(*levels))
+			index[l] = code
+			*levels = append(*levels, l)
+			if added != nil {
+				added(k)
+			}
+		}
+		to[k] = code
+	}
+	return to
 }
 
 // joinFrames joins the files' frames, read with the same requests, into
@@ -283,18 +295,10 @@ func joinFrames(name string, frames []*cohort.Frame) *cohort.Frame {
 				at += len(c.Num)
 				continue
 			}
-			to := make([]int32, len(c.Levels))
-			for k, l := range c.Levels {
-				code, ok := index[l]
-				if !ok {
-					code = int32(len(col.Levels))
-					index[l] = code
-					col.Levels = append(col.Levels, l)
-					first := slices.Index(c.Codes, int32(k))
-					col.LevelLine = append(col.LevelLine, at+first+1)
-				}
-				to[k] = code
-			}
+			to := remapLevels(index, &col.Levels, c.Levels, func(k int) {
+				first := slices.Index(c.Codes, int32(k))
+				col.LevelLine = append(col.LevelLine, at+first+1)
+			})
 			for _, code := range c.Codes {
 				if code >= 0 {
 					code = to[code]
