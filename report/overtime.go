@@ -14,7 +14,7 @@ func (r *renderer) overTime() {
 		return
 	}
 	r.p("## Performance over time\n\n")
-	r.p("The %s patients with a date in column `%s`, from %s to %s, in date order (patients with the same date in file order).", count(s.Patients), Escape(s.DateColumn), s.FirstDate, s.LastDate)
+	r.p("The %s patients with a date in column %s, from %s to %s, in date order (patients with the same date in file order).", count(s.Patients), code(s.DateColumn), s.FirstDate, s.LastDate)
 	if s.LeftOutMissing+s.LeftOutInvalid > 0 {
 		var parts []string
 		if s.LeftOutMissing > 0 {
