@@ -169,6 +169,13 @@ type CalibrationWorkspace struct{ e []float64 }
 func (ws *CalibrationWorkspace) Weighted(y, lp, w []float64, workers int) (citl, slope float64, err error) {
 	checkLinear("CalibrationWeighted", y, lp)
 	checkWeights("CalibrationWeighted", y, w)
+	return ws.weighted(y, lp, nil, w, workers)
+}
+
+// weighted is Weighted on checked inputs; p, when not nil, holds
+// logistic.Expit of every linear predictor, so that it is not computed
+// again.
+func (ws *CalibrationWorkspace) weighted(y, lp, p, w []float64, workers int) (citl, slope float64, err error) {
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}
@@ -181,7 +188,11 @@ func (ws *CalibrationWorkspace) Weighted(y, lp, w []float64, workers int) (citl,
 		}
 		sw += wi
 		sy += wi * y[i]
-		sp += wi * logistic.Expit(v)
+		if p != nil {
+			sp += wi * p[i]
+		} else {
+			sp += wi * logistic.Expit(v)
+		}
 	}
 	start := 0.0
 	if ybar, pbar := sy/sw, sp/sw; ybar > 0 && ybar < 1 && pbar > 0 && pbar < 1 {

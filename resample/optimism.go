@@ -144,8 +144,8 @@ func Optimism(ctx context.Context, pr Problem, opt Options) (*Result, error) {
 	}
 	res := &Result{B: opt.B, Seed: opt.Seed, Reasons: map[string]int{}, ICIDelta: opt.ICIDelta}
 	ws := newWorkspace(pr)
-	lp := linearPredictor(pr, pr.Coef, ws.lp)
-	app, err := ws.measures(pr, lp, ws.sort(lp), nil, logistic.Deviance(data(pr, nil), pr.Coef), opt.ICIDelta, false)
+	lp, dev := ws.predict(pr, pr.Coef)
+	app, err := ws.measures(pr, lp, ws.sorter.Order(ws.p), nil, dev, opt.ICIDelta, false)
 	if err != nil {
 		return nil, fmt.Errorf("resample: measuring the full fit: %w", err)
 	}
@@ -304,38 +304,34 @@ func data(pr Problem, w []float64) logistic.Data {
 	return logistic.Data{X: pr.X, N: pr.N, P: pr.P, Y: pr.Y, Weights: w, Offset: pr.Offset}
 }
 
-func linearPredictor(pr Problem, beta, out []float64) []float64 {
-	return data(pr, nil).LinearPredictor(beta, out)
-}
-
 // replicate refits on the current counts and returns apparent − test.
 func (ws *workspace) replicate(pr Problem, delta float64) (Measures, error) {
 	fit, err := logistic.Fit(data(pr, ws.counts), logistic.Options{Start: pr.Coef, Firth: pr.Firth, Workers: 1})
 	if err != nil {
 		return Measures{}, err
 	}
-	lp := linearPredictor(pr, fit.Coef, ws.lp)
-	order := ws.sort(lp)
+	lp, dev := ws.predict(pr, fit.Coef)
+	order := ws.sorter.Order(ws.p)
 	// A maximum-likelihood fit with an intercept and no offset has
 	// calibration-in-the-large 0 and slope 1 on its own sample.
 	app, err := ws.measures(pr, lp, order, ws.counts, fit.Deviance, delta, !pr.Firth && pr.Offset == nil)
 	if err != nil {
 		return Measures{}, err
 	}
-	test, err := ws.measures(pr, lp, order, nil, logistic.Deviance(data(pr, nil), fit.Coef), delta, false)
+	test, err := ws.measures(pr, lp, order, nil, dev, delta, false)
 	if err != nil {
 		return Measures{}, err
 	}
 	return app.sub(test), nil
 }
 
-// sort sets the risks of lp and returns the rows in risk order, in the
-// workspace's own sort buffers.
-func (ws *workspace) sort(lp []float64) []int32 {
-	for i, v := range lp {
-		ws.p[i] = expit(v)
-	}
-	return ws.sorter.Order(ws.p)
+// predict sets the linear predictor of beta (ws.lp, returned) and its
+// risks (ws.p) on the original rows and returns −2 log-likelihood there,
+// one exponential per row serving both (logistic.Data.Predict: the
+// values of LinearPredictor, Expit and Deviance).
+func (ws *workspace) predict(pr Problem, beta []float64) ([]float64, float64) {
+	dev := data(pr, nil).Predict(beta, ws.lp, ws.p)
+	return ws.lp, dev
 }
 
 // measures measures linear predictor lp (with risks ws.p, rows in risk
@@ -365,7 +361,7 @@ func (ws *workspace) measures(pr Problem, lp []float64, order []int32, w []float
 	} else {
 		var err error
 		// Each bootstrap worker is one goroutine: the fit stays on it.
-		if m.CITL, m.Slope, err = ws.calib.Weighted(pr.Y, lp, w, 1); err != nil {
+		if m.CITL, m.Slope, err = ws.calib.WeightedRisks(pr.Y, lp, ws.p, w, 1); err != nil {
 			return m, err
 		}
 	}
@@ -393,5 +389,3 @@ func ici(lw *metrics.LowessWorkspace, ys, ps []float64, delta float64) float64 {
 	}
 	return s / float64(len(ps))
 }
-
-func expit(x float64) float64 { return logistic.Expit(x) }
