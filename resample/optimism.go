@@ -377,15 +377,16 @@ func (ws *workspace) measures(pr Problem, lp []float64, order []int32, w []float
 
 // ici is the ICI of risks ps (sorted) against outcomes ys, with LOWESS at
 // span 0.75 and δ = delta × the range of ps, on one goroutine in the
-// buffers of lw, from the smooth clipped to [0, 1] as in
+// buffers of lw (the smooth's fit alone, without its standard errors),
+// from the smooth clipped to [0, 1] as in
 // metrics.FlexibleCalibration.
 func ici(lw *metrics.LowessWorkspace, ys, ps []float64, delta float64) float64 {
 	d := delta * (ps[len(ps)-1] - ps[0])
-	c := lw.Lowess(ps, ys, metrics.LowessOptions{Span: 0.75, Delta: d, Workers: 1})
-	metrics.ClipRisks(c.Fit)
+	fit := lw.LowessFit(ps, ys, metrics.LowessOptions{Span: 0.75, Delta: d})
+	metrics.ClipRisks(fit)
 	s := 0.0
 	for i, v := range ps {
-		s += math.Abs(v - c.Fit[i])
+		s += math.Abs(v - fit[i])
 	}
 	return s / float64(len(ps))
 }
