@@ -3,7 +3,8 @@ package logistic
 import "math"
 
 // Predict writes the linear predictor x'β plus the offset of every row of
-// d into lp and its risk expit(η) into p (each must hold N values), and
+// d into lp, its risk expit(η) into p and, when z is not nil, e^−|η|
+// into z (each must hold N values), and
 // returns −2 log-likelihood of the model with coefficients beta on d's
 // rows (counted by d's weights when set), as Deviance does. One
 // exponential per row serves both the deviance and the risk: with
@@ -11,7 +12,7 @@ import "math"
 // which are Expit's own operations, and the deviance terms are those of
 // Deviance, summed in the same order. So lp, p and the deviance are
 // exactly those of LinearPredictor, Expit and Deviance.
-func (d Data) Predict(beta, lp, p []float64) float64 {
+func (d Data) Predict(beta, lp, p, z []float64) float64 {
 	pd := d.P
 	acc := newDevSum()
 	for i := range lp {
@@ -24,8 +25,11 @@ func (d Data) Predict(beta, lp, p []float64) float64 {
 			eta += x[j] * b
 		}
 		lp[i] = eta
-		z := math.Exp(-math.Abs(eta))
-		p[i] = expitFrom(z, eta)
+		e := math.Exp(-math.Abs(eta))
+		p[i] = expitFrom(e, eta)
+		if z != nil {
+			z[i] = e
+		}
 		wt := 1.0
 		if d.Weights != nil {
 			if wt = d.Weights[i]; wt == 0 {
@@ -35,12 +39,12 @@ func (d Data) Predict(beta, lp, p []float64) float64 {
 		y := d.Y[i]
 		if wt == 1 {
 			acc.lin += math.Max(eta, 0) - y*eta
-			acc.prod *= 1 + z
+			acc.prod *= 1 + e
 			if acc.n++; acc.n >= 256 {
 				acc.flush()
 			}
 		} else {
-			acc.addWeighted(wt, eta, y, z)
+			acc.addWeighted(wt, eta, y, e)
 		}
 	}
 	return 0 + acc.total()

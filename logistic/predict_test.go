@@ -1,6 +1,7 @@
 package logistic
 
 import (
+	"math"
 	"math/rand/v2"
 	"testing"
 )
@@ -32,13 +33,16 @@ func TestPredictMatchesItsParts(t *testing.T) {
 	}{{"plain", nil, nil}, {"weights", w, nil}, {"offset", nil, off}, {"both", w, off}} {
 		d := d
 		d.Weights, d.Offset = c.w, c.o
-		lp, risk := make([]float64, n), make([]float64, n)
-		dev := d.Predict(beta, lp, risk)
+		lp, risk, z := make([]float64, n), make([]float64, n), make([]float64, n)
+		dev := d.Predict(beta, lp, risk, z)
 		want := d.LinearPredictor(beta, make([]float64, n))
 		for i := range lp {
-			if lp[i] != want[i] || risk[i] != Expit(want[i]) {
-				t.Fatalf("%s: row %d: η %v p %v, want %v and %v", c.name, i, lp[i], risk[i], want[i], Expit(want[i]))
+			if lp[i] != want[i] || risk[i] != Expit(want[i]) || z[i] != math.Exp(-math.Abs(want[i])) {
+				t.Fatalf("%s: row %d: η %v p %v z %v, want %v and %v", c.name, i, lp[i], risk[i], z[i], want[i], Expit(want[i]))
 			}
+		}
+		if dev2 := d.Predict(beta, lp, risk, nil); dev2 != dev {
+			t.Errorf("%s: deviance %v without z, %v with", c.name, dev2, dev)
 		}
 		if wd := Deviance(d, beta); dev != wd {
 			t.Errorf("%s: deviance %v, Deviance %v", c.name, dev, wd)

@@ -267,7 +267,7 @@ type workspace struct {
 	counts []float64
 	drawn  []int32
 	lp     []float64
-	p      []float64
+	p, z   []float64 // risks of lp and e^−|lp|
 	ps, ys []float64 // sorted by risk (original rows, or the sample expanded)
 	x      []float64 // scratch for the calibration fits
 	sorter metrics.Sorter
@@ -278,7 +278,7 @@ type workspace struct {
 func newWorkspace(pr Problem) *workspace {
 	n := pr.N
 	return &workspace{counts: make([]float64, n), drawn: make([]int32, n), lp: make([]float64, n),
-		p: make([]float64, n), ps: make([]float64, n), ys: make([]float64, n)}
+		p: make([]float64, n), z: make([]float64, n), ps: make([]float64, n), ys: make([]float64, n)}
 }
 
 // draw fills the counts of replicate b and returns the indices drawn
@@ -326,11 +326,11 @@ func (ws *workspace) replicate(pr Problem, delta float64) (Measures, error) {
 }
 
 // predict sets the linear predictor of beta (ws.lp, returned) and its
-// risks (ws.p) on the original rows and returns −2 log-likelihood there,
+// risks (ws.p, with e^−|η| in ws.z) on the original rows and returns −2 log-likelihood there,
 // one exponential per row serving both (logistic.Data.Predict: the
 // values of LinearPredictor, Expit and Deviance).
 func (ws *workspace) predict(pr Problem, beta []float64) ([]float64, float64) {
-	dev := data(pr, nil).Predict(beta, ws.lp, ws.p)
+	dev := data(pr, nil).Predict(beta, ws.lp, ws.p, ws.z)
 	return ws.lp, dev
 }
 
@@ -361,7 +361,7 @@ func (ws *workspace) measures(pr Problem, lp []float64, order []int32, w []float
 	} else {
 		var err error
 		// Each bootstrap worker is one goroutine: the fit stays on it.
-		if m.CITL, m.Slope, err = ws.calib.WeightedRisks(pr.Y, lp, ws.p, w, 1); err != nil {
+		if m.CITL, m.Slope, err = ws.calib.WeightedRisks(pr.Y, lp, ws.p, ws.z, w, 1); err != nil {
 			return m, err
 		}
 	}
