@@ -49,3 +49,20 @@ func (d Data) Predict(beta, lp, p, z []float64) float64 {
 	}
 	return 0 + acc.total()
 }
+
+// StartRows holds, for a start β, the linear predictor η of every row of
+// a design (offset included) and e^−|η|, for Options.StartRows.
+type StartRows struct {
+	Eta, Z []float64
+}
+
+// NewStartRows computes the StartRows of beta on d's rows, with the
+// operations of Fit's own pass, so that a fit given them is exactly the
+// fit without them.
+func NewStartRows(d Data, beta []float64) *StartRows {
+	s := &StartRows{Eta: d.LinearPredictor(beta, make([]float64, d.N)), Z: make([]float64, d.N)}
+	for i, eta := range s.Eta {
+		s.Z[i] = math.Exp(-math.Abs(eta))
+	}
+	return s
+}

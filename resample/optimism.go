@@ -150,6 +150,9 @@ func Optimism(ctx context.Context, pr Problem, opt Options) (*Result, error) {
 		return nil, fmt.Errorf("resample: measuring the full fit: %w", err)
 	}
 	res.Apparent = app
+	// Every refit starts from pr.Coef: its first pass reads the rows'
+	// linear predictor and exponential there, shared by the workers.
+	start := logistic.NewStartRows(data(pr, nil), pr.Coef)
 
 	type outcome struct {
 		diff   Measures
@@ -180,7 +183,7 @@ func Optimism(ctx context.Context, pr Problem, opt Options) (*Result, error) {
 			ws := newWorkspace(pr)
 			for b := range next {
 				drawn := ws.draw(opt.Seed, b, opt.Log != nil)
-				d, err := ws.replicate(pr, opt.ICIDelta)
+				d, err := ws.replicate(pr, start, opt.ICIDelta)
 				mu.Lock()
 				if err != nil {
 					outs[b].reason = reason(err)
@@ -305,8 +308,10 @@ func data(pr Problem, w []float64) logistic.Data {
 }
 
 // replicate refits on the current counts and returns apparent − test.
-func (ws *workspace) replicate(pr Problem, delta float64) (Measures, error) {
-	fit, err := logistic.Fit(data(pr, ws.counts), logistic.Options{Start: pr.Coef, Firth: pr.Firth, Workers: 1})
+// start holds the rows' linear predictor at pr.Coef and its exponential.
+func (ws *workspace) replicate(pr Problem, start *logistic.StartRows, delta float64) (Measures, error) {
+	fit, err := logistic.Fit(data(pr, ws.counts), logistic.Options{Start: pr.Coef, Firth: pr.Firth, Workers: 1,
+		StartRows: start, CoefOnly: true})
 	if err != nil {
 		return Measures{}, err
 	}
