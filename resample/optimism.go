@@ -268,6 +268,7 @@ func Stream(seed uint64, b int) *rand.Rand {
 // workspace holds one worker's buffers, reused across replicates.
 type workspace struct {
 	counts []float64
+	rows   []int32 // the rows drawn at least once, ascending
 	drawn  []int32
 	lp     []float64
 	p, z   []float64 // risks of lp and e^−|lp|
@@ -280,7 +281,7 @@ type workspace struct {
 
 func newWorkspace(pr Problem) *workspace {
 	n := pr.N
-	return &workspace{counts: make([]float64, n), drawn: make([]int32, n), lp: make([]float64, n),
+	return &workspace{counts: make([]float64, n), rows: make([]int32, n), drawn: make([]int32, n), lp: make([]float64, n),
 		p: make([]float64, n), z: make([]float64, n), ps: make([]float64, n), ys: make([]float64, n)}
 }
 
@@ -297,6 +298,16 @@ func (ws *workspace) draw(seed uint64, b int, keep bool) []int32 {
 		ws.counts[i]++
 		ws.drawn[k] = int32(i)
 	}
+	// The rows drawn, without a branch on each row's count.
+	rows := ws.rows[:cap(ws.rows)]
+	m := 0
+	for i, c := range ws.counts {
+		rows[m] = int32(i)
+		if c != 0 {
+			m++
+		}
+	}
+	ws.rows = rows[:m]
 	if !keep {
 		return nil
 	}
@@ -310,7 +321,9 @@ func data(pr Problem, w []float64) logistic.Data {
 // replicate refits on the current counts and returns apparent − test.
 // start holds the rows' linear predictor at pr.Coef and its exponential.
 func (ws *workspace) replicate(pr Problem, start *logistic.StartRows, delta float64) (Measures, error) {
-	fit, err := logistic.Fit(data(pr, ws.counts), logistic.Options{Start: pr.Coef, Firth: pr.Firth, Workers: 1,
+	d := data(pr, ws.counts)
+	d.Rows = ws.rows
+	fit, err := logistic.Fit(d, logistic.Options{Start: pr.Coef, Firth: pr.Firth, Workers: 1,
 		StartRows: start, CoefOnly: true})
 	if err != nil {
 		return Measures{}, err
