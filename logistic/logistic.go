@@ -40,6 +40,12 @@ type Data struct {
 	Weights []float64
 	// Offset is added to the linear predictor (nil means 0).
 	Offset []float64
+	// Rows, when not nil, lists in ascending order every row of nonzero
+	// weight (Weights must be set), so that the passes of a fit visit
+	// only those instead of testing each row's weight: for weights with
+	// many zeros in no pattern, such as a bootstrap's counts. The fit is
+	// the same with or without it.
+	Rows []int32
 }
 
 // Options control the iterations. The zero value is usable.
@@ -76,6 +82,22 @@ type Options struct {
 	Fixed []bool
 	// Workers bounds the goroutines used (default GOMAXPROCS).
 	Workers int
+	// StartRows, when not nil, holds the linear predictor at Start of
+	// every row of the data (offset included) and e^−|η|, as
+	// NewStartRows computes them: the first pass reads them instead of
+	// computing them, for many fits of the same rows from the same Start
+	// with different weights (a bootstrap's refits). Rows that do not
+	// belong to Start give a wrong fit: the caller keeps them together.
+	// It is not used without Start.
+	StartRows *StartRows
+	// CoefOnly leaves out the covariance (Result.Cov and Result.SE are
+	// nil) for a caller that needs only the coefficients and the
+	// deviance. A maximum-likelihood fit then takes the pass after a
+	// step within TolCoef, which is usually the last, without the
+	// information matrix, and takes it again with the information only
+	// if the iterations go on; the coefficients and the deviance are the
+	// same as without CoefOnly.
+	CoefOnly bool
 }
 
 // Result is a fitted model.
@@ -179,6 +201,9 @@ func Fit(d Data, opt Options) (*Result, error) {
 	if d.Weights != nil && len(d.Weights) != d.N || d.Offset != nil && len(d.Offset) != d.N {
 		return nil, errors.New("logistic: weights or offset of the wrong length")
 	}
+	if err := d.checkRows(); err != nil {
+		return nil, err
+	}
 	opt.defaults(d.P)
 	p := d.P
 	beta := make([]float64, p)
@@ -188,10 +213,20 @@ func Fit(d Data, opt Options) (*Result, error) {
 		beta[0] = m
 	}
 	ev := newEvaluator(d, opt.Workers)
+	if opt.Start != nil && opt.StartRows != nil {
+		if len(opt.StartRows.Eta) != d.N || len(opt.StartRows.Z) != d.N {
+			return nil, errors.New("logistic: StartRows of the wrong length")
+		}
+		ev.start = opt.StartRows
+	}
 	st, err := ev.eval(beta, opt.Firth, true)
+	ev.start = nil
 	if err != nil {
 		return nil, err
 	}
+	// Without the covariance, a maximum-likelihood step within TolCoef
+	// is evaluated without the information (see Options.CoefOnly).
+	lean := opt.CoefOnly && !opt.Firth
 	res := &Result{}
 	trial := make([]float64, p)
 	var lastStep []float64
@@ -230,7 +265,7 @@ func Fit(d Data, opt Options) (*Result, error) {
 			}
 		}
 		res.Iterations = it
-		next, h := ev.halve(beta, step, st, opt.Firth, trial, 40, opt.TolCoef)
+		next, h := ev.halve(beta, step, st, opt.Firth, trial, 40, opt.TolCoef, lean)
 		res.Halvings += h
 		if next == nil && newton {
 			var err error
@@ -239,7 +274,7 @@ func Fit(d Data, opt Options) (*Result, error) {
 				break
 			}
 			newton = false
-			next, h = ev.halve(beta, step, st, opt.Firth, trial, 40, opt.TolCoef)
+			next, h = ev.halve(beta, step, st, opt.Firth, trial, 40, opt.TolCoef, false)
 			res.Halvings += h
 		}
 		if next == nil {
@@ -273,6 +308,12 @@ func Fit(d Data, opt Options) (*Result, error) {
 		if !opt.Firth && st.deviance < 1e-10*float64(d.N) {
 			break // every row fitted perfectly: complete separation
 		}
+		if st.lean {
+			// The iterations go on: the same pass with the information.
+			if st, err = ev.eval(beta, false, true); err != nil {
+				return nil, err
+			}
+		}
 	}
 	if !converged {
 		if sep := ev.separation(beta, lastStep); sep != nil && !opt.Firth {
@@ -283,15 +324,17 @@ func Fit(d Data, opt Options) (*Result, error) {
 		}
 		return nil, fmt.Errorf("%w in %d iterations", ErrNotConverged, res.Iterations)
 	}
-	cov, err := invert(st.info, p)
-	if err != nil {
-		return nil, err
-	}
 	res.Coef = beta
-	res.Cov = cov
-	res.SE = make([]float64, p)
-	for j := range res.SE {
-		res.SE[j] = math.Sqrt(cov[j*p+j])
+	if !opt.CoefOnly {
+		cov, err := invert(st.info, p)
+		if err != nil {
+			return nil, err
+		}
+		res.Cov = cov
+		res.SE = make([]float64, p)
+		for j := range res.SE {
+			res.SE[j] = math.Sqrt(cov[j*p+j])
+		}
 	}
 	res.Deviance = st.deviance
 	res.PenalizedLogLik = -st.deviance/2 + st.halfLogDet
@@ -307,18 +350,23 @@ func Fit(d Data, opt Options) (*Result, error) {
 // taken whole whenever its objective is finite: the objective changes by
 // less than its rounding there (under separation log det X'WX comes
 // from an ill-conditioned matrix), and halving cannot help. It returns
-// nil when every trial falls.
-func (e *evaluator) halve(beta, step []float64, st *state, firth bool, trial []float64, max int, tiny float64) (*state, int) {
+// nil when every trial falls. With lean set, such a small step is
+// evaluated without the information and score (state.lean).
+func (e *evaluator) halve(beta, step []float64, st *state, firth bool, trial []float64, max int, tiny float64, lean bool) (*state, int) {
 	small := true
 	for j, s := range step {
 		small = small && math.Abs(s)/math.Max(1, math.Abs(beta[j])) < tiny
 	}
+	lean = lean && small && !firth
 	scale := 1.0
 	for h := 0; h <= max; h++ {
 		for j := range trial {
 			trial[j] = beta[j] + scale*step[j]
 		}
-		next, err := e.eval(trial, firth, true)
+		next, err := e.eval(trial, firth, !lean)
+		if err == nil && lean {
+			next.lean = true
+		}
 		if err == nil && (small || next.objective >= st.objective-math.Max(st.rounding, next.rounding)) {
 			return next, h
 		}
@@ -559,6 +607,8 @@ type state struct {
 	// mu and q hold, for Firth, each row's fitted risk and x'I⁻¹x (for
 	// the Hessian, which would otherwise recompute them).
 	mu, q []float64
+	// lean marks a state evaluated without info and score.
+	lean bool
 }
 
 type evaluator struct {
@@ -567,6 +617,9 @@ type evaluator struct {
 	// bufs[k] is worker k's scratch for pass, made once per evaluator
 	// so that the passes of a fit allocate nothing per pass.
 	bufs [][]float64
+	// start, when not nil, gives pass each row's η and e^−|η| (the
+	// first pass of a fit with Options.StartRows).
+	start *StartRows
 }
 
 func newEvaluator(d Data, workers int) *evaluator {
@@ -731,7 +784,18 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool, muOu
 		nb = 0
 	}
 	acc := newDevSum()
-	for i := lo; i < hi; i++ {
+	start := e.start
+	// With d.Rows the loop runs over the listed rows in [lo, hi).
+	sub := d.rowsIn(lo, hi)
+	first, last := lo, hi
+	if sub != nil {
+		first, last = 0, len(sub)
+	}
+	for k := first; k < last; k++ {
+		i := k
+		if sub != nil {
+			i = int(sub[k])
+		}
 		// The row and its deviance term, written out here (not called) to
 		// keep this innermost loop free of calls.
 		wt := 1.0
@@ -741,15 +805,19 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool, muOu
 			}
 		}
 		x := d.X[i*p : (i+1)*p]
-		eta := 0.0
-		if d.Offset != nil {
-			eta = d.Offset[i]
-		}
-		for j, b := range beta {
-			eta += x[j] * b
+		var eta, z float64
+		if start != nil {
+			eta, z = start.Eta[i], start.Z[i]
+		} else {
+			if d.Offset != nil {
+				eta = d.Offset[i]
+			}
+			for j, b := range beta {
+				eta += x[j] * b
+			}
+			z = math.Exp(-math.Abs(eta))
 		}
 		y := d.Y[i]
-		z := math.Exp(-math.Abs(eta))
 		if wt == 1 {
 			acc.lin += math.Max(eta, 0) - y*eta
 			acc.prod *= 1 + z

@@ -169,6 +169,15 @@ type CalibrationWorkspace struct{ e []float64 }
 func (ws *CalibrationWorkspace) Weighted(y, lp, w []float64, workers int) (citl, slope float64, err error) {
 	checkLinear("CalibrationWeighted", y, lp)
 	checkWeights("CalibrationWeighted", y, w)
+	return ws.weighted(y, lp, nil, nil, w, workers)
+}
+
+// weighted is Weighted on checked inputs; p, when not nil, holds
+// logistic.Expit of every linear predictor, so that it is not computed
+// again.
+// z, when not nil, holds e^−|lp| of every row (only its rows of
+// negative lp are read, where it is e^lp).
+func (ws *CalibrationWorkspace) weighted(y, lp, p, z, w []float64, workers int) (citl, slope float64, err error) {
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}
@@ -181,7 +190,11 @@ func (ws *CalibrationWorkspace) Weighted(y, lp, w []float64, workers int) (citl,
 		}
 		sw += wi
 		sy += wi * y[i]
-		sp += wi * logistic.Expit(v)
+		if p != nil {
+			sp += wi * p[i]
+		} else {
+			sp += wi * logistic.Expit(v)
+		}
 	}
 	start := 0.0
 	if ybar, pbar := sy/sw, sp/sw; ybar > 0 && ybar < 1 && pbar > 0 && pbar < 1 {
@@ -190,11 +203,11 @@ func (ws *CalibrationWorkspace) Weighted(y, lp, w []float64, workers int) (citl,
 	if cap(ws.e) < n {
 		ws.e = make([]float64, n)
 	}
-	citl, _, err = interceptNewton(y, lp, w, start, workers, ws.e[:n])
+	citl, _, err = interceptNewtonFrom(y, lp, z, w, start, workers, ws.e[:n])
 	if err != nil {
 		return 0, 0, fmt.Errorf("calibration-in-the-large: %w", err)
 	}
-	if _, b, _, ok := slopeNewton(y, lp, w, workers); ok {
+	if _, b, _, ok := slopeNewtonFrom(y, lp, p, w, workers); ok {
 		return citl, b, nil
 	}
 	// Newton's method without step halving did not settle: take the
@@ -219,8 +232,20 @@ func (ws *CalibrationWorkspace) Weighted(y, lp, w []float64, workers int) (citl,
 // the steps do not settle within 50 iterations or the information
 // degenerates.
 func slopeNewton(y, lp, w []float64, workers int) (a, b float64, cov [3]float64, ok bool) {
+	return slopeNewtonFrom(y, lp, nil, w, workers)
+}
+
+// slopeNewtonFrom is slopeNewton given, when p is not nil, the risks
+// expit(lp) of the rows: the risks of the first step, at (0, 1), where
+// expit(a + b·lp) is exactly expit(lp), so that step takes no
+// exponential.
+func slopeNewtonFrom(y, lp, p, w []float64, workers int) (a, b float64, cov [3]float64, ok bool) {
 	a, b = 0.0, 1.0
 	for it := 0; it < 50; it++ {
+		first := p
+		if it > 0 {
+			first = nil
+		}
 		s := rowSums(len(lp), workers, func(lo, hi int) [5]float64 {
 			var t [5]float64
 			for i := lo; i < hi; i++ {
@@ -231,7 +256,12 @@ func slopeNewton(y, lp, w []float64, workers int) (a, b float64, cov [3]float64,
 					}
 				}
 				v := lp[i]
-				mu := logistic.Expit(a + b*v)
+				var mu float64
+				if first != nil {
+					mu = first[i]
+				} else {
+					mu = logistic.Expit(a + b*v)
+				}
 				r := wi * (y[i] - mu)
 				q := wi * mu * (1 - mu)
 				t[0] += r
@@ -302,10 +332,21 @@ func rowSums(n, workers int, f func(lo, hi int) [5]float64) [5]float64 {
 // halved. workers is as for rowSums; e, when not nil, is scratch of
 // len(lp) values for E.
 func interceptNewton(y, lp, w []float64, a float64, workers int, e []float64) (float64, float64, error) {
+	return interceptNewtonFrom(y, lp, nil, w, a, workers, e)
+}
+
+// interceptNewtonFrom is interceptNewton given, when z is not nil,
+// e^−|lp| of every row: on a row of lp in [−700, 0) that is E = e^lp
+// itself, so E is computed only for the other rows.
+func interceptNewtonFrom(y, lp, z, w []float64, a float64, workers int, e []float64) (float64, float64, error) {
 	if e == nil {
 		e = make([]float64, len(lp))
 	}
 	for i, v := range lp {
+		if z != nil && v < 0 && v >= -700 {
+			e[i] = z[i]
+			continue
+		}
 		e[i] = math.Exp(math.Max(-700, math.Min(700, v)))
 	}
 	sums := func(a float64) (score, info float64) {

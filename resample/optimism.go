@@ -144,12 +144,15 @@ func Optimism(ctx context.Context, pr Problem, opt Options) (*Result, error) {
 	}
 	res := &Result{B: opt.B, Seed: opt.Seed, Reasons: map[string]int{}, ICIDelta: opt.ICIDelta}
 	ws := newWorkspace(pr)
-	lp := linearPredictor(pr, pr.Coef, ws.lp)
-	app, err := ws.measures(pr, lp, ws.sort(lp), nil, logistic.Deviance(data(pr, nil), pr.Coef), opt.ICIDelta, false)
+	lp, dev := ws.predict(pr, pr.Coef)
+	app, err := ws.measures(pr, lp, ws.sorter.Order(ws.p), nil, dev, opt.ICIDelta, false)
 	if err != nil {
 		return nil, fmt.Errorf("resample: measuring the full fit: %w", err)
 	}
 	res.Apparent = app
+	// Every refit starts from pr.Coef: its first pass reads the rows'
+	// linear predictor and exponential there, shared by the workers.
+	start := logistic.NewStartRows(data(pr, nil), pr.Coef)
 
 	type outcome struct {
 		diff   Measures
@@ -180,7 +183,7 @@ func Optimism(ctx context.Context, pr Problem, opt Options) (*Result, error) {
 			ws := newWorkspace(pr)
 			for b := range next {
 				drawn := ws.draw(opt.Seed, b, opt.Log != nil)
-				d, err := ws.replicate(pr, opt.ICIDelta)
+				d, err := ws.replicate(pr, start, opt.ICIDelta)
 				mu.Lock()
 				if err != nil {
 					outs[b].reason = reason(err)
@@ -265,9 +268,10 @@ func Stream(seed uint64, b int) *rand.Rand {
 // workspace holds one worker's buffers, reused across replicates.
 type workspace struct {
 	counts []float64
+	rows   []int32 // the rows drawn at least once, ascending
 	drawn  []int32
 	lp     []float64
-	p      []float64
+	p, z   []float64 // risks of lp and e^−|lp|
 	ps, ys []float64 // sorted by risk (original rows, or the sample expanded)
 	x      []float64 // scratch for the calibration fits
 	sorter metrics.Sorter
@@ -277,8 +281,8 @@ type workspace struct {
 
 func newWorkspace(pr Problem) *workspace {
 	n := pr.N
-	return &workspace{counts: make([]float64, n), drawn: make([]int32, n), lp: make([]float64, n),
-		p: make([]float64, n), ps: make([]float64, n), ys: make([]float64, n)}
+	return &workspace{counts: make([]float64, n), rows: make([]int32, n), drawn: make([]int32, n), lp: make([]float64, n),
+		p: make([]float64, n), z: make([]float64, n), ps: make([]float64, n), ys: make([]float64, n)}
 }
 
 // draw fills the counts of replicate b and returns the indices drawn
@@ -294,6 +298,16 @@ func (ws *workspace) draw(seed uint64, b int, keep bool) []int32 {
 		ws.counts[i]++
 		ws.drawn[k] = int32(i)
 	}
+	// The rows drawn, without a branch on each row's count.
+	rows := ws.rows[:cap(ws.rows)]
+	m := 0
+	for i, c := range ws.counts {
+		rows[m] = int32(i)
+		if c != 0 {
+			m++
+		}
+	}
+	ws.rows = rows[:m]
 	if !keep {
 		return nil
 	}
@@ -304,38 +318,38 @@ func data(pr Problem, w []float64) logistic.Data {
 	return logistic.Data{X: pr.X, N: pr.N, P: pr.P, Y: pr.Y, Weights: w, Offset: pr.Offset}
 }
 
-func linearPredictor(pr Problem, beta, out []float64) []float64 {
-	return data(pr, nil).LinearPredictor(beta, out)
-}
-
 // replicate refits on the current counts and returns apparent − test.
-func (ws *workspace) replicate(pr Problem, delta float64) (Measures, error) {
-	fit, err := logistic.Fit(data(pr, ws.counts), logistic.Options{Start: pr.Coef, Firth: pr.Firth, Workers: 1})
+// start holds the rows' linear predictor at pr.Coef and its exponential.
+func (ws *workspace) replicate(pr Problem, start *logistic.StartRows, delta float64) (Measures, error) {
+	d := data(pr, ws.counts)
+	d.Rows = ws.rows
+	fit, err := logistic.Fit(d, logistic.Options{Start: pr.Coef, Firth: pr.Firth, Workers: 1,
+		StartRows: start, CoefOnly: true})
 	if err != nil {
 		return Measures{}, err
 	}
-	lp := linearPredictor(pr, fit.Coef, ws.lp)
-	order := ws.sort(lp)
+	lp, dev := ws.predict(pr, fit.Coef)
+	order := ws.sorter.Order(ws.p)
 	// A maximum-likelihood fit with an intercept and no offset has
 	// calibration-in-the-large 0 and slope 1 on its own sample.
 	app, err := ws.measures(pr, lp, order, ws.counts, fit.Deviance, delta, !pr.Firth && pr.Offset == nil)
 	if err != nil {
 		return Measures{}, err
 	}
-	test, err := ws.measures(pr, lp, order, nil, logistic.Deviance(data(pr, nil), fit.Coef), delta, false)
+	test, err := ws.measures(pr, lp, order, nil, dev, delta, false)
 	if err != nil {
 		return Measures{}, err
 	}
 	return app.sub(test), nil
 }
 
-// sort sets the risks of lp and returns the rows in risk order, in the
-// workspace's own sort buffers.
-func (ws *workspace) sort(lp []float64) []int32 {
-	for i, v := range lp {
-		ws.p[i] = expit(v)
-	}
-	return ws.sorter.Order(ws.p)
+// predict sets the linear predictor of beta (ws.lp, returned) and its
+// risks (ws.p, with e^−|η| in ws.z) on the original rows and returns −2 log-likelihood there,
+// one exponential per row serving both (logistic.Data.Predict: the
+// values of LinearPredictor, Expit and Deviance).
+func (ws *workspace) predict(pr Problem, beta []float64) ([]float64, float64) {
+	dev := data(pr, nil).Predict(beta, ws.lp, ws.p, ws.z)
+	return ws.lp, dev
 }
 
 // measures measures linear predictor lp (with risks ws.p, rows in risk
@@ -365,7 +379,7 @@ func (ws *workspace) measures(pr Problem, lp []float64, order []int32, w []float
 	} else {
 		var err error
 		// Each bootstrap worker is one goroutine: the fit stays on it.
-		if m.CITL, m.Slope, err = ws.calib.Weighted(pr.Y, lp, w, 1); err != nil {
+		if m.CITL, m.Slope, err = ws.calib.WeightedRisks(pr.Y, lp, ws.p, ws.z, w, 1); err != nil {
 			return m, err
 		}
 	}
@@ -381,17 +395,16 @@ func (ws *workspace) measures(pr Problem, lp []float64, order []int32, w []float
 
 // ici is the ICI of risks ps (sorted) against outcomes ys, with LOWESS at
 // span 0.75 and δ = delta × the range of ps, on one goroutine in the
-// buffers of lw, from the smooth clipped to [0, 1] as in
+// buffers of lw (the smooth's fit alone, without its standard errors),
+// from the smooth clipped to [0, 1] as in
 // metrics.FlexibleCalibration.
 func ici(lw *metrics.LowessWorkspace, ys, ps []float64, delta float64) float64 {
 	d := delta * (ps[len(ps)-1] - ps[0])
-	c := lw.Lowess(ps, ys, metrics.LowessOptions{Span: 0.75, Delta: d, Workers: 1})
-	metrics.ClipRisks(c.Fit)
+	fit := lw.LowessFit(ps, ys, metrics.LowessOptions{Span: 0.75, Delta: d})
+	metrics.ClipRisks(fit)
 	s := 0.0
 	for i, v := range ps {
-		s += math.Abs(v - c.Fit[i])
+		s += math.Abs(v - fit[i])
 	}
 	return s / float64(len(ps))
 }
-
-func expit(x float64) float64 { return logistic.Expit(x) }
