@@ -162,6 +162,8 @@ type Plan struct {
 	// the line of each top-level key.
 	Set   map[string]bool
 	Lines map[string]int
+	// CriteriaLines is the line of each of Criteria.
+	CriteriaLines []int
 }
 
 // FileKeys are the plan's keys that name a file read by the audit.
@@ -550,6 +552,7 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 				return err
 			}
 			pl.Criteria = append(pl.Criteria, cr)
+			pl.CriteriaLines = append(pl.CriteriaLines, c.Line)
 		}
 	}
 	return err
