@@ -153,16 +153,31 @@ func pooledValue(pm *PooledMeasures, name string) (float64, *[2]float64, error) 
 const NoClusters = "there is no analysis across clusters, so the criterion cannot be shown to be met"
 
 // pooledNote says why a pooled criterion's measure could not be
-// estimated: the pooled measure's own note (too few clusters for the
-// pooling or for a prediction interval) when it has one.
+// estimated (PooledReason), as a criterion's Note.
 func pooledNote(pm *PooledMeasures, name string) string {
-	base, _, _, _ := pooledParts(name)
+	if pm == nil {
+		return NoClusters
+	}
+	return "the pooled measure could not be estimated (" + PooledReason(pm, name) + "), so the criterion cannot be shown to be met"
+}
+
+// PooledReason says in a few words why the pooled measure named (one of
+// PooledMeasureNames) could not be estimated: no analysis across
+// clusters, fewer than 2 clusters with the measure to pool, or fewer than
+// 3 for a prediction interval or a probability of acceptable performance
+// (meta.Pool: a t distribution on k − 2 degrees of freedom).
+func PooledReason(pm *PooledMeasures, name string) string {
+	base, what, _, _ := pooledParts(name)
 	m := pooledMeasure(pm, base)
 	switch {
 	case m == nil:
-		return NoClusters
+		return "no analysis across clusters"
+	case m.K < 2:
+		return fmt.Sprintf("%s with this measure, at least 2 needed to pool it", count(m.K, "cluster"))
+	case (what == "pi" || what == "chance") && m.K < 3:
+		return fmt.Sprintf("%s with this measure, at least 3 needed for a prediction interval", count(m.K, "cluster"))
 	case m.Note != "":
-		return "the pooled measure could not be estimated (" + m.Note + "), so the criterion cannot be shown to be met"
+		return m.Note
 	}
-	return NotEstimable
+	return "not estimable"
 }

@@ -52,10 +52,10 @@ func TestJudgePooled(t *testing.T) {
 		{"pooled.oe_chance on a bound of 0.625", Criterion{Measure: "pooled.oe_chance", AtLeast: f(0.625)}, true, "pass", ""},
 		{"pooled.slope from 2 clusters", Criterion{Measure: "pooled.slope", Between: &[2]float64{0.9, 1.1}}, true, "pass", ""},
 		{"pooled.slope_ci from 2 clusters contains 1", Criterion{Measure: "pooled.slope_ci", Contains: f(1)}, true, "pass", ""},
-		{"pooled.slope_pi from 2 clusters", Criterion{Measure: "pooled.slope_pi", Contains: f(1)}, false, "fail", "at least 3 clusters"},
-		{"pooled.slope_pi.lower from 2 clusters", Criterion{Measure: "pooled.slope_pi.lower", AtLeast: f(0), Severity: "review"}, false, "review", "at least 3 clusters"},
-		{"pooled.slope_chance from 2 clusters", Criterion{Measure: "pooled.slope_chance", AtLeast: f(0)}, false, "fail", "at least 3 clusters"},
-		{"pooled.citl not pooled", Criterion{Measure: "pooled.citl", Between: &[2]float64{-1, 1}}, false, "fail", "at least 2 needed"},
+		{"pooled.slope_pi from 2 clusters", Criterion{Measure: "pooled.slope_pi", Contains: f(1)}, false, "fail", "2 clusters with this measure, at least 3 needed for a prediction interval"},
+		{"pooled.slope_pi.lower from 2 clusters", Criterion{Measure: "pooled.slope_pi.lower", AtLeast: f(0), Severity: "review"}, false, "review", "2 clusters with this measure, at least 3 needed"},
+		{"pooled.slope_chance from 2 clusters", Criterion{Measure: "pooled.slope_chance", AtLeast: f(0)}, false, "fail", "2 clusters with this measure, at least 3 needed for a prediction interval"},
+		{"pooled.citl not pooled", Criterion{Measure: "pooled.citl", Between: &[2]float64{-1, 1}}, false, "fail", "at least 2 needed to pool it"},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			v, err := Judge(perf, []Criterion{c.crit})
