@@ -80,6 +80,23 @@ func plantPooled(t *testing.T, r printedRun) {
 		t.Fatalf("%s: no criterion %s in audit.json", r.name, measure)
 		return ""
 	}
+	// The verdict judges clusters.pooled's own values (for the imputed
+	// audit, the pooling across sites of each site's Rubin's-rules
+	// estimates).
+	for _, c := range []struct{ measure, path string }{
+		{"pooled.auc", "clusters.pooled.auc.estimate"},
+		{"pooled.slope_pi.lower", "clusters.pooled.slope.prediction_interval[0]"},
+		{"pooled.auc_chance", "clusters.pooled.auc.prob_acceptable"},
+		{"pooled.oe_pi", "clusters.pooled.oe.prediction_interval[1]"},
+	} {
+		got := js.num(idx(c.measure) + ".value")
+		if strings.HasSuffix(c.measure, "_pi") {
+			got = js.num(idx(c.measure) + ".interval[1]")
+		}
+		if want := js.num(c.path); got != want {
+			t.Errorf("%s: verdict %s %v, audit.json %s %v", r.name, c.measure, got, c.path, want)
+		}
+	}
 	f3 := func(v float64) string { return validate.FormatMeasure("pooled.auc", v) }
 	oePI, oeCI := "clusters.pooled.oe.prediction_interval", "clusters.pooled.oe.ci"
 	for _, m := range []struct{ name, row, old, new string }{
