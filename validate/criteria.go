@@ -198,7 +198,7 @@ func measureValue(p *Performance, name string) (float64, *[2]float64, error) {
 			return iv[1], nil, nil
 		}
 	}
-	return 0, nil, fmt.Errorf("unknown measure %q (measures: %s)", name, strings.Join(MeasureNames(), ", "))
+	return 0, nil, unknownMeasure(name)
 }
 
 // AlarmMeasures are the criteria's names for the alarms of an audit

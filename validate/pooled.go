@@ -49,6 +49,20 @@ func PooledMeasureNames() []string {
 	return names
 }
 
+// unknownMeasure is the error for a criterion's measure that is none of
+// MeasureNames: it lists them, the pooled ones in short (the full list
+// would be three times as long).
+func unknownMeasure(name string) error {
+	var names []string
+	for _, m := range MeasureNames() {
+		if !IsPooledMeasure(m) {
+			names = append(names, m)
+		}
+	}
+	return fmt.Errorf("unknown measure %q (measures: %s; pooled.M, pooled.M_ci, pooled.M_pi (.lower, .upper), pooled.M_chance (not citl), M = auc, oe, citl, slope)",
+		name, strings.Join(names, ", "))
+}
+
 // IsPooledMeasure reports whether a criterion's measure is taken from the
 // analysis across clusters.
 func IsPooledMeasure(name string) bool { return strings.HasPrefix(name, PooledPrefix) }
@@ -113,7 +127,7 @@ func pooledMeasure(pm *PooledMeasures, base string) *PooledMeasure {
 func pooledValue(pm *PooledMeasures, name string) (float64, *[2]float64, error) {
 	base, what, end, ok := pooledParts(name)
 	if !ok {
-		return 0, nil, fmt.Errorf("unknown measure %q (measures: %s)", name, strings.Join(MeasureNames(), ", "))
+		return 0, nil, unknownMeasure(name)
 	}
 	nan := math.NaN()
 	m := pooledMeasure(pm, base)
