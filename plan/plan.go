@@ -846,6 +846,13 @@ criteria:
     at_least: 0.001             # by 1 net true positive per 1000 patients
     over: [0.05, 0.20]          # at every decision-curve threshold in range
     severity: review
+  # With a cluster column (cluster: site), criteria may also name the
+  # pooled measures across clusters: pooled.auc, pooled.oe_pi (contains),
+  # pooled.auc_pi.lower, pooled.slope_chance (the probability that a new
+  # site's slope is acceptable; see the clusters section's accept_slope).
+  # - measure: pooled.auc_pi.lower
+  #   at_least: 0.65
+  #   severity: review
 
 bootstrap:
   replicates: 0             # internal validation on dev (e.g. 200)
