@@ -110,3 +110,14 @@ func TestPooledCriterionForms(t *testing.T) {
 		}
 	}
 }
+
+// TestPooledCriteriaNotInSubgroups: a subgroup has no analysis across
+// clusters, so no pooled criterion is checked in it, while the overall
+// criterion on the same measure is.
+func TestPooledCriteriaNotInSubgroups(t *testing.T) {
+	one := 0.5
+	got := subgroupCriteria([]Criterion{{Measure: "pooled.auc", AtLeast: &one}, {Measure: "auc", AtLeast: &one}, {Measure: "pooled.oe_ci", Contains: &one}})
+	if len(got) != 1 || got[0].Measure != "auc" {
+		t.Errorf("subgroup criteria %+v; want auc alone", got)
+	}
+}
