@@ -70,6 +70,9 @@ func Run(ctx context.Context, cfg Config) (*Result, error) {
 	if err := cfg.OverTime.checkCriteria(cfg.Criteria); err != nil {
 		return nil, err
 	}
+	if err := cfg.Clusters.checkPooledCriteria(cfg.Criteria); err != nil {
+		return nil, err
+	}
 	cfg.Measures = cfg.Measures.WithDefaults()
 	cfg.Cohort, cfg.Dev = cfg.Cohort.named(), cfg.Dev.named()
 	r := run{cfg: &cfg, prog: progressOf(cfg.Progress), started: now(cfg.Clock)}
@@ -320,6 +323,13 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 			return err
 		}
 	}
+	if r.cur.cluster != nil {
+		// Before the verdict: a plan may make a pooled measure a criterion.
+		if err := r.clusters(a); err != nil {
+			return err
+		}
+		r.perf.Pooled = &a.Clusters.Pooled
+	}
 	criteria := c.Criteria
 	if criteria == nil {
 		criteria = validate.DefaultCriteria()
@@ -353,11 +363,6 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 	}
 	if len(c.Subgroups) > 0 || len(c.Bands) > 0 {
 		if err := r.subgroups(a, criteria); err != nil {
-			return err
-		}
-	}
-	if r.cur.cluster != nil {
-		if err := r.clusters(a); err != nil {
 			return err
 		}
 	}

@@ -162,6 +162,8 @@ type Plan struct {
 	// the line of each top-level key.
 	Set   map[string]bool
 	Lines map[string]int
+	// CriteriaLines is the line of each of Criteria.
+	CriteriaLines []int
 }
 
 // FileKeys are the plan's keys that name a file read by the audit.
@@ -550,6 +552,7 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 				return err
 			}
 			pl.Criteria = append(pl.Criteria, cr)
+			pl.CriteriaLines = append(pl.CriteriaLines, c.Line)
 		}
 	}
 	return err
@@ -843,6 +846,13 @@ criteria:
     at_least: 0.001             # by 1 net true positive per 1000 patients
     over: [0.05, 0.20]          # at every decision-curve threshold in range
     severity: review
+  # With a cluster column (cluster: site), criteria may also name the
+  # pooled measures across clusters: pooled.auc, pooled.oe_pi (contains),
+  # pooled.auc_pi.lower, pooled.slope_chance (the probability that a new
+  # site's slope is acceptable; see the clusters section's accept_slope).
+  # - measure: pooled.auc_pi.lower
+  #   at_least: 0.65
+  #   severity: review
 
 bootstrap:
   replicates: 0             # internal validation on dev (e.g. 200)

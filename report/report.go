@@ -264,6 +264,8 @@ func (r *renderer) verdict() {
 		switch {
 		case c.Note == validate.NoThresholdInRange:
 			res = "**not met** (cannot be judged: no decision-curve threshold in the range)"
+		case c.Note != "" && validate.IsPooledMeasure(c.Measure) && r.a.Clusters != nil:
+			res = "**not met** (cannot be judged: " + validate.PooledReason(&r.a.Clusters.Pooled, c.Measure) + ")"
 		case c.Note != "":
 			res = "**not met** (cannot be judged: not estimable)"
 		case !c.Passed:

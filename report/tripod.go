@@ -92,6 +92,9 @@ var tripodItems = []tripodItem{
 	{"10", "sample size: how it was arrived at, why it is enough", fixed("Was the cohort large enough? (Riley et al. 2021)", "how the cohort's size was arrived at")},
 	{"11", "missing data: how handled, reasons", fixed("Cohort: rows left out per column; Methods: complete-case analysis", "why the values are missing, and whether the complete cases can stand for the cohort")},
 	{"12d", "heterogeneity across clusters (such as hospitals)", func(a *validate.Audit) (string, string) {
+		if a.Clusters != nil {
+			return "Across " + code(a.Clusters.Column) + ": random-effects meta-analysis of the measures across clusters (τ², I², prediction intervals)", ""
+		}
 		if len(a.Subgroups) > 0 {
 			return "Subgroups (when a subgroup column is a centre)", "how heterogeneity between centres was examined"
 		}
@@ -153,6 +156,9 @@ var tripodItems = []tripodItem{
 		return in, "performance in key subgroups of patients (audit with --subgroups)"
 	}},
 	{"23b", "heterogeneity of performance across clusters", func(a *validate.Audit) (string, string) {
+		if a.Clusters != nil {
+			return "Across " + code(a.Clusters.Column) + ": each cluster's measures, the pooled measures with their prediction intervals, and the forest plots", ""
+		}
 		if len(a.Subgroups) > 0 {
 			return "Subgroups (when a subgroup column is a centre)", ""
 		}

@@ -177,6 +177,9 @@ func measureValue(p *Performance, name string) (float64, *[2]float64, error) {
 	if v, ok := scalars[name]; ok {
 		return v, nil, nil
 	}
+	if IsPooledMeasure(name) {
+		return pooledValue(p.Pooled, name)
+	}
 	if slices.Contains(AlarmMeasures, name) {
 		if v, ok := p.Alarms[name]; ok {
 			return v, nil, nil
@@ -195,7 +198,7 @@ func measureValue(p *Performance, name string) (float64, *[2]float64, error) {
 			return iv[1], nil, nil
 		}
 	}
-	return 0, nil, fmt.Errorf("unknown measure %q (measures: %s)", name, strings.Join(MeasureNames(), ", "))
+	return 0, nil, unknownMeasure(name)
 }
 
 // AlarmMeasures are the criteria's names for the alarms of an audit
@@ -212,6 +215,7 @@ func MeasureNames() []string {
 	names := []string{"auc", "auc_se", "citl", "citl_se", "slope", "slope_se", "oe", "ici", "e50", "e90", "emax",
 		"brier", "scaled_brier", "hosmer_lemeshow.p", "hosmer_lemeshow.statistic", "event_rate", NetBenefitGainName}
 	names = append(names, AlarmMeasures...)
+	names = append(names, PooledMeasureNames()...)
 	for _, iv := range []string{"auc_ci", "auc_logit_ci", "citl_ci", "slope_ci", "oe_ci"} {
 		names = append(names, iv, iv+".lower", iv+".upper")
 	}
@@ -293,6 +297,9 @@ func Judge(p *Performance, criteria []Criterion) (*Verdict, error) {
 			r.Passed, r.Note = false, NoThresholdInRange
 		case iv == nil && !finite(val), iv != nil && (!finite(iv[0]) || !finite(iv[1])):
 			r.Passed, r.Note = false, NotEstimable
+			if IsPooledMeasure(c.Measure) {
+				r.Note = pooledNote(p.Pooled, c.Measure)
+			}
 		case c.AtLeast != nil:
 			r.Passed = val >= *c.AtLeast
 		case c.AtMost != nil:

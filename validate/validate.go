@@ -251,6 +251,10 @@ type Performance struct {
 	// (AlarmMeasures), set by an audit that charted the cohort in date
 	// order, so that a criterion can name them; nil otherwise.
 	Alarms map[string]float64 `json:"-"`
+	// Pooled are the measures pooled across clusters, set by an audit
+	// with an analysis across clusters before its verdict, so that a
+	// criterion can name them (PooledMeasureNames); nil otherwise.
+	Pooled *PooledMeasures `json:"-"`
 
 	Cohort         CohortSummary        `json:"cohort"`
 	Discrimination Discrimination       `json:"discrimination"`

@@ -89,6 +89,9 @@ func applyPlan(cmd *cobra.Command, o *auditOptions) error {
 		c.Criteria = pl.Criteria
 	}
 	o.clusters.fromPlan(cmd.Flags(), pl, &c.Cohort.Path)
+	if err := checkPooledPlanCriteria(pl, c.Criteria, &o.clusters); err != nil {
+		return err
+	}
 	if pl.Set["cluster_files"] && len(o.clusters.files) > 0 && !cmd.Flags().Changed("cluster-file") {
 		if err := pl.CheckClusterFiles(); err != nil {
 			return err

@@ -172,6 +172,10 @@ const auditExample = `  # Audit a frozen model on a fresh extract
   # prediction intervals and the chance of acceptable performance in a new site
   riskaudit audit --model frozen.yaml --cohort new.csv --cluster site --out audit
 
+  # The same judged by a plan's criteria on the pooled measures (such as
+  # {measure: pooled.auc_pi.lower, at_least: 0.7}): a miss gives exit status 1
+  riskaudit audit --plan sites.yaml --cluster site --out audit
+
   # The same with each hospital's extract in a file of its own (one cluster
   # a file, named before the '=' or by the file's base name)
   riskaudit audit --model frozen.yaml --cluster-file north=north.csv --cluster-file south=south.csv \

@@ -216,7 +216,7 @@ func imputedClusterRun(t *testing.T, dir, demo string) printedRun {
 	out := filepath.Join(dir, "imputed_sites")
 	var stdout, stderr bytes.Buffer
 	args := []string{"audit", "--model", filepath.Join(demo, "frozen.yaml"), "--cohort", stacked, "--imputation-column", "imputation",
-		"--cluster", "site", "--out", out}
+		"--cluster", "site", "--out", out, "--plan", pooledPlan(t, dir, "imputed_pooled_criteria")}
 	if code := run(context.Background(), args, &streams{out: &stdout, err: &stderr}); code != exitOK && code != exitCriterion {
 		t.Fatalf("riskaudit audit (imputed, across sites): exit status %d: %s", code, stderr.String())
 	}

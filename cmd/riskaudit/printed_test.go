@@ -919,7 +919,8 @@ func TestPrintedNumbersMatchJSON(t *testing.T) {
 		"--update", filepath.Join(dir, "updated.yaml"), "--update-alpha", "0.05", "--update-bootstrap", "20",
 		"--history", filepath.Join(dir, "h.sqlite"), "--audit-date", "2026-01-31",
 		"--cluster", "site", "--date-column", "admitted", "--cusum-arl", "2000",
-		"--thresholds", "0.05:0.30:0.05", "--classify-at", "0.1,0.15,0.3"}
+		"--thresholds", "0.05:0.30:0.05", "--classify-at", "0.1,0.15,0.3",
+		"--plan", pooledPlan(t, dir, "pooled_criteria")}
 	var fullErr bytes.Buffer
 	if code := run(ctx, args, &streams{out: &fullOut, err: &fullErr}); code != exitOK && code != exitCriterion {
 		t.Fatalf("riskaudit audit: exit status %d", code)
@@ -1044,6 +1045,8 @@ func TestPrintedNumbersMatchJSON(t *testing.T) {
 	}
 	plantProse(t, full)
 	plantImputed(t, runs[2])
+	plantPooled(t, full)
+	plantPooled(t, runs[3])
 }
 
 // TestPrintedNumbersMatchJSON's prose corruptions run inside it (the
