@@ -6,8 +6,9 @@ import (
 	"math"
 	"math/rand/v2"
 	"runtime"
-	"slices"
 	"sync"
+
+	"github.com/riskaudit/riskaudit/metrics"
 )
 
 // LimitOptions set the simulation that chooses a CUSUM's alarm limit.
@@ -49,12 +50,15 @@ func CaseMix(p []float64) []float64 {
 	if len(p) <= MaxCaseMix {
 		return p
 	}
-	sorted := slices.Clone(p)
-	slices.Sort(sorted)
+	// The order by the radix sort of the audit's measures (one core,
+	// about a fifth of a comparison sort's time at 1M risks); the
+	// quantiles are the same values as from slices.Sort.
+	var s metrics.Sorter
+	idx := s.Order(p)
 	out := make([]float64, MaxCaseMix)
 	n := len(p)
 	for k := range out {
-		out[k] = sorted[(2*k+1)*n/(2*MaxCaseMix)]
+		out[k] = p[idx[(2*k+1)*n/(2*MaxCaseMix)]]
 	}
 	return out
 }
