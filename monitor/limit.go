@@ -189,7 +189,12 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 					rng := rand.NewPCG(opt.Seed, base+uint64(run))
 					clear(s)
 					clear(reached)
-					for t := int64(1); t <= length; t++ {
+					if k == 2 {
+						// Both charts of an audit: the same steps on
+						// locals (walk2).
+						walk2(rng, thr, ws, nm, length, stop, reached, a.sum, a.sum2, ng)
+					}
+					for t := int64(1); k != 2 && t <= length; t++ {
 						// One draw: the high 32 bits pick the patient
 						// (multiply-shift), the low 32 the outcome.
 						u := rng.Uint64()
