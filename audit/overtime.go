@@ -144,13 +144,58 @@ func b2f(b bool) float64 {
 // overTime charts the audited cohort in date order and adds the summary
 // and its findings to the audit. Rows without a readable date are an
 // error under FailOnMissing and otherwise left out of the charts only
-// (the rest of the audit does not use dates), and counted.
+// (the rest of the audit does not use dates), and counted. The charts
+// are those the background job started after scoring has made
+// (startOverTime), or are made here when none was started.
 func (r *run) overTime(ctx context.Context, a *validate.Audit) error {
 	c, o, sc := r.cfg, r.cfg.OverTime, r.cur
 	if err := o.check(); err != nil {
 		return err
 	}
 	r.prog.Step("charting the cohort in date order")
+	var d *datedCharts
+	if r.dated != nil && r.dated.sc == sc {
+		<-r.dated.charted
+		d, r.datedUsed = r.dated.charts, true
+	} else {
+		d = chartDates(ctx, c, sc)
+	}
+	if d.err != nil {
+		return d.err
+	}
+	res := d.res
+	res.SetOverall(d.y, d.p, r.overallOf(d.missing+d.invalid, len(d.y)))
+	r.monitor = res
+	s := res.Summarise(o.DateColumn)
+	r.perf.Alarms = map[string]float64{
+		"cusum_deterioration_signals": float64(s.CUSUM[0].Signals),
+		"cusum_improvement_signals":   float64(s.CUSUM[1].Signals),
+		"ewma_above":                  b2f(s.EWMA.FirstAbove.Patient > 0),
+		"ewma_below":                  b2f(s.EWMA.FirstBelow.Patient > 0),
+	}
+	s.LeftOutMissing, s.LeftOutInvalid = d.missing, d.invalid
+	a.OverTime = s
+	a.Summary = append(a.Summary, validate.Finding{Area: "over time", Text: alarmText(s)})
+	return nil
+}
+
+// datedCharts are the patients of a scored cohort in date order and
+// their charts, all but the overall period (which is the audit's own
+// measures when no row was left out), or the error that stopped them.
+type datedCharts struct {
+	y, p             []float64
+	dates            []time.Time
+	missing, invalid int
+	res              *monitor.Result
+	err              error
+}
+
+// chartDates puts the rows of sc with a readable date in date order and
+// computes their charts (monitor.Charts). It reads sc and the Config
+// only, so it can run beside the measures of the same cohort.
+func chartDates(ctx context.Context, c *Config, sc *scored) *datedCharts {
+	o := c.OverTime
+	fail := func(err error) *datedCharts { return &datedCharts{err: err} }
 	// Each distinct date is read once (an extract has few).
 	type level struct {
 		t     time.Time
@@ -172,21 +217,21 @@ func (r *run) overTime(ctx context.Context, a *validate.Audit) error {
 		if code < 0 || levels[code].empty {
 			missing++
 			if c.FailOnMissing {
-				return &cohort.Error{File: sc.dates.fileAt(i), Line: sc.dates.lines[i], Column: o.DateColumn, Msg: "the date is missing (the missing-value policy refuses it)", Kind: cohort.ErrMissing}
+				return fail(&cohort.Error{File: sc.dates.fileAt(i), Line: sc.dates.lines[i], Column: o.DateColumn, Msg: "the date is missing (the missing-value policy refuses it)", Kind: cohort.ErrMissing})
 			}
 			continue
 		}
 		if !levels[code].ok {
 			invalid++
 			if c.FailOnMissing {
-				return &cohort.Error{File: sc.dates.fileAt(i), Line: sc.dates.lines[i], Column: o.DateColumn, Value: sc.dates.levels[code], HasValue: true, Msg: "not a date (give YYYY-MM-DD or an RFC 3339 time); the missing-value policy refuses it", Kind: cohort.ErrFormat}
+				return fail(&cohort.Error{File: sc.dates.fileAt(i), Line: sc.dates.lines[i], Column: o.DateColumn, Value: sc.dates.levels[code], HasValue: true, Msg: "not a date (give YYYY-MM-DD or an RFC 3339 time); the missing-value policy refuses it", Kind: cohort.ErrFormat})
 			}
 			continue
 		}
 		rows = append(rows, row{levels[code].t.Unix(), i})
 	}
 	if len(rows) == 0 {
-		return &cohort.Error{File: sc.dates.file, Column: o.DateColumn, Msg: "no audited row has a readable date, so nothing can be charted over time", Kind: cohort.ErrMissing}
+		return fail(&cohort.Error{File: sc.dates.file, Column: o.DateColumn, Msg: "no audited row has a readable date, so nothing can be charted over time", Kind: cohort.ErrMissing})
 	}
 	// Date order, ties in file order (the row index breaks them, so the
 	// result is that of a stable sort); an extract already in order is
@@ -215,26 +260,15 @@ func (r *run) overTime(ctx context.Context, a *validate.Audit) error {
 	if per.Kind == "block" && per.Block == 0 {
 		per.Block = 500
 	}
-	res, err := monitor.Run(ctx, y, p, dates, monitor.Options{
+	res, err := monitor.Charts(ctx, y, p, dates, monitor.Options{
 		Deterioration: o.Deterioration, Improvement: o.Improvement,
 		Limits: monitor.LimitOptions{ARL: o.ARL, Seed: c.Seed, Workers: c.Workers},
-		Lambda: o.Lambda, Width: o.Width, Periods: per, Overall: r.overallOf(missing+invalid, len(y)),
+		Lambda: o.Lambda, Width: o.Width, Periods: per,
 	})
 	if err != nil {
-		return fmt.Errorf("charting %s over time: %w", sc.file, err)
+		return fail(fmt.Errorf("charting %s over time: %w", sc.file, err))
 	}
-	r.monitor = res
-	s := res.Summarise(o.DateColumn)
-	r.perf.Alarms = map[string]float64{
-		"cusum_deterioration_signals": float64(s.CUSUM[0].Signals),
-		"cusum_improvement_signals":   float64(s.CUSUM[1].Signals),
-		"ewma_above":                  b2f(s.EWMA.FirstAbove.Patient > 0),
-		"ewma_below":                  b2f(s.EWMA.FirstBelow.Patient > 0),
-	}
-	s.LeftOutMissing, s.LeftOutInvalid = missing, invalid
-	a.OverTime = s
-	a.Summary = append(a.Summary, validate.Finding{Area: "over time", Text: alarmText(s)})
-	return nil
+	return &datedCharts{y: y, p: p, dates: dates, missing: missing, invalid: invalid, res: res}
 }
 
 // alarmText is the summary's sentence on the charts' first signals: each

@@ -103,6 +103,11 @@ type run struct {
 	monitor *monitor.Result
 	// imp holds the completed datasets of an imputed cohort (imputed.go).
 	imp *imputedRun
+	// dated is the charting in date order started beside the measures
+	// (overtime_async.go), nil when none was; datedUsed is set when the
+	// audit took its charts.
+	dated     *datedJob
+	datedUsed bool
 }
 
 // FittedModelName is the file in an audit folder that holds the frozen
@@ -111,6 +116,10 @@ const FittedModelName = "fitted_model.yaml"
 
 func (r *run) audit(ctx context.Context) (*Result, error) {
 	c := r.cfg
+	// The dated job's context: cancelled when the audit returns, so an
+	// audit that stops early stops its limit simulation too.
+	ctx, cancel := context.WithCancel(ctx)
+	defer cancel()
 	if err := r.loadModel(); err != nil {
 		return nil, err
 	}
@@ -167,6 +176,7 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 			return nil, err
 		}
 		defer r.tightenGC(len(r.cur.y))()
+		r.startOverTime(ctx)
 		r.prog.Step("measuring")
 		if r.perf, err = assess(r.cur, r.measureOptions(r.cur)); err != nil {
 			return nil, err
@@ -186,7 +196,7 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 	go func() {
 		defer close(done)
 		if r.monitor != nil {
-			mf, merr = plots.Monitor(r.monitor, a.OverTime, r.criteria)
+			mf, merr = r.monitorFigures(a.OverTime)
 		}
 	}()
 	figs, err := figures(a, r.perf)

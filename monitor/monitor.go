@@ -60,8 +60,35 @@ type Result struct {
 }
 
 // Run computes every chart of the patients y, p (in date order; dates
-// beside them, or nil).
+// beside them, or nil): Charts, then the overall period (opt.Overall, or
+// every patient measured together).
 func Run(ctx context.Context, y, p []float64, dates []time.Time, opt Options) (*Result, error) {
+	r, err := Charts(ctx, y, p, dates, opt)
+	if err != nil {
+		return nil, err
+	}
+	r.SetOverall(y, p, opt.Overall)
+	return r, nil
+}
+
+// SetOverall sets the result's overall period: o when given (the
+// caller's own measures of the same patients), otherwise every patient
+// of y, p measured together.
+func (r *Result) SetOverall(y, p []float64, o *Period) {
+	if o != nil {
+		r.Overall = *o
+		return
+	}
+	r.Overall = measure(y, p, "all", 0)
+}
+
+// Charts computes every chart of Run but the overall period, which it
+// leaves zero (see SetOverall); it needs nothing but the patients, so a
+// caller can start it before its own measures of them are done. The
+// limit simulation runs beside the single passes (the cumulative curve,
+// the EWMA and the periods), which take one core between them; the
+// results are those of computing them one after another.
+func Charts(ctx context.Context, y, p []float64, dates []time.Time, opt Options) (*Result, error) {
 	if err := checkSeries(y, p); err != nil {
 		return nil, err
 	}
@@ -93,30 +120,33 @@ func Run(ctx context.Context, y, p []float64, dates []time.Time, opt Options) (*
 		}
 	}
 	r := &Result{N: len(y), Dates: dates, Per: opt.Periods}
-	var err error
-	if r.VLAD, err = VLAD(y, p); err != nil {
-		return nil, err
-	}
+	// The single passes on their own goroutine, beside the simulation;
+	// errors are returned in the order of the steps (cumulative curve,
+	// limits, EWMA, periods).
+	var vladErr, ewmaErr, perErr error
+	done := make(chan struct{})
+	go func() {
+		defer close(done)
+		if r.VLAD, vladErr = VLAD(y, p); vladErr != nil {
+			return
+		}
+		if r.EWMA, ewmaErr = ComputeEWMA(y, p, opt.Lambda, opt.Width); ewmaErr != nil {
+			return
+		}
+		r.Periods, perErr = ByPeriod(y, p, dates, opt.Periods)
+	}()
 	rs := []float64{opt.Deterioration, opt.Improvement}
-	lims, err := ChooseLimits(ctx, p, rs, opt.Limits)
-	if err != nil {
-		return nil, err
+	lims, limErr := ChooseLimits(ctx, p, rs, opt.Limits)
+	<-done
+	for _, err := range []error{vladErr, limErr, ewmaErr, perErr} {
+		if err != nil {
+			return nil, err
+		}
 	}
 	for i, name := range []string{"deterioration", "improvement"} {
 		c := Chart{Name: name, Limit: lims[i]}
 		c.Path, c.Restarted, c.Signals = cusumPaths(y, p, rs[i], lims[i].H)
 		r.Charts = append(r.Charts, c)
-	}
-	if r.EWMA, err = ComputeEWMA(y, p, opt.Lambda, opt.Width); err != nil {
-		return nil, err
-	}
-	if r.Periods, err = ByPeriod(y, p, dates, opt.Periods); err != nil {
-		return nil, err
-	}
-	if opt.Overall != nil {
-		r.Overall = *opt.Overall
-	} else {
-		r.Overall = measure(y, p, "all", 0)
 	}
 	return r, nil
 }

@@ -58,17 +58,30 @@ func thin(v []float64, scale float64) plotter.XYs {
 // above and its legend in a strip below the chart, off the data, with
 // ticks at round values.
 func Monitor(r *monitor.Result, s *monitor.Summary, criteria []validate.Criterion) ([]Figure, error) {
-	type maker struct {
-		name, title string
-		draw        func() (drawn, error)
-	}
-	makers := []maker{
+	return drawMonitor(monitorMakers(r, s, criteria))
+}
+
+// monitorMaker draws one figure in date order.
+type monitorMaker struct {
+	name, title string
+	draw        func() (drawn, error)
+}
+
+// monitorMakers are Monitor's four figures in its order; the first
+// reads the summary and criteria only, the other three the charts only
+// (r), so either may be nil when only those are drawn.
+func monitorMakers(r *monitor.Result, s *monitor.Summary, criteria []validate.Criterion) []monitorMaker {
+	return []monitorMaker{
 		{"over_time_periods.svg", "Calibration and discrimination by period, in date order", func() (drawn, error) { return periodChart(s, criteria) }},
 		{"over_time_vlad.svg", "Cumulative expected minus observed events, in date order", func() (drawn, error) { return vladChart(r) }},
 		{"over_time_cusum.svg", "Risk-adjusted CUSUM charts for deterioration and improvement", func() (drawn, error) { return cusumChart(r) }},
 		{"over_time_ewma.svg", "Risk-adjusted EWMA of observed minus expected events", func() (drawn, error) { return ewmaChart(r) }},
 	}
-	// Drawn on up to GOMAXPROCS goroutines, as in All.
+}
+
+// drawMonitor draws the makers' figures on up to GOMAXPROCS goroutines,
+// as All does, and returns the first error in their order.
+func drawMonitor(makers []monitorMaker) ([]Figure, error) {
 	out := make([]Figure, len(makers))
 	errs := make([]error, len(makers))
 	eachConcurrently(len(makers), func(i int) {
