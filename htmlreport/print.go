@@ -79,7 +79,10 @@ func svgSize(b []byte) (w, h float64, ok bool) {
 	}
 	w, okw := length(svgWidth)
 	h, okh := length(svgHeight)
-	return w, h, okw && okh
+	if !okw || !okh {
+		return 0, 0, false
+	}
+	return w, h, true
 }
 
 // figureClass is the class of the figure that shows the file dest:
