@@ -44,8 +44,8 @@ var contents = template.Must(template.New("contents").Parse(`{{if .}}<nav class=
 // style is the page's own look: one readable column, quiet tables with
 // aligned figures, the caution set apart, and print rules for A4 in
 // which every level-2 section starts a page, a table of up to
-// maxKeptRows rows is not split, a paragraph introducing a table or a
-// figure stays with it, and a figure too wide for the portrait column
+// maxKeptRows rows is not split, a paragraph introducing a table stays
+// with it, and a figure too wide for the portrait column
 // (class landscape) gets a page of its own turned sideways. The
 // millimetres here are those of print.go's constants. Fonts are the reader's own
 // (no font is fetched).
@@ -146,7 +146,7 @@ nav.contents a:hover { text-decoration: underline; }
   thead { display: table-header-group; }
   figure img { max-height: 200mm; }
   table.keep { break-inside: avoid; }
-  p:has(+ table), p:has(+ figure) { break-after: avoid; }
+  p:has(+ table) { break-after: avoid; }
   figure.landscape { page: turned; margin: 0; }
   figure.landscape img { max-height: 160mm; }
   a { color: inherit; text-decoration: none; }
