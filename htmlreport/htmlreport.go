@@ -280,7 +280,10 @@ func (r *nodes) image(w util.BufWriter, src []byte, node ast.Node, entering bool
 func (r *nodes) paragraph(w util.BufWriter, src []byte, node ast.Node, entering bool) (ast.WalkStatus, error) {
 	if img, ok := node.FirstChild().(*ast.Image); ok && node.ChildCount() == 1 {
 		if entering {
-			if c := r.figureClass(string(img.Destination)); c != "" {
+			// A figure right under its heading stays upright: turned, it
+			// would leave the heading alone on the page before.
+			_, underHeading := node.PreviousSibling().(*ast.Heading)
+			if c := r.figureClass(string(img.Destination)); c != "" && !underHeading {
 				fmt.Fprintf(w, `<figure class="%s">`, c)
 			} else {
 				_, _ = w.WriteString("<figure>")

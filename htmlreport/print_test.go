@@ -71,13 +71,15 @@ func classOf(n *html.Node) string {
 	return v
 }
 
-// TestPrintClasses: the page marks a too-wide figure landscape, short
+// TestPrintClasses: the page marks a too-wide figure landscape (unless
+// it comes right under its heading, which would be left alone), short
 // tables keep and wide ones wide, and writes a wide table's numbers as
 // words that do not break (so a date is not split at its hyphen).
 func TestPrintClasses(t *testing.T) {
 	row := func(cells ...string) string { return "| " + strings.Join(cells, " | ") + " |\n" }
 	var md strings.Builder
-	md.WriteString("# Report\n\n## Figures\n\n![Wide chart](wide.svg)\n\n![Narrow chart](narrow.svg)\n\n![A picture](photo.png)\n\n")
+	md.WriteString("# Report\n\n## Figures\n\nThe figures:\n\n![Wide chart](wide.svg)\n\n![Narrow chart](narrow.svg)\n\n![A picture](photo.png)\n\n")
+	md.WriteString("## Wide first\n\n![Wide under its heading](wide.svg)\n\n")
 	md.WriteString("## Tables\n\nShort, wide:\n\n")
 	md.WriteString(row("period", "dates", "n", "events", "expected", "O/E (95% CI)", "CITL (95% CI)"))
 	md.WriteString(row("---", "---", "---", "---", "---", "---", "---"))
@@ -134,7 +136,7 @@ func TestPrintClasses(t *testing.T) {
 			}
 		}
 	})
-	for alt, want := range map[string]string{"Wide chart": "landscape", "Narrow chart": "", "A picture": ""} {
+	for alt, want := range map[string]string{"Wide chart": "landscape", "Narrow chart": "", "A picture": "", "Wide under its heading": ""} {
 		if got, ok := figures[alt]; !ok || got != want {
 			t.Errorf("figure %q: class %q (found %v), want %q", alt, got, ok, want)
 		}
