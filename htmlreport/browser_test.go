@@ -96,7 +96,9 @@ const probe = `<script nonce="riskaudit-probe">
       out.tables.push({right: r.right, width: r.width, head: (t.rows[0] ? t.rows[0].textContent : '').replace(/\s+/g, ' ').slice(0, 60)});
     });
     Array.prototype.forEach.call(document.images, function (i) {
-      out.images.push({alt: i.alt, loaded: i.complete && i.naturalWidth > 0, width: i.getBoundingClientRect().width, right: i.getBoundingClientRect().right});
+      var fig = i.closest('figure');
+      out.images.push({alt: i.alt, loaded: i.complete && i.naturalWidth > 0, width: i.getBoundingClientRect().width, right: i.getBoundingClientRect().right,
+        natural: i.naturalWidth, turned: !!(fig && fig.classList.contains('landscape'))});
     });
     document.querySelectorAll('body *').forEach(function (el) {
       var r = el.getBoundingClientRect();
@@ -121,6 +123,10 @@ type measured struct {
 		Alt          string
 		Loaded       bool
 		Width, Right float64
+		// Natural is the image's drawn width in CSS pixels; Turned,
+		// whether its figure prints on a landscape page.
+		Natural float64
+		Turned  bool
 	}
 	Outside, Errors, Blocked []string
 }
@@ -130,6 +136,44 @@ var probeOut = regexp.MustCompile(`(?s)<pre id="riskaudit-probe">(.*?)</pre>`)
 // a4ContentWidth is the width in CSS pixels (96 per inch) of an A4 page
 // (210 mm) less the print style's left and right margins (14 mm each).
 const a4ContentWidth = 687 // (210 - 2·14) mm at 96 px per inch, 687.9, rounded down
+
+// a4TurnedWidth is the same for an A4 page turned sideways (297 mm).
+const a4TurnedWidth = 1016 // (297 - 2·14) mm at 96 px per inch, 1016.7, rounded down
+
+// minPrintScale is the smallest share of its drawn size at which a
+// figure may print: its 9 pt tick labels at 5.4 pt, the least a reader
+// of a board paper can still read; turned pages must do better
+// (minTurnedScale), or turning them gains nothing.
+const (
+	minPrintScale  = 0.6
+	minTurnedScale = 0.8
+)
+
+// printScales checks the scale at which each figure prints, measured in
+// the print layout at the width of the page: in the portrait layout the
+// figures on portrait pages, in the turned one (turned true) those on
+// landscape pages. It returns how many figures are on landscape pages.
+func printScales(t *testing.T, m measured, what string, turned bool) int {
+	t.Helper()
+	n := 0
+	for _, i := range m.Images {
+		if i.Turned {
+			n++
+		}
+		if i.Turned != turned || i.Natural <= 0 {
+			continue
+		}
+		want := minPrintScale
+		if turned {
+			want = minTurnedScale
+		}
+		if s := i.Width / i.Natural; s < want {
+			t.Errorf("%s: the figure %q prints at %.0f%% of its drawn size (%.0f of %.0f px), want at least %.0f%%",
+				what, i.Alt, 100*s, i.Width, i.Natural, 100*want)
+		}
+	}
+	return n
+}
 
 // measure loads a test-only copy of the page with the probe at the
 // window width w; with print, the page's print rules apply on screen
@@ -247,9 +291,14 @@ func TestReportInBrowser(t *testing.T) {
 	for _, c := range []struct {
 		name string
 		make func(t *testing.T, dir string) string
+		// turns is how many figures print on a turned page: the subgroup
+		// chart of 12 rows; the stress audit's, of 26 rows, is as tall as
+		// it is wide and gains nothing turned.
+		turns int
 	}{
-		{"demo", demoAudit},
-		{"stress", stressAudit},
+		{"demo", demoAudit, 0},
+		{"stress", stressAudit, 0},
+		{"subgroups", subgroupAudit, 1},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			t.Parallel()
@@ -258,7 +307,15 @@ func TestReportInBrowser(t *testing.T) {
 			figures := countFigures(t, dir)
 			check(t, measure(t, bin, page, 1280, false), "screen, 1280 px", figures)
 			check(t, measure(t, bin, page, 500, false), "screen, 500 px (the narrowest headless window)", figures)
-			check(t, measure(t, bin, page, a4ContentWidth, true), "print layout, A4 width", figures)
+			portrait := measure(t, bin, page, a4ContentWidth, true)
+			check(t, portrait, "print layout, A4 width", figures)
+			turned := printScales(t, portrait, "print layout, A4 width", false)
+			if turned != c.turns {
+				t.Errorf("%d figures marked to print on a turned page, want %d", turned, c.turns)
+			}
+			if turned > 0 {
+				printScales(t, measure(t, bin, page, a4TurnedWidth, true), "print layout, A4 turned", true)
+			}
 
 			out := os.Getenv("RISKAUDIT_BROWSER_OUT")
 			if out == "" {
@@ -283,7 +340,7 @@ func TestReportInBrowser(t *testing.T) {
 			for _, l := range console {
 				t.Errorf("console while printing: %s", l)
 			}
-			checkPDF(t, pdf)
+			checkPDF(t, pdf, turned)
 		})
 	}
 }
@@ -292,9 +349,10 @@ func TestReportInBrowser(t *testing.T) {
 // which Chromium rounds to whole device pixels (594.96 x 841.92).
 var mediaBox = regexp.MustCompile(`/MediaBox \[0 0 ([0-9.]+) ([0-9.]+)\]`)
 
-// checkPDF fails unless the PDF's pages are all A4 and there are
-// several (one section a page at least).
-func checkPDF(t *testing.T, path string) {
+// checkPDF fails unless the PDF's pages are all A4, turned pages
+// exactly as many as the figures printed on them, and there are several
+// (one section a page at least).
+func checkPDF(t *testing.T, path string, turned int) {
 	t.Helper()
 	b, err := os.ReadFile(path)
 	if err != nil {
@@ -307,14 +365,22 @@ func checkPDF(t *testing.T, path string) {
 	if len(boxes) < 4 {
 		t.Errorf("%s has %d pages, want one at least for each of the report's sections", path, len(boxes))
 	}
+	a4 := func(w, h float64) bool { return w >= 594 && w <= 596 && h >= 841 && h <= 843 }
+	landscapes := 0
 	for _, m := range boxes {
 		var w, h float64
 		fmt.Sscan(string(m[1]), &w)
 		fmt.Sscan(string(m[2]), &h)
-		if w < 594 || w > 596 || h < 841 || h > 843 {
-			t.Errorf("%s: a page of %s x %s pt, want A4 (595 x 842)", path, m[1], m[2])
-			break
+		switch {
+		case a4(w, h):
+		case a4(h, w):
+			landscapes++
+		default:
+			t.Errorf("%s: a page of %s x %s pt, want A4 (595 x 842, or 842 x 595 turned)", path, m[1], m[2])
 		}
+	}
+	if landscapes != turned {
+		t.Errorf("%s has %d landscape pages, want one for each of the %d figures printed turned", path, landscapes, turned)
 	}
 }
 
@@ -349,6 +415,15 @@ func runAudit(t *testing.T, cfg audit.Config, dir string) string {
 func demoAudit(t *testing.T, dir string) string {
 	d := fixture.WriteDemo(t, dir)
 	return runAudit(t, audit.Config{Model: d.Frozen, Cohort: audit.Input{Path: d.Later}, Dev: audit.Input{Path: d.Development}}, dir)
+}
+
+// subgroupAudit is the demo's audit measured in subgroups of sex,
+// smoker, lung disease and hospital (12 rows): its subgroup chart is 11
+// inches wide and prints on a landscape page.
+func subgroupAudit(t *testing.T, dir string) string {
+	d := fixture.WriteDemo(t, dir)
+	return runAudit(t, audit.Config{Model: d.Frozen, Cohort: audit.Input{Path: d.Later}, Dev: audit.Input{Path: d.Development},
+		Subgroups: []string{"sex", "smoker", "lung_disease", "hospital"}}, dir)
 }
 
 // stressAudit is an audit whose user text is long and hostile: a model

@@ -115,20 +115,33 @@ func outline(doc ast.Node, src []byte) (string, []Entry) {
 // "446 (16.1%)"), or a short word or two, the class "num", which keeps
 // it on one line, in tables
 // of up to maxNumColumns columns; a wider table is marked "wide" and
-// its numbers may wrap, so that it fits the page.
+// its numbers may wrap between their words (never inside one: see
+// tokens), so that it fits the page. A table of at most maxKeptRows
+// body rows is marked "keep": in print it is not split across pages.
 func markNumbers(doc ast.Node, src []byte) {
 	_ = ast.Walk(doc, func(n ast.Node, entering bool) (ast.WalkStatus, error) {
 		tb, ok := n.(*extast.Table)
 		if !entering || !ok {
 			return ast.WalkContinue, nil
 		}
-		if len(tb.Alignments) > maxNumColumns {
-			tb.SetAttributeString("class", []byte("wide"))
-			return ast.WalkSkipChildren, nil
+		wide := len(tb.Alignments) > maxNumColumns
+		var class []string
+		if wide {
+			class = append(class, "wide")
+		}
+		if bodyRows(tb) <= maxKeptRows {
+			class = append(class, "keep")
+		}
+		if class != nil {
+			tb.SetAttributeString("class", []byte(strings.Join(class, " ")))
 		}
 		_ = ast.Walk(tb, func(n ast.Node, entering bool) (ast.WalkStatus, error) {
 			if c, ok := n.(*extast.TableCell); ok && entering {
-				if t := plainText(c, src); numeric(t) || len([]rune(t)) <= maxShortCell {
+				t := plainText(c, src)
+				switch {
+				case wide && numeric(t):
+					asTokens(c, t)
+				case !wide && (numeric(t) || len([]rune(t)) <= maxShortCell):
 					c.SetAttributeString("class", []byte("num"))
 				}
 				return ast.WalkSkipChildren, nil
@@ -137,6 +150,17 @@ func markNumbers(doc ast.Node, src []byte) {
 		})
 		return ast.WalkSkipChildren, nil
 	})
+}
+
+// bodyRows counts the rows of a table below its heading row.
+func bodyRows(tb *extast.Table) int {
+	n := 0
+	for c := tb.FirstChild(); c != nil; c = c.NextSibling() {
+		if _, ok := c.(*extast.TableRow); ok {
+			n++
+		}
+	}
+	return n
 }
 
 // maxShortCell is the longest text of a cell kept on one line as a
@@ -218,6 +242,7 @@ func (r *nodes) RegisterFuncs(reg renderer.NodeRendererFuncRegisterer) {
 	reg.Register(ast.KindRawHTML, r.rawHTML)
 	reg.Register(ast.KindHTMLBlock, r.htmlBlock)
 	reg.Register(ast.KindCodeSpan, r.codeSpan)
+	reg.Register(kindTokens, r.renderTokens)
 }
 
 // dataURI is the file named dest as a data: URI, or "" (and r.err set)
@@ -255,7 +280,14 @@ func (r *nodes) image(w util.BufWriter, src []byte, node ast.Node, entering bool
 func (r *nodes) paragraph(w util.BufWriter, src []byte, node ast.Node, entering bool) (ast.WalkStatus, error) {
 	if img, ok := node.FirstChild().(*ast.Image); ok && node.ChildCount() == 1 {
 		if entering {
-			_, _ = w.WriteString("<figure>")
+			// A figure right under its heading stays upright: turned, it
+			// would leave the heading alone on the page before.
+			_, underHeading := node.PreviousSibling().(*ast.Heading)
+			if c := r.figureClass(string(img.Destination)); c != "" && !underHeading {
+				fmt.Fprintf(w, `<figure class="%s">`, c)
+			} else {
+				_, _ = w.WriteString("<figure>")
+			}
 			r.writeImage(w, src, img)
 			fmt.Fprintf(w, "<figcaption>%s</figcaption></figure>\n", template.HTMLEscapeString(plainText(img, src)))
 		}

@@ -43,7 +43,11 @@ var contents = template.Must(template.New("contents").Parse(`{{if .}}<nav class=
 
 // style is the page's own look: one readable column, quiet tables with
 // aligned figures, the caution set apart, and print rules for A4 in
-// which every level-2 section starts a page. Fonts are the reader's own
+// which every level-2 section starts a page, a table of up to
+// maxKeptRows rows is not split, a paragraph introducing a table stays
+// with it, and a figure too wide for the portrait column
+// (class landscape) gets a page of its own turned sideways. The
+// millimetres here are those of print.go's constants. Fonts are the reader's own
 // (no font is fetched).
 const style = `
 :root {
@@ -97,7 +101,7 @@ th, td {
   border-bottom: 1px solid var(--rule); overflow-wrap: break-word;
 }
 td code { overflow-wrap: break-word; }
-td.num { white-space: nowrap; }
+td.num, .nw { white-space: nowrap; }
 table.wide { font-size: .82rem; }
 table.wide th, table.wide td { padding: .25rem .4rem; }
 thead th { border-bottom: 2px solid var(--ink); font-weight: 650; background: #fff; }
@@ -129,6 +133,7 @@ nav.contents a:hover { text-decoration: underline; }
     font-family: "Source Sans 3", "Noto Sans", "DejaVu Sans", "Segoe UI", Helvetica, Arial, sans-serif; font-size: 8pt;
   }
 }
+@page turned { size: A4 landscape; }
 @media print {
   html, body { background: #fff; }
   body { max-width: none; margin: 0; padding: 0; font-size: 9.5pt; line-height: 1.4; }
@@ -140,6 +145,10 @@ nav.contents a:hover { text-decoration: underline; }
   tr, figure, blockquote, nav.contents li { break-inside: avoid; }
   thead { display: table-header-group; }
   figure img { max-height: 200mm; }
+  table.keep { break-inside: avoid; }
+  p:has(+ table) { break-after: avoid; }
+  figure.landscape { page: turned; margin: 0; }
+  figure.landscape img { max-height: 160mm; }
   a { color: inherit; text-decoration: none; }
   nav.contents { background: none; }
 }
