@@ -135,6 +135,18 @@ func Forest(groups []validate.Subgroup, overall *validate.Performance) (Figure, 
 			cs[k] = draw.Crop(rest, x-rest.Min.X, -(rest.Max.X - x - wk), 0, 0)
 			x += wk
 		}
+		// A panel title wider than its panel would run under the next
+		// panel, hidden there (long row labels leave the panels narrow):
+		// it is set smaller to fit, down to 7 points.
+		for k, p := range ps {
+			avail := each - vg.Points(6)
+			if k == 0 {
+				avail += labelW + vg.Points(30)
+			}
+			if w := p.Title.TextStyle.Width(p.Title.Text); w > avail {
+				p.Title.TextStyle.Font.Size = max(vg.Points(7), p.Title.TextStyle.Font.Size*avail/w)
+			}
+		}
 		alignY(ps, cs)
 		for k, p := range ps {
 			p.Draw(cs[k])

@@ -263,3 +263,34 @@ func TestRoundTicks(t *testing.T) {
 		}
 	}
 }
+
+// TestForestTitlesFitTheirPanels: with the stress subgroups' long row
+// labels the panels are narrow, and a panel title wider than its panel
+// (which would run under the next panel, hidden there) is set smaller;
+// checkLayout (TestFigureLayout) finds no two texts overlapping, so each
+// title ends before the next panel's.
+func TestForestTitlesFitTheirPanels(t *testing.T) {
+	fg, err := Forest(stressSubgroups(), stressPerformance(t))
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, _, texts, err := figcheck.Texts(fg.SVG)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var citl, auc *figcheck.Box
+	for i := range texts {
+		switch texts[i].Text {
+		case "Calibration-in-the-large":
+			citl = &texts[i]
+		case "AUC":
+			auc = &texts[i]
+		}
+	}
+	if citl == nil || auc == nil {
+		t.Fatal("no panel titles found")
+	}
+	if h, ha := citl.MaxY-citl.MinY, auc.MaxY-auc.MinY; !(h < ha) {
+		t.Errorf("the narrow panel's title is %g points high, the AUC panel's %g: not set smaller to fit", h, ha)
+	}
+}
