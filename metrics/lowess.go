@@ -284,35 +284,8 @@ func localLinear(x, y []float64, fp fitPoint, buf []float64) (float64, float64) 
 		fit := sum(y[fp.l:fp.r]) / m
 		return fit, localMeanSE(fit, 1/m)
 	}
-	x0 := x[fp.i]
-	var sw, swu, swu2, swy, swuy, sw2, sw2u, sw2u2 float64
-	nonzero := 0
-	inv := 1 / fp.h
-	bl := len(buf) / 3
-	wb, wub, ub := buf[:bl], buf[bl:2*bl], buf[2*bl:3*bl]
-	for lo := fp.l; lo < fp.r; lo += lowessBlock {
-		hi := min(lo+lowessBlock, fp.r)
-		xs, ys := x[lo:hi], y[lo:hi]
-		w, wu, u := wb[:len(xs)], wub[:len(xs)], ub[:len(xs)]
-		for j, xj := range xs {
-			d := xj - x0
-			a := math.Abs(d) * inv
-			t := 1 - a*a*a
-			wj := t * t * t
-			if wj > 1e-12 {
-				nonzero++
-			}
-			u[j], w[j], wu[j] = d, wj, wj*d
-		}
-		sw += floats.Sum(w)
-		swu += floats.Sum(wu)
-		swu2 += floats.Dot(wu, u)
-		swy += floats.Dot(w, ys)
-		swuy += floats.Dot(wu, ys)
-		sw2 += floats.Dot(w, w)
-		sw2u += floats.Dot(w, wu)
-		sw2u2 += floats.Dot(wu, wu)
-	}
+	t, nonzero := localSums(x, y, fp, buf, true)
+	sw, swu, swu2, swy, swuy, sw2, sw2u, sw2u2 := t.w, t.wu, t.wu2, t.wy, t.wuy, t.w2, t.w2u, t.w2u2
 	if nonzero < 2 {
 		return y[fp.i], 0
 	}
@@ -330,6 +303,49 @@ func localLinear(x, y []float64, fp fitPoint, buf []float64) (float64, float64) 
 	sl2 := (a*a*sw2 - 2*a*b*sw2u + b*b*sw2u2) / (sw * sw)
 	v := math.Min(math.Max(fit*(1-fit), 0), 0.25)
 	return fit, math.Sqrt(v * math.Max(sl2, 0))
+}
+
+// localSum holds the weighted sums of a local linear fit at x0 with
+// tricube weights w and u = x − x0: Σw, Σwu, Σwu², Σwy, Σwuy, and for the
+// standard error Σw², Σw²u, Σw²u².
+type localSum struct {
+	w, wu, wu2, wy, wuy, w2, w2u, w2u2 float64
+}
+
+// localSums takes the sums of the fit at x[fp.i] over its window, a
+// block at a time (buf: see localLinear), the three of the standard
+// error only when se is set; nonzero counts the weights above 1e-12.
+func localSums(x, y []float64, fp fitPoint, buf []float64, se bool) (t localSum, nonzero int) {
+	x0 := x[fp.i]
+	inv := 1 / fp.h
+	bl := len(buf) / 3
+	wb, wub, ub := buf[:bl], buf[bl:2*bl], buf[2*bl:3*bl]
+	for lo := fp.l; lo < fp.r; lo += lowessBlock {
+		hi := min(lo+lowessBlock, fp.r)
+		xs, ys := x[lo:hi], y[lo:hi]
+		w, wu, u := wb[:len(xs)], wub[:len(xs)], ub[:len(xs)]
+		for j, xj := range xs {
+			d := xj - x0
+			a := math.Abs(d) * inv
+			c := 1 - a*a*a
+			wj := c * c * c
+			if wj > 1e-12 {
+				nonzero++
+			}
+			u[j], w[j], wu[j] = d, wj, wj*d
+		}
+		t.w += floats.Sum(w)
+		t.wu += floats.Sum(wu)
+		t.wu2 += floats.Dot(wu, u)
+		t.wy += floats.Dot(w, ys)
+		t.wuy += floats.Dot(wu, ys)
+		if se {
+			t.w2 += floats.Dot(w, w)
+			t.w2u += floats.Dot(w, wu)
+			t.w2u2 += floats.Dot(wu, wu)
+		}
+	}
+	return t, nonzero
 }
 
 // localMeanSE is the standard error √(ŝ(1 − ŝ)·Σl²) of a local mean ŝ

@@ -1,10 +1,7 @@
 package metrics
 
 import (
-	"math"
 	"sort"
-
-	"gonum.org/v1/gonum/floats"
 )
 
 // LowessFit is the curve's Fit of Lowess(x, y, opt) alone, on the calling
@@ -59,32 +56,8 @@ func localLinearFit(x, y []float64, fp fitPoint, buf []float64) float64 {
 		m := float64(fp.r - fp.l)
 		return sum(y[fp.l:fp.r]) / m
 	}
-	x0 := x[fp.i]
-	var sw, swu, swu2, swy, swuy float64
-	nonzero := 0
-	inv := 1 / fp.h
-	bl := len(buf) / 3
-	wb, wub, ub := buf[:bl], buf[bl:2*bl], buf[2*bl:3*bl]
-	for lo := fp.l; lo < fp.r; lo += lowessBlock {
-		hi := min(lo+lowessBlock, fp.r)
-		xs, ys := x[lo:hi], y[lo:hi]
-		w, wu, u := wb[:len(xs)], wub[:len(xs)], ub[:len(xs)]
-		for j, xj := range xs {
-			d := xj - x0
-			a := math.Abs(d) * inv
-			t := 1 - a*a*a
-			wj := t * t * t
-			if wj > 1e-12 {
-				nonzero++
-			}
-			u[j], w[j], wu[j] = d, wj, wj*d
-		}
-		sw += floats.Sum(w)
-		swu += floats.Sum(wu)
-		swu2 += floats.Dot(wu, u)
-		swy += floats.Dot(w, ys)
-		swuy += floats.Dot(wu, ys)
-	}
+	t, nonzero := localSums(x, y, fp, buf, false)
+	sw, swu, swu2, swy, swuy := t.w, t.wu, t.wu2, t.wy, t.wuy
 	if nonzero < 2 {
 		return y[fp.i]
 	}
