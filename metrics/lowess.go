@@ -243,11 +243,20 @@ func planFits(x []float64, k int, delta float64, old fitPlan) fitPlan {
 }
 
 // fill completes the curve: ties copy, skipped points are interpolated
-// between the fitted (or copied) points on either side.
+// between the fitted (or copied) points on either side, the fit and its
+// standard error alike (fillOne of each).
 func (p fitPlan) fill(x, fit, se []float64) {
+	p.fillOne(x, fit)
+	p.fillOne(x, se)
+}
+
+// fillOne completes one series of the curve v (the fit, or its standard
+// error): ties copy, skipped points are interpolated between the fitted
+// (or copied) points on either side.
+func (p fitPlan) fillOne(x, v []float64) {
 	for j, f := range p.from {
 		if f >= 0 {
-			fit[j], se[j] = fit[f], se[f]
+			v[j] = v[f]
 		}
 	}
 	last := 0
@@ -259,8 +268,7 @@ func (p fitPlan) fill(x, fit, se []float64) {
 			d := x[j] - x[last]
 			for m := last + 1; m < j; m++ {
 				a := (x[m] - x[last]) / d
-				fit[m] = a*fit[j] + (1-a)*fit[last]
-				se[m] = a*se[j] + (1-a)*se[last]
+				v[m] = a*v[j] + (1-a)*v[last]
 			}
 		}
 		last = j

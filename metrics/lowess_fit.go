@@ -46,7 +46,7 @@ func (w *LowessWorkspace) LowessFit(x, y []float64, opt LowessOptions) []float64
 	for _, fp := range w.plan.fits {
 		fit[fp.i] = localLinearFit(x, y, fp, buf)
 	}
-	w.plan.fillFit(x, fit)
+	w.plan.fillOne(x, fit)
 	return fit
 }
 
@@ -69,27 +69,4 @@ func localLinearFit(x, y []float64, fp fitPoint, buf []float64) float64 {
 	}
 	cxy := swuy/sw - ubar*ybar
 	return ybar - ubar*cxy/s
-}
-
-// fillFit is fill for the fit alone.
-func (p fitPlan) fillFit(x, fit []float64) {
-	for j, f := range p.from {
-		if f >= 0 {
-			fit[j] = fit[f]
-		}
-	}
-	last := 0
-	for j := 1; j < len(x); j++ {
-		if p.from[j] == -1 {
-			continue
-		}
-		if j > last+1 {
-			d := x[j] - x[last]
-			for m := last + 1; m < j; m++ {
-				a := (x[m] - x[last]) / d
-				fit[m] = a*fit[j] + (1-a)*fit[last]
-			}
-		}
-		last = j
-	}
 }
