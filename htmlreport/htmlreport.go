@@ -39,7 +39,8 @@ const ContentSecurityPolicy = "default-src 'none'; img-src data:; style-src 'uns
 // "roc.svg"), each embedded where it is named; an image naming a file
 // that is not among them is an error, since the page would show a hole.
 // The first level-1 heading is the page's title; the level-2 headings
-// make the table of contents and, in print, each starts a new page.
+// make the table of contents and, in print, each starts a new page
+// unless its section is short (markRunOn).
 func Page(md []byte, files map[string][]byte) ([]byte, error) {
 	r := &nodes{files: files}
 	gm := goldmark.New(
@@ -50,6 +51,7 @@ func Page(md []byte, files map[string][]byte) ([]byte, error) {
 	doc := gm.Parser().Parse(text.NewReader(md))
 	title, toc := outline(doc, md)
 	markNumbers(doc, md)
+	markRunOn(doc, md)
 	var body bytes.Buffer
 	if err := gm.Renderer().Render(&body, md, doc); err != nil {
 		return nil, fmt.Errorf("rendering the HTML page: %w", err)

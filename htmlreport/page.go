@@ -139,6 +139,7 @@ nav.contents a:hover { text-decoration: underline; }
   body { max-width: none; margin: 0; padding: 0; font-size: 9.5pt; line-height: 1.4; }
   * { -webkit-print-color-adjust: exact; print-color-adjust: exact; }
   h2 { break-before: page; border-top: none; margin-top: 0; padding-top: 0; }
+  h2.run-on { break-before: auto; border-top: 1px solid var(--rule); margin-top: 1.6em; padding-top: .5em; }
   h2, h3, h4 { break-after: avoid; }
   table { font-size: 8.3pt; }
   table.wide { font-size: 7.6pt; }
