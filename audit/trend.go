@@ -93,7 +93,7 @@ func ReadTrend(path string, o TrendOptions) (*Trend, error) {
 	return &Trend{Source: path, Records: recs, Trend: tr, Figures: figs, Model: o.Model, Made: now(o.Clock)}, nil
 }
 
-// WriteTrend writes trend.md, trend.json and the charts into dir
+// WriteTrend writes trend.md, trend.html, trend.json and the charts into dir
 // (created if absent), whole and all or nothing, with the rules of
 // Write.
 func WriteTrend(dir string, t *Trend) (*Written, error) {
@@ -105,7 +105,11 @@ func WriteTrend(dir string, t *Trend) (*Written, error) {
 	if err != nil {
 		return nil, fmt.Errorf("writing trend.json: %w", err)
 	}
-	files := []atomicfile.File{{Path: "trend.md", Data: md.Bytes()}, {Path: "trend.json", Data: js}}
+	page, err := htmlPage("trend.html", md.Bytes(), t.Figures)
+	if err != nil {
+		return nil, err
+	}
+	files := []atomicfile.File{{Path: "trend.md", Data: md.Bytes()}, page, {Path: "trend.json", Data: js}}
 	for _, f := range t.Figures {
 		files = append(files, atomicfile.File{Path: f.Name, Data: f.SVG})
 		if len(f.PNG) > 0 { // every figure drawn by plots has its PNG copy

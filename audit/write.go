@@ -465,7 +465,7 @@ func namesOf(kind string) []string {
 	case "comparison":
 		return []string{"compare.md", "compare.html", "compare.json", "decision_curves.svg"}
 	case "trend":
-		return []string{"trend.md", "trend.json", "trend_auc.svg", "trend_oe.svg", "trend_slope.svg", "trend_citl.svg"}
+		return []string{"trend.md", "trend.html", "trend.json", "trend_auc.svg", "trend_oe.svg", "trend_slope.svg", "trend_citl.svg"}
 	}
 	return auditNames
 }

@@ -15,8 +15,9 @@ func newTrendCmd(s *streams) *cobra.Command {
 		Use:   "trend --history FILE --out DIR",
 		Short: "Chart the audits in a history store, a series per model, with control limits for O/E",
 		Long: `Read the audits recorded in a history store (audit --history) and write
-DIR/trend.md, DIR/trend.json and SVG charts of AUC, O/E, calibration slope
-and calibration-in-the-large on a time axis of the audit dates, each audit
+DIR/trend.md, DIR/trend.html (the same, as one page for the browser),
+DIR/trend.json and SVG charts of AUC, O/E, calibration slope and
+calibration-in-the-large on a time axis of the audit dates, each audit
 with its 95% interval.
 
 Each model (its name and the SHA-256 of its file) is a series of its own;
@@ -43,13 +44,13 @@ bounds. The history store is only read.`,
 				return err
 			}
 			writeTrendSummary(s, t)
-			fmt.Fprintf(s.out, "Wrote %s, %s and %d charts\n", filepath.Join(out, "trend.md"), filepath.Join(out, "trend.json"), len(t.Figures))
+			fmt.Fprintf(s.out, "Wrote %s, %s, %s and %d charts\n", filepath.Join(out, "trend.md"), filepath.Join(out, "trend.html"), filepath.Join(out, "trend.json"), len(t.Figures))
 			replacedNote(s, out, "trend report", w)
 			return nil
 		},
 	}
 	c.Flags().StringVar(&hist, "history", "", "the history store (SQLite) that audits append to")
-	c.Flags().StringVar(&out, "out", "", "folder for trend.md, trend.json and the charts")
+	c.Flags().StringVar(&out, "out", "", "folder for trend.md, trend.html, trend.json and the charts")
 	c.Flags().StringVar(&model, "model", "", "only the audits of this model: its name, or the start of its SHA-256 (6+ hex digits)")
 	_ = c.MarkFlagRequired("history")
 	_ = c.MarkFlagRequired("out")
