@@ -247,30 +247,7 @@ func slopeNewtonFrom(y, lp, p, w []float64, workers int) (a, b float64, cov [3]f
 			first = nil
 		}
 		s := rowSums(len(lp), workers, func(lo, hi int) [5]float64 {
-			var t [5]float64
-			for i := lo; i < hi; i++ {
-				wi := 1.0
-				if w != nil {
-					if wi = w[i]; wi == 0 {
-						continue
-					}
-				}
-				v := lp[i]
-				var mu float64
-				if first != nil {
-					mu = first[i]
-				} else {
-					mu = logistic.Expit(a + b*v)
-				}
-				r := wi * (y[i] - mu)
-				q := wi * mu * (1 - mu)
-				t[0] += r
-				t[1] += r * v
-				t[2] += q
-				t[3] += q * v
-				t[4] += q * v * v
-			}
-			return t
+			return slopeSums(y, lp, first, w, a, b, lo, hi)
 		})
 		s0, s1, i00, i01, i11 := s[0], s[1], s[2], s[3], s[4]
 		det := i00*i11 - i01*i01
@@ -288,6 +265,39 @@ func slopeNewtonFrom(y, lp, p, w []float64, workers int) (a, b float64, cov [3]f
 		}
 	}
 	return 0, 0, cov, false
+}
+
+// slopeSums is one step's sums of slopeNewtonFrom over rows [lo, hi),
+// at intercept a and slope b (mu, when not nil, holds the risks there):
+// the score Σr, Σr·lp and the information Σq, Σq·lp, Σq·lp², with
+// r = w(y − μ) and q = w·μ(1 − μ). The sums are scalar locals, not an
+// array, so that they stay in registers; the operations and their order
+// are the same either way.
+func slopeSums(y, lp, mu, w []float64, a, b float64, lo, hi int) [5]float64 {
+	var t0, t1, t2, t3, t4 float64
+	for i := lo; i < hi; i++ {
+		wi := 1.0
+		if w != nil {
+			if wi = w[i]; wi == 0 {
+				continue
+			}
+		}
+		v := lp[i]
+		var m float64
+		if mu != nil {
+			m = mu[i]
+		} else {
+			m = logistic.Expit(a + b*v)
+		}
+		r := wi * (y[i] - m)
+		q := wi * m * (1 - m)
+		t0 += r
+		t1 += r * v
+		t2 += q
+		t3 += q * v
+		t4 += q * v * v
+	}
+	return [5]float64{t0, t1, t2, t3, t4}
 }
 
 // rowSplit is the number of rows from which rowSums sums two halves.
@@ -352,23 +362,7 @@ func interceptNewtonFrom(y, lp, z, w []float64, a float64, workers int, e []floa
 	sums := func(a float64) (score, info float64) {
 		ea := math.Exp(a)
 		s := rowSums(len(e), workers, func(lo, hi int) [5]float64 {
-			var t [5]float64
-			for i := lo; i < hi; i++ {
-				wi := 1.0
-				if w != nil {
-					if wi = w[i]; wi == 0 {
-						continue
-					}
-				}
-				q := e[i] * ea
-				mu := q / (1 + q)
-				if math.IsInf(q, 1) {
-					mu = 1
-				}
-				t[0] += wi * (y[i] - mu)
-				t[1] += wi * mu * (1 - mu)
-			}
-			return t
+			return interceptSums(y, e, w, ea, lo, hi)
 		})
 		return s[0], s[1]
 	}
@@ -385,4 +379,28 @@ func interceptNewtonFrom(y, lp, z, w []float64, a float64, workers int, e []floa
 		}
 	}
 	return 0, 0, logistic.ErrNotConverged
+}
+
+// interceptSums is one step's sums of interceptNewtonFrom over rows
+// [lo, hi) at eᵃ = ea: the score Σw(y − μ) and the information
+// Σw·μ(1 − μ) (the other three of the five are 0), with μ = E·eᵃ/(1 + E·eᵃ)
+// from e holding E = e^lp. The sums are scalar locals, as in slopeSums.
+func interceptSums(y, e, w []float64, ea float64, lo, hi int) [5]float64 {
+	var t0, t1 float64
+	for i := lo; i < hi; i++ {
+		wi := 1.0
+		if w != nil {
+			if wi = w[i]; wi == 0 {
+				continue
+			}
+		}
+		q := e[i] * ea
+		mu := q / (1 + q)
+		if math.IsInf(q, 1) {
+			mu = 1
+		}
+		t0 += wi * (y[i] - mu)
+		t1 += wi * mu * (1 - mu)
+	}
+	return [5]float64{t0, t1}
 }
