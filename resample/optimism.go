@@ -145,7 +145,7 @@ func Optimism(ctx context.Context, pr Problem, opt Options) (*Result, error) {
 	res := &Result{B: opt.B, Seed: opt.Seed, Reasons: map[string]int{}, ICIDelta: opt.ICIDelta}
 	ws := newWorkspace(pr)
 	lp, dev := ws.predict(pr, pr.Coef)
-	app, err := ws.measures(pr, lp, ws.sorter.Order(ws.p), nil, dev, opt.ICIDelta, false)
+	app, err := ws.measures(pr, lp, ws.order.order(ws.p), nil, dev, opt.ICIDelta, false)
 	if err != nil {
 		return nil, fmt.Errorf("resample: measuring the full fit: %w", err)
 	}
@@ -274,7 +274,7 @@ type workspace struct {
 	p, z   []float64 // risks of lp and e^−|lp|
 	ps, ys []float64 // sorted by risk (original rows, or the sample expanded)
 	x      []float64 // scratch for the calibration fits
-	sorter metrics.Sorter
+	order  riskOrder
 	smooth metrics.LowessWorkspace
 	calib  metrics.CalibrationWorkspace
 }
@@ -329,7 +329,7 @@ func (ws *workspace) replicate(pr Problem, start *logistic.StartRows, delta floa
 		return Measures{}, err
 	}
 	lp, dev := ws.predict(pr, fit.Coef)
-	order := ws.sorter.Order(ws.p)
+	order := ws.order.order(ws.p)
 	// A maximum-likelihood fit with an intercept and no offset has
 	// calibration-in-the-large 0 and slope 1 on its own sample.
 	app, err := ws.measures(pr, lp, order, ws.counts, fit.Deviance, delta, !pr.Firth && pr.Offset == nil)
