@@ -772,17 +772,6 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool, muOu
 		rv = c.buf[2*p*block : (2*p+1)*block] // w(y − μ)
 	}
 	nb := 0
-	flush := func() {
-		for j := 0; j < p; j++ {
-			cj := xc[j*block : j*block+nb]
-			c.score[j] += floats.Dot(rv[:nb], cj)
-			wj := wx[j*block : j*block+nb]
-			for k := j; k < p; k++ {
-				c.info[j*p+k] += floats.Dot(wj, xc[k*block:k*block+nb])
-			}
-		}
-		nb = 0
-	}
 	acc := newDevSum()
 	start := e.start
 	// With d.Rows the loop runs over the listed rows in [lo, hi).
@@ -819,13 +808,13 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool, muOu
 		}
 		y := d.Y[i]
 		if wt == 1 {
-			acc.lin += math.Max(eta, 0) - y*eta
+			acc.lin += positive(eta) - y*eta
 			acc.prod *= 1 + z
 			if acc.n++; acc.n >= 256 {
-				acc.flush()
+				acc = acc.flushed()
 			}
 		} else {
-			acc.addWeighted(wt, eta, y, z)
+			acc = acc.addWeighted(wt, eta, y, z)
 		}
 		if !derivs {
 			continue
@@ -842,13 +831,29 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool, muOu
 		}
 		nb++
 		if nb == block {
-			flush()
+			c.addBlock(xc, wx, rv, nb, p)
+			nb = 0
 		}
 	}
 	if derivs && nb > 0 {
-		flush()
+		c.addBlock(xc, wx, rv, nb, p)
 	}
 	c.dev = acc.total()
+}
+
+// addBlock adds the contributions of a block of nb rows, gathered by
+// pass column after column (xc the rows' X, wx the same times the IRLS
+// weight, rv the working residuals w(y − μ)), to the score and the upper
+// triangle of X'WX.
+func (c *chunk) addBlock(xc, wx, rv []float64, nb, p int) {
+	for j := 0; j < p; j++ {
+		cj := xc[j*block : j*block+nb]
+		c.score[j] += floats.Dot(rv[:nb], cj)
+		wj := wx[j*block : j*block+nb]
+		for k := j; k < p; k++ {
+			c.info[j*p+k] += floats.Dot(wj, xc[k*block:k*block+nb])
+		}
+	}
 }
 
 // passSmall is pass with derivatives for at most three columns, where
@@ -879,13 +884,13 @@ func (e *evaluator) passSmall(beta []float64, lo, hi int, c *chunk, muOut []floa
 		y := d.Y[i]
 		z := math.Exp(-math.Abs(eta))
 		if wt == 1 {
-			acc.lin += math.Max(eta, 0) - y*eta
+			acc.lin += positive(eta) - y*eta
 			acc.prod *= 1 + z
 			if acc.n++; acc.n >= 256 {
-				acc.flush()
+				acc = acc.flushed()
 			}
 		} else {
-			acc.addWeighted(wt, eta, y, z)
+			acc = acc.addWeighted(wt, eta, y, z)
 		}
 		mu := expitFrom(z, eta)
 		if muOut != nil {
@@ -922,24 +927,39 @@ type devSum struct {
 
 func newDevSum() devSum { return devSum{prod: 1} }
 
-// addWeighted adds a row of weight wt (with z = e^−|η|).
-func (a *devSum) addWeighted(wt, eta, y, z float64) {
-	a.lin += wt * (math.Max(eta, 0) - y*eta)
+// addWeighted adds a row of weight wt (with z = e^−|η|). The sum is a
+// value, not a pointer, so that a pass keeps it in registers.
+func (a devSum) addWeighted(wt, eta, y, z float64) devSum {
+	a.lin += wt * (positive(eta) - y*eta)
 	if k := int(wt); float64(k) == wt && k <= 8 {
 		for ; k > 0; k-- {
 			a.prod *= 1 + z
 			if a.n++; a.n >= 256 {
-				a.flush()
+				a = a.flushed()
 			}
 		}
-		return
+		return a
 	}
 	a.lin += wt * log1pUnit(z)
+	return a
 }
 
-func (a *devSum) flush() {
+// flushed takes the logarithm of the running product into the sum.
+func (a devSum) flushed() devSum {
 	a.lin += math.Log(a.prod)
 	a.prod, a.n = 1, 0
+	return a
+}
+
+// positive is max(η, 0), the value of math.Max(η, 0) for every η but
+// NaN (0 here, NaN there; a NaN η makes the row's term y·η, and so the
+// deviance, NaN either way). math.Max is an assembly routine on amd64,
+// a call per row in the passes; this is inlined.
+func positive(eta float64) float64 {
+	if eta > 0 {
+		return eta
+	}
+	return 0
 }
 
 // expitFrom is expit(η) from z = e^−|η|.
@@ -951,7 +971,7 @@ func expitFrom(z, eta float64) float64 {
 }
 
 // total is the deviance, 2 × the accumulated sum.
-func (a *devSum) total() float64 { return 2 * (a.lin + math.Log(a.prod)) }
+func (a devSum) total() float64 { return 2 * (a.lin + math.Log(a.prod)) }
 
 // firthPass adds Firth's adjustment Σ w·h·(½ − μ)·x to the score, where
 // h = μ(1 − μ)·q is the hat value of the row and q = x' I⁻¹ x, which it

@@ -38,13 +38,13 @@ func (d Data) Predict(beta, lp, p, z []float64) float64 {
 		}
 		y := d.Y[i]
 		if wt == 1 {
-			acc.lin += math.Max(eta, 0) - y*eta
+			acc.lin += positive(eta) - y*eta
 			acc.prod *= 1 + e
 			if acc.n++; acc.n >= 256 {
-				acc.flush()
+				acc = acc.flushed()
 			}
 		} else {
-			acc.addWeighted(wt, eta, y, e)
+			acc = acc.addWeighted(wt, eta, y, e)
 		}
 	}
 	return 0 + acc.total()
