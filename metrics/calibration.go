@@ -287,7 +287,15 @@ func slopeSums(y, lp, mu, w []float64, a, b float64, lo, hi int) [5]float64 {
 		if mu != nil {
 			m = mu[i]
 		} else {
-			m = logistic.Expit(a + b*v)
+			// logistic.Expit(a + b·v), written out: its two branches'
+			// exponentials are this one, e^−|x| (inlined, not called).
+			x := a + b*v
+			z := math.Exp(-math.Abs(x))
+			if x >= 0 {
+				m = 1 / (1 + z)
+			} else {
+				m = z / (1 + z)
+			}
 		}
 		r := wi * (y[i] - m)
 		q := wi * m * (1 - m)
