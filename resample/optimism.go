@@ -272,17 +272,20 @@ type workspace struct {
 	drawn  []int32
 	lp     []float64
 	p, z   []float64 // risks of lp and e^−|lp|
-	ps, ys []float64 // sorted by risk (original rows, or the sample expanded)
-	x      []float64 // scratch for the calibration fits
-	order  riskOrder
-	smooth metrics.LowessWorkspace
-	calib  metrics.CalibrationWorkspace
+	ps, ys []float64 // sorted by risk (original rows, or the sample expanded), 4 spare
+	// nullDev is −2 log-likelihood of the event rate on the original rows.
+	nullDev float64
+	x       []float64 // scratch for the calibration fits
+	order   riskOrder
+	smooth  metrics.LowessWorkspace
+	calib   metrics.CalibrationWorkspace
 }
 
 func newWorkspace(pr Problem) *workspace {
 	n := pr.N
 	return &workspace{counts: make([]float64, n), rows: make([]int32, n), drawn: make([]int32, n), lp: make([]float64, n),
-		p: make([]float64, n), z: make([]float64, n), ps: make([]float64, n), ys: make([]float64, n)}
+		p: make([]float64, n), z: make([]float64, n), ps: make([]float64, n+4), ys: make([]float64, n+4),
+		nullDev: metrics.NullDeviance(pr.Y, nil)}
 }
 
 // draw fills the counts of replicate b and returns the indices drawn
@@ -359,18 +362,7 @@ func (ws *workspace) predict(pr Problem, beta []float64) ([]float64, float64) {
 // score equations then make calibration-in-the-large exactly 0 and the
 // calibration slope exactly 1, so they are not fitted again.
 func (ws *workspace) measures(pr Problem, lp []float64, order []int32, w []float64, dev, delta float64, fitted bool) (Measures, error) {
-	// The rows in risk order, each repeated as often as it was drawn.
-	k := 0
-	for _, i := range order {
-		c := 1
-		if w != nil {
-			c = int(w[i])
-		}
-		for j := 0; j < c; j++ {
-			ws.ps[k], ws.ys[k] = ws.p[i], pr.Y[i]
-			k++
-		}
-	}
+	k := ws.expand(pr.Y, order, w)
 	ps, ys := ws.ps[:k], ws.ys[:k]
 	var m Measures
 	m.AUC = metrics.AUCValue(metrics.AsSorted(ys, ps))
@@ -388,9 +380,45 @@ func (ws *workspace) measures(pr Problem, lp []float64, order []int32, w []float
 	} else {
 		m.Brier, m.ScaledBrier = metrics.Brier(pr.Y, ws.p)
 	}
-	m.R2 = metrics.Nagelkerke(dev, metrics.NullDeviance(pr.Y, w), k)
+	nullDev := ws.nullDev
+	if w != nil {
+		nullDev = metrics.NullDeviance(pr.Y, w)
+	}
+	m.R2 = metrics.Nagelkerke(dev, nullDev, k)
 	m.ICI = ici(&ws.smooth, ys, ps, delta)
 	return m, nil
+}
+
+// expand writes the risks ws.p and outcomes y of the rows in order into
+// ws.ps and ws.ys, each row repeated as often as w counts it (once each
+// when w is nil), and returns how many it wrote. A row counted at most 4
+// times is written 4 times without a branch on its count, the places
+// past its count then overwritten by the rows after it (hence the 4
+// spare places of ws.ps and ws.ys).
+func (ws *workspace) expand(y []float64, order []int32, w []float64) int {
+	ps, ys := ws.ps, ws.ys
+	if w == nil {
+		for r, i := range order {
+			ps[r], ys[r] = ws.p[i], y[i]
+		}
+		return len(order)
+	}
+	k := 0
+	for _, i := range order {
+		c := int(w[i])
+		v, o := ws.p[i], y[i]
+		if c <= 4 {
+			q, t := ps[k:k+4:k+4], ys[k:k+4:k+4]
+			q[0], q[1], q[2], q[3] = v, v, v, v
+			t[0], t[1], t[2], t[3] = o, o, o, o
+		} else {
+			for j := k; j < k+c; j++ {
+				ps[j], ys[j] = v, o
+			}
+		}
+		k += c
+	}
+	return k
 }
 
 // ici is the ICI of risks ps (sorted) against outcomes ys, with LOWESS at
