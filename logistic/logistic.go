@@ -98,6 +98,21 @@ type Options struct {
 	// if the iterations go on; the coefficients and the deviance are the
 	// same as without CoefOnly.
 	CoefOnly bool
+	// Workspace, when not nil, lends the fit its buffers, kept for the
+	// next fit given the same Workspace (see Workspace).
+	Workspace *Workspace
+}
+
+// A Workspace holds the buffers of a fit's passes over the rows for the
+// next fit, for a caller that fits many times on one goroutine (a
+// bootstrap worker refits once a replicate). With Data.Rows and one
+// worker, the fit copies the listed rows' X there once, column after
+// column, and every pass reads those columns instead of gathering each
+// row's X again; the fit is the same with or without a Workspace. The
+// zero value is ready to use; a Workspace serves one fit at a time.
+type Workspace struct {
+	buf  []float64 // the pass's block scratch, (2P + 1)·block values
+	cols []float64 // the listed rows' X, column after column
 }
 
 // Result is a fitted model.
@@ -213,6 +228,7 @@ func Fit(d Data, opt Options) (*Result, error) {
 		beta[0] = m
 	}
 	ev := newEvaluator(d, opt.Workers)
+	ev.useWorkspace(opt.Workspace)
 	if opt.Start != nil && opt.StartRows != nil {
 		if len(opt.StartRows.Eta) != d.N || len(opt.StartRows.Z) != d.N {
 			return nil, errors.New("logistic: StartRows of the wrong length")
@@ -620,6 +636,38 @@ type evaluator struct {
 	// start, when not nil, gives pass each row's η and e^−|η| (the
 	// first pass of a fit with Options.StartRows).
 	start *StartRows
+	// cols, when not nil, holds the X of the rows of d.Rows column after
+	// column (column j of the r-th listed row at j·len(d.Rows) + r), for
+	// one worker's passes.
+	cols []float64
+}
+
+// useWorkspace takes the pass scratch from ws and, for one worker over
+// listed rows, copies their X into ws's columns.
+func (e *evaluator) useWorkspace(ws *Workspace) {
+	if ws == nil {
+		return
+	}
+	p := e.d.P
+	if cap(ws.buf) < (2*p+1)*block {
+		ws.buf = make([]float64, (2*p+1)*block)
+	}
+	e.bufs = [][]float64{ws.buf[:(2*p+1)*block]}
+	if e.workers != 1 || e.d.Rows == nil || p <= 3 {
+		return // passSmall gathers nothing
+	}
+	m := len(e.d.Rows)
+	if cap(ws.cols) < m*p {
+		ws.cols = make([]float64, m*p)
+	}
+	cols := ws.cols[:m*p]
+	for r, i := range e.d.Rows {
+		x := e.d.X[int(i)*p : int(i)*p+p]
+		for j, v := range x {
+			cols[j*m+r] = v
+		}
+	}
+	e.cols = cols
 }
 
 func newEvaluator(d Data, workers int) *evaluator {
@@ -765,11 +813,18 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool, muOu
 		e.passSmall(beta, lo, hi, c, muOut)
 		return
 	}
-	var xc, wx, rv []float64
+	var xc, wx, rv, vb []float64
 	if derivs {
 		xc = c.buf[:p*block]                  // the block's X, column after column
 		wx = c.buf[p*block : 2*p*block]       // the same, times the IRLS weight
 		rv = c.buf[2*p*block : (2*p+1)*block] // w(y − μ)
+		vb = xc[:block]                       // the IRLS weights, when xc is not used
+	}
+	// With the listed rows' columns (one worker over d.Rows: k is then
+	// the row's place in d.Rows) the block's X is read from them.
+	var cols []float64
+	if e.cols != nil && d.Rows != nil && e.workers == 1 {
+		cols = e.cols
 	}
 	nb := 0
 	acc := newDevSum()
@@ -825,33 +880,60 @@ func (e *evaluator) pass(beta []float64, lo, hi int, c *chunk, derivs bool, muOu
 		}
 		v := wt * mu * (1 - mu)
 		rv[nb] = wt * (y - mu)
-		for j, xj := range x {
-			xc[j*block+nb] = xj
-			wx[j*block+nb] = v * xj
+		if cols != nil {
+			// The columns hold the block's X: keep the weight alone.
+			vb[nb] = v
+		} else {
+			for j, xj := range x {
+				xc[j*block+nb] = xj
+				wx[j*block+nb] = v * xj
+			}
 		}
 		nb++
 		if nb == block {
-			c.addBlock(xc, wx, rv, nb, p)
+			c.flushBlock(xc, wx, rv, vb, cols, k+1-nb, nb, p)
 			nb = 0
 		}
 	}
 	if derivs && nb > 0 {
-		c.addBlock(xc, wx, rv, nb, p)
+		c.flushBlock(xc, wx, rv, vb, cols, last-nb, nb, p)
 	}
 	c.dev = acc.total()
 }
 
-// addBlock adds the contributions of a block of nb rows, gathered by
-// pass column after column (xc the rows' X, wx the same times the IRLS
-// weight, rv the working residuals w(y − μ)), to the score and the upper
-// triangle of X'WX.
-func (c *chunk) addBlock(xc, wx, rv []float64, nb, p int) {
+// flushBlock adds a block of nb rows to the score and X'WX: gathered by
+// pass when cols is nil, else the rows from place at of the listed rows,
+// whose X cols holds, and whose IRLS weights are in vb (the products
+// v·x are made here, column by column, the same products as pass's).
+func (c *chunk) flushBlock(xc, wx, rv, vb, cols []float64, at, nb, p int) {
+	if cols == nil {
+		c.addBlock(xc, block, 0, wx, rv, nb, p)
+		return
+	}
+	m := len(cols) / p
+	vs := vb[:nb]
 	for j := 0; j < p; j++ {
-		cj := xc[j*block : j*block+nb]
+		xj := cols[j*m+at : j*m+at+nb]
+		wj := wx[j*block : j*block+nb]
+		for r, v := range vs {
+			wj[r] = v * xj[r]
+		}
+	}
+	c.addBlock(cols, m, at, wx, rv, nb, p)
+}
+
+// addBlock adds the contributions of a block of nb rows to the score
+// and the upper triangle of X'WX: column j of the rows' X is
+// xs[j·stride + at:][:nb], wx holds the same times the IRLS weight
+// (column after column, block values apart) and rv the working
+// residuals w(y − μ).
+func (c *chunk) addBlock(xs []float64, stride, at int, wx, rv []float64, nb, p int) {
+	for j := 0; j < p; j++ {
+		cj := xs[j*stride+at : j*stride+at+nb]
 		c.score[j] += floats.Dot(rv[:nb], cj)
 		wj := wx[j*block : j*block+nb]
 		for k := j; k < p; k++ {
-			c.info[j*p+k] += floats.Dot(wj, xc[k*block:k*block+nb])
+			c.info[j*p+k] += floats.Dot(wj, xs[k*stride+at:k*stride+at+nb])
 		}
 	}
 }
