@@ -279,6 +279,7 @@ type workspace struct {
 	order   riskOrder
 	smooth  metrics.LowessWorkspace
 	calib   metrics.CalibrationWorkspace
+	fit     logistic.Workspace
 }
 
 func newWorkspace(pr Problem) *workspace {
@@ -327,7 +328,7 @@ func (ws *workspace) replicate(pr Problem, start *logistic.StartRows, delta floa
 	d := data(pr, ws.counts)
 	d.Rows = ws.rows
 	fit, err := logistic.Fit(d, logistic.Options{Start: pr.Coef, Firth: pr.Firth, Workers: 1,
-		StartRows: start, CoefOnly: true})
+		StartRows: start, CoefOnly: true, Workspace: &ws.fit})
 	if err != nil {
 		return Measures{}, err
 	}
