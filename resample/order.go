@@ -47,12 +47,7 @@ func (o *riskOrder) order(p []float64) []int32 {
 		o.keys, o.tk, o.idx = make([]uint64, n), make([]uint64, n), make([]int32, n)
 	}
 	keys, tk, idx := o.keys[:n], o.tk[:n], o.idx[:n]
-	lo, hi := uint64(math.MaxUint64), uint64(0)
-	for i, v := range p {
-		k := orderKey(v)
-		keys[i] = k
-		lo, hi = min(lo, k), max(hi, k)
-	}
+	lo, hi := orderKeys(p, keys)
 	if lo == hi {
 		for i := range idx {
 			idx[i] = int32(i)
@@ -62,28 +57,12 @@ func (o *riskOrder) order(p []float64) []int32 {
 	// Buckets of 2^shift keys each, at most 2^nb of them.
 	nb := bits.Len(uint(n)) - 1
 	shift := max(0, bits.Len64(hi-lo)-nb)
-	m := int((hi-lo)>>shift) + 2
-	if cap(o.start) < m {
-		o.start = make([]int32, m)
+	m := int((hi-lo)>>shift) + 1
+	if cap(o.start) < m+1 {
+		o.start = make([]int32, m+1)
 	}
-	start := o.start[:m]
-	clear(start)
-	for _, k := range keys {
-		start[(k-lo)>>shift+1]++
-	}
-	most := int32(0)
-	for b := 1; b < m; b++ {
-		most = max(most, start[b])
-		start[b] += start[b-1]
-	}
-	// start[b] is now the first place of bucket b; the scatter moves it
-	// on to the first place of bucket b + 1.
-	for i, k := range keys {
-		b := (k - lo) >> shift
-		at := start[b]
-		start[b]++
-		tk[at], idx[at] = k, int32(i)
-	}
+	start := o.start[:m+1]
+	most := scatter(keys, lo, shift, start, tk, idx)
 	if most <= bucketInsertMax {
 		// Every row is already in its bucket, so one insertion pass over
 		// the whole moves rows only within their buckets.
@@ -91,14 +70,49 @@ func (o *riskOrder) order(p []float64) []int32 {
 		return idx
 	}
 	from := int32(0)
-	for b := 0; b < m-1; b++ {
-		to := start[b]
+	for _, to := range start[:m] {
 		if to-from > 1 {
 			o.sortBucket(tk[from:to], idx[from:to])
 		}
 		from = to
 	}
 	return idx
+}
+
+// orderKeys writes the order key of every risk of p into keys and
+// returns the smallest and the largest.
+func orderKeys(p []float64, keys []uint64) (lo, hi uint64) {
+	lo, hi = math.MaxUint64, 0
+	for i, v := range p {
+		k := orderKey(v)
+		keys[i] = k
+		lo, hi = min(lo, k), max(hi, k)
+	}
+	return lo, hi
+}
+
+// scatter puts the rows in bucket order, rows in row order within each
+// bucket: the key of row i in bucket (keys[i] − lo) >> shift. start has
+// one place more than there are buckets; afterwards start[b] is the end
+// of bucket b (the start of bucket b + 1). It returns the size of the
+// largest bucket.
+func scatter(keys []uint64, lo uint64, shift int, start []int32, tk []uint64, idx []int32) int32 {
+	clear(start)
+	for _, k := range keys {
+		start[(k-lo)>>shift+1]++
+	}
+	most := int32(0)
+	for b := 1; b < len(start); b++ {
+		most = max(most, start[b])
+		start[b] += start[b-1]
+	}
+	for i, k := range keys {
+		b := (k - lo) >> shift
+		at := start[b]
+		start[b]++
+		tk[at], idx[at] = k, int32(i)
+	}
+	return most
 }
 
 // sortBucket puts one bucket's rows (keys tk, rows idx, in row order) in
