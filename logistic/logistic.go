@@ -661,10 +661,10 @@ func (e *evaluator) useWorkspace(ws *Workspace) {
 		ws.cols = make([]float64, m*p)
 	}
 	cols := ws.cols[:m*p]
-	for r, i := range e.d.Rows {
-		x := e.d.X[int(i)*p : int(i)*p+p]
-		for j, v := range x {
-			cols[j*m+r] = v
+	for j := 0; j < p; j++ {
+		col, x := cols[j*m:(j+1)*m], e.d.X[j:]
+		for r, i := range e.d.Rows {
+			col[r] = x[int(i)*p]
 		}
 	}
 	e.cols = cols
