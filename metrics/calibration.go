@@ -271,41 +271,58 @@ func slopeNewtonFrom(y, lp, p, w []float64, workers int) (a, b float64, cov [3]f
 // at intercept a and slope b (mu, when not nil, holds the risks there):
 // the score Σr, Σr·lp and the information Σq, Σq·lp, Σq·lp², with
 // r = w(y − μ) and q = w·μ(1 − μ). The sums are scalar locals, not an
-// array, so that they stay in registers; the operations and their order
-// are the same either way.
+// array, so that they stay in registers; the risks of a block of rows
+// are made first (slopeRisks), so that the exponentials' calls do not
+// interrupt the sums. The operations and their order are the same
+// either way.
 func slopeSums(y, lp, mu, w []float64, a, b float64, lo, hi int) [5]float64 {
 	var t0, t1, t2, t3, t4 float64
-	for i := lo; i < hi; i++ {
-		wi := 1.0
-		if w != nil {
-			if wi = w[i]; wi == 0 {
-				continue
-			}
-		}
-		v := lp[i]
-		var m float64
+	var buf [slopeBlock]float64
+	for from := lo; from < hi; from += slopeBlock {
+		to := min(from+slopeBlock, hi)
+		ms := buf[:to-from]
 		if mu != nil {
-			m = mu[i]
+			ms = mu[from:to]
 		} else {
-			// logistic.Expit(a + b·v), written out: its two branches'
-			// exponentials are this one, e^−|x| (inlined, not called).
-			x := a + b*v
-			z := math.Exp(-math.Abs(x))
-			if x >= 0 {
-				m = 1 / (1 + z)
-			} else {
-				m = z / (1 + z)
-			}
+			slopeRisks(lp[from:to], a, b, ms)
 		}
-		r := wi * (y[i] - m)
-		q := wi * m * (1 - m)
-		t0 += r
-		t1 += r * v
-		t2 += q
-		t3 += q * v
-		t4 += q * v * v
+		ys, vs := y[from:to:to], lp[from:to:to]
+		for r, m := range ms {
+			wi := 1.0
+			if w != nil {
+				if wi = w[from+r]; wi == 0 {
+					continue
+				}
+			}
+			v := vs[r]
+			rr := wi * (ys[r] - m)
+			q := wi * m * (1 - m)
+			t0 += rr
+			t1 += rr * v
+			t2 += q
+			t3 += q * v
+			t4 += q * v * v
+		}
 	}
 	return [5]float64{t0, t1, t2, t3, t4}
+}
+
+// slopeBlock is the number of rows whose risks slopeSums makes at once.
+const slopeBlock = 256
+
+// slopeRisks writes logistic.Expit(a + b·v) of every v of lp into ms,
+// written out: Expit's two branches' exponentials are this one, e^−|x|.
+func slopeRisks(lp []float64, a, b float64, ms []float64) {
+	ms = ms[:len(lp)]
+	for r, v := range lp {
+		x := a + b*v
+		z := math.Exp(-math.Abs(x))
+		if x >= 0 {
+			ms[r] = 1 / (1 + z)
+		} else {
+			ms[r] = z / (1 + z)
+		}
+	}
 }
 
 // rowSplit is the number of rows from which rowSums sums two halves.
