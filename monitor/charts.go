@@ -192,14 +192,16 @@ func ComputeEWMA(y, p []float64, lambda, l float64) (EWMA, error) {
 func cusumPaths(y, p []float64, r, h float64) (path, restarted []float64, signals []int) {
 	path, restarted = make([]float64, len(y)), make([]float64, len(y))
 	s, q := 0.0, 0.0 // without and with restarts
+	// Weights' terms, log R once rather than a patient (the same value),
+	// and the builtin max, which is math.Max's value for every input.
+	r1, logR := r-1, math.Log(r)
 	for i := range y {
-		w0, w1 := Weights(p[i], r)
-		w := w0
+		w := -math.Log1p(r1 * p[i])
 		if y[i] == 1 {
-			w = w1
+			w += logR
 		}
-		s = math.Max(0, s+w)
-		q = math.Max(0, q+w)
+		s = max(0, s+w)
+		q = max(0, q+w)
 		path[i], restarted[i] = s, q
 		if q >= h {
 			signals = append(signals, i)
