@@ -49,24 +49,17 @@ func encodePNG(w io.Writer, m image.Image) error {
 	if err != nil {
 		return err
 	}
-	n := 3 * width
-	prev := make([]byte, n) // the row above the first is zero (PNG, filter type 2)
-	row := make([]byte, n)
-	out := make([]byte, 1+n)
-	out[0] = 2 // filter type Up
+	out := make([]byte, 1+3*width)
+	out[0] = 2                     // filter type Up
+	above := make([]byte, 4*width) // the row above the first is zero (PNG, filter type 2)
 	for y := b.Min.Y; y < b.Max.Y; y++ {
 		off := rgba.PixOffset(b.Min.X, y)
 		px := rgba.Pix[off : off+4*width]
-		for x, j := 0, 0; j < n; x, j = x+4, j+3 {
-			row[j], row[j+1], row[j+2] = px[x], px[x+1], px[x+2]
-		}
-		for j := range row {
-			out[1+j] = row[j] - prev[j]
-		}
+		upRow(out[1:], px, above)
 		if _, err := zw.Write(out); err != nil {
 			return err
 		}
-		prev, row = row, prev
+		above = px
 	}
 	if err := zw.Close(); err != nil {
 		return err
@@ -80,16 +73,32 @@ func encodePNG(w io.Writer, m image.Image) error {
 	return bw.Flush()
 }
 
-// opaqueRGBA reports whether every pixel of m has alpha 255.
+// upRow writes the RGB bytes of the RGBA row px less those of the row
+// above (modulo 256) into out, three bytes a pixel: the Up filter, read
+// straight from the image rows.
+func upRow(out, px, above []byte) {
+	above = above[:len(px)]
+	for i, j := 0, 0; i+2 < len(px) && j+2 < len(out); i, j = i+4, j+3 {
+		out[j], out[j+1], out[j+2] = px[i]-above[i], px[i+1]-above[i+1], px[i+2]-above[i+2]
+	}
+}
+
+// opaqueRGBA reports whether every pixel of m has alpha 255, two
+// pixels at a time.
 func opaqueRGBA(m *image.RGBA) bool {
+	const alphas = 0xff000000ff000000 // the alpha bytes of two pixels, little-endian
 	b := m.Bounds()
 	for y := b.Min.Y; y < b.Max.Y; y++ {
 		off := m.PixOffset(b.Min.X, y)
 		px := m.Pix[off : off+4*b.Dx()]
-		for i := 3; i < len(px); i += 4 {
-			if px[i] != 0xff {
+		for len(px) >= 8 {
+			if binary.LittleEndian.Uint64(px)&alphas != alphas {
 				return false
 			}
+			px = px[8:]
+		}
+		if len(px) == 4 && px[3] != 0xff {
+			return false
 		}
 	}
 	return true
