@@ -533,7 +533,7 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) (drawn, erro
 		tiles := draw.Tiles{Rows: len(panels), Cols: 1, PadY: vg.Points(10)}
 		canvases := plot.Align(plots, tiles, rest)
 		for k := range panels {
-			plots[k][0].Draw(canvases[k][0])
+			drawPlot(plots[k][0], canvases[k][0])
 		}
 		sh.foot(dc)
 		return nil
