@@ -197,7 +197,9 @@ func chartDates(ctx context.Context, c *Config, sc *scored) *datedCharts {
 	o := c.OverTime
 	fail := func(err error) *datedCharts { return &datedCharts{err: err} }
 	// Each distinct date is read once (an extract has few).
+	// A level's time is kept as the charts use it: whole seconds in UTC.
 	type level struct {
+		day   int64 // seconds since 1970, UTC
 		t     time.Time
 		ok    bool
 		empty bool
@@ -205,7 +207,11 @@ func chartDates(ctx context.Context, c *Config, sc *scored) *datedCharts {
 	levels := make([]level, len(sc.dates.levels))
 	for k, text := range sc.dates.levels {
 		levels[k].empty = strings.TrimSpace(text) == ""
-		levels[k].t, levels[k].ok = parseDate(text)
+		var t time.Time
+		if t, levels[k].ok = parseDate(text); levels[k].ok {
+			levels[k].day = t.Unix()
+			levels[k].t = time.Unix(levels[k].day, 0).UTC()
+		}
 	}
 	type row struct {
 		day int64 // seconds since 1970, UTC
@@ -228,7 +234,7 @@ func chartDates(ctx context.Context, c *Config, sc *scored) *datedCharts {
 			}
 			continue
 		}
-		rows = append(rows, row{levels[code].t.Unix(), i})
+		rows = append(rows, row{levels[code].day, i})
 	}
 	if len(rows) == 0 {
 		return fail(&cohort.Error{File: sc.dates.file, Column: o.DateColumn, Msg: "no audited row has a readable date, so nothing can be charted over time", Kind: cohort.ErrMissing})
@@ -248,7 +254,7 @@ func chartDates(ctx context.Context, c *Config, sc *scored) *datedCharts {
 	y, p, dates := make([]float64, len(rows)), make([]float64, len(rows)), make([]time.Time, len(rows))
 	eps := c.Measures.Epsilon
 	for k, rw := range rows {
-		y[k], dates[k] = sc.y[rw.i], time.Unix(rw.day, 0).UTC()
+		y[k], dates[k] = sc.y[rw.i], levels[sc.dates.codes[rw.i]].t
 		// The charts need risks strictly inside (0, 1): clamp as the
 		// logit measures do.
 		p[k] = min(max(sc.p[rw.i], eps), 1-eps)

@@ -126,11 +126,6 @@ type EWMA struct {
 	// Z, SD: the statistic and its exact standard deviation √V_t per
 	// patient.
 	Z, SD []float64
-	// Observed and Expected are the EWMAs of y_t and p_t themselves (same
-	// λ, started at the first patient's risk), Z = Observed − Expected
-	// when both start at the same value: they let the chart be read as
-	// rates.
-	Observed, Expected []float64
 	// FirstAbove and FirstBelow are the first patients (0-based) with
 	// Z_t > L·√V_t or Z_t < −L·√V_t, −1 for none.
 	FirstAbove, FirstBelow int
@@ -161,21 +156,14 @@ func ComputeEWMA(y, p []float64, lambda, l float64) (EWMA, error) {
 		return EWMA{}, fmt.Errorf("monitor: EWMA limit width %v must be positive and finite", l)
 	}
 	n := len(y)
-	e := EWMA{Lambda: lambda, L: l, Z: make([]float64, n), SD: make([]float64, n),
-		Observed: make([]float64, n), Expected: make([]float64, n), FirstAbove: -1, FirstBelow: -1}
+	e := EWMA{Lambda: lambda, L: l, Z: make([]float64, n), SD: make([]float64, n), FirstAbove: -1, FirstBelow: -1}
 	z, v := 0.0, 0.0
-	var o, ex float64
-	if n > 0 {
-		o, ex = p[0], p[0]
-	}
 	a, a2, l2 := 1-lambda, (1-lambda)*(1-lambda), lambda*lambda
 	for i := range y {
 		z = a*z + lambda*(y[i]-p[i])
 		v = a2*v + l2*p[i]*(1-p[i])
-		o = a*o + lambda*y[i]
-		ex = a*ex + lambda*p[i]
 		sd := math.Sqrt(v)
-		e.Z[i], e.SD[i], e.Observed[i], e.Expected[i] = z, sd, o, ex
+		e.Z[i], e.SD[i] = z, sd
 		if e.FirstAbove < 0 && z > l*sd {
 			e.FirstAbove = i
 		}
@@ -192,14 +180,16 @@ func ComputeEWMA(y, p []float64, lambda, l float64) (EWMA, error) {
 func cusumPaths(y, p []float64, r, h float64) (path, restarted []float64, signals []int) {
 	path, restarted = make([]float64, len(y)), make([]float64, len(y))
 	s, q := 0.0, 0.0 // without and with restarts
+	// Weights' terms, log R once rather than a patient (the same value),
+	// and the builtin max, which is math.Max's value for every input.
+	r1, logR := r-1, math.Log(r)
 	for i := range y {
-		w0, w1 := Weights(p[i], r)
-		w := w0
+		w := -math.Log1p(r1 * p[i])
 		if y[i] == 1 {
-			w = w1
+			w += logR
 		}
-		s = math.Max(0, s+w)
-		q = math.Max(0, q+w)
+		s = max(0, s+w)
+		q = max(0, q+w)
 		path[i], restarted[i] = s, q
 		if q >= h {
 			signals = append(signals, i)

@@ -192,7 +192,7 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 					if k == 2 {
 						// Both charts of an audit: the same steps on
 						// locals (walk2).
-						walk2(rng, thr, ws, nm, length, stop, reached, a.sum, a.sum2, ng)
+						walk2(pcg{opt.Seed, base + uint64(run)}, thr, ws, nm, length, stop, reached, a.sum, a.sum2, ng)
 					}
 					for t := int64(1); k != 2 && t <= length; t++ {
 						// One draw: the high 32 bits pick the patient
@@ -224,11 +224,10 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 							break
 						}
 					}
+					// The grid points not passed count the run at the
+					// horizon: added for all runs at once from top
+					// (tails).
 					for c := range k {
-						for g := reached[c]; g < ng; g++ {
-							a.sum[c][g] += length
-							a.sum2[c][g] += length * length
-						}
 						a.top[c][reached[c]]++
 					}
 				}
@@ -261,6 +260,7 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 				}
 			}
 		}
+		tails(total.sum, total.sum2, total.top, length)
 		return total, nil
 	}
 	// first is the first grid point at which the mean run length reaches
@@ -339,6 +339,22 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 		out[c] = lim
 	}
 	return out, nil
+}
+
+// tails adds to sum and sum2 the runs that had not passed a grid point
+// by the horizon, each at the horizon: grid point g was not passed by the
+// runs whose last grid point passed (top) is at or below g. The sums are
+// exact integers, so they equal adding length to every run's unpassed
+// points one by one.
+func tails(sum, sum2 [][]int64, top [][]int, length int64) {
+	for c := range sum {
+		below := int64(0) // runs that passed at most g grid points
+		for g := range sum[c] {
+			below += int64(top[c][g])
+			sum[c][g] += below * length
+			sum2[c][g] += below * length * length
+		}
+	}
 }
 
 // runStats are integer sums over simulated runs.

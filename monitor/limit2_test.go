@@ -48,3 +48,20 @@ func TestWalk2SameAsGeneralLoop(t *testing.T) {
 		})
 	}
 }
+
+// TestPCGSameAsMathRand: the simulation's own copy of the generator
+// (pcg) draws the sequence of the standard library's math/rand/v2 PCG
+// from the same seeds, so the runs are those of rand.NewPCG(Seed, run).
+func TestPCGSameAsMathRand(t *testing.T) {
+	for _, seed := range [][2]uint64{{0, 0}, {1, 0}, {1, 1 << 62}, {^uint64(0), 12345}} {
+		ref := rand.NewPCG(seed[0], seed[1])
+		p := pcg{seed[0], seed[1]}
+		for i := range 10000 {
+			var u uint64
+			p, u = p.next()
+			if want := ref.Uint64(); u != want {
+				t.Fatalf("seeds %v, draw %d: pcg gives %#x, math/rand/v2 %#x", seed, i+1, u, want)
+			}
+		}
+	}
+}

@@ -83,6 +83,9 @@ func ByPeriod(y, p []float64, dates []time.Time, per Periods) ([]Period, error) 
 		}
 		last := 0
 		for i, d := range dates {
+			if i > 0 && d.Equal(dates[i-1]) {
+				continue // the period of the patient before (an extract has few dates)
+			}
 			if i > 0 && d.Before(dates[i-1]) {
 				return nil, fmt.Errorf("monitor: patient %d's date %s is before the one before it: the rows are not in date order", i+1, d.Format(time.DateOnly))
 			}

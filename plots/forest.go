@@ -149,7 +149,7 @@ func Forest(groups []validate.Subgroup, overall *validate.Performance) (Figure, 
 		}
 		alignY(ps, cs)
 		for k, p := range ps {
-			p.Draw(cs[k])
+			drawPlot(p, cs[k])
 		}
 		s.foot(c)
 		return nil

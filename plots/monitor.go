@@ -228,8 +228,10 @@ func vladChart(r *monitor.Result) (drawn, error) {
 		series = append(series, Series{Name: "deterioration signals", Points: sc.XYs})
 	}
 	lo, hi := 0.0, 0.0
+	// The builtin min and max here and below: math.Min's and math.Max's
+	// values (NaN and signed zeros alike), without a call a patient.
 	for _, v := range r.VLAD {
-		lo, hi = math.Min(lo, v), math.Max(hi, v)
+		lo, hi = min(lo, v), max(hi, v)
 	}
 	span(p, lo, hi)
 	svg, png, err := single(p, overTimeSheet("Cumulative expected − observed events (above 0: fewer events than predicted)", r, g), 7*vg.Inch, 3.6*vg.Inch)
@@ -281,10 +283,10 @@ func cusumChart(r *monitor.Result) (drawn, error) {
 	top := r.Charts[0].Limit.H
 	bot := -r.Charts[1].Limit.H
 	for _, v := range r.Charts[0].Restarted {
-		top = math.Max(top, v)
+		top = max(top, v)
 	}
 	for _, v := range r.Charts[1].Restarted {
-		bot = math.Min(bot, -v)
+		bot = min(bot, -v)
 	}
 	span(p, bot, top)
 	svg, png, err := single(p, overTimeSheet("Risk-adjusted CUSUMs, restarted after each signal: deterioration up, improvement down", r, g), 7*vg.Inch, 3.8*vg.Inch)
@@ -343,10 +345,10 @@ func ewmaChart(r *monitor.Result) (drawn, error) {
 	from := min(r.N-1, int(1/e.Lambda))
 	top := 0.0
 	for i := from; i < r.N; i++ {
-		top = math.Max(top, math.Max(math.Abs(e.Z[i]), up[i]))
+		top = max(top, math.Abs(e.Z[i]), up[i])
 	}
 	for i := 0; i < from; i++ {
-		top = math.Max(top, math.Abs(e.Z[i]))
+		top = max(top, math.Abs(e.Z[i]))
 	}
 	span(p, -top, top)
 	svg, png, err := single(p, overTimeSheet(fmt.Sprintf("EWMA of observed − expected (λ = %g), ±%g exact SD", e.Lambda, e.L), r, g), 7*vg.Inch, 3.6*vg.Inch)
@@ -533,7 +535,7 @@ func periodChart(s *monitor.Summary, criteria []validate.Criterion) (drawn, erro
 		tiles := draw.Tiles{Rows: len(panels), Cols: 1, PadY: vg.Points(10)}
 		canvases := plot.Align(plots, tiles, rest)
 		for k := range panels {
-			plots[k][0].Draw(canvases[k][0])
+			drawPlot(plots[k][0], canvases[k][0])
 		}
 		sh.foot(dc)
 		return nil

@@ -378,8 +378,8 @@ func calibration(perf *validate.Performance, label string) (Figure, error) {
 	h := h0 - ((td.Max.Y - td.Min.Y) - (td.Max.X - td.Min.X))
 	svg, png, err := paint(w, h, func(c draw.Canvas) error {
 		cs := layout(c)
-		p.Draw(cs[0])
-		q.Draw(cs[1])
+		drawPlot(p, cs[0])
+		drawPlot(q, cs[1])
 		s.foot(c)
 		return nil
 	})

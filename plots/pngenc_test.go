@@ -12,8 +12,8 @@ import (
 // independent reading of the PNG specification: every pixel decodes to
 // the colour drawn, for opaque images of several sizes (one pixel, an
 // odd width, a sub-image not at the origin, more rows than one IDAT
-// chunk holds) and for an image with a transparent pixel (written by
-// image/png instead, alpha kept).
+// chunk holds) and for an image with a transparent pixel, inside a row
+// or its last (written by image/png instead, alpha kept).
 func TestEncodePNG(t *testing.T) {
 	paint := func(w, h int, alpha func(x, y int) uint8) *image.RGBA {
 		m := image.NewRGBA(image.Rect(0, 0, w, h))
@@ -38,6 +38,12 @@ func TestEncodePNG(t *testing.T) {
 		{"transparent pixel", paint(9, 4, func(x, y int) uint8 {
 			if x == 3 && y == 2 {
 				return 0x80
+			}
+			return 0xff
+		}), false},
+		{"transparent last pixel of an odd row", paint(9, 4, func(x, y int) uint8 {
+			if x == 8 && y == 3 {
+				return 0xfe
 			}
 			return 0xff
 		}), false},
