@@ -3,6 +3,7 @@ package cohort
 import (
 	"archive/zip"
 	"bytes"
+	"context"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -37,22 +38,23 @@ func openpyxl(t *testing.T, args ...string) []byte {
 	return out
 }
 
-// openpyxlWorkbooks writes the script's workbooks into a new directory
-// and returns it with the values they hold, by workbook.
-func openpyxlWorkbooks(t *testing.T) (string, map[string]struct {
+// openpyxlValues are the values xlsx_openpyxl.py gave openpyxl for the
+// columns of a workbook: as numbers, and as text by row.
+type openpyxlValues struct {
 	Numeric map[string][]*float64
 	Text    map[string][]*string
-}) {
+}
+
+// openpyxlWorkbooks writes the script's workbooks into a new directory
+// and returns it with the values they hold, by workbook.
+func openpyxlWorkbooks(t *testing.T) (string, map[string]openpyxlValues) {
 	dir := t.TempDir()
 	openpyxl(t, "write", dir)
 	b, err := os.ReadFile(filepath.Join(dir, "expected.json"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	var want map[string]struct {
-		Numeric map[string][]*float64
-		Text    map[string][]*string
-	}
+	var want map[string]openpyxlValues
 	if err := json.Unmarshal(b, &want); err != nil {
 		t.Fatal(err)
 	}
@@ -65,49 +67,79 @@ func openpyxlWorkbooks(t *testing.T) (string, map[string]struct {
 // with a phonetic guide (left out); dates of a custom and a built-in
 // format (days before 1 March 1900 included), dates and times, times;
 // booleans; an error value listed as a missing-value marker; empty
-// cells; the header at C3.
+// cells; the header at C3. Each is read twice: its sheet unpacked whole
+// before it is parsed (as sheets up to 64 MiB are) and parsed as a
+// stream from the zip (as larger ones are).
 func TestXLSXOpenpyxl(t *testing.T) {
 	dir, want := openpyxlWorkbooks(t)
-	for _, name := range []string{"read.xlsx", "read1904.xlsx"} {
-		w := want[name]
-		path := filepath.Join(dir, name)
-		var reqs []Request
-		for col := range w.Numeric {
-			reqs = append(reqs, Request{Name: col})
+	for _, mode := range []string{"whole", "stream"} {
+		load := Load
+		if mode == "stream" {
+			load = loadStreamed
 		}
-		for col := range w.Text {
-			reqs = append(reqs, Request{Name: col + "@", Kind: Categorical})
+		for _, name := range []string{"read.xlsx", "read1904.xlsx"} {
+			checkOpenpyxlRead(t, load, filepath.Join(dir, name), want[name])
 		}
-		rename := map[string]string{}
-		for col := range w.Text {
-			rename[col] = col + "@"
-		}
-		// Each column is read as a number and as text: two loads, the
-		// second with the text columns renamed.
-		num, err := Load(path, reqs[:len(w.Numeric)], Options{Missing: []string{"", "#N/A"}})
-		if err != nil {
-			t.Fatal(err)
-		}
-		text, err := Load(path, reqs[len(w.Numeric):], Options{Rename: rename})
-		if err != nil {
-			t.Fatal(err)
-		}
-		if num.Rows != 40 || num.HeaderRow() != 3 || num.CellRef(3, "num") != "Data!C3" {
-			t.Errorf("%s: %d rows, header %s, want 40 and Data!C3", name, num.Rows, num.CellRef(num.HeaderRow(), "num"))
-		}
-		for _, c := range num.Columns {
-			for i, x := range w.Numeric[c.Name] {
-				if g := c.Num[i]; x == nil && !math.IsNaN(g) || x != nil && g != *x {
-					t.Errorf("%s %s row %d: %v, want %s", name, c.Name, i, g, fmtPtr(x))
-				}
+	}
+}
+
+// loadStreamed is LoadXLSX with the sheet parsed as a stream whatever
+// its size.
+func loadStreamed(path string, reqs []Request, opt Options) (*Frame, error) {
+	wb, err := openWorkbook(path)
+	if err != nil {
+		return nil, err
+	}
+	defer wb.close()
+	wb.whole = 0
+	sh, err := wb.sheet(opt.Sheet)
+	if err != nil {
+		return nil, err
+	}
+	return wb.read(context.Background(), sh, reqs, opt)
+}
+
+// checkOpenpyxlRead checks the columns of an xlsx_openpyxl.py workbook
+// read by load against the values the script gave openpyxl.
+func checkOpenpyxlRead(t *testing.T, load func(string, []Request, Options) (*Frame, error), path string, w openpyxlValues) {
+	t.Helper()
+	name := filepath.Base(path)
+	var reqs []Request
+	for col := range w.Numeric {
+		reqs = append(reqs, Request{Name: col})
+	}
+	for col := range w.Text {
+		reqs = append(reqs, Request{Name: col + "@", Kind: Categorical})
+	}
+	rename := map[string]string{}
+	for col := range w.Text {
+		rename[col] = col + "@"
+	}
+	// Each column is read as a number and as text: two loads, the
+	// second with the text columns renamed.
+	num, err := load(path, reqs[:len(w.Numeric)], Options{Missing: []string{"", "#N/A"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	text, err := load(path, reqs[len(w.Numeric):], Options{Rename: rename})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if num.Rows != 40 || num.HeaderRow() != 3 || num.CellRef(3, "num") != "Data!C3" {
+		t.Errorf("%s: %d rows, header %s, want 40 and Data!C3", name, num.Rows, num.CellRef(num.HeaderRow(), "num"))
+	}
+	for _, c := range num.Columns {
+		for i, x := range w.Numeric[c.Name] {
+			if g := c.Num[i]; x == nil && !math.IsNaN(g) || x != nil && g != *x {
+				t.Errorf("%s %s row %d: %v, want %s", name, c.Name, i, g, fmtPtr(x))
 			}
 		}
-		for _, c := range text.Columns {
-			got := levels(c)
-			for i, s := range w.Text[c.Name[:len(c.Name)-1]] {
-				if (got[i] == nil) != (s == nil) || s != nil && *got[i] != *s {
-					t.Errorf("%s %s row %d: %s, want %s", name, c.Name, i, fmtPtr(got[i]), fmtPtr(s))
-				}
+	}
+	for _, c := range text.Columns {
+		got := levels(c)
+		for i, s := range w.Text[c.Name[:len(c.Name)-1]] {
+			if (got[i] == nil) != (s == nil) || s != nil && *got[i] != *s {
+				t.Errorf("%s %s row %d: %s, want %s", name, c.Name, i, fmtPtr(got[i]), fmtPtr(s))
 			}
 		}
 	}

@@ -50,15 +50,11 @@ const (
 // row out of order, a reference beyond the sheet's size or XML that is
 // not well formed is an error of kind ErrFormat.
 func (wb *workbook) rows(ctx context.Context, sh sheetRef, fn func(row int, cells []xcell) error) error {
-	src, closer, ok, err := wb.stream(sh.part)
+	src, done, err := wb.reader(sh.part)
 	if err != nil {
 		return err
 	}
-	if !ok {
-		src = bytes.NewReader(nil)
-	} else {
-		defer closer.Close()
-	}
+	defer done()
 	d := xml.NewDecoder(src)
 	bad := func(row, col int, format string, args ...any) error {
 		e := &Error{File: wb.path, Msg: fmt.Sprintf(format, args...), Kind: ErrFormat}

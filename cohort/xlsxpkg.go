@@ -35,6 +35,7 @@ type workbook struct {
 	fmtCode  map[int]string // custom number format codes by id
 	styles   map[int]dateKind
 	limit    int64
+	whole    uint64 // the largest part reader unpacks whole: wholePart
 }
 
 // sheetEntry is a sheet of the workbook part: its name and the id of
@@ -58,7 +59,7 @@ func openWorkbook(file string) (*workbook, error) {
 	if err != nil {
 		return nil, err
 	}
-	wb := &workbook{path: file, zr: zr, parts: map[string]*zip.File{}, styles: map[int]dateKind{}, limit: workbookLimit(st.Size())}
+	wb := &workbook{path: file, zr: zr, parts: map[string]*zip.File{}, styles: map[int]dateKind{}, limit: workbookLimit(st.Size()), whole: wholePart}
 	if err := wb.open(); err != nil {
 		zr.Close()
 		return nil, err
@@ -138,18 +139,27 @@ func (wb *workbook) part(name string) ([]byte, error) {
 	return b, nil
 }
 
-// stream opens a part to be read as a stream; ok is false when the
-// package has no such part.
-func (wb *workbook) stream(name string) (r io.Reader, closer io.Closer, ok bool, err error) {
+// wholePart is the largest part that reader unpacks whole before it is
+// parsed: parsing from memory took about a sixth less CPU than from the
+// stream, on a 100,000-row sheet of 17 MB (the heap is larger, so the
+// collector runs less often), while a larger sheet parsed as a stream
+// does not hold its XML in memory.
+const wholePart = 64 << 20
+
+// reader opens a part to be parsed: its bytes when it unpacks to at
+// most wb.whole bytes, else a stream; done closes it. A part the package
+// does not have reads as empty.
+func (wb *workbook) reader(name string) (r io.Reader, done func(), err error) {
 	e := wb.file(name)
-	if e == nil {
-		return nil, nil, false, nil
+	if e == nil || e.UncompressedSize64 <= wb.whole {
+		b, err := wb.part(name)
+		return bytes.NewReader(b), func() {}, err
 	}
 	rc, err := e.Open()
 	if err != nil {
-		return nil, nil, true, workbookError(wb.path, fmt.Errorf("part %s: %w", name, err))
+		return nil, nil, workbookError(wb.path, fmt.Errorf("part %s: %w", name, err))
 	}
-	return bufio.NewReaderSize(io.LimitReader(rc, wb.limit), 64<<10), rc, true, nil
+	return bufio.NewReaderSize(io.LimitReader(rc, wb.limit), 64<<10), func() { rc.Close() }, nil
 }
 
 // xmlWorkbook is what the workbook part says that is read: the date
