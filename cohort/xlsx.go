@@ -17,16 +17,14 @@ import (
 	"strings"
 )
 
-// Workbooks (Office Open XML, .xlsx) are read in two layers. The
-// excelize library opens the package: it unzips the parts within a size
-// limit, parses the workbook, its styles and number formats and its date
-// system. excelize's row iterator, though, gives each cell's value as
-// text without its type or style, and those decide what a cell means (a
-// date is a number with a date style; a formula without a cached value
-// looks like an empty cell), while excelize's cell-by-cell functions hold
-// the whole sheet in memory, about twenty times its XML. So the one
-// sheet read is streamed here, cell by cell, with encoding/xml, from the
-// part excelize unzipped, and only the requested columns are kept.
+// Workbooks (Office Open XML, .xlsx) are read with archive/zip and
+// encoding/xml. The package is checked whole first (every part's
+// checksum, the unpacked size against a limit, the kind of zip), then
+// opened (xlsxpkg.go: the workbook, its relationships, styles and date
+// system), and the one sheet read is streamed cell by cell (xlsxcells.go)
+// by each cell's type and style, which decide what it means (a date is a
+// number with a date style; a formula without a stored value has none);
+// only the requested columns are kept.
 
 // xlsxFormat names the format in messages.
 const xlsxFormat = "Excel workbook (.xlsx)"
