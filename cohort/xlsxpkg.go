@@ -132,11 +132,13 @@ func (wb *workbook) part(name string) ([]byte, error) {
 		return nil, workbookError(wb.path, fmt.Errorf("part %s: %w", name, err))
 	}
 	defer r.Close()
-	b, err := io.ReadAll(io.LimitReader(r, wb.limit))
-	if err != nil {
+	// Sized to the length the zip gives (checked as it is read), so the
+	// part is read into one allocation.
+	buf := bytes.NewBuffer(make([]byte, 0, min(int64(e.UncompressedSize64), wb.limit)+bytes.MinRead))
+	if _, err := buf.ReadFrom(io.LimitReader(r, wb.limit)); err != nil {
 		return nil, workbookError(wb.path, fmt.Errorf("part %s: %w", name, err))
 	}
-	return b, nil
+	return buf.Bytes(), nil
 }
 
 // wholePart is the largest part that reader unpacks whole before it is
