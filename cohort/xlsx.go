@@ -15,20 +15,16 @@ import (
 	"slices"
 	"strconv"
 	"strings"
-
-	"github.com/xuri/excelize/v2"
 )
 
-// Workbooks (Office Open XML, .xlsx) are read in two layers. The
-// excelize library opens the package: it unzips the parts within a size
-// limit, parses the workbook, its styles and number formats and its date
-// system. excelize's row iterator, though, gives each cell's value as
-// text without its type or style, and those decide what a cell means (a
-// date is a number with a date style; a formula without a cached value
-// looks like an empty cell), while excelize's cell-by-cell functions hold
-// the whole sheet in memory, about twenty times its XML. So the one
-// sheet read is streamed here, cell by cell, with encoding/xml, from the
-// part excelize unzipped, and only the requested columns are kept.
+// Workbooks (Office Open XML, .xlsx) are read with archive/zip and
+// encoding/xml. The package is checked whole first (every part's
+// checksum, the unpacked size against a limit, the kind of zip), then
+// opened (xlsxpkg.go: the workbook, its relationships, styles and date
+// system), and the one sheet read is streamed cell by cell (xlsxcells.go)
+// by each cell's type and style, which decide what it means (a date is a
+// number with a date style; a formula without a stored value has none);
+// only the requested columns are kept.
 
 // xlsxFormat names the format in messages.
 const xlsxFormat = "Excel workbook (.xlsx)"
@@ -111,64 +107,17 @@ func loadXLSX(ctx context.Context, path string, reqs []Request, opt Options) (ou
 	return wb.read(ctx, sh, reqs, opt)
 }
 
-// workbook is an open workbook: the excelize file, the shared strings,
-// the date system and the date kind of each style met so far.
-type workbook struct {
-	path     string
-	f        *excelize.File
-	rels     map[string]string // relationship id → part name, of the workbook part
-	sst      []string
-	date1904 bool
-	styles   map[int]dateKind
-}
-
-// sheetRef is a worksheet chosen to be read.
-type sheetRef struct{ name, part string }
-
-// openWorkbook checks the package and opens it.
-func openWorkbook(file string) (*workbook, error) {
-	st, err := os.Stat(file)
-	if err != nil {
-		return nil, &Error{File: file, Msg: "cannot read file: " + pathErrMsg(err), Kind: ErrRead, Err: err}
-	}
-	if st.IsDir() {
-		return nil, &Error{File: file, Msg: "cannot read file: is a directory", Kind: ErrRead}
-	}
-	if err := checkPackage(file, st.Size()); err != nil {
-		return nil, err
-	}
-	limit := workbookLimit(st.Size())
-	f, err := excelize.OpenFile(file, excelize.Options{UnzipSizeLimit: limit, UnzipXMLSizeLimit: limit})
-	if err != nil {
-		if f != nil {
-			f.Close()
-		}
-		if errors.Is(err, io.EOF) {
-			err = fmt.Errorf("a part it needs (the workbook, its relationships or styles) is empty or cut short (%w)", err)
-		}
-		return nil, workbookError(file, err)
-	}
-	wb := &workbook{path: file, f: f, styles: map[int]dateKind{}}
-	if props, err := f.GetWorkbookProps(); err == nil && props.Date1904 != nil {
-		wb.date1904 = *props.Date1904
-	}
-	wbPart := officeDocument(pkgPart(f, "_rels/.rels"))
-	wb.rels = relationships(pkgPart(f, relsOf(wbPart)), path.Dir(wbPart))
-	return wb, nil
-}
-
-func (wb *workbook) close() { wb.f.Close() }
-
 // checkPackage refuses what is not an .xlsx workbook, with what it is
 // and what is read instead, and a zip whose parts are damaged (every
 // part is unpacked once, which checks its compressed data and
-// checksum) or unpack to more than the limit. excelize does not check
-// a part's checksum, and reads a part cut short as a shorter part.
-func checkPackage(path string, size int64) error {
+// checksum) or unpack to more than the limit, and returns the open zip.
+// Its parts are checked before any is read, so that a damaged part is
+// refused as damaged, never read as a shorter one.
+func checkPackage(path string, size int64) (_ *zip.ReadCloser, err error) {
 	head := make([]byte, 512)
 	fh, err := os.Open(path)
 	if err != nil {
-		return &Error{File: path, Msg: "cannot read file: " + pathErrMsg(err), Kind: ErrRead, Err: err}
+		return nil, &Error{File: path, Msg: "cannot read file: " + pathErrMsg(err), Kind: ErrRead, Err: err}
 	}
 	n, _ := io.ReadFull(fh, head)
 	fh.Close()
@@ -178,13 +127,17 @@ func checkPackage(path string, size int64) error {
 		if kind, _ := signature(head); kind != "" {
 			what = "looks like " + kind + ", not an " + xlsxFormat
 		}
-		return &Error{File: path, Msg: what + notXLSXHint(head), Kind: ErrFormat}
+		return nil, &Error{File: path, Msg: what + notXLSXHint(head), Kind: ErrFormat}
 	}
 	zr, err := zip.OpenReader(path)
 	if err != nil {
-		return workbookError(path, err)
+		return nil, workbookError(path, err)
 	}
-	defer zr.Close()
+	defer func() {
+		if err != nil {
+			zr.Close()
+		}
+	}()
 	names := make([]string, len(zr.File))
 	var total uint64
 	limit := uint64(workbookLimit(size))
@@ -192,11 +145,11 @@ func checkPackage(path string, size int64) error {
 		names[i] = e.Name
 		total += e.UncompressedSize64
 		if total > limit {
-			return &Error{File: path, Msg: fmt.Sprintf("not read: its parts unpack to more than %d bytes, over 100 times the file's size (a damaged file or a zip bomb)", limit), Kind: ErrFormat}
+			return nil, &Error{File: path, Msg: fmt.Sprintf("not read: its parts unpack to more than %d bytes, over 100 times the file's size (a damaged file or a zip bomb)", limit), Kind: ErrFormat}
 		}
 	}
 	if msg := otherPackage(zr, names); msg != "" {
-		return &Error{File: path, Msg: msg, Kind: ErrFormat}
+		return nil, &Error{File: path, Msg: msg, Kind: ErrFormat}
 	}
 	for _, e := range zr.File {
 		r, err := e.Open()
@@ -205,10 +158,10 @@ func checkPackage(path string, size int64) error {
 			r.Close()
 		}
 		if err != nil {
-			return workbookError(path, fmt.Errorf("part %s: %w", e.Name, err))
+			return nil, workbookError(path, fmt.Errorf("part %s: %w", e.Name, err))
 		}
 	}
-	return nil
+	return zr, nil
 }
 
 // otherPackage names a zip that is not an .xlsx workbook: an
@@ -283,8 +236,8 @@ func workbookError(path string, err error) error {
 	return &Error{File: path, Msg: "not a readable " + xlsxFormat + ": " + firstLine(err.Error()), Kind: ErrFormat, Err: err}
 }
 
-// recoverWorkbook turns a panic in excelize (or in this package's
-// reading of what it parsed) into an *Error of kind ErrFormat.
+// recoverWorkbook turns a panic while a workbook is read or written
+// into an *Error of kind ErrFormat.
 func recoverWorkbook(path string, err *error) {
 	if p := recover(); p != nil {
 		*err = &Error{File: path, Msg: fmt.Sprintf("not a readable %s: the reader failed (%v)", xlsxFormat, firstLine(fmt.Sprint(p))), Kind: ErrFormat,
@@ -298,16 +251,6 @@ func pathErrMsg(err error) string {
 		return pe.Err.Error()
 	}
 	return err.Error()
-}
-
-// pkgPart returns the bytes of a part of the package excelize unzipped.
-func pkgPart(f *excelize.File, name string) []byte {
-	if v, ok := f.Pkg.Load(name); ok {
-		if b, ok := v.([]byte); ok {
-			return b
-		}
-	}
-	return nil
 }
 
 type xmlRelationships struct {
@@ -351,8 +294,11 @@ func relationships(b []byte, dir string) map[string]string {
 			t = path.Join(dir, t)
 		}
 		m[x.ID] = t
-		if strings.HasSuffix(x.Type, "/sharedStrings") {
+		switch {
+		case strings.HasSuffix(x.Type, "/sharedStrings"):
 			m["\x00sst"] = t
+		case strings.HasSuffix(x.Type, "/styles"):
+			m["\x00styles"] = t
 		}
 	}
 	return m
@@ -362,21 +308,13 @@ func relationships(b []byte, dir string) map[string]string {
 // ignoring case, as Excel compares sheet names), or the first worksheet
 // in tab order.
 func (wb *workbook) sheet(name string) (sheetRef, error) {
-	list := wb.f.GetSheetList()
-	var ids []string
-	if wb.f.WorkBook != nil {
-		for _, s := range wb.f.WorkBook.Sheets.Sheet {
-			ids = append(ids, s.ID)
-		}
+	list := make([]string, len(wb.sheets))
+	for i, s := range wb.sheets {
+		list[i] = s.name
 	}
-	partOf := func(i int) string {
-		if i < len(ids) {
-			return wb.rels[ids[i]]
-		}
-		return ""
-	}
+	partOf := func(i int) string { return wb.rels[wb.sheets[i].id] }
 	isWorksheet := func(p string) bool {
-		return p != "" && pkgPart(wb.f, p) != nil && !strings.Contains(p, "chartsheets/") && !strings.Contains(p, "dialogsheets/") && !strings.Contains(p, "macrosheets/")
+		return p != "" && wb.hasPart(p) && !strings.Contains(p, "chartsheets/") && !strings.Contains(p, "dialogsheets/") && !strings.Contains(p, "macrosheets/")
 	}
 	if name == "" {
 		for i, s := range list {
@@ -411,9 +349,9 @@ func (wb *workbook) sharedStrings() error {
 	if name == "" {
 		name = "xl/sharedStrings.xml"
 	}
-	b := pkgPart(wb.f, name)
+	b, err := wb.part(name)
 	if b == nil {
-		return nil
+		return err
 	}
 	d := xml.NewDecoder(bytes.NewReader(b))
 	var text []byte
@@ -499,8 +437,8 @@ func quoteSheet(name string) string {
 
 // cellRef is the reference of a cell: Sheet1!D17.
 func cellRef(sheet string, col, row int) string {
-	c, err := excelize.ColumnNumberToName(col)
-	if err != nil {
+	c := columnName(col)
+	if c == "" {
 		c = "C" + strconv.Itoa(col)
 	}
 	return quoteSheet(sheet) + "!" + c + strconv.Itoa(row)

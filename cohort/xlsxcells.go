@@ -11,8 +11,6 @@ import (
 	"strconv"
 	"strings"
 	"time"
-
-	"github.com/xuri/excelize/v2"
 )
 
 // cellKind is what a cell holds, by its type and style.
@@ -47,19 +45,17 @@ const (
 	timeOnly
 )
 
-// maxCol and maxRow are the largest column and row a worksheet has.
-const (
-	maxCol = excelize.MaxColumns
-	maxRow = excelize.TotalRows
-)
-
 // rows streams the sheet's rows in order, calling fn with each row's
 // number and its cells in column order (the slice is reused). A cell or
 // row out of order, a reference beyond the sheet's size or XML that is
 // not well formed is an error of kind ErrFormat.
 func (wb *workbook) rows(ctx context.Context, sh sheetRef, fn func(row int, cells []xcell) error) error {
-	data := pkgPart(wb.f, sh.part)
-	d := xml.NewDecoder(bytes.NewReader(data))
+	src, done, err := wb.reader(sh.part)
+	if err != nil {
+		return err
+	}
+	defer done()
+	d := xml.NewDecoder(src)
 	bad := func(row, col int, format string, args ...any) error {
 		e := &Error{File: wb.path, Msg: fmt.Sprintf(format, args...), Kind: ErrFormat}
 		if row > 0 && col > 0 {
@@ -137,7 +133,7 @@ func (wb *workbook) rows(ctx context.Context, sh sheetRef, fn func(row int, cell
 				}
 				next := col + 1
 				if a := attr(t, "r"); a != "" {
-					c, r, err := excelize.CellNameToCoordinates(a)
+					c, r, err := cellCoordinates(a)
 					if err != nil || r != row {
 						return bad(row, 0, "a cell referenced %s in row %d", Quote(a), row)
 					}
@@ -322,24 +318,6 @@ func textCell(s string) xcell {
 	return xcell{kind: cellText, text: s}
 }
 
-// dateKind is how the cell style with index style shows numbers, from
-// its number format (cached per style).
-func (wb *workbook) dateKind(style int) dateKind {
-	if k, ok := wb.styles[style]; ok {
-		return k
-	}
-	k := notDate
-	if st, err := wb.f.GetStyle(style); err == nil && st != nil {
-		code := ""
-		if st.CustomNumFmt != nil {
-			code = *st.CustomNumFmt
-		}
-		k = numFmtKind(st.NumFmt, code)
-	}
-	wb.styles[style] = k
-	return k
-}
-
 // numFmtKind is how a number format shows numbers. The built-in formats
 // are those ECMA-376 Part 1, §18.8.30 lists as dates and times (and the
 // East Asian ones Excel adds, 27–36 and 50–58); 46, [h]:mm:ss, is a
@@ -421,11 +399,7 @@ func (wb *workbook) dateText(x float64, k dateKind) (string, bool) {
 	if !(x >= 0 && x < 2958466) {
 		return "", false
 	}
-	t, err := excelize.ExcelDateToTime(x, wb.date1904)
-	if err != nil {
-		return "", false
-	}
-	t = t.Round(time.Second)
+	t := serialTime(x, wb.date1904).Round(time.Second)
 	switch k {
 	case dateOnly:
 		return t.Format(time.DateOnly), true
@@ -563,8 +537,7 @@ func (b *sheetFrame) row(row int, cells []xcell) error {
 }
 
 func (b *sheetFrame) colName(col int) string {
-	s, _ := excelize.ColumnNumberToName(col)
-	return s
+	return columnName(col)
 }
 
 func (b *sheetFrame) makeHeader(row int, cells []xcell) error {

@@ -5,57 +5,8 @@ import (
 	"context"
 	"fmt"
 	"math"
-	"strconv"
 	"strings"
-
-	"github.com/xuri/excelize/v2"
 )
-
-// AppendWorkbook returns the workbook the frame was read from with
-// columns added to the sheet read, right of the header's last column:
-// names[k] in the header row and values[k] on each data row's sheet
-// row as a number (the shortest decimal that reads back exactly, as
-// AppendCSV writes it), empty where a value is NaN. Every other sheet and cell is kept as
-// excelize writes it back (values, formulas, styles, merged cells). The
-// file is read again, never written; the caller writes the result.
-func (f *Frame) AppendWorkbook(names []string, values [][]float64) (out []byte, err error) {
-	if f.Sheet == "" {
-		return nil, fmt.Errorf("cohort: AppendWorkbook needs a frame read from a workbook")
-	}
-	defer recoverWorkbook(f.File, &err)
-	wb, err := openWorkbook(f.File)
-	if err != nil {
-		return nil, err
-	}
-	defer wb.close()
-	last := f.firstCol + len(f.Header) - 1
-	for k, name := range names {
-		if len(values[k]) != f.Rows {
-			return nil, fmt.Errorf("cohort: %d values for column %q of a frame of %d rows", len(values[k]), name, f.Rows)
-		}
-		col := last + 1 + k
-		ref, _ := excelize.CoordinatesToCellName(col, f.headerRow)
-		if err := wb.f.SetCellStr(f.Sheet, ref, name); err != nil {
-			return nil, workbookError(f.File, err)
-		}
-		for i, v := range values[k] {
-			if math.IsNaN(v) {
-				continue
-			}
-			ref, _ := excelize.CoordinatesToCellName(col, f.Line(i))
-			// SetCellFloat would round to Excel's 15 significant digits;
-			// the shortest decimal that reads back exactly is stored.
-			if err := wb.f.SetCellDefault(f.Sheet, ref, strconv.FormatFloat(v, 'g', -1, 64)); err != nil {
-				return nil, workbookError(f.File, err)
-			}
-		}
-	}
-	buf, err := wb.f.WriteToBuffer()
-	if err != nil {
-		return nil, &Error{File: f.File, Msg: "cannot write the scored workbook: " + err.Error(), Kind: ErrFormat, Err: err}
-	}
-	return buf.Bytes(), nil
-}
 
 // WorkbookCSV returns the sheet the frame was read from as delimited
 // text: the header and every data row the frame holds, each cell as

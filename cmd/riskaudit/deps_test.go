@@ -13,6 +13,9 @@ import (
 // framework (Arrow Flight over gRPC, with protobuf), which cost about
 // half of the start-up time; the Parquet reader and writer use the
 // library's column readers and writers instead (cohort/parquetread.go).
+// Workbooks are read and written with archive/zip and encoding/xml
+// (cohort/xlsxpkg.go), not excelize, whose formula, number-format and
+// legacy-format packages initialised large tables at every start.
 func TestBinaryDependencies(t *testing.T) {
 	if testing.Short() {
 		t.Skip("runs go list")
@@ -34,6 +37,11 @@ func TestBinaryDependencies(t *testing.T) {
 		"google.golang.org/protobuf",
 		"github.com/apache/arrow-go/v18/arrow/flight",
 		"github.com/apache/arrow-go/v18/parquet/pqarrow",
+		"github.com/xuri/excelize",
+		"github.com/xuri/efp",
+		"github.com/xuri/nfp",
+		"github.com/richardlehane/mscfb",
+		"github.com/richardlehane/msoleps",
 	}
 	for _, d := range deps {
 		for _, f := range forbidden {

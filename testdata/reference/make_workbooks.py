@@ -1,6 +1,6 @@
 """Writes the Excel workbooks of testdata/reference/xlsx with openpyxl
-(Debian's python3-openpyxl), a writer independent of riskaudit and of the
-excelize library it opens workbooks with, and beside each the values a
+(Debian's python3-openpyxl), a writer independent of riskaudit's own
+workbook reader (archive/zip and encoding/xml), and beside each the values a
 reader must find in it, from the Python values given to the writer:
 
   wdbc.xlsx, wdbc.csv    the Wisconsin rows (testdata/open/wdbc.csv) with an
