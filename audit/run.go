@@ -45,7 +45,7 @@ type Result struct {
 func (r *Result) Passed() bool { return r.Audit.Verdict.Passed() }
 
 // LargeCohort is the number of rows from which Config.GCPercent applies.
-const LargeCohort = 2_000_000
+const LargeCohort = 500_000
 
 // Run audits the model on the cohort as cfg says, and returns the
 // result; it writes nothing (see Write and RecordHistory). An audit that

@@ -191,10 +191,9 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input, audited 
 			return nil, err
 		}
 	} else {
-		if sc.lp, err = d.FrozenLinearPredictors(m); err != nil {
+		if sc.lp, sc.p, err = d.FrozenScores(m); err != nil {
 			return nil, err
 		}
-		sc.p = model.Risks(sc.lp)
 	}
 	if pv := spec.Provenance; pv != nil && pv.DataSHA256 == sc.hash && sc.hash != "" {
 		sc.isDevFit = true

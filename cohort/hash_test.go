@@ -5,6 +5,8 @@ import (
 	"encoding/hex"
 	"os"
 	"path/filepath"
+	"strconv"
+	"strings"
 	"testing"
 )
 
@@ -50,5 +52,46 @@ func TestHashFile(t *testing.T) {
 				t.Errorf("FileSHA256 = %s without HashFile", fr.FileSHA256)
 			}
 		})
+	}
+}
+
+// TestHashMappedDropped loads a mapped CSV file large enough for the
+// parser to drop the pages it has read while the hash is taken (2 MB,
+// two workers, a byte-order mark shifting the parser's offsets): the
+// hash must still be crypto/sha256's of the whole file and every value
+// strconv.ParseFloat's of its text.
+func TestHashMappedDropped(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("\xef\xbb\xbfx,g\n")
+	var want []float64
+	for i := 0; b.Len() < 2<<20; i++ {
+		s := strconv.FormatFloat(float64(i)*0.37-1000, 'f', -1, 64)
+		v, err := strconv.ParseFloat(s, 64)
+		if err != nil {
+			t.Fatal(err)
+		}
+		want = append(want, v)
+		b.WriteString(s + ",a\n")
+	}
+	path := filepath.Join(t.TempDir(), "big.csv")
+	if err := os.WriteFile(path, []byte(b.String()), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	fr, err := Load(path, []Request{{Name: "x", Kind: Numeric}}, Options{HashFile: true, Workers: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	sum := sha256.Sum256([]byte(b.String()))
+	if got := hex.EncodeToString(sum[:]); fr.FileSHA256 != got {
+		t.Errorf("FileSHA256 = %s, crypto/sha256 of the file %s", fr.FileSHA256, got)
+	}
+	x := fr.Column("x").Num
+	if len(x) != len(want) {
+		t.Fatalf("%d rows, the file has %d", len(x), len(want))
+	}
+	for i := range want {
+		if x[i] != want[i] {
+			t.Fatalf("row %d: %v, strconv.ParseFloat %v", i, x[i], want[i])
+		}
 	}
 }

@@ -323,11 +323,12 @@ func load(ctx context.Context, path string, reqs []Request, opt Options) (*Frame
 	}
 	var data []byte
 	var err error
+	isMap := false
 	release := func() {}
 	if opt.KeepRecords {
 		data, err = os.ReadFile(path)
 	} else {
-		data, release, err = mapFile(path)
+		data, isMap, release, err = mapFile(path)
 	}
 	if err != nil {
 		var pe *os.PathError
@@ -338,14 +339,25 @@ func load(ctx context.Context, path string, reqs []Request, opt Options) (*Frame
 		return nil, &Error{File: path, Msg: "cannot read file: " + msg, Kind: ErrRead, Err: err}
 	}
 	defer release()
+	var mp *mapped
+	if isMap {
+		mp = newMapped(data, opt.HashFile)
+	}
 	if !opt.HashFile {
-		return parse(ctx, path, data, reqs, opt)
+		return parse(ctx, path, data, reqs, opt, mp)
 	}
 	// The parse and the hash read the same bytes (the mapping's pages
-	// are faulted in once), on their own goroutines.
+	// are faulted in once), on their own goroutines; the parser drops
+	// the pages both have read.
 	sum := make(chan [sha256.Size]byte, 1)
-	go func() { sum <- sha256.Sum256(data) }()
-	fr, err := parse(ctx, path, data, reqs, opt)
+	go func() {
+		if mp != nil {
+			sum <- mp.sum()
+			return
+		}
+		sum <- sha256.Sum256(data)
+	}()
+	fr, err := parse(ctx, path, data, reqs, opt, mp)
 	s := <-sum
 	if err != nil {
 		return nil, err
@@ -357,14 +369,17 @@ func load(ctx context.Context, path string, reqs []Request, opt Options) (*Frame
 // Parse reads the requested columns from data, the contents of a file
 // named name. The frame may refer to data, which must not be changed.
 func Parse(name string, data []byte, reqs []Request, opt Options) (*Frame, error) {
-	return parse(context.Background(), name, data, reqs, opt)
+	return parse(context.Background(), name, data, reqs, opt, nil)
 }
 
-func parse(ctx context.Context, name string, data []byte, reqs []Request, opt Options) (*Frame, error) {
+func parse(ctx context.Context, name string, data []byte, reqs []Request, opt Options, mp *mapped) (*Frame, error) {
 	if msg := notText(data); msg != "" {
 		return nil, &Error{File: name, Msg: msg, Kind: ErrFormat}
 	}
 	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
+	if mp != nil {
+		mp.shift = len(mp.m) - len(data)
+	}
 	if len(bytes.TrimSpace(data)) == 0 {
 		return nil, &Error{File: name, Msg: "file is empty", Kind: ErrEmpty}
 	}
@@ -392,7 +407,7 @@ func parse(ctx context.Context, name string, data []byte, reqs []Request, opt Op
 	}
 	p := parser{
 		ctx: ctx, name: name, ncol: len(header), plan: plan, nreq: len(reqs), delim: delim,
-		missing: opt.Missing, dec: '.', keep: opt.KeepRecords,
+		missing: opt.Missing, dec: '.', keep: opt.KeepRecords, mp: mp,
 		header: header, kinds: make([]Kind, len(header)), nanErr: make([]bool, len(header)),
 	}
 	for i, k := range plan {

@@ -25,6 +25,9 @@ type parser struct {
 	header  []string
 	kinds   []Kind // by header position
 	nanErr  []bool // by header position
+	// mp, when the data is a mapped file, takes back the pages each
+	// worker has read (nil otherwise).
+	mp *mapped
 }
 
 // part is what one worker parsed from one stretch of the file. Its slices
@@ -189,7 +192,9 @@ func (p *parser) parse(sc *scanner, pt *part) {
 		}
 	}
 	row := 0
+	freed := sc.pos
 	defer func() {
+		p.mp.release(freed, sc.pos)
 		pt.lines = lines[:row]
 		for k := range nums {
 			if pt.num[k] != nil {
@@ -209,9 +214,12 @@ func (p *parser) parse(sc *scanner, pt *part) {
 		if !ok {
 			return
 		}
-		if row&0xffff == 0 && p.ctx.Err() != nil {
-			pt.err = p.ctx.Err()
-			return
+		if row&0xffff == 0 {
+			if p.ctx.Err() != nil {
+				pt.err = p.ctx.Err()
+				return
+			}
+			freed = p.mp.release(freed, sc.pos)
 		}
 		if len(sc.fields) != p.ncol {
 			pt.err = &Error{File: p.name, Line: line,

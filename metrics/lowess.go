@@ -412,14 +412,20 @@ func FlexibleCalibration(s Sorted, opt LowessOptions) CalibrationCurve {
 	xs := s.p
 	cc := CalibrationCurve{Curve: lowess(xs, s.y, opt, nil)}
 	cc.Clipped = ClipRisks(cc.Curve.Fit)
+	// Emax is taken as the distances are, rather than by a selection of
+	// the largest afterwards (another pass over the rows).
 	diff := make([]float64, len(xs))
+	cc.Emax = math.NaN()
 	for i, v := range xs {
-		diff[i] = math.Abs(v - cc.Curve.Fit[i])
+		d := math.Abs(v - cc.Curve.Fit[i])
+		diff[i] = d
+		if i == 0 || d > cc.Emax {
+			cc.Emax = d
+		}
 	}
 	cc.ICI = mean(diff)
 	cc.E50 = quantileSelect(diff, 0.5)
 	cc.E90 = quantileSelect(diff, 0.9)
-	cc.Emax = quantileSelect(diff, 1)
 	return cc
 }
 

@@ -80,7 +80,8 @@ func (s Sorted) Y() []float64 { return s.y }
 func (s Sorted) P() []float64 { return s.p }
 
 // SortedOrder returns the row indices ordered by p, ties kept in row
-// order (a stable sort). p must hold no NaN; −0 sorts before +0.
+// order (a stable sort). p must hold no NaN; −0 sorts before +0 (as in
+// IEEE 754's totalOrder), whatever the number of rows.
 //
 // Large inputs are sorted by a least-significant-digit radix sort on the
 // IEEE-754 bit patterns (mapped so that unsigned order is numeric order),
@@ -96,6 +97,19 @@ func SortedOrder(p []float64) []int {
 // callers that already run one sort per core.
 func SortedOrderSerial(p []float64) []int {
 	return widen(sortedIdx(p, false))
+}
+
+// SortedOrder32 is SortedOrder as 32-bit indices, half the memory of
+// ints, for a caller that only reads them (p must have fewer than 2³¹
+// rows).
+func SortedOrder32(p []float64) []int32 {
+	return sortedIdx(p, true)
+}
+
+// compareKeys orders two values as the sorts do: by their radix keys,
+// numeric order with −0 before +0.
+func compareKeys(a, b float64) int {
+	return cmp.Compare(radixKey(a), radixKey(b))
 }
 
 // widen returns the indices of idx as ints.
@@ -120,7 +134,7 @@ func sortedIdx(p []float64, parallel bool) []int32 {
 		for i := range idx {
 			idx[i] = int32(i)
 		}
-		slices.SortStableFunc(idx, func(a, b int32) int { return cmp.Compare(p[a], p[b]) })
+		slices.SortStableFunc(idx, func(a, b int32) int { return compareKeys(p[a], p[b]) })
 		return idx
 	}
 	const bits, buckets, passes = 11, 1 << 11, 6
@@ -149,6 +163,7 @@ func sortedIdx(p []float64, parallel bool) []int32 {
 		}(h)
 	}
 	wg.Wait()
+	last := lastPass(n, func(d, b int) int { return hist[0][d][b] + hist[1][d][b] })
 	tk, ti := make([]uint64, n), make([]int32, n)
 	for d := 0; d < passes; d++ {
 		h0, h1 := &hist[0][d], &hist[1][d]
@@ -182,6 +197,15 @@ func sortedIdx(p []float64, parallel bool) []int32 {
 				if h == 1 {
 					off, lo, hi = h1, half, n
 				}
+				if d == last {
+					// No pass reads the keys after this one.
+					for j := lo; j < hi; j++ {
+						b := (keys[j] >> shift) & (buckets - 1)
+						ti[off[b]] = idx[j]
+						off[b]++
+					}
+					return
+				}
 				for j := lo; j < hi; j++ {
 					k := keys[j]
 					b := (k >> shift) & (buckets - 1)
@@ -196,6 +220,24 @@ func sortedIdx(p []float64, parallel bool) []int32 {
 		idx, ti = ti, idx
 	}
 	return idx
+}
+
+// lastPass is the last of the radix sort's six passes that moves the
+// keys, −1 when none does: a pass is skipped when every one of the n
+// keys has the same digit, count(d, b) being the number of keys whose
+// digit in pass d is b.
+func lastPass(n int, count func(d, b int) int) int {
+	const buckets, passes = 1 << 11, 6
+	for d := passes - 1; d >= 0; d-- {
+		same := false
+		for b := 0; b < buckets && !same; b++ {
+			same = count(d, b) == n
+		}
+		if !same {
+			return d
+		}
+	}
+	return -1
 }
 
 // recount sets the bucket offsets of both halves for the digit at shift
@@ -240,7 +282,7 @@ func (s *Sorter) Order(p []float64) []int32 {
 		for i := range idx {
 			idx[i] = int32(i)
 		}
-		slices.SortStableFunc(idx, func(a, b int32) int { return cmp.Compare(p[a], p[b]) })
+		slices.SortStableFunc(idx, func(a, b int32) int { return compareKeys(p[a], p[b]) })
 		return idx
 	}
 	return s.radix(p)
@@ -270,6 +312,7 @@ func (s *Sorter) radix(p []float64) []int32 {
 			hist[d][(k>>(d*bits))&(buckets-1)]++
 		}
 	}
+	last := lastPass(n, func(d, b int) int { return hist[d][b] })
 	tk, ti := s.tk[:n], s.ti[:n]
 	for d := 0; d < passes; d++ {
 		h := &hist[d]
@@ -288,6 +331,16 @@ func (s *Sorter) radix(p []float64) []int32 {
 			continue
 		}
 		shift := d * bits
+		if d == last {
+			// No pass reads the keys after this one.
+			for j, k := range keys {
+				b := (k >> shift) & (buckets - 1)
+				ti[h[b]] = idx[j]
+				h[b]++
+			}
+			idx, ti = ti, idx
+			break
+		}
 		for j, k := range keys {
 			b := (k >> shift) & (buckets - 1)
 			tk[h[b]], ti[h[b]] = k, idx[j]

@@ -40,6 +40,41 @@ func (d *Design) FrozenLinearPredictors(m *Matrix) ([]float64, error) {
 	return lp, nil
 }
 
+// FrozenScores is FrozenLinearPredictors with the risks as well, the
+// risk of each row (logistic.Expit of its linear predictor, as Risks
+// computes it) taken as its linear predictor is summed, on the same
+// goroutines, rather than in a second pass over the rows. Its errors are
+// FrozenLinearPredictors'.
+func (d *Design) FrozenScores(m *Matrix) (lp, p []float64, err error) {
+	beta, err := d.Coefficients()
+	if err != nil {
+		return nil, nil, err
+	}
+	if m.X != nil {
+		if lp, err = d.FrozenLinearPredictors(m); err != nil {
+			return nil, nil, err
+		}
+		return lp, Risks(lp), nil
+	}
+	lp, p = make([]float64, m.N), make([]float64, m.N)
+	err = d.eachRow(m, false, func(r int, x []float64) {
+		eta := 0.0
+		for j, b := range beta {
+			eta += x[j] * b
+		}
+		lp[r], p[r] = eta, logistic.Expit(eta)
+	})
+	if err != nil {
+		return nil, nil, err
+	}
+	for r, v := range lp {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, nil, d.overflow(m, beta, r, v)
+		}
+	}
+	return lp, p, nil
+}
+
 // ErrLPOverflow is the kind of the *SpecError for a frozen model whose
 // linear predictor is not finite for some row (FrozenLinearPredictors).
 var ErrLPOverflow = errors.New("model: the linear predictor overflows")

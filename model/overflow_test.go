@@ -49,6 +49,17 @@ func TestFrozenLPOverflow(t *testing.T) {
 					t.Fatal(err)
 				}
 				lp, err := d.FrozenLinearPredictors(m)
+				// FrozenScores gives the same linear predictors or the
+				// same error, with each risk 1/(1 + e^−lp) (math.Exp).
+				slp, sp, serr := d.FrozenScores(m)
+				if fmt.Sprint(serr) != fmt.Sprint(err) {
+					t.Errorf("FrozenScores: error %v, FrozenLinearPredictors %v", serr, err)
+				}
+				for r := range lp {
+					if slp[r] != lp[r] || sp[r] != 1/(1+math.Exp(-lp[r])) {
+						t.Errorf("FrozenScores row %d: lp %v risk %v, want %v and 1/(1+e^-lp)", r, slp[r], sp[r], lp[r])
+					}
+				}
 				if tc.term == "" {
 					if err != nil {
 						t.Fatal(err)

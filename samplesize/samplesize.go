@@ -489,11 +489,11 @@ func newcombeN(c, phi, q, se float64) float64 {
 // probability that an event's LP exceeds a non-event's, with each point
 // an event with probability p (ties ½).
 //
-// The LP is put in order by metrics.SortedOrder (a radix sort on large
-// samples): a comparison sort of a 1M-row cohort's LP took a third of
-// its whole audit.
+// The LP is put in order by metrics.SortedOrder32 (a radix sort on
+// large samples, 32-bit indices): a comparison sort of a 1M-row cohort's
+// LP took a third of its whole audit.
 func impliedC(lp, p []float64) float64 {
-	idx := metrics.SortedOrder(lp)
+	idx := metrics.SortedOrder32(lp)
 	var below0, total, e1, e0 float64
 	for s := 0; s < len(idx); {
 		e := s
