@@ -275,7 +275,6 @@ type workspace struct {
 	ps, ys []float64 // sorted by risk (original rows, or the sample expanded), 4 spare
 	// nullDev is −2 log-likelihood of the event rate on the original rows.
 	nullDev float64
-	x       []float64 // scratch for the calibration fits
 	order   riskOrder
 	smooth  metrics.LowessWorkspace
 	calib   metrics.CalibrationWorkspace
