@@ -152,16 +152,29 @@ func checkPackage(path string, size int64) (_ *zip.ReadCloser, err error) {
 		return nil, &Error{File: path, Msg: msg, Kind: ErrFormat}
 	}
 	for _, e := range zr.File {
-		r, err := e.Open()
-		if err == nil {
-			_, err = io.Copy(io.Discard, r)
-			r.Close()
-		}
-		if err != nil {
+		if err := checkEntry(e); err != nil {
 			return nil, workbookError(path, fmt.Errorf("part %s: %w", e.Name, err))
 		}
 	}
 	return zr, nil
+}
+
+// checkEntry unpacks a zip entry once, which checks its compressed data,
+// its checksum and its size (archive/zip stops an entry that unpacks to
+// more than its header says, as a zip bomb's does).
+func checkEntry(e *zip.File) error {
+	r, err := e.Open()
+	if err != nil {
+		return err
+	}
+	defer r.Close()
+	if _, err := io.Copy(io.Discard, r); err != nil {
+		if errors.Is(err, zip.ErrFormat) {
+			return fmt.Errorf("it unpacks to more than the %d bytes its zip entry says (a damaged file or a zip bomb)", e.UncompressedSize64)
+		}
+		return err
+	}
+	return nil
 }
 
 // otherPackage names a zip that is not an .xlsx workbook: an
@@ -312,13 +325,16 @@ func (wb *workbook) sheet(name string) (sheetRef, error) {
 	for i, s := range wb.sheets {
 		list[i] = s.name
 	}
-	partOf := func(i int) string { return wb.rels[wb.sheets[i].id] }
 	isWorksheet := func(p string) bool {
-		return p != "" && wb.hasPart(p) && !strings.Contains(p, "chartsheets/") && !strings.Contains(p, "dialogsheets/") && !strings.Contains(p, "macrosheets/")
+		return !strings.Contains(p, "chartsheets/") && !strings.Contains(p, "dialogsheets/") && !strings.Contains(p, "macrosheets/")
 	}
 	if name == "" {
 		for i, s := range list {
-			if p := partOf(i); isWorksheet(p) {
+			p, err := wb.sheetPart(i)
+			if err != nil {
+				return sheetRef{}, err
+			}
+			if isWorksheet(p) {
 				return sheetRef{s, p}, nil
 			}
 		}
@@ -335,11 +351,34 @@ func (wb *workbook) sheet(name string) (sheetRef, error) {
 		}
 		return sheetRef{}, &Error{File: wb.path, Msg: msg + "; sheets present: " + QuoteList(list), Kind: ErrNoColumn}
 	}
-	p := partOf(at)
+	p, err := wb.sheetPart(at)
+	if err != nil {
+		return sheetRef{}, err
+	}
 	if !isWorksheet(p) {
 		return sheetRef{}, &Error{File: wb.path, Msg: "sheet " + Quote(list[at]) + " is not a worksheet (a chart or dialog sheet holds no cells)", Kind: ErrFormat}
 	}
 	return sheetRef{list[at], p}, nil
+}
+
+// sheetPart is the part of the workbook's sheet i, by its relationship:
+// an error names the sheet when the relationship is not there, points
+// outside the package or to a part the package does not have.
+func (wb *workbook) sheetPart(i int) (string, error) {
+	s := wb.sheets[i]
+	p := wb.rels[s.id]
+	var msg string
+	switch {
+	case p == "":
+		msg = fmt.Sprintf("sheet %s: the workbook's relationships (%s) have no %s", Quote(s.name), relsOf(wb.wbPart), Quote(s.id))
+	case p == ".." || strings.HasPrefix(p, "../"):
+		msg = fmt.Sprintf("sheet %s: its relationship %s points outside the package (%s)", Quote(s.name), Quote(s.id), Quote(p))
+	case !wb.hasPart(p):
+		msg = fmt.Sprintf("sheet %s: its part %s is missing from the package", Quote(s.name), p)
+	default:
+		return p, nil
+	}
+	return "", &Error{File: wb.path, Msg: "not a readable " + xlsxFormat + ": " + msg, Kind: ErrFormat}
 }
 
 // sharedStrings reads the workbook's shared string table: the text of

@@ -2,6 +2,7 @@ package cohort
 
 import (
 	"bytes"
+	"cmp"
 	"context"
 	"encoding/xml"
 	"errors"
@@ -261,6 +262,9 @@ func attr(t xml.StartElement, name string) string {
 func (wb *workbook) cell(typ string, style int, v, is []byte, hasF bool) (xcell, error) {
 	if hasF && len(v) == 0 && typ != "str" {
 		return xcell{kind: cellNoValue}, nil
+	}
+	if len(is) > 0 && typ != "inlineStr" {
+		return xcell{}, fmt.Errorf("a cell of type %s holding an inline string %s, which only a cell of type \"inlineStr\" holds", Quote(cmp.Or(typ, "n")), Quote(string(is)))
 	}
 	switch typ {
 	case "", "n":

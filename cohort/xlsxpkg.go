@@ -26,6 +26,7 @@ import (
 type workbook struct {
 	path     string
 	zr       *zip.ReadCloser
+	wbPart   string               // the workbook part's name
 	parts    map[string]*zip.File // by name, and by lower-case name
 	rels     map[string]string    // relationship id → part name, of the workbook part
 	sheets   []sheetEntry
@@ -74,18 +75,25 @@ func (wb *workbook) close() { wb.zr.Close() }
 func (wb *workbook) open() error {
 	for _, e := range wb.zr.File {
 		name := strings.ReplaceAll(e.Name, `\`, "/")
-		if _, dup := wb.parts[name]; !dup {
-			wb.parts[name] = e
+		if !localPartName(name) {
+			return workbookError(wb.path, fmt.Errorf("an entry named %s, outside the package (a part name has no \"..\" segment and is not absolute)", Quote(e.Name)))
 		}
-		if low := "\x00" + strings.ToLower(name); wb.parts[low] == nil {
-			wb.parts[low] = e
+		low := "\x00" + strings.ToLower(name)
+		if prev := wb.parts[low]; prev != nil {
+			names := Quote(e.Name)
+			if prev.Name != e.Name {
+				names = Quote(prev.Name) + " and " + names
+			}
+			return workbookError(wb.path, fmt.Errorf("two entries named %s (part names are unique, ignoring case)", names))
 		}
+		wb.parts[name], wb.parts[low] = e, e
 	}
 	pkgRels, err := wb.part("_rels/.rels")
 	if err != nil {
 		return err
 	}
 	wbPart := officeDocument(pkgRels)
+	wb.wbPart = wbPart
 	rels, err := wb.part(relsOf(wbPart))
 	if err != nil {
 		return err
@@ -102,6 +110,21 @@ func (wb *workbook) open() error {
 		stylesPart = "xl/styles.xml"
 	}
 	return wb.readStyles(stylesPart)
+}
+
+// localPartName reports whether a zip entry's name (with "/" for "\\")
+// stays inside the package: not absolute, no drive letter, no ".."
+// segment (Open Packaging Conventions, ECMA-376 Part 2, §9.1.1.1).
+func localPartName(name string) bool {
+	if strings.HasPrefix(name, "/") || len(name) >= 2 && name[1] == ':' {
+		return false
+	}
+	for seg := range strings.SplitSeq(name, "/") {
+		if seg == ".." {
+			return false
+		}
+	}
+	return true
 }
 
 // errMissingPart is the error of a package without the workbook part or
