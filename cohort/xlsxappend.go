@@ -20,8 +20,9 @@ import (
 // and its dimension when it has one; every other part of the package
 // (other sheets, styles, shared strings, formulas, merged cells) is
 // copied byte for byte. A cell the sheet already had where one is added
-// (an empty cell with a style) is replaced, keeping its style. The file
-// is read again, never written; the caller writes the result.
+// (an empty cell with a style) is replaced, keeping its style unless
+// that shows numbers as dates or times. The file is read again, never
+// written; the caller writes the result.
 func (f *Frame) AppendWorkbook(names []string, values [][]float64) (out []byte, err error) {
 	if f.Sheet == "" {
 		return nil, fmt.Errorf("cohort: AppendWorkbook needs a frame read from a workbook")
@@ -45,7 +46,7 @@ func (f *Frame) AppendWorkbook(names []string, values [][]float64) (out []byte, 
 	if err != nil {
 		return nil, err
 	}
-	sp := &sheetSplice{f: f, names: names, values: values, data: data, last: f.firstCol + len(f.Header) - 1}
+	sp := &sheetSplice{wb: wb, f: f, names: names, values: values, data: data, last: f.firstCol + len(f.Header) - 1}
 	sheet, err := sp.splice()
 	if err != nil {
 		return nil, &Error{File: f.File, Msg: fmt.Sprintf("cannot add the columns to sheet %s: %v", Quote(f.Sheet), err), Kind: ErrFormat, Err: err}
@@ -88,6 +89,7 @@ func (wb *workbook) writeError(err error) error {
 // found with encoding/xml's byte offsets and the output is the input
 // with cells inserted (and replaced) in them.
 type sheetSplice struct {
+	wb     *workbook
 	f      *Frame
 	names  []string
 	values [][]float64
@@ -233,7 +235,7 @@ func (sp *sheetSplice) writeRow(row, i, pos, tagEnd, end int, cells []spliceCell
 	}
 	sp.write(insert)
 	for _, c := range cells {
-		if c.col > sp.last && c.col <= newLast {
+		if c.col > sp.last && c.col <= newLast && !sp.dateStyle(c.style) {
 			styles[c.col-sp.last-1] = c.style
 		}
 	}
@@ -249,6 +251,14 @@ func (sp *sheetSplice) writeRow(row, i, pos, tagEnd, end int, cells []spliceCell
 	if selfClosing {
 		sp.out.WriteString("</" + name + ">")
 	}
+}
+
+// dateStyle reports whether the cell style s shows numbers as dates or
+// times: a new cell does not keep it, as its value would show, and read
+// back, as a date.
+func (sp *sheetSplice) dateStyle(s string) bool {
+	n, err := strconv.Atoi(s)
+	return err == nil && sp.wb.dateKind(n) != notDate
 }
 
 // write writes the input up to byte at.
