@@ -4,6 +4,7 @@ import (
 	"archive/zip"
 	"bytes"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"testing"
@@ -103,4 +104,100 @@ func BenchmarkLoadXLSX100k(b *testing.B) {
 			b.Fatal(err)
 		}
 	}
+}
+
+// FuzzAppendWorkbook: whenever a sheet is read, the workbook with two
+// columns added to it reads back with every column it had, cell for
+// cell on the same rows, and the new columns holding the values given
+// (NaN as empty). Each input is the XML of the seed workbook's first
+// sheet; the seeds are that sheet and the unusual sheet of
+// TestAppendWorkbookOddOpenpyxl.
+func FuzzAppendWorkbook(f *testing.F) {
+	seed, err := os.ReadFile(filepath.Join(seedDir, "small.xlsx"))
+	if err != nil {
+		f.Fatal(err)
+	}
+	zr, err := zip.NewReader(bytes.NewReader(seed), int64(len(seed)))
+	if err != nil {
+		f.Fatal(err)
+	}
+	for _, e := range zr.File {
+		if e.Name == "xl/worksheets/sheet1.xml" {
+			r, _ := e.Open()
+			b, _ := io.ReadAll(r)
+			r.Close()
+			f.Add(b)
+		}
+	}
+	for _, e := range oddWorkbook() {
+		if e.name == "xl/worksheets/sheet2.xml" {
+			f.Add([]byte(e.data))
+		}
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		path := filepath.Join(t.TempDir(), "in.xlsx")
+		if err := os.WriteFile(path, withSheet(t, seed, data), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		fr0, err := Load(path, nil, Options{Format: "xlsx"})
+		if err != nil {
+			return
+		}
+		var reqs []Request
+		for i, h := range fr0.Header {
+			if h != "" && index(fr0.Header, h) == i {
+				reqs = append(reqs, Request{Name: h, Kind: Categorical})
+			}
+		}
+		fr, err := Load(path, reqs, Options{Format: "xlsx"})
+		if err != nil {
+			t.Fatalf("read with no columns, not with all: %v", err)
+		}
+		names := []string{"fuzz appended lp", "fuzz appended risk"}
+		vals := [][]float64{make([]float64, fr.Rows), make([]float64, fr.Rows)}
+		for i := range fr.Rows {
+			vals[0][i], vals[1][i] = float64(i)+0.25, 1/float64(i+3)
+			if i%3 == 1 {
+				vals[1][i] = math.NaN()
+			}
+		}
+		out, err := fr.AppendWorkbook(names, vals)
+		if err != nil {
+			t.Fatalf("a sheet read but not appended to: %v", err)
+		}
+		scored := filepath.Join(filepath.Dir(path), "scored.xlsx")
+		if err := os.WriteFile(scored, out, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		back, err := Load(scored, append(reqs, Request{Name: names[0]}, Request{Name: names[1]}), Options{Format: "xlsx"})
+		if err != nil {
+			t.Fatalf("the scored workbook does not read back: %v", err)
+		}
+		if back.Rows != fr.Rows {
+			t.Fatalf("%d rows read back, want %d", back.Rows, fr.Rows)
+		}
+		for i := range fr.Rows {
+			if back.Line(i) != fr.Line(i) {
+				t.Fatalf("row %d on sheet row %d, was %d", i, back.Line(i), fr.Line(i))
+			}
+			for k, c := range fr.Columns {
+				if got, want := levelOf(back.Columns[k], i), levelOf(c, i); got != want {
+					t.Fatalf("column %s row %d: %q, was %q", c.Name, i, got, want)
+				}
+			}
+			for k := range names {
+				if g, w := back.Columns[len(reqs)+k].Num[i], vals[k][i]; g != w && !(math.IsNaN(g) && math.IsNaN(w)) {
+					t.Fatalf("new column %s row %d: %v, want %v", names[k], i, g, w)
+				}
+			}
+		}
+	})
+}
+
+// levelOf is row i's text in a categorical column, "\x00" when missing.
+func levelOf(c *Column, i int) string {
+	if c.Codes[i] < 0 {
+		return "\x00"
+	}
+	return c.Levels[c.Codes[i]]
 }
