@@ -285,10 +285,11 @@ func (wb *workbook) cell(typ string, style int, v, is []byte, hasF bool) (xcell,
 		return xcell{kind: cellNumber, num: x, text: string(v)}, nil
 	case "s":
 		i, err := strconv.Atoi(strings.TrimSpace(string(v)))
-		if err != nil || i < 0 || i >= len(wb.sst) {
-			return xcell{}, fmt.Errorf("a shared string %s that the workbook's table (%d strings) does not have", Quote(string(v)), len(wb.sst))
+		s, ok := wb.sharedString(i)
+		if err != nil || !ok {
+			return xcell{}, fmt.Errorf("a shared string %s that the workbook's table (%d strings) does not have", Quote(string(v)), len(wb.sstEnd))
 		}
-		return textCell(wb.sst[i]), nil
+		return textCell(s), nil
 	case "inlineStr":
 		return textCell(string(is)), nil
 	case "str":
@@ -552,7 +553,7 @@ func (b *sheetFrame) makeHeader(row int, cells []xcell) error {
 		case cellNoValue:
 			return &Error{File: b.wb.path, Cell: b.ref(c.col, row), Msg: "a header cell with a formula the workbook holds no value for", Kind: ErrFormat}
 		}
-		header[c.col-b.first] = strings.TrimSpace(c.textValue())
+		header[c.col-b.first] = strings.Clone(strings.TrimSpace(c.textValue()))
 	}
 	renamed := RenameHeader(header, b.opt.Rename)
 	if err := checkHeader(b.wb.path, row, header); err != nil {
@@ -637,6 +638,8 @@ func (b *sheetFrame) put(k int, col *Column, c xcell, row int) error {
 		}
 		code, ok := b.levels[k][s]
 		if !ok {
+			// A copy: s may be part of the shared strings' text.
+			s = strings.Clone(s)
 			code = int32(len(col.Levels))
 			b.levels[k][s] = code
 			col.Levels = append(col.Levels, s)

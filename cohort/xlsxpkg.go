@@ -30,7 +30,8 @@ type workbook struct {
 	parts    map[string]*zip.File // by name, and by lower-case name
 	rels     map[string]string    // relationship id → part name, of the workbook part
 	sheets   []sheetEntry
-	sst      []string
+	sstText  string   // the shared strings, end to end
+	sstEnd   []uint32 // the end of each shared string in sstText
 	date1904 bool
 	xfFmt    []int          // number format id of each cell style (−1: none)
 	fmtCode  map[int]string // custom number format codes by id
