@@ -5,10 +5,12 @@ import (
 	"bufio"
 	"bytes"
 	"encoding/xml"
+	"errors"
 	"fmt"
 	"io"
 	"os"
 	"path"
+	"strconv"
 	"strings"
 )
 
@@ -188,20 +190,15 @@ func (wb *workbook) reader(name string) (r io.Reader, done func(), err error) {
 	return bufio.NewReaderSize(io.LimitReader(rc, wb.limit), 64<<10), func() { rc.Close() }, nil
 }
 
-// xmlWorkbook is what the workbook part says that is read: the date
-// system and the sheets in tab order.
-type xmlWorkbook struct {
-	Pr *struct {
-		Date1904 bool `xml:"date1904,attr"`
-	} `xml:"workbookPr"`
-	Sheets []struct {
-		Name string `xml:"name,attr"`
-		ID   string `xml:"id,attr"` // r:id
-	} `xml:"sheets>sheet"`
-}
+// maxSheets is the most sheets a workbook part may list. Excel's own
+// limit is the memory at hand; the bound keeps a hostile workbook part
+// (256 MiB of empty sheet elements unpack from a zip of 300 KB) from
+// taking gigabytes.
+const maxSheets = 1 << 16
 
-// readWorkbookPart reads the sheets and the date system of the
-// workbook part.
+// readWorkbookPart reads the sheets and the date system of the workbook
+// part: the date1904 attribute of its workbookPr and the sheet elements
+// of its sheets, children of the root element, matched by local names.
 func (wb *workbook) readWorkbookPart(name string) error {
 	b, err := wb.part(name)
 	if err != nil {
@@ -210,15 +207,56 @@ func (wb *workbook) readWorkbookPart(name string) error {
 	if len(bytes.TrimSpace(b)) == 0 {
 		return errMissingPart(wb.path)
 	}
-	var x xmlWorkbook
-	if err := xml.Unmarshal(b, &x); err != nil {
-		return workbookError(wb.path, fmt.Errorf("part %s: %w", name, err))
+	fail := func(err error) error { return workbookError(wb.path, fmt.Errorf("part %s: %w", name, err)) }
+	d := xml.NewDecoder(bytes.NewReader(b))
+	for depth, inSheets := 0, false; ; {
+		tok, err := d.Token()
+		if err == io.EOF && depth == 0 {
+			return fail(errors.New("no root element"))
+		}
+		if err != nil {
+			return fail(err)
+		}
+		switch t := tok.(type) {
+		case xml.StartElement:
+			depth++
+			switch {
+			case depth == 2 && t.Name.Local == "workbookPr":
+				if v, ok := lastAttr(t, "date1904"); ok {
+					if wb.date1904, err = strconv.ParseBool(strings.TrimSpace(v)); err != nil {
+						return fail(err)
+					}
+				}
+			case depth == 2 && t.Name.Local == "sheets":
+				inSheets = true
+			case depth == 3 && inSheets && t.Name.Local == "sheet":
+				if len(wb.sheets) == maxSheets {
+					return fail(fmt.Errorf("it lists more than %d sheets", maxSheets))
+				}
+				n, _ := lastAttr(t, "name")
+				id, _ := lastAttr(t, "id")
+				wb.sheets = append(wb.sheets, sheetEntry{n, id})
+			}
+		case xml.EndElement:
+			if depth--; depth == 0 {
+				return nil // the root element's end: what follows is not read
+			}
+			if depth == 1 {
+				inSheets = false
+			}
+		}
 	}
-	wb.date1904 = x.Pr != nil && x.Pr.Date1904
-	for _, s := range x.Sheets {
-		wb.sheets = append(wb.sheets, sheetEntry{s.Name, s.ID})
+}
+
+// lastAttr is the value of the element's last attribute of that local
+// name, in any namespace (r:id is the id of a sheet).
+func lastAttr(t xml.StartElement, local string) (v string, ok bool) {
+	for _, a := range t.Attr {
+		if a.Name.Local == local {
+			v, ok = a.Value, true
+		}
 	}
-	return nil
+	return v, ok
 }
 
 // xmlStyles is what the styles part says that is read: the custom
