@@ -166,6 +166,8 @@ func TestXLSXHostile(t *testing.T) {
 			"xl/worksheets/sheet1.xml": sheetOf(header + `<row r="2"><c r="A2" t="s"><v>1048575</v></c></row>`)})), ``},
 		{"many-sheets", zipBytes(t, minimalPackage(map[string]string{"xl/workbook.xml": `<workbook ` + nsMain + `><sheets>` + strings.Repeat(`<sheet name="s" r:id="rId1"/>`, 1<<16+1) + `</sheets></workbook>`})),
 			"part xl/workbook.xml: it lists more than 65536 sheets"},
+		{"many-styles", zipBytes(t, minimalPackage(map[string]string{"xl/styles.xml": `<styleSheet ` + nsMain + `><cellXfs>` + strings.Repeat(`<xf/>`, 1<<20+1) + `</cellXfs></styleSheet>`})),
+			"part xl/styles.xml: it has more than 1048576 cell styles"},
 		{"lying-bomb", lyingBomb(t), "part xl/worksheets/sheet1.xml: it unpacks to more than the 100 bytes its zip entry says (a damaged file or a zip bomb)"},
 		{"csv", []byte("x,y\n1,0\n2,1\n"), "not an Excel workbook (.xlsx); give an .xlsx workbook"},
 		{"empty", nil, "not an Excel workbook (.xlsx); give an .xlsx workbook"},

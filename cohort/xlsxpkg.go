@@ -259,42 +259,84 @@ func lastAttr(t xml.StartElement, local string) (v string, ok bool) {
 	return v, ok
 }
 
-// xmlStyles is what the styles part says that is read: the custom
-// number formats and the number format of each cell style.
-type xmlStyles struct {
-	NumFmts []struct {
-		ID   int    `xml:"numFmtId,attr"`
-		Code string `xml:"formatCode,attr"`
-	} `xml:"numFmts>numFmt"`
-	Xfs []struct {
-		NumFmtID *int `xml:"numFmtId,attr"`
-	} `xml:"cellXfs>xf"`
-}
+// maxStyles is the most cell styles (cellXfs) and number formats a
+// styles part may have. Excel's own limit is 65,490 cell formats (and
+// some 250 number formats); a writer that makes a style for every cell
+// goes beyond it, a hostile styles part far beyond (256 MiB of empty xf
+// elements unpack from a zip of some 400 KB).
+const maxStyles = 1 << 20
 
-// readStyles reads the number formats of the cell styles.
+// readStyles reads the number formats of the cell styles: the numFmt
+// elements of numFmts (the custom formats by id; the first of an id
+// counts) and the xf elements of cellXfs (each style's number format,
+// −1 for none), children of the root element, matched by local names.
 func (wb *workbook) readStyles(name string) error {
 	b, err := wb.part(name)
 	if err != nil || len(bytes.TrimSpace(b)) == 0 {
 		return err
 	}
-	var x xmlStyles
-	if err := xml.Unmarshal(b, &x); err != nil {
-		return workbookError(wb.path, fmt.Errorf("part %s: %w", name, err))
-	}
-	wb.fmtCode = make(map[int]string, len(x.NumFmts))
-	for _, f := range x.NumFmts {
-		if _, dup := wb.fmtCode[f.ID]; !dup {
-			wb.fmtCode[f.ID] = f.Code
+	fail := func(err error) error { return workbookError(wb.path, fmt.Errorf("part %s: %w", name, err)) }
+	wb.fmtCode = map[int]string{}
+	d := xml.NewDecoder(bytes.NewReader(b))
+	formats := 0
+	for depth, in := 0, ""; ; {
+		tok, err := d.Token()
+		if err == io.EOF && depth == 0 {
+			return fail(errors.New("no root element"))
+		}
+		if err != nil {
+			return fail(err)
+		}
+		switch t := tok.(type) {
+		case xml.StartElement:
+			depth++
+			switch {
+			case depth == 2:
+				in = t.Name.Local
+			case depth == 3 && in == "numFmts" && t.Name.Local == "numFmt":
+				if formats++; formats > maxStyles {
+					return fail(fmt.Errorf("it has more than %d number formats", maxStyles))
+				}
+				id, err := intAttr(t, "numFmtId", 0)
+				if err != nil {
+					return fail(err)
+				}
+				if _, dup := wb.fmtCode[id]; !dup {
+					wb.fmtCode[id], _ = lastAttr(t, "formatCode")
+				}
+			case depth == 3 && in == "cellXfs" && t.Name.Local == "xf":
+				if len(wb.xfFmt) == maxStyles {
+					return fail(fmt.Errorf("it has more than %d cell styles", maxStyles))
+				}
+				id, err := intAttr(t, "numFmtId", -1)
+				if err != nil {
+					return fail(err)
+				}
+				wb.xfFmt = append(wb.xfFmt, id)
+			}
+		case xml.EndElement:
+			if depth--; depth == 0 {
+				return nil // the root element's end: what follows is not read
+			}
+			if depth == 1 {
+				in = ""
+			}
 		}
 	}
-	wb.xfFmt = make([]int, len(x.Xfs))
-	for i, xf := range x.Xfs {
-		wb.xfFmt[i] = -1
-		if xf.NumFmtID != nil {
-			wb.xfFmt[i] = *xf.NumFmtID
-		}
+}
+
+// intAttr is the element's last attribute of that local name as an
+// integer (0 when it is empty), or absent when it has none.
+func intAttr(t xml.StartElement, local string, absent int) (int, error) {
+	v, ok := lastAttr(t, local)
+	if !ok {
+		return absent, nil
 	}
-	return nil
+	if v = strings.TrimSpace(v); v == "" {
+		return 0, nil
+	}
+	n, err := strconv.ParseInt(v, 10, strconv.IntSize)
+	return int(n), err
 }
 
 // builtInFormat reports whether id is a number format that ECMA-376
