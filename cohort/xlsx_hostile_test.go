@@ -168,6 +168,8 @@ func TestXLSXHostile(t *testing.T) {
 			"part xl/workbook.xml: it lists more than 65536 sheets"},
 		{"many-styles", zipBytes(t, minimalPackage(map[string]string{"xl/styles.xml": `<styleSheet ` + nsMain + `><cellXfs>` + strings.Repeat(`<xf/>`, 1<<20+1) + `</cellXfs></styleSheet>`})),
 			"part xl/styles.xml: it has more than 1048576 cell styles"},
+		{"huge-rels", zipBytes(t, minimalPackage(map[string]string{"xl/_rels/workbook.xml.rels": `<Relationships ` + nsRels + `>` + strings.Repeat(`<Relationship/>`, 5<<20) + `</Relationships>`})),
+			"part xl/_rels/workbook.xml.rels: it unpacks to 78643300 bytes, more than the 67108864 a relationships part may"},
 		{"lying-bomb", lyingBomb(t), "part xl/worksheets/sheet1.xml: it unpacks to more than the 100 bytes its zip entry says (a damaged file or a zip bomb)"},
 		{"csv", []byte("x,y\n1,0\n2,1\n"), "not an Excel workbook (.xlsx); give an .xlsx workbook"},
 		{"empty", nil, "not an Excel workbook (.xlsx); give an .xlsx workbook"},
