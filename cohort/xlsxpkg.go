@@ -221,42 +221,65 @@ func (wb *workbook) readWorkbookPart(name string) error {
 	if len(bytes.TrimSpace(b)) == 0 {
 		return errMissingPart(wb.path)
 	}
-	fail := func(err error) error { return workbookError(wb.path, fmt.Errorf("part %s: %w", name, err)) }
+	err = walkPart(b, func(parent string, t xml.StartElement) error {
+		switch {
+		case parent == "" && t.Name.Local == "workbookPr":
+			if v, ok := lastAttr(t, "date1904"); ok {
+				var err error
+				wb.date1904, err = strconv.ParseBool(strings.TrimSpace(v))
+				return err
+			}
+		case parent == "sheets" && t.Name.Local == "sheet":
+			if len(wb.sheets) == maxSheets {
+				return fmt.Errorf("it lists more than %d sheets", maxSheets)
+			}
+			n, _ := lastAttr(t, "name")
+			id, _ := lastAttr(t, "id")
+			wb.sheets = append(wb.sheets, sheetEntry{n, id})
+		}
+		return nil
+	})
+	if err != nil {
+		return workbookError(wb.path, fmt.Errorf("part %s: %w", name, err))
+	}
+	return nil
+}
+
+// walkPart reads a part's XML to the end of its root element and calls
+// visit for each child of the root (parent "") and each grandchild
+// (parent the child's local name), in document order; deeper elements
+// are read past, and what follows the root element is not read. A part
+// without a root element, malformed XML or an error of visit stops the
+// walk with that error.
+func walkPart(b []byte, visit func(parent string, t xml.StartElement) error) error {
 	d := xml.NewDecoder(bytes.NewReader(b))
-	for depth, inSheets := 0, false; ; {
+	for depth, parent := 0, ""; ; {
 		tok, err := d.Token()
 		if err == io.EOF && depth == 0 {
-			return fail(errors.New("no root element"))
+			return errors.New("no root element")
 		}
 		if err != nil {
-			return fail(err)
+			return err
 		}
 		switch t := tok.(type) {
 		case xml.StartElement:
 			depth++
-			switch {
-			case depth == 2 && t.Name.Local == "workbookPr":
-				if v, ok := lastAttr(t, "date1904"); ok {
-					if wb.date1904, err = strconv.ParseBool(strings.TrimSpace(v)); err != nil {
-						return fail(err)
-					}
-				}
-			case depth == 2 && t.Name.Local == "sheets":
-				inSheets = true
-			case depth == 3 && inSheets && t.Name.Local == "sheet":
-				if len(wb.sheets) == maxSheets {
-					return fail(fmt.Errorf("it lists more than %d sheets", maxSheets))
-				}
-				n, _ := lastAttr(t, "name")
-				id, _ := lastAttr(t, "id")
-				wb.sheets = append(wb.sheets, sheetEntry{n, id})
+			switch depth {
+			case 2:
+				parent = t.Name.Local
+				err = visit("", t)
+			case 3:
+				err = visit(parent, t)
+			}
+			if err != nil {
+				return err
 			}
 		case xml.EndElement:
 			if depth--; depth == 0 {
-				return nil // the root element's end: what follows is not read
+				return nil
 			}
 			if depth == 1 {
-				inSheets = false
+				parent = ""
 			}
 		}
 	}
@@ -289,54 +312,37 @@ func (wb *workbook) readStyles(name string) error {
 	if err != nil || len(bytes.TrimSpace(b)) == 0 {
 		return err
 	}
-	fail := func(err error) error { return workbookError(wb.path, fmt.Errorf("part %s: %w", name, err)) }
 	wb.fmtCode = map[int]string{}
-	d := xml.NewDecoder(bytes.NewReader(b))
 	formats := 0
-	for depth, in := 0, ""; ; {
-		tok, err := d.Token()
-		if err == io.EOF && depth == 0 {
-			return fail(errors.New("no root element"))
-		}
-		if err != nil {
-			return fail(err)
-		}
-		switch t := tok.(type) {
-		case xml.StartElement:
-			depth++
-			switch {
-			case depth == 2:
-				in = t.Name.Local
-			case depth == 3 && in == "numFmts" && t.Name.Local == "numFmt":
-				if formats++; formats > maxStyles {
-					return fail(fmt.Errorf("it has more than %d number formats", maxStyles))
-				}
-				id, err := intAttr(t, "numFmtId", 0)
-				if err != nil {
-					return fail(err)
-				}
-				if _, dup := wb.fmtCode[id]; !dup {
-					wb.fmtCode[id], _ = lastAttr(t, "formatCode")
-				}
-			case depth == 3 && in == "cellXfs" && t.Name.Local == "xf":
-				if len(wb.xfFmt) == maxStyles {
-					return fail(fmt.Errorf("it has more than %d cell styles", maxStyles))
-				}
-				id, err := intAttr(t, "numFmtId", -1)
-				if err != nil {
-					return fail(err)
-				}
-				wb.xfFmt = append(wb.xfFmt, id)
+	err = walkPart(b, func(parent string, t xml.StartElement) error {
+		switch {
+		case parent == "numFmts" && t.Name.Local == "numFmt":
+			if formats++; formats > maxStyles {
+				return fmt.Errorf("it has more than %d number formats", maxStyles)
 			}
-		case xml.EndElement:
-			if depth--; depth == 0 {
-				return nil // the root element's end: what follows is not read
+			id, err := intAttr(t, "numFmtId", 0)
+			if err != nil {
+				return err
 			}
-			if depth == 1 {
-				in = ""
+			if _, dup := wb.fmtCode[id]; !dup {
+				wb.fmtCode[id], _ = lastAttr(t, "formatCode")
 			}
+		case parent == "cellXfs" && t.Name.Local == "xf":
+			if len(wb.xfFmt) == maxStyles {
+				return fmt.Errorf("it has more than %d cell styles", maxStyles)
+			}
+			id, err := intAttr(t, "numFmtId", -1)
+			if err != nil {
+				return err
+			}
+			wb.xfFmt = append(wb.xfFmt, id)
 		}
+		return nil
+	})
+	if err != nil {
+		return workbookError(wb.path, fmt.Errorf("part %s: %w", name, err))
 	}
+	return nil
 }
 
 // intAttr is the element's last attribute of that local name as an
