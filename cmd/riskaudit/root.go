@@ -115,7 +115,7 @@ a frozen model's predicted risks to a cohort.
 
 Start with 'riskaudit demo --out demo' to see every step on invented data.
 
-` + "\n\n" + exitStatusHelp
+` + exitStatusHelp
 
 func newRootCmd(s *streams) *cobra.Command {
 	root := &cobra.Command{
