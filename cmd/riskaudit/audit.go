@@ -335,6 +335,10 @@ func runAudit(ctx context.Context, o *auditOptions, s *streams) error {
 func (o *auditOptions) config(s *streams) (audit.Config, error) {
 	cfg := o.cfg
 	if o.out == "" {
+		if cfg.Model == "" && o.predicted == "" && cfg.Cohort.Path == "" {
+			// Nothing given at all: say everything an audit needs.
+			return cfg, usagef("give the model with --model (or a column of risks with --predicted), the cohort with --cohort and the output folder with --out")
+		}
 		return cfg, usagef("give the output folder with --out (or in the plan)")
 	}
 	if cfg.Model != "" && (o.outcome != "" || o.event != "" || o.nonEvent != "") {
