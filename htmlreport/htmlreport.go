@@ -4,9 +4,10 @@
 // style sheet of its own with print rules for A4, and nothing that
 // makes the browser fetch anything.
 //
-// The Markdown is parsed and rendered by goldmark (CommonMark with the
-// GitHub table extension). Text is always escaped; raw HTML in the
-// Markdown never reaches the page as markup: it is shown as the text it
+// The Markdown is parsed and rendered by goldmark (CommonMark with
+// GitHub-style pipe tables, from the sub-package mdtable). Text is
+// always escaped; raw HTML in the Markdown never reaches the page as
+// markup: it is shown as the text it
 // is, so a name such as <script> reads as written and runs nothing.
 package htmlreport
 
@@ -20,12 +21,13 @@ import (
 
 	"github.com/yuin/goldmark"
 	"github.com/yuin/goldmark/ast"
-	"github.com/yuin/goldmark/extension"
 	extast "github.com/yuin/goldmark/extension/ast"
 	"github.com/yuin/goldmark/parser"
 	"github.com/yuin/goldmark/renderer"
 	"github.com/yuin/goldmark/text"
 	"github.com/yuin/goldmark/util"
+
+	"github.com/riskaudit/riskaudit/htmlreport/mdtable"
 )
 
 // ContentSecurityPolicy is the policy the page declares: nothing may be
@@ -44,7 +46,7 @@ const ContentSecurityPolicy = "default-src 'none'; img-src data:; style-src 'uns
 func Page(md []byte, files map[string][]byte) ([]byte, error) {
 	r := &nodes{files: files}
 	gm := goldmark.New(
-		goldmark.WithExtensions(extension.Table),
+		goldmark.WithExtensions(mdtable.New()),
 		goldmark.WithParserOptions(parser.WithAutoHeadingID()),
 		goldmark.WithRendererOptions(renderer.WithNodeRenderers(util.Prioritized(r, 100))),
 	)
@@ -60,7 +62,7 @@ func Page(md []byte, files map[string][]byte) ([]byte, error) {
 		return nil, r.err
 	}
 	var nav bytes.Buffer
-	if err := contents.Execute(&nav, toc); err != nil {
+	if err := contents().Execute(&nav, toc); err != nil {
 		return nil, fmt.Errorf("writing the HTML page's contents: %w", err)
 	}
 	// The contents go after the title and the opening paragraphs, before
@@ -73,7 +75,7 @@ func Page(md []byte, files map[string][]byte) ([]byte, error) {
 		html += nav.String()
 	}
 	var out bytes.Buffer
-	err := page.Execute(&out, pageData{Title: title, CSP: ContentSecurityPolicy, Style: template.CSS(style),
+	err := page().Execute(&out, pageData{Title: title, CSP: ContentSecurityPolicy, Style: template.CSS(style),
 		Body: template.HTML(html)})
 	if err != nil {
 		return nil, fmt.Errorf("writing the HTML page: %w", err)

@@ -1,6 +1,9 @@
 package htmlreport
 
-import "html/template"
+import (
+	"html/template"
+	"sync"
+)
 
 // pageData fills the page template.
 type pageData struct {
@@ -9,10 +12,12 @@ type pageData struct {
 	Body       template.HTML
 }
 
-// page is the document around the rendered Markdown. html/template
+// page is the document around the rendered Markdown, parsed at its
+// first use (not at every start of the program). html/template
 // escapes the title and the contents' text; the body is goldmark's
 // output, in which every text is already escaped.
-var page = template.Must(template.New("page").Parse(`<!DOCTYPE html>
+var page = sync.OnceValue(func() *template.Template {
+	return template.Must(template.New("page").Parse(`<!DOCTYPE html>
 <html lang="en">
 <head>
 <meta charset="utf-8">
@@ -31,15 +36,19 @@ var page = template.Must(template.New("page").Parse(`<!DOCTYPE html>
 </body>
 </html>
 `))
+})
 
-// contents is the table of contents: the level-2 sections.
-var contents = template.Must(template.New("contents").Parse(`{{if .}}<nav class="contents" aria-label="Contents">
+// contents is the table of contents: the level-2 sections, parsed at
+// its first use.
+var contents = sync.OnceValue(func() *template.Template {
+	return template.Must(template.New("contents").Parse(`{{if .}}<nav class="contents" aria-label="Contents">
 <p class="contents-title">Contents</p>
 <ol>
 {{range .}}<li><a href="#{{.ID}}">{{.Text}}</a></li>
 {{end}}</ol>
 </nav>
 {{end}}`))
+})
 
 // style is the page's own look: one readable column, quiet tables with
 // aligned figures, the caution set apart, and print rules for A4 in

@@ -7,6 +7,7 @@ import (
 	"regexp"
 	"strconv"
 	"strings"
+	"sync"
 
 	"github.com/yuin/goldmark/ast"
 	"github.com/yuin/goldmark/util"
@@ -47,11 +48,21 @@ func landscape(w, h float64) bool {
 	return l >= landscapeGain*p
 }
 
-var (
-	svgTag    = regexp.MustCompile(`(?s)<svg\b[^>]*>`)
-	svgWidth  = regexp.MustCompile(`\swidth\s*=\s*["']\s*([0-9.]+)\s*([a-z]*)\s*["']`)
-	svgHeight = regexp.MustCompile(`\sheight\s*=\s*["']\s*([0-9.]+)\s*([a-z]*)\s*["']`)
-)
+// svgPatterns are the expressions svgSize reads an SVG root element
+// with, compiled at the first use (not at every start of the program).
+var svgPatterns = sync.OnceValue(func() svgRegexps {
+	return svgRegexps{
+		tag:    regexp.MustCompile(`(?s)<svg\b[^>]*>`),
+		width:  regexp.MustCompile(`\swidth\s*=\s*["']\s*([0-9.]+)\s*([a-z]*)\s*["']`),
+		height: regexp.MustCompile(`\sheight\s*=\s*["']\s*([0-9.]+)\s*([a-z]*)\s*["']`),
+	}
+})
+
+// svgRegexps match an SVG document's root element and its width and
+// height attributes.
+type svgRegexps struct {
+	tag, width, height *regexp.Regexp
+}
 
 // mmPer is the length of one unit of an SVG width or height in
 // millimetres (CSS units: 96 px an inch, 72 pt an inch).
@@ -61,7 +72,8 @@ var mmPer = map[string]float64{"": 25.4 / 96, "px": 25.4 / 96, "pt": 25.4 / 72, 
 // the width and height of its root element; ok is false when either is
 // missing, a percentage or not a positive length.
 func svgSize(b []byte) (w, h float64, ok bool) {
-	tag := svgTag.Find(b)
+	re := svgPatterns()
+	tag := re.tag.Find(b)
 	if tag == nil {
 		return 0, 0, false
 	}
@@ -77,8 +89,8 @@ func svgSize(b []byte) (w, h float64, ok bool) {
 		}
 		return v * per, true
 	}
-	w, okw := length(svgWidth)
-	h, okh := length(svgHeight)
+	w, okw := length(re.width)
+	h, okh := length(re.height)
 	if !okw || !okh {
 		return 0, 0, false
 	}

@@ -26,6 +26,7 @@ import (
 	"regexp"
 	"strconv"
 	"strings"
+	"sync"
 
 	"github.com/riskaudit/riskaudit/internal/pathtext"
 )
@@ -341,8 +342,11 @@ func syncDir(dir string) error {
 	return nil
 }
 
-// staleName matches this package's temporary names and captures the PID.
-var staleName = regexp.MustCompile(`^\..+\.riskaudit-(?:tmp|old)-(\d+)-[0-9a-f]+$`)
+// staleName matches this package's temporary names and captures the PID;
+// it is compiled at its first use, not at every start of the program.
+var staleName = sync.OnceValue(func() *regexp.Regexp {
+	return regexp.MustCompile(`^\..+\.riskaudit-(?:tmp|old)-(\d+)-[0-9a-f]+$`)
+})
 
 // CleanStale removes, from dir, the temporaries of runs that no longer
 // run (their PID is not alive); those of live runs, this one included,
@@ -356,7 +360,7 @@ func CleanStale(dir string) {
 		if !strings.Contains(e.Name(), ".riskaudit-") {
 			continue
 		}
-		m := staleName.FindStringSubmatch(e.Name())
+		m := staleName().FindStringSubmatch(e.Name())
 		if m == nil {
 			continue
 		}
