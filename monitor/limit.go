@@ -172,6 +172,10 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 		return a
 	}
 	nm := uint64(len(mix))
+	var pts []walkPoint // the case mix as walk2 reads it
+	if k == 2 {
+		pts = walkPoints(thr, ws)
+	}
 	// simulate runs count runs, streams PCG(Seed, base + run), each until
 	// the horizon or until every chart c has passed grid point stop[c].
 	simulate := func(base uint64, count int, length int64, stop []int) (acc, error) {
@@ -192,7 +196,7 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 					if k == 2 {
 						// Both charts of an audit: the same steps on
 						// locals (walk2).
-						walk2(pcg{opt.Seed, base + uint64(run)}, thr, ws, nm, length, stop, reached, a.sum, a.sum2, ng)
+						walk2(pcg{opt.Seed, base + uint64(run)}, pts, length, stop, reached, a.sum, a.sum2, ng)
 					}
 					for t := int64(1); k != 2 && t <= length; t++ {
 						// One draw: the high 32 bits pick the patient

@@ -1,6 +1,9 @@
 package monitor
 
-import "math/bits"
+import (
+	"math"
+	"math/bits"
+)
 
 // pcg is the generator of math/rand/v2's PCG (a 128-bit LCG with the DXSM
 // output function) with its state in two words a loop can keep in
@@ -29,63 +32,111 @@ func (p pcg) next() (pcg, uint64) {
 	return pcg{hi, lo}, u
 }
 
+// walkPoint is one patient of the case mix as walk2 draws it: the event
+// threshold (p·2³²) and the two charts' weights, ws's four values for
+// the patient in their order (chart 0 without and with the event, then
+// chart 1), so that a draw reads one element and its weights by an index
+// of 0 or 1 that needs no bounds check.
+type walkPoint struct {
+	thr uint32
+	w   [4]float64
+}
+
+// walkPoints lays out the case mix's thresholds and two-chart weights
+// (ws: four a patient) as walk2 reads them.
+func walkPoints(thr []uint32, ws []float64) []walkPoint {
+	pts := make([]walkPoint, len(thr))
+	for i := range pts {
+		pts[i].thr = thr[i]
+		copy(pts[i].w[:], ws[4*i:4*i+4])
+	}
+	return pts
+}
+
+// walkChart is what walk2 keeps of one chart beyond its sum: the grid
+// points passed (reached), the grid point the run may stop at, and the
+// sums of first passages, touched only when the chart passes its next
+// grid point, which is rare, so the loop keeps them out of its registers.
+type walkChart struct {
+	reached, stop, ng int
+	sum, sq           []int64
+}
+
+// pass records that the chart's sum reached x grid steps (x ≥ reached +
+// 1) at step t: the first passage of every grid point from reached up to
+// ⌊x⌋ (at most ng). It returns the value of x at which the next grid
+// point is passed, +Inf once all ng are.
+func (c *walkChart) pass(x float64, t int64) float64 {
+	top := min(int(x), c.ng)
+	for g := c.reached; g < top; g++ {
+		c.sum[g] += t
+		c.sq[g] += t * t
+	}
+	c.reached = top
+	if top >= c.ng {
+		return math.Inf(1)
+	}
+	return float64(top + 1)
+}
+
 // walk2 is one simulated run of ChooseLimits for two charts: the loop
-// of ChooseLimits with the charts' sums, grid points reached and stops,
-// and the generator's state (pcg), held in locals rather than slices
-// indexed by chart, which the compiler keeps in registers. Every value computed is the same, in the
-// same order: a draw picks the patient and the outcome, each chart's
-// S = max(0, S + w) is compared with the next grid point (⌊S/step⌋ >
-// reached, written as S/step ≥ reached + 1, the same test for S ≥ 0),
-// and the run stops at the horizon or once both charts have passed
-// their stops. On return reached holds each chart's grid points passed,
-// and sum and sum2 have the run's first passages added.
-func walk2(rng pcg, thr []uint32, ws []float64, nm uint64, length int64, stop, reached []int, sum, sum2 [][]int64, ng int) {
+// of ChooseLimits with the charts' sums, next grid points and the
+// generator's state (pcg) in locals, which the compiler keeps in
+// registers, and the rest of each chart (walkChart) read only when it
+// passes a grid point. Every value computed is the same, in the same
+// order: a draw picks the patient and the outcome, each chart's S =
+// max(0, S + w) is compared with the next grid point (⌊S/step⌋ >
+// reached, written as S/step ≥ reached + 1, the same test for S ≥ 0;
+// never once all ng are passed), and the run stops at the horizon or
+// once both charts have passed their stops (checked, as reached only
+// changes there, when a chart passes a grid point, by ending the loop
+// after the step). On return reached holds each chart's grid points
+// passed, and sum and sum2 have the run's first passages added.
+func walk2(rng pcg, pts []walkPoint, length int64, stop, reached []int, sum, sum2 [][]int64, ng int) {
+	c0 := walkChart{reached: reached[0], stop: stop[0], ng: ng, sum: sum[0][:ng], sq: sum2[0][:ng]}
+	c1 := walkChart{reached: reached[1], stop: stop[1], ng: ng, sum: sum[1][:ng], sq: sum2[1][:ng]}
+	next := func(c *walkChart) float64 {
+		if c.reached >= c.ng {
+			return math.Inf(1)
+		}
+		return float64(c.reached + 1)
+	}
+	next0, next1 := next(&c0), next(&c1)
+	if c0.reached >= c0.stop && c1.reached >= c1.stop {
+		length = min(length, 1)
+	}
+	nm := uint64(len(pts))
 	s0, s1 := 0.0, 0.0
-	r0, r1 := reached[0], reached[1]
-	st0, st1 := stop[0], stop[1]
-	sum0, sum1 := sum[0][:ng], sum[1][:ng]
-	sq0, sq1 := sum2[0][:ng], sum2[1][:ng]
-	next0, next1 := float64(r0+1), float64(r1+1)
 	for t := int64(1); t <= length; t++ {
 		var u uint64
 		rng, u = rng.next()
-		i := int(((u >> 32) * nm) >> 32)
-		off := 4 * i
-		if uint32(u) < thr[i] {
-			off++
+		pt := &pts[((u>>32)*nm)>>32]
+		e := 0
+		if uint32(u) < pt.thr {
+			e = 1
 		}
-		w := ws[off : off+3 : off+3]
-		v := s0 + w[0]
+		v := s0 + pt.w[e]
 		if v < 0 {
 			v = 0
 		}
 		s0 = v
-		if x := v * (1 / gridStep); x >= next0 && r0 < ng {
-			top := min(int(x), ng)
-			for g := r0; g < top; g++ {
-				sum0[g] += t
-				sq0[g] += t * t
+		if x := v * (1 / gridStep); x >= next0 {
+			next0 = c0.pass(x, t)
+			if c0.reached >= c0.stop && c1.reached >= c1.stop {
+				length = t
 			}
-			r0 = top
-			next0 = float64(r0 + 1)
 		}
-		v = s1 + w[2]
+		v = s1 + pt.w[e+2]
 		if v < 0 {
 			v = 0
 		}
 		s1 = v
-		if x := v * (1 / gridStep); x >= next1 && r1 < ng {
-			top := min(int(x), ng)
-			for g := r1; g < top; g++ {
-				sum1[g] += t
-				sq1[g] += t * t
+		if x := v * (1 / gridStep); x >= next1 {
+			next1 = c1.pass(x, t)
+			if c0.reached >= c0.stop && c1.reached >= c1.stop {
+				length = t
 			}
-			r1 = top
-			next1 = float64(r1 + 1)
-		}
-		if r0 >= st0 && r1 >= st1 {
-			break
 		}
 	}
-	reached[0], reached[1] = r0, r1
+	reached[0], reached[1] = c0.reached, c1.reached
 }

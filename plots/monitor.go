@@ -161,8 +161,9 @@ func hline(y, x0, x1 float64, c color.Color, width float64, dashes ...vg.Length)
 	return pathOf(plotter.XYs{{X: x0, Y: y}, {X: x1, Y: y}}, c, width, dashes...)
 }
 
-// marks draws the alarm patients as triangles on a path; it returns nil
-// when there are none.
+// marks draws the alarm patients as triangles on a path (a markSet); it
+// returns the Scatter, for the legend and the series, or nil when there
+// are none.
 func marks(p *plot.Plot, at []int, v []float64, scale float64, c color.Color) (*plotter.Scatter, error) {
 	if len(at) == 0 {
 		return nil, nil
@@ -176,7 +177,7 @@ func marks(p *plot.Plot, at []int, v []float64, scale float64, c color.Color) (*
 		return nil, err
 	}
 	sc.GlyphStyle.Shape, sc.GlyphStyle.Color, sc.GlyphStyle.Radius = draw.PyramidGlyph{}, c, vg.Points(4)
-	p.Add(sc)
+	p.Add(markSet{sc})
 	return sc, nil
 }
 
