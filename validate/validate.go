@@ -321,6 +321,19 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	} else {
 		lp, c.Clamped = clampLogits(lp, opt.Epsilon)
 	}
+	// The calibration fits and the smooth are the slow parts: run them
+	// beside each other. The fits read the rows in their own order, so
+	// they start before the sort, which would otherwise run on one core
+	// alone.
+	var wg sync.WaitGroup
+	var citl, slope, slopeIcpt metrics.Estimate
+	var errCITL, errSlope error
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		citl, errCITL = metrics.CalibrationInTheLarge(y, lp)
+		slope, slopeIcpt, errSlope = metrics.CalibrationSlope(y, lp)
+	}()
 	// Sort once: the measures that walk the rows in risk order read
 	// these contiguous sorted copies.
 	sorted := metrics.SortByRisk(y, p)
@@ -333,18 +346,6 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	case delta < 0:
 		delta = 0
 	}
-
-	// The calibration fits and the smooth are the slow parts: run them
-	// beside each other.
-	var wg sync.WaitGroup
-	var citl, slope, slopeIcpt metrics.Estimate
-	var errCITL, errSlope error
-	wg.Add(1)
-	go func() {
-		defer wg.Done()
-		citl, errCITL = metrics.CalibrationInTheLarge(y, lp)
-		slope, slopeIcpt, errSlope = metrics.CalibrationSlope(y, lp)
-	}()
 	flex := metrics.FlexibleCalibration(sorted, metrics.LowessOptions{Span: opt.Span, Delta: delta, Workers: opt.Workers})
 	// The remaining measures are single passes over the rows, each
 	// reading its inputs only: half of them beside the other half.
