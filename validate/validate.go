@@ -346,9 +346,10 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	case delta < 0:
 		delta = 0
 	}
-	flex := metrics.FlexibleCalibration(sorted, metrics.LowessOptions{Span: opt.Span, Delta: delta, Workers: opt.Workers})
 	// The remaining measures are single passes over the rows, each
-	// reading its inputs only: half of them beside the other half.
+	// reading its inputs only: half of them beside the other half. That
+	// half starts before the smooth, whose plan and interpolation run on
+	// one core.
 	var oe, obs, exp float64
 	var oeci [2]float64
 	var hl metrics.HosmerLemeshowTest
@@ -361,6 +362,7 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 		hl = metrics.HosmerLemeshow(sorted, opt.HLGroups, opt.Development)
 		nb = metrics.NetBenefits(sorted, opt.Thresholds)
 	}()
+	flex := metrics.FlexibleCalibration(sorted, metrics.LowessOptions{Span: opt.Span, Delta: delta, Workers: opt.Workers})
 	auc, _ := metrics.AUC(sorted)
 	perf.Classification = metrics.Classify(sorted, opt.ClassifyAt)
 	perf.Curves = Curves{
