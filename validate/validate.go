@@ -323,8 +323,8 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	}
 	// The calibration fits and the smooth are the slow parts: run them
 	// beside each other. The fits read the rows in their own order, so
-	// they start before the sort, which would otherwise run on one core
-	// alone.
+	// they start before the sort, whose recounts and gather run on one
+	// core.
 	var wg sync.WaitGroup
 	var citl, slope, slopeIcpt metrics.Estimate
 	var errCITL, errSlope error
