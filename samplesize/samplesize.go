@@ -229,7 +229,13 @@ type expectations struct {
 
 // sampleExpectations are the expectations over the sample lp, with true
 // risks expit(a + b·LP) and treatment at LP ≥ cut (nb).
+//
+// The LP's order, which only the implied C needs, is sorted on a
+// goroutine of its own beside the risks' exponentials, the two slow
+// passes of a large sample.
 func sampleExpectations(lp []float64, a, b, cut float64, nb bool) expectations {
+	order := make(chan []int32, 1)
+	go func() { order <- metrics.SortedOrder32(lp) }()
 	k := float64(len(lp))
 	p, r := make([]float64, len(lp)), make([]float64, len(lp))
 	calibrated := a == 0 && b == 1
@@ -264,7 +270,7 @@ func sampleExpectations(lp []float64, a, b, cut float64, nb bool) expectations {
 	iaa, iab, ibb, raw = iaa/k, iab/k, ibb/k, raw/k
 	e.iaa, e.det = iaa, iaa*ibb-iab*iab
 	e.varies = e.det > 1e-10*iaa*raw
-	e.c = impliedC(lp, p)
+	e.c = impliedC(lp, p, <-order)
 	if nb {
 		treated := 0
 		for i, v := range lp {
@@ -489,11 +495,10 @@ func newcombeN(c, phi, q, se float64) float64 {
 // probability that an event's LP exceeds a non-event's, with each point
 // an event with probability p (ties ½).
 //
-// The LP is put in order by metrics.SortedOrder32 (a radix sort on
-// large samples, 32-bit indices): a comparison sort of a 1M-row cohort's
-// LP took a third of its whole audit.
-func impliedC(lp, p []float64) float64 {
-	idx := metrics.SortedOrder32(lp)
+// idx is the LP's order by metrics.SortedOrder32 (a radix sort on large
+// samples, 32-bit indices): a comparison sort of a 1M-row cohort's LP
+// took a third of its whole audit.
+func impliedC(lp, p []float64, idx []int32) float64 {
 	var below0, total, e1, e0 float64
 	for s := 0; s < len(idx); {
 		e := s

@@ -321,6 +321,19 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	} else {
 		lp, c.Clamped = clampLogits(lp, opt.Epsilon)
 	}
+	// The calibration fits and the smooth are the slow parts: run them
+	// beside each other. The fits read the rows in their own order, so
+	// they start before the sort, whose recounts and gather run on one
+	// core.
+	var wg sync.WaitGroup
+	var citl, slope, slopeIcpt metrics.Estimate
+	var errCITL, errSlope error
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		citl, errCITL = metrics.CalibrationInTheLarge(y, lp)
+		slope, slopeIcpt, errSlope = metrics.CalibrationSlope(y, lp)
+	}()
 	// Sort once: the measures that walk the rows in risk order read
 	// these contiguous sorted copies.
 	sorted := metrics.SortByRisk(y, p)
@@ -333,21 +346,10 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	case delta < 0:
 		delta = 0
 	}
-
-	// The calibration fits and the smooth are the slow parts: run them
-	// beside each other.
-	var wg sync.WaitGroup
-	var citl, slope, slopeIcpt metrics.Estimate
-	var errCITL, errSlope error
-	wg.Add(1)
-	go func() {
-		defer wg.Done()
-		citl, errCITL = metrics.CalibrationInTheLarge(y, lp)
-		slope, slopeIcpt, errSlope = metrics.CalibrationSlope(y, lp)
-	}()
-	flex := metrics.FlexibleCalibration(sorted, metrics.LowessOptions{Span: opt.Span, Delta: delta, Workers: opt.Workers})
 	// The remaining measures are single passes over the rows, each
-	// reading its inputs only: half of them beside the other half.
+	// reading its inputs only: half of them beside the other half. That
+	// half starts before the smooth, whose plan and interpolation run on
+	// one core.
 	var oe, obs, exp float64
 	var oeci [2]float64
 	var hl metrics.HosmerLemeshowTest
@@ -360,6 +362,7 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 		hl = metrics.HosmerLemeshow(sorted, opt.HLGroups, opt.Development)
 		nb = metrics.NetBenefits(sorted, opt.Thresholds)
 	}()
+	flex := metrics.FlexibleCalibration(sorted, metrics.LowessOptions{Span: opt.Span, Delta: delta, Workers: opt.Workers})
 	auc, _ := metrics.AUC(sorted)
 	perf.Classification = metrics.Classify(sorted, opt.ClassifyAt)
 	perf.Curves = Curves{
