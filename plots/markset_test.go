@@ -3,7 +3,6 @@ package plots
 import (
 	"bytes"
 	"image"
-	"image/png"
 	"math"
 	"testing"
 
@@ -84,39 +83,15 @@ func TestMarkSetDrawsAsScatter(t *testing.T) {
 // against the Scatter's (a), as TestMarkSetDrawsAsScatter says.
 func compareMarks(t *testing.T, pngA, pngB []byte) {
 	t.Helper()
-	a, err := png.Decode(bytes.NewReader(pngA))
-	if err != nil {
-		t.Fatal(err)
-	}
-	b, err := png.Decode(bytes.NewReader(pngB))
-	if err != nil {
-		t.Fatal(err)
-	}
-	if a.Bounds() != b.Bounds() {
-		t.Fatalf("PNG sizes %v and %v", a.Bounds(), b.Bounds())
-	}
+	a, b, inked, differ, worst := pngDiff(t, pngA, pngB)
 	mr, mg, mb, _ := vermillion.RGBA()
 	isMark := func(im image.Image, x, y int) bool {
 		r, g, bb, _ := im.At(x, y).RGBA()
 		return r>>8 == mr>>8 && g>>8 == mg>>8 && bb>>8 == mb>>8
 	}
-	white := func(im image.Image, x, y int) bool {
-		r, g, bb, _ := im.At(x, y).RGBA()
-		return r == 0xffff && g == 0xffff && bb == 0xffff
-	}
-	inked, inside, differ, worst, insideDiffer := 0, 0, 0, 0, 0
+	inside, insideDiffer := 0, 0
 	for y := a.Bounds().Min.Y; y < a.Bounds().Max.Y; y++ {
 		for x := a.Bounds().Min.X; x < a.Bounds().Max.X; x++ {
-			if !white(a, x, y) || !white(b, x, y) {
-				inked++
-			}
-			r1, g1, b1, _ := a.At(x, y).RGBA()
-			r2, g2, b2, _ := b.At(x, y).RGBA()
-			d := max(absDiff(r1, r2), absDiff(g1, g2), absDiff(b1, b2)) >> 8
-			if d > 16 {
-				differ++
-			}
-			worst = max(worst, int(d))
 			if isMark(a, x, y) {
 				inside++
 				if !isMark(b, x, y) {

@@ -2,8 +2,6 @@ package plots
 
 import (
 	"bytes"
-	"image"
-	"image/png"
 	"math"
 	"testing"
 
@@ -85,36 +83,7 @@ func comparePNG(t *testing.T, draws func(pieces bool) (svg, pngb []byte)) {
 	if !bytes.Equal(svgA, svgB) {
 		t.Error("the SVG of a pathLine differs from that of plotter.Line")
 	}
-	a, err := png.Decode(bytes.NewReader(pngA))
-	if err != nil {
-		t.Fatal(err)
-	}
-	b, err := png.Decode(bytes.NewReader(pngB))
-	if err != nil {
-		t.Fatal(err)
-	}
-	if a.Bounds() != b.Bounds() {
-		t.Fatalf("PNG sizes %v and %v", a.Bounds(), b.Bounds())
-	}
-	inked, differ, worst := 0, 0, 0
-	white := func(im image.Image, x, y int) bool {
-		r, g, bb, _ := im.At(x, y).RGBA()
-		return r == 0xffff && g == 0xffff && bb == 0xffff
-	}
-	for y := a.Bounds().Min.Y; y < a.Bounds().Max.Y; y++ {
-		for x := a.Bounds().Min.X; x < a.Bounds().Max.X; x++ {
-			if !white(a, x, y) || !white(b, x, y) {
-				inked++
-			}
-			r1, g1, b1, _ := a.At(x, y).RGBA()
-			r2, g2, b2, _ := b.At(x, y).RGBA()
-			d := max(absDiff(r1, r2), absDiff(g1, g2), absDiff(b1, b2)) >> 8
-			if d > 16 {
-				differ++
-			}
-			worst = max(worst, int(d))
-		}
-	}
+	_, _, inked, differ, worst := pngDiff(t, pngA, pngB)
 	if inked == 0 {
 		t.Fatal("nothing drawn")
 	}
@@ -122,11 +91,4 @@ func comparePNG(t *testing.T, draws func(pieces bool) (svg, pngb []byte)) {
 	if worst > 64 || float64(differ) > 0.05*float64(inked) {
 		t.Errorf("PNG of a pathLine: %d of %d inked pixels differ from plotter.Line's by more than 16/255, by up to %d/255", differ, inked, worst)
 	}
-}
-
-func absDiff(a, b uint32) uint32 {
-	if a > b {
-		return a - b
-	}
-	return b - a
 }
