@@ -48,6 +48,9 @@ func ParseThresholds(s string) ([]float64, error) {
 	}
 	for _, t := range out {
 		if !(t > 0 && t < 1) {
+			if t > 1 && t < 100 {
+				return nil, fmt.Errorf("%q: %g is not strictly between 0 and 1 (a percentage is written with %%, as %g%%)", s, t, t)
+			}
 			return nil, fmt.Errorf("%q: %g is not strictly between 0 and 1", s, t)
 		}
 	}

@@ -25,6 +25,8 @@ func TestParseThresholds(t *testing.T) {
 		{"0.3:0.1:0.1", nil, "the step must be positive and TO at least FROM"},
 		{"0.1:0.3:0", nil, "the step must be positive"},
 		{"0.1,1", nil, "1 is not strictly between 0 and 1"},
+		{"10,20", nil, `"10,20": 10 is not strictly between 0 and 1 (a percentage is written with %, as 10%)`},
+		{"5:50:5", nil, `"5:50:5": 5 is not strictly between 0 and 1 (a percentage is written with %, as 5%)`},
 		{"", nil, `"" is not a number`},
 	} {
 		got, err := ParseThresholds(tc.in)
