@@ -218,7 +218,7 @@ func chartDates(ctx context.Context, c *Config, sc *scored) *datedCharts {
 		i   int
 	}
 	rows := make([]row, 0, len(sc.y))
-	missing, invalid := 0, 0
+	missing, invalid, firstBad := 0, 0, int32(-1)
 	for i, code := range sc.dates.codes {
 		if code < 0 || levels[code].empty {
 			missing++
@@ -229,6 +229,9 @@ func chartDates(ctx context.Context, c *Config, sc *scored) *datedCharts {
 		}
 		if !levels[code].ok {
 			invalid++
+			if firstBad < 0 {
+				firstBad = code
+			}
 			if c.FailOnMissing {
 				return fail(&cohort.Error{File: sc.dates.fileAt(i), Line: sc.dates.lines[i], Column: o.DateColumn, Value: sc.dates.levels[code], HasValue: true, Msg: "not a date (give YYYY-MM-DD or an RFC 3339 time); the missing-value policy refuses it", Kind: cohort.ErrFormat})
 			}
@@ -237,7 +240,12 @@ func chartDates(ctx context.Context, c *Config, sc *scored) *datedCharts {
 		rows = append(rows, row{levels[code].day, i})
 	}
 	if len(rows) == 0 {
-		return fail(&cohort.Error{File: sc.dates.file, Column: o.DateColumn, Msg: "no audited row has a readable date, so nothing can be charted over time", Kind: cohort.ErrMissing})
+		msg := "no audited row has a readable date, so nothing can be charted over time"
+		if firstBad >= 0 {
+			// One value as the file writes it, and the forms that read.
+			msg += fmt.Sprintf(" (the first, %s, is not a date: give YYYY-MM-DD or an RFC 3339 time)", cohort.Quote(sc.dates.levels[firstBad]))
+		}
+		return fail(&cohort.Error{File: sc.dates.file, Column: o.DateColumn, Msg: msg, Kind: cohort.ErrMissing})
 	}
 	// Date order, ties in file order (the row index breaks them, so the
 	// result is that of a stable sort); an extract already in order is

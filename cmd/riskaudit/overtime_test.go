@@ -65,3 +65,29 @@ func TestOverTimeFlags(t *testing.T) {
 		}
 	}
 }
+
+// TestOverTimeNoReadableDate: a date column written day first, which no
+// row reads as a date, is refused with exit status 3 and a line that
+// shows the first such value and the forms that do read.
+func TestOverTimeNoReadableDate(t *testing.T) {
+	dir := t.TempDir()
+	cohort := filepath.Join(dir, "dmy.csv")
+	var b strings.Builder
+	b.WriteString("day,risk,event\n")
+	for i := range 200 {
+		fmt.Fprintf(&b, "%02d/%02d/2026,%.2f,%d\n", 13+i%15, 1+i/20, 0.1+0.02*float64(i%10), (i*7)%10/9)
+	}
+	if err := os.WriteFile(cohort, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	var out, errb bytes.Buffer
+	args := []string{"audit", "--predicted", "risk", "--outcome", "event", "--event", "1", "--cohort", cohort, "--date-column", "day", "--out", filepath.Join(dir, "out")}
+	code := run(context.Background(), args, &streams{out: &out, err: &errb})
+	want := `column "day": no audited row has a readable date, so nothing can be charted over time (the first, "13/01/2026", is not a date: give YYYY-MM-DD or an RFC 3339 time)`
+	if code != exitBadInput || !strings.Contains(errb.String(), want) {
+		t.Errorf("exit %d, stderr %q; want %d and %q", code, errb.String(), exitBadInput, want)
+	}
+	if _, err := os.Stat(filepath.Join(dir, "out")); err == nil {
+		t.Error("the output folder was written")
+	}
+}
