@@ -531,7 +531,7 @@ func (d *Design) mapOutcome(used []bool) error {
 	if len(bad) > 0 {
 		code := bad[0]
 		return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Row: d.frame.RowNumbered, Cell: d.frame.CellRef(c.LevelLine[code], c.Name), Column: c.Name, Value: c.Levels[code], HasValue: true,
-			Msg: fmt.Sprintf("neither the event %s nor the non-event %s; values seen: %s", cohort.Quote(o.Event.Text), cohort.Quote(o.NonEvent.Text), seen()), Kind: cohort.ErrOutcome}
+			Msg: fmt.Sprintf("neither the event %s nor the non-event %s; values seen: %s (the model names its outcome's codes: recode the column to them, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event)", cohort.Quote(o.Event.Text), cohort.Quote(o.NonEvent.Text), seen()), Kind: cohort.ErrOutcome}
 	}
 	if events == 0 {
 		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no events (no row equals the event value %s); values seen: %s", cohort.Quote(o.Event.Text), seen()), Kind: cohort.ErrOutcome}
