@@ -24,36 +24,29 @@ func parseFloat(s []byte, dec byte) (float64, bool) {
 		return 0, false
 	}
 	neg := false
-	if s[0] == '+' || s[0] == '-' {
-		neg = s[0] == '-'
+	if c := s[0]; c == '+' || c == '-' {
+		neg = c == '-'
 		i++
 	}
+	// Indexed loops, not ranges over re-sliced input: these two loops
+	// are most of a CSV load's instructions.
 	var mant uint64
-	digits := 0
-	for _, ch := range s[i:] {
-		c := ch - '0'
-		if c > 9 {
-			break
-		}
-		mant = mant*10 + uint64(c)
-		digits++
+	start := i
+	for i < n && s[i]-'0' <= 9 {
+		mant = mant*10 + uint64(s[i]-'0')
+		i++
 	}
-	i += digits
+	digits := i - start
 	exp := 0
 	if i < n && s[i] == dec {
 		i++
-		frac := 0
-		for _, ch := range s[i:] {
-			c := ch - '0'
-			if c > 9 {
-				break
-			}
-			mant = mant*10 + uint64(c)
-			frac++
+		start = i
+		for i < n && s[i]-'0' <= 9 {
+			mant = mant*10 + uint64(s[i]-'0')
+			i++
 		}
-		i += frac
-		exp = -frac
-		digits += frac
+		exp = start - i
+		digits += i - start
 	}
 	if digits == 0 {
 		return 0, false

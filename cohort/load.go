@@ -140,7 +140,8 @@ type Frame struct {
 
 	firstCol  int // the sheet column of the header's first name (1 is A)
 	headerRow int
-	lines     []int32
+	lines     []int32 // each data row's line; nil when line0 gives them
+	line0     int     // the line of data row 0 when lines is nil (0 for row numbers)
 	data      []byte
 	records   []int64
 }
@@ -180,6 +181,9 @@ func (f *Frame) Column(name string) *Column {
 // columnar file its row number, for a workbook its sheet's row number).
 func (f *Frame) Line(i int) int {
 	if f.lines == nil {
+		if f.line0 > 0 {
+			return f.line0 + i // delimited rows on consecutive lines
+		}
 		return i + 1 // a columnar file's rows, numbered from 1
 	}
 	return int(f.lines[i])

@@ -352,3 +352,45 @@ func TestMissingColumnSaysWhatFor(t *testing.T) {
 		t.Errorf("got %v\nwant %s", err, want)
 	}
 }
+
+// TestLinesWithGaps checks Frame.Line against the line numbers counted
+// by splitting the text at line ends (the reference), for a file whose
+// rows are all on consecutive lines (no line table is kept) and for the
+// same rows with empty lines put in at random, read by one to three
+// workers so that gaps fall inside a stretch and at the cuts.
+func TestLinesWithGaps(t *testing.T) {
+	data := synthCSV(60000, 2)
+	r := rand.New(rand.NewPCG(21, 22))
+	var gappy []byte
+	for i, ln := range bytes.SplitAfter(data, []byte("\n")) {
+		gappy = append(gappy, ln...)
+		if i > 0 && r.IntN(5000) == 0 {
+			gappy = append(gappy, "\n\r\n"[:1+r.IntN(3)]...)
+		}
+	}
+	for name, text := range map[string][]byte{"dense": data, "gaps": gappy} {
+		var want []int
+		for i, ln := range bytes.Split(text, []byte("\n")) {
+			if i > 0 && len(bytes.TrimSuffix(ln, []byte("\r"))) > 0 {
+				want = append(want, i+1)
+			}
+		}
+		for _, w := range []int{1, 2, 3} {
+			fr, err := Parse(name, text, []Request{{Name: "c1", Kind: Numeric}}, Options{Workers: w})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if fr.Rows != len(want) {
+				t.Fatalf("%s, %d workers: %d rows, want %d", name, w, fr.Rows, len(want))
+			}
+			for i, l := range want {
+				if fr.Line(i) != l {
+					t.Fatalf("%s, %d workers: Line(%d) = %d, want %d", name, w, i, fr.Line(i), l)
+				}
+			}
+			if name == "dense" && fr.lines != nil {
+				t.Errorf("dense, %d workers: a line table of %d rows was kept", w, len(fr.lines))
+			}
+		}
+	}
+}

@@ -40,7 +40,14 @@ type part struct {
 	names   [][]string
 	first   [][]int
 	missing []int
+	// Rows on consecutive lines need no line table: row i is on line
+	// base+i. lines is made only once a row is not (after an empty line
+	// or a quoted field holding a line end), and then holds every row's
+	// line.
 	lines   []int32
+	base    int
+	rows    int
+	max     int // the most rows the part can hold
 	records []int64
 	off     int // first row slot of the part in the frame
 	err     error
@@ -106,12 +113,11 @@ func (p *parser) run(fr *Frame, reqs []Request, data []byte, pos, line, workers 
 		}
 		fr.Columns[k] = c
 	}
-	lines := make([]int32, total)
 	parts := make([]*part, nparts)
 	var wg sync.WaitGroup
 	off := 0
 	for k := range parts {
-		pt := p.newPart(fr, lines, off, bounds[k])
+		pt := p.newPart(fr, off, bounds[k])
 		parts[k] = pt
 		off += bounds[k]
 		wg.Add(1)
@@ -127,13 +133,13 @@ func (p *parser) run(fr *Frame, reqs []Request, data []byte, pos, line, workers 
 			return pt.err
 		}
 	}
-	p.join(fr, reqs, lines, parts)
+	p.join(fr, reqs, parts)
 	return nil
 }
 
 // newPart makes a part whose column windows start at row slot off and
 // hold up to n rows.
-func (p *parser) newPart(fr *Frame, lines []int32, off, n int) *part {
+func (p *parser) newPart(fr *Frame, off, n int) *part {
 	pt := &part{
 		num:     make([][]float64, p.nreq),
 		codes:   make([][]int32, p.nreq),
@@ -141,7 +147,7 @@ func (p *parser) newPart(fr *Frame, lines []int32, off, n int) *part {
 		names:   make([][]string, p.nreq),
 		first:   make([][]int, p.nreq),
 		missing: make([]int, p.nreq),
-		lines:   lines[off : off : off+n],
+		max:     n,
 		off:     off,
 	}
 	for k, c := range fr.Columns {
@@ -181,7 +187,7 @@ func (p *parser) parse(sc *scanner, pt *part) {
 		nums[k] = pt.num[k][:cap(pt.num[k])]
 		codes[k] = pt.codes[k][:cap(pt.codes[k])]
 	}
-	lines := pt.lines[:cap(pt.lines)]
+	var lines []int32 // nil while the rows are on consecutive lines
 	// Missing markers are checked before parsing only when one of them
 	// reads as a number (such as -99); otherwise only a field that is
 	// not a number can be a missing marker.
@@ -195,7 +201,10 @@ func (p *parser) parse(sc *scanner, pt *part) {
 	freed := sc.pos
 	defer func() {
 		p.mp.release(freed, sc.pos)
-		pt.lines = lines[:row]
+		pt.rows = row
+		if lines != nil {
+			pt.lines = lines[:row]
+		}
 		for k := range nums {
 			if pt.num[k] != nil {
 				pt.num[k] = nums[k][:row]
@@ -226,7 +235,18 @@ func (p *parser) parse(sc *scanner, pt *part) {
 				Msg: strconv.Itoa(len(sc.fields)) + " fields, but the header has " + strconv.Itoa(p.ncol), Kind: ErrFormat}
 			return
 		}
-		lines[row] = int32(line)
+		if row == 0 {
+			pt.base = line
+		}
+		if lines == nil && line != pt.base+row {
+			lines = make([]int32, pt.max)
+			for j := range row {
+				lines[j] = int32(pt.base + j)
+			}
+		}
+		if lines != nil {
+			lines[row] = int32(line)
+		}
 		if p.keep {
 			pt.records = append(pt.records, int64(from), int64(to))
 		}
@@ -329,12 +349,11 @@ func trimSpace(f []byte) []byte {
 
 // join closes the gaps that empty lines left between the parts, merges the
 // parts' level tables in file order and fills in the frame's columns.
-func (p *parser) join(fr *Frame, reqs []Request, lines []int32, parts []*part) {
+func (p *parser) join(fr *Frame, reqs []Request, parts []*part) {
 	rows := 0
 	for _, pt := range parts {
-		n := len(pt.lines)
+		n := pt.rows
 		if pt.off != rows {
-			copy(lines[rows:], pt.lines)
 			for k, c := range fr.Columns {
 				if c.Kind == Numeric && pt.num[k] != nil {
 					copy(c.Num[rows:], pt.num[k])
@@ -348,7 +367,7 @@ func (p *parser) join(fr *Frame, reqs []Request, lines []int32, parts []*part) {
 		fr.records = append(fr.records, pt.records...)
 	}
 	fr.Rows = rows
-	fr.lines = lines[:rows]
+	fr.lines, fr.line0 = joinLines(parts, rows)
 	for k, c := range fr.Columns {
 		k0 := p.plan[c.Index]
 		if k0 != k {
@@ -381,7 +400,7 @@ func (p *parser) join(fr *Frame, reqs []Request, lines []int32, parts []*part) {
 				same = same && code == int32(j)
 			}
 			if !same {
-				w := c.Codes[pt.off : pt.off+len(pt.lines)]
+				w := c.Codes[pt.off : pt.off+pt.rows]
 				for i, v := range w {
 					if v >= 0 {
 						w[i] = remap[v]
@@ -391,4 +410,38 @@ func (p *parser) join(fr *Frame, reqs []Request, lines []int32, parts []*part) {
 			c.Missing += pt.missing[k]
 		}
 	}
+}
+
+// joinLines returns the line table of the joined parts, or nil and the
+// line of row 0 when all rows are on consecutive lines, which is the
+// common case: then no table of 4 bytes a row is written.
+func joinLines(parts []*part, rows int) ([]int32, int) {
+	dense, base, done := true, 0, 0
+	for _, pt := range parts {
+		if pt.rows == 0 {
+			continue
+		}
+		if done == 0 {
+			base = pt.base
+		}
+		if pt.lines != nil || pt.base != base+done {
+			dense = false
+			break
+		}
+		done += pt.rows
+	}
+	if dense {
+		return nil, base
+	}
+	lines := make([]int32, 0, rows)
+	for _, pt := range parts {
+		if pt.lines != nil {
+			lines = append(lines, pt.lines...)
+			continue
+		}
+		for j := range pt.rows {
+			lines = append(lines, int32(pt.base+j))
+		}
+	}
+	return lines, 0
 }
