@@ -576,7 +576,7 @@ func appendNumberText(c *Column, arr arrow.Array, row0 int, path string, missing
 		}
 		v, ok := parseFloat([]byte(s), dec)
 		if !ok {
-			return rowError(path, row0+i, c.Name, s, "not a number")
+			return rowError(path, row0+i, c.Name, s, notNumber([]byte(s), dec))
 		}
 		if math.IsInf(v, 0) {
 			return rowError(path, row0+i, c.Name, strconv.FormatFloat(v, 'g', -1, 64), "not a finite number")

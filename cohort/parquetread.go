@@ -549,7 +549,7 @@ func (r *pqReader) texts(total int64, nv int) error {
 		}
 		v, ok := parseFloat(b, r.l.dec)
 		if !ok {
-			return rowError(r.l.path, r.row+i, c.Name, string(b), "not a number")
+			return rowError(r.l.path, r.row+i, c.Name, string(b), notNumber(b, r.l.dec))
 		}
 		if math.IsInf(v, 0) {
 			return rowError(r.l.path, r.row+i, c.Name, strconv.FormatFloat(v, 'g', -1, 64), "not a finite number")

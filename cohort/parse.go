@@ -280,13 +280,25 @@ func (p *parser) parse(sc *scanner, pt *part) {
 }
 
 func (p *parser) numberError(f []byte, col, line int) error {
-	msg := "not a number"
-	if p.dec == '.' && bytes.IndexByte(f, ',') >= 0 {
+	return &Error{File: p.name, Line: line, Column: p.header[col], Value: string(f), HasValue: true, Msg: notNumber(f, p.dec), Kind: ErrNotNumber}
+}
+
+// notNumber is the message for a field f of a numeric column that does
+// not read as a number with decimal mark dec, with a hint when f reads
+// with a decimal comma, or when f is a common spelling of a missing
+// value (NULL, N/A, None, missing, -, ? and the like, in any case).
+func notNumber(f []byte, dec byte) string {
+	const msg = "not a number"
+	if dec == '.' && bytes.IndexByte(f, ',') >= 0 {
 		if _, ok := parseFloat(f, ','); ok {
-			msg += " (written with a decimal comma? see --decimal-comma)"
+			return msg + " (written with a decimal comma? see --decimal-comma)"
 		}
 	}
-	return &Error{File: p.name, Line: line, Column: p.header[col], Value: string(f), HasValue: true, Msg: msg, Kind: ErrNotNumber}
+	switch strings.ToLower(string(trimSpace(f))) {
+	case "null", "none", "nil", "na", "n/a", "#n/a", "nan", "missing", "unknown", "-", "--", "?", ".":
+		return msg + " (if it marks a missing value, list it with --na-values)"
+	}
+	return msg
 }
 
 // newLevel records a level not seen before in this part.

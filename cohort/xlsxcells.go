@@ -671,13 +671,7 @@ func (b *sheetFrame) put(k int, col *Column, c xcell, row int) error {
 		}
 		v, ok := parseFloat([]byte(s), b.dec)
 		if !ok {
-			msg := "not a number"
-			if b.dec == '.' && strings.IndexByte(s, ',') >= 0 {
-				if _, ok := parseFloat([]byte(s), ','); ok {
-					msg += " (written with a decimal comma? see --decimal-comma)"
-				}
-			}
-			return cellErr(s, msg, ErrNotNumber)
+			return cellErr(s, notNumber([]byte(s), b.dec), ErrNotNumber)
 		}
 		x = v
 	}
