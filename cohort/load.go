@@ -10,6 +10,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"slices"
 	"sort"
 	"strings"
 )
@@ -491,6 +492,7 @@ func planColumns(name string, header []string, reqs []Request) ([]int, error) {
 	for i := range plan {
 		plan[i] = -1
 	}
+	var absent []Request
 	for k, r := range reqs {
 		found := false
 		for i, h := range header {
@@ -504,20 +506,43 @@ func planColumns(name string, header []string, reqs []Request) ([]int, error) {
 				found = true
 			}
 		}
-		if !found {
-			return nil, &Error{File: name, Column: r.Name, Msg: missingColumnMsg(r, header), Kind: ErrNoColumn}
+		if !found && !slices.ContainsFunc(absent, func(a Request) bool { return a.Name == r.Name }) {
+			absent = append(absent, r)
 		}
+	}
+	if len(absent) > 0 {
+		// Every absent column in one message, so that a file with
+		// several misnamed columns is put right in one go.
+		r := absent[0]
+		return nil, &Error{File: name, Column: r.Name, Msg: missingColumnsMsg(r, absent[1:], header), Kind: ErrNoColumn}
 	}
 	return plan, nil
 }
 
 func missingColumnMsg(r Request, header []string) string {
+	return missingColumnsMsg(r, nil, header)
+}
+
+// missingColumnsMsg is the message of the absent column r, naming the
+// other absent columns too, each with the closest name present.
+func missingColumnsMsg(r Request, others []Request, header []string) string {
 	msg := "no such column"
 	if r.For != "" {
 		msg += ", asked for as " + r.For
 	}
 	if s := Closest(r.Name, header); s != "" {
 		msg += " (did you mean " + Quote(s) + "?)"
+	}
+	for i, o := range others {
+		if i == 0 {
+			msg += "; also absent: "
+		} else {
+			msg += ", "
+		}
+		msg += Quote(o.Name)
+		if s := Closest(o.Name, header); s != "" {
+			msg += " (did you mean " + Quote(s) + "?)"
+		}
 	}
 	return msg + "; columns present: " + QuoteList(header)
 }

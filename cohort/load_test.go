@@ -122,6 +122,7 @@ func TestParseErrors(t *testing.T) {
 		{"header only", "x,y\n", num("x"), Options{}, "t.csv: the file has a header but no data rows"},
 		{"absent column", "age,sex\n1,F\n", num("agee"), Options{}, `t.csv: column "agee": no such column (did you mean "age"?); columns present: "age", "sex"`},
 		{"absent, nothing close", "age,sex\n1,F\n", num("weight"), Options{}, `t.csv: column "weight": no such column; columns present: "age", "sex"`},
+		{"several absent", "Age,Sex,bmi\n1,F,2\n", num("age", "bmi", "sex", "weight", "age"), Options{}, `t.csv: column "age": no such column (did you mean "Age"?); also absent: "sex" (did you mean "Sex"?), "weight"; columns present: "Age", "Sex", "bmi"`},
 		{"non-numeric", "x,y\n1,2\n3,abc\n", num("x", "y"), Options{}, `t.csv: line 3, column "y": value "abc": not a number`},
 		{"decimal comma hint", "x;y\n1;2,5\n", num("y"), Options{}, `t.csv: line 2, column "y": value "2,5": not a number (written with a decimal comma? see --decimal-comma)`},
 		{"missing marker hint", "x,y\n1,2\n3,NULL\n", num("x", "y"), Options{}, `t.csv: line 3, column "y": value "NULL": not a number (if it marks a missing value, list it with --na-values)`},
