@@ -223,7 +223,9 @@ func (c *Config) hasModel() bool { return c.Model != "" || c.Spec != nil }
 // check refuses contradictory or out-of-range options.
 func (c *Config) check() error {
 	switch {
-	case c.hasModel() == (c.Predicted != nil):
+	case c.hasModel() && c.Predicted != nil:
+		return configErrorf("give either --model (a frozen model or a recipe) or --predicted (a column of risks), not both")
+	case !c.hasModel() && c.Predicted == nil:
 		return configErrorf("give either --model (a frozen model or a recipe) or --predicted (a column of risks)")
 	case c.Predicted != nil && (c.Predicted.Outcome == "" || c.Predicted.Event == ""):
 		return configErrorf("--predicted needs --outcome and --event")

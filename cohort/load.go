@@ -142,7 +142,7 @@ type Frame struct {
 	firstCol  int // the sheet column of the header's first name (1 is A)
 	headerRow int
 	lines     []int32 // each data row's line; nil when line0 gives them
-	line0     int     // the line of data row 0 when lines is nil (0 for row numbers)
+	line0     int     // the line of data row 0 when lines is nil (0: rows numbered from 1)
 	data      []byte
 	records   []int64
 }
@@ -182,10 +182,9 @@ func (f *Frame) Column(name string) *Column {
 // columnar file its row number, for a workbook its sheet's row number).
 func (f *Frame) Line(i int) int {
 	if f.lines == nil {
-		if f.line0 > 0 {
-			return f.line0 + i // delimited rows on consecutive lines
-		}
-		return i + 1 // a columnar file's rows, numbered from 1
+		// Delimited rows on consecutive lines from line0, or a columnar
+		// file's (or a query's) rows, numbered from 1.
+		return max(f.line0, 1) + i
 	}
 	return int(f.lines[i])
 }

@@ -52,11 +52,7 @@ type QueryColumn struct {
 // data. Every column must hold rows values; query, when not nil,
 // describes where the rows came from.
 func NewFrame(file string, header []string, rows int, cols []*Column, query *QueryInfo) *Frame {
-	fr := &Frame{File: file, Header: header, Rows: rows, RowNumbered: true, Columns: cols, Query: query, lines: make([]int32, rows)}
-	for i := range fr.lines {
-		fr.lines[i] = int32(i + 1)
-	}
-	return fr
+	return &Frame{File: file, Header: header, Rows: rows, RowNumbered: true, Columns: cols, Query: query}
 }
 
 // ParseNumber reads a plain decimal number as a numeric column of a

@@ -7,8 +7,8 @@
 // The Markdown is parsed and rendered by goldmark (CommonMark with
 // GitHub-style pipe tables, from the sub-package mdtable). Text is
 // always escaped; raw HTML in the Markdown never reaches the page as
-// markup: it is shown as the text it
-// is, so a name such as <script> reads as written and runs nothing.
+// markup: it is shown as the text it is, so a name such as <script>
+// reads as written and runs nothing.
 package htmlreport
 
 import (

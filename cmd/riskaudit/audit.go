@@ -341,10 +341,7 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 		}
 		return cfg, usagef("give the output folder with --out (or in the plan)")
 	}
-	if cfg.Model != "" && o.predicted != "" {
-		return cfg, usagef("give either --model (a frozen model or a recipe) or --predicted (a column of risks), not both")
-	}
-	if cfg.Model != "" && (o.outcome != "" || o.event != "" || o.nonEvent != "") {
+	if cfg.Model != "" && o.predicted == "" && (o.outcome != "" || o.event != "" || o.nonEvent != "") {
 		return cfg, usagef("--outcome, --event and --non-event go with --predicted; a model names its own outcome")
 	}
 	var err error
