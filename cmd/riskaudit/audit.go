@@ -223,7 +223,7 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.StringVar(&o.outcome, "outcome", "", "with --predicted: the outcome column")
 	f.StringVar(&o.event, "event", "", "with --predicted: the outcome value that is an event")
 	f.StringVar(&o.nonEvent, "non-event", "", "with --predicted: the value that is a non-event (then any other value is an error)")
-	f.StringVar(&o.cfg.Cohort.Path, "cohort", "", "the cohort to audit (CSV or TSV with a header row, Parquet, Arrow IPC, or an Excel workbook)")
+	f.StringVar(&o.cfg.Cohort.Path, "cohort", "", "the cohort to audit (CSV or TSV with a header row, - for standard input; Parquet, Arrow IPC, or an Excel workbook)")
 	f.StringVar(&o.cfg.Dev.Path, "dev", "", "the development data, measured the same way for comparison")
 	f.StringVar(&o.out, "out", "", "folder for the report, audit.json and figures (created if absent)")
 	f.StringVar(&o.thresholds, "thresholds", "0.05:0.50:0.05", "decision-curve risk thresholds: FROM:TO:STEP or a comma-separated list")
