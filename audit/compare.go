@@ -72,11 +72,7 @@ func Compare(ctx context.Context, cfg CompareConfig) (*CompareResult, error) {
 	var specs []*model.Spec
 	var inputs []validate.InputFile
 	for i, m := range cfg.Models {
-		sp, err := model.LoadSpec(m)
-		if err != nil {
-			return nil, err
-		}
-		sum, err := fileSHA256(m)
+		sp, sum, err := loadSpecHashed(m)
 		if err != nil {
 			return nil, err
 		}

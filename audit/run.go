@@ -88,7 +88,6 @@ type run struct {
 
 	spec      *model.Spec
 	modelHash string
-	modelErr  error // why the model file could not be hashed
 	dev, cur  *scored
 	devPerf   *validate.Performance
 	perf      *validate.Performance
@@ -240,14 +239,13 @@ func (r *run) loadModel() error {
 		return nil
 	}
 	var err error
-	if r.spec, err = specOf(c.Spec, c.Model); err != nil {
+	if c.Spec != nil {
+		r.spec = c.Spec
+	} else if r.spec, r.modelHash, err = loadSpecHashed(c.Model); err != nil {
 		return err
 	}
 	if !r.spec.Frozen() && !c.Dev.given() {
 		return &model.SpecError{File: c.Model, Msg: "this is a recipe (it has no intercept): give the development data with --dev to fit it, or fit it first with 'riskaudit fit'", Kind: model.ErrNotFrozen}
-	}
-	if c.Model != "" && c.Spec == nil {
-		r.modelHash, r.modelErr = fileSHA256(c.Model)
 	}
 	return nil
 }
@@ -361,8 +359,6 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 		parent := validate.ParentModel{Path: c.Model, SHA256: r.modelHash}
 		if fm := r.fittedFile(); fm != nil {
 			parent = validate.ParentModel{Path: fm.Path, SHA256: fm.SHA256, FittedInAudit: true}
-		} else if r.modelErr != nil {
-			return r.modelErr
 		}
 		u, f, err := c.updateModel(ctx, r.spec, parent, r.cur)
 		if err != nil {
@@ -494,7 +490,7 @@ func (r *run) provenance() validate.Provenance {
 	c := r.cfg
 	pv := validate.Provenance{Tool: c.Tool, CommandLine: c.CommandLine, StartedAt: r.started.Format(timeFormat), Plan: c.Plan}
 	pv.AuditDate, pv.AuditDateSource = auditDate(c.AuditDate, c.AuditDateSource, r.started)
-	if c.Model != "" && r.modelErr == nil {
+	if c.Model != "" {
 		pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "model", Path: c.Model, SHA256: r.modelHash})
 	}
 	pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "cohort", Path: r.cur.file, Sheet: r.cur.sheet, SHA256: r.cur.hash, Query: r.cur.query})

@@ -2,12 +2,8 @@ package audit
 
 import (
 	"context"
-	"crypto/sha256"
-	"encoding/hex"
 	"errors"
 	"fmt"
-	"io"
-	"os"
 	"strconv"
 
 	"github.com/riskaudit/riskaudit/cohort"
@@ -264,18 +260,4 @@ func assess(sc *scored, opt validate.Options) (*validate.Performance, error) {
 	c := &perf.Cohort
 	c.Rows, c.Excluded, c.ExcludedByColumn = sc.summary.Rows, sc.summary.Excluded, sc.summary.ExcludedByColumn
 	return perf, nil
-}
-
-// fileSHA256 returns the hex SHA-256 of the file at path.
-func fileSHA256(path string) (string, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return "", fmt.Errorf("cannot read %s: %w", path, err)
-	}
-	defer f.Close()
-	h := sha256.New()
-	if _, err := io.Copy(h, f); err != nil {
-		return "", fmt.Errorf("cannot read %s: %w", path, err)
-	}
-	return hex.EncodeToString(h.Sum(nil)), nil
 }
