@@ -697,6 +697,7 @@ func (r *renderer) methods() {
 		"Brier score (Brier 1950) and scaled Brier score (Steyerberg et al. 2010).",
 		"Net benefit (Vickers & Elkin 2006), treating when the predicted risk is at or above the threshold.",
 		"Proportions with exact Clopper–Pearson intervals (Clopper & Pearson 1934).",
+		"Every 95% interval written with 1.96 uses z = 1.959964, the 97.5% point of the normal distribution.",
 	}
 	if r.a.SampleSize != nil {
 		items = append(items, "Sample size: the minimum size for precise O/E, calibration slope, C-statistic and standardised net benefit, after Riley et al. (2021): var(ln O/E) = (1 − φ)/(nφ); the slope's variance from the Fisher information of the calibration model over the linear predictor's distribution; Newcombe's (2006) variance of the C-statistic; the delta-method variance of NB/φ. Anticipated values as stated in that section.")
