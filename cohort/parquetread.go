@@ -198,7 +198,13 @@ func (l *layout) readParquetColumn(pf *file.Reader, k int, col pqColumn, nanErr 
 		if err != nil {
 			return r.row, formatError(l.path, "Parquet", err)
 		}
-		if err := r.chunk(cr, rg.NumRows()); err != nil {
+		// Closing the chunk's reader frees its page buffers to the
+		// file's allocator, which hands them to the next chunk.
+		err = r.chunk(cr, rg.NumRows())
+		if cerr := cr.Close(); err == nil && cerr != nil {
+			err = formatError(l.path, "Parquet", cerr)
+		}
+		if err != nil {
 			return r.row, err
 		}
 	}
