@@ -105,7 +105,7 @@ func (r *run) imputed(ctx context.Context) error {
 	strict.Imputation.stacked = true
 	if c.Imputation.Column != "" {
 		r.prog.Step("reading and scoring " + c.Cohort.Path)
-		sc, err := strict.completed(ctx, r.spec, c.Cohort)
+		sc, err := strict.completed(ctx, r.cohortSpec(), c.Cohort)
 		if err != nil {
 			return err
 		}
@@ -115,7 +115,7 @@ func (r *run) imputed(ctx context.Context) error {
 	} else {
 		for j, in := range c.Imputation.Files {
 			r.prog.Step(fmt.Sprintf("reading and scoring imputation %d, %s", j+1, in.Path))
-			sc, err := strict.completed(ctx, r.spec, in.named())
+			sc, err := strict.completed(ctx, r.cohortSpec(), in.named())
 			if err != nil {
 				return err
 			}
@@ -125,7 +125,7 @@ func (r *run) imputed(ctx context.Context) error {
 			ir.lines = append(ir.lines, nil)
 		}
 	}
-	if err := ir.check(r.spec); err != nil {
+	if err := ir.check(r.cohortSpec()); err != nil {
 		return err
 	}
 	imputed := ir.imputedRows(r.spec)

@@ -86,7 +86,10 @@ type run struct {
 	prog    Progress
 	started time.Time
 
-	spec      *model.Spec
+	spec *model.Spec
+	// cspec is spec with the cohort's outcome coding, or nil when the
+	// cohort uses the model's (cohortSpec).
+	cspec     *model.Spec
 	modelHash string
 	modelErr  error // why the model file could not be hashed
 	dev, cur  *scored
@@ -123,6 +126,9 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 	if err := r.loadModel(); err != nil {
 		return nil, err
 	}
+	if err := r.recode(); err != nil {
+		return nil, err
+	}
 	var internal *validate.Internal
 	if c.Dev.given() {
 		dev, err := r.readDev(ctx)
@@ -141,6 +147,9 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 					return nil, fmt.Errorf("writing the fitted model: %w", err)
 				}
 				r.fitted = &atomicfile.File{Path: FittedModelName, Data: y}
+				if err := r.recode(); err != nil {
+					return nil, err
+				}
 			}
 			if c.Bootstrap > 0 {
 				var files []atomicfile.File
@@ -167,10 +176,10 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 		var err error
 		if len(c.Clusters.Files) > 0 {
 			r.prog.Step(fmt.Sprintf("reading and scoring %d cluster files", len(c.Clusters.Files)))
-			r.cur, err = c.scoreClusterFiles(ctx, r.spec)
+			r.cur, err = c.scoreClusterFiles(ctx, r.cohortSpec())
 		} else {
 			r.prog.Step("reading and scoring " + c.Cohort.Path)
-			r.cur, err = c.score(ctx, r.spec, c.Cohort, true)
+			r.cur, err = c.score(ctx, r.cohortSpec(), c.Cohort, true)
 		}
 		if err != nil {
 			return nil, err
@@ -352,7 +361,7 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 	a.SampleSize = sampleSizeOf(r.cur, r.perf, c.Measures.ClassifyAt, c.sizeRequest())
 	if c.hasModel() && c.Dev.given() && c.hasCohort() && r.imp == nil {
 		r.prog.Step("comparing case-mix")
-		if a.CaseMix, err = c.caseMix(r.spec, r.dev, r.cur, r.devPerf, r.perf); err != nil {
+		if a.CaseMix, err = c.caseMix(r.spec, r.cohortSpec(), r.dev, r.cur, r.devPerf, r.perf); err != nil {
 			return err
 		}
 	}
@@ -364,7 +373,7 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 		} else if r.modelErr != nil {
 			return r.modelErr
 		}
-		u, f, err := c.updateModel(ctx, r.spec, parent, r.cur)
+		u, f, err := c.updateModel(ctx, r.spec, r.cohortSpec(), parent, r.cur)
 		if err != nil {
 			return err
 		}
@@ -487,6 +496,7 @@ func (r *run) modelInfo() validate.ModelInfo {
 	}
 	m.Purpose = validate.NewPurpose(spec.Purpose, c.Purpose)
 	m.FittedModel = r.fittedFile()
+	m.CohortOutcome = outcomeInfo(spec, r.cohortSpec())
 	return m
 }
 

@@ -56,6 +56,9 @@ type scored struct {
 // measured by: the development data beside a cohort need not hold them.
 func (c *Config) requests(spec *model.Spec, audited bool) ([]cohort.Request, error) {
 	reqs := spec.Columns(true)
+	if audited && c.Predicted == nil && !c.Outcome.given() && c.hasCohort() {
+		reqs[0].For = "the model's outcome (a cohort that names or codes it otherwise can say so with --outcome, --event and --non-event)"
+	}
 	if c.Predicted != nil {
 		reqs = append(reqs, cohort.Request{Name: c.Predicted.Column, Kind: cohort.Numeric, NaNIsError: true, For: "the predicted risks (every file audited holds them)"})
 	}

@@ -55,6 +55,10 @@ type entry struct {
 	norm      bool
 	factors   [2]int // product: entry indices
 	offset    int    // first term's position in a row, after the intercept
+	// rng is the column's range over the rows the design uses, found for
+	// a recipe's numeric entry (nil otherwise): the development range the
+	// frozen model states.
+	rng *Range
 }
 
 // Options control how a design is built.
@@ -357,6 +361,9 @@ func (d *Design) bindNumeric(e *entry, used []bool) error {
 	pr := e.pred
 	e.col = d.frame.Column(pr.Column)
 	name := pr.Column
+	if !d.Spec.Frozen() {
+		e.rng = usedRange(e.col.Num, used)
+	}
 	switch {
 	case pr.Log:
 		e.kind = logTerm
@@ -401,6 +408,28 @@ func (d *Design) bindNumeric(e *entry, used []bool) error {
 		e.labels = []string{name}
 	}
 	return nil
+}
+
+// usedRange is the smallest and largest of the values x[i] with used[i]
+// set (every used value is present: complete cases), or nil when no row
+// is used.
+func usedRange(x []float64, used []bool) *Range {
+	var r *Range
+	for i, ok := range used {
+		if !ok {
+			continue
+		}
+		v := x[i]
+		switch {
+		case r == nil:
+			r = &Range{Min: v, Max: v}
+		case v < r.Min:
+			r.Min = v
+		case v > r.Max:
+			r.Max = v
+		}
+	}
+	return r
 }
 
 func (d *Design) bindCategorical(e *entry, used []bool) error {
@@ -490,6 +519,11 @@ func (d *Design) bindProduct(e *entry, byColumn map[string]int) error {
 	return nil
 }
 
+// recodeHint is what an outcome value that is neither the model's event
+// nor its non-event suggests, the audit's own flags first.
+const recodeHint = "the model names its outcome's codes: if this cohort codes the outcome otherwise, say how with --outcome, --event and --non-event beside --model; " +
+	"or recode the column to the model's codes, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event"
+
 // mapOutcome codes every outcome level present in the used rows as event
 // or non-event, and refuses values that are neither.
 func (d *Design) mapOutcome(used []bool) error {
@@ -531,10 +565,19 @@ func (d *Design) mapOutcome(used []bool) error {
 	if len(bad) > 0 {
 		code := bad[0]
 		return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Row: d.frame.RowNumbered, Cell: d.frame.CellRef(c.LevelLine[code], c.Name), Column: c.Name, Value: c.Levels[code], HasValue: true,
-			Msg: fmt.Sprintf("neither the event %s nor the non-event %s; values seen: %s (the model names its outcome's codes: recode the column to them, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event)", cohort.Quote(o.Event.Text), cohort.Quote(o.NonEvent.Text), seen()), Kind: cohort.ErrOutcome}
+			Msg: fmt.Sprintf("neither the event %s nor the non-event %s; values seen: %s (%s)", cohort.Quote(o.Event.Text), cohort.Quote(o.NonEvent.Text), seen(), recodeHint), Kind: cohort.ErrOutcome}
 	}
 	if events == 0 {
-		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no events (no row equals the event value %s); values seen: %s", cohort.Quote(o.Event.Text), seen()), Kind: cohort.ErrOutcome}
+		hint, distinct := "", 0
+		for _, n := range present {
+			if n > 0 {
+				distinct++
+			}
+		}
+		if distinct > 1 {
+			hint = " (if this cohort codes the event otherwise, give its value with --event beside --model)"
+		}
+		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no events (no row equals the event value %s); values seen: %s%s", cohort.Quote(o.Event.Text), seen(), hint), Kind: cohort.ErrOutcome}
 	}
 	if nonEvents == 0 {
 		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no non-events (every row equals the event value %s)", cohort.Quote(o.Event.Text)), Kind: cohort.ErrOutcome}

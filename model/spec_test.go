@@ -72,7 +72,8 @@ func mustSpec(t *testing.T, y string) *Spec {
 func TestBuildErrors(t *testing.T) {
 	recipe := "outcome: {column: y, event: yes, non_event: no}\npredictors:\n  - column: a\n    log: true\n  - column: g\n    categorical: true\n"
 	tests := []struct{ name, spec, csv, want string }{
-		{"bad outcome", recipe, "y,a,g\nyes,1,p\nno,2,q\nYes,3,p\n", `c.csv: line 4, column "y": value "Yes": neither the event "yes" nor the non-event "no"; values seen: "yes", "no", "Yes" (the model names its outcome's codes: recode the column to them, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event)`},
+		{"bad outcome", recipe, "y,a,g\nyes,1,p\nno,2,q\nYes,3,p\n", `c.csv: line 4, column "y": value "Yes": neither the event "yes" nor the non-event "no"; values seen: "yes", "no", "Yes" (the model names its outcome's codes: if this cohort codes the outcome otherwise, say how with --outcome, --event and --non-event beside --model; or recode the column to the model's codes, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event)`},
+		{"no events, two values", "outcome: {column: y, event: yes}\npredictors: []\n", "y\n1\n0\n", `c.csv: column "y": no events (no row equals the event value "yes"); values seen: "1", "0" (if this cohort codes the event otherwise, give its value with --event beside --model)`},
 		{"no events", "outcome: {column: y, event: 1}\npredictors: []\n", "y\n0\n0\n", `c.csv: column "y": no events (no row equals the event value "1"); values seen: "0"`},
 		{"no non-events", "outcome: {column: y, event: 1}\npredictors: []\n", "y\n1\n1.0\n", `no non-events`},
 		{"log of zero", recipe, "y,a,g\nyes,1,p\nno,0,q\n", `c.csv: line 3, column "a": value "0": log needs positive values`},

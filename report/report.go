@@ -121,9 +121,31 @@ func (r *renderer) header() {
 	}
 	r.p("Audit of %s on the cohort %s, outcome %s = %s. Made %s by %s. %s\n\n",
 		what, code(cohortFile), code(a.Model.Outcome), code(a.Model.Event), a.Provenance.StartedAt, Escape(a.Provenance.Tool), auditDateLine(a.Provenance))
+	if l := cohortOutcomeLine(a.Model); l != "" {
+		r.p("%s\n\n", l)
+	}
 	if a.CohortIsDevelopment {
 		r.p("No new cohort was given: the measures below are the model's apparent performance on its development data, and the internal validation says how optimistic they are.\n\n")
 	}
+}
+
+// cohortOutcomeLine says, in Markdown, for an audit told that the
+// cohort codes the model's outcome otherwise, which column and values
+// were read and what the model names; "" when the cohort uses the
+// model's own codes.
+func cohortOutcomeLine(m validate.ModelInfo) string {
+	co := m.CohortOutcome
+	if co == nil {
+		return ""
+	}
+	nonEvent := func(v string) string {
+		if v == "" {
+			return "any other value a non-event"
+		}
+		return "non-event " + code(v)
+	}
+	return fmt.Sprintf("The cohort's outcome was read from column %s with event value %s (%s) instead of the model's %s = %s (%s), as the audit was told this cohort codes it; the model, its SHA-256 and its coefficients are unchanged.",
+		code(co.Column), code(co.Event), nonEvent(co.NonEvent), code(m.Outcome), code(m.Event), nonEvent(co.ModelNonEvent))
 }
 
 func (r *renderer) fit() {

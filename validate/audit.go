@@ -173,6 +173,11 @@ type ModelInfo struct {
 	Terms   []string `json:"terms,omitempty"`
 	Outcome string   `json:"outcome"`
 	Event   string   `json:"event"`
+	// CohortOutcome is how the cohort coded the model's outcome when the
+	// audit was told that it codes it otherwise (audit --outcome, --event,
+	// --non-event with --model); nil when the cohort uses the model's
+	// own codes, Outcome and Event.
+	CohortOutcome *CohortOutcome `json:"cohort_outcome,omitempty"`
 	// Purpose is the model's stated purpose, with the fields not stated.
 	Purpose *Purpose `json:"purpose"`
 	// FittedModel is the frozen model that the audit fitted from the
@@ -182,6 +187,18 @@ type ModelInfo struct {
 	// the frozen model's provenance (parent_model_sha256), when it
 	// updates one.
 	ParentSHA256 string `json:"parent_sha256,omitempty"`
+}
+
+// CohortOutcome is the cohort's own coding of a frozen model's outcome:
+// the column read and the values taken as event and non-event (NonEvent
+// empty: every value but the event), beside the model's non-event
+// (ModelNonEvent, empty when the model names none). The model's column
+// and event are ModelInfo's Outcome and Event.
+type CohortOutcome struct {
+	Column        string `json:"column"`
+	Event         string `json:"event"`
+	NonEvent      string `json:"non_event,omitempty"`
+	ModelNonEvent string `json:"model_non_event,omitempty"`
 }
 
 // Apparent is the model's performance on its development data, in the

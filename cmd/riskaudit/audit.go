@@ -220,9 +220,9 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.StringVar(&o.cfg.Model, "model", "", "frozen model (YAML) that scores the cohort, or a recipe to fit on --dev")
 	f.StringVar(&o.predicted, "predicted", "", "column of predicted risks (0 to 1) to audit instead of a model")
 	f.BoolVar(&o.predictedPercent, "predicted-percent", false, "the --predicted column holds risks in percent (0 to 100), divided by 100")
-	f.StringVar(&o.outcome, "outcome", "", "with --predicted: the outcome column")
-	f.StringVar(&o.event, "event", "", "with --predicted: the outcome value that is an event")
-	f.StringVar(&o.nonEvent, "non-event", "", "with --predicted: the value that is a non-event (then any other value is an error)")
+	f.StringVar(&o.outcome, "outcome", "", "with --predicted: the outcome column; with --model: the cohort's column holding the model's outcome (default: the model's)")
+	f.StringVar(&o.event, "event", "", "with --predicted: the outcome value that is an event; with --model: the value that is the model's event in this cohort (default: the model's)")
+	f.StringVar(&o.nonEvent, "non-event", "", "with --predicted or --model: the value that is a non-event (then any other value is an error); with --model and --event but no --non-event, every other value is a non-event")
 	f.StringVar(&o.cfg.Cohort.Path, "cohort", "", "the cohort to audit (CSV or TSV with a header row, Parquet, Arrow IPC, or an Excel workbook)")
 	f.StringVar(&o.cfg.Dev.Path, "dev", "", "the development data, measured the same way for comparison")
 	f.StringVar(&o.out, "out", "", "folder for the report, audit.json and figures (created if absent)")
@@ -341,8 +341,9 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 		}
 		return cfg, usagef("give the output folder with --out (or in the plan)")
 	}
-	if cfg.Model != "" && o.predicted == "" && (o.outcome != "" || o.event != "" || o.nonEvent != "") {
-		return cfg, usagef("--outcome, --event and --non-event go with --predicted; a model names its own outcome")
+	if o.predicted == "" && (o.outcome != "" || o.event != "" || o.nonEvent != "") {
+		// With a model: how this cohort codes the model's outcome.
+		cfg.Outcome = &audit.CohortOutcome{Column: o.outcome, Event: o.event, NonEvent: o.nonEvent}
 	}
 	var err error
 	if cfg.Measures.ClassifyAt, err = parseClassifyAt(o.classifyAt); err != nil {
