@@ -385,6 +385,11 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 			return err
 		}
 	}
+	// Last among the limitations: a warning that changes no number.
+	a.OutOfRange = r.cur.ranges
+	if f, ok := outOfRangeFinding(a.OutOfRange); ok {
+		a.Summary = append(a.Summary, f)
+	}
 	return nil
 }
 

@@ -47,6 +47,9 @@ type scored struct {
 	// dates are the OverTime date column's text in the used rows, with
 	// their lines for errors (nil without a date column).
 	dates *dateColumn
+	// ranges are the predictor values of the audited data beyond the
+	// model's development range or like missing-value codes (ranges.go).
+	ranges []validate.OutOfRange
 }
 
 // requests are the columns an audit reads: the model's (with the
@@ -188,6 +191,9 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input, audited 
 	}
 	if audited {
 		sc.dates = c.OverTime.column(fr, m.Rows)
+		if c.Predicted == nil {
+			sc.ranges = outOfRange(spec, fr, m.Rows)
+		}
 	}
 	if c.Predicted != nil {
 		if sc.p, err = predictedRisks(fr, c.Predicted.Column, m.Rows, c.Predicted.Percent); err != nil {

@@ -330,6 +330,10 @@ type Audit struct {
 	BootstrapCI *PercentileCIs `json:"bootstrap_ci,omitempty"`
 	// OverTime is the cohort charted in date order (audit --date-column).
 	OverTime *monitor.Summary `json:"over_time,omitempty"`
+	// OutOfRange lists the audited cohort's predictor values beyond the
+	// model's development range, or that look like missing-value codes
+	// (empty: none).
+	OutOfRange []OutOfRange `json:"out_of_range,omitempty"`
 	// CohortIsDevelopment says that no new cohort was given, so the
 	// measures at the top level are those of the development data.
 	CohortIsDevelopment bool      `json:"cohort_is_development,omitempty"`

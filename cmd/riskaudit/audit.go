@@ -311,6 +311,8 @@ func runAudit(ctx context.Context, o *auditOptions, s *streams) error {
 	if err != nil {
 		return err
 	}
+	prog.Done()
+	warnOutOfRange(s, res.Audit.OutOfRange)
 	prog.Step("writing " + o.out)
 	w, err := audit.Write(o.out, res, wopt)
 	if err != nil {
@@ -459,6 +461,14 @@ func (o *auditOptions) checkValues() error {
 		return usagef("--update-alpha %g: give a level strictly between 0 and 1", o.cfg.UpdateAlpha)
 	}
 	return nil
+}
+
+// warnOutOfRange prints each out-of-range warning on stderr, quiet or
+// not: the report's summary carries them too.
+func warnOutOfRange(s *streams, ws []validate.OutOfRange) {
+	for _, w := range ws {
+		fmt.Fprintf(s.err, "riskaudit: warning: %s\n", w.Text)
+	}
 }
 
 // criterionError reports an audit that ran but did not meet its
