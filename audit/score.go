@@ -59,7 +59,7 @@ type scored struct {
 // measured by: the development data beside a cohort need not hold them.
 func (c *Config) requests(spec *model.Spec, audited bool) ([]cohort.Request, error) {
 	reqs := spec.Columns(true)
-	if audited && c.Predicted == nil && !c.Outcome.given() && c.hasCohort() {
+	if audited && c.Predicted == nil && c.hasCohort() && !c.Outcome.given() {
 		reqs[0].For = "the model's outcome (a cohort that names or codes it otherwise can say so with --outcome, --event and --non-event)"
 	}
 	if c.Predicted != nil {
@@ -167,7 +167,10 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input, audited 
 	if c.Predicted != nil {
 		also = []string{c.Predicted.Column}
 	}
-	d, m, err := model.Build(spec, fr, model.Options{Outcome: true, FailOnMissing: c.FailOnMissing, Also: also, NoMatrix: true})
+	// The cohort (not development data beside it) may code the outcome
+	// otherwise and say so.
+	cohortCodes := audited && c.Predicted == nil && c.hasCohort()
+	d, m, err := model.Build(spec, fr, model.Options{Outcome: true, FailOnMissing: c.FailOnMissing, Also: also, NoMatrix: true, CohortCodes: cohortCodes})
 	if err != nil {
 		return nil, err
 	}

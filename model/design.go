@@ -72,6 +72,11 @@ type Options struct {
 	// Also names further columns whose missing values leave a row out, so
 	// that two models can be fitted to the same rows.
 	Also []string
+	// CohortCodes says that the data are an audited cohort, which may
+	// code the model's outcome otherwise and can say so with the audit's
+	// --outcome, --event and --non-event: the outcome errors hint at
+	// them first.
+	CohortCodes bool
 	// NoMatrix leaves Matrix.X empty: a frozen model that only scores
 	// needs no design matrix. The terms are then evaluated, and their
 	// values checked, by Design.LinearPredictors.
@@ -133,7 +138,7 @@ func Build(spec *Spec, fr *cohort.Frame, opt Options) (*Design, *Matrix, error) 
 		return nil, nil, err
 	}
 	if opt.Outcome {
-		if err := d.mapOutcome(used); err != nil {
+		if err := d.mapOutcome(used, opt.CohortCodes); err != nil {
 			return nil, nil, err
 		}
 	}
@@ -519,14 +524,18 @@ func (d *Design) bindProduct(e *entry, byColumn map[string]int) error {
 	return nil
 }
 
-// recodeHint is what an outcome value that is neither the model's event
-// nor its non-event suggests, the audit's own flags first.
-const recodeHint = "the model names its outcome's codes: if this cohort codes the outcome otherwise, say how with --outcome, --event and --non-event beside --model; " +
-	"or recode the column to the model's codes, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event"
+// The hints of an outcome value that is neither the model's event nor
+// its non-event: the audit's own flags first for an audited cohort.
+const (
+	recodeHint = "the model names its outcome's codes: recode the column to them, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event"
+	flagsHint  = "the model names its outcome's codes: if this cohort codes the outcome otherwise, say how with --outcome, --event and --non-event beside --model; " +
+		"or recode the column to the model's codes, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event"
+)
 
 // mapOutcome codes every outcome level present in the used rows as event
-// or non-event, and refuses values that are neither.
-func (d *Design) mapOutcome(used []bool) error {
+// or non-event, and refuses values that are neither; cohortCodes is
+// Options.CohortCodes.
+func (d *Design) mapOutcome(used []bool, cohortCodes bool) error {
 	o := d.Spec.Outcome
 	c := d.ocol
 	d.outcome = make([]int8, len(c.Levels))
@@ -562,10 +571,14 @@ func (d *Design) mapOutcome(used []bool) error {
 		}
 		return cohort.QuoteList(vals)
 	}
+	hint := recodeHint
+	if cohortCodes {
+		hint = flagsHint
+	}
 	if len(bad) > 0 {
 		code := bad[0]
 		return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Row: d.frame.RowNumbered, Cell: d.frame.CellRef(c.LevelLine[code], c.Name), Column: c.Name, Value: c.Levels[code], HasValue: true,
-			Msg: fmt.Sprintf("neither the event %s nor the non-event %s; values seen: %s (%s)", cohort.Quote(o.Event.Text), cohort.Quote(o.NonEvent.Text), seen(), recodeHint), Kind: cohort.ErrOutcome}
+			Msg: fmt.Sprintf("neither the event %s nor the non-event %s; values seen: %s (%s)", cohort.Quote(o.Event.Text), cohort.Quote(o.NonEvent.Text), seen(), hint), Kind: cohort.ErrOutcome}
 	}
 	if events == 0 {
 		hint, distinct := "", 0
@@ -574,7 +587,7 @@ func (d *Design) mapOutcome(used []bool) error {
 				distinct++
 			}
 		}
-		if distinct > 1 {
+		if cohortCodes && distinct > 1 {
 			hint = " (if this cohort codes the event otherwise, give its value with --event beside --model)"
 		}
 		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no events (no row equals the event value %s); values seen: %s%s", cohort.Quote(o.Event.Text), seen(), hint), Kind: cohort.ErrOutcome}

@@ -29,7 +29,7 @@ func TestSpecEchoesLittle(t *testing.T) {
 	}
 	err = buildErr(recipe, csv.String(), Options{})(t)
 	want := `c.csv: line 4, column "y": value "` + huge[:60] + `…" (10000000 characters): neither the event "yes" nor the non-event "no"; values seen: "yes", "no", "` +
-		huge[:60] + `…" (10000000 characters), "v0", "v1", "v2", "v3", "v4", "v5", "v6", … and 5 more (the model names its outcome's codes: if this cohort codes the outcome otherwise, say how with --outcome, --event and --non-event beside --model; or recode the column to the model's codes, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event)`
+		huge[:60] + `…" (10000000 characters), "v0", "v1", "v2", "v3", "v4", "v5", "v6", … and 5 more (the model names its outcome's codes: recode the column to them, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event)`
 	if err == nil || err.Error() != want {
 		t.Errorf("got  %.400v\nwant %.400s", err, want)
 	}

@@ -72,8 +72,7 @@ func mustSpec(t *testing.T, y string) *Spec {
 func TestBuildErrors(t *testing.T) {
 	recipe := "outcome: {column: y, event: yes, non_event: no}\npredictors:\n  - column: a\n    log: true\n  - column: g\n    categorical: true\n"
 	tests := []struct{ name, spec, csv, want string }{
-		{"bad outcome", recipe, "y,a,g\nyes,1,p\nno,2,q\nYes,3,p\n", `c.csv: line 4, column "y": value "Yes": neither the event "yes" nor the non-event "no"; values seen: "yes", "no", "Yes" (the model names its outcome's codes: if this cohort codes the outcome otherwise, say how with --outcome, --event and --non-event beside --model; or recode the column to the model's codes, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event)`},
-		{"no events, two values", "outcome: {column: y, event: yes}\npredictors: []\n", "y\n1\n0\n", `c.csv: column "y": no events (no row equals the event value "yes"); values seen: "1", "0" (if this cohort codes the event otherwise, give its value with --event beside --model)`},
+		{"bad outcome", recipe, "y,a,g\nyes,1,p\nno,2,q\nYes,3,p\n", `c.csv: line 4, column "y": value "Yes": neither the event "yes" nor the non-event "no"; values seen: "yes", "no", "Yes" (the model names its outcome's codes: recode the column to them, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event)`},
 		{"no events", "outcome: {column: y, event: 1}\npredictors: []\n", "y\n0\n0\n", `c.csv: column "y": no events (no row equals the event value "1"); values seen: "0"`},
 		{"no non-events", "outcome: {column: y, event: 1}\npredictors: []\n", "y\n1\n1.0\n", `no non-events`},
 		{"log of zero", recipe, "y,a,g\nyes,1,p\nno,0,q\n", `c.csv: line 3, column "a": value "0": log needs positive values`},
@@ -86,6 +85,35 @@ func TestBuildErrors(t *testing.T) {
 			_, _, err := Build(s, frame(t, tt.csv, s, true), Options{Outcome: true})
 			if err == nil || !strings.Contains(err.Error(), tt.want) {
 				t.Errorf("got  %v\nwant %s", err, tt.want)
+			}
+		})
+	}
+}
+
+// TestCohortCodesHint: for an audited cohort (Options.CohortCodes) the
+// outcome errors hint at the audit's outcome flags first; for other data
+// (a fit's) they do not, since fit takes no such flags.
+func TestCohortCodesHint(t *testing.T) {
+	const flags = "say how with --outcome, --event and --non-event beside --model"
+	for _, tc := range []struct {
+		name, spec, csv string
+		cohort          bool
+		want            string
+	}{
+		{"a third value in a cohort", "outcome: {column: y, event: yes, non_event: no}\npredictors: []\n", "y\nyes\nno\n1\n", true,
+			`values seen: "yes", "no", "1" (the model names its outcome's codes: if this cohort codes the outcome otherwise, ` + flags + `; or recode the column to the model's codes, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event)`},
+		{"no events among two values in a cohort", "outcome: {column: y, event: yes}\npredictors: []\n", "y\n1\n0\n", true,
+			`no events (no row equals the event value "yes"); values seen: "1", "0" (if this cohort codes the event otherwise, give its value with --event beside --model)`},
+		{"no events, one value: nothing to recode", "outcome: {column: y, event: yes}\npredictors: []\n", "y\n0\n0\n", true,
+			`no events (no row equals the event value "yes"); values seen: "0"`},
+		{"no events in a fit's data: no flags hinted", "outcome: {column: y, event: yes}\npredictors: []\n", "y\n1\n0\n", false,
+			`no events (no row equals the event value "yes"); values seen: "1", "0"`},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			s := mustSpec(t, tc.spec)
+			_, _, err := Build(s, frame(t, tc.csv, s, true), Options{Outcome: true, CohortCodes: tc.cohort})
+			if err == nil || !strings.HasSuffix(err.Error(), tc.want) {
+				t.Errorf("got  %v\nwant …%s", err, tc.want)
 			}
 		})
 	}

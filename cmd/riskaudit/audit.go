@@ -24,7 +24,8 @@ type auditOptions struct {
 	// imputed are read into cfg.Imputation (imputedflags.go).
 	imputed imputedFlags
 	data    dataFlags
-	// predicted, outcome, event and nonEvent make cfg.Predicted.
+	// predicted, outcome, event and nonEvent make cfg.Predicted, or with
+	// a model cfg.Outcome (the cohort's coding of its outcome).
 	predicted, outcome, event, nonEvent string
 	predictedPercent                    bool
 	// thresholds and delta are read into cfg.Measures.
@@ -63,6 +64,17 @@ complete row of the cohort, or from a column of risks predicted by any
 model (--predicted, with --outcome and --event). With --dev, the same
 measures on the development data stand beside the new cohort's, so drift
 is visible.
+
+A cohort that codes the model's outcome otherwise (the model's event is
+yes, the registry's extract writes died = 1/0) says so with --outcome,
+--event and --non-event beside --model (or the plan's outcome, event and
+non_event): the model, its SHA-256 and its coefficients are unchanged,
+and the report says which column and values were read instead of the
+model's. The development data keep the model's own codes. Numeric
+predictor values beyond the development range a frozen model states
+(fit writes it), or, without one, values such as 999 or -1 far beyond a
+column's others, are named in the report and on stderr with a count, the
+most extreme value and its line; they change no number.
 
 Measures: AUC with DeLong's standard error; calibration-in-the-large and
 calibration slope with Wald intervals; O/E; Hosmer–Lemeshow (df = groups,
@@ -138,6 +150,9 @@ const auditExample = `  # Audit a frozen model on a fresh extract
 
   # Audit the risks a vendor's system wrote into a column
   riskaudit audit --predicted vendor_risk --outcome died_30d --event yes --cohort new.csv --out audit
+
+  # A frozen model (outcome died_30d = yes) on an extract coding it death30 = 1/0
+  riskaudit audit --model frozen.yaml --cohort registry.csv --outcome death30 --event 1 --non-event 0 --out audit
 
   # The sheet "Extract" of an Excel workbook, by clinic and by visit date
   riskaudit audit --model frozen.yaml --cohort new.xlsx --sheet Extract --subgroups clinic,visit_date --out audit
