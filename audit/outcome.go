@@ -32,8 +32,8 @@ func (o *CohortOutcome) given() bool {
 	return o != nil && (o.Column != "" || o.Event != "" || o.NonEvent != "")
 }
 
-// check refuses an override that cannot apply: one with a column of
-// risks, one without a cohort to apply to (the development data are
+// checkOutcome refuses an override that cannot apply: one with a column
+// of risks, one without a cohort to apply to (the development data are
 // always read with the model's own codes), and one whose event and
 // non-event are the same value.
 func (c *Config) checkOutcome() error {
@@ -45,7 +45,13 @@ func (c *Config) checkOutcome() error {
 		return configErrorf("the cohort's outcome coding goes with --model; with --predicted, --outcome and --event name the outcome themselves")
 	case !c.hasCohort():
 		return configErrorf("--outcome, --event and --non-event with --model say how the cohort (--cohort) codes the model's outcome, and no cohort is given: the development data (--dev) are read with the model's own codes")
-	case o.Event != "" && o.Event == o.NonEvent:
+	}
+	return o.check()
+}
+
+// check refuses an event and a non-event that are the same value.
+func (o *CohortOutcome) check() error {
+	if o.Event != "" && o.Event == o.NonEvent {
 		return configErrorf("--event and --non-event are the same value %s", cohort.Quote(o.Event))
 	}
 	return nil
@@ -124,7 +130,7 @@ func outcomeInfo(model, cohortSpec *model.Spec) *validate.CohortOutcome {
 		return nil
 	}
 	o := cohortSpec.Outcome
-	info := &validate.CohortOutcome{Column: o.Column, Event: o.Event.Text}
+	info := &validate.CohortOutcome{Column: o.Column, Event: o.Event.Text, ModelColumn: model.Outcome.Column, ModelEvent: model.Outcome.Event.Text}
 	if o.NonEvent != nil {
 		info.NonEvent = o.NonEvent.Text
 	}

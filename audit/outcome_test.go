@@ -88,11 +88,11 @@ func TestCohortOutcomeCoding(t *testing.T) {
 		kind    error
 	}{
 		{"column, event and non-event: the reference's numbers", numeric, true, &audit.CohortOutcome{Column: "complication", Event: "1", NonEvent: "0"},
-			&validate.CohortOutcome{Column: "complication", Event: "1", NonEvent: "0", ModelNonEvent: "no"}, "", nil},
+			&validate.CohortOutcome{Column: "complication", Event: "1", NonEvent: "0", ModelColumn: "ppc_30d", ModelEvent: "yes", ModelNonEvent: "no"}, "", nil},
 		{"event alone: every other value a non-event", numeric, false, &audit.CohortOutcome{Column: "complication", Event: "1"},
-			&validate.CohortOutcome{Column: "complication", Event: "1", ModelNonEvent: "no"}, "", nil},
+			&validate.CohortOutcome{Column: "complication", Event: "1", ModelColumn: "ppc_30d", ModelEvent: "yes", ModelNonEvent: "no"}, "", nil},
 		{"the model's column, other codes", sameColumn, true, &audit.CohortOutcome{Event: "Y", NonEvent: "N"},
-			&validate.CohortOutcome{Column: "ppc_30d", Event: "Y", NonEvent: "N", ModelNonEvent: "no"}, "", nil},
+			&validate.CohortOutcome{Column: "ppc_30d", Event: "Y", NonEvent: "N", ModelColumn: "ppc_30d", ModelEvent: "yes", ModelNonEvent: "no"}, "", nil},
 		{"a third value with a non-event given is still an error", third, false, &audit.CohortOutcome{Column: "complication", Event: "1", NonEvent: "0"},
 			nil, `neither the event "1" nor the non-event "0"`, cohort.ErrOutcome},
 		{"without the coding, the error hints at it first", sameColumn, false, nil,
@@ -167,5 +167,43 @@ func TestCohortOutcomeNeedsCohort(t *testing.T) {
 				t.Errorf("got %v, want a *ConfigError with %q", err, tc.want)
 			}
 		})
+	}
+}
+
+// TestCompareCohortOutcome: compare reads both models with the cohort's
+// coding, so the comparison of the demo's model with itself on the
+// recoded extract gives the AUC of the audit in the model's own codes
+// (the reference), and records the coding; without it the outcome error
+// hints at the flags.
+func TestCompareCohortOutcome(t *testing.T) {
+	d := fixture.WriteDemo(t, t.TempDir())
+	ctx := context.Background()
+	ref, err := audit.Run(ctx, demoAudit(d))
+	if err != nil {
+		t.Fatal(err)
+	}
+	sameColumn := filepath.Join(d.Dir, "same_column.csv")
+	recodeOutcome(t, d.Later, sameColumn, "ppc_30d", map[string]string{"yes": "Y", "no": "N"})
+	cfg := audit.CompareConfig{Models: []string{d.Frozen, d.Frozen}, Cohort: audit.Input{Path: sameColumn}, Outcome: &audit.CohortOutcome{Event: "Y", NonEvent: "N"},
+		Measures: validate.CompareOptions{Replicates: 100, Seed: 1}}
+	res, err := audit.Compare(ctx, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := &validate.CohortOutcome{Column: "ppc_30d", Event: "Y", NonEvent: "N", ModelColumn: "ppc_30d", ModelEvent: "yes", ModelNonEvent: "no"}
+	if got := res.Comparison.CohortOutcome; !reflect.DeepEqual(got, want) {
+		t.Errorf("coding %+v, want %+v", got, want)
+	}
+	if a, b := res.Comparison.DeLong.AUCA, ref.Audit.Discrimination.AUC; a != b {
+		t.Errorf("AUC %v, want the audit's %v", a, b)
+	}
+	cfg.Outcome = nil
+	if _, err := audit.Compare(ctx, cfg); err == nil || !errors.Is(err, cohort.ErrOutcome) || !strings.Contains(err.Error(), "say how with --outcome, --event and --non-event") {
+		t.Errorf("without the coding: %v", err)
+	}
+	cfg.Outcome = &audit.CohortOutcome{Event: "Y", NonEvent: "Y"}
+	var ce *audit.ConfigError
+	if _, err := audit.Compare(ctx, cfg); !errors.As(err, &ce) {
+		t.Errorf("event and non-event the same: %v, want a *ConfigError", err)
 	}
 }

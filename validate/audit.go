@@ -191,13 +191,14 @@ type ModelInfo struct {
 
 // CohortOutcome is the cohort's own coding of a frozen model's outcome:
 // the column read and the values taken as event and non-event (NonEvent
-// empty: every value but the event), beside the model's non-event
-// (ModelNonEvent, empty when the model names none). The model's column
-// and event are ModelInfo's Outcome and Event.
+// empty: every value but the event), beside the model's own column,
+// event and non-event (ModelNonEvent empty when the model names none).
 type CohortOutcome struct {
 	Column        string `json:"column"`
 	Event         string `json:"event"`
 	NonEvent      string `json:"non_event,omitempty"`
+	ModelColumn   string `json:"model_column"`
+	ModelEvent    string `json:"model_event"`
 	ModelNonEvent string `json:"model_non_event,omitempty"`
 }
 

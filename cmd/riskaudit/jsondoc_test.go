@@ -101,6 +101,8 @@ func TestJSONKeysDocumented(t *testing.T) {
 		{"audit", "--plan", planFile, "--rename", "bmi_value=bmi", "-q"},
 		{"audit", "--model", filepath.Join(demo, "frozen.yaml"), "--cohort", recoded, "--outcome", "complication", "--event", "1", "--non-event", "0",
 			"--out", filepath.Join(dir, "recoded"), "-q"},
+		{"compare", "--model", filepath.Join(demo, "frozen.yaml"), "--model", filepath.Join(demo, "frozen.yaml"), "--cohort", recoded,
+			"--outcome", "complication", "--event", "1", "--non-event", "0", "--out", filepath.Join(dir, "cmp_recoded"), "--ci-bootstrap", "100", "-q"},
 		{"fit", "--model", filepath.Join(demo, "recipe.yaml"), "--reduced", reduced, "--data", filepath.Join(demo, "development.csv"),
 			"--out", filepath.Join(dir, "refit.yaml"), "--json", filepath.Join(dir, "fit.json"), "-q"},
 		{"compare", "--model", filepath.Join(demo, "frozen.yaml"), "--model", filepath.Join(dir, "updated.yaml"),
@@ -125,7 +127,7 @@ func TestJSONKeysDocumented(t *testing.T) {
 	for _, f := range []string{filepath.Join(dir, "dated", "audit.json"), filepath.Join(dir, "audit", "audit.json"), filepath.Join(dir, "planned", "audit.json"), filepath.Join(dir, "fit.json"), filepath.Join(dir, "cmp", "compare.json"), filepath.Join(dir, "size.json"),
 		filepath.Join(dir, "audit2", "audit.json"), filepath.Join(dir, "trend", "trend.json"), filepath.Join(dir, "clusters", "audit.json"),
 		filepath.Join(dir, "imputed", "audit.json"), filepath.Join(dir, "imputed_files", "audit.json"), filepath.Join(dir, "clusterfiles", "audit.json"),
-		filepath.Join(dir, "recoded", "audit.json")} {
+		filepath.Join(dir, "recoded", "audit.json"), filepath.Join(dir, "cmp_recoded", "compare.json")} {
 		raw, err := os.ReadFile(f)
 		if err != nil {
 			t.Fatal(err)
@@ -154,7 +156,7 @@ func TestJSONKeysDocumented(t *testing.T) {
 		"provenance.plan.sha256", "provenance.renames[].applied_to", "model.purpose.replaced_from_model.setting", "model.fitted_model.sha256", "calibration.b.ici_ci",
 		"model.parent_sha256", "models[].parent_series", "provenance.inputs[].cluster", "over_time.cusum[].first_signal.patient", "over_time.periods[].auc_ci", "model_changes[].series_before", "audits[].criteria[].between",
 		"imputation.pooled.brier.fmi", "imputation.pooled.auc.df", "imputation.files", "imputation.complete_case.oe", "imputation.averaged.net_benefit[].model",
-		"model.cohort_outcome.non_event", "model.cohort_outcome.model_non_event", "out_of_range[].line", "out_of_range[].text"} {
+		"model.cohort_outcome.non_event", "model.cohort_outcome.model_non_event", "cohort_outcome.model_event", "out_of_range[].line", "out_of_range[].text"} {
 		if !paths[p] {
 			t.Errorf("%s not written: an analysis did not run", p)
 		}
