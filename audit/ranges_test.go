@@ -122,3 +122,18 @@ func TestOutOfRangeText(t *testing.T) {
 		t.Errorf("got %+v", ws)
 	}
 }
+
+// TestCodeIndex: every code is found at its place in missingCodes, and
+// values near codes are not codes.
+func TestCodeIndex(t *testing.T) {
+	for k, c := range missingCodes {
+		if got := codeIndex(c); got != k {
+			t.Errorf("codeIndex(%g) = %d, want %d", c, got, k)
+		}
+	}
+	for _, v := range []float64{0, 1, 8, 10, 98, 100, 998, 9998, 10000, 99999, -2, -10, -100, -1000, -9999, 9.5, 99.0001, 1e300, -1e300} {
+		if got := codeIndex(v); got != -1 {
+			t.Errorf("codeIndex(%g) = %d, want -1 (not a code)", v, got)
+		}
+	}
+}
