@@ -192,6 +192,11 @@ func (ir *imputedRun) split(sc *scored, column string) error {
 			part.cluster = &cc
 		}
 		part.summary = validate.CohortSummary{Rows: len(rows)}
+		if k == 0 {
+			// The audit reports the first part's warnings: here those
+			// of the whole stacked file.
+			part.ranges = sc.ranges
+		}
 		ir.parts = append(ir.parts, part)
 		ir.labels = append(ir.labels, gc.Levels[k])
 		ir.lines = append(ir.lines, rows)
