@@ -86,7 +86,10 @@ type run struct {
 	prog    Progress
 	started time.Time
 
-	spec      *model.Spec
+	spec *model.Spec
+	// cspec is spec with the cohort's outcome coding, or nil when the
+	// cohort uses the model's (cohortSpec).
+	cspec     *model.Spec
 	modelHash string
 	dev, cur  *scored
 	devPerf   *validate.Performance
@@ -122,6 +125,9 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 	if err := r.loadModel(); err != nil {
 		return nil, err
 	}
+	if err := r.recode(); err != nil {
+		return nil, err
+	}
 	var internal *validate.Internal
 	if c.Dev.given() {
 		dev, err := r.readDev(ctx)
@@ -140,6 +146,9 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 					return nil, fmt.Errorf("writing the fitted model: %w", err)
 				}
 				r.fitted = &atomicfile.File{Path: FittedModelName, Data: y}
+				if err := r.recode(); err != nil {
+					return nil, err
+				}
 			}
 			if c.Bootstrap > 0 {
 				var files []atomicfile.File
@@ -166,10 +175,10 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 		var err error
 		if len(c.Clusters.Files) > 0 {
 			r.prog.Step(fmt.Sprintf("reading and scoring %d cluster files", len(c.Clusters.Files)))
-			r.cur, err = c.scoreClusterFiles(ctx, r.spec)
+			r.cur, err = c.scoreClusterFiles(ctx, r.cohortSpec())
 		} else {
 			r.prog.Step("reading and scoring " + c.Cohort.Path)
-			r.cur, err = c.score(ctx, r.spec, c.Cohort, true)
+			r.cur, err = c.score(ctx, r.cohortSpec(), c.Cohort, true)
 		}
 		if err != nil {
 			return nil, err
@@ -350,7 +359,7 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 	a.SampleSize = sampleSizeOf(r.cur, r.perf, c.Measures.ClassifyAt, c.sizeRequest())
 	if c.hasModel() && c.Dev.given() && c.hasCohort() && r.imp == nil {
 		r.prog.Step("comparing case-mix")
-		if a.CaseMix, err = c.caseMix(r.spec, r.dev, r.cur, r.devPerf, r.perf); err != nil {
+		if a.CaseMix, err = c.caseMix(r.spec, r.cohortSpec(), r.dev, r.cur, r.devPerf, r.perf); err != nil {
 			return err
 		}
 	}
@@ -360,7 +369,7 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 		if fm := r.fittedFile(); fm != nil {
 			parent = validate.ParentModel{Path: fm.Path, SHA256: fm.SHA256, FittedInAudit: true}
 		}
-		u, f, err := c.updateModel(ctx, r.spec, parent, r.cur)
+		u, f, err := c.updateModel(ctx, r.spec, r.cohortSpec(), parent, r.cur)
 		if err != nil {
 			return err
 		}
@@ -371,6 +380,11 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 		if err := r.subgroups(a, criteria); err != nil {
 			return err
 		}
+	}
+	// Last among the limitations: a warning that changes no number.
+	a.OutOfRange = r.cur.ranges
+	if f, ok := outOfRangeFinding(a.OutOfRange); ok {
+		a.Summary = append(a.Summary, f)
 	}
 	return nil
 }
@@ -483,6 +497,7 @@ func (r *run) modelInfo() validate.ModelInfo {
 	}
 	m.Purpose = validate.NewPurpose(spec.Purpose, c.Purpose)
 	m.FittedModel = r.fittedFile()
+	m.CohortOutcome = outcomeInfo(spec, r.cohortSpec())
 	return m
 }
 

@@ -43,6 +43,9 @@ type scored struct {
 	// dates are the OverTime date column's text in the used rows, with
 	// their lines for errors (nil without a date column).
 	dates *dateColumn
+	// ranges are the predictor values of the audited data beyond the
+	// model's development range or like missing-value codes (ranges.go).
+	ranges []validate.OutOfRange
 }
 
 // requests are the columns an audit reads: the model's (with the
@@ -52,6 +55,9 @@ type scored struct {
 // measured by: the development data beside a cohort need not hold them.
 func (c *Config) requests(spec *model.Spec, audited bool) ([]cohort.Request, error) {
 	reqs := spec.Columns(true)
+	if audited && c.Predicted == nil && c.hasCohort() && !c.Outcome.given() {
+		reqs[0].For = "the model's outcome (a cohort that names or codes it otherwise can say so with --outcome, --event and --non-event)"
+	}
 	if c.Predicted != nil {
 		reqs = append(reqs, cohort.Request{Name: c.Predicted.Column, Kind: cohort.Numeric, NaNIsError: true, For: "the predicted risks (every file audited holds them)"})
 	}
@@ -157,7 +163,10 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input, audited 
 	if c.Predicted != nil {
 		also = []string{c.Predicted.Column}
 	}
-	d, m, err := model.Build(spec, fr, model.Options{Outcome: true, FailOnMissing: c.FailOnMissing, Also: also, NoMatrix: true})
+	// The cohort (not development data beside it) may code the outcome
+	// otherwise and say so.
+	cohortCodes := audited && c.Predicted == nil && c.hasCohort()
+	d, m, err := model.Build(spec, fr, model.Options{Outcome: true, FailOnMissing: c.FailOnMissing, Also: also, NoMatrix: true, CohortCodes: cohortCodes})
 	if err != nil {
 		return nil, err
 	}
@@ -181,6 +190,9 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input, audited 
 	}
 	if audited {
 		sc.dates = c.OverTime.column(fr, m.Rows)
+		if c.Predicted == nil {
+			sc.ranges = outOfRange(spec, fr, m.Rows)
+		}
 	}
 	if c.Predicted != nil {
 		if sc.p, err = predictedRisks(fr, c.Predicted.Column, m.Rows, c.Predicted.Percent); err != nil {
