@@ -69,6 +69,11 @@ type Predicted struct {
 	Percent bool
 }
 
+// MaxReplicates is the most bootstrap replicates an audit takes, for
+// each of its bootstraps: far more than their Monte Carlo error needs,
+// and few enough that the replicates' results fit in memory.
+const MaxReplicates = 100000
+
 // Config names everything one audit needs. The zero values of the
 // options give the command line's defaults, except where a field says
 // otherwise.
@@ -253,6 +258,14 @@ func (c *Config) check() error {
 		return configErrorf("--predicted needs --cohort")
 	case c.Update != "" && (c.Predicted != nil || !c.hasCohort()):
 		return configErrorf("--update updates a model on the cohort: give --model and --cohort")
+	}
+	for _, b := range []struct {
+		flag string
+		n    int
+	}{{"--bootstrap", c.Bootstrap}, {"--ci-bootstrap", c.CIBootstrap}, {"--update-bootstrap", c.UpdateBootstrap}} {
+		if b.n > MaxReplicates {
+			return configErrorf("%s %d: give at most %d replicates (1,000 to 2,000 is common practice)", b.flag, b.n, MaxReplicates)
+		}
 	}
 	if c.AuditDate != "" {
 		if err := CheckAuditDate(c.AuditDate); err != nil {

@@ -7,6 +7,11 @@ import (
 	"strings"
 )
 
+// MaxThresholds is the most risk thresholds ParseThresholds gives: a
+// step of 0.001 across (0, 1) gives 999, finer than any decision a
+// threshold stands for; more only costs memory and time.
+const MaxThresholds = 1000
+
 // ParseThresholds reads risk thresholds written FROM:TO:STEP (such as
 // 0.05:0.50:0.05, TO included, each rounded to 9 decimals) or as a
 // comma-separated list; each number may be a proportion (0.2) or a
@@ -27,8 +32,16 @@ func ParseThresholds(s string) ([]float64, error) {
 			}
 			v[i] = f
 		}
+		for _, f := range v {
+			if math.IsNaN(f) || math.IsInf(f, 0) {
+				return nil, fmt.Errorf("%q: %g is not a finite number", s, f)
+			}
+		}
 		if v[2] <= 0 || v[1] < v[0] {
 			return nil, fmt.Errorf("%q: the step must be positive and TO at least FROM", s)
+		}
+		if n := math.Floor((v[1]-v[0])/v[2]+1e-9) + 1; n > MaxThresholds {
+			return nil, fmt.Errorf("%q: %.0f thresholds, more than the %d a decision curve can use (a step of 0.001 across (0, 1) gives 999)", s, n, MaxThresholds)
 		}
 		for k := 0; ; k++ {
 			t := v[0] + float64(k)*v[2]
@@ -44,6 +57,9 @@ func ParseThresholds(s string) ([]float64, error) {
 				return nil, fmt.Errorf("%q: %q is not a number", s, p)
 			}
 			out = append(out, f)
+		}
+		if len(out) > MaxThresholds {
+			return nil, fmt.Errorf("%d thresholds, more than the %d a decision curve can use", len(out), MaxThresholds)
 		}
 	}
 	for _, t := range out {

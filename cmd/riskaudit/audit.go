@@ -449,6 +449,11 @@ func (o *auditOptions) queryInputs(cfg *audit.Config) error {
 	return o.query.checkUsed()
 }
 
+// maxGroups is the most risk groups (--groups, --hl-groups) an audit
+// takes: groups of a few patients each at 100,000 rows, beyond any use
+// of a grouped test or plot.
+const maxGroups = 1000
+
 // checkValues refuses flag values out of range (where the library would
 // read a zero as its default, a zero typed on the command line is an
 // error).
@@ -457,10 +462,13 @@ func (o *auditOptions) checkValues() error {
 	if m.Groups < 2 || m.HLGroups < 3 {
 		return usagef("--groups needs at least 2 and --hl-groups at least 3")
 	}
+	if m.Groups > maxGroups || m.HLGroups > maxGroups {
+		return usagef("--groups %d, --hl-groups %d: give at most %d groups (10 is common practice)", m.Groups, m.HLGroups, maxGroups)
+	}
 	if err := checkWidths(o.cfg.SampleSize.Targets); err != nil {
 		return err
 	}
-	if m.Span <= 0 || m.Span > 1 {
+	if !(m.Span > 0 && m.Span <= 1) {
 		return usagef("--lowess-span %g: give a value in (0, 1]", m.Span)
 	}
 	if !(m.Epsilon > 0 && m.Epsilon < 0.01) {

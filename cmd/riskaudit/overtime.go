@@ -1,6 +1,7 @@
 package main
 
 import (
+	"math"
 	"strconv"
 	"strings"
 
@@ -20,6 +21,11 @@ func (o *auditOptions) overTimeFlags(f *pflag.FlagSet) {
 	f.Float64Var(&ot.Lambda, "ewma-lambda", monitor.DefaultLambda, "with --date-column: weight of each patient in the EWMA, in (0, 1]")
 	f.Float64Var(&ot.Width, "ewma-width", monitor.DefaultEWMAWidth, "with --date-column: EWMA control limits at this many exact standard deviations")
 }
+
+// maxARL is the largest in-control ARL whose limits the simulation can
+// choose within monitor.ChooseLimits's default bound of 2×10⁸
+// patient-steps: 100 runs of monitor.Horizon × the ARL.
+const maxARL = 2e8 / (100 * monitor.Horizon)
 
 // overTime reads the flags of the cohort in date order into the Config's
 // OverTime.
@@ -49,13 +55,13 @@ func (o *auditOptions) overTime() (audit.OverTime, error) {
 	if ot.Improvement, err = strconv.ParseFloat(strings.TrimSpace(odds[1]), 64); err != nil || !(ot.Improvement > 0 && ot.Improvement < 1) {
 		return ot, usagef("--cusum-odds %s: the improvement odds ratio must be a number between 0 and 1", o.cusumOdds)
 	}
-	if !(ot.ARL >= 10) {
-		return ot, usagef("--cusum-arl %g: give at least 10 patients", ot.ARL)
+	if !(ot.ARL >= 10 && ot.ARL <= maxARL) {
+		return ot, usagef("--cusum-arl %g: give from 10 to %g patients (the limit simulation runs at least 100 runs of %d × the ARL within its bound of 2×10⁸ patient-steps)", ot.ARL, maxARL, monitor.Horizon)
 	}
 	if !(ot.Lambda > 0 && ot.Lambda <= 1) {
 		return ot, usagef("--ewma-lambda %g: give a weight in (0, 1]", ot.Lambda)
 	}
-	if !(ot.Width > 0) {
+	if !(ot.Width > 0) || math.IsInf(ot.Width, 0) {
 		return ot, usagef("--ewma-width %g: give a positive number of standard deviations", ot.Width)
 	}
 	return ot, nil
