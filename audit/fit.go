@@ -4,11 +4,8 @@ import (
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
-	"errors"
 	"fmt"
-	"io/fs"
 	"math"
-	"os"
 	"slices"
 	"time"
 
@@ -158,14 +155,9 @@ func specOf(spec *model.Spec, path string) (*model.Spec, error) {
 // stream (a named pipe, a process substitution) is hashed as read
 // rather than opened a second time.
 func loadSpecHashed(path string) (*model.Spec, string, error) {
-	data, err := os.ReadFile(path)
+	data, err := model.ReadSpecFile(path)
 	if err != nil {
-		msg := err.Error()
-		var pe *fs.PathError
-		if errors.As(err, &pe) {
-			msg = pe.Err.Error()
-		}
-		return nil, "", &model.SpecError{File: path, Msg: "cannot read file: " + msg, Kind: model.ErrSpecRead, Err: err}
+		return nil, "", err
 	}
 	spec, err := model.ParseSpec(path, data)
 	if err != nil {

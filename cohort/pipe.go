@@ -5,6 +5,8 @@ import (
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
+	"errors"
+	"fmt"
 	"io"
 	"os"
 )
@@ -38,11 +40,16 @@ func openStream(path string) (*os.File, error) {
 // or zip directory, so one given as a stream is refused with the
 // advice to give the file itself.
 func loadStream(ctx context.Context, path string, f *os.File, reqs []Request, opt Options) (*Frame, error) {
-	data, err := io.ReadAll(f)
 	if f != os.Stdin {
-		f.Close()
+		defer f.Close()
 	}
+	data, err := readStream(f, MaxStream)
 	if err != nil {
+		var se *streamTooLarge
+		var nt streamNotText
+		if errors.As(err, &se) || errors.As(err, &nt) {
+			return nil, &Error{File: path, Msg: err.Error(), Kind: ErrFormat}
+		}
 		return nil, &Error{File: path, Msg: "cannot read stream: " + err.Error(), Kind: ErrRead, Err: err}
 	}
 	kind := columnarMagic(data)
@@ -66,6 +73,56 @@ func loadStream(ctx context.Context, path string, f *os.File, reqs []Request, op
 		fr.FileSHA256 = hex.EncodeToString(s[:])
 	}
 	return fr, nil
+}
+
+// MaxStream is the most bytes read from a stream (see openStream): it
+// is held in memory whole, so an endless or runaway stream (yes(1),
+// /dev/zero) is stopped here, not by the machine's memory. A larger
+// extract is read from a file, which is mapped, not copied.
+const MaxStream = 4 << 30
+
+// streamTooLarge is a stream that went on past the limit.
+type streamTooLarge struct{ limit int64 }
+
+func (e *streamTooLarge) Error() string {
+	return fmt.Sprintf("is a stream longer than %d GiB, the most read into memory: write it to a file and give the file", e.limit>>30)
+}
+
+// streamNotText is a stream whose first bytes are not delimited text,
+// in notText's words.
+type streamNotText string
+
+func (e streamNotText) Error() string { return string(e) }
+
+// readStream reads r to its end, at most limit bytes. Its first
+// sniffSize bytes are looked at before any more is read, so a stream
+// that is not text (/dev/zero, /dev/urandom, a binary) is refused with
+// notText's words at once rather than after filling memory.
+func readStream(r io.Reader, limit int64) ([]byte, error) {
+	head := make([]byte, sniffSize)
+	n, err := io.ReadFull(r, head)
+	head = head[:n]
+	if err == io.EOF || err == io.ErrUnexpectedEOF {
+		return head, nil
+	}
+	if err != nil {
+		return nil, err
+	}
+	if columnarMagic(head) == "" {
+		if msg := notText(head); msg != "" {
+			return nil, streamNotText(msg)
+		}
+	}
+	var buf bytes.Buffer
+	buf.Write(head)
+	m, err := buf.ReadFrom(io.LimitReader(r, limit-int64(n)+1))
+	if err != nil {
+		return nil, err
+	}
+	if int64(n)+m > limit {
+		return nil, &streamTooLarge{limit}
+	}
+	return buf.Bytes(), nil
 }
 
 // columnarMagic names the format whose magic bytes begin data when it

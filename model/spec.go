@@ -29,6 +29,7 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"strconv"
@@ -244,11 +245,35 @@ func (s *Spec) Frozen() bool { return s.HasIntercept }
 
 // LoadSpec reads and checks the spec file at path.
 func LoadSpec(path string) (*Spec, error) {
-	data, err := os.ReadFile(path)
+	data, err := ReadSpecFile(path)
+	if err != nil {
+		return nil, err
+	}
+	return ParseSpec(path, data)
+}
+
+// MaxSpecSize is the largest spec file read: a model of thousands of
+// terms is a few hundred kilobytes, so a larger file is not a spec (and
+// an endless stream such as /dev/zero is stopped here).
+const MaxSpecSize = 64 << 20
+
+// ReadSpecFile returns the bytes of the spec file at path, read once (a
+// pipe works), refusing a file larger than MaxSpecSize; an error is a
+// *SpecError of kind ErrSpecRead.
+func ReadSpecFile(path string) ([]byte, error) {
+	f, err := os.Open(path)
 	if err != nil {
 		return nil, &SpecError{File: path, Msg: "cannot read file: " + unwrapPath(err), Kind: ErrSpecRead, Err: err}
 	}
-	return ParseSpec(path, data)
+	defer f.Close()
+	data, err := io.ReadAll(io.LimitReader(f, MaxSpecSize+1))
+	if err != nil {
+		return nil, &SpecError{File: path, Msg: "cannot read file: " + unwrapPath(err), Kind: ErrSpecRead, Err: err}
+	}
+	if len(data) > MaxSpecSize {
+		return nil, &SpecError{File: path, Msg: fmt.Sprintf("is larger than %d MiB, which no model spec is", MaxSpecSize>>20), Kind: ErrSpecRead}
+	}
+	return data, nil
 }
 
 func unwrapPath(err error) string {
