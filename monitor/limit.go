@@ -172,7 +172,7 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 		return a
 	}
 	nm := uint64(len(mix))
-	var pts []walkPoint // the case mix as walk2 reads it
+	var pts []walkPoint // the case mix as the two-chart walks read it
 	if k == 2 {
 		pts = walkPoints(thr, ws)
 	}
@@ -187,18 +187,20 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 			wg.Add(1)
 			go func(a acc) {
 				defer wg.Done()
+				if k == 2 {
+					// Both charts of an audit: two runs at once, on
+					// locals (walker.walkAll).
+					two := walker{pts: pts, seed: opt.Seed, base: base, length: length, stop: stop, ng: ng}
+					two.walkAll(next, a.sum, a.sum2, a.top)
+					return
+				}
 				s := make([]float64, k)
 				reached := make([]int, k) // grid points passed so far
 				for run := range next {
 					rng := rand.NewPCG(opt.Seed, base+uint64(run))
 					clear(s)
 					clear(reached)
-					if k == 2 {
-						// Both charts of an audit: the same steps on
-						// locals (walk2).
-						walk2(pcg{opt.Seed, base + uint64(run)}, pts, length, stop, reached, a.sum, a.sum2, ng)
-					}
-					for t := int64(1); k != 2 && t <= length; t++ {
+					for t := int64(1); t <= length; t++ {
 						// One draw: the high 32 bits pick the patient
 						// (multiply-shift), the low 32 the outcome.
 						u := rng.Uint64()
