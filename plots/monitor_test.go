@@ -26,7 +26,7 @@ func monitorResult(tb testing.TB, n int) (*monitor.Result, *monitor.Summary) {
 		}
 		dates[i] = day.AddDate(0, 0, i*365/n)
 	}
-	r := &monitor.Result{N: n, Dates: dates, Per: monitor.Periods{Kind: "month"}}
+	r := &monitor.Result{N: n, Dates: monitor.DatesOf(dates), Per: monitor.Periods{Kind: "month"}}
 	var err error
 	if r.VLAD, err = monitor.VLAD(y, p); err != nil {
 		tb.Fatal(err)
@@ -44,7 +44,7 @@ func monitorResult(tb testing.TB, n int) (*monitor.Result, *monitor.Summary) {
 	if r.EWMA, err = monitor.ComputeEWMA(y, p, 0.01, 3); err != nil {
 		tb.Fatal(err)
 	}
-	if r.Periods, err = monitor.ByPeriod(y, p, dates, r.Per); err != nil {
+	if r.Periods, err = monitor.ByPeriod(y, p, r.Dates, r.Per); err != nil {
 		tb.Fatal(err)
 	}
 	return r, r.Summarise("admitted")
