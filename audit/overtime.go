@@ -184,7 +184,7 @@ func (r *run) overTime(ctx context.Context, a *validate.Audit) error {
 // measures when no row was left out), or the error that stopped them.
 type datedCharts struct {
 	y, p             []float64
-	dates            []time.Time
+	dates            monitor.Dates
 	missing, invalid int
 	res              *monitor.Result
 	err              error
@@ -197,10 +197,10 @@ func chartDates(ctx context.Context, c *Config, sc *scored) *datedCharts {
 	o := c.OverTime
 	fail := func(err error) *datedCharts { return &datedCharts{err: err} }
 	// Each distinct date is read once (an extract has few).
-	// A level's time is kept as the charts use it: whole seconds in UTC.
+	// A level's time is kept as the charts use it: whole seconds in UTC
+	// (monitor.Dates).
 	type level struct {
 		day   int64 // seconds since 1970, UTC
-		t     time.Time
 		ok    bool
 		empty bool
 	}
@@ -210,7 +210,6 @@ func chartDates(ctx context.Context, c *Config, sc *scored) *datedCharts {
 		var t time.Time
 		if t, levels[k].ok = parseDate(text); levels[k].ok {
 			levels[k].day = t.Unix()
-			levels[k].t = time.Unix(levels[k].day, 0).UTC()
 		}
 	}
 	type row struct {
@@ -259,10 +258,10 @@ func chartDates(ctx context.Context, c *Config, sc *scored) *datedCharts {
 	if !slices.IsSortedFunc(rows, byDate) {
 		slices.SortFunc(rows, byDate)
 	}
-	y, p, dates := make([]float64, len(rows)), make([]float64, len(rows)), make([]time.Time, len(rows))
+	y, p, dates := make([]float64, len(rows)), make([]float64, len(rows)), make(monitor.Dates, len(rows))
 	eps := c.Measures.Epsilon
 	for k, rw := range rows {
-		y[k], dates[k] = sc.y[rw.i], levels[sc.dates.codes[rw.i]].t
+		y[k], dates[k] = sc.y[rw.i], rw.day
 		// The charts need risks strictly inside (0, 1): clamp as the
 		// logit measures do.
 		p[k] = min(max(sc.p[rw.i], eps), 1-eps)

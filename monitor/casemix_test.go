@@ -1,25 +1,34 @@
 package monitor
 
 import (
+	"math"
 	"math/rand/v2"
 	"slices"
 	"testing"
 )
 
 // TestCaseMixSameAsComparisonSort checks that the quantiles CaseMix takes
-// by the radix sort are those of the sorted risks by slices.Sort (the
-// definition in CaseMix's doc comment), with ties and below and above the
-// radix sort's threshold of 4,096 rows.
+// by selection (selectSorted), or by the radix sort for values it does
+// not take, are those of the sorted risks by slices.Sort (the definition
+// in CaseMix's doc comment): with ties, one value throughout (one
+// bucket), values of both signs spread over many binary orders, zeros
+// (the radix sort), and below and above MaxCaseMix.
 func TestCaseMixSameAsComparisonSort(t *testing.T) {
 	for _, tc := range []struct {
 		name string
 		n    int
 		ties bool
+		make func(rng *rand.Rand) float64
 	}{
-		{"small, returned as given", 5000, false},
-		{"just above MaxCaseMix", MaxCaseMix + 1, false},
-		{"large", 250_000, false},
-		{"large with ties", 250_000, true},
+		{"small, returned as given", 5000, false, nil},
+		{"just above MaxCaseMix", MaxCaseMix + 1, false, nil},
+		{"large", 250_000, false, nil},
+		{"large with ties", 250_000, true, nil},
+		{"one value", 50_000, false, func(*rand.Rand) float64 { return 0.125 }},
+		{"both signs, wide", 80_000, false, func(rng *rand.Rand) float64 {
+			return (rng.Float64() - 0.3) * math.Exp(40*rng.NormFloat64())
+		}},
+		{"zeros, by the radix sort", 60_000, false, func(rng *rand.Rand) float64 { return float64(rng.IntN(3)) / 4 }},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			rng := rand.New(rand.NewPCG(7, uint64(tc.n)))
@@ -28,6 +37,9 @@ func TestCaseMixSameAsComparisonSort(t *testing.T) {
 				p[i] = 0.001 + 0.9*rng.Float64()*rng.Float64()
 				if tc.ties {
 					p[i] = float64(1+rng.IntN(50)) / 100
+				}
+				if tc.make != nil {
+					p[i] = tc.make(rng)
 				}
 			}
 			orig := slices.Clone(p)

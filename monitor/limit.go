@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"runtime"
+	"slices"
 	"sync"
 
 	"github.com/riskaudit/riskaudit/metrics"
@@ -50,17 +51,100 @@ func CaseMix(p []float64) []float64 {
 	if len(p) <= MaxCaseMix {
 		return p
 	}
-	// The order by the radix sort of the audit's measures (one core,
-	// about a fifth of a comparison sort's time at 1M risks); the
-	// quantiles are the same values as from slices.Sort.
+	n := len(p)
+	at := make([]int, MaxCaseMix) // the positions in sorted order
+	for k := range at {
+		at[k] = (2*k + 1) * n / (2 * MaxCaseMix)
+	}
+	if q, ok := selectSorted(p, at); ok {
+		return q
+	}
+	// Zeros or NaN (which slices.Sort orders apart from their bits): the
+	// order by the radix sort of the audit's measures; the quantiles are
+	// the same values as from slices.Sort.
 	var s metrics.Sorter
 	idx := s.Order(p)
 	out := make([]float64, MaxCaseMix)
-	n := len(p)
-	for k := range out {
-		out[k] = p[idx[(2*k+1)*n/(2*MaxCaseMix)]]
+	for k, i := range at {
+		out[k] = p[idx[i]]
 	}
 	return out
+}
+
+// selectSorted returns the values at positions at (ascending) of p in
+// ascending order without sorting p: the values fall into at most 2¹⁶
+// buckets by their bits (in order: a nonzero float64's bits, the sign
+// bit flipped or every bit for a negative, order it as its value), one
+// pass counts them, and only the buckets that hold a wanted position
+// are gathered and sorted, a few percent of the values for the case
+// mix's 10,000 positions of a large extract. The values are those of
+// slices.Sort at the same positions (a value's place does not depend
+// on how ties are ordered). It reports false, and does nothing, when p
+// holds a zero or NaN.
+func selectSorted(p []float64, at []int) ([]float64, bool) {
+	key := func(v float64) uint64 {
+		b := math.Float64bits(v)
+		if b>>63 == 1 {
+			return ^b
+		}
+		return b | 1<<63
+	}
+	lo, hi := uint64(math.MaxUint64), uint64(0)
+	for _, v := range p {
+		if v == 0 || v != v {
+			return nil, false
+		}
+		k := key(v)
+		lo, hi = min(lo, k), max(hi, k)
+	}
+	shift := 0
+	for (hi-lo)>>shift >= 1<<16 {
+		shift++
+	}
+	bucket := func(v float64) int { return int((key(v) - lo) >> shift) }
+	// start[b] is bucket b's first position in sorted order.
+	start := make([]int, int((hi-lo)>>shift)+2)
+	for _, v := range p {
+		start[bucket(v)+1]++
+	}
+	for b := 1; b < len(start); b++ {
+		start[b] += start[b-1]
+	}
+	// The wanted buckets' values side by side, each bucket at fill[b].
+	fill := make([]int, len(start)-1)
+	for b := range fill {
+		fill[b] = -1
+	}
+	size := 0
+	for i, b := 0, 0; i < len(at); i++ {
+		for start[b+1] <= at[i] {
+			b++
+		}
+		if fill[b] < 0 {
+			fill[b], size = size, size+start[b+1]-start[b]
+		}
+	}
+	vals := make([]float64, size)
+	next := slices.Clone(fill)
+	for _, v := range p {
+		if b := bucket(v); next[b] >= 0 {
+			vals[next[b]] = v
+			next[b]++
+		}
+	}
+	for b, f := range fill {
+		if f >= 0 {
+			slices.Sort(vals[f : f+start[b+1]-start[b]])
+		}
+	}
+	out := make([]float64, len(at))
+	for i, b := 0, 0; i < len(at); i++ {
+		for start[b+1] <= at[i] {
+			b++
+		}
+		out[i] = vals[fill[b]+at[i]-start[b]]
+	}
+	return out, true
 }
 
 // Horizon is the length of each simulated run as a multiple of the
@@ -172,7 +256,7 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 		return a
 	}
 	nm := uint64(len(mix))
-	var pts []walkPoint // the case mix as walk2 reads it
+	var pts []walkPoint // the case mix as the two-chart walks read it
 	if k == 2 {
 		pts = walkPoints(thr, ws)
 	}
@@ -187,18 +271,20 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 			wg.Add(1)
 			go func(a acc) {
 				defer wg.Done()
+				if k == 2 {
+					// Both charts of an audit: two runs at once, on
+					// locals (walker.walkAll).
+					two := walker{pts: pts, seed: opt.Seed, base: base, length: length, stop: stop, ng: ng}
+					two.walkAll(next, a.sum, a.sum2, a.top)
+					return
+				}
 				s := make([]float64, k)
 				reached := make([]int, k) // grid points passed so far
 				for run := range next {
 					rng := rand.NewPCG(opt.Seed, base+uint64(run))
 					clear(s)
 					clear(reached)
-					if k == 2 {
-						// Both charts of an audit: the same steps on
-						// locals (walk2).
-						walk2(pcg{opt.Seed, base + uint64(run)}, pts, length, stop, reached, a.sum, a.sum2, ng)
-					}
-					for t := int64(1); k != 2 && t <= length; t++ {
+					for t := int64(1); t <= length; t++ {
 						// One draw: the high 32 bits pick the patient
 						// (multiply-shift), the low 32 the outcome.
 						u := rng.Uint64()

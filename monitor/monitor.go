@@ -3,7 +3,6 @@ package monitor
 import (
 	"context"
 	"fmt"
-	"time"
 )
 
 // Options set a monitoring run; zero fields take the defaults.
@@ -48,7 +47,7 @@ func (c Chart) First() int {
 // Result is a monitoring run over one extract in date order.
 type Result struct {
 	N       int
-	Dates   []time.Time
+	Dates   Dates // nil without dates
 	VLAD    []float64
 	Charts  []Chart
 	EWMA    EWMA
@@ -62,7 +61,7 @@ type Result struct {
 // Run computes every chart of the patients y, p (in date order; dates
 // beside them, or nil): Charts, then the overall period (opt.Overall, or
 // every patient measured together).
-func Run(ctx context.Context, y, p []float64, dates []time.Time, opt Options) (*Result, error) {
+func Run(ctx context.Context, y, p []float64, dates Dates, opt Options) (*Result, error) {
 	r, err := Charts(ctx, y, p, dates, opt)
 	if err != nil {
 		return nil, err
@@ -88,7 +87,7 @@ func (r *Result) SetOverall(y, p []float64, o *Period) {
 // limit simulation runs beside the single passes (the cumulative curve,
 // the EWMA and the periods), which take one core between them; the
 // results are those of computing them one after another.
-func Charts(ctx context.Context, y, p []float64, dates []time.Time, opt Options) (*Result, error) {
+func Charts(ctx context.Context, y, p []float64, dates Dates, opt Options) (*Result, error) {
 	if err := checkSeries(y, p); err != nil {
 		return nil, err
 	}

@@ -53,7 +53,7 @@ type Period struct {
 // ones in UTC, labelled 2026-08 and 2026-Q3; a period without patients is
 // not listed. Blocks are labelled by their patients' positions
 // ("1–500").
-func ByPeriod(y, p []float64, dates []time.Time, per Periods) ([]Period, error) {
+func ByPeriod(y, p []float64, dates Dates, per Periods) ([]Period, error) {
 	if err := checkSeries(y, p); err != nil {
 		return nil, err
 	}
@@ -69,7 +69,6 @@ func ByPeriod(y, p []float64, dates []time.Time, per Periods) ([]Period, error) 
 		}
 		// A period's number: months or quarters since year 0, in UTC.
 		key := func(t time.Time) int {
-			t = t.UTC()
 			if per.Kind == "month" {
 				return t.Year()*12 + int(t.Month()) - 1
 			}
@@ -83,13 +82,13 @@ func ByPeriod(y, p []float64, dates []time.Time, per Periods) ([]Period, error) 
 		}
 		last := 0
 		for i, d := range dates {
-			if i > 0 && d.Equal(dates[i-1]) {
+			if i > 0 && d == dates[i-1] {
 				continue // the period of the patient before (an extract has few dates)
 			}
-			if i > 0 && d.Before(dates[i-1]) {
-				return nil, fmt.Errorf("monitor: patient %d's date %s is before the one before it: the rows are not in date order", i+1, d.Format(time.DateOnly))
+			if i > 0 && d < dates[i-1] {
+				return nil, fmt.Errorf("monitor: patient %d's date %s is before the one before it: the rows are not in date order", i+1, dates.At(i).Format(time.DateOnly))
 			}
-			if k := key(d); i == 0 || k != last {
+			if k := key(dates.At(i)); i == 0 || k != last {
 				cuts, labels, last = append(cuts, i), append(labels, label(k)), k
 			}
 		}
@@ -121,8 +120,8 @@ func ByPeriod(y, p []float64, dates []time.Time, per Periods) ([]Period, error) 
 		}
 		out[c] = measure(y[s:e], p[s:e], labels[c], s)
 		if dates != nil {
-			out[c].Start = dates[s].UTC().Format(time.DateOnly)
-			out[c].End = dates[e-1].UTC().Format(time.DateOnly)
+			out[c].Start = dates.At(s).Format(time.DateOnly)
+			out[c].End = dates.At(e - 1).Format(time.DateOnly)
 		}
 	}
 	return out, nil

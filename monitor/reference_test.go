@@ -226,7 +226,7 @@ func TestMonthsAndQuarters(t *testing.T) {
 		{"month", []string{"2025-12", "2026-01", "2026-03", "2026-04"}, []int{1, 2, 4, 5}},
 		{"quarter", []string{"2025-Q4", "2026-Q1", "2026-Q2"}, []int{1, 2, 5}},
 	} {
-		got, err := ByPeriod(y, p, dates, Periods{Kind: tt.kind})
+		got, err := ByPeriod(y, p, DatesOf(dates), Periods{Kind: tt.kind})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -239,7 +239,7 @@ func TestMonthsAndQuarters(t *testing.T) {
 			}
 		}
 	}
-	if _, err := ByPeriod(y, p, []time.Time{dates[1], dates[0], dates[2], dates[3], dates[4], dates[5]}, Periods{Kind: "month"}); err == nil {
+	if _, err := ByPeriod(y, p, DatesOf([]time.Time{dates[1], dates[0], dates[2], dates[3], dates[4], dates[5]}), Periods{Kind: "month"}); err == nil {
 		t.Error("dates out of order were accepted")
 	}
 }

@@ -67,7 +67,7 @@ func (r *Result) alarm(i int) Alarm {
 	}
 	a := Alarm{Patient: i + 1}
 	if r.Dates != nil {
-		a.Date = r.Dates[i].UTC().Format(time.DateOnly)
+		a.Date = r.Dates.At(i).Format(time.DateOnly)
 	}
 	return a
 }
@@ -79,8 +79,8 @@ func (r *Result) Summarise(dateColumn string) *Summary {
 		s.PeriodSize = r.Per.Block
 	}
 	if r.Dates != nil {
-		s.FirstDate = r.Dates[0].UTC().Format(time.DateOnly)
-		s.LastDate = r.Dates[r.N-1].UTC().Format(time.DateOnly)
+		s.FirstDate = r.Dates.At(0).Format(time.DateOnly)
+		s.LastDate = r.Dates.At(r.N - 1).Format(time.DateOnly)
 	}
 	s.VLADEnd = r.VLAD[r.N-1]
 	s.VLADMin, s.VLADMax = r.VLAD[0], r.VLAD[0]

@@ -197,7 +197,7 @@ func (g *legendOf) add(text string, th ...plot.Thumbnailer) {
 func overTimeSheet(title string, r *monitor.Result, g *legendOf) sheet {
 	sub := fmt.Sprintf("%s patients", grouped(r.N))
 	if r.Dates != nil {
-		sub = fmt.Sprintf("%s patients, %s to %s", grouped(r.N), r.Dates[0].Format("2 Jan 2006"), r.Dates[r.N-1].Format("2 Jan 2006"))
+		sub = fmt.Sprintf("%s patients, %s to %s", grouped(r.N), r.Dates.At(0).Format("2 Jan 2006"), r.Dates.At(r.N-1).Format("2 Jan 2006"))
 	}
 	return sheet{title: title, subtitle: sub, legend: g.l, entries: g.n}
 }

@@ -2,12 +2,15 @@ package plots
 
 import (
 	"bytes"
+	"math"
 	"math/rand/v2"
 	"runtime"
+	"slices"
 	"testing"
 	"time"
 
 	"github.com/riskaudit/riskaudit/monitor"
+	"gonum.org/v1/plot/plotter"
 )
 
 // monitorResult is a made-up in-control extract of n patients over 2026
@@ -26,7 +29,7 @@ func monitorResult(tb testing.TB, n int) (*monitor.Result, *monitor.Summary) {
 		}
 		dates[i] = day.AddDate(0, 0, i*365/n)
 	}
-	r := &monitor.Result{N: n, Dates: dates, Per: monitor.Periods{Kind: "month"}}
+	r := &monitor.Result{N: n, Dates: monitor.DatesOf(dates), Per: monitor.Periods{Kind: "month"}}
 	var err error
 	if r.VLAD, err = monitor.VLAD(y, p); err != nil {
 		tb.Fatal(err)
@@ -44,7 +47,7 @@ func monitorResult(tb testing.TB, n int) (*monitor.Result, *monitor.Summary) {
 	if r.EWMA, err = monitor.ComputeEWMA(y, p, 0.01, 3); err != nil {
 		tb.Fatal(err)
 	}
-	if r.Periods, err = monitor.ByPeriod(y, p, dates, r.Per); err != nil {
+	if r.Periods, err = monitor.ByPeriod(y, p, r.Dates, r.Per); err != nil {
 		tb.Fatal(err)
 	}
 	return r, r.Summarise("admitted")
@@ -75,6 +78,37 @@ func TestMonitorFiguresInParallel(t *testing.T) {
 		}
 		if len(f.PNG) == 0 || !bytes.Equal(f.SVG, seq[k].SVG) || !bytes.Equal(f.PNG, seq[k].PNG) {
 			t.Errorf("%s painted in parallel differs from the one painted alone", f.Name)
+		}
+	}
+}
+
+// TestThinKeepsEachRunsExtremes: a path longer than maxPathPoints is
+// drawn by the first lowest and the first highest point of each of its
+// runs of patients, in patient order, as slices.Min, slices.Max and
+// slices.Index find them (ties, from values rounded to tenths, decide
+// which of equal points is kept).
+func TestThinKeepsEachRunsExtremes(t *testing.T) {
+	rng := rand.New(rand.NewPCG(4, 9))
+	for _, n := range []int{maxPathPoints + 1, 100_003} {
+		v := make([]float64, n)
+		for i := range v {
+			v[i] = math.Round(10*rng.NormFloat64()) / 10
+		}
+		got := thin(v, -2)
+		buckets := maxPathPoints / 2
+		if len(got) != 2*buckets {
+			t.Fatalf("n %d: %d points, want %d", n, len(got), 2*buckets)
+		}
+		for b := range buckets {
+			lo, hi := b*n/buckets, (b+1)*n/buckets
+			run := v[lo:hi]
+			imin, imax := slices.Index(run, slices.Min(run)), slices.Index(run, slices.Max(run))
+			a, c := lo+min(imin, imax), lo+max(imin, imax)
+			for k, i := range []int{a, c} {
+				if want := (plotter.XY{X: float64(i + 1), Y: -2 * v[i]}); got[2*b+k] != want {
+					t.Fatalf("n %d, run %d, point %d: %+v, want %+v", n, b, k, got[2*b+k], want)
+				}
+			}
 		}
 	}
 }

@@ -33,7 +33,7 @@ func overTimeRun(t *testing.T, n, days int, p func(i int) float64, drift float64
 		}
 		dates[i] = start.AddDate(0, 0, i*days/n)
 	}
-	res, err := monitor.Run(context.Background(), y, ps, dates, monitor.Options{
+	res, err := monitor.Run(context.Background(), y, ps, monitor.DatesOf(dates), monitor.Options{
 		Limits: monitor.LimitOptions{ARL: 500, Runs: 200, Seed: 1}, Periods: per})
 	if err != nil {
 		t.Fatal(err)
