@@ -11,6 +11,7 @@ import (
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/internal/jsonout"
+	"github.com/riskaudit/riskaudit/internal/textsafe"
 	"github.com/riskaudit/riskaudit/model"
 	"github.com/riskaudit/riskaudit/plots"
 	"github.com/riskaudit/riskaudit/report"
@@ -198,11 +199,15 @@ func WriteComparison(dir string, c *CompareResult) (*Written, error) {
 	if err := report.WriteComparison(&md, c.Comparison, c.Figure.Name); err != nil {
 		return nil, err
 	}
-	page, err := htmlPage("compare.html", md.Bytes(), []plots.Figure{c.Figure})
+	// A cohort's level or name with invalid UTF-8 or a control
+	// character is shown as U+FFFD, so the Markdown and the page are
+	// valid UTF-8 (textsafe).
+	text := textsafe.XML(md.Bytes())
+	page, err := htmlPage("compare.html", text, []plots.Figure{c.Figure})
 	if err != nil {
 		return nil, err
 	}
-	files := []atomicfile.File{{Path: "compare.md", Data: md.Bytes()}, page, {Path: c.Figure.Name, Data: c.Figure.SVG}, {Path: c.Figure.PNGName(), Data: c.Figure.PNG}}
+	files := []atomicfile.File{{Path: "compare.md", Data: text}, page, {Path: c.Figure.Name, Data: c.Figure.SVG}, {Path: c.Figure.PNGName(), Data: c.Figure.PNG}}
 	// compare.json lists the folder's files, itself included.
 	cmp := *c.Comparison
 	cmp.Outputs = []string{"compare.json"}

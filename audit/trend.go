@@ -11,6 +11,7 @@ import (
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/internal/jsonout"
 	"github.com/riskaudit/riskaudit/internal/pathtext"
+	"github.com/riskaudit/riskaudit/internal/textsafe"
 	"github.com/riskaudit/riskaudit/plots"
 	"github.com/riskaudit/riskaudit/report"
 	"github.com/riskaudit/riskaudit/trend"
@@ -105,11 +106,15 @@ func WriteTrend(dir string, t *Trend) (*Written, error) {
 	if err != nil {
 		return nil, fmt.Errorf("writing trend.json: %w", err)
 	}
-	page, err := htmlPage("trend.html", md.Bytes(), t.Figures)
+	// A cohort's level or name with invalid UTF-8 or a control
+	// character is shown as U+FFFD, so the Markdown and the page are
+	// valid UTF-8 (textsafe).
+	text := textsafe.XML(md.Bytes())
+	page, err := htmlPage("trend.html", text, t.Figures)
 	if err != nil {
 		return nil, err
 	}
-	files := []atomicfile.File{{Path: "trend.md", Data: md.Bytes()}, page, {Path: "trend.json", Data: js}}
+	files := []atomicfile.File{{Path: "trend.md", Data: text}, page, {Path: "trend.json", Data: js}}
 	for _, f := range t.Figures {
 		files = append(files, atomicfile.File{Path: f.Name, Data: f.SVG})
 		if len(f.PNG) > 0 { // every figure drawn by plots has its PNG copy

@@ -19,6 +19,7 @@ import (
 	"github.com/riskaudit/riskaudit/htmlreport"
 	"github.com/riskaudit/riskaudit/internal/atomicfile"
 	"github.com/riskaudit/riskaudit/internal/jsonout"
+	"github.com/riskaudit/riskaudit/internal/textsafe"
 	"github.com/riskaudit/riskaudit/plots"
 	"github.com/riskaudit/riskaudit/report"
 )
@@ -134,11 +135,15 @@ func Write(dir string, r *Result, opt WriteOptions) (*Written, error) {
 	if err := report.Write(&md, r.Audit, r.Figures); err != nil {
 		return nil, err
 	}
-	page, err := htmlPage("report.html", md.Bytes(), r.Figures)
+	// A cohort's level or name with invalid UTF-8 or a control
+	// character is shown as U+FFFD, so the Markdown and the page are
+	// valid UTF-8 (textsafe).
+	text := textsafe.XML(md.Bytes())
+	page, err := htmlPage("report.html", text, r.Figures)
 	if err != nil {
 		return nil, err
 	}
-	files := []atomicfile.File{{Path: "report.md", Data: md.Bytes()}, page}
+	files := []atomicfile.File{{Path: "report.md", Data: text}, page}
 	for _, f := range r.Figures {
 		files = append(files, atomicfile.File{Path: f.Name, Data: f.SVG})
 		if len(f.PNG) > 0 { // every figure drawn by plots has its PNG copy

@@ -15,6 +15,8 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
 	"gonum.org/v1/plot/vg/vgsvg"
+
+	"github.com/riskaudit/riskaudit/internal/textsafe"
 )
 
 // PNGDPI is the resolution of the PNG copy of every figure: 300 dots per
@@ -62,7 +64,9 @@ func paint(w, h vg.Length, f painting) (svg, png []byte, err error) {
 	if _, err := sc.WriteTo(&b); err != nil {
 		return nil, nil, fmt.Errorf("writing SVG: %w", err)
 	}
-	svg = bytes.ReplaceAll(b.Bytes(), []byte("font-family:Liberation Sans;"), []byte("font-family:"+fontFamily+";"))
+	// A level or name with invalid UTF-8 or a control character would
+	// make the SVG a file no XML parser reads.
+	svg = textsafe.XML(bytes.ReplaceAll(b.Bytes(), []byte("font-family:Liberation Sans;"), []byte("font-family:"+fontFamily+";")))
 	// The canvas is made here as vgimg.NewWith makes it (the size
 	// rounded to whole pixels, butt line caps, y upwards), but on an
 	// image gg draws into directly: NewWith's own image is copied by gg
