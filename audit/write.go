@@ -11,7 +11,6 @@ import (
 	"os"
 	"path/filepath"
 	"slices"
-	"strconv"
 	"strings"
 	"time"
 
@@ -541,9 +540,16 @@ func resolvePending(dir string) error {
 			complete = complete && err == nil && hex.EncodeToString(sum[:]) == e.SHA256
 		}
 	}
-	pidPart := ".riskaudit-old-" + strconv.Itoa(m.PID) + "-"
 	oldOf := func(path string) string {
-		matches, _ := filepath.Glob(filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+pidPart+"*"))
+		prefix := atomicfile.TempPrefix(path, "old", m.PID)
+		var matches []string
+		if entries, err := os.ReadDir(filepath.Dir(prefix)); err == nil {
+			for _, e := range entries {
+				if strings.HasPrefix(e.Name(), filepath.Base(prefix)) {
+					matches = append(matches, filepath.Join(filepath.Dir(prefix), e.Name()))
+				}
+			}
+		}
 		if len(matches) == 1 {
 			return matches[0]
 		}

@@ -17,6 +17,7 @@ package atomicfile
 
 import (
 	"crypto/rand"
+	"crypto/sha256"
 	"encoding/hex"
 	"errors"
 	"fmt"
@@ -27,6 +28,7 @@ import (
 	"strconv"
 	"strings"
 	"sync"
+	"unicode/utf8"
 
 	"github.com/riskaudit/riskaudit/internal/pathtext"
 )
@@ -107,7 +109,31 @@ type entry struct {
 func tempName(path, kind string) string {
 	var b [6]byte
 	_, _ = rand.Read(b[:])
-	return filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+".riskaudit-"+kind+"-"+strconv.Itoa(os.Getpid())+"-"+hex.EncodeToString(b[:]))
+	return TempPrefix(path, kind, os.Getpid()) + hex.EncodeToString(b[:])
+}
+
+// maxTempBase is the longest target name a temporary's name carries in
+// full: with the dot, ".riskaudit-old-", a process ID and 12 hex digits
+// the name stays within the 255 bytes a file name may have.
+const maxTempBase = 200
+
+// TempPrefix is the start of the names of path's temporaries of kind
+// ("tmp" or "old") made by process pid, before their random part:
+// ".NAME.riskaudit-KIND-PID-" beside path. A NAME longer than
+// maxTempBase bytes is cut (at a character boundary) and marked with a
+// hash of the whole name, so that a legal target name never gives a
+// temporary name too long to create.
+func TempPrefix(path, kind string, pid int) string {
+	base := filepath.Base(path)
+	if len(base) > maxTempBase {
+		cut := 160
+		for cut > 0 && !utf8.RuneStart(base[cut]) {
+			cut--
+		}
+		sum := sha256.Sum256([]byte(base))
+		base = base[:cut] + "~" + hex.EncodeToString(sum[:4])
+	}
+	return filepath.Join(filepath.Dir(path), "."+base+".riskaudit-"+kind+"-"+strconv.Itoa(pid)+"-")
 }
 
 // Add writes data to a temporary file beside path, after refusing a path

@@ -6,8 +6,10 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strings"
 	"syscall"
 	"testing"
+	"unicode/utf8"
 )
 
 func TestSetCommitAndAbort(t *testing.T) {
@@ -180,5 +182,37 @@ func TestCleanStale(t *testing.T) {
 		if _, err := os.Lstat(p); (err == nil) != want {
 			t.Errorf("%s: present %v, want %v", filepath.Base(p), err == nil, want)
 		}
+	}
+}
+
+// TestLongTargetName: a target name of 255 bytes, the most a file name
+// may have, gets temporaries whose names are legal too (cut and marked
+// by a hash, so two long names sharing their first 160 bytes differ),
+// and the write goes through; a short name is kept whole.
+func TestLongTargetName(t *testing.T) {
+	dir := t.TempDir()
+	long := strings.Repeat("é", 127) + "x" // 255 bytes
+	other := strings.Repeat("é", 127) + "y"
+	for _, kind := range []string{"tmp", "old"} {
+		p := filepath.Base(TempPrefix(filepath.Join(dir, long), kind, 4194304)) + "0a1b2c3d4e5f"
+		if len(p) > 255 || !utf8.ValidString(p) {
+			t.Errorf("%s: temporary name of %d bytes (%q)", kind, len(p), p)
+		}
+		if TempPrefix(filepath.Join(dir, long), kind, 1) == TempPrefix(filepath.Join(dir, other), kind, 1) {
+			t.Errorf("%s: two long names share their temporaries' prefix", kind)
+		}
+	}
+	if got := TempPrefix(filepath.Join(dir, "report.md"), "tmp", 42); got != filepath.Join(dir, ".report.md.riskaudit-tmp-42-") {
+		t.Errorf("short name: %q", got)
+	}
+	var s Set
+	if err := s.Add(filepath.Join(dir, long), []byte("data")); err != nil {
+		t.Fatal(err)
+	}
+	if err := s.Commit(); err != nil {
+		t.Fatal(err)
+	}
+	if b, err := os.ReadFile(filepath.Join(dir, long)); err != nil || string(b) != "data" {
+		t.Errorf("the long-named file: %q, %v", b, err)
 	}
 }
