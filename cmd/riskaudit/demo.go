@@ -4,7 +4,10 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"io/fs"
+	"os"
 	"path/filepath"
+	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -40,20 +43,118 @@ and over time (--date-column admission_date). It writes:
   DIR/fit.json          the fit statistics as JSON
   DIR/audit/            the audit: report.md, report.html, audit.json and SVG figures
   DIR/later_imputed.csv the later extract with values missing at random, completed 10 times
-  DIR/audit_imputed/    its audit, the measures pooled across the imputations by Rubin's rules`,
+  DIR/audit_imputed/    its audit, the measures pooled across the imputations by Rubin's rules
+
+DIR must be new, empty, or the folder of an earlier demo, where only the
+demo's own files are written over; any other folder is refused (exit
+status 2), so the demo never writes over a user's files. A demo that stops (an error, Ctrl-C) removes what it
+wrote into a new or empty folder.`,
 		Example: `  riskaudit demo --out demo
   riskaudit audit --model demo/frozen.yaml --cohort demo/later.csv --dev demo/development.csv \
     --cluster hospital --date-column admission_date --out demo/audit`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error { return runDemo(cmd.Context(), out, s) },
 	}
-	c.Flags().StringVar(&out, "out", "", "folder to write the scenario into (created if absent)")
+	c.Flags().StringVar(&out, "out", "", "folder to write the scenario into: new, empty, or an earlier demo's (created if absent)")
 	_ = c.MarkFlagRequired("out")
 	_ = c.MarkFlagDirname("out")
 	return c
 }
 
-func runDemo(ctx context.Context, dir string, s *streams) error {
+// demoMarker is the file a finished demo leaves in its folder, so that a
+// later demo may write over that folder and no other.
+const demoMarker = ".riskaudit-demo"
+
+// demoNames are the entries a demo writes into its folder.
+var demoNames = map[string]bool{"development.csv": true, "later.csv": true, "recipe.yaml": true, "frozen.yaml": true,
+	"fit.json": true, "audit": true, imputedDemoFile: true, imputedDemoAudit: true, demoMarker: true}
+
+// demoState is what the demo's folder held before the demo ran.
+type demoState int
+
+const (
+	demoAbsent  demoState = iota // no folder
+	demoEmpty                    // an empty folder
+	demoEarlier                  // an earlier demo's folder
+)
+
+// demoFolder checks that dir may take the demo: absent, empty, or an
+// earlier demo's (its marker, or — from versions before the marker —
+// its four first files), where only the demo's own entries are written
+// over. Any other folder is refused with its entries named: the demo
+// never writes over a user's files.
+func demoFolder(dir string) (demoState, error) {
+	entries, err := os.ReadDir(dir)
+	if errors.Is(err, fs.ErrNotExist) {
+		return demoAbsent, nil
+	}
+	if err != nil {
+		return 0, fmt.Errorf("cannot read %s: %w", dir, err)
+	}
+	if len(entries) == 0 {
+		return demoEmpty, nil
+	}
+	var foreign []string
+	have := map[string]bool{}
+	for _, e := range entries {
+		have[e.Name()] = true
+		if !demoNames[e.Name()] && !strings.Contains(e.Name(), ".riskaudit-") {
+			foreign = append(foreign, e.Name())
+		}
+	}
+	earlier := have[demoMarker] || have["development.csv"] && have["later.csv"] && have["recipe.yaml"] && have["frozen.yaml"]
+	if earlier {
+		// Files of the user's own beside an earlier demo's (a scored
+		// extract, a plan) have other names and are left alone.
+		return demoEarlier, nil
+	}
+	names := foreign
+	if len(names) == 0 {
+		for _, e := range entries {
+			names = append(names, e.Name())
+		}
+	}
+	if len(names) > 10 {
+		names = append(names[:10], fmt.Sprintf("… and %d more", len(names)-10))
+	}
+	return 0, usagef("--out %s holds files the demo did not write (%s): the demo never writes over them; choose a new or empty folder", dir, strings.Join(names, ", "))
+}
+
+// runDemo writes the demo into dir. A demo that stops (an error, Ctrl-C)
+// leaves dir as it found it when it was absent or empty; an earlier
+// demo's folder keeps what was rewritten, demo files only, which the
+// next demo writes over.
+func runDemo(ctx context.Context, dir string, s *streams) (err error) {
+	state, err := demoFolder(dir)
+	if err != nil {
+		return err
+	}
+	defer func() {
+		if err == nil {
+			return
+		}
+		switch state {
+		case demoAbsent:
+			os.RemoveAll(dir)
+		case demoEmpty:
+			entries, _ := os.ReadDir(dir)
+			for _, e := range entries {
+				os.RemoveAll(filepath.Join(dir, e.Name()))
+			}
+		}
+	}()
+	if state == demoEarlier {
+		if err := os.Remove(filepath.Join(dir, demoMarker)); err != nil && !errors.Is(err, fs.ErrNotExist) {
+			return fmt.Errorf("cannot update %s: %w", dir, err)
+		}
+	}
+	if err := runDemoSteps(ctx, dir, s); err != nil {
+		return err
+	}
+	return atomicfile.WriteFile(filepath.Join(dir, demoMarker), []byte("written by riskaudit demo; a later demo may write over this folder\n"))
+}
+
+func runDemoSteps(ctx context.Context, dir string, s *streams) error {
 	dev := filepath.Join(dir, "development.csv")
 	later := filepath.Join(dir, "later.csv")
 	recipe := filepath.Join(dir, "recipe.yaml")
