@@ -259,6 +259,15 @@ func (c *Config) check() error {
 	case c.Update != "" && (c.Predicted != nil || !c.hasCohort()):
 		return configErrorf("--update updates a model on the cohort: give --model and --cohort")
 	}
+	stdin := 0
+	for _, p := range []string{c.Model, c.Cohort.Path, c.Dev.Path} {
+		if p == cohort.StdinName {
+			stdin++
+		}
+	}
+	if stdin > 1 {
+		return configErrorf("standard input (-) can be read once: give it for one of --model, --cohort and --dev, and files for the others")
+	}
 	for _, b := range []struct {
 		flag string
 		n    int

@@ -260,12 +260,17 @@ const MaxSpecSize = 64 << 20
 // ReadSpecFile returns the bytes of the spec file at path, read once (a
 // pipe works), refusing a file larger than MaxSpecSize; an error is a
 // *SpecError of kind ErrSpecRead.
+//
+// The path "-" reads standard input.
 func ReadSpecFile(path string) ([]byte, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, &SpecError{File: path, Msg: "cannot read file: " + unwrapPath(err), Kind: ErrSpecRead, Err: err}
+	f := os.Stdin
+	if path != cohort.StdinName {
+		var err error
+		if f, err = os.Open(path); err != nil {
+			return nil, &SpecError{File: path, Msg: "cannot read file: " + unwrapPath(err), Kind: ErrSpecRead, Err: err}
+		}
+		defer f.Close()
 	}
-	defer f.Close()
 	data, err := io.ReadAll(io.LimitReader(f, MaxSpecSize+1))
 	if err != nil {
 		return nil, &SpecError{File: path, Msg: "cannot read file: " + unwrapPath(err), Kind: ErrSpecRead, Err: err}

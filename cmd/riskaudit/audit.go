@@ -11,6 +11,7 @@ import (
 
 	"github.com/riskaudit/riskaudit/audit"
 	"github.com/riskaudit/riskaudit/cohort"
+	"github.com/riskaudit/riskaudit/internal/pathtext"
 	"github.com/riskaudit/riskaudit/report"
 	"github.com/riskaudit/riskaudit/validate"
 )
@@ -508,7 +509,7 @@ func (e *criterionError) Error() string {
 	if e.sub.Checks > 0 {
 		sub = ", " + e.sub.String()
 	}
-	return fmt.Sprintf("verdict %s: %d of %d criteria not met%s (see %s)", e.status, e.failed, e.total, sub, e.report)
+	return fmt.Sprintf("verdict %s: %d of %d criteria not met%s (see %s)", e.status, e.failed, e.total, sub, pathtext.Path(e.report))
 }
 
 func countFailed(v *validate.Verdict) int {

@@ -69,6 +69,9 @@ text (each cell as text, dates as ISO 8601) followed by the two columns.`,
 }
 
 func runScore(ctx context.Context, o *scoreOptions, s *streams) error {
+	if o.out == cohort.StdinName {
+		return usagef("--out -: the scored rows are written to a file, not to standard output; give a file name")
+	}
 	if err := checkOutputs([]string{o.out}, o.dataFile, o.model); err != nil {
 		return err
 	}
