@@ -474,7 +474,7 @@ func (r *run) modelInfo() validate.ModelInfo {
 	c, spec := r.cfg, r.spec
 	m := validate.ModelInfo{Name: spec.Name, Outcome: spec.Outcome.Column, Event: spec.Outcome.Event.Text}
 	if c.Predicted != nil {
-		m.Source, m.Column = "predicted risks", c.Predicted.Column
+		m.Source, m.Column, m.PredictedPercent = "predicted risks", c.Predicted.Column, c.Predicted.Percent
 		m.Purpose = validate.NewPurpose(model.Purpose{}, c.Purpose)
 		return m
 	}

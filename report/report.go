@@ -112,6 +112,9 @@ func (r *renderer) header() {
 	}
 	if a.Model.Source == "predicted risks" {
 		what = "the predicted risks in column " + code(a.Model.Column)
+		if a.Model.PredictedPercent {
+			what += " (percentages, each divided by 100)"
+		}
 	}
 	cohortFile := ""
 	for _, in := range a.Provenance.Inputs {
@@ -697,6 +700,9 @@ func (r *renderer) methods() {
 		"Brier score (Brier 1950) and scaled Brier score (Steyerberg et al. 2010).",
 		"Net benefit (Vickers & Elkin 2006), treating when the predicted risk is at or above the threshold.",
 		"Proportions with exact Clopper–Pearson intervals (Clopper & Pearson 1934).",
+	}
+	if m := r.a.Model; m.PredictedPercent {
+		items = append(items, "Predicted risks: the column "+code(m.Column)+" holds risks in percent (0 to 100), as --predicted-percent (plan key predicted_percent) says; each was divided by 100 before any measure, and every risk in this report is on the scale of 0 to 1.")
 	}
 	if r.a.SampleSize != nil {
 		items = append(items, "Sample size: the minimum size for precise O/E, calibration slope, C-statistic and standardised net benefit, after Riley et al. (2021): var(ln O/E) = (1 − φ)/(nφ); the slope's variance from the Fisher information of the calibration model over the linear predictor's distribution; Newcombe's (2006) variance of the C-statistic; the delta-method variance of NB/φ. Anticipated values as stated in that section.")

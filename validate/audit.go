@@ -168,11 +168,14 @@ type ModelInfo struct {
 	Source string `json:"source"`
 	// Spec is the frozen model's file; Column the column of predicted
 	// risks.
-	Spec    string   `json:"spec,omitempty"`
-	Column  string   `json:"predicted_column,omitempty"`
-	Terms   []string `json:"terms,omitempty"`
-	Outcome string   `json:"outcome"`
-	Event   string   `json:"event"`
+	Spec   string `json:"spec,omitempty"`
+	Column string `json:"predicted_column,omitempty"`
+	// PredictedPercent says that Column holds risks in percent (0 to
+	// 100), each divided by 100 before it was measured.
+	PredictedPercent bool     `json:"predicted_percent,omitempty"`
+	Terms            []string `json:"terms,omitempty"`
+	Outcome          string   `json:"outcome"`
+	Event            string   `json:"event"`
 	// Purpose is the model's stated purpose, with the fields not stated.
 	Purpose *Purpose `json:"purpose"`
 	// FittedModel is the frozen model that the audit fitted from the
