@@ -514,6 +514,9 @@ func (r *renderer) sampleSize() {
 		t.add(c.Measure, c.Target, fmt.Sprint(*c.N), fmt.Sprint(*c.Events), met)
 	}
 	t.write(r.w)
+	if ss.FromOutcomes {
+		r.p("These needs use this cohort's outcomes (its calibration or its AUC, as above). 'riskaudit samplesize --model … --data …' on the same file reads no outcomes: it takes the model's risks as calibrated (unless told otherwise) and the C-statistic its linear predictor implies, so it anticipates other values and gives other needs.\n\n")
+	}
 	switch {
 	case ss.Short != nil && *ss.Short:
 		r.p("**Caution: the cohort's %d patients fall short of the %d the %s criterion needs; the intervals above are wider than the targets, and the audit's conclusions are correspondingly less certain.**\n\n", ss.Have, *ss.Required, ss.Driver)

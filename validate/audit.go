@@ -670,6 +670,11 @@ type SampleSize struct {
 	// then whether it was large enough cannot be judged.
 	Short *bool  `json:"short"`
 	Basis string `json:"anticipated_from"`
+	// FromOutcomes says that the anticipated calibration or C-statistic
+	// is this cohort's, measured on its outcomes; a plan made before the
+	// outcomes are known ('riskaudit samplesize') cannot use them, so it
+	// anticipates other values and other needs for the same file.
+	FromOutcomes bool `json:"anticipated_from_outcomes,omitempty"`
 }
 
 // SizeCriterion is one criterion's requirement. N, Events and Met are

@@ -266,7 +266,12 @@ func newAuditCmd(s *streams) *cobra.Command {
 	_ = c.MarkFlagFilename("cohort", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
 	_ = c.MarkFlagFilename("dev", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
 	_ = c.MarkFlagDirname("out")
-	return c
+	return withExitStatuses(c, exitStatus{exitOK, "success: every criterion was met"},
+		exitStatus{exitCriterion, "the audit ran and a criterion was not met (verdict review or fail):\n     the report and every output were written"},
+		exitStatus{exitUsage, ""},
+		exitStatus{exitBadInput, "bad input: a data file, model spec, plan or history store that cannot\n     be used as it is"},
+		exitStatus{exitCannotFit, "the model cannot be fitted (a recipe fitted on --dev, too many failed\n     bootstrap refits, --shrunken, --update): separation, collinear terms,\n     no convergence"},
+		exitStatus{exitOtherFailed, ""}, exitStatus{exitSignalBase, ""})
 }
 
 // parseClassifyAt reads --classify-at: a comma-separated list of risks,

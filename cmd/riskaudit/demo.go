@@ -50,7 +50,9 @@ and over time (--date-column admission_date). It writes:
 	c.Flags().StringVar(&out, "out", "", "folder to write the scenario into (created if absent)")
 	_ = c.MarkFlagRequired("out")
 	_ = c.MarkFlagDirname("out")
-	return c
+	return withExitStatuses(c, exitStatus{exitOK, "success, though the drifted extract misses the audit's criteria: that\n     verdict is the point of the demo"},
+		exitStatus{exitUsage, "wrong usage: an unknown flag, no --out, or an --out the files on disk\n     refuse (a symbolic link, a folder with files riskaudit did not write)"},
+		exitStatus{exitOtherFailed, ""}, exitStatus{exitSignalBase, ""})
 }
 
 func runDemo(ctx context.Context, dir string, s *streams) error {
