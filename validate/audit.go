@@ -316,6 +316,10 @@ type Audit struct {
 	BootstrapCI *PercentileCIs `json:"bootstrap_ci,omitempty"`
 	// OverTime is the cohort charted in date order (audit --date-column).
 	OverTime *monitor.Summary `json:"over_time,omitempty"`
+	// LateDates counts the patients of the cohort in date order dated
+	// after the audit date, or after the day the audit ran when that is
+	// earlier; nil when there are none.
+	LateDates *LateDates `json:"late_dates,omitempty"`
 	// CohortIsDevelopment says that no new cohort was given, so the
 	// measures at the top level are those of the development data.
 	CohortIsDevelopment bool      `json:"cohort_is_development,omitempty"`
@@ -327,6 +331,26 @@ type Audit struct {
 	// Figures lists the figure files written beside audit.json, each as
 	// SVG (linked by the report) and as PNG at print resolution.
 	Figures []FigureFiles `json:"figures,omitempty"`
+}
+
+// LateDates are the patients dated after the audit date, or after the
+// day the audit ran when that is earlier.
+type LateDates struct {
+	// Patients is how many; After the date they are after, and
+	// AfterRunDate whether that is the day the audit ran (earlier than
+	// the audit date) rather than the audit date.
+	Patients     int    `json:"patients"`
+	After        string `json:"after"`
+	AfterRunDate bool   `json:"after_run_date"`
+	// RunDate is the day the audit ran (UTC), and InFuture how many of
+	// the patients are dated after it.
+	RunDate  string `json:"run_date"`
+	InFuture int    `json:"in_future"`
+	// File, Line and Value are the first such row's file, line and date
+	// as written, in file order.
+	File  string `json:"file"`
+	Line  int    `json:"line"`
+	Value string `json:"value"`
 }
 
 // NewAudit assembles an audit from the new cohort's performance and,

@@ -255,7 +255,7 @@ func newAuditCmd(s *streams) *cobra.Command {
 	o.imputed.register(f)
 	widthFlags(f, "sample-size check: ", &o.cfg.SampleSize.Targets)
 	o.overTimeFlags(f)
-	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
+	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success but warnings (on stderr)")
 	o.data.register(f)
 	o.query.register(f, map[string]string{"cohort": "cohort", "dev": "dev"})
 	o.query.stderr = func(format string, args ...any) { fmt.Fprintf(s.err, format, args...) }
@@ -322,6 +322,10 @@ func runAudit(ctx context.Context, o *auditOptions, s *streams) error {
 		return err
 	}
 	prog.Done()
+	for _, w := range res.Warnings {
+		// Even with --quiet: a scheduled audit's mail must carry it.
+		fmt.Fprintf(s.err, "riskaudit: warning: %s\n", w)
+	}
 	if !o.quiet {
 		writeAuditSummary(s, res.Audit, o.out, len(res.Figures))
 		replacedNote(s, o.out, "audit", w)

@@ -143,8 +143,10 @@ func TestExitStatusReached(t *testing.T) {
 	dir := t.TempDir()
 	d := filepath.Join(dir, "d")
 	quiet := func() *streams { return &streams{out: &bytes.Buffer{}, err: &bytes.Buffer{}} }
-	if err := runDemo(context.Background(), d, quiet()); err != nil {
-		t.Fatal(err)
+	// The demo's own success (status 0), and the files of every other
+	// command line below.
+	if code := run(context.Background(), []string{"demo", "--out", d}, quiet()); code != 0 {
+		t.Fatalf("riskaudit demo: exit status %d", code)
 	}
 	in := func(name string) string { return filepath.Join(d, name) }
 	at := func(name string) string { return filepath.Join(dir, name) }
@@ -245,7 +247,11 @@ func TestExitStatusReached(t *testing.T) {
 					t.Errorf("exit status %d, want %d: riskaudit %s", got, want, strings.Join(args, " "))
 				}
 			}
-			try(0, success(p, "ok"), quiet(), context.Background())
+			if p == "riskaudit demo" {
+				reached[0] = true // above, once: it is the longest run
+			} else {
+				try(0, success(p, "ok"), quiet(), context.Background())
+			}
 			for code, args := range owns[p] {
 				try(code, args, quiet(), context.Background())
 			}
