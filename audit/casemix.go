@@ -8,10 +8,11 @@ import (
 )
 
 // caseMix compares the development data with the new cohort for a
-// frozen model. The frames read for the audit are reused; only the
-// design matrices are built here.
-func (c *Config) caseMix(spec *model.Spec, devSc, curSc *scored, devPerf, perf *validate.Performance) (*validate.CaseMix, error) {
-	side := func(sc *scored) (validate.MixInput, error) {
+// frozen model, spec, which reads the cohort as curSpec does (its
+// outcome coding: cohortSpec). The frames read for the audit are
+// reused; only the design matrices are built here.
+func (c *Config) caseMix(spec, curSpec *model.Spec, devSc, curSc *scored, devPerf, perf *validate.Performance) (*validate.CaseMix, error) {
+	side := func(spec *model.Spec, sc *scored) (validate.MixInput, error) {
 		fr := sc.frame
 		d, m, err := model.Build(spec, fr, model.Options{Outcome: true, FailOnMissing: c.FailOnMissing})
 		if err != nil {
@@ -23,11 +24,11 @@ func (c *Config) caseMix(spec *model.Spec, devSc, curSc *scored, devPerf, perf *
 		}
 		return validate.MixInput{Frame: fr, Rows: m.Rows, X: m.X, P: m.P, Y: m.Y, LP: lp, Terms: m.Terms}, nil
 	}
-	dev, err := side(devSc)
+	dev, err := side(spec, devSc)
 	if err != nil {
 		return nil, err
 	}
-	cur, err := side(curSc)
+	cur, err := side(curSpec, curSc)
 	if err != nil {
 		return nil, err
 	}

@@ -153,6 +153,7 @@ func joinScored(files []ClusterFile, parts []*scored) (*scored, error) {
 				out.renamed = append(out.renamed, r)
 			}
 		}
+		out.ranges = append(out.ranges, p.ranges...)
 		fmt.Fprintf(&digest, "%s\t%s\t%s\n", files[i].Name, p.hash, p.file)
 	}
 	cl.Levels = names

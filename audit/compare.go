@@ -26,6 +26,10 @@ type CompareConfig struct {
 	Predicted string
 	// PredictedPercent says that Predicted holds risks in percent.
 	PredictedPercent bool
+	// Outcome, when it names anything, says how the cohort codes the
+	// models' outcome, as Config.Outcome does for an audit: both models
+	// are read with it (they name the same outcome).
+	Outcome *CohortOutcome
 	// Cohort is the data; Read and FailOnMissing say how to read it, as
 	// in Config.
 	Cohort        Input
@@ -72,11 +76,7 @@ func Compare(ctx context.Context, cfg CompareConfig) (*CompareResult, error) {
 	var specs []*model.Spec
 	var inputs []validate.InputFile
 	for i, m := range cfg.Models {
-		sp, err := model.LoadSpec(m)
-		if err != nil {
-			return nil, err
-		}
-		sum, err := fileSHA256(m)
+		sp, sum, err := loadSpecHashed(m)
 		if err != nil {
 			return nil, err
 		}
@@ -88,6 +88,21 @@ func Compare(ctx context.Context, cfg CompareConfig) (*CompareResult, error) {
 	}
 	if len(specs) == 2 && (specs[0].Outcome.Column != specs[1].Outcome.Column || specs[0].Outcome.Event.Text != specs[1].Outcome.Event.Text) {
 		return nil, &model.SpecError{File: cfg.Models[1], Msg: "the two models have different outcomes", Kind: model.ErrConflict}
+	}
+	var coding *validate.CohortOutcome
+	if cfg.Outcome.given() {
+		if err := cfg.Outcome.check(); err != nil {
+			return nil, err
+		}
+		own := specs[0]
+		for i, sp := range specs {
+			r, err := recoded(sp, cfg.Outcome)
+			if err != nil {
+				return nil, err
+			}
+			specs[i] = r
+		}
+		coding = outcomeInfo(own, specs[0])
 	}
 	var reqs []cohort.Request
 	seen := map[string]bool{}
@@ -127,6 +142,7 @@ func Compare(ctx context.Context, cfg CompareConfig) (*CompareResult, error) {
 		return "column " + cfg.Predicted
 	}
 	cmp.ModelA, cmp.ModelB, cmp.Cohort, cmp.CohortSHA, cmp.Rows = nameOf(0), nameOf(1), cfg.Cohort.Path, hash, fr.Rows
+	cmp.CohortOutcome = coding
 	cmp.Tool, cmp.Command = cfg.Tool, cfg.CommandLine
 	pv := validate.Provenance{Tool: cfg.Tool, CommandLine: cfg.CommandLine, StartedAt: made.Format(timeFormat),
 		Inputs: append(inputs, validate.InputFile{Role: "cohort", Path: cfg.Cohort.Path, Sheet: fr.Sheet, SHA256: hash, Query: fr.Query})}
@@ -151,7 +167,7 @@ func scoreBoth(fr *cohort.Frame, specs []*model.Spec, reqs []cohort.Request, cfg
 	var risks, lps [][]float64
 	var y []float64
 	for _, sp := range specs {
-		d, m, err := model.Build(sp, fr, model.Options{Outcome: true, FailOnMissing: cfg.FailOnMissing, Also: also, NoMatrix: true})
+		d, m, err := model.Build(sp, fr, model.Options{Outcome: true, FailOnMissing: cfg.FailOnMissing, Also: also, NoMatrix: true, CohortCodes: true})
 		if err != nil {
 			return nil, nil, nil, err
 		}

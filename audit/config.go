@@ -80,6 +80,10 @@ type Config struct {
 	Model     string
 	Spec      *model.Spec
 	Predicted *Predicted
+	// Outcome, when it names anything, says how the cohort codes the
+	// model's outcome (outcome.go); the development data are read with
+	// the model's own codes.
+	Outcome *CohortOutcome
 
 	// Cohort is the data to audit; Dev the development data, measured
 	// the same way beside it. Without Cohort a recipe audit describes
@@ -254,6 +258,9 @@ func (c *Config) check() error {
 		if err := CheckAuditDate(c.AuditDate); err != nil {
 			return err
 		}
+	}
+	if err := c.checkOutcome(); err != nil {
+		return err
 	}
 	if err := c.checkClusterFiles(); err != nil {
 		return err

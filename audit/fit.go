@@ -2,8 +2,13 @@ package audit
 
 import (
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
 	"fmt"
+	"io/fs"
 	"math"
+	"os"
 	"slices"
 	"time"
 
@@ -146,6 +151,28 @@ func specOf(spec *model.Spec, path string) (*model.Spec, error) {
 		return spec, nil
 	}
 	return model.LoadSpec(path)
+}
+
+// loadSpecHashed reads the spec at path once and returns it with the
+// hex SHA-256 of the bytes it was read from, so that a spec given as a
+// stream (a named pipe, a process substitution) is hashed as read
+// rather than opened a second time.
+func loadSpecHashed(path string) (*model.Spec, string, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		msg := err.Error()
+		var pe *fs.PathError
+		if errors.As(err, &pe) {
+			msg = pe.Err.Error()
+		}
+		return nil, "", &model.SpecError{File: path, Msg: "cannot read file: " + msg, Kind: model.ErrSpecRead, Err: err}
+	}
+	spec, err := model.ParseSpec(path, data)
+	if err != nil {
+		return nil, "", err
+	}
+	sum := sha256.Sum256(data)
+	return spec, hex.EncodeToString(sum[:]), nil
 }
 
 // LoadFrozen reads the frozen model at path, refusing a recipe with a

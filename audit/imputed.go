@@ -105,7 +105,7 @@ func (r *run) imputed(ctx context.Context) error {
 	strict.Imputation.stacked = true
 	if c.Imputation.Column != "" {
 		r.prog.Step("reading and scoring " + c.Cohort.Path)
-		sc, err := strict.completed(ctx, r.spec, c.Cohort)
+		sc, err := strict.completed(ctx, r.cohortSpec(), c.Cohort)
 		if err != nil {
 			return err
 		}
@@ -115,7 +115,7 @@ func (r *run) imputed(ctx context.Context) error {
 	} else {
 		for j, in := range c.Imputation.Files {
 			r.prog.Step(fmt.Sprintf("reading and scoring imputation %d, %s", j+1, in.Path))
-			sc, err := strict.completed(ctx, r.spec, in.named())
+			sc, err := strict.completed(ctx, r.cohortSpec(), in.named())
 			if err != nil {
 				return err
 			}
@@ -125,7 +125,7 @@ func (r *run) imputed(ctx context.Context) error {
 			ir.lines = append(ir.lines, nil)
 		}
 	}
-	if err := ir.check(r.spec); err != nil {
+	if err := ir.check(r.cohortSpec()); err != nil {
 		return err
 	}
 	imputed := ir.imputedRows(r.spec)
@@ -192,6 +192,11 @@ func (ir *imputedRun) split(sc *scored, column string) error {
 			part.cluster = &cc
 		}
 		part.summary = validate.CohortSummary{Rows: len(rows)}
+		if k == 0 {
+			// The audit reports the first part's warnings: here those
+			// of the whole stacked file.
+			part.ranges = sc.ranges
+		}
 		ir.parts = append(ir.parts, part)
 		ir.labels = append(ir.labels, gc.Levels[k])
 		ir.lines = append(ir.lines, rows)

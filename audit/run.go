@@ -92,9 +92,11 @@ type run struct {
 	// warnings are the run's Result.Warnings.
 	warnings []string
 
-	spec      *model.Spec
+	spec *model.Spec
+	// cspec is spec with the cohort's outcome coding, or nil when the
+	// cohort uses the model's (cohortSpec).
+	cspec     *model.Spec
 	modelHash string
-	modelErr  error // why the model file could not be hashed
 	dev, cur  *scored
 	devPerf   *validate.Performance
 	perf      *validate.Performance
@@ -129,6 +131,9 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 	if err := r.loadModel(); err != nil {
 		return nil, err
 	}
+	if err := r.recode(); err != nil {
+		return nil, err
+	}
 	var internal *validate.Internal
 	if c.Dev.given() {
 		dev, err := r.readDev(ctx)
@@ -147,6 +152,9 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 					return nil, fmt.Errorf("writing the fitted model: %w", err)
 				}
 				r.fitted = &atomicfile.File{Path: FittedModelName, Data: y}
+				if err := r.recode(); err != nil {
+					return nil, err
+				}
 			}
 			if c.Bootstrap > 0 {
 				var files []atomicfile.File
@@ -173,10 +181,10 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 		var err error
 		if len(c.Clusters.Files) > 0 {
 			r.prog.Step(fmt.Sprintf("reading and scoring %d cluster files", len(c.Clusters.Files)))
-			r.cur, err = c.scoreClusterFiles(ctx, r.spec)
+			r.cur, err = c.scoreClusterFiles(ctx, r.cohortSpec())
 		} else {
 			r.prog.Step("reading and scoring " + c.Cohort.Path)
-			r.cur, err = c.score(ctx, r.spec, c.Cohort, true)
+			r.cur, err = c.score(ctx, r.cohortSpec(), c.Cohort, true)
 		}
 		if err != nil {
 			return nil, err
@@ -246,14 +254,13 @@ func (r *run) loadModel() error {
 		return nil
 	}
 	var err error
-	if r.spec, err = specOf(c.Spec, c.Model); err != nil {
+	if c.Spec != nil {
+		r.spec = c.Spec
+	} else if r.spec, r.modelHash, err = loadSpecHashed(c.Model); err != nil {
 		return err
 	}
 	if !r.spec.Frozen() && !c.Dev.given() {
 		return &model.SpecError{File: c.Model, Msg: "this is a recipe (it has no intercept): give the development data with --dev to fit it, or fit it first with 'riskaudit fit'", Kind: model.ErrNotFrozen}
-	}
-	if c.Model != "" && c.Spec == nil {
-		r.modelHash, r.modelErr = fileSHA256(c.Model)
 	}
 	return nil
 }
@@ -358,7 +365,7 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 	a.SampleSize = sampleSizeOf(r.cur, r.perf, c.Measures.ClassifyAt, c.sizeRequest())
 	if c.hasModel() && c.Dev.given() && c.hasCohort() && r.imp == nil {
 		r.prog.Step("comparing case-mix")
-		if a.CaseMix, err = c.caseMix(r.spec, r.dev, r.cur, r.devPerf, r.perf); err != nil {
+		if a.CaseMix, err = c.caseMix(r.spec, r.cohortSpec(), r.dev, r.cur, r.devPerf, r.perf); err != nil {
 			return err
 		}
 	}
@@ -367,10 +374,8 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 		parent := validate.ParentModel{Path: c.Model, SHA256: r.modelHash}
 		if fm := r.fittedFile(); fm != nil {
 			parent = validate.ParentModel{Path: fm.Path, SHA256: fm.SHA256, FittedInAudit: true}
-		} else if r.modelErr != nil {
-			return r.modelErr
 		}
-		u, f, err := c.updateModel(ctx, r.spec, parent, r.cur)
+		u, f, err := c.updateModel(ctx, r.spec, r.cohortSpec(), parent, r.cur)
 		if err != nil {
 			return err
 		}
@@ -381,6 +386,11 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 		if err := r.subgroups(a, criteria); err != nil {
 			return err
 		}
+	}
+	// Last among the limitations: a warning that changes no number.
+	a.OutOfRange = r.cur.ranges
+	if f, ok := outOfRangeFinding(a.OutOfRange); ok {
+		a.Summary = append(a.Summary, f)
 	}
 	return nil
 }
@@ -493,6 +503,7 @@ func (r *run) modelInfo() validate.ModelInfo {
 	}
 	m.Purpose = validate.NewPurpose(spec.Purpose, c.Purpose)
 	m.FittedModel = r.fittedFile()
+	m.CohortOutcome = outcomeInfo(spec, r.cohortSpec())
 	return m
 }
 
@@ -500,7 +511,7 @@ func (r *run) provenance() validate.Provenance {
 	c := r.cfg
 	pv := validate.Provenance{Tool: c.Tool, CommandLine: c.CommandLine, StartedAt: r.started.Format(timeFormat), Plan: c.Plan}
 	pv.AuditDate, pv.AuditDateSource = auditDate(c.AuditDate, c.AuditDateSource, r.started)
-	if c.Model != "" && r.modelErr == nil {
+	if c.Model != "" {
 		pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "model", Path: c.Model, SHA256: r.modelHash})
 	}
 	pv.Inputs = append(pv.Inputs, validate.InputFile{Role: "cohort", Path: r.cur.file, Sheet: r.cur.sheet, SHA256: r.cur.hash, Query: r.cur.query})

@@ -2,12 +2,8 @@ package audit
 
 import (
 	"context"
-	"crypto/sha256"
-	"encoding/hex"
 	"errors"
 	"fmt"
-	"io"
-	"os"
 	"strconv"
 
 	"github.com/riskaudit/riskaudit/cohort"
@@ -47,6 +43,9 @@ type scored struct {
 	// dates are the OverTime date column's text in the used rows, with
 	// their lines for errors (nil without a date column).
 	dates *dateColumn
+	// ranges are the predictor values of the audited data beyond the
+	// model's development range or like missing-value codes (ranges.go).
+	ranges []validate.OutOfRange
 }
 
 // requests are the columns an audit reads: the model's (with the
@@ -56,6 +55,9 @@ type scored struct {
 // measured by: the development data beside a cohort need not hold them.
 func (c *Config) requests(spec *model.Spec, audited bool) ([]cohort.Request, error) {
 	reqs := spec.Columns(true)
+	if audited && c.Predicted == nil && c.hasCohort() && !c.Outcome.given() {
+		reqs[0].For = "the model's outcome (a cohort that names or codes it otherwise can say so with --outcome, --event and --non-event)"
+	}
 	if c.Predicted != nil {
 		reqs = append(reqs, cohort.Request{Name: c.Predicted.Column, Kind: cohort.Numeric, NaNIsError: true, For: "the predicted risks (every file audited holds them)"})
 	}
@@ -161,7 +163,10 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input, audited 
 	if c.Predicted != nil {
 		also = []string{c.Predicted.Column}
 	}
-	d, m, err := model.Build(spec, fr, model.Options{Outcome: true, FailOnMissing: c.FailOnMissing, Also: also, NoMatrix: true})
+	// The cohort (not development data beside it) may code the outcome
+	// otherwise and say so.
+	cohortCodes := audited && c.Predicted == nil && c.hasCohort()
+	d, m, err := model.Build(spec, fr, model.Options{Outcome: true, FailOnMissing: c.FailOnMissing, Also: also, NoMatrix: true, CohortCodes: cohortCodes})
 	if err != nil {
 		return nil, err
 	}
@@ -185,6 +190,9 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input, audited 
 	}
 	if audited {
 		sc.dates = c.OverTime.column(fr, m.Rows)
+		if c.Predicted == nil {
+			sc.ranges = outOfRange(spec, fr, m.Rows)
+		}
 	}
 	if c.Predicted != nil {
 		if sc.p, err = predictedRisks(fr, c.Predicted.Column, m.Rows, c.Predicted.Percent); err != nil {
@@ -264,18 +272,4 @@ func assess(sc *scored, opt validate.Options) (*validate.Performance, error) {
 	c := &perf.Cohort
 	c.Rows, c.Excluded, c.ExcludedByColumn = sc.summary.Rows, sc.summary.Excluded, sc.summary.ExcludedByColumn
 	return perf, nil
-}
-
-// fileSHA256 returns the hex SHA-256 of the file at path.
-func fileSHA256(path string) (string, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return "", fmt.Errorf("cannot read %s: %w", path, err)
-	}
-	defer f.Close()
-	h := sha256.New()
-	if _, err := io.Copy(h, f); err != nil {
-		return "", fmt.Errorf("cannot read %s: %w", path, err)
-	}
-	return hex.EncodeToString(h.Sum(nil)), nil
 }

@@ -14,10 +14,12 @@ import (
 // updateModel runs the closed testing procedure on the cohort, offers the
 // chosen updated model as a file and estimates its performance by
 // bootstrap. It reuses the cohort as read for the audit and builds its
-// design matrix.
-func (c *Config) updateModel(ctx context.Context, spec *model.Spec, parent validate.ParentModel, cur *scored) (*validate.Update, atomicfile.File, error) {
+// design matrix with curSpec, the model with the cohort's outcome coding
+// (cohortSpec); the updated model names the outcome as spec, the parent,
+// does, since it predicts the same outcome.
+func (c *Config) updateModel(ctx context.Context, spec, curSpec *model.Spec, parent validate.ParentModel, cur *scored) (*validate.Update, atomicfile.File, error) {
 	var none atomicfile.File
-	d, m, err := model.Build(spec, cur.frame, model.Options{Outcome: true, FailOnMissing: c.FailOnMissing})
+	d, m, err := model.Build(curSpec, cur.frame, model.Options{Outcome: true, FailOnMissing: c.FailOnMissing})
 	if err != nil {
 		return nil, none, err
 	}
@@ -66,6 +68,7 @@ func (c *Config) updateModel(ctx context.Context, spec *model.Spec, parent valid
 		DataFile: cur.file, DataSHA256: cur.hash, RowsUsed: m.N, Events: m.Events(),
 		FittedAt: now(c.Clock).Format(timeFormat), ToolVersion: c.Tool, ParentSHA256: parent.SHA256, ParentFile: parent.Path,
 	})
+	frozen.Outcome = spec.Outcome
 	y, err := frozen.MarshalYAML()
 	if err != nil {
 		return nil, none, err

@@ -403,6 +403,12 @@ func layoutOutputs(dir string, files, extras []atomicfile.File, inputs []string,
 		if what, ok := seen[abs]; ok {
 			return nil, nil, fmt.Errorf("the output %s (%s) is the input %s: inputs are never overwritten; choose another output path", abs, what, in)
 		}
+		// Checked whether or not the input exists yet: a history store
+		// that the audit is about to create inside the folder would be
+		// lost when the folder is replaced.
+		if strings.HasPrefix(abs, absDir+string(filepath.Separator)) {
+			return nil, nil, fmt.Errorf("the input %s lies inside the output folder %s, which is replaced whole: choose another output folder", in, dir)
+		}
 		ist, err := os.Stat(in)
 		if err != nil {
 			continue
@@ -411,9 +417,6 @@ func layoutOutputs(dir string, files, extras []atomicfile.File, inputs []string,
 			if ost, err := os.Stat(out); err == nil && os.SameFile(ist, ost) {
 				return nil, nil, fmt.Errorf("the output %s (%s) is the input %s: inputs are never overwritten; choose another output path", out, what, in)
 			}
-		}
-		if strings.HasPrefix(abs, absDir+string(filepath.Separator)) {
-			return nil, nil, fmt.Errorf("the input %s lies inside the output folder %s, which is replaced whole: choose another output folder", in, dir)
 		}
 	}
 	return files, rest, nil

@@ -145,6 +145,9 @@ func TestWriteRefusesClashes(t *testing.T) {
 		"extra over an input":     {[]atomicfile.File{{Path: input, Data: []byte("clobber")}}, []string{input}, "is the input"},
 		"input inside the folder": {nil, []string{filepath.Join(dir, "report.md")}, "is the input"},
 		"extra below the folder":  {[]atomicfile.File{{Path: filepath.Join(dir, "sub", "x.yaml")}}, nil, "lies in a folder inside"},
+		// Not there yet (a history store the write would create): it
+		// would be lost when the folder is replaced.
+		"new input inside the folder": {nil, []string{filepath.Join(dir, "h.sqlite")}, "lies inside the output folder"},
 	} {
 		r := testResult(t, nil, tc.extras...)
 		if _, err := Write(dir, r, WriteOptions{Inputs: tc.inputs}); err == nil || !strings.Contains(err.Error(), tc.want) {
@@ -153,6 +156,13 @@ func TestWriteRefusesClashes(t *testing.T) {
 	}
 	if b, _ := os.ReadFile(input); string(b) != "keep" {
 		t.Errorf("the input was overwritten: %q", b)
+	}
+	store := filepath.Join(dir, "h.sqlite")
+	if _, err := Write(dir, testResult(t, nil), WriteOptions{History: store}); err == nil || !strings.Contains(err.Error(), "lies inside the output folder") {
+		t.Errorf("a new history store inside the folder: error %v", err)
+	}
+	if _, err := os.Stat(store); err == nil {
+		t.Error("the history store was created inside the folder")
 	}
 }
 

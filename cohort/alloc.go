@@ -3,6 +3,7 @@ package cohort
 import (
 	"fmt"
 	"os"
+	"sync"
 	"sync/atomic"
 
 	"github.com/apache/arrow-go/v18/arrow/memory"
@@ -15,10 +16,23 @@ import (
 // boundaries turn into an error; without it, a length read from a
 // damaged header (such as a compressed buffer claiming 256 GB) would end
 // the process with an out-of-memory fault no recover can catch.
+//
+// With reuse set, buffers the reader frees are kept (a few, see
+// keepFreed) and handed out again, cleared, instead of fresh memory: a
+// Parquet load makes the same few page buffers for every column chunk
+// it reads, and frees them when the chunk is closed, so a 10M-row load
+// would otherwise leave some 30 MB of them for the collector.
 type limitedAllocator struct {
 	perCall, total int64
-	held           atomic.Int64
+	held           atomic.Int64 // bytes handed out and not freed
+	reuse          bool
+
+	mu    sync.Mutex
+	freed [][]byte // buffers freed, for reuse
 }
+
+// keepFreed is how many freed buffers a reusing allocator keeps.
+const keepFreed = 16
 
 // allocationError is the panic value of a refused allocation.
 type allocationError struct{ size, limit int64 }
@@ -32,14 +46,17 @@ func (e allocationError) Error() string {
 // decode 65,536 rows at a time, so a buffer of a sound file is a small
 // fraction of that); all buffers together 256 times the file, and at
 // least 256 MiB. A file whose size cannot be read gets the minimums.
-func newLimitedAllocator(path string) *limitedAllocator {
+// reuse says whether freed buffers are handed out again.
+func newLimitedAllocator(path string, reuse bool) *limitedAllocator {
 	var size int64
 	if st, err := os.Stat(path); err == nil {
 		size = st.Size()
 	}
-	return &limitedAllocator{perCall: max(16<<20, 64*size), total: max(256<<20, 256*size)}
+	return &limitedAllocator{perCall: max(16<<20, 64*size), total: max(256<<20, 256*size), reuse: reuse}
 }
 
+// check refuses a request of size bytes beyond the limits, and counts
+// size as held.
 func (a *limitedAllocator) check(size int) {
 	if s := int64(size); s < 0 || s > a.perCall {
 		panic(allocationError{s, a.perCall})
@@ -50,22 +67,72 @@ func (a *limitedAllocator) check(size int) {
 	}
 }
 
-// Allocate returns size fresh bytes, within the limits.
+// Allocate returns size zeroed bytes, within the limits.
 func (a *limitedAllocator) Allocate(size int) []byte {
 	a.check(size)
-	return memory.DefaultAllocator.Allocate(size)
+	return a.fresh(size)
 }
 
-// Reallocate resizes b, within the limits.
+// fresh is a buffer of size bytes whose size check has counted them:
+// a freed one or new memory.
+func (a *limitedAllocator) fresh(size int) []byte {
+	b := a.take(size)
+	if b == nil {
+		b = memory.DefaultAllocator.Allocate(size)
+	}
+	a.held.Add(int64(cap(b)) - int64(size))
+	return b
+}
+
+// take is the smallest freed buffer that holds size bytes, cleared and
+// cut to size, or nil.
+func (a *limitedAllocator) take(size int) []byte {
+	if !a.reuse {
+		return nil
+	}
+	a.mu.Lock()
+	defer a.mu.Unlock()
+	best := -1
+	for i, b := range a.freed {
+		if cap(b) >= size && (best < 0 || cap(b) < cap(a.freed[best])) {
+			best = i
+		}
+	}
+	if best < 0 {
+		return nil
+	}
+	b := a.freed[best][:size]
+	last := len(a.freed) - 1
+	a.freed[best] = a.freed[last]
+	a.freed[last] = nil
+	a.freed = a.freed[:last]
+	clear(b)
+	return b
+}
+
+// Reallocate resizes b, within the limits: b itself when it has room,
+// otherwise a new buffer holding b's bytes, b freed.
 func (a *limitedAllocator) Reallocate(size int, b []byte) []byte {
 	a.check(size)
-	nb := memory.DefaultAllocator.Reallocate(size, b)
-	a.held.Add(int64(cap(nb)) - int64(size) - int64(cap(b)))
+	if size <= cap(b) {
+		a.held.Add(-int64(size))
+		return b[:size]
+	}
+	nb := a.fresh(size)
+	copy(nb, b)
+	a.Free(b)
 	return nb
 }
 
-// Free returns b.
+// Free returns b, which a reusing allocator may keep.
 func (a *limitedAllocator) Free(b []byte) {
 	a.held.Add(-int64(cap(b)))
-	memory.DefaultAllocator.Free(b)
+	if !a.reuse || cap(b) == 0 {
+		return
+	}
+	a.mu.Lock()
+	defer a.mu.Unlock()
+	if len(a.freed) < keepFreed {
+		a.freed = append(a.freed, b[:0])
+	}
 }

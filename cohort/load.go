@@ -235,8 +235,21 @@ func Load(path string, reqs []Request, opt Options) (*Frame, error) {
 // LoadContext is Load with a context: a cancelled or expired ctx stops
 // the read within one chunk (65,536 rows of text, one record batch of a
 // columnar file) and returns context.Cause(ctx).
+//
+// A stream — standard input ("-"), a named pipe or a process
+// substitution — is read once, whole, into memory and parsed as
+// delimited text (see loadStream).
 func LoadContext(ctx context.Context, path string, reqs []Request, opt Options) (*Frame, error) {
-	fr, err := loadHashed(ctx, path, reqs, opt)
+	var fr *Frame
+	f, err := openStream(path)
+	switch {
+	case err != nil:
+		return nil, &Error{File: path, Msg: "cannot read file: " + pathErrMsg(err), Kind: ErrRead, Err: err}
+	case f != nil:
+		fr, err = loadStream(ctx, path, f, reqs, opt)
+	default:
+		fr, err = loadHashed(ctx, path, reqs, opt)
+	}
 	if err != nil && ctx.Err() != nil {
 		return nil, context.Cause(ctx)
 	}

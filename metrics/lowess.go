@@ -373,24 +373,37 @@ type CalibrationCurve struct {
 	// maximum.
 	ICI, E50, E90, Emax float64
 	// Clipped counts the rows where the local linear fit fell outside
-	// [0, 1] and was clipped to it.
+	// [0, 1] by more than ClipTolerance (all are clipped to it).
 	Clipped int
 }
 
+// ClipTolerance is how far outside [0, 1] a local fit must fall for
+// ClipRisks to count it: a fit of an exact 0 or 1 computed as −5e-17 is
+// rounding, not a fit that left the range, and is clipped without being
+// counted.
+const ClipTolerance = 1e-9
+
 // ClipRisks clips every value of fit to [0, 1] in place and returns how
-// many it changed. The local linear fit of a 0/1 outcome is not bound to
-// [0, 1] (it strays outside where the risks crowd at one end), but an
-// observed risk is: the flexible calibration curve is the fit clipped to
-// [0, 1], and its distances from the diagonal (ICI, E50, E90, Emax) are
-// taken from the clipped curve. NaN values are left as they are.
+// many lay outside it by more than ClipTolerance. The local linear fit of
+// a 0/1 outcome is not bound to [0, 1] (it strays outside where the risks
+// crowd at one end), but an observed risk is: the flexible calibration
+// curve is the fit clipped to [0, 1], and its distances from the diagonal
+// (ICI, E50, E90, Emax) are taken from the clipped curve. NaN values are
+// left as they are.
 func ClipRisks(fit []float64) int {
 	n := 0
 	for i, v := range fit {
 		switch {
 		case v < 0:
-			fit[i], n = 0, n+1
+			if v < -ClipTolerance {
+				n++
+			}
+			fit[i] = 0
 		case v > 1:
-			fit[i], n = 1, n+1
+			if v > 1+ClipTolerance {
+				n++
+			}
+			fit[i] = 1
 		}
 	}
 	return n

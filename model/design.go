@@ -55,6 +55,10 @@ type entry struct {
 	norm      bool
 	factors   [2]int // product: entry indices
 	offset    int    // first term's position in a row, after the intercept
+	// rng is the column's range over the rows the design uses, found for
+	// a recipe's numeric entry (nil otherwise): the development range the
+	// frozen model states.
+	rng *Range
 }
 
 // Options control how a design is built.
@@ -68,6 +72,11 @@ type Options struct {
 	// Also names further columns whose missing values leave a row out, so
 	// that two models can be fitted to the same rows.
 	Also []string
+	// CohortCodes says that the data are an audited cohort, which may
+	// code the model's outcome otherwise and can say so with the audit's
+	// --outcome, --event and --non-event: the outcome errors hint at
+	// them first.
+	CohortCodes bool
 	// NoMatrix leaves Matrix.X empty: a frozen model that only scores
 	// needs no design matrix. The terms are then evaluated, and their
 	// values checked, by Design.LinearPredictors.
@@ -129,7 +138,7 @@ func Build(spec *Spec, fr *cohort.Frame, opt Options) (*Design, *Matrix, error) 
 		return nil, nil, err
 	}
 	if opt.Outcome {
-		if err := d.mapOutcome(used); err != nil {
+		if err := d.mapOutcome(used, opt.CohortCodes); err != nil {
 			return nil, nil, err
 		}
 	}
@@ -357,6 +366,9 @@ func (d *Design) bindNumeric(e *entry, used []bool) error {
 	pr := e.pred
 	e.col = d.frame.Column(pr.Column)
 	name := pr.Column
+	if !d.Spec.Frozen() {
+		e.rng = usedRange(e.col.Num, used)
+	}
 	switch {
 	case pr.Log:
 		e.kind = logTerm
@@ -401,6 +413,28 @@ func (d *Design) bindNumeric(e *entry, used []bool) error {
 		e.labels = []string{name}
 	}
 	return nil
+}
+
+// usedRange is the smallest and largest of the values x[i] with used[i]
+// set (every used value is present: complete cases), or nil when no row
+// is used.
+func usedRange(x []float64, used []bool) *Range {
+	var r *Range
+	for i, ok := range used {
+		if !ok {
+			continue
+		}
+		v := x[i]
+		switch {
+		case r == nil:
+			r = &Range{Min: v, Max: v}
+		case v < r.Min:
+			r.Min = v
+		case v > r.Max:
+			r.Max = v
+		}
+	}
+	return r
 }
 
 func (d *Design) bindCategorical(e *entry, used []bool) error {
@@ -490,9 +524,18 @@ func (d *Design) bindProduct(e *entry, byColumn map[string]int) error {
 	return nil
 }
 
+// The hints of an outcome value that is neither the model's event nor
+// its non-event: the audit's own flags first for an audited cohort.
+const (
+	recodeHint = "the model names its outcome's codes: recode the column to them, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event"
+	flagsHint  = "the model names its outcome's codes: if this cohort codes the outcome otherwise, say how with --outcome, --event and --non-event beside --model; " +
+		"or recode the column to the model's codes, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event"
+)
+
 // mapOutcome codes every outcome level present in the used rows as event
-// or non-event, and refuses values that are neither.
-func (d *Design) mapOutcome(used []bool) error {
+// or non-event, and refuses values that are neither; cohortCodes is
+// Options.CohortCodes.
+func (d *Design) mapOutcome(used []bool, cohortCodes bool) error {
 	o := d.Spec.Outcome
 	c := d.ocol
 	d.outcome = make([]int8, len(c.Levels))
@@ -528,13 +571,26 @@ func (d *Design) mapOutcome(used []bool) error {
 		}
 		return cohort.QuoteList(vals)
 	}
+	hint := recodeHint
+	if cohortCodes {
+		hint = flagsHint
+	}
 	if len(bad) > 0 {
 		code := bad[0]
 		return &cohort.Error{File: d.frame.File, Line: c.LevelLine[code], Row: d.frame.RowNumbered, Cell: d.frame.CellRef(c.LevelLine[code], c.Name), Column: c.Name, Value: c.Levels[code], HasValue: true,
-			Msg: fmt.Sprintf("neither the event %s nor the non-event %s; values seen: %s (the model names its outcome's codes: recode the column to them, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event)", cohort.Quote(o.Event.Text), cohort.Quote(o.NonEvent.Text), seen()), Kind: cohort.ErrOutcome}
+			Msg: fmt.Sprintf("neither the event %s nor the non-event %s; values seen: %s (%s)", cohort.Quote(o.Event.Text), cohort.Quote(o.NonEvent.Text), seen(), hint), Kind: cohort.ErrOutcome}
 	}
 	if events == 0 {
-		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no events (no row equals the event value %s); values seen: %s", cohort.Quote(o.Event.Text), seen()), Kind: cohort.ErrOutcome}
+		hint, distinct := "", 0
+		for _, n := range present {
+			if n > 0 {
+				distinct++
+			}
+		}
+		if cohortCodes && distinct > 1 {
+			hint = " (if this cohort codes the event otherwise, give its value with --event beside --model)"
+		}
+		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no events (no row equals the event value %s); values seen: %s%s", cohort.Quote(o.Event.Text), seen(), hint), Kind: cohort.ErrOutcome}
 	}
 	if nonEvents == 0 {
 		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no non-events (every row equals the event value %s)", cohort.Quote(o.Event.Text)), Kind: cohort.ErrOutcome}

@@ -237,14 +237,16 @@ func describe(pr *Predictor) string {
 }
 
 // Freeze returns the fitted model as a frozen spec: the recipe with its
-// coefficients, reference levels and knot positions filled in, and the
-// given provenance.
+// coefficients, reference levels, knot positions and each numeric
+// predictor's development range filled in, and the given provenance.
 func (f *Fitted) Freeze(prov Provenance) *Spec {
 	return freeze(f.Design, f.Result.Coef, prov)
 }
 
 // FreezeWith returns a frozen spec with the design's terms and the given
-// coefficients (in term order).
+// coefficients (in term order). The development ranges are those of the
+// rows a recipe's design was built on; a frozen model's design (an
+// update's) keeps the ranges its spec states.
 func FreezeWith(d *Design, beta []float64, prov Provenance) *Spec {
 	return freeze(d, beta, prov)
 }
@@ -275,6 +277,11 @@ func freeze(d *Design, beta []float64, prov Provenance) *Spec {
 			sp := *pr.Spline
 			sp.Knots, sp.Count = e.knots, 0
 			pr.Spline = &sp
+		}
+		if e.rng != nil {
+			// A frozen spec's own range (an update's parent) is kept.
+			rng := *e.rng
+			pr.Range = &rng
 		}
 		s.Predictors[k] = pr
 	}
@@ -412,6 +419,12 @@ func predictorNode(pr *Predictor) *yaml.Node {
 	}
 	if pr.Coefs != nil {
 		add(n, "coefs", coefMapNode(pr.Coefs))
+	}
+	if r := pr.Range; r != nil {
+		m := &yaml.Node{Kind: yaml.MappingNode, Style: yaml.FlowStyle}
+		add(m, "min", num(r.Min))
+		add(m, "max", num(r.Max))
+		add(n, "development_range", m)
 	}
 	return n
 }

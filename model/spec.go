@@ -191,9 +191,23 @@ type Predictor struct {
 	// Coefs are the coefficients of a multi-term predictor, by term label
 	// (frozen only).
 	Coefs []Coef
+	// Range is the column's range in the development data (the spec's
+	// optional development_range key, which fit writes for every numeric
+	// predictor), or nil when the spec does not state it.
+	Range *Range
 	// Line is the spec line the entry starts on.
 	Line int
 }
+
+// Range is the smallest and largest value of a numeric predictor's
+// column in the rows a model was fitted to, on the column's own scale
+// (before center, scale or any transform).
+type Range struct {
+	Min, Max float64
+}
+
+// Contains reports whether v lies within the range, ends included.
+func (r Range) Contains(v float64) bool { return v >= r.Min && v <= r.Max }
 
 // Provenance records where a frozen model came from.
 type Provenance struct {
@@ -463,7 +477,7 @@ func (p *specParser) outcome(n *yaml.Node, o *Outcome) error {
 }
 
 var predictorKeys = []string{"column", "categorical", "reference", "levels", "coef", "coefs",
-	"center", "scale", "log", "powers", "spline", "product"}
+	"center", "scale", "log", "powers", "spline", "product", "development_range"}
 
 func (p *specParser) predictor(n *yaml.Node) (Predictor, error) {
 	pr := Predictor{Scale: 1, Line: n.Line}
@@ -500,6 +514,8 @@ func (p *specParser) predictor(n *yaml.Node) (Predictor, error) {
 			}
 		case "spline":
 			pr.Spline, err = p.spline(v)
+		case "development_range":
+			pr.Range, err = p.devRange(v)
 		case "product":
 			if v.Kind != yaml.SequenceNode || len(v.Content) != 2 {
 				return p.errf(ErrSpecValue, v, "product takes a list of two predictor columns")
@@ -522,7 +538,7 @@ func (p *specParser) predictor(n *yaml.Node) (Predictor, error) {
 
 func (p *specParser) checkPredictor(n *yaml.Node, pr *Predictor) error {
 	if pr.Product != nil {
-		if pr.Column != "" || pr.Categorical || pr.Log || pr.Powers != nil || pr.Spline != nil || pr.Center != 0 || pr.Scale != 1 || pr.Levels != nil || pr.HasReference {
+		if pr.Column != "" || pr.Categorical || pr.Log || pr.Powers != nil || pr.Spline != nil || pr.Center != 0 || pr.Scale != 1 || pr.Levels != nil || pr.HasReference || pr.Range != nil {
 			return p.errf(ErrConflict, n, "a product entry takes only product and its coefficients (coef or coefs)")
 		}
 		return nil
@@ -531,7 +547,7 @@ func (p *specParser) checkPredictor(n *yaml.Node, pr *Predictor) error {
 		return p.errf(ErrMissingKey, n, "a predictor needs a column (or a product)")
 	}
 	if pr.Categorical {
-		if pr.Log || pr.Powers != nil || pr.Spline != nil || pr.Center != 0 || pr.Scale != 1 || pr.HasCoef || pr.Coefs != nil {
+		if pr.Log || pr.Powers != nil || pr.Spline != nil || pr.Center != 0 || pr.Scale != 1 || pr.HasCoef || pr.Coefs != nil || pr.Range != nil {
 			return p.errf(ErrConflict, n, "categorical predictor %s takes only reference and levels", cohort.Quote(pr.Column))
 		}
 		return nil
@@ -632,6 +648,36 @@ func (p *specParser) spline(n *yaml.Node) (*Spline, error) {
 		return nil, p.errf(ErrMissingKey, n, "spline needs knots")
 	}
 	return sp, nil
+}
+
+// devRange reads a development_range: a mapping of min and max, both
+// finite, min not above max.
+func (p *specParser) devRange(n *yaml.Node) (*Range, error) {
+	r := &Range{}
+	seen := 0
+	err := p.fields(n, "development_range", []string{"min", "max"}, func(key string, k, v *yaml.Node) error {
+		f, err := p.number(v, "development_range."+key)
+		if err != nil {
+			return err
+		}
+		seen++
+		if key == "min" {
+			r.Min = f
+		} else {
+			r.Max = f
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	if seen != 2 {
+		return nil, p.errf(ErrMissingKey, n, "development_range needs both min and max")
+	}
+	if r.Min > r.Max {
+		return nil, p.errf(ErrSpecValue, n, "development_range: min %s is above max %s", fmtNum(r.Min), fmtNum(r.Max))
+	}
+	return r, nil
 }
 
 func (p *specParser) provenance(n *yaml.Node, pv *Provenance) error {

@@ -90,6 +90,35 @@ func TestBuildErrors(t *testing.T) {
 	}
 }
 
+// TestCohortCodesHint: for an audited cohort (Options.CohortCodes) the
+// outcome errors hint at the audit's outcome flags first; for other data
+// (a fit's) they do not, since fit takes no such flags.
+func TestCohortCodesHint(t *testing.T) {
+	const flags = "say how with --outcome, --event and --non-event beside --model"
+	for _, tc := range []struct {
+		name, spec, csv string
+		cohort          bool
+		want            string
+	}{
+		{"a third value in a cohort", "outcome: {column: y, event: yes, non_event: no}\npredictors: []\n", "y\nyes\nno\n1\n", true,
+			`values seen: "yes", "no", "1" (the model names its outcome's codes: if this cohort codes the outcome otherwise, ` + flags + `; or recode the column to the model's codes, or write the model's risks with 'riskaudit score' and audit that column with --predicted, --outcome and --event)`},
+		{"no events among two values in a cohort", "outcome: {column: y, event: yes}\npredictors: []\n", "y\n1\n0\n", true,
+			`no events (no row equals the event value "yes"); values seen: "1", "0" (if this cohort codes the event otherwise, give its value with --event beside --model)`},
+		{"no events, one value: nothing to recode", "outcome: {column: y, event: yes}\npredictors: []\n", "y\n0\n0\n", true,
+			`no events (no row equals the event value "yes"); values seen: "0"`},
+		{"no events in a fit's data: no flags hinted", "outcome: {column: y, event: yes}\npredictors: []\n", "y\n1\n0\n", false,
+			`no events (no row equals the event value "yes"); values seen: "1", "0"`},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			s := mustSpec(t, tc.spec)
+			_, _, err := Build(s, frame(t, tc.csv, s, true), Options{Outcome: true, CohortCodes: tc.cohort})
+			if err == nil || !strings.HasSuffix(err.Error(), tc.want) {
+				t.Errorf("got  %v\nwant …%s", err, tc.want)
+			}
+		})
+	}
+}
+
 func TestMissingPolicy(t *testing.T) {
 	s := mustSpec(t, "outcome: {column: y, event: 1}\npredictors:\n  - column: a\n  - column: b\n")
 	csv := "y,a,b\n1,1,NA\n0,,\n1,3,4\n0,4,5\n1,.,6\n"

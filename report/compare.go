@@ -16,6 +16,9 @@ func WriteComparison(w io.Writer, c *validate.Comparison, figure string) error {
 	p("# Model comparison: %s against %s\n\n", Escape(c.ModelA), Escape(c.ModelB))
 	p("On the %d patients of %s with every value both models need (%d events). Made %s by %s. %s\n\n", c.Used, Escape(c.Cohort), c.Events,
 		c.Provenance.StartedAt, Escape(c.Tool), auditDateLine(c.Provenance))
+	if l := cohortOutcomeLine(c.CohortOutcome, true); l != "" {
+		p("%s\n\n", l)
+	}
 	better := "a"
 	if d.Difference < 0 {
 		better = "b"

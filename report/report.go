@@ -124,9 +124,34 @@ func (r *renderer) header() {
 	}
 	r.p("Audit of %s on the cohort %s, outcome %s = %s. Made %s by %s. %s\n\n",
 		what, code(cohortFile), code(a.Model.Outcome), code(a.Model.Event), a.Provenance.StartedAt, Escape(a.Provenance.Tool), auditDateLine(a.Provenance))
+	if l := cohortOutcomeLine(a.Model.CohortOutcome, false); l != "" {
+		r.p("%s\n\n", l)
+	}
 	if a.CohortIsDevelopment {
 		r.p("No new cohort was given: the measures below are the model's apparent performance on its development data, and the internal validation says how optimistic they are.\n\n")
 	}
+}
+
+// cohortOutcomeLine says, in Markdown, for an audit (models false) or a
+// comparison of models told that the cohort codes the outcome otherwise,
+// which column and values were read and what the model names; "" when
+// the cohort uses the model's own codes.
+func cohortOutcomeLine(co *validate.CohortOutcome, models bool) string {
+	if co == nil {
+		return ""
+	}
+	nonEvent := func(v string) string {
+		if v == "" {
+			return "any other value a non-event"
+		}
+		return "non-event " + code(v)
+	}
+	whose, same := "model's", "the model, its SHA-256 and its coefficients are"
+	if models {
+		whose, same = "models'", "the models, their SHA-256 and their coefficients are"
+	}
+	return fmt.Sprintf("The cohort's outcome was read from column %s with event value %s (%s) instead of the %s %s = %s (%s), as this cohort was said to code it; %s unchanged.",
+		code(co.Column), code(co.Event), nonEvent(co.NonEvent), whose, code(co.ModelColumn), code(co.ModelEvent), nonEvent(co.ModelNonEvent), same)
 }
 
 func (r *renderer) fit() {
@@ -703,6 +728,7 @@ func (r *renderer) methods() {
 		"Brier score (Brier 1950) and scaled Brier score (Steyerberg et al. 2010).",
 		"Net benefit (Vickers & Elkin 2006), treating when the predicted risk is at or above the threshold.",
 		"Proportions with exact Clopper–Pearson intervals (Clopper & Pearson 1934).",
+		"Every 95% interval written with 1.96 uses z = 1.959964, the 97.5% point of the normal distribution.",
 	}
 	if m := r.a.Model; m.PredictedPercent {
 		items = append(items, "Predicted risks: the column "+code(m.Column)+" holds risks in percent (0 to 100), as --predicted-percent (plan key predicted_percent) says; each was divided by 100 before any measure, and every risk in this report is on the scale of 0 to 1.")

@@ -26,6 +26,9 @@ func WriteSummary(w io.Writer, a *validate.Audit, dir string, nfig int) error {
 		}
 	}
 	p("Audit of %s on %s\n", a.Model.Name, cohortFile)
+	if co := a.Model.CohortOutcome; co != nil {
+		p("  outcome     read from column %s, event %s (the model's: %s = %s)\n", co.Column, co.Event, co.ModelColumn, co.ModelEvent)
+	}
 	p("  patients    %d used of %d, %d %s (%s)\n", a.Cohort.Used, a.Cohort.Rows, a.Cohort.Events, plural(a.Cohort.Events, "event", "events"), pct(a.Cohort.EventRate))
 	p("  AUC         %s\n", withCI(d.AUC, d.CI, a.AUCCIReason()))
 	p("  O/E         %s\n", withCI(c.OE, c.OECI, ""))

@@ -176,6 +176,11 @@ type ModelInfo struct {
 	Terms            []string `json:"terms,omitempty"`
 	Outcome          string   `json:"outcome"`
 	Event            string   `json:"event"`
+	// CohortOutcome is how the cohort coded the model's outcome when the
+	// audit was told that it codes it otherwise (audit --outcome, --event,
+	// --non-event with --model); nil when the cohort uses the model's
+	// own codes, Outcome and Event.
+	CohortOutcome *CohortOutcome `json:"cohort_outcome,omitempty"`
 	// Purpose is the model's stated purpose, with the fields not stated.
 	Purpose *Purpose `json:"purpose"`
 	// FittedModel is the frozen model that the audit fitted from the
@@ -185,6 +190,19 @@ type ModelInfo struct {
 	// the frozen model's provenance (parent_model_sha256), when it
 	// updates one.
 	ParentSHA256 string `json:"parent_sha256,omitempty"`
+}
+
+// CohortOutcome is the cohort's own coding of a frozen model's outcome:
+// the column read and the values taken as event and non-event (NonEvent
+// empty: every value but the event), beside the model's own column,
+// event and non-event (ModelNonEvent empty when the model names none).
+type CohortOutcome struct {
+	Column        string `json:"column"`
+	Event         string `json:"event"`
+	NonEvent      string `json:"non_event,omitempty"`
+	ModelColumn   string `json:"model_column"`
+	ModelEvent    string `json:"model_event"`
+	ModelNonEvent string `json:"model_non_event,omitempty"`
 }
 
 // Apparent is the model's performance on its development data, in the
@@ -320,6 +338,10 @@ type Audit struct {
 	// after the audit date, or after the day the audit ran when that is
 	// earlier; nil when there are none.
 	LateDates *LateDates `json:"late_dates,omitempty"`
+	// OutOfRange lists the audited cohort's predictor values beyond the
+	// model's development range, or that look like missing-value codes
+	// (empty: none).
+	OutOfRange []OutOfRange `json:"out_of_range,omitempty"`
 	// CohortIsDevelopment says that no new cohort was given, so the
 	// measures at the top level are those of the development data.
 	CohortIsDevelopment bool      `json:"cohort_is_development,omitempty"`

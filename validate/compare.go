@@ -29,16 +29,20 @@ type Comparison struct {
 	// ModelA and ModelB name the two models; Cohort and CohortSHA the
 	// data, Rows its rows, Used the rows complete for both models and
 	// Events their events.
-	ModelA     string               `json:"model_a"`
-	ModelB     string               `json:"model_b"`
-	Cohort     string               `json:"cohort"`
-	CohortSHA  string               `json:"cohort_sha256"`
-	Rows       int                  `json:"rows"`
-	Used       int                  `json:"used"`
-	Events     int                  `json:"events"`
-	DeLong     metrics.PairedDeLong `json:"delong"`
-	Brier      BrierComparison      `json:"brier"`
-	NetBenefit []NetBenefitPair     `json:"net_benefit"`
+	ModelA    string `json:"model_a"`
+	ModelB    string `json:"model_b"`
+	Cohort    string `json:"cohort"`
+	CohortSHA string `json:"cohort_sha256"`
+	Rows      int    `json:"rows"`
+	Used      int    `json:"used"`
+	Events    int    `json:"events"`
+	// CohortOutcome is how the cohort coded the models' outcome when the
+	// comparison was told it codes it otherwise (compare --outcome,
+	// --event, --non-event); nil when it uses the models' own codes.
+	CohortOutcome *CohortOutcome       `json:"cohort_outcome,omitempty"`
+	DeLong        metrics.PairedDeLong `json:"delong"`
+	Brier         BrierComparison      `json:"brier"`
+	NetBenefit    []NetBenefitPair     `json:"net_benefit"`
 	// Calibration is both models' calibration on the same patients.
 	Calibration CalibrationPair `json:"calibration"`
 	// Tool and Command record how the comparison was made (kept beside

@@ -184,8 +184,8 @@ type Calibration struct {
 	Span           float64                    `json:"lowess_span"`
 	Delta          float64                    `json:"lowess_delta"`
 	FitPoints      int                        `json:"lowess_fit_points"`
-	// Clipped counts the rows where the local linear fit left [0, 1] and
-	// was clipped to it.
+	// Clipped counts the rows where the local linear fit left [0, 1] by
+	// more than metrics.ClipTolerance (all are clipped to it).
 	Clipped int    `json:"lowess_clipped_rows"`
 	Band    string `json:"band_method"`
 }
@@ -412,10 +412,41 @@ func AssessLogits(y, p, lp []float64, opt Options) (*Performance, error) {
 	}
 	if math.IsNaN(cal.HL.Statistic) && cal.HL.Groups > 0 {
 		cal.Notes = append(cal.Notes, "the Hosmer–Lemeshow test could not be computed: a risk group's predicted risks are all 0 or all 1, so the group has no binomial variance to divide by")
+	} else if note := hlSmallCounts(cal.HL); note != "" {
+		cal.Notes = append(cal.Notes, note)
 	}
 	perf.NetBenefit = nb
 	perf.NetBenefitMinGain = opt.MinGain
 	return perf, nil
+}
+
+// hlSmallCounts says, when it is so, that the Hosmer–Lemeshow test's
+// chi-squared approximation is doubtful because its expected counts are
+// small: by Cochran's rule (common practice for chi-squared tests of
+// counts; Cochran 1954, Biometrics 10:417–451), more than a fifth of the
+// 2g expected counts (events E_k and non-events n_k − E_k of every
+// group) below 5, or any below 1. It returns "" otherwise, and when the
+// test was not computed.
+func hlSmallCounts(hl metrics.HosmerLemeshowTest) string {
+	if math.IsNaN(hl.Statistic) || len(hl.Table) == 0 {
+		return ""
+	}
+	below5, below1 := 0, 0
+	for _, g := range hl.Table {
+		for _, e := range [2]float64{g.Expected, float64(g.N) - g.Expected} {
+			if e < 5 {
+				below5++
+			}
+			if e < 1 {
+				below1++
+			}
+		}
+	}
+	cells := 2 * len(hl.Table)
+	if 5*below5 <= cells && below1 == 0 {
+		return ""
+	}
+	return fmt.Sprintf("the Hosmer–Lemeshow p-value is doubtful: %d of its %d expected counts (events and non-events of %d groups) are below 5 and %d below 1, where the chi-squared approximation asks for at most a fifth below 5 and none below 1 (Cochran 1954); fewer groups (--hl-groups) or a larger cohort give a test that can be read", below5, cells, len(hl.Table), below1)
 }
 
 // errAllClamped is why the calibration fits are not estimated when every

@@ -24,7 +24,8 @@ type auditOptions struct {
 	// imputed are read into cfg.Imputation (imputedflags.go).
 	imputed imputedFlags
 	data    dataFlags
-	// predicted, outcome, event and nonEvent make cfg.Predicted.
+	// predicted, outcome, event and nonEvent make cfg.Predicted, or with
+	// a model cfg.Outcome (the cohort's coding of its outcome).
 	predicted, outcome, event, nonEvent string
 	predictedPercent                    bool
 	// thresholds and delta are read into cfg.Measures.
@@ -63,6 +64,17 @@ complete row of the cohort, or from a column of risks predicted by any
 model (--predicted, with --outcome and --event). With --dev, the same
 measures on the development data stand beside the new cohort's, so drift
 is visible.
+
+A cohort that codes the model's outcome otherwise (the model's event is
+yes, the registry's extract writes died = 1/0) says so with --outcome,
+--event and --non-event beside --model (or the plan's outcome, event and
+non_event): the model, its SHA-256 and its coefficients are unchanged,
+and the report says which column and values were read instead of the
+model's. The development data keep the model's own codes. Numeric
+predictor values beyond the development range a frozen model states
+(fit writes it), or, without one, values such as 999 or -1 far beyond a
+column's others, are named in the report and on stderr with a count, the
+most extreme value and its line; they change no number.
 
 Measures: AUC with DeLong's standard error; calibration-in-the-large and
 calibration slope with Wald intervals; O/E; Hosmer–Lemeshow (df = groups,
@@ -138,6 +150,9 @@ const auditExample = `  # Audit a frozen model on a fresh extract
 
   # Audit the risks a vendor's system wrote into a column
   riskaudit audit --predicted vendor_risk --outcome died_30d --event yes --cohort new.csv --out audit
+
+  # A frozen model (outcome died_30d = yes) on an extract coding it death30 = 1/0
+  riskaudit audit --model frozen.yaml --cohort registry.csv --outcome death30 --event 1 --non-event 0 --out audit
 
   # The sheet "Extract" of an Excel workbook, by clinic and by visit date
   riskaudit audit --model frozen.yaml --cohort new.xlsx --sheet Extract --subgroups clinic,visit_date --out audit
@@ -220,10 +235,10 @@ func newAuditCmd(s *streams) *cobra.Command {
 	f.StringVar(&o.cfg.Model, "model", "", "frozen model (YAML) that scores the cohort, or a recipe to fit on --dev")
 	f.StringVar(&o.predicted, "predicted", "", "column of predicted risks (0 to 1) to audit instead of a model")
 	f.BoolVar(&o.predictedPercent, "predicted-percent", false, "the --predicted column holds risks in percent (0 to 100), divided by 100")
-	f.StringVar(&o.outcome, "outcome", "", "with --predicted: the outcome column")
-	f.StringVar(&o.event, "event", "", "with --predicted: the outcome value that is an event")
-	f.StringVar(&o.nonEvent, "non-event", "", "with --predicted: the value that is a non-event (then any other value is an error)")
-	f.StringVar(&o.cfg.Cohort.Path, "cohort", "", "the cohort to audit (CSV or TSV with a header row, Parquet, Arrow IPC, or an Excel workbook)")
+	f.StringVar(&o.outcome, "outcome", "", "with --predicted: the outcome column; with --model: the cohort's column holding the model's outcome (default: the model's)")
+	f.StringVar(&o.event, "event", "", "with --predicted: the outcome value that is an event; with --model: the value that is the model's event in this cohort (default: the model's)")
+	f.StringVar(&o.nonEvent, "non-event", "", "with --predicted or --model: the value that is a non-event (then any other value is an error); with --model and --event but no --non-event, every other value is a non-event")
+	f.StringVar(&o.cfg.Cohort.Path, "cohort", "", "the cohort to audit (CSV or TSV with a header row, - for standard input; Parquet, Arrow IPC, or an Excel workbook)")
 	f.StringVar(&o.cfg.Dev.Path, "dev", "", "the development data, measured the same way for comparison")
 	f.StringVar(&o.out, "out", "", "folder for the report, audit.json and figures (created if absent)")
 	f.StringVar(&o.thresholds, "thresholds", "0.05:0.50:0.05", "decision-curve risk thresholds: FROM:TO:STEP or a comma-separated list")
@@ -316,16 +331,18 @@ func runAudit(ctx context.Context, o *auditOptions, s *streams) error {
 	if err != nil {
 		return err
 	}
+	prog.Done()
+	warnOutOfRange(s, res.Audit.OutOfRange)
+	for _, w := range res.Warnings {
+		// Even with --quiet: a scheduled audit's mail must carry it.
+		fmt.Fprintf(s.err, "riskaudit: warning: %s\n", w)
+	}
 	prog.Step("writing " + o.out)
 	w, err := audit.Write(o.out, res, wopt)
 	if err != nil {
 		return err
 	}
 	prog.Done()
-	for _, w := range res.Warnings {
-		// Even with --quiet: a scheduled audit's mail must carry it.
-		fmt.Fprintf(s.err, "riskaudit: warning: %s\n", w)
-	}
 	if !o.quiet {
 		writeAuditSummary(s, res.Audit, o.out, len(res.Figures))
 		replacedNote(s, o.out, "audit", w)
@@ -350,8 +367,9 @@ func (o *auditOptions) config(s *streams) (audit.Config, error) {
 		}
 		return cfg, usagef("give the output folder with --out (or in the plan)")
 	}
-	if cfg.Model != "" && o.predicted == "" && (o.outcome != "" || o.event != "" || o.nonEvent != "") {
-		return cfg, usagef("--outcome, --event and --non-event go with --predicted; a model names its own outcome")
+	if o.predicted == "" && (o.outcome != "" || o.event != "" || o.nonEvent != "") {
+		// With a model: how this cohort codes the model's outcome.
+		cfg.Outcome = &audit.CohortOutcome{Column: o.outcome, Event: o.event, NonEvent: o.nonEvent}
 	}
 	var err error
 	if cfg.Measures.ClassifyAt, err = parseClassifyAt(o.classifyAt); err != nil {
@@ -467,6 +485,14 @@ func (o *auditOptions) checkValues() error {
 		return usagef("--update-alpha %g: give a level strictly between 0 and 1", o.cfg.UpdateAlpha)
 	}
 	return nil
+}
+
+// warnOutOfRange prints each out-of-range warning on stderr, quiet or
+// not: the report's summary carries them too.
+func warnOutOfRange(s *streams, ws []validate.OutOfRange) {
+	for _, w := range ws {
+		fmt.Fprintf(s.err, "riskaudit: warning: %s\n", w.Text)
+	}
 }
 
 // criterionError reports an audit that ran but did not meet its

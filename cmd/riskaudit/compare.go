@@ -24,6 +24,9 @@ type compareOptions struct {
 	seed             uint64
 	quiet            bool
 	auditDate        string
+	// outcome, event and nonEvent say how the cohort codes the models'
+	// outcome (audit.CohortOutcome).
+	outcome, event, nonEvent string
 	// query reads the cohort from PostgreSQL.
 	query queryFlags
 }
@@ -47,7 +50,11 @@ browser), DIR/compare.json and DIR/decision_curves.svg with:
   percentile interval (the same replicates), each as 'audit' measures it;
   both decision curves, with treat-everyone and treat-no-one;
   the provenance: the date, the tool, the command line, and the SHA-256
-  of both models and the cohort.`,
+  of both models and the cohort.
+
+A cohort that codes the models' outcome otherwise says so with
+--outcome, --event and --non-event, as for 'audit': both models are read
+with that coding, unchanged.`,
 		Example: `  riskaudit compare --model current.yaml --model proposed.yaml --cohort new.csv --out compare
   riskaudit compare --model current.yaml --predicted vendor_risk --cohort new.csv --out compare
   riskaudit compare --model current.yaml --model proposed.yaml --cohort new.csv --ci-bootstrap 2000 --seed 7 --out compare
@@ -65,6 +72,9 @@ browser), DIR/compare.json and DIR/decision_curves.svg with:
 	f.StringVar(&o.predicted, "predicted", "", "a column of predicted risks to compare with the model")
 	f.BoolVar(&o.predictedPercent, "predicted-percent", false, "the --predicted column holds risks in percent (0 to 100)")
 	f.StringVar(&o.cohortFile, "cohort", "", "the cohort (CSV or TSV with a header row, Parquet, Arrow IPC, or an Excel workbook)")
+	f.StringVar(&o.outcome, "outcome", "", "the cohort's column holding the models' outcome (default: the models')")
+	f.StringVar(&o.event, "event", "", "the value that is the models' event in this cohort (default: the models')")
+	f.StringVar(&o.nonEvent, "non-event", "", "the value that is a non-event (then any other value is an error; with --event alone, every other value is a non-event)")
 	f.StringVar(&o.out, "out", "", "output folder")
 	f.StringVar(&o.thresholds, "thresholds", "0.05:0.50:0.05", "decision-curve thresholds: FROM:TO:STEP or a list")
 	f.IntVar(&o.ciBootstrap, "ci-bootstrap", 1000, "replicates of the bootstrap percentile intervals of the Brier difference and the ICIs (at least 100)")
@@ -113,6 +123,9 @@ func runCompare(ctx context.Context, o *compareOptions, s *streams) error {
 		Measures: validate.CompareOptions{Thresholds: ts, Replicates: o.ciBootstrap, Seed: o.seed},
 		Tool:     "riskaudit " + toolVersion(), CommandLine: s.commandLine(), Clock: now, AuditDate: o.auditDate,
 	}
+	if o.outcome != "" || o.event != "" || o.nonEvent != "" {
+		cfg.Outcome = &audit.CohortOutcome{Column: o.outcome, Event: o.event, NonEvent: o.nonEvent}
+	}
 	if o.auditDate != "" {
 		cfg.AuditDateSource = validate.DateFromFlag
 	}
@@ -131,6 +144,9 @@ func runCompare(ctx context.Context, o *compareOptions, s *streams) error {
 		c := res.Comparison
 		d, b := c.DeLong, c.Brier
 		fmt.Fprintf(s.out, "Compared %s (a) with %s (b) on %d patients of %s\n", c.ModelA, c.ModelB, c.Used, cohortIn.Path)
+		if co := c.CohortOutcome; co != nil {
+			fmt.Fprintf(s.out, "  outcome read from column %s, event %s (the models': %s = %s)\n", co.Column, co.Event, co.ModelColumn, co.ModelEvent)
+		}
 		fmt.Fprintf(s.out, "  AUC a %s, b %s; difference %s (95%% CI %s), z %s, p %s\n", report.Value(d.AUCA, "%.3f"), report.Value(d.AUCB, "%.3f"),
 			report.Value(d.Difference, "%.4f"), report.Interval(d.DifferenceCI, "%.4f", ""), report.Value(d.Z, "%.2f"), report.FormatP(d.P))
 		fmt.Fprintf(s.out, "  Brier a %s, b %s; difference %s (95%% CI %s)\n", report.Value(b.A, "%.4f"), report.Value(b.B, "%.4f"),

@@ -76,6 +76,11 @@ func TestJSONKeysDocumented(t *testing.T) {
 	// pooling within clusters, and its first three imputations as files.
 	imputed := withSiteAndDate(t, filepath.Join(demo, imputedDemoFile), filepath.Join(dir, "imputed.csv"), 7)
 	files := splitImputations(t, imputed, dir, 3)
+	// The later extract with its outcome coded complication = 1/0 and a
+	// 999 in age (beyond the development range), for the cohort's own
+	// outcome coding and out_of_range.
+	recoded := filepath.Join(dir, "recoded.csv")
+	writeRecoded(t, filepath.Join(demo, "later.csv"), recoded)
 	// The same multicentre cohort as one file per site (--cluster-file).
 	sites := filepath.Join(dir, "sites")
 	if err := os.Mkdir(sites, 0o755); err != nil {
@@ -94,6 +99,10 @@ func TestJSONKeysDocumented(t *testing.T) {
 		{"audit", "--predicted", "risk", "--outcome", "event", "--event", "1", "--cohort", dated, "--date-column", "day",
 			"--period", "300", "--cusum-arl", "200", "--out", filepath.Join(dir, "dated"), "-q"},
 		{"audit", "--plan", planFile, "--rename", "bmi_value=bmi", "-q"},
+		{"audit", "--model", filepath.Join(demo, "frozen.yaml"), "--cohort", recoded, "--outcome", "complication", "--event", "1", "--non-event", "0",
+			"--out", filepath.Join(dir, "recoded"), "-q"},
+		{"compare", "--model", filepath.Join(demo, "frozen.yaml"), "--model", filepath.Join(demo, "frozen.yaml"), "--cohort", recoded,
+			"--outcome", "complication", "--event", "1", "--non-event", "0", "--out", filepath.Join(dir, "cmp_recoded"), "--ci-bootstrap", "100", "-q"},
 		{"fit", "--model", filepath.Join(demo, "recipe.yaml"), "--reduced", reduced, "--data", filepath.Join(demo, "development.csv"),
 			"--out", filepath.Join(dir, "refit.yaml"), "--json", filepath.Join(dir, "fit.json"), "-q"},
 		{"compare", "--model", filepath.Join(demo, "frozen.yaml"), "--model", filepath.Join(dir, "updated.yaml"),
@@ -117,7 +126,8 @@ func TestJSONKeysDocumented(t *testing.T) {
 	paths := map[string]bool{}
 	for _, f := range []string{filepath.Join(dir, "dated", "audit.json"), filepath.Join(dir, "audit", "audit.json"), filepath.Join(dir, "planned", "audit.json"), filepath.Join(dir, "fit.json"), filepath.Join(dir, "cmp", "compare.json"), filepath.Join(dir, "size.json"),
 		filepath.Join(dir, "audit2", "audit.json"), filepath.Join(dir, "trend", "trend.json"), filepath.Join(dir, "clusters", "audit.json"),
-		filepath.Join(dir, "imputed", "audit.json"), filepath.Join(dir, "imputed_files", "audit.json"), filepath.Join(dir, "clusterfiles", "audit.json")} {
+		filepath.Join(dir, "imputed", "audit.json"), filepath.Join(dir, "imputed_files", "audit.json"), filepath.Join(dir, "clusterfiles", "audit.json"),
+		filepath.Join(dir, "recoded", "audit.json"), filepath.Join(dir, "cmp_recoded", "compare.json")} {
 		raw, err := os.ReadFile(f)
 		if err != nil {
 			t.Fatal(err)
@@ -145,7 +155,8 @@ func TestJSONKeysDocumented(t *testing.T) {
 	for _, p := range []string{"nested.lr_chi2", "delong.difference_se", "update.chosen", "internal.shrinkage_factor", "bootstrap_ci.ici", "criteria[].formula",
 		"provenance.plan.sha256", "provenance.renames[].applied_to", "model.purpose.replaced_from_model.setting", "model.fitted_model.sha256", "calibration.b.ici_ci",
 		"model.parent_sha256", "models[].parent_series", "provenance.inputs[].cluster", "over_time.cusum[].first_signal.patient", "over_time.periods[].auc_ci", "model_changes[].series_before", "audits[].criteria[].between",
-		"imputation.pooled.brier.fmi", "imputation.pooled.auc.df", "imputation.files", "imputation.complete_case.oe", "imputation.averaged.net_benefit[].model"} {
+		"imputation.pooled.brier.fmi", "imputation.pooled.auc.df", "imputation.files", "imputation.complete_case.oe", "imputation.averaged.net_benefit[].model",
+		"model.cohort_outcome.non_event", "model.cohort_outcome.model_non_event", "cohort_outcome.model_event", "out_of_range[].line", "out_of_range[].text"} {
 		if !paths[p] {
 			t.Errorf("%s not written: an analysis did not run", p)
 		}
@@ -155,6 +166,45 @@ func TestJSONKeysDocumented(t *testing.T) {
 	}
 	if len(missing) > 0 {
 		t.Errorf("JSON keys not in docs/json.md:\n%s", strings.Join(missing, "\n"))
+	}
+}
+
+// writeRecoded copies the demo's later extract with its outcome column
+// ppc_30d renamed complication and coded 1/0, and age 999 on one row in
+// fifty.
+func writeRecoded(t *testing.T, from, to string) {
+	t.Helper()
+	raw, err := os.ReadFile(from)
+	if err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(strings.TrimRight(string(raw), "\n"), "\n")
+	head := strings.Split(lines[0], ",")
+	out, age := -1, -1
+	for j, h := range head {
+		switch h {
+		case "ppc_30d":
+			out = j
+			head[j] = "complication"
+		case "age":
+			age = j
+		}
+	}
+	if out < 0 || age < 0 {
+		t.Fatal("the demo extract has changed: no ppc_30d or age column")
+	}
+	var b strings.Builder
+	b.WriteString(strings.Join(head, ",") + "\n")
+	for k, l := range lines[1:] {
+		f := strings.Split(l, ",")
+		f[out] = map[string]string{"yes": "1", "no": "0"}[f[out]]
+		if k%50 == 7 {
+			f[age] = "999"
+		}
+		b.WriteString(strings.Join(f, ",") + "\n")
+	}
+	if err := os.WriteFile(to, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
 	}
 }
 

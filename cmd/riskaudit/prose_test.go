@@ -16,7 +16,7 @@ import (
 // matched by a rule that names the audit.json values of its numbers, in
 // order and at the printed precision; every number no rule claims must
 // still be some value audit.json holds (or a stated constant of the
-// method: the 95% level, z = 1.96, the per-1000 scale), and a number with
+// method: the 95% level, z = 1.96 (1.959964, the 97.5% point), the per-1000 scale), and a number with
 // no counterpart at all is reported. The rules are driven by the sentence
 // and audit.json alone, not by the layout of one report, and a rule
 // marked required must match whenever audit.json has its values, so that
@@ -580,8 +580,8 @@ func checkProse(md string, js jsonDoc) proseCheck {
 			if t.less || !t.pct && (t.v == 0 || t.v == 1) {
 				continue // 0 and 1 are the ends of the risk scale and the ideal values
 			}
-			if (t.text == "95%" || t.text == "1.96") && !t.less {
-				continue // the level of every interval the report states
+			if (t.text == "95%" || t.text == "1.96" || t.text == "1.959964" || t.text == "97.5%") && !t.less {
+				continue // the level of every interval the report states, and its z (Methods)
 			}
 			match := math.NaN()
 			for _, v := range pool {
