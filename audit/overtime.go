@@ -176,7 +176,90 @@ func (r *run) overTime(ctx context.Context, a *validate.Audit) error {
 	s.LeftOutMissing, s.LeftOutInvalid = d.missing, d.invalid
 	a.OverTime = s
 	a.Summary = append(a.Summary, validate.Finding{Area: "over time", Text: alarmText(s)})
+	if late := findLate(sc.dates, a.Provenance, r.started); late.Patients > 0 {
+		a.LateDates = &late
+		text := lateText(late, o.DateColumn, a.Provenance)
+		a.Summary = append(a.Summary, validate.Finding{Area: "dates", Text: text})
+		r.warnings = append(r.warnings, text)
+	}
 	return nil
+}
+
+// findLate finds the rows of the date column dated after the audit
+// date (pv.AuditDate) or after the day the run started (UTC), whichever
+// is earlier: the cohort of an audit describes it up to its date, and no
+// admission can be dated after the day it was extracted. A time (RFC
+// 3339) counts by its UTC date. Rows without a readable date are not
+// counted (the charts count them apart).
+func findLate(dc *dateColumn, pv validate.Provenance, started time.Time) validate.LateDates {
+	ran := started.UTC().Format(time.DateOnly)
+	l := validate.LateDates{After: pv.AuditDate, RunDate: ran}
+	if ran < l.After {
+		l.After, l.AfterRunDate = ran, true
+	}
+	day := make([]string, len(dc.levels)) // "" where not a date
+	for k, text := range dc.levels {
+		if t, ok := parseDate(text); ok {
+			day[k] = t.UTC().Format(time.DateOnly)
+		}
+	}
+	for i, code := range dc.codes {
+		if code < 0 || day[code] == "" || day[code] <= l.After {
+			continue
+		}
+		if l.Patients == 0 {
+			l.File, l.Line, l.Value = dc.fileAt(i), dc.lines[i], strings.TrimSpace(dc.levels[code])
+		}
+		l.Patients++
+		if day[code] > ran {
+			l.InFuture++
+		}
+	}
+	return l
+}
+
+// lateText is the finding (and the warning) of the late rows: how many,
+// after which date and why it matters, and the first.
+func lateText(l validate.LateDates, column string, pv validate.Provenance) string {
+	first := fmt.Sprintf("the first on line %d of %s, %s %s", l.Line, l.File, column, cohort.Quote(l.Value))
+	rows := plural(l.Patients, "patient is", "patients are")
+	const future = "A date in the future is most likely an error in the extract (a mistyped year, day and month swapped); these patients are charted over time as dated and counted in every measure."
+	switch {
+	case pv.AuditDateSource == validate.DateToday:
+		return fmt.Sprintf("%s %s dated after the day the audit ran (%s, its audit date), in the future: %s. %s",
+			thousands(l.Patients), rows, l.After, first, future)
+	case l.AfterRunDate:
+		return fmt.Sprintf("%s %s dated after the day the audit ran (%s), in the future, and the audit date (%s, %s) is later still: %s. %s",
+			thousands(l.Patients), rows, l.After, pv.AuditDate, dateSource(pv.AuditDateSource), first, future)
+	}
+	t := fmt.Sprintf("%s %s dated after the audit date (%s, %s): %s. The report describes the cohort up to that date, so these patients lie outside the period it names, yet are counted in every measure; give the audit date the extract ends on, or leave them out of the extract.",
+		thousands(l.Patients), rows, l.After, dateSource(pv.AuditDateSource), first)
+	if l.InFuture > 0 {
+		t += fmt.Sprintf(" %s of them %s dated after the day the audit ran (%s), in the future: most likely an error in the extract.",
+			thousands(l.InFuture), plural(l.InFuture, "is", "are"), l.RunDate)
+	}
+	return t
+}
+
+// dateSource says where an audit date came from.
+func dateSource(source string) string {
+	switch source {
+	case validate.DateFromFlag:
+		return "given by --audit-date"
+	case validate.DateFromPlan:
+		return "the plan's audit_date"
+	case validate.DateToday:
+		return "the day the audit ran"
+	}
+	return "set by the caller"
+}
+
+// plural is one or many by n.
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
 }
 
 // datedCharts are the patients of a scored cohort in date order and

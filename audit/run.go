@@ -39,6 +39,10 @@ type Result struct {
 	// Criteria are the acceptance criteria the verdict applied (the
 	// Config's, or validate.DefaultCriteria), kept with a history record.
 	Criteria []validate.Criterion
+	// Warnings are findings of the summary that a reader of the command
+	// line must not miss (such as patients dated after the audit date):
+	// the command prints each on stderr.
+	Warnings []string
 }
 
 // Passed reports whether every criterion was met.
@@ -85,6 +89,8 @@ type run struct {
 	cfg     *Config
 	prog    Progress
 	started time.Time
+	// warnings are the run's Result.Warnings.
+	warnings []string
 
 	spec *model.Spec
 	// cspec is spec with the cohort's outcome coding, or nil when the
@@ -222,7 +228,7 @@ func (r *run) audit(ctx context.Context) (*Result, error) {
 	if ctx.Err() != nil {
 		return nil, context.Cause(ctx)
 	}
-	res := &Result{Audit: a, Figures: figs, Files: r.files, Started: r.started, Criteria: r.criteria}
+	res := &Result{Audit: a, Figures: figs, Files: r.files, Started: r.started, Criteria: r.criteria, Warnings: r.warnings}
 	if r.fitted != nil {
 		res.Folder = append(res.Folder, *r.fitted)
 	}
@@ -484,7 +490,7 @@ func (r *run) modelInfo() validate.ModelInfo {
 	c, spec := r.cfg, r.spec
 	m := validate.ModelInfo{Name: spec.Name, Outcome: spec.Outcome.Column, Event: spec.Outcome.Event.Text}
 	if c.Predicted != nil {
-		m.Source, m.Column = "predicted risks", c.Predicted.Column
+		m.Source, m.Column, m.PredictedPercent = "predicted risks", c.Predicted.Column, c.Predicted.Percent
 		m.Purpose = validate.NewPurpose(model.Purpose{}, c.Purpose)
 		return m
 	}

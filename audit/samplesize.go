@@ -77,7 +77,9 @@ func sampleSizeOf(sc *scored, perf *validate.Performance, classifyAt []float64, 
 			}
 		}
 	}
-	return sizeCheck(res, perf.Cohort.Used, strings.Join(basis, ", "))
+	out := sizeCheck(res, perf.Cohort.Used, strings.Join(basis, ", "))
+	out.FromOutcomes = size.LPSD == 0 && (size.CalIntercept == nil || size.CalSlope == nil || size.CStatistic == 0)
+	return out
 }
 
 // sizeCheck sets a cohort of have patients beside each criterion of res.
@@ -138,8 +140,12 @@ const SizeSchema = "riskaudit.samplesize/1"
 // SizePlan is a sample-size plan: the anticipated values, then the
 // result's fields; it is the JSON of 'riskaudit samplesize --json'.
 type SizePlan struct {
-	Schema          string  `json:"schema"`
-	LinearPredictor string  `json:"linear_predictor"`
+	Schema          string `json:"schema"`
+	LinearPredictor string `json:"linear_predictor"`
+	// AnticipatedFrom says where the anticipated values came from: as
+	// given, or from the model's predictions on data without outcomes
+	// (so not the observed calibration and AUC an audit uses).
+	AnticipatedFrom string  `json:"anticipated_from"`
 	CalIntercept    float64 `json:"calibration_intercept"`
 	CalSlope        float64 `json:"calibration_slope"`
 	Threshold       float64 `json:"threshold,omitempty"`
@@ -188,8 +194,40 @@ func PlanSize(ctx context.Context, cfg SizeConfig) (*SizePlan, error) {
 			return nil, &ConfigError{Msg: fmt.Sprintf("the %s criterion cannot be computed: %s", cr.Measure, cr.NotComputable)}
 		}
 	}
-	return &SizePlan{Schema: SizeSchema, LinearPredictor: about, CalIntercept: cfg.CalIntercept, CalSlope: cfg.CalSlope,
+	return &SizePlan{Schema: SizeSchema, LinearPredictor: about, AnticipatedFrom: anticipatedFrom(cfg), CalIntercept: cfg.CalIntercept, CalSlope: cfg.CalSlope,
 		Threshold: cfg.Threshold, Result: res, Tool: cfg.Tool, CommandLine: cfg.CommandLine}, nil
+}
+
+// anticipatedFrom says where a plan's anticipated values came from: the
+// linear predictor, the calibration and the C-statistic, each as given
+// or as the linear predictor implies. A model scored on data reads no
+// outcomes, so its values are the model's predictions, not the observed
+// calibration and AUC that an audit's sample-size check uses.
+func anticipatedFrom(cfg SizeConfig) string {
+	var lp, c string
+	switch {
+	case cfg.Model != "":
+		lp = fmt.Sprintf("the model's predictions, not observed outcomes (which are not read): the linear predictors of %s on the complete rows of %s", cfg.Model, cfg.Data.Path)
+		c = "the event proportion and C-statistic those risks imply"
+	case cfg.EventRate > 0:
+		lp = fmt.Sprintf("values given: event proportion %g and C-statistic %g, met by a calibrated model's normal linear predictor", cfg.EventRate, cfg.CStatistic)
+	default:
+		lp = fmt.Sprintf("values given: a normal linear predictor (mean %g, SD %g)", cfg.LPMean, cfg.LPSD)
+		c = "the event proportion and C-statistic it implies"
+	}
+	cal := "its risks taken as calibrated (intercept 0, slope 1)"
+	if cfg.CalIntercept != 0 || cfg.CalSlope != 1 {
+		cal = fmt.Sprintf("true risks expit(%g + %g·LP) as given", cfg.CalIntercept, cfg.CalSlope)
+	}
+	parts := []string{lp, cal}
+	switch {
+	case cfg.EventRate > 0:
+	case cfg.CStatistic > 0:
+		parts = append(parts, fmt.Sprintf("C-statistic %g as given", cfg.CStatistic))
+	default:
+		parts = append(parts, c)
+	}
+	return strings.Join(parts, "; ")
 }
 
 // scoredLinearPredictors scores the data with the frozen model and

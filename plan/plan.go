@@ -485,7 +485,7 @@ func (p *parser) top(pl *Plan, key string, v *yaml.Node) error {
 					return p.wrapf(ErrValue, perr, node, "classify_at: %s is not a risk (a proportion such as 0.1 or a percentage such as 10%%)", cohort.Quote(one))
 				}
 				if !(x > 0 && x < 1) {
-					return p.errf(ErrValue, node, "classify_at: %s is not strictly between 0 and 1", cohort.Quote(one))
+					return p.errf(ErrValue, node, "classify_at: %s is not strictly between 0 and 1%s", cohort.Quote(one), validate.PercentHint(x))
 				}
 			}
 		}

@@ -136,3 +136,28 @@ func TestPlanNameHashAndPurpose(t *testing.T) {
 		t.Error("a plan one byte longer has the same SHA-256")
 	}
 }
+
+// TestClassifyAtPercentHint: a classify_at risk above 1 and below 100
+// reads as a percentage typed without its sign, and the error says how
+// to write one, as --classify-at and --thresholds do
+// (validate.ParseThresholds); 1 and 100 get no hint.
+func TestClassifyAtPercentHint(t *testing.T) {
+	for _, tt := range []struct{ yaml, want string }{
+		{"classify_at: 10\n", `p.yaml: line 1: classify_at: "10" is not strictly between 0 and 1 (a percentage is written with %, as 10%)`},
+		{"classify_at: [0.1, 25]\n", `p.yaml: line 1: classify_at: "25" is not strictly between 0 and 1 (a percentage is written with %, as 25%)`},
+		{"classify_at:\n  - 0.1\n  - 12.5\n", `p.yaml: line 3: classify_at: "12.5" is not strictly between 0 and 1 (a percentage is written with %, as 12.5%)`},
+		{"classify_at: 0.1,20\n", `p.yaml: line 1: classify_at: "20" is not strictly between 0 and 1 (a percentage is written with %, as 20%)`},
+		{"classify_at: 1\n", `p.yaml: line 1: classify_at: "1" is not strictly between 0 and 1`},
+		{"classify_at: 100\n", `p.yaml: line 1: classify_at: "100" is not strictly between 0 and 1`},
+		{"classify_at: 10%\n", ""},
+	} {
+		_, err := Parse("p.yaml", []byte(tt.yaml))
+		got := ""
+		if err != nil {
+			got = err.Error()
+		}
+		if got != tt.want {
+			t.Errorf("%q: got %q, want %q", tt.yaml, got, tt.want)
+		}
+	}
+}

@@ -112,6 +112,9 @@ func (r *renderer) header() {
 	}
 	if a.Model.Source == "predicted risks" {
 		what = "the predicted risks in column " + code(a.Model.Column)
+		if a.Model.PredictedPercent {
+			what += " (percentages, each divided by 100)"
+		}
 	}
 	cohortFile := ""
 	for _, in := range a.Provenance.Inputs {
@@ -536,6 +539,9 @@ func (r *renderer) sampleSize() {
 		t.add(c.Measure, c.Target, fmt.Sprint(*c.N), fmt.Sprint(*c.Events), met)
 	}
 	t.write(r.w)
+	if ss.FromOutcomes {
+		r.p("These needs use this cohort's outcomes (its calibration or its AUC, as above). 'riskaudit samplesize --model … --data …' on the same file reads no outcomes: it takes the model's risks as calibrated (unless told otherwise) and the C-statistic its linear predictor implies, so it anticipates other values and gives other needs.\n\n")
+	}
 	switch {
 	case ss.Short != nil && *ss.Short:
 		r.p("**Caution: the cohort's %d patients fall short of the %d the %s criterion needs; the intervals above are wider than the targets, and the audit's conclusions are correspondingly less certain.**\n\n", ss.Have, *ss.Required, ss.Driver)
@@ -723,6 +729,9 @@ func (r *renderer) methods() {
 		"Net benefit (Vickers & Elkin 2006), treating when the predicted risk is at or above the threshold.",
 		"Proportions with exact Clopper–Pearson intervals (Clopper & Pearson 1934).",
 		"Every 95% interval written with 1.96 uses z = 1.959964, the 97.5% point of the normal distribution.",
+	}
+	if m := r.a.Model; m.PredictedPercent {
+		items = append(items, "Predicted risks: the column "+code(m.Column)+" holds risks in percent (0 to 100), as --predicted-percent (plan key predicted_percent) says; each was divided by 100 before any measure, and every risk in this report is on the scale of 0 to 1.")
 	}
 	if r.a.SampleSize != nil {
 		items = append(items, "Sample size: the minimum size for precise O/E, calibration slope, C-statistic and standardised net benefit, after Riley et al. (2021): var(ln O/E) = (1 − φ)/(nφ); the slope's variance from the Fisher information of the calibration model over the linear predictor's distribution; Newcombe's (2006) variance of the C-statistic; the delta-method variance of NB/φ. Anticipated values as stated in that section.")

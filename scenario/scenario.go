@@ -110,16 +110,20 @@ var Development = Extract{Rows: 4000, Seed: 20240101, MissingRate: 0.02, Start: 
 	Hospitals: []Hospital{{Name: hospCentral, Share: 0.36}, {Name: hospNorth, Share: 0.26}, {Name: hospVellmoor, Share: 0.2},
 		{Name: hospTarrow, Share: 0.16}, {Name: hospCommunity, Share: 0.02}}}
 
-// Later is an extract two years on, in which the patients are older and,
-// from 1 July 2026 (day 181), complications more common at every level of
-// risk (say a change in how complications are recorded): the model should
-// still rank patients well but under-predict their risk in the second half
-// of the year, which the charts over time show. The hospitals differ: the
-// central one operates on older patients and Tarrowfield on younger ones
-// (case-mix), Vellmoor District's complications are more common than the
-// model predicts and Tarrowfield's less (calibration), and Brackenlea
-// (the community hospital) is too small for its measures to be pooled.
-var Later = Extract{Rows: 3000, Seed: 20260101, AgeShift: 5, EventShift: -0.05, MissingRate: 0.03, Start: "2026-01-01", Days: 365,
+// Later is an extract of 2025, the year after, in which the patients are
+// older and, from 1 July 2025 (day 181), complications more common at
+// every level of risk (say a change in how complications are recorded):
+// the model should still rank patients well but under-predict their risk
+// in the second half of the year, which the charts over time show. The
+// hospitals differ: the central one operates on older patients and
+// Tarrowfield on younger ones (case-mix), Vellmoor District's
+// complications are more common than the model predicts and
+// Tarrowfield's less (calibration), and Brackenlea (the community
+// hospital) is too small for its measures to be pooled. Its dates end
+// before any day the demo runs on (and before the tests' clock,
+// 2026-01-01), so that the demo's report, dated the day it runs,
+// describes a cohort that ends before that date.
+var Later = Extract{Rows: 3000, Seed: 20260101, AgeShift: 5, EventShift: -0.05, MissingRate: 0.03, Start: "2025-01-01", Days: 365,
 	DriftDay: 181, DriftShift: 0.7,
 	Hospitals: []Hospital{{Name: hospCentral, Share: 0.36, AgeShift: 2}, {Name: hospNorth, Share: 0.26},
 		{Name: hospVellmoor, Share: 0.2, EventShift: 0.45}, {Name: hospTarrow, Share: 0.16, AgeShift: -3, EventShift: -0.35},

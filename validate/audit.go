@@ -168,11 +168,14 @@ type ModelInfo struct {
 	Source string `json:"source"`
 	// Spec is the frozen model's file; Column the column of predicted
 	// risks.
-	Spec    string   `json:"spec,omitempty"`
-	Column  string   `json:"predicted_column,omitempty"`
-	Terms   []string `json:"terms,omitempty"`
-	Outcome string   `json:"outcome"`
-	Event   string   `json:"event"`
+	Spec   string `json:"spec,omitempty"`
+	Column string `json:"predicted_column,omitempty"`
+	// PredictedPercent says that Column holds risks in percent (0 to
+	// 100), each divided by 100 before it was measured.
+	PredictedPercent bool     `json:"predicted_percent,omitempty"`
+	Terms            []string `json:"terms,omitempty"`
+	Outcome          string   `json:"outcome"`
+	Event            string   `json:"event"`
 	// CohortOutcome is how the cohort coded the model's outcome when the
 	// audit was told that it codes it otherwise (audit --outcome, --event,
 	// --non-event with --model); nil when the cohort uses the model's
@@ -331,6 +334,10 @@ type Audit struct {
 	BootstrapCI *PercentileCIs `json:"bootstrap_ci,omitempty"`
 	// OverTime is the cohort charted in date order (audit --date-column).
 	OverTime *monitor.Summary `json:"over_time,omitempty"`
+	// LateDates counts the patients of the cohort in date order dated
+	// after the audit date, or after the day the audit ran when that is
+	// earlier; nil when there are none.
+	LateDates *LateDates `json:"late_dates,omitempty"`
 	// OutOfRange lists the audited cohort's predictor values beyond the
 	// model's development range, or that look like missing-value codes
 	// (empty: none).
@@ -346,6 +353,26 @@ type Audit struct {
 	// Figures lists the figure files written beside audit.json, each as
 	// SVG (linked by the report) and as PNG at print resolution.
 	Figures []FigureFiles `json:"figures,omitempty"`
+}
+
+// LateDates are the patients dated after the audit date, or after the
+// day the audit ran when that is earlier.
+type LateDates struct {
+	// Patients is how many; After the date they are after, and
+	// AfterRunDate whether that is the day the audit ran (earlier than
+	// the audit date) rather than the audit date.
+	Patients     int    `json:"patients"`
+	After        string `json:"after"`
+	AfterRunDate bool   `json:"after_run_date"`
+	// RunDate is the day the audit ran (UTC), and InFuture how many of
+	// the patients are dated after it.
+	RunDate  string `json:"run_date"`
+	InFuture int    `json:"in_future"`
+	// File, Line and Value are the first such row's file, line and date
+	// as written, in file order.
+	File  string `json:"file"`
+	Line  int    `json:"line"`
+	Value string `json:"value"`
 }
 
 // NewAudit assembles an audit from the new cohort's performance and,
@@ -689,6 +716,11 @@ type SampleSize struct {
 	// then whether it was large enough cannot be judged.
 	Short *bool  `json:"short"`
 	Basis string `json:"anticipated_from"`
+	// FromOutcomes says that the anticipated calibration or C-statistic
+	// is this cohort's, measured on its outcomes; a plan made before the
+	// outcomes are known ('riskaudit samplesize') cannot use them, so it
+	// anticipates other values and other needs for the same file.
+	FromOutcomes bool `json:"anticipated_from_outcomes,omitempty"`
 }
 
 // SizeCriterion is one criterion's requirement. N, Events and Met are

@@ -64,13 +64,20 @@ func ParseThresholds(s string) ([]float64, error) {
 	}
 	for _, t := range out {
 		if !(t > 0 && t < 1) {
-			if t > 1 && t < 100 {
-				return nil, fmt.Errorf("%q: %g is not strictly between 0 and 1 (a percentage is written with %%, as %g%%)", s, t, t)
-			}
-			return nil, fmt.Errorf("%q: %g is not strictly between 0 and 1", s, t)
+			return nil, fmt.Errorf("%q: %g is not strictly between 0 and 1%s", s, t, PercentHint(t))
 		}
 	}
 	return out, nil
+}
+
+// PercentHint is the hint for a risk r outside (0, 1) that reads as a
+// percentage typed without its sign (1 < r < 100): " (a percentage is
+// written with %, as 10%)"; for any other r it is empty.
+func PercentHint(r float64) string {
+	if r > 1 && r < 100 {
+		return fmt.Sprintf(" (a percentage is written with %%, as %g%%)", r)
+	}
+	return ""
 }
 
 // ParseRisk reads one risk written as a proportion (0.2) or as a

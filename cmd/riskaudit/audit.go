@@ -271,7 +271,7 @@ func newAuditCmd(s *streams) *cobra.Command {
 	o.imputed.register(f)
 	widthFlags(f, "sample-size check: ", &o.cfg.SampleSize.Targets)
 	o.overTimeFlags(f)
-	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success")
+	f.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing on success but warnings (on stderr)")
 	o.data.register(f)
 	o.query.register(f, map[string]string{"cohort": "cohort", "dev": "dev"})
 	o.query.stderr = func(format string, args ...any) { fmt.Fprintf(s.err, format, args...) }
@@ -282,7 +282,12 @@ func newAuditCmd(s *streams) *cobra.Command {
 	_ = c.MarkFlagFilename("cohort", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
 	_ = c.MarkFlagFilename("dev", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
 	_ = c.MarkFlagDirname("out")
-	return c
+	return withExitStatuses(c, exitStatus{exitOK, "success: every criterion was met"},
+		exitStatus{exitCriterion, "the audit ran and a criterion was not met (verdict review or fail):\n     the report and every output were written"},
+		exitStatus{exitUsage, ""},
+		exitStatus{exitBadInput, "bad input: a data file, model spec, plan or history store that cannot\n     be used as it is"},
+		exitStatus{exitCannotFit, "the model cannot be fitted (a recipe fitted on --dev, too many failed\n     bootstrap refits, --shrunken, --update): separation, collinear terms,\n     no convergence"},
+		exitStatus{exitOtherFailed, ""}, exitStatus{exitSignalBase, ""})
 }
 
 // parseClassifyAt reads --classify-at: a comma-separated list of risks,
@@ -329,6 +334,10 @@ func runAudit(ctx context.Context, o *auditOptions, s *streams) error {
 	}
 	prog.Done()
 	warnOutOfRange(s, res.Audit.OutOfRange)
+	for _, w := range res.Warnings {
+		// Even with --quiet: a scheduled audit's mail must carry it.
+		fmt.Fprintf(s.err, "riskaudit: warning: %s\n", w)
+	}
 	prog.Step("writing " + o.out)
 	w, err := audit.Write(o.out, res, wopt)
 	if err != nil {

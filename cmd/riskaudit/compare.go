@@ -88,7 +88,9 @@ with that coding, unchanged.`,
 	o.query.stderr = func(format string, args ...any) { fmt.Fprintf(s.err, format, args...) }
 	_ = c.MarkFlagFilename("cohort-query-file", "sql")
 	_ = c.MarkFlagRequired("out")
-	return c
+	return withExitStatuses(c, exitStatus{exitOK, ""}, exitStatus{exitUsage, usageOutputs},
+		exitStatus{exitBadInput, "bad input: a cohort or model that cannot be used as it is"},
+		exitStatus{exitOtherFailed, ""}, exitStatus{exitSignalBase, ""})
 }
 
 func runCompare(ctx context.Context, o *compareOptions, s *streams) error {

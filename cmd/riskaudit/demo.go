@@ -30,14 +30,14 @@ run. Every patient has a hospital of the group (five invented ones) and an
 admission date. In the later extract the patients are older and
 complications more common, so the audit shows a model that still
 discriminates but has lost calibration; the hospitals differ in case-mix
-and calibration, and from July 2026 complications become more common
+and calibration, and from July 2025 complications become more common
 again. The demo fits the model on the development extract, then audits it
 on the later one beside the development data, with an internal validation
 by 200 bootstrap replicates (seed 1), across hospitals (--cluster hospital)
 and over time (--date-column admission_date). It writes:
 
   DIR/development.csv   the development extract (4000 invented patients, 2024)
-  DIR/later.csv         an extract two years on (3000 invented patients, 2026)
+  DIR/later.csv         an extract a year on (3000 invented patients, 2025)
   DIR/recipe.yaml       the model recipe
   DIR/frozen.yaml       the fitted, frozen model
   DIR/fit.json          the fit statistics as JSON
@@ -58,7 +58,9 @@ wrote into a new or empty folder.`,
 	c.Flags().StringVar(&out, "out", "", "folder to write the scenario into: new, empty, or an earlier demo's (created if absent)")
 	_ = c.MarkFlagRequired("out")
 	_ = c.MarkFlagDirname("out")
-	return c
+	return withExitStatuses(c, exitStatus{exitOK, "success, though the drifted extract misses the audit's criteria: that\n     verdict is the point of the demo"},
+		exitStatus{exitUsage, "wrong usage: an unknown flag, no --out, or an --out the files on disk\n     refuse (a symbolic link, a folder with files riskaudit did not write)"},
+		exitStatus{exitOtherFailed, ""}, exitStatus{exitSignalBase, ""})
 }
 
 // demoMarker is the file a finished demo leaves in its folder, so that a

@@ -80,7 +80,9 @@ terms involved, and --firth fits Firth's penalised likelihood instead.`,
 	_ = c.MarkFlagFilename("model", "yaml", "yml")
 	_ = c.MarkFlagFilename("reduced", "yaml", "yml")
 	_ = c.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
-	return c
+	return withExitStatuses(c, exitStatus{exitOK, ""}, exitStatus{exitUsage, usageOutputs},
+		exitStatus{exitBadInput, "bad input: a data file or recipe that cannot be used as it is"},
+		exitStatus{exitCannotFit, ""}, exitStatus{exitOtherFailed, ""}, exitStatus{exitSignalBase, ""})
 }
 
 func runFit(ctx context.Context, o *fitOptions, s *streams) error {

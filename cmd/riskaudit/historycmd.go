@@ -73,8 +73,14 @@ how many are left.`,
 	}
 	remove.Flags().Int64Var(&id, "record", 0, "the record's number, as 'history list' shows it")
 	_ = remove.MarkFlagRequired("record")
+	withExitStatuses(list, exitStatus{exitOK, ""}, exitStatus{exitUsage, "wrong usage: an unknown flag or no --history"},
+		exitStatus{exitBadInput, "bad input: a history store that cannot be read"},
+		exitStatus{exitOtherFailed, stdoutFailed})
+	withExitStatuses(remove, exitStatus{exitOK, ""}, exitStatus{exitUsage, "wrong usage: an unknown flag, or no --history or --record"},
+		exitStatus{exitBadInput, "bad input: a history store that cannot be read or changed, or that\n     holds no such record"},
+		exitStatus{exitOtherFailed, stdoutFailed})
 	c.AddCommand(list, remove)
-	return c
+	return withExitStatuses(c, exitStatus{exitOK, groupHelp}, exitStatus{exitUsage, groupUsage})
 }
 
 // storeError is a history store that cannot be read or changed: bad

@@ -68,6 +68,13 @@ on the command line override it.`,
 			return nil
 		},
 	}
+	withExitStatuses(initCmd, exitStatus{exitOK, ""},
+		exitStatus{exitUsage, "wrong usage: an unknown flag, or an --out that exists (without --force)\n     or is not a regular file"},
+		exitStatus{exitOtherFailed, ""})
+	withExitStatuses(checkCmd, exitStatus{exitOK, "success: no problem found"},
+		exitStatus{exitUsage, "wrong usage: an unknown flag, or not exactly one plan"},
+		exitStatus{exitBadInput, "bad input: the plan, or a file it names, cannot be used as it is"},
+		exitStatus{exitOtherFailed, stdoutFailed})
 	c.AddCommand(initCmd, checkCmd)
-	return c
+	return withExitStatuses(c, exitStatus{exitOK, groupHelp}, exitStatus{exitUsage, groupUsage})
 }

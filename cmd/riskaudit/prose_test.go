@@ -216,6 +216,12 @@ func proseRules() []proseRule {
 		rule("summary missing data", `# of # rows \(#\) were left out`, func(js jsonDoc, _ map[string]string) []float64 {
 			return one(js.num("cohort.excluded"), js.num("cohort.rows"), js.num("cohort.excluded")/js.num("cohort.rows"))
 		}, nil),
+		rule("late dates", `# (?:patient is|patients are) dated after (?:the day the audit ran|the audit date) \(⟨date⟩[^)]*\)(?:, in the future)?(?:, and the audit date \(⟨date⟩, [^)]*\) is later still)?: the first on line # of`, func(js jsonDoc, _ map[string]string) []float64 {
+			return nums(js, "late_dates.patients", "late_dates.line")
+		}, has("late_dates.patients")),
+		rule("late dates in the future", `# of them (?:is|are) dated after the day the audit ran \(⟨date⟩\), in the future`, func(js jsonDoc, _ map[string]string) []float64 {
+			return nums(js, "late_dates.in_future")
+		}, nil),
 		rule("missing share", `That is more than # of the rows`, func(js jsonDoc, _ map[string]string) []float64 { return one(0.05) }, nil),
 		rule("missing by column", `missing values by column: (?P<list>[^)]*)\)`, func(js jsonDoc, _ map[string]string) []float64 {
 			var out []float64

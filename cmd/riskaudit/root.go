@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"runtime/debug"
+	"slices"
 	"strings"
 	"syscall"
 
@@ -34,7 +35,8 @@ func toolVersion() string {
 	return version
 }
 
-// Exit statuses, documented in the root command's help and the README.
+// Exit statuses, documented in the root command's help (each command's
+// help lists its own: withExitStatuses) and the README.
 const (
 	exitOK          = 0
 	exitCriterion   = 1 // an audit ran and a criterion was not met
@@ -106,7 +108,10 @@ func (e *usageError) Error() string { return e.msg }
 
 func usagef(format string, args ...any) error { return &usageError{fmt.Sprintf(format, args...)} }
 
-const rootLong = `riskaudit audits logistic-regression risk models for a yes/no clinical
+// rootLong is the root command's long help, ending with the table of
+// every exit status.
+func rootLong() string {
+	return `riskaudit audits logistic-regression risk models for a yes/no clinical
 outcome. 'audit' measures discrimination, calibration, accuracy and net
 benefit of a frozen model (or of any column of predicted risks) on a new
 cohort and writes a Markdown report with SVG figures and JSON; 'fit' fits a
@@ -115,13 +120,16 @@ a frozen model's predicted risks to a cohort.
 
 Start with 'riskaudit demo --out demo' to see every step on invented data.
 
-` + exitStatusHelp
+` + exitTable(allExitStatuses()) + `
+
+Each command's --help lists the statuses it can return.`
+}
 
 func newRootCmd(s *streams) *cobra.Command {
 	root := &cobra.Command{
 		Use:           "riskaudit",
 		Short:         "Audit clinical risk models on development data and new cohorts",
-		Long:          rootLong,
+		Long:          rootLong(),
 		Version:       toolVersion(),
 		SilenceErrors: true,
 		SilenceUsage:  true,
@@ -133,7 +141,6 @@ func newRootCmd(s *streams) *cobra.Command {
 		return &usageError{err.Error() + " (see '" + c.CommandPath() + " --help')"}
 	})
 	root.AddCommand(newAuditCmd(s), newFitCmd(s), newScoreCmd(s), newDemoCmd(s), newPlanCmd(s), newTrendCmd(s), newCompareCmd(s), newSampleSizeCmd(s), newHistoryCmd(s))
-	withExitStatus(root.Commands())
 	return root
 }
 
@@ -144,7 +151,8 @@ func run(ctx context.Context, args []string, s *streams) int {
 	root := newRootCmd(s)
 	root.SetArgs(args)
 	cmd, err := root.ExecuteContextC(ctx)
-	if err != nil && ctx.Err() != nil {
+	if err != nil && ctx.Err() != nil && stopsOnSignal(cmd) {
+		// The command stopped on the signal; the error is its echo.
 		err = context.Cause(ctx)
 	}
 	if cw, ok := s.out.(*checkedWriter); ok && cw.err != nil && (err == nil || exitCode(err) == exitCriterion) {
@@ -209,28 +217,98 @@ func unwrapPath(err error) error {
 	return err
 }
 
-// exitStatusHelp is the exit-status table every command's help ends
-// with (the README's "Exit status").
-const exitStatusHelp = `Exit status:
-  0  success
-  1  an audit ran and a criterion was not met (verdict review or fail)
-  2  wrong usage: an unknown flag, a missing argument, or a request the
-     files on disk refuse and other flags resolve (an output on an input,
-     a duplicate history record without --replace-record)
-  3  bad input: a data file or model spec that cannot be used as it is
-  4  the model cannot be fitted: separation, collinear terms, no convergence
-  5  any other failure, such as an output file that cannot be written
-  130, 143  interrupted by SIGINT (Ctrl-C) or SIGTERM: stopped, nothing written`
-
-// withExitStatus ends the long help of every command below the root
-// with the exit-status table, so that each command's --help says what
-// its exit status means.
-func withExitStatus(cmds []*cobra.Command) {
-	for _, c := range cmds {
-		if c.Long == "" {
-			c.Long = c.Short
-		}
-		c.Long += "\n\n" + exitStatusHelp
-		withExitStatus(c.Commands())
-	}
+// exitStatus is one row of a command's exit-status table: the status
+// (exitSignalBase stands for 130 and 143) and what it means for that
+// command ("": the meaning in the root's table, exitMeaning).
+type exitStatus struct {
+	code    int
+	meaning string
 }
+
+// exitMeaning is what status code means in the root's table (the
+// README's "Exit status").
+func exitMeaning(code int) string {
+	switch code {
+	case exitOK:
+		return "success"
+	case exitCriterion:
+		return "an audit ran and a criterion was not met (verdict review or fail)"
+	case exitUsage:
+		return `wrong usage: an unknown flag, a missing argument, or a request the
+     files on disk refuse and other flags resolve (an output on an input,
+     a duplicate history record without --replace-record)`
+	case exitBadInput:
+		return "bad input: a data file or model spec that cannot be used as it is"
+	case exitCannotFit:
+		return "the model cannot be fitted: separation, collinear terms, no convergence"
+	case exitOtherFailed:
+		return "any other failure, such as an output file that cannot be written"
+	case exitSignalBase:
+		return "interrupted by SIGINT (Ctrl-C) or SIGTERM: stopped, nothing written"
+	}
+	return ""
+}
+
+// exitTable writes the exit-status table of rows, each with its own
+// meaning or the root's.
+func exitTable(rows []exitStatus) string {
+	var b strings.Builder
+	b.WriteString("Exit status:")
+	for _, r := range rows {
+		m := r.meaning
+		if m == "" {
+			m = exitMeaning(r.code)
+		}
+		code := fmt.Sprint(r.code)
+		if r.code == exitSignalBase {
+			code = "130, 143"
+		}
+		fmt.Fprintf(&b, "\n  %s  %s", code, m)
+	}
+	return b.String()
+}
+
+// allExitStatuses are every status riskaudit returns: the root's table.
+func allExitStatuses() []exitStatus {
+	return []exitStatus{{exitOK, ""}, {exitCriterion, ""}, {exitUsage, ""}, {exitBadInput, ""}, {exitCannotFit, ""}, {exitOtherFailed, ""}, {exitSignalBase, ""}}
+}
+
+// exitAnnotation is the annotation that lists a command's exit
+// statuses, space-separated (exitSignalBase for 130 and 143).
+const exitAnnotation = "riskaudit.exit-statuses"
+
+// withExitStatuses ends c's long help with the table of the statuses
+// c can return and records them on c (exitAnnotation), so that run
+// reports a signal only for a command that stops on one.
+func withExitStatuses(c *cobra.Command, rows ...exitStatus) *cobra.Command {
+	if c.Long == "" {
+		c.Long = c.Short
+	}
+	c.Long += "\n\n" + exitTable(rows)
+	codes := make([]string, len(rows))
+	for i, r := range rows {
+		codes[i] = fmt.Sprint(r.code)
+	}
+	if c.Annotations == nil {
+		c.Annotations = map[string]string{}
+	}
+	c.Annotations[exitAnnotation] = strings.Join(codes, " ")
+	return c
+}
+
+// stopsOnSignal reports whether cmd stops when its context is cancelled
+// by a signal (its table lists 130 and 143): only then is an error
+// after a signal reported as the interruption.
+func stopsOnSignal(cmd *cobra.Command) bool {
+	return cmd != nil && slices.Contains(strings.Fields(cmd.Annotations[exitAnnotation]), fmt.Sprint(exitSignalBase))
+}
+
+// Meanings that several commands' tables share.
+const (
+	usageOutputs = `wrong usage: an unknown flag, a missing or contradictory option,
+     or an output the files on disk refuse and other flags resolve (an
+     output on an input, a symbolic link)`
+	stdoutFailed = "any other failure, such as standard output that cannot be written"
+	groupHelp    = "the help was shown"
+	groupUsage   = "wrong usage: an unknown flag"
+)

@@ -77,7 +77,10 @@ within 1e-12 relative above a whole number counting as that number.`,
 	_ = cmd.MarkFlagFilename("data-query-file", "sql")
 	_ = cmd.MarkFlagFilename("model", "yaml", "yml")
 	_ = cmd.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
-	return cmd
+	return withExitStatuses(cmd, exitStatus{exitOK, ""},
+		exitStatus{exitUsage, "wrong usage: an unknown flag, the linear predictor given in no way or\n     in two, values out of range or that no plan can meet, or a --json\n     output on an input"},
+		exitStatus{exitBadInput, "bad input: with --model and --data, a data file or frozen model that\n     cannot be used as it is"},
+		exitStatus{exitOtherFailed, ""}, exitStatus{exitSignalBase, ""})
 }
 
 // pointToHelp adds "(see 'riskaudit samplesize --help')" to an error
@@ -175,6 +178,7 @@ func runSampleSize(cmd *cobra.Command, o *sizeOptions, s *streams) error {
 	}
 	w := s.out
 	fmt.Fprintf(w, "%s: event proportion %.4f, C-statistic %.3f, O/E %.3f\n", p.LinearPredictor, p.EventRate, p.C, p.OE)
+	fmt.Fprintf(w, "Anticipated from %s\n", p.AnticipatedFrom)
 	for _, cr := range p.Criteria {
 		fmt.Fprintf(w, "  %-36s %-20s n %7d (%d events)\n", cr.Measure, cr.Target, cr.N, cr.Events)
 	}

@@ -65,7 +65,9 @@ text (each cell as text, dates as ISO 8601) followed by the two columns.`,
 	}
 	_ = c.MarkFlagFilename("model", "yaml", "yml")
 	_ = c.MarkFlagFilename("data", "csv", "tsv", "txt", "parquet", "arrow", "feather", "xlsx")
-	return c
+	return withExitStatuses(c, exitStatus{exitOK, ""}, exitStatus{exitUsage, usageOutputs},
+		exitStatus{exitBadInput, "bad input: a data file or frozen model that cannot be used as it is"},
+		exitStatus{exitOtherFailed, ""}, exitStatus{exitSignalBase, ""})
 }
 
 func runScore(ctx context.Context, o *scoreOptions, s *streams) error {

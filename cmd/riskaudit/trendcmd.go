@@ -54,7 +54,10 @@ bounds. The history store is only read.`,
 	c.Flags().StringVar(&model, "model", "", "only the audits of this model: its name, or the start of its SHA-256 (6+ hex digits)")
 	_ = c.MarkFlagRequired("history")
 	_ = c.MarkFlagRequired("out")
-	return c
+	return withExitStatuses(c, exitStatus{exitOK, ""},
+		exitStatus{exitUsage, "wrong usage: an unknown flag, a missing option, a --model that matches\n     no model of the store, or an --out the files on disk refuse"},
+		exitStatus{exitBadInput, "bad input: a history store that cannot be read"},
+		exitStatus{exitOtherFailed, ""})
 }
 
 // writeTrendSummary prints the trend's audits, models, model changes and
