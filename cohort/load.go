@@ -383,6 +383,28 @@ func load(ctx context.Context, path string, reqs []Request, opt Options) (*Frame
 	return fr, nil
 }
 
+// loneCR reports whether data's first line ends in a lone carriage
+// return: a CR not followed by LF before any LF, with text after it.
+// Such a file would otherwise read as one long line, and its error would
+// name the header's repeated fields instead of its line ends. A CR
+// inside a quoted header field is not a line end and does not count.
+func loneCR(data []byte) bool {
+	head := data[:min(len(data), sniffSize)]
+	quoted := false
+	for i, c := range head {
+		switch {
+		case c == '"':
+			quoted = !quoted
+		case quoted:
+		case c == '\n':
+			return false
+		case c == '\r':
+			return i+1 < len(head) && head[i+1] != '\n'
+		}
+	}
+	return false
+}
+
 // Parse reads the requested columns from data, the contents of a file
 // named name. The frame may refer to data, which must not be changed.
 func Parse(name string, data []byte, reqs []Request, opt Options) (*Frame, error) {
@@ -399,6 +421,9 @@ func parse(ctx context.Context, name string, data []byte, reqs []Request, opt Op
 	}
 	if len(bytes.TrimSpace(data)) == 0 {
 		return nil, &Error{File: name, Msg: "file is empty", Kind: ErrEmpty}
+	}
+	if loneCR(data) {
+		return nil, &Error{File: name, Line: 1, Msg: "its lines end in a lone carriage return (CR, as in files of old Mac software), which is not read as a line end: save it with LF or CRLF line ends", Kind: ErrFormat}
 	}
 	delim := opt.Delimiter
 	if delim == 0 {

@@ -54,3 +54,25 @@ func TestReadStream(t *testing.T) {
 type errReader struct{}
 
 func (errReader) Read([]byte) (int, error) { return 0, errors.New("broken pipe") }
+
+// TestLoneCR: a file whose lines end in a lone CR is refused as such
+// (before, it read as one line and was refused for repeated header
+// names); CRLF, a CR inside a quoted header and a final CR are read.
+func TestLoneCR(t *testing.T) {
+	for _, tc := range []struct {
+		data    string
+		refused bool
+	}{
+		{"x,y\r1,0\r0,1\r", true},
+		{"x,y\r\n1,0\r\n0,1\r\n", false},
+		{"\"x\ra\",y\n1,0\n", false},
+		{"x,y\n1,0\r", false},
+		{"x,y\r", false},
+	} {
+		_, err := Parse("f.csv", []byte(tc.data), num("y"), Options{})
+		got := err != nil && strings.Contains(err.Error(), "lone carriage return")
+		if got != tc.refused {
+			t.Errorf("%q: %v, want refused %v", tc.data, err, tc.refused)
+		}
+	}
+}

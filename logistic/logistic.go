@@ -336,7 +336,7 @@ func Fit(d Data, opt Options) (*Result, error) {
 			return nil, sep
 		}
 		if stepErr != nil {
-			return nil, fmt.Errorf("%w in %d iterations: %v", ErrNotConverged, res.Iterations, stepErr)
+			return nil, fmt.Errorf("%w in %d iterations: %w", ErrNotConverged, res.Iterations, stepErr)
 		}
 		return nil, fmt.Errorf("%w in %d iterations", ErrNotConverged, res.Iterations)
 	}

@@ -6,6 +6,7 @@ import (
 	"io/fs"
 	"path/filepath"
 	"strconv"
+	"strings"
 	"testing"
 
 	"github.com/riskaudit/riskaudit/cohort"
@@ -255,6 +256,16 @@ func TestFitErrorKinds(t *testing.T) {
 		}, ErrNotConverged, func(err error) bool {
 			var fe *FitError
 			return errors.As(err, &fe) && fe.Err != nil
+		}},
+		// Iterations stopped by a singular step (a coefficient running
+		// off, as with a level of one patient) name the term and point to
+		// Firth's fit, not to dropping one of two dependent terms.
+		{"not converged on a singular step", func(*testing.T) error {
+			step := &logistic.CollinearError{Columns: []int{1}}
+			return explainFitError(fmt.Errorf("%w in 13 iterations: %w", logistic.ErrNotConverged, step), []string{InterceptTerm, "smoker=ex-smoker"})
+		}, ErrNotConverged, func(err error) bool {
+			var fe *FitError
+			return errors.As(err, &fe) && strings.Contains(fe.Msg, "lost the term smoker=ex-smoker") && strings.Contains(fe.Msg, "--firth")
 		}},
 		{"not nested", func(t *testing.T) error {
 			csv := "y,a,b\n1,1,2\n0,2,1\n1,3,5\n0,4,3\n1,5,4\n0,6,7\n1,2,1\n0,5,6\n"

@@ -486,6 +486,15 @@ func explainFitError(err error, terms []string) error {
 		return &SeparationError{Complete: se.Complete, Terms: names, Err: err}
 	}
 	var ce *logistic.CollinearError
+	if errors.Is(err, logistic.ErrNotConverged) && errors.As(err, &ce) {
+		// The step's system became singular part way: a coefficient
+		// running off without bound, not terms dependent in the data.
+		var names []string
+		for _, c := range ce.Columns {
+			names = append(names, terms[c])
+		}
+		return &FitError{Msg: fmt.Sprintf("the fit did not converge: the iterations lost the term %s, whose coefficient grows without bound — quasi-complete separation, as when a level has few patients, all with one outcome; merge or drop that level, drop the term, or fit with --firth (Firth's penalised likelihood); no model was written", strings.Join(names, ", ")), Err: err}
+	}
 	if errors.As(err, &ce) {
 		var names []string
 		for _, c := range ce.Columns {

@@ -237,10 +237,12 @@ func reason(err error) string {
 	switch {
 	case errors.As(err, &se):
 		return "separation"
+	case errors.Is(err, logistic.ErrNotConverged):
+		// Before the collinear case: iterations that stopped on a
+		// singular step wrap that step's error.
+		return "no convergence"
 	case errors.As(err, &ce):
 		return "a term without variation in the sample"
-	case errors.Is(err, logistic.ErrNotConverged):
-		return "no convergence"
 	}
 	return "other: " + err.Error()
 }
