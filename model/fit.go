@@ -493,7 +493,9 @@ func explainFitError(err error, terms []string) error {
 		for _, c := range ce.Columns {
 			names = append(names, terms[c])
 		}
-		return &FitError{Msg: fmt.Sprintf("the fit did not converge: the iterations lost the term %s, whose coefficient grows without bound — quasi-complete separation, as when a level has few patients, all with one outcome; merge or drop that level, drop the term, or fit with --firth (Firth's penalised likelihood); no model was written", strings.Join(names, ", ")), Err: err}
+		// Of the kind ErrNotConverged only: the terms are not dependent.
+		return &FitError{Msg: fmt.Sprintf("the fit did not converge: the iterations lost the term %s, whose coefficient grows without bound — quasi-complete separation, as when a level has few patients, all with one outcome; merge or drop that level, drop the term, or fit with --firth (Firth's penalised likelihood); no model was written", strings.Join(names, ", ")),
+			Err: fmt.Errorf("%w (%v)", logistic.ErrNotConverged, ce)}
 	}
 	if errors.As(err, &ce) {
 		var names []string
