@@ -124,9 +124,9 @@ func TestCancel(t *testing.T) {
 			ctx, cancel := tc.ctx()
 			cfg := demoAudit(d)
 			if what == "bootstrap" {
-				cfg.Bootstrap = 1_000_000 // hours of work
+				cfg.Bootstrap = audit.MaxReplicates // many minutes of work
 			} else {
-				cfg.CIBootstrap = 1_000_000
+				cfg.CIBootstrap = audit.MaxReplicates
 			}
 			start := time.Now()
 			res, err := audit.Run(ctx, cfg)

@@ -29,7 +29,7 @@ func TestInterrupt(t *testing.T) {
 	out := filepath.Join(dir, "audit")
 	start := time.Now()
 	code := run(ctx, []string{"audit", "--model", filepath.Join(demo, "frozen.yaml"), "--dev", filepath.Join(demo, "development.csv"),
-		"--cohort", filepath.Join(demo, "later.csv"), "--bootstrap", "1000000", "--shrunken", filepath.Join(dir, "shrunk.yaml"), "--out", out}, s)
+		"--cohort", filepath.Join(demo, "later.csv"), "--bootstrap", "100000", "--shrunken", filepath.Join(dir, "shrunk.yaml"), "--out", out}, s)
 	if code != 130 {
 		t.Errorf("exit status %d, want 130", code)
 	}

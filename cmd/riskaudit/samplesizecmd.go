@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"math"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -111,7 +112,7 @@ func checkWidths(t samplesize.Targets) error {
 		flag string
 		v    float64
 	}{{"oe-width", t.OEWidth}, {"slope-width", t.SlopeWidth}, {"c-width", t.CWidth}, {"nb-width", t.NBWidth}} {
-		if !(w.v > 0) || (w.flag == "c-width" && w.v >= 1) {
+		if !(w.v > 0) || math.IsInf(w.v, 0) || (w.flag == "c-width" && w.v >= 1) {
 			return usagef("--%s %g: give a positive width (below 1 for the C-statistic)", w.flag, w.v)
 		}
 	}
@@ -140,6 +141,12 @@ func runSampleSize(cmd *cobra.Command, o *sizeOptions, s *streams) error {
 		return usagef("--lp-sd must be positive")
 	case !(o.calB > 0):
 		return usagef("--calibration-slope %g: give a positive slope", o.calB)
+	}
+	if o.thr != 0 && !(o.thr > 0 && o.thr < 1) {
+		return usagef("--threshold %g: give a risk threshold strictly between 0 and 1 (or 0 for no net-benefit criterion)", o.thr)
+	}
+	if fl.Changed("event-rate") && !(o.phi > 0 && o.phi < 1) {
+		return usagef("--event-rate %g: give an event rate strictly between 0 and 1", o.phi)
 	}
 	if fl.Changed("c-statistic") && !(o.c > 0.5 && o.c < 1) {
 		return usagef("--c-statistic %g: give a C-statistic in (0.5, 1)", o.c)
