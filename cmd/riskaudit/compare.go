@@ -94,8 +94,11 @@ with that coding, unchanged.`,
 }
 
 func runCompare(ctx context.Context, o *compareOptions, s *streams) error {
-	if o.ciBootstrap < 100 || o.ciBootstrap > audit.MaxReplicates {
-		return usagef("--ci-bootstrap %d: give from 100 to %d replicates", o.ciBootstrap, audit.MaxReplicates)
+	if o.ciBootstrap < 100 {
+		return usagef("--ci-bootstrap %d: give at least 100 replicates", o.ciBootstrap)
+	}
+	if o.ciBootstrap > audit.MaxReplicates {
+		return usagef("--ci-bootstrap %d: give at most %d replicates (1,000 to 2,000 is common practice)", o.ciBootstrap, audit.MaxReplicates)
 	}
 	ts, err := parseThresholds(o.thresholds)
 	if err != nil {
