@@ -387,6 +387,10 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 			return err
 		}
 	}
+	// Every audit's summary says what limits it (a cohort short of the
+	// sample-size criteria, many rows left out), with or without
+	// subgroups.
+	a.AddLimitations(c.MissingCaution)
 	// Last among the limitations: a warning that changes no number.
 	a.OutOfRange = r.cur.ranges
 	if f, ok := outOfRangeFinding(a.OutOfRange); ok {
@@ -423,7 +427,6 @@ func (r *run) subgroups(a *validate.Audit, criteria []validate.Criterion) error 
 	if f, ok := a.Verdict.SubgroupFinding(); ok {
 		a.Summary = append(a.Summary, f)
 	}
-	a.AddLimitations(c.MissingCaution)
 	return nil
 }
 
