@@ -391,6 +391,10 @@ func (r *run) analyses(ctx context.Context, a *validate.Audit) error {
 	// sample-size criteria, many rows left out), with or without
 	// subgroups.
 	a.AddLimitations(c.MissingCaution)
+	if t := r.cur.nonEvents; t != "" {
+		a.Summary = append(a.Summary, validate.Finding{Area: "outcome", Text: t})
+		r.warnings = append(r.warnings, t)
+	}
 	// Last among the limitations: a warning that changes no number.
 	a.OutOfRange = r.cur.ranges
 	if f, ok := outOfRangeFinding(a.OutOfRange); ok {

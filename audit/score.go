@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"strconv"
+	"strings"
 
 	"github.com/riskaudit/riskaudit/cohort"
 	"github.com/riskaudit/riskaudit/model"
@@ -46,6 +47,10 @@ type scored struct {
 	// ranges are the predictor values of the audited data beyond the
 	// model's development range or like missing-value codes (ranges.go).
 	ranges []validate.OutOfRange
+	// nonEvents is the audited data's note on an outcome read without a
+	// stated non-event value that holds more than one other value
+	// (model.Design.NonEvents as a sentence), or "".
+	nonEvents string
 }
 
 // requests are the columns an audit reads: the model's (with the
@@ -189,6 +194,7 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input, audited 
 		sc.bandValues = append(sc.bandValues, x)
 	}
 	if audited {
+		sc.nonEvents = nonEventText(d.Spec.Outcome, d.NonEvents)
 		sc.dates = c.OverTime.column(fr, m.Rows)
 		if c.Predicted == nil {
 			sc.ranges = outOfRange(spec, fr, m.Rows)
@@ -211,6 +217,31 @@ func (c *Config) score(ctx context.Context, spec *model.Spec, in Input, audited 
 		sc.summary.ExcludedByColumn = append(sc.summary.ExcludedByColumn, validate.ColumnCount{Column: e.Column, Rows: e.Rows})
 	}
 	return sc, nil
+}
+
+// nonEventText says which values of the outcome were counted as
+// non-events when no non-event value was stated and more than one value
+// other than the event was present (vc, from model.Design.NonEvents):
+// a code for "unknown" or "not recorded" would otherwise pass as a
+// non-event without a word. It returns "" for vc empty.
+func nonEventText(o model.Outcome, vc []model.ValueCount) string {
+	if len(vc) == 0 {
+		return ""
+	}
+	var parts []string
+	for i, v := range vc {
+		if i == 10 {
+			parts = append(parts, fmt.Sprintf("and %d more", len(vc)-10))
+			break
+		}
+		unit := "rows"
+		if v.Rows == 1 {
+			unit = "row"
+		}
+		parts = append(parts, fmt.Sprintf("%s (%d %s)", cohort.Quote(v.Value), v.Rows, unit))
+	}
+	return fmt.Sprintf("The outcome %s has no stated non-event value, so every value other than the event %s was counted as a non-event: %s. If one of them means something else (unknown, not recorded), recode it, or state the non-event value (--non-event, or non_event in the spec) so that any other value is refused.",
+		cohort.Quote(o.Column), cohort.Quote(o.Event.Text), strings.Join(parts, ", "))
 }
 
 // groupColumn codes a subgroup column's used rows by the rank of their

@@ -28,6 +28,18 @@ type Design struct {
 	outcome []int8
 	ocol    *cohort.Column
 	frame   *cohort.Frame
+	// NonEvents names, when the outcome has no stated non-event value
+	// and the used rows hold more than one value other than the event,
+	// every such value with its rows: all are counted as non-events,
+	// which a code such as "unknown" or "2" should not be. Empty
+	// otherwise.
+	NonEvents []ValueCount
+}
+
+// ValueCount is a value of a column and the number of rows holding it.
+type ValueCount struct {
+	Value string
+	Rows  int
 }
 
 type entryKind int
@@ -594,6 +606,17 @@ func (d *Design) mapOutcome(used []bool, cohortCodes bool) error {
 	}
 	if nonEvents == 0 {
 		return &cohort.Error{File: d.frame.File, Column: c.Name, Msg: fmt.Sprintf("no non-events (every row equals the event value %s)", cohort.Quote(o.Event.Text)), Kind: cohort.ErrOutcome}
+	}
+	if o.NonEvent == nil {
+		var vc []ValueCount
+		for code, l := range c.Levels {
+			if d.outcome[code] == 0 && present[code] > 0 {
+				vc = append(vc, ValueCount{l, present[code]})
+			}
+		}
+		if len(vc) > 1 {
+			d.NonEvents = vc
+		}
 	}
 	return nil
 }
