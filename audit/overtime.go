@@ -107,8 +107,8 @@ func (o OverTime) check() error {
 		return configErrorf("--period-size %d: a block needs at least 2 patients", o.PeriodSize)
 	case o.PeriodSize > 0 && o.Period != "block":
 		return configErrorf("--period-size needs --period block")
-	case o.ARL != 0 && o.ARL < 10:
-		return configErrorf("--cusum-arl %g: give at least 10 patients", o.ARL)
+	case o.ARL != 0 && !(o.ARL >= 10 && o.ARL <= monitor.MaxARL):
+		return configErrorf("--cusum-arl %g: give from 10 to %g patients (the limit simulation runs at least 100 runs of %d × the ARL within its bound of 2×10⁸ patient-steps)", o.ARL, monitor.MaxARL, monitor.Horizon)
 	case o.Deterioration != 0 && !(o.Deterioration > 1):
 		return configErrorf("--cusum-odds: the deterioration odds ratio %g must be above 1", o.Deterioration)
 	case o.Improvement != 0 && !(o.Improvement > 0 && o.Improvement < 1):

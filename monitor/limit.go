@@ -22,7 +22,7 @@ type LimitOptions struct {
 	// 1,000), cut to fit MaxSteps.
 	Runs int
 	// MaxSteps bounds the work: Runs × the length of each run (default
-	// 2×10⁸ patient-steps, a few seconds on two cores).
+	// DefaultMaxSteps).
 	MaxSteps int64
 	// Seed seeds the runs; run i draws from PCG(Seed, i), so the result
 	// does not depend on Workers.
@@ -30,6 +30,15 @@ type LimitOptions struct {
 	// Workers is the number of goroutines (default GOMAXPROCS).
 	Workers int
 }
+
+// DefaultMaxSteps is the default bound of the limit simulation's work,
+// 2×10⁸ patient-steps: a few seconds on two cores.
+const DefaultMaxSteps = 2e8
+
+// MaxARL is the largest in-control ARL whose limits ChooseLimits can
+// choose within DefaultMaxSteps: it needs at least 100 runs of Horizon ×
+// the ARL.
+const MaxARL = DefaultMaxSteps / (100 * Horizon)
 
 // DefaultARL is the default in-control average run length, 10,000
 // patients: a false alarm about once in 10,000 patients of a calibrated
@@ -216,7 +225,7 @@ func ChooseLimits(ctx context.Context, p []float64, rs []float64, opt LimitOptio
 		opt.Runs = 1000
 	}
 	if opt.MaxSteps == 0 {
-		opt.MaxSteps = 2e8
+		opt.MaxSteps = DefaultMaxSteps
 	}
 	if opt.Workers <= 0 {
 		opt.Workers = runtime.GOMAXPROCS(0)
